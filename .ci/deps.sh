@@ -1,0 +1,21 @@
+#!/usr/bin/env bash
+# Installs the Debian packages warmrain needs to build and test. Idempotent:
+# does nothing when everything is present. Needs root (or sudo) to install.
+set -euo pipefail
+pkgs=(libnetcdf-dev netcdf-bin libudunits2-dev udunits-bin pkg-config
+      python3-xarray python3-netcdf4 python3-scipy python3-h5netcdf python3-matplotlib time)
+missing=()
+for p in "${pkgs[@]}"; do
+  dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q 'install ok installed' || missing+=("$p")
+done
+[ ${#missing[@]} -eq 0 ] && exit 0
+echo "installing: ${missing[*]}" >&2
+SUDO=""
+if [ "$(id -u)" != 0 ]; then
+  if command -v sudo >/dev/null; then SUDO=sudo; else
+    echo "need root to run: apt-get install -y ${missing[*]}" >&2; exit 1
+  fi
+fi
+export DEBIAN_FRONTEND=noninteractive
+$SUDO apt-get update -qq -o DPkg::Lock::Timeout=300
+$SUDO apt-get install -y -qq --no-install-recommends -o DPkg::Lock::Timeout=300 "${missing[@]}" >/dev/null
