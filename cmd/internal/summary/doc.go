@@ -1,0 +1,85 @@
+// Package summary computes the researcher's statistics over processed warmrain columns:
+// joint LWP × N_d bins of drizzle probability and cloud-base drizzle rate, precipitation
+// susceptibility per LWP bin, the fraction of drizzle that reaches the surface, and
+// time-mean maps. It works on plain Go data (Field, Scene, Columns); reading processed
+// NetCDF files is done by the caller through package grid.
+//
+// # Conventions
+//
+// Everything in memory is in SI base units: LWP in kg m-2, N_d in m-3, POP in 1,
+// drizzle rate in kg m-2 s-1 (= mm s-1 of water), drizzle radius in m. Missing is NaN.
+// Field data are row-major over (time, y, x): index (t*NY+y)*NX+x. Only the text table
+// (WriteTable) converts to display units (g m-2, cm-3, mm day-1, µm).
+//
+// Streaming: Accumulator.Add and MapAccumulator.Accumulate take one scene at a time
+// (any number of files and time steps); memory is bounded by the bins and one map per
+// diagnostic, never by the number of columns.
+//
+// # Selection
+//
+// A Region is a latitude/longitude box; longitudes of the box and of the data may each
+// be given in -180..180 or 0..360 (both are reduced modulo 360), and a box whose
+// western edge lies east of its eastern edge crosses the antimeridian (LonMin 170,
+// LonMax -170 is the 20° box around 180°). A Window is a half-open time interval
+// [Start, End); a zero Start or End is unbounded.
+//
+// A column is valid when it is selected, not masked by Options.QCMask, and has finite,
+// positive LWP and N_d and a finite POP. Valid columns outside the bin edges are counted
+// in Counts.OutOfRange, so the bin counts plus OutOfRange equal Counts.Valid.
+//
+// # Method: joint bins
+//
+// Bins are logarithmic (LogEdges); the bin centre used in fits is the geometric centre
+// sqrt(e_i e_{i+1}). Per bin the mean POP and mean rate are plain means over the
+// columns in the bin, with their standard errors s/sqrt(n).
+//
+// # Method: precipitation susceptibility
+//
+// Following Feingold & Siebert (2009) [from memory], the susceptibility of a quantity X
+// to droplet number at fixed LWP is
+//
+//	S_X = -d ln X / d ln N_d
+//
+// computed over a region, not per pixel (physics.md §9.2, recommended practice [from
+// memory]). For each LWP bin i we take the N_d bins j with at least Options.MinCount
+// columns and a positive mean, and fit by weighted least squares
+//
+//	ln X̄_ij = a_i - S_i ln N_c,j ,   weights w_j = n_ij
+//
+// where N_c,j is the geometric centre of N_d bin j and n_ij the number of columns in the
+// bin (count weights: var(ln X̄) ∝ 1/n, common practice). The regression standard error
+// is
+//
+//	SE(S) = sqrt( Σ w r² / (m-2) / Σ w (x - x̄_w)² )
+//
+// with m fitted bins and residuals r; a slope needs m ≥ Options.MinBins (default 3).
+// Using the geometric bin centre is exact for a power law X ∝ N_d^-s when N_d is
+// log-uniform within the bins (the bin mean of N_d^-s is then proportional to N_c^-s)
+// [derived].
+//
+// Three susceptibilities are reported: S_POP (X = POP), S_R (X = mean cloud-base drizzle
+// rate) and S_I (X = I = mean rate / mean POP, the conditional rate of the precipitating
+// part). Terai et al. (2012) [from memory] decompose S_R = S_POP + S_I; because the fit
+// is linear in ln X and R̄ = POP̄ · I, the three reported slopes obey the decomposition
+// exactly whenever they use the same bins [derived].
+//
+// Optional bootstrap (Options.Bootstrap replicates, seeded and deterministic for a given
+// column order): a Poisson bootstrap over columns, in which every column enters each
+// replicate with an independent Poisson(1) weight (Hanley & MacGibbon 2006 [from memory];
+// it approximates the classical resampling bootstrap of Efron & Tibshirani 1993 [from
+// memory] and streams in bounded memory). Each replicate's bin means are fitted with the
+// same rules; the bootstrap standard error is the standard deviation of the replicate
+// slopes. It accounts for the within-bin spread of the columns rather than assuming the
+// regression model, so it is the safer error bar when the ln X̄ are not linear in ln N_d.
+//
+// # Method: drizzle reaching the surface
+//
+// A column counts as "drizzle left cloud base" when its surface drizzle radius is finite
+// (0 = the drop evaporated below cloud base, > 0 = it reached the surface; NaN = screened
+// or no collector). The surface fraction is the number with radius > 0 over the number
+// with a finite radius, overall and per LWP bin, with the binomial standard error
+// sqrt(f(1-f)/n) (common practice).
+//
+// Results are research diagnostics, not for operational forecasting or flight-safety
+// decisions.
+package summary

@@ -1,0 +1,266 @@
+package summary
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+)
+
+// Options configure an Accumulator. The zero value gives the documented defaults.
+type Options struct {
+	// LWPEdges are the LWP bin edges in kg m-2 (ascending, > 0); nil = DefaultLWPEdges.
+	LWPEdges []float64
+	// NdEdges are the N_d bin edges in m-3 (ascending, > 0); nil = DefaultNdEdges.
+	NdEdges []float64
+	// Region selects columns by position; nil = everywhere.
+	Region *Region
+	// Window selects time steps; zero = all times.
+	Window Window
+	// QCMask excludes columns with QC & QCMask != 0; 0 = rely on NaN screening only.
+	QCMask uint16
+	// MinCount is the least number of columns an (LWP, N_d) bin needs to enter a
+	// susceptibility fit; 0 = 50.
+	MinCount int
+	// MinBins is the least number of N_d bins a fit needs; 0 = 3 (the smallest number
+	// with a regression standard error). Values below 3 are refused.
+	MinBins int
+	// Bootstrap is the number of Poisson-bootstrap replicates; 0 = no bootstrap.
+	Bootstrap int
+	// Seed seeds the bootstrap generator (PCG); equal seeds and equal column order give
+	// equal results.
+	Seed uint64
+}
+
+const (
+	defaultMinCount = 50
+	defaultMinBins  = 3
+)
+
+// withDefaults fills zero values and validates.
+func (o Options) withDefaults() (Options, error) {
+	if o.LWPEdges == nil {
+		o.LWPEdges = DefaultLWPEdges()
+	}
+	if o.NdEdges == nil {
+		o.NdEdges = DefaultNdEdges()
+	}
+	if err := checkEdges("LWP", o.LWPEdges); err != nil {
+		return o, err
+	}
+	if err := checkEdges("N_d", o.NdEdges); err != nil {
+		return o, err
+	}
+	if err := o.Region.Check(); err != nil {
+		return o, err
+	}
+	if !o.Window.Start.IsZero() && !o.Window.End.IsZero() && !o.Window.End.After(o.Window.Start) {
+		return o, fmt.Errorf("summary: time window %s..%s is empty: End must be after Start",
+			o.Window.Start.Format("2006-01-02T15:04:05Z07:00"), o.Window.End.Format("2006-01-02T15:04:05Z07:00"))
+	}
+	if o.MinCount < 0 || o.MinBins < 0 || o.Bootstrap < 0 {
+		return o, fmt.Errorf("summary: MinCount (%d), MinBins (%d) and Bootstrap (%d) must not be negative",
+			o.MinCount, o.MinBins, o.Bootstrap)
+	}
+	if o.MinCount == 0 {
+		o.MinCount = defaultMinCount
+	}
+	if o.MinBins == 0 {
+		o.MinBins = defaultMinBins
+	}
+	if o.MinBins < 3 {
+		return o, fmt.Errorf("summary: MinBins is %d, want >= 3 (a standard error needs one degree of freedom)", o.MinBins)
+	}
+	// copy the slices so later changes by the caller do not alter the bins
+	o.LWPEdges = append([]float64(nil), o.LWPEdges...)
+	o.NdEdges = append([]float64(nil), o.NdEdges...)
+	return o, nil
+}
+
+// binStats holds running (Welford) moments of one (LWP, N_d) bin.
+type binStats struct {
+	n          int
+	meanP, m2P float64 // POP
+	nR         int
+	meanR, m2R float64 // drizzle rate
+	sumPR      float64 // sum of POP over the columns with a rate
+}
+
+// Counts tallies what happened to the columns offered to an Accumulator.
+type Counts struct {
+	Seen       int // columns offered (all time steps, all cells)
+	Selected   int // inside the region and time window
+	Masked     int // selected but excluded by QCMask
+	Invalid    int // selected, not masked, but LWP or N_d not finite and > 0 or POP not finite
+	Valid      int // selected, not masked, with finite positive LWP, N_d and finite POP
+	OutOfRange int // valid but outside the LWP or N_d bin edges
+}
+
+// Accumulator gathers the joint statistics over any number of scenes. Create it with
+// New, feed it with Add and read it with Result. It is not safe for concurrent use.
+type Accumulator struct {
+	opt    Options
+	lwp    Axis
+	nd     Axis
+	bins   []binStats
+	surfN  []int // per LWP bin: columns with a finite surface radius
+	surfR  []int // per LWP bin: ... of which radius > 0
+	surfNA int   // all valid columns (any LWP) with a finite surface radius
+	surfRA int
+	counts Counts
+
+	rng  *rand.Rand
+	boot []bootBin // Bootstrap * nbins, replicate-major
+	cdf  []float64 // Poisson(1) cumulative probabilities
+}
+
+type bootBin struct {
+	w, wp, wR, wr, wpr float64 // Σk, Σk·POP, Σk over rate columns, Σk·rate, Σk·POP over rate columns
+}
+
+// New returns an Accumulator for the given options (zero fields get the defaults).
+func New(opt Options) (*Accumulator, error) {
+	o, err := opt.withDefaults()
+	if err != nil {
+		return nil, err
+	}
+	a := &Accumulator{
+		opt: o,
+		lwp: Axis{Name: "lwp", Units: "kg m-2", Edges: o.LWPEdges},
+		nd:  Axis{Name: "nd", Units: "m-3", Edges: o.NdEdges},
+	}
+	nb := a.lwp.N() * a.nd.N()
+	a.bins = make([]binStats, nb)
+	a.surfN = make([]int, a.lwp.N())
+	a.surfR = make([]int, a.lwp.N())
+	if o.Bootstrap > 0 {
+		a.rng = rand.New(rand.NewPCG(o.Seed, 0x9e3779b97f4a7c15))
+		a.boot = make([]bootBin, o.Bootstrap*nb)
+		// Poisson(1): P(k) = e^-1 / k!; 20 terms reach 1 - 1e-19.
+		p, c := math.Exp(-1), 0.0
+		for k := 0; k < 20; k++ {
+			c += p
+			a.cdf = append(a.cdf, c)
+			p /= float64(k + 1)
+		}
+	}
+	return a, nil
+}
+
+// Options returns the options in use, with defaults filled in.
+func (a *Accumulator) Options() Options { return a.opt }
+
+// poisson1 draws from Poisson(1) by inversion.
+func (a *Accumulator) poisson1() float64 {
+	u := a.rng.Float64()
+	for k, c := range a.cdf {
+		if u < c {
+			return float64(k)
+		}
+	}
+	return float64(len(a.cdf))
+}
+
+// regionMask returns, per cell, whether it lies in the region (nil when every cell does).
+func regionMask(s Scene, r *Region) []bool {
+	n := s.Cells()
+	m := make([]bool, n)
+	for y := 0; y < s.NY; y++ {
+		for x := 0; x < s.NX; x++ {
+			lat, lon := s.LatLon(y, x)
+			m[y*s.NX+x] = r.Contains(lat, lon)
+		}
+	}
+	return m
+}
+
+// Add adds every selected column of the scene. It returns an error wrapping ErrShape,
+// and adds nothing, when the fields do not fit the scene.
+func (a *Accumulator) Add(s Scene, c *Columns) error {
+	if err := c.check(s); err != nil {
+		return err
+	}
+	in := regionMask(s, a.opt.Region)
+	cells := s.Cells()
+	haveRate := len(c.Rate.Data) > 0
+	haveSurf := len(c.SurfaceRadius.Data) > 0
+	nNd := a.nd.N()
+	a.counts.Seen += s.NT * cells
+	for t := 0; t < s.NT; t++ {
+		if !timeSelected(s, a.opt.Window, t) {
+			continue
+		}
+		for k := 0; k < cells; k++ {
+			if !in[k] {
+				continue
+			}
+			idx := t*cells + k
+			a.counts.Selected++
+			if c.QC != nil && c.QC[idx]&a.opt.QCMask != 0 {
+				a.counts.Masked++
+				continue
+			}
+			lwp, nd, pop := c.LWP.Data[idx], c.Nd.Data[idx], c.POP.Data[idx]
+			if !(lwp > 0) || !(nd > 0) || math.IsInf(lwp, 0) || math.IsInf(nd, 0) || math.IsNaN(pop) || math.IsInf(pop, 0) {
+				a.counts.Invalid++
+				continue
+			}
+			a.counts.Valid++
+			i := a.lwp.Find(lwp)
+			if haveSurf {
+				if r := c.SurfaceRadius.Data[idx]; !math.IsNaN(r) && !math.IsInf(r, 0) {
+					a.surfNA++
+					if r > 0 {
+						a.surfRA++
+					}
+					if i >= 0 {
+						a.surfN[i]++
+						if r > 0 {
+							a.surfR[i]++
+						}
+					}
+				}
+			}
+			j := a.nd.Find(nd)
+			if i < 0 || j < 0 {
+				a.counts.OutOfRange++
+				continue
+			}
+			b := i*nNd + j
+			st := &a.bins[b]
+			st.n++
+			d := pop - st.meanP
+			st.meanP += d / float64(st.n)
+			st.m2P += d * (pop - st.meanP)
+			rate := math.NaN()
+			if haveRate {
+				rate = c.Rate.Data[idx]
+			}
+			rateOK := !math.IsNaN(rate) && !math.IsInf(rate, 0)
+			if rateOK {
+				st.nR++
+				d := rate - st.meanR
+				st.meanR += d / float64(st.nR)
+				st.m2R += d * (rate - st.meanR)
+				st.sumPR += pop
+			}
+			if a.boot != nil {
+				nb := len(a.bins)
+				for r := 0; r < a.opt.Bootstrap; r++ {
+					w := a.poisson1()
+					if w == 0 {
+						continue
+					}
+					bb := &a.boot[r*nb+b]
+					bb.w += w
+					bb.wp += w * pop
+					if rateOK {
+						bb.wR += w
+						bb.wr += w * rate
+						bb.wpr += w * pop
+					}
+				}
+			}
+		}
+	}
+	return nil
+}

@@ -1,0 +1,263 @@
+package summary
+
+import "math"
+
+// Joint holds the per-bin statistics, flat and row-major over (LWP bin i, N_d bin j):
+// element i*NNd + j (see Index).
+type Joint struct {
+	NLWP, NNd int
+	Count     []int     // valid columns in the bin
+	MeanPOP   []float64 // mean drizzle probability (1); NaN for an empty bin
+	SEPOP     []float64 // standard error of MeanPOP, s/sqrt(n); NaN for n < 2
+	CountRate []int     // columns in the bin with a finite drizzle rate
+	MeanRate  []float64 // mean cloud-base drizzle rate (kg m-2 s-1); NaN when CountRate = 0
+	SERate    []float64 // standard error of MeanRate; NaN for CountRate < 2
+	// MeanCond is the conditional rate I = MeanRate / (mean POP over the same columns),
+	// kg m-2 s-1: the mean rate of the precipitating part (Terai et al. 2012 [from memory]).
+	MeanCond []float64
+}
+
+// Index returns the flat index of bin (i, j).
+func (j *Joint) Index(iLWP, jNd int) int { return iLWP*j.NNd + jNd }
+
+// Slope is one susceptibility estimate, S = -d ln X / d ln N_d, for one LWP bin.
+type Slope struct {
+	S       float64 // susceptibility (1); NaN when fewer than MinBins N_d bins qualify
+	SE      float64 // regression standard error of S (1)
+	BootSE  float64 // bootstrap standard error of S (1); NaN without bootstrap
+	BootN   int     // bootstrap replicates in which the slope was defined
+	Bins    int     // N_d bins used in the fit
+	Columns int     // columns in those bins
+}
+
+// Fraction is a count ratio with its binomial standard error.
+type Fraction struct {
+	Reached, Total int
+	Value, SE      float64 // NaN when Total == 0
+}
+
+func newFraction(k, n int) Fraction {
+	f := Fraction{Reached: k, Total: n, Value: math.NaN(), SE: math.NaN()}
+	if n > 0 {
+		f.Value = float64(k) / float64(n)
+		f.SE = math.Sqrt(f.Value * (1 - f.Value) / float64(n))
+	}
+	return f
+}
+
+// Result is the summary of everything added to an Accumulator.
+type Result struct {
+	LWP, Nd Axis // bins: LWP in kg m-2, N_d in m-3
+	Joint   Joint
+	// Susceptibilities per LWP bin (len LWP.N()): of POP, of the mean rate, and of the
+	// conditional rate I.
+	SPOP, SRate, SCond []Slope
+	// Surface is the fraction of drizzle reaching the surface among columns whose drizzle
+	// left cloud base (finite surface radius): overall (any LWP, including outside the
+	// bins) and per LWP bin.
+	Surface      Fraction
+	SurfaceByLWP []Fraction
+	Counts       Counts
+	Options      Options // the options in use, defaults filled in
+}
+
+// Result computes the statistics gathered so far. It may be called more than once and
+// between calls to Add.
+func (a *Accumulator) Result() *Result {
+	nl, nn := a.lwp.N(), a.nd.N()
+	nb := nl * nn
+	r := &Result{
+		LWP: a.lwp, Nd: a.nd, Counts: a.counts, Options: a.opt,
+		Joint: Joint{
+			NLWP: nl, NNd: nn,
+			Count: make([]int, nb), MeanPOP: make([]float64, nb), SEPOP: make([]float64, nb),
+			CountRate: make([]int, nb), MeanRate: make([]float64, nb), SERate: make([]float64, nb),
+			MeanCond: make([]float64, nb),
+		},
+	}
+	r.LWP.Edges = append([]float64(nil), a.lwp.Edges...)
+	r.Nd.Edges = append([]float64(nil), a.nd.Edges...)
+	jt := &r.Joint
+	nan := math.NaN()
+	for b, st := range a.bins {
+		jt.Count[b], jt.CountRate[b] = st.n, st.nR
+		jt.MeanPOP[b], jt.SEPOP[b], jt.MeanRate[b], jt.SERate[b], jt.MeanCond[b] = nan, nan, nan, nan, nan
+		if st.n > 0 {
+			jt.MeanPOP[b] = st.meanP
+		}
+		if st.n > 1 {
+			jt.SEPOP[b] = math.Sqrt(st.m2P / float64(st.n-1) / float64(st.n))
+		}
+		if st.nR > 0 {
+			jt.MeanRate[b] = st.meanR
+			jt.MeanCond[b] = st.meanR * float64(st.nR) / st.sumPR // NaN/Inf guarded below
+			if st.sumPR <= 0 {
+				jt.MeanCond[b] = nan
+			}
+		}
+		if st.nR > 1 {
+			jt.SERate[b] = math.Sqrt(st.m2R / float64(st.nR-1) / float64(st.nR))
+		}
+	}
+
+	// point estimates
+	lnN := make([]float64, nn)
+	for j := range lnN {
+		lnN[j] = math.Log(a.nd.Centre(j))
+	}
+	r.SPOP, r.SRate, r.SCond = make([]Slope, nl), make([]Slope, nl), make([]Slope, nl)
+	f := fitter{x: lnN, minCount: float64(a.opt.MinCount), minBins: a.opt.MinBins}
+	for i := 0; i < nl; i++ {
+		row := i * nn
+		n := make([]float64, nn)
+		nR := make([]float64, nn)
+		for j := 0; j < nn; j++ {
+			n[j] = float64(jt.Count[row+j])
+			nR[j] = float64(jt.CountRate[row+j])
+		}
+		r.SPOP[i] = f.slope(n, jt.MeanPOP[row:row+nn])
+		r.SRate[i] = f.slope(nR, jt.MeanRate[row:row+nn])
+		r.SCond[i] = f.slope(nR, jt.MeanCond[row:row+nn])
+	}
+
+	// bootstrap
+	if a.boot != nil {
+		B := a.opt.Bootstrap
+		sp, sr, sc := make([][]float64, nl), make([][]float64, nl), make([][]float64, nl)
+		w, wR := make([]float64, nn), make([]float64, nn)
+		mp, mr, mc := make([]float64, nn), make([]float64, nn), make([]float64, nn)
+		for rep := 0; rep < B; rep++ {
+			for i := 0; i < nl; i++ {
+				for j := 0; j < nn; j++ {
+					bb := a.boot[rep*nb+i*nn+j]
+					w[j], wR[j] = bb.w, bb.wR
+					mp[j], mr[j], mc[j] = nan, nan, nan
+					if bb.w > 0 {
+						mp[j] = bb.wp / bb.w
+					}
+					if bb.wR > 0 {
+						mr[j] = bb.wr / bb.wR
+						if bb.wpr > 0 {
+							mc[j] = bb.wr / bb.wpr
+						}
+					}
+				}
+				if s := f.slope(w, mp); !math.IsNaN(s.S) {
+					sp[i] = append(sp[i], s.S)
+				}
+				if s := f.slope(wR, mr); !math.IsNaN(s.S) {
+					sr[i] = append(sr[i], s.S)
+				}
+				if s := f.slope(wR, mc); !math.IsNaN(s.S) {
+					sc[i] = append(sc[i], s.S)
+				}
+			}
+		}
+		for i := 0; i < nl; i++ {
+			r.SPOP[i].BootSE, r.SPOP[i].BootN = sd(sp[i]), len(sp[i])
+			r.SRate[i].BootSE, r.SRate[i].BootN = sd(sr[i]), len(sr[i])
+			r.SCond[i].BootSE, r.SCond[i].BootN = sd(sc[i]), len(sc[i])
+		}
+	}
+
+	// surface fraction
+	r.Surface = newFraction(a.surfRA, a.surfNA)
+	r.SurfaceByLWP = make([]Fraction, nl)
+	for i := range r.SurfaceByLWP {
+		r.SurfaceByLWP[i] = newFraction(a.surfR[i], a.surfN[i])
+	}
+	return r
+}
+
+// sd returns the sample standard deviation, NaN for fewer than 2 values.
+func sd(v []float64) float64 {
+	if len(v) < 2 {
+		return math.NaN()
+	}
+	var m float64
+	for _, x := range v {
+		m += x
+	}
+	m /= float64(len(v))
+	var s float64
+	for _, x := range v {
+		s += (x - m) * (x - m)
+	}
+	return math.Sqrt(s / float64(len(v)-1))
+}
+
+// fitter fits ln(mean) against x = ln N_c with count weights.
+type fitter struct {
+	x        []float64
+	minCount float64
+	minBins  int
+}
+
+// slope returns the susceptibility -b of the weighted least-squares line
+// ln(mean_j) = a + b x_j over the bins with n_j >= minCount and mean_j > 0.
+func (f fitter) slope(n, mean []float64) Slope {
+	var xs, ys, ws [16]float64
+	x, y, w := xs[:0], ys[:0], ws[:0]
+	cols := 0
+	for j := range f.x {
+		if n[j] >= f.minCount && mean[j] > 0 && !math.IsInf(mean[j], 0) {
+			x = append(x, f.x[j])
+			y = append(y, math.Log(mean[j]))
+			w = append(w, n[j])
+			cols += int(n[j])
+		}
+	}
+	s := Slope{S: math.NaN(), SE: math.NaN(), BootSE: math.NaN(), Bins: len(x), Columns: cols}
+	if len(x) < f.minBins {
+		return s
+	}
+	b, se := WeightedSlope(x, y, w)
+	s.S, s.SE = -b, se
+	return s
+}
+
+// WeightedSlope returns the weighted least-squares slope b of y = a + b x and its
+// standard error, with the residual variance estimated from the data:
+//
+//	x̄ = Σwx/Σw,  ȳ = Σwy/Σw,  Sxx = Σw(x-x̄)²
+//	b = Σw(x-x̄)(y-ȳ) / Sxx
+//	SE(b) = sqrt( Σw(y-ȳ-b(x-x̄))² / (m-2) / Sxx )
+//
+// (common practice; the weights are relative, w_j ∝ 1/var(y_j)). It returns NaN slope
+// for fewer than 2 points or no spread in x, and NaN SE for fewer than 3 points. It
+// panics if the slices differ in length.
+func WeightedSlope(x, y, w []float64) (b, se float64) {
+	if len(x) != len(y) || len(x) != len(w) {
+		panic("summary: WeightedSlope: x, y and w differ in length")
+	}
+	m := len(x)
+	if m < 2 {
+		return math.NaN(), math.NaN()
+	}
+	var sw, sx, sy float64
+	for k := range x {
+		sw += w[k]
+		sx += w[k] * x[k]
+		sy += w[k] * y[k]
+	}
+	xm, ym := sx/sw, sy/sw
+	var sxx, sxy float64
+	for k := range x {
+		dx := x[k] - xm
+		sxx += w[k] * dx * dx
+		sxy += w[k] * dx * (y[k] - ym)
+	}
+	if !(sxx > 0) {
+		return math.NaN(), math.NaN()
+	}
+	b = sxy / sxx
+	if m < 3 {
+		return b, math.NaN()
+	}
+	var rss float64
+	for k := range x {
+		r := y[k] - ym - b*(x[k]-xm)
+		rss += w[k] * r * r
+	}
+	return b, math.Sqrt(rss / float64(m-2) / sxx)
+}

@@ -1,0 +1,137 @@
+package summary
+
+import (
+	"bufio"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// Display scales from SI to the units of the text table.
+const (
+	lwpToGm2       = 1e3     // kg m-2 -> g m-2
+	ndToPerCm3     = 1e-6    // m-3 -> cm-3
+	rateToMmPerDay = 86400.0 // kg m-2 s-1 (= mm s-1 of water) -> mm day-1
+)
+
+// num3 formats v with 3 significant digits and never an exponent for the bin edges
+// met in practice (0.001 to 99999).
+func num3(v float64) string {
+	s := strconv.FormatFloat(v, 'g', 3, 64)
+	if strings.ContainsAny(s, "e") && math.Abs(v) >= 1 {
+		s = strconv.FormatFloat(v, 'f', 0, 64)
+	}
+	return s
+}
+
+func rangeLabel(lo, hi float64) string {
+	return num3(lo) + "-" + num3(hi)
+}
+
+// WriteTable writes r as readable text: column counts, the joint bins (count, mean POP,
+// mean rate), the susceptibilities per LWP bin and the surface fraction. Display units:
+// LWP g m-2, N_d cm-3, rate mm day-1. Empty bins are shown as "." and bins below
+// MinCount (not used in the fits) are marked with "*".
+func WriteTable(w io.Writer, r *Result) error {
+	bw := bufio.NewWriter(w)
+	c := r.Counts
+	fmt.Fprintf(bw, "Columns: %d seen, %d selected (region and time window), %d QC-masked, %d invalid, %d valid, %d valid outside the bins\n",
+		c.Seen, c.Selected, c.Masked, c.Invalid, c.Valid, c.OutOfRange)
+	if r.Options.Region != nil {
+		g := r.Options.Region
+		fmt.Fprintf(bw, "Region: latitude %g to %g, longitude %g to %g (degrees)\n", g.LatMin, g.LatMax, g.LonMin, g.LonMax)
+	}
+	if !r.Options.Window.IsZero() {
+		fmt.Fprintf(bw, "Time window: %s\n", r.Options.Window)
+	}
+
+	jt := &r.Joint
+	minCount := r.Options.MinCount
+	matrix := func(title string, cell func(b int) string) {
+		fmt.Fprintf(bw, "\n%s\n", title)
+		fmt.Fprintf(bw, "%-13s", "LWP \\ N_d")
+		for j := 0; j < jt.NNd; j++ {
+			lo, hi := r.Nd.Bounds(j)
+			fmt.Fprintf(bw, " %9s", rangeLabel(lo*ndToPerCm3, hi*ndToPerCm3))
+		}
+		fmt.Fprintln(bw)
+		for i := 0; i < jt.NLWP; i++ {
+			lo, hi := r.LWP.Bounds(i)
+			fmt.Fprintf(bw, "%-13s", rangeLabel(lo*lwpToGm2, hi*lwpToGm2))
+			for j := 0; j < jt.NNd; j++ {
+				fmt.Fprintf(bw, " %9s", cell(jt.Index(i, j)))
+			}
+			fmt.Fprintln(bw)
+		}
+	}
+	mark := func(b int) string {
+		if jt.Count[b] < minCount {
+			return "*"
+		}
+		return ""
+	}
+	matrix("Number of valid columns per bin (LWP in g m-2 down, N_d in cm-3 across)", func(b int) string {
+		if jt.Count[b] == 0 {
+			return "."
+		}
+		return fmt.Sprintf("%d", jt.Count[b])
+	})
+	matrix(fmt.Sprintf("Mean drizzle probability POP (1); * = fewer than %d columns, not fitted", minCount), func(b int) string {
+		if math.IsNaN(jt.MeanPOP[b]) {
+			return "."
+		}
+		return fmt.Sprintf("%.3f%s", jt.MeanPOP[b], mark(b))
+	})
+	matrix(fmt.Sprintf("Mean cloud-base drizzle rate (mm day-1); * = fewer than %d columns", minCount), func(b int) string {
+		if math.IsNaN(jt.MeanRate[b]) {
+			return "."
+		}
+		return fmt.Sprintf("%.3g%s", jt.MeanRate[b]*rateToMmPerDay, mark(b))
+	})
+
+	fmt.Fprintf(bw, "\nPrecipitation susceptibility S = -d ln X / d ln N_d per LWP bin\n")
+	fmt.Fprintf(bw, "(weighted least squares over N_d bins with >= %d columns, at least %d bins; SE = regression standard error",
+		minCount, r.Options.MinBins)
+	if r.Options.Bootstrap > 0 {
+		fmt.Fprintf(bw, ", boot = Poisson-bootstrap standard error over %d replicates, seed %d", r.Options.Bootstrap, r.Options.Seed)
+	}
+	fmt.Fprintf(bw, ")\n")
+	head := []string{"S_POP", "S_R", "S_I"}
+	fmt.Fprintf(bw, "%-13s", "LWP (g m-2)")
+	for _, h := range head {
+		fmt.Fprintf(bw, " | %7s %6s %6s %4s", h, "SE", "boot", "bins")
+	}
+	fmt.Fprintln(bw)
+	num := func(v float64, f string) string {
+		if math.IsNaN(v) {
+			return "-"
+		}
+		return fmt.Sprintf(f, v)
+	}
+	for i := 0; i < r.LWP.N(); i++ {
+		lo, hi := r.LWP.Bounds(i)
+		fmt.Fprintf(bw, "%-13s", rangeLabel(lo*lwpToGm2, hi*lwpToGm2))
+		for _, s := range []Slope{r.SPOP[i], r.SRate[i], r.SCond[i]} {
+			fmt.Fprintf(bw, " | %7s %6s %6s %4d", num(s.S, "%.3f"), num(s.SE, "%.3f"), num(s.BootSE, "%.3f"), s.Bins)
+		}
+		fmt.Fprintln(bw)
+	}
+	fmt.Fprintf(bw, "S_R = S_POP + S_I when the same bins are used (Terai et al. 2012 decomposition).\n")
+
+	fmt.Fprintf(bw, "\nFraction of drizzle reaching the surface (columns whose drizzle left cloud base)\n")
+	frac := func(f Fraction) string {
+		if f.Total == 0 {
+			return "- (no drizzle columns)"
+		}
+		return fmt.Sprintf("%.3f ± %.3f  (%d of %d)", f.Value, f.SE, f.Reached, f.Total)
+	}
+	fmt.Fprintf(bw, "%-13s %s\n", "all LWP", frac(r.Surface))
+	for i, f := range r.SurfaceByLWP {
+		lo, hi := r.LWP.Bounds(i)
+		fmt.Fprintf(bw, "%-13s %s\n", rangeLabel(lo*lwpToGm2, hi*lwpToGm2), frac(f))
+	}
+	fmt.Fprintf(bw, "Research diagnostics only; not for operational forecasting or flight-safety decisions.\n")
+	return bw.Flush()
+}

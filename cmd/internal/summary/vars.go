@@ -1,0 +1,170 @@
+package summary
+
+import "fmt"
+
+// Var is one variable of the summary file, described for a CF NetCDF writer: dimension
+// names (outermost first), SI units, CF attributes and the data flattened row-major.
+// NaN marks missing values (the writer sets _FillValue). Int variables hold whole
+// numbers and should be written as int32 (or int64 if a count can exceed 2^31-1).
+type Var struct {
+	Name         string
+	Dims         []string
+	Units        string
+	StandardName string // only names from the CF standard-name table; "" = none
+	LongName     string
+	Comment      string
+	Bounds       string // name of the bounds variable, for coordinates
+	Ancillary    string // ancillary_variables attribute
+	Int          bool
+	Data         []float64
+}
+
+// Dimension names of the summary file.
+const (
+	DimLWP    = "lwp_bin"
+	DimNd     = "nd_bin"
+	DimBounds = "nv" // 2: lower and upper bin edge
+)
+
+// Dims returns the dimension lengths of the summary file.
+func (r *Result) Dims() map[string]int {
+	return map[string]int{DimLWP: r.LWP.N(), DimNd: r.Nd.N(), DimBounds: 2}
+}
+
+func bounds(a Axis) []float64 {
+	b := make([]float64, 0, 2*a.N())
+	for i := 0; i < a.N(); i++ {
+		lo, hi := a.Bounds(i)
+		b = append(b, lo, hi)
+	}
+	return b
+}
+
+func ints(v []int) []float64 {
+	d := make([]float64, len(v))
+	for i, x := range v {
+		d[i] = float64(x)
+	}
+	return d
+}
+
+// Variables returns the summary file's variables in writing order: the two bin
+// coordinates with bounds, the joint (lwp_bin, nd_bin) statistics, the
+// susceptibilities per LWP bin with their standard errors, and the surface fraction.
+// Scalars such as Counts belong in global attributes (see Attributes).
+func (r *Result) Variables() []Var {
+	jt := &r.Joint
+	two := []string{DimLWP, DimNd}
+	one := []string{DimLWP}
+	fit := fmt.Sprintf("weighted least-squares slope of ln(bin mean) against ln(N_d bin centre) over N_d bins with at least %d columns (at least %d bins), weights = column counts; [FeingoldSiebert2009] definition, from memory", r.Options.MinCount, r.Options.MinBins)
+	vs := []Var{
+		{Name: "lwp_bin", Dims: []string{DimLWP}, Units: "kg m-2", StandardName: "atmosphere_mass_content_of_cloud_liquid_water",
+			LongName: "liquid water path bin centre (geometric mean of the edges)", Bounds: "lwp_bin_bounds", Data: r.LWP.Centres()},
+		{Name: "lwp_bin_bounds", Dims: []string{DimLWP, DimBounds}, Data: bounds(r.LWP)}, // inherits units (CF §7.1)
+		{Name: "nd_bin", Dims: []string{DimNd}, Units: "m-3",
+			LongName: "cloud droplet number concentration bin centre (geometric mean of the edges)", Bounds: "nd_bin_bounds", Data: r.Nd.Centres()},
+		{Name: "nd_bin_bounds", Dims: []string{DimNd, DimBounds}, Data: bounds(r.Nd)},
+
+		{Name: "column_count", Dims: two, Units: "1", Int: true, LongName: "number of valid columns in the bin", Data: ints(jt.Count)},
+		{Name: "drizzle_probability_mean", Dims: two, Units: "1", LongName: "mean drizzle probability (POP) in the bin",
+			Ancillary: "drizzle_probability_mean_standard_error column_count", Data: jt.MeanPOP},
+		{Name: "drizzle_probability_mean_standard_error", Dims: two, Units: "1", LongName: "standard error of the mean drizzle probability, s/sqrt(n)", Data: jt.SEPOP},
+		{Name: "rate_count", Dims: two, Units: "1", Int: true, LongName: "number of columns in the bin with a cloud-base drizzle rate", Data: ints(jt.CountRate)},
+		{Name: "cloud_base_drizzle_rate_mean", Dims: two, Units: "kg m-2 s-1", LongName: "mean cloud-base drizzle rate in the bin",
+			Ancillary: "cloud_base_drizzle_rate_mean_standard_error rate_count", Data: jt.MeanRate},
+		{Name: "cloud_base_drizzle_rate_mean_standard_error", Dims: two, Units: "kg m-2 s-1", LongName: "standard error of the mean cloud-base drizzle rate, s/sqrt(n)", Data: jt.SERate},
+		{Name: "conditional_drizzle_rate_mean", Dims: two, Units: "kg m-2 s-1",
+			LongName: "conditional drizzle rate I = mean rate / mean drizzle probability",
+			Comment:  "rate of the precipitating part; [Terai2012] decomposition, from memory", Data: jt.MeanCond},
+	}
+	for _, s := range []struct {
+		name, what string
+		sl         []Slope
+	}{
+		{"susceptibility_pop", "drizzle probability (S_POP)", r.SPOP},
+		{"susceptibility_rate", "mean cloud-base drizzle rate (S_R)", r.SRate},
+		{"susceptibility_conditional_rate", "conditional drizzle rate (S_I = S_R - S_POP)", r.SCond},
+	} {
+		S, se, bse, nb, nboot := make([]float64, len(s.sl)), make([]float64, len(s.sl)), make([]float64, len(s.sl)), make([]float64, len(s.sl)), make([]float64, len(s.sl))
+		for i, x := range s.sl {
+			S[i], se[i], bse[i], nb[i], nboot[i] = x.S, x.SE, x.BootSE, float64(x.Bins), float64(x.BootN)
+		}
+		anc := s.name + "_standard_error " + s.name + "_bins"
+		if r.Options.Bootstrap > 0 {
+			anc += " " + s.name + "_bootstrap_standard_error"
+		}
+		vs = append(vs,
+			Var{Name: s.name, Dims: one, Units: "1", LongName: "precipitation susceptibility -d ln X / d ln N_d of the " + s.what, Comment: fit, Ancillary: anc, Data: S},
+			Var{Name: s.name + "_standard_error", Dims: one, Units: "1", LongName: "regression standard error of " + s.name, Data: se},
+			Var{Name: s.name + "_bins", Dims: one, Units: "1", Int: true, LongName: "number of N_d bins in the fit of " + s.name, Data: nb},
+		)
+		if r.Options.Bootstrap > 0 {
+			vs = append(vs, Var{Name: s.name + "_bootstrap_standard_error", Dims: one, Units: "1",
+				LongName: "Poisson-bootstrap standard error of " + s.name,
+				Comment:  fmt.Sprintf("%d replicates, seed %d; replicates with a defined slope in %s_bootstrap_count", r.Options.Bootstrap, r.Options.Seed, s.name), Data: bse},
+				Var{Name: s.name + "_bootstrap_count", Dims: one, Units: "1", Int: true, LongName: "bootstrap replicates with a defined " + s.name, Data: nboot})
+		}
+	}
+	sf, sfe, sn := make([]float64, len(r.SurfaceByLWP)), make([]float64, len(r.SurfaceByLWP)), make([]float64, len(r.SurfaceByLWP))
+	for i, f := range r.SurfaceByLWP {
+		sf[i], sfe[i], sn[i] = f.Value, f.SE, float64(f.Total)
+	}
+	vs = append(vs,
+		Var{Name: "surface_drizzle_fraction", Dims: one, Units: "1", LongName: "fraction of drizzle leaving cloud base that reaches the surface",
+			Comment:   "columns with surface drizzle radius > 0 over columns with a finite surface drizzle radius",
+			Ancillary: "surface_drizzle_fraction_standard_error drizzle_column_count", Data: sf},
+		Var{Name: "surface_drizzle_fraction_standard_error", Dims: one, Units: "1", LongName: "binomial standard error of surface_drizzle_fraction", Data: sfe},
+		Var{Name: "drizzle_column_count", Dims: one, Units: "1", Int: true, LongName: "number of columns whose drizzle left cloud base", Data: sn},
+	)
+	return vs
+}
+
+// Attributes returns global attributes describing the selection and the column counts
+// (the writer adds Conventions, history, source and references).
+func (r *Result) Attributes() map[string]string {
+	a := map[string]string{
+		"columns_seen":          fmt.Sprint(r.Counts.Seen),
+		"columns_selected":      fmt.Sprint(r.Counts.Selected),
+		"columns_qc_masked":     fmt.Sprint(r.Counts.Masked),
+		"columns_invalid":       fmt.Sprint(r.Counts.Invalid),
+		"columns_valid":         fmt.Sprint(r.Counts.Valid),
+		"columns_outside_bins":  fmt.Sprint(r.Counts.OutOfRange),
+		"fit_min_columns":       fmt.Sprint(r.Options.MinCount),
+		"fit_min_bins":          fmt.Sprint(r.Options.MinBins),
+		"surface_fraction_all":  fmt.Sprint(r.Surface.Value),
+		"qc_mask":               fmt.Sprint(r.Options.QCMask),
+		"bootstrap_replicates":  fmt.Sprint(r.Options.Bootstrap),
+		"surface_fraction_rule": "reached = surface drizzle radius > 0; drizzle left cloud base = radius finite (0 = evaporated)",
+	}
+	if g := r.Options.Region; g != nil {
+		a["region"] = fmt.Sprintf("lat %g..%g, lon %g..%g (degrees)", g.LatMin, g.LatMax, g.LonMin, g.LonMax)
+	}
+	if w := r.Options.Window; !w.IsZero() {
+		a["time_window"] = w.String()
+	}
+	return a
+}
+
+// Variables returns the map file's variables: for each map "<name>_mean" (units of the
+// input, cell_methods "time: mean" belongs on it) and "<name>_count". Dimensions are
+// ("lat", "lon") for a 1-D grid, or ("y", "x") with 2-D "lat" and "lon" variables the
+// writer must add and reference through the coordinates attribute.
+func (ms MapSet) Variables() []Var {
+	dims := []string{"lat", "lon"}
+	if ms.Grid.TwoD() {
+		dims = []string{"y", "x"}
+	}
+	var vs []Var
+	for _, m := range ms.Maps {
+		c := m.CountField()
+		long := m.Mean.LongName
+		if long == "" {
+			long = "time mean of " + m.Mean.Name
+		}
+		vs = append(vs,
+			Var{Name: m.Mean.Name + "_mean", Dims: dims, Units: m.Mean.Units, LongName: long,
+				Comment: "mean over the selected time steps of the non-missing values; cell_methods: time: mean", Ancillary: c.Name, Data: m.Mean.Data},
+			Var{Name: c.Name, Dims: dims, Units: "1", Int: true, LongName: c.LongName, Data: c.Data})
+	}
+	return vs
+}
