@@ -1,0 +1,525 @@
+package app
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"slices"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/warmrain/warmrain/grid"
+	"github.com/warmrain/warmrain/microphys"
+)
+
+const inspectUsage = `Usage:
+  warmrain inspect FILE [--bind ROLE=VAR[:UNITS]]... [--json]
+
+Shows what warmrain finds in an input file (a netCDF file or an NCZarr URL):
+its format and layout (dimensions, spatial and leading dimensions, latitude
+and longitude, grid mapping, chunking and compression); for each input role
+the variable taken and why, its units and the conversion to the units used in
+memory, its packing and decoding, the range of its values and the fraction
+missing; for roles not found, what was searched; and which diagnostics can be
+computed, which of them use defaults for absent inputs, and what is missing
+for the others. It reads every value of the bound variables once.
+
+Roles: lwp, re (required), tau, ctt, ctp, cth, cloud_fraction, lwp_sd.
+
+Example:
+  warmrain inspect samples/data/stratocumulus_demo.nc
+  warmrain inspect scene.nc --bind lwp=LWP_liquid:g/m2 --bind re=CER --json
+`
+
+// inspectReport is what inspect prints; the JSON form is this struct.
+type inspectReport struct {
+	File        string         `json:"file"`
+	Format      string         `json:"format"`
+	Layout      *layoutReport  `json:"layout,omitempty"`
+	Roles       []roleReport   `json:"roles"`
+	Diagnostics []diagReport   `json:"diagnostics"`
+	Problem     string         `json:"problem,omitempty"`
+	Dimensions  []dimReport    `json:"file_dimensions,omitempty"`
+	Variables   []string       `json:"file_variables,omitempty"`
+	Summary     map[string]int `json:"summary"`
+}
+
+type dimReport struct {
+	Name      string `json:"name"`
+	Length    int    `json:"length"`
+	Unlimited bool   `json:"unlimited"`
+}
+
+type layoutReport struct {
+	Dimensions    []dimReport `json:"dimensions"`
+	Y             string      `json:"y"`
+	X             string      `json:"x"`
+	Leading       []string    `json:"leading"`
+	Columns       int64       `json:"columns"`
+	Lat           string      `json:"latitude"`
+	Lon           string      `json:"longitude"`
+	LatLon2D      bool        `json:"latlon_2d"`
+	LatDescending bool        `json:"latitude_descending"`
+	GridMapping   string      `json:"grid_mapping"`
+	Coords        []string    `json:"kept_coordinates"`
+}
+
+type statsReport struct {
+	Units        string  `json:"units"`
+	Min          jnum    `json:"min"`
+	Max          jnum    `json:"max"`
+	Mean         jnum    `json:"mean"`
+	Valid        int64   `json:"valid"`
+	Missing      int64   `json:"missing"`
+	FillFraction float64 `json:"fill_fraction"`
+}
+
+type roleReport struct {
+	Role         string       `json:"role"`
+	Description  string       `json:"description"`
+	Required     bool         `json:"required"`
+	Found        bool         `json:"found"`
+	Variable     string       `json:"variable,omitempty"`
+	StandardName string       `json:"standard_name,omitempty"`
+	Reason       string       `json:"reason,omitempty"`
+	UnitsGiven   string       `json:"units_given,omitempty"`
+	UnitsFrom    string       `json:"units_from,omitempty"`
+	Canonical    string       `json:"canonical_units"`
+	Conversion   string       `json:"conversion,omitempty"`
+	Type         string       `json:"type,omitempty"`
+	Packing      string       `json:"packing,omitempty"`
+	Chunks       []int        `json:"chunks,omitempty"`
+	Deflate      int          `json:"deflate"`
+	Stats        *statsReport `json:"values,omitempty"`
+	Searched     *searched    `json:"searched,omitempty"`
+	Use          string       `json:"use"`
+}
+
+type searched struct {
+	StandardNames []string `json:"standard_names"`
+	Names         []string `json:"names"`
+	Note          string   `json:"note,omitempty"`
+}
+
+type diagReport struct {
+	Output     string   `json:"output"`
+	Units      string   `json:"units"`
+	Computable bool     `json:"computable"`
+	Defaults   []string `json:"defaults"`
+	Missing    []string `json:"missing"`
+}
+
+// displayUnits are the readable units of each role's values: name and the
+// factor from the canonical (SI) units.
+var displayUnits = map[grid.Role]struct {
+	units string
+	scale float64
+}{
+	grid.RoleLWP: {"g m-2", 1e3}, grid.RoleRe: {"um", 1e6}, grid.RoleTau: {"1", 1}, grid.RoleCTT: {"K", 1},
+	grid.RoleCTP: {"hPa", 1e-2}, grid.RoleCTH: {"m", 1}, grid.RoleCloudFraction: {"1", 1}, grid.RoleLWPSD: {"g m-2", 1e3},
+}
+
+// roleUse says what the physics does with each role.
+var roleUse = map[grid.Role]string{
+	grid.RoleLWP:           "required by every diagnostic",
+	grid.RoleRe:            "required by every diagnostic",
+	grid.RoleTau:           "droplet number (absent: tau from LWP and r_e by the adiabatic relation)",
+	grid.RoleCTT:           "condensation rate, air state, ice screening (absent: --default-ctt, QC bit air_state_assumed)",
+	grid.RoleCTP:           "condensation rate, air state (absent: --default-ctp, QC bit air_state_assumed)",
+	grid.RoleCTH:           "cloud-base height for the sub-cloud evaporation (absent: dry adiabat to --surface-pressure, QC bit cloud_base_height_assumed)",
+	grid.RoleCloudFraction: "read but not used by the diagnostics",
+	grid.RoleLWPSD:         "gamma shape of the drizzle probability (absent: --gamma-shape, QC bit gamma_shape_assumed)",
+}
+
+func runInspect(e *env, args []string) error {
+	fs := newFlagSet(e, "inspect", inspectUsage)
+	binds := fs.StringArray("bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable)")
+	asJSON := fs.Bool("json", false, "print one JSON object instead of the text report")
+	if err := parseFlags(e, fs, inspectUsage, args); err != nil {
+		return err
+	}
+	switch fs.NArg() {
+	case 0:
+		return usagef("no input file given")
+	case 1:
+	default:
+		return usagef("inspect takes one file, got %d (%s)", fs.NArg(), strings.Join(fs.Args(), " "))
+	}
+	var ovs []grid.Override
+	for _, b := range *binds {
+		o, err := grid.ParseOverride(b)
+		if err != nil {
+			return usagef("--bind %q: %v", b, err)
+		}
+		ovs = append(ovs, o)
+	}
+	rep, err := inspectFile(fs.Arg(0), ovs)
+	if rep == nil {
+		return err
+	}
+	if *asJSON {
+		enc := json.NewEncoder(e.stdout)
+		enc.SetIndent("", "  ")
+		enc.SetEscapeHTML(false)
+		if jerr := enc.Encode(rep); jerr != nil {
+			return jerr
+		}
+	} else if werr := rep.writeText(e.stdout); werr != nil {
+		return werr
+	}
+	return err
+}
+
+// inspectFile builds the report of one file. When the file opens but a
+// required role is missing (or a binding is ambiguous), it returns a partial
+// report and the error.
+func inspectFile(path string, ovs []grid.Override) (*inspectReport, error) {
+	in, err := grid.Open(path, grid.OpenOptions{Overrides: ovs, OverrideHint: "--bind ROLE=VAR[:UNITS]"})
+	if err != nil {
+		if !errors.Is(err, grid.ErrNoVariable) && !errors.Is(err, grid.ErrAmbiguous) && !errors.Is(err, grid.ErrUnits) && !errors.Is(err, grid.ErrLayout) {
+			return nil, err
+		}
+		fi, derr := grid.Describe(path)
+		if derr != nil {
+			return nil, err
+		}
+		return partialReport(path, fi, err), err
+	}
+	defer in.Close()
+	rep := &inspectReport{File: path, Format: string(in.Format)}
+	L := in.Layout
+	lr := &layoutReport{Y: L.Y.Name, X: L.X.Name, Leading: []string{}, Columns: L.Columns, Lat: L.Lat, Lon: L.Lon,
+		LatLon2D: L.LatLon2D, LatDescending: L.LatDescending, GridMapping: L.GridMapping, Coords: L.Coords}
+	for _, d := range L.Dims {
+		lr.Dimensions = append(lr.Dimensions, dimReport{d.Name, d.Len, d.Unlimited})
+	}
+	for _, d := range L.Leading {
+		lr.Leading = append(lr.Leading, d.Name)
+	}
+	if lr.Coords == nil {
+		lr.Coords = []string{}
+	}
+	rep.Layout = lr
+	stats, err := in.Stats()
+	if err != nil {
+		return nil, err
+	}
+	byRole := map[grid.Role]grid.VarStats{}
+	for _, s := range stats {
+		byRole[s.Role] = s
+	}
+	for _, rule := range grid.RoleRules {
+		rr := roleReport{Role: string(rule.Role), Description: rule.Description, Required: rule.Required, Canonical: rule.Units, Use: roleUse[rule.Role]}
+		b, ok := in.Binding(rule.Role)
+		if !ok {
+			rr.Searched = searchedFor(rule)
+			rep.Roles = append(rep.Roles, rr)
+			continue
+		}
+		rr.Found = true
+		rr.Variable, rr.StandardName, rr.Reason = b.Var, b.StandardName, b.Reason
+		rr.UnitsGiven, rr.UnitsFrom, rr.Conversion = b.UnitsGiven, b.UnitsFrom, b.Conv.String()
+		rr.Type, rr.Packing, rr.Chunks, rr.Deflate = b.Type.String(), b.Packing, b.Chunks, b.Deflate
+		if s, ok := byRole[rule.Role]; ok {
+			du := displayUnits[rule.Role]
+			rr.Stats = &statsReport{Units: du.units, Min: jnum(s.Min * du.scale), Max: jnum(s.Max * du.scale), Mean: jnum(s.Mean * du.scale),
+				Valid: s.Valid, Missing: s.Missing, FillFraction: s.FillFraction}
+		}
+		rep.Roles = append(rep.Roles, rr)
+	}
+	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return in.Has(r) })
+	rep.summarise()
+	return rep, nil
+}
+
+func searchedFor(rule grid.RoleRule) *searched {
+	s := &searched{StandardNames: rule.StandardNames, Names: rule.CommonNames}
+	if s.StandardNames == nil {
+		s.StandardNames = []string{}
+	}
+	if rule.Role == grid.RoleLWPSD {
+		s.Note = "an LWP standard_name with cell_methods standard_deviation, or a variable named in the LWP's ancillary_variables with a standard_error modifier"
+	}
+	return s
+}
+
+// partialReport describes a file whose roles could not all be bound.
+func partialReport(path string, fi *grid.FileInfo, err error) *inspectReport {
+	rep := &inspectReport{File: path, Format: string(fi.Format), Problem: err.Error()}
+	for _, d := range fi.Dims {
+		rep.Dimensions = append(rep.Dimensions, dimReport{d.Name, d.Len, d.Unlimited})
+	}
+	for _, v := range fi.Vars {
+		rep.Variables = append(rep.Variables, v.Name+"("+strings.Join(v.Dims, ", ")+")")
+	}
+	for _, rule := range grid.RoleRules {
+		rep.Roles = append(rep.Roles, roleReport{Role: string(rule.Role), Description: rule.Description, Required: rule.Required,
+			Canonical: rule.Units, Use: roleUse[rule.Role], Searched: searchedFor(rule)})
+	}
+	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return looksPresent(fi, r.Rule()) })
+	for i := range rep.Diagnostics {
+		rep.Diagnostics[i].Computable = false
+	}
+	rep.summarise()
+	return rep
+}
+
+// looksPresent reports whether some variable of fi has a standard name or a
+// name of the rule (used only to word the report of a file that failed to bind).
+func looksPresent(fi *grid.FileInfo, rule grid.RoleRule) bool {
+	for _, v := range fi.Vars {
+		sn := strings.Fields(v.Text("standard_name"))
+		if len(sn) == 1 && slices.Contains(rule.StandardNames, sn[0]) {
+			return true
+		}
+		for _, n := range rule.CommonNames {
+			if strings.EqualFold(n, v.Name) {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// diagnosticsFor says, for every output, whether it can be computed with the
+// roles present and which defaults it then uses.
+func diagnosticsFor(has func(grid.Role) bool) []diagReport {
+	d := microphys.DefaultParams()
+	var req []string
+	for _, r := range []grid.Role{grid.RoleLWP, grid.RoleRe} {
+		if !has(r) {
+			req = append(req, fmt.Sprintf("%s (%s)", r, r.Rule().Description))
+		}
+	}
+	air := ""
+	switch {
+	case !has(grid.RoleCTT) && !has(grid.RoleCTP):
+		air = fmt.Sprintf("air state: default CTT %g K and CTP %g hPa used (QC bit air_state_assumed)", d.DefaultCTT, d.DefaultCTP/100)
+	case !has(grid.RoleCTT):
+		air = fmt.Sprintf("air state: default CTT %g K used (QC bit air_state_assumed)", d.DefaultCTT)
+	case !has(grid.RoleCTP):
+		air = fmt.Sprintf("air state: default CTP %g hPa used (QC bit air_state_assumed)", d.DefaultCTP/100)
+	}
+	tau := ""
+	if !has(grid.RoleTau) {
+		tau = "tau from LWP and r_e (adiabatic relation)"
+	}
+	var out []diagReport
+	for _, o := range outputTable() {
+		if o.get == nil { // a copy of an input, not a diagnostic
+			continue
+		}
+		dr := diagReport{Output: o.name, Units: o.units, Computable: len(req) == 0, Defaults: []string{}, Missing: req}
+		if dr.Missing == nil {
+			dr.Missing = []string{}
+		}
+		if air != "" {
+			dr.Defaults = append(dr.Defaults, air)
+		}
+		if tau != "" && o.name != "cloud_thickness" && o.name != "condensation_rate" {
+			dr.Defaults = append(dr.Defaults, tau)
+		}
+		if o.name == "drizzle_probability" && !has(grid.RoleLWPSD) {
+			dr.Defaults = append(dr.Defaults, fmt.Sprintf("gamma shape %g used (QC bit gamma_shape_assumed)", d.GammaShape))
+		}
+		if o.evaporation {
+			if !has(grid.RoleCTH) {
+				dr.Defaults = append(dr.Defaults, fmt.Sprintf("cloud base from the dry adiabat to %g hPa (QC bit cloud_base_height_assumed)", d.SurfacePressure/100))
+			}
+			dr.Defaults = append(dr.Defaults, fmt.Sprintf("surface relative humidity %g, --surface-rh (QC bit surface_humidity_assumed; inputs have no such role)", d.SurfaceRH))
+		}
+		out = append(out, dr)
+	}
+	return out
+}
+
+func (r *inspectReport) summarise() {
+	s := map[string]int{"outputs": len(r.Diagnostics)}
+	for _, d := range r.Diagnostics {
+		switch {
+		case !d.Computable:
+			s["not_computable"]++
+		case len(d.Defaults) > 0:
+			s["computable_with_defaults"]++
+		default:
+			s["computable"]++
+		}
+	}
+	for _, rr := range r.Roles {
+		if rr.Found {
+			s["roles_found"]++
+		}
+	}
+	r.Summary = s
+}
+
+func dimsText(ds []dimReport) string {
+	parts := make([]string, len(ds))
+	for i, d := range ds {
+		parts[i] = fmt.Sprintf("%s = %d", d.Name, d.Length)
+		if d.Unlimited {
+			parts[i] += " (unlimited)"
+		}
+	}
+	return strings.Join(parts, ", ")
+}
+
+func orNone(s string) string {
+	if s == "" {
+		return "none"
+	}
+	return s
+}
+
+func (r *inspectReport) writeText(w io.Writer) error {
+	tw := tabwriter.NewWriter(w, 0, 0, 1, ' ', 0)
+	fmt.Fprintf(tw, "file:\t%s\n", r.File)
+	fmt.Fprintf(tw, "format:\t%s\n", r.Format)
+	if r.Problem != "" {
+		fmt.Fprintf(tw, "problem:\t%s\n", r.Problem)
+		fmt.Fprintf(tw, "dimensions:\t%s\n", dimsText(r.Dimensions))
+		fmt.Fprintf(tw, "variables:\t%s\n", strings.Join(r.Variables, ", "))
+	}
+	tw.Flush()
+	if L := r.Layout; L != nil {
+		fmt.Fprintln(w, "\nlayout:")
+		tw = tabwriter.NewWriter(w, 0, 0, 1, ' ', 0)
+		fmt.Fprintf(tw, "  dimensions:\t%s\n", dimsText(L.Dimensions))
+		fmt.Fprintf(tw, "  spatial:\ty = %s, x = %s\n", L.Y, L.X)
+		lead := strings.Join(L.Leading, ", ")
+		fmt.Fprintf(tw, "  leading:\t%s\n", orNone(lead))
+		fmt.Fprintf(tw, "  columns:\t%d\n", L.Columns)
+		kind := "1-D"
+		if L.LatLon2D {
+			kind = "2-D"
+		}
+		if L.Lat != "" {
+			desc := ""
+			if !L.LatLon2D {
+				desc = ", ascending"
+				if L.LatDescending {
+					desc = ", descending"
+				}
+			}
+			fmt.Fprintf(tw, "  latitude:\t%s (%s%s)\n", L.Lat, kind, desc)
+		} else {
+			fmt.Fprintf(tw, "  latitude:\tnone found\n")
+		}
+		if L.Lon != "" {
+			fmt.Fprintf(tw, "  longitude:\t%s (%s)\n", L.Lon, kind)
+		} else {
+			fmt.Fprintf(tw, "  longitude:\tnone found\n")
+		}
+		fmt.Fprintf(tw, "  grid_mapping:\t%s\n", orNone(L.GridMapping))
+		fmt.Fprintf(tw, "  kept in outputs:\t%s\n", orNone(strings.Join(L.Coords, ", ")))
+		tw.Flush()
+	}
+	fmt.Fprintln(w, "\ninputs:")
+	for _, rr := range r.Roles {
+		req := "optional"
+		if rr.Required {
+			req = "required"
+		}
+		fmt.Fprintf(w, "  %s: %s (%s)\n", rr.Role, rr.Description, req)
+		tw = tabwriter.NewWriter(w, 0, 0, 1, ' ', 0)
+		if !rr.Found {
+			if r.Problem == "" {
+				fmt.Fprintf(tw, "    not found;\tsearched standard_name: %s\n", orNone(strings.Join(rr.Searched.StandardNames, ", ")))
+			} else {
+				fmt.Fprintf(tw, "    searched\tstandard_name: %s\n", orNone(strings.Join(rr.Searched.StandardNames, ", ")))
+			}
+			if rr.Searched.Note != "" {
+				fmt.Fprintf(tw, "    \t%s\n", rr.Searched.Note)
+			}
+			fmt.Fprintf(tw, "    \tnames (case-insensitive): %s\n", strings.Join(rr.Searched.Names, ", "))
+			fmt.Fprintf(tw, "    use:\t%s\n", rr.Use)
+			tw.Flush()
+			continue
+		}
+		fmt.Fprintf(tw, "    variable:\t%s\n", rr.Variable)
+		fmt.Fprintf(tw, "    why:\t%s\n", rr.Reason)
+		fmt.Fprintf(tw, "    units:\t%q (%s) -> %s, conversion %s\n", rr.UnitsGiven, rr.UnitsFrom, rr.Canonical, rr.Conversion)
+		fmt.Fprintf(tw, "    decoding:\t%s\n", rr.Packing)
+		storage := "contiguous"
+		if rr.Chunks != nil {
+			c := make([]string, len(rr.Chunks))
+			for i, n := range rr.Chunks {
+				c[i] = fmt.Sprint(n)
+			}
+			storage = "chunks " + strings.Join(c, " x ")
+		}
+		if rr.Deflate > 0 {
+			storage += fmt.Sprintf(", deflate level %d", rr.Deflate)
+		} else {
+			storage += ", no deflate"
+		}
+		fmt.Fprintf(tw, "    storage:\t%s\n", storage)
+		if s := rr.Stats; s != nil {
+			fmt.Fprintf(tw, "    values:\tmin %s, max %s, mean %s %s\n", num(s.Min), num(s.Max), num(s.Mean), s.Units)
+			fmt.Fprintf(tw, "    missing:\t%.2f %% (%d of %d)\n", 100*s.FillFraction, s.Missing, s.Valid+s.Missing)
+		}
+		fmt.Fprintf(tw, "    use:\t%s\n", rr.Use)
+		tw.Flush()
+	}
+	fmt.Fprintln(w, "\ndiagnostics:")
+	var can, cannot []string
+	var missing []string
+	var defaults []string
+	uses := map[string][]string{}
+	for _, d := range r.Diagnostics {
+		name := fmt.Sprintf("%s (%s)", d.Output, d.Units)
+		if !d.Computable {
+			cannot = append(cannot, name)
+			missing = d.Missing
+			continue
+		}
+		can = append(can, name)
+		for _, x := range d.Defaults {
+			if _, ok := uses[x]; !ok {
+				defaults = append(defaults, x)
+			}
+			uses[x] = append(uses[x], d.Output)
+		}
+	}
+	if len(can) > 0 {
+		fmt.Fprintf(w, "  computable (%d):\n    %s\n", len(can), wrapList(can, 90, "    "))
+	}
+	if len(defaults) > 0 {
+		fmt.Fprintln(w, "  defaults used for absent inputs:")
+		for _, x := range defaults {
+			who := "every output"
+			if len(uses[x]) < len(can) {
+				who = wrapList(uses[x], 84, "          ")
+			}
+			fmt.Fprintf(w, "    - %s\n      for %s\n", x, who)
+		}
+	}
+	if len(cannot) > 0 {
+		fmt.Fprintf(w, "  not computable (%d), missing %s:\n    %s\n", len(cannot), strings.Join(missing, " and "), wrapList(cannot, 90, "    "))
+	}
+	_, err := fmt.Fprintf(w, "  (the collector outputs need the collector model, on unless --no-collector; the QC variable %s is always written)\n", qcName)
+	return err
+}
+
+// wrapList joins items with ", " and wraps lines at width.
+func wrapList(items []string, width int, indent string) string {
+	var b strings.Builder
+	n := 0
+	for i, it := range items {
+		s := it
+		if i < len(items)-1 {
+			s += ","
+		}
+		if n > 0 && n+1+len(s) > width {
+			b.WriteString("\n" + indent)
+			n = 0
+		} else if n > 0 {
+			b.WriteByte(' ')
+			n++
+		}
+		b.WriteString(s)
+		n += len(s)
+	}
+	return b.String()
+}

@@ -1,0 +1,1147 @@
+package app
+
+import (
+	"bytes"
+	"crypto/rand"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/warmrain/warmrain/cmd/internal/plots"
+	"github.com/warmrain/warmrain/cmd/internal/summary"
+	"github.com/warmrain/warmrain/grid"
+)
+
+const summaryUsage = `Usage: warmrain summary PROCESSED.nc... [-o SUMMARY.nc] [--plots DIR] [options]
+
+Reads files written by 'warmrain process', one time step at a time, and reports:
+drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
+water path (LWP) and droplet number (N_d); the precipitation susceptibilities
+S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
+with their standard errors; the fraction of drizzle that reaches the surface; and
+time-mean maps of every diagnostic with the number of values averaged per cell.
+
+The table goes to stdout. -o writes the same statistics and the maps as a CF NetCDF
+file; --plots writes PNG pictures into DIR: one quick-look map per diagnostic
+(map_<variable>_mean.png, or _first.png with --map-of first), POP against LWP for
+several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
+(susceptibility_vs_lwp.png).
+
+Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
+thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
+thickness_implausible, read from the file's flag_masks and flag_meanings) are left out.
+LWP is taken from the variable liquid_water_path, or else from the one variable with
+standard_name atmosphere_mass_content_of_cloud_liquid_water.
+
+Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
+LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
+edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
+2026-07-01T06:00 or RFC 3339.
+
+Results are research diagnostics, not for operational forecasting or flight-safety
+decisions.
+
+Examples:
+  warmrain summary out/*.nc
+  warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
+  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
+`
+
+// Names in processed files.
+const (
+	lwpVarName     = "liquid_water_path"
+	lwpStdName     = "atmosphere_mass_content_of_cloud_liquid_water"
+	ndVarName      = "droplet_number"
+	popVarName     = "drizzle_probability"
+	rateVarName    = "cloud_base_drizzle_rate"
+	surfVarName    = "surface_drizzle_radius"
+	paramAttrStart = "warmrain_parameter_"
+	mapSuffix      = "_time_mean" // of the map variables in the summary file
+	summaryCaution = "Research diagnostics: not for operational forecasting or flight-safety decisions. Statistics of modelled per-column diagnostics; they inherit every assumption of the adiabatic cloud model and of the retrievals behind the inputs."
+)
+
+// screenWords are the flag_meanings words of warm_rain_qc whose columns are left out.
+var screenWords = []string{"input_missing", "input_invalid", "thin_cloud", "effective_radius_out_of_range",
+	"possible_ice", "droplet_number_implausible", "thickness_implausible"}
+
+// siUnits gives the SI units the statistics use for the known diagnostics.
+var siUnits = map[string]string{
+	lwpVarName: "kg m-2", ndVarName: "m-3", "cloud_thickness": "m", "condensation_rate": "kg m-4",
+	"adiabatic_top_effective_radius": "m", "column_autoconversion_rate": "kg m-2 s-1", "warm_rain_efficiency": "s-1",
+	rateVarName: "kg m-2 s-1", popVarName: "1", "critical_lwp": "kg m-2", "collector_exit_radius": "m",
+	"collector_exit_time": "s", surfVarName: "m", "drizzle_evaporation_height": "m",
+}
+
+type summaryFlags struct {
+	output, plotDir, mapOf string
+	region                 *summary.Region
+	window                 summary.Window
+	opt                    summary.Options
+	width, height          int
+	force                  bool
+}
+
+func runSummary(e *env, args []string) error {
+	fs := newFlagSet(e, "summary", summaryUsage)
+	output := fs.StringP("output", "o", "", "write the summary as a CF NetCDF file `SUMMARY.nc`")
+	plotDir := fs.String("plots", "", "write PNG pictures into `DIR` (created if missing)")
+	region := fs.String("region", "", "keep columns in the box `LATMIN,LATMAX,LONMIN,LONMAX` (degrees; LONMIN > LONMAX crosses 180°)")
+	from := fs.String("from", "", "keep time steps at or after `TIME` (UTC)")
+	to := fs.String("to", "", "keep time steps before `TIME` (UTC)")
+	lwpBins := fs.String("lwp-bins", "20:500:10", "LWP bins in g m-2: `LO:HI:N` logarithmic, or edges E1,E2,...")
+	ndBins := fs.String("nd-bins", "10:1000:10", "N_d bins in cm-3: `LO:HI:N` logarithmic, or edges E1,E2,...")
+	boot := fs.Int("bootstrap", 0, "Poisson-bootstrap replicates for the susceptibility errors (`N`, 0 = off)")
+	seed := fs.Uint64("seed", 1, "seed of the bootstrap (`S`)")
+	minCount := fs.Int("min-count", 50, "least columns an (LWP, N_d) bin needs to enter a fit or a curve (`N`)")
+	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
+	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
+	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
+	if err := parseFlags(e, fs, summaryUsage, args); err != nil {
+		return err
+	}
+	inputs := fs.Args()
+	if len(inputs) == 0 {
+		return usagef("no processed files given")
+	}
+	f := summaryFlags{output: *output, plotDir: *plotDir, mapOf: *mapOf, force: *force}
+	if f.mapOf != "mean" && f.mapOf != "first" {
+		return usagef("--map-of %q: expected mean or first", f.mapOf)
+	}
+	var err error
+	if *region != "" {
+		if f.region, err = parseRegion(*region); err != nil {
+			return usagef("--region: %v", err)
+		}
+	}
+	if *from != "" {
+		if f.window.Start, err = parseUTC(*from); err != nil {
+			return usagef("--from: %v", err)
+		}
+	}
+	if *to != "" {
+		if f.window.End, err = parseUTC(*to); err != nil {
+			return usagef("--to: %v", err)
+		}
+	}
+	if !f.window.Start.IsZero() && !f.window.End.IsZero() && !f.window.End.After(f.window.Start) {
+		return usagef("--to %s is not after --from %s", *to, *from)
+	}
+	if f.opt.LWPEdges, err = parseBins(*lwpBins, 1e-3); err != nil {
+		return usagef("--lwp-bins: %v", err)
+	}
+	if f.opt.NdEdges, err = parseBins(*ndBins, 1e6); err != nil {
+		return usagef("--nd-bins: %v", err)
+	}
+	if *boot < 0 {
+		return usagef("--bootstrap %d: expected 0 or more replicates", *boot)
+	}
+	if *minCount < 1 {
+		return usagef("--min-count %d: expected at least 1", *minCount)
+	}
+	if _, err := fmt.Sscanf(*size, "%dx%d", &f.width, &f.height); err != nil || f.width < 200 || f.height < 150 || f.width > 10000 || f.height > 10000 {
+		return usagef("--plot-size %q: expected WxH with W in 200..10000 and H in 150..10000 pixels", *size)
+	}
+	f.opt.Region, f.opt.Window = f.region, f.window
+	f.opt.Bootstrap, f.opt.Seed, f.opt.MinCount = *boot, *seed, *minCount
+	f.opt.QCMask = 1 // each file's screening bits are mapped to bit 0 (see readStep)
+
+	// Refuse to overwrite before any work.
+	if f.output != "" {
+		for _, in := range inputs {
+			if sameFile(in, f.output) {
+				return usagef("-o %s is one of the input files; refusing to overwrite an input", f.output)
+			}
+		}
+		if _, err := os.Stat(f.output); err == nil && !f.force {
+			return fmt.Errorf("%s already exists; use --force to overwrite it", f.output)
+		}
+	}
+	return summarise(e, f, inputs, args)
+}
+
+func sameFile(a, b string) bool {
+	aa, _ := filepath.Abs(a)
+	bb, _ := filepath.Abs(b)
+	if aa == bb {
+		return true
+	}
+	sa, err1 := os.Stat(a)
+	sb, err2 := os.Stat(b)
+	return err1 == nil && err2 == nil && os.SameFile(sa, sb)
+}
+
+func parseRegion(s string) (*summary.Region, error) {
+	p := strings.Split(s, ",")
+	if len(p) != 4 {
+		return nil, fmt.Errorf("%q: expected four numbers LATMIN,LATMAX,LONMIN,LONMAX", s)
+	}
+	var v [4]float64
+	for i, x := range p {
+		f, err := strconv.ParseFloat(strings.TrimSpace(x), 64)
+		if err != nil || math.IsNaN(f) || math.IsInf(f, 0) {
+			return nil, fmt.Errorf("%q: %q is not a number", s, x)
+		}
+		v[i] = f
+	}
+	r := &summary.Region{LatMin: v[0], LatMax: v[1], LonMin: v[2], LonMax: v[3]}
+	if r.LatMin < -90 || r.LatMax > 90 {
+		return nil, fmt.Errorf("%q: latitudes must lie in -90..90", s)
+	}
+	if err := r.Check(); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+func parseUTC(s string) (time.Time, error) {
+	for _, layout := range []string{time.RFC3339Nano, "2006-01-02T15:04Z07:00", "2006-01-02T15:04:05", "2006-01-02T15:04", "2006-01-02 15:04", "2006-01-02"} {
+		if t, err := time.Parse(layout, s); err == nil {
+			return t.UTC(), nil
+		}
+	}
+	return time.Time{}, fmt.Errorf("%q: expected a UTC time such as 2026-07-01, 2026-07-01T06:00 or 2026-07-01T06:00:00Z", s)
+}
+
+// parseBins reads LO:HI:N or E1,E2,... in display units and returns SI edges.
+func parseBins(s string, scale float64) ([]float64, error) {
+	num := func(x string) (float64, error) {
+		f, err := strconv.ParseFloat(strings.TrimSpace(x), 64)
+		if err != nil || !(f > 0) || math.IsInf(f, 0) {
+			return 0, fmt.Errorf("%q: %q is not a positive number", s, x)
+		}
+		return f, nil
+	}
+	if p := strings.Split(s, ":"); len(p) == 3 {
+		lo, err := num(p[0])
+		if err != nil {
+			return nil, err
+		}
+		hi, err := num(p[1])
+		if err != nil {
+			return nil, err
+		}
+		n, err := strconv.Atoi(strings.TrimSpace(p[2]))
+		if err != nil || n < 1 || n > 200 {
+			return nil, fmt.Errorf("%q: the number of bins must be 1..200", s)
+		}
+		if !(hi > lo) {
+			return nil, fmt.Errorf("%q: HI must exceed LO", s)
+		}
+		return summary.LogEdges(lo*scale, hi*scale, n), nil
+	}
+	p := strings.Split(s, ",")
+	if len(p) < 2 {
+		return nil, fmt.Errorf("%q: expected LO:HI:N or at least two comma-separated edges", s)
+	}
+	edges := make([]float64, len(p))
+	for i, x := range p {
+		f, err := num(x)
+		if err != nil {
+			return nil, err
+		}
+		if i > 0 && !(f > edges[i-1]/scale) {
+			return nil, fmt.Errorf("%q: edges must increase", s)
+		}
+		edges[i] = f * scale
+	}
+	return edges, nil
+}
+
+// procFile is one open processed file.
+type procFile struct {
+	path     string
+	r        *grid.Reader
+	info     *grid.FileInfo
+	dims     []string // of the diagnostics: [time,] y, x
+	scene    summary.Scene
+	lwp      string
+	rate     string // "" when absent
+	surf     string
+	qc       string
+	qcScreen uint16 // the file's screening bits
+	vars     map[string]varIn
+}
+
+// varIn is a diagnostic with its conversion to SI.
+type varIn struct {
+	name, units, long, std string
+	conv                   grid.Converter
+}
+
+func openProcessed(path string) (*procFile, error) {
+	r, err := grid.OpenReader(path)
+	if err != nil {
+		return nil, err
+	}
+	p := &procFile{path: path, r: r, info: r.Info(), vars: map[string]varIn{}}
+	if err := p.bind(); err != nil {
+		r.Close()
+		return nil, err
+	}
+	return p, nil
+}
+
+func (p *procFile) errf(v, format string, a ...any) error {
+	return &grid.VarError{File: p.path, Var: v, Problem: fmt.Sprintf(format, a...), Err: grid.ErrLayout}
+}
+
+func (p *procFile) bind() error {
+	fi := p.info
+	nd := fi.Var(ndVarName)
+	pop := fi.Var(popVarName)
+	if nd == nil || pop == nil {
+		return &grid.VarError{File: p.path, Problem: fmt.Sprintf("has no %s or no %s; expected a file written by 'warmrain process'", ndVarName, popVarName), Err: grid.ErrNoVariable}
+	}
+	p.dims = nd.Dims
+	if len(p.dims) < 2 || len(p.dims) > 3 {
+		return p.errf(ndVarName, "has dimensions %v; expected (time, y, x) or (y, x)", nd.Dims)
+	}
+	// LWP: liquid_water_path, else the one variable with the LWP standard name.
+	if fi.Var(lwpVarName) != nil {
+		p.lwp = lwpVarName
+	} else {
+		var c []string
+		for _, v := range fi.Vars {
+			sn := strings.Fields(v.Text("standard_name"))
+			if len(sn) == 1 && sn[0] == lwpStdName && !strings.Contains(v.Text("cell_methods"), "standard_deviation") {
+				c = append(c, v.Name)
+			}
+		}
+		switch len(c) {
+		case 0:
+			return &grid.VarError{File: p.path, Problem: fmt.Sprintf("has no liquid water path: no variable %s and none with standard_name %s; reprocess the input with this warmrain, which writes it", lwpVarName, lwpStdName), Err: grid.ErrNoVariable}
+		case 1:
+			p.lwp = c[0]
+		default:
+			return &grid.VarError{File: p.path, Problem: fmt.Sprintf("has several variables with standard_name %s (%s); expected one", lwpStdName, strings.Join(c, ", ")), Err: grid.ErrAmbiguous}
+		}
+	}
+	if fi.Var(rateVarName) != nil {
+		p.rate = rateVarName
+	}
+	if fi.Var(surfVarName) != nil {
+		p.surf = surfVarName
+	}
+	// Every float diagnostic on the grid is mapped.
+	for _, v := range fi.Vars {
+		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.dims) {
+			continue
+		}
+		vi, err := p.siVar(&v)
+		if err != nil {
+			return err
+		}
+		p.vars[v.Name] = vi
+	}
+	for _, need := range []string{p.lwp, ndVarName, popVarName} {
+		if _, ok := p.vars[need]; !ok {
+			return p.errf(need, "has dimensions %v (type %s); expected float values on the grid %v of %s", fi.Var(need).Dims, fi.Var(need).Type, p.dims, ndVarName)
+		}
+	}
+	if q := fi.Var(qcName); q != nil {
+		if !equalStrings(q.Dims, p.dims) {
+			return p.errf(qcName, "has dimensions %v; expected %v", q.Dims, p.dims)
+		}
+		masks, _ := q.Attr("flag_masks")
+		words := strings.Fields(q.Text("flag_meanings"))
+		m := masks.Float64s()
+		if len(m) != len(words) || len(m) == 0 {
+			return p.errf(qcName, "has %d flag_masks and %d flag_meanings words; expected one word per mask (CF §3.5)", len(m), len(words))
+		}
+		for i, w := range words {
+			for _, s := range screenWords {
+				if w == s {
+					p.qcScreen |= uint16(int64(m[i]))
+				}
+			}
+		}
+		p.qc = qcName
+	}
+	return p.scan()
+}
+
+// siVar finds the conversion of a diagnostic to the units the statistics use.
+func (p *procFile) siVar(v *grid.VarInfo) (varIn, error) {
+	units := v.Text("units")
+	vi := varIn{name: v.Name, units: units, long: v.Text("long_name"), std: v.Text("standard_name"), conv: grid.Converter{From: units, To: units, Factor: 1}}
+	want, known := siUnits[v.Name]
+	if v.Name == p.lwp {
+		want, known = "kg m-2", true
+	}
+	if !known {
+		return vi, nil
+	}
+	c, err := grid.NewConverter(units, want)
+	if err != nil && v.Name == rateVarName {
+		// A depth rate of liquid water: 1 mm of water is 1 kg m-2 (rho_w = 1000 kg m-3, derived).
+		if c2, err2 := grid.NewConverter(units, "mm s-1"); err2 == nil {
+			c, err = c2, nil
+			c.To = want
+		}
+	}
+	if err != nil {
+		return vi, &grid.VarError{File: p.path, Var: v.Name, Problem: fmt.Sprintf("units %q: expected units convertible to %s (%v)", units, want, err), Err: grid.ErrUnits}
+	}
+	vi.units, vi.conv = want, c
+	return vi, nil
+}
+
+func equalStrings(a, b []string) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}
+
+// scan reads the coordinates and the time axis.
+func (p *procFile) scan() error {
+	fi := p.info
+	n := len(p.dims)
+	yd, _ := fi.Dim(p.dims[n-2])
+	xd, _ := fi.Dim(p.dims[n-1])
+	s := summary.Scene{NY: yd.Len, NX: xd.Len, NT: 1}
+	isLat := func(v *grid.VarInfo) bool {
+		return v.Text("standard_name") == "latitude" || strings.HasPrefix(v.Text("units"), "degrees_n") || strings.HasPrefix(v.Text("units"), "degree_n")
+	}
+	isLon := func(v *grid.VarInfo) bool {
+		return v.Text("standard_name") == "longitude" || strings.HasPrefix(v.Text("units"), "degrees_e") || strings.HasPrefix(v.Text("units"), "degree_e")
+	}
+	read := func(name string) ([]float64, error) {
+		d, _, err := p.r.Read(name, nil, nil)
+		return d, err
+	}
+	ylat, xlon := fi.Var(yd.Name), fi.Var(xd.Name)
+	var err error
+	if ylat != nil && xlon != nil && isLat(ylat) && isLon(xlon) && len(ylat.Dims) == 1 && len(xlon.Dims) == 1 {
+		if s.Lat, err = read(ylat.Name); err != nil {
+			return err
+		}
+		if s.Lon, err = read(xlon.Name); err != nil {
+			return err
+		}
+	} else {
+		for _, c := range strings.Fields(fi.Var(ndVarName).Text("coordinates")) {
+			v := fi.Var(c)
+			if v == nil || !equalStrings(v.Dims, p.dims[n-2:]) {
+				continue
+			}
+			switch {
+			case isLat(v):
+				s.Lat, err = read(c)
+			case isLon(v):
+				s.Lon, err = read(c)
+			}
+			if err != nil {
+				return err
+			}
+		}
+		if s.Lat == nil || s.Lon == nil {
+			return p.errf(ndVarName, "no latitude/longitude found: expected 1-D coordinate variables %s and %s, or 2-D ones named in the coordinates attribute", yd.Name, xd.Name)
+		}
+	}
+	if n == 3 {
+		td, _ := fi.Dim(p.dims[0])
+		s.NT = td.Len
+		tv := fi.Var(td.Name)
+		if tv == nil {
+			return p.errf(td.Name, "is missing: the leading dimension %s needs a time coordinate variable", td.Name)
+		}
+		switch cal := strings.ToLower(tv.Text("calendar")); cal {
+		case "", "standard", "gregorian", "proleptic_gregorian":
+		default:
+			return p.errf(td.Name, "calendar %q: only the standard (Gregorian) calendar is supported", cal)
+		}
+		c, err := grid.NewConverter(tv.Text("units"), "seconds since 1970-01-01 00:00:00 UTC")
+		if err != nil {
+			return p.errf(td.Name, "units %q: expected \"<unit> since <date>\" (%v)", tv.Text("units"), err)
+		}
+		t, err := read(td.Name)
+		if err != nil {
+			return err
+		}
+		for i := range t {
+			t[i] = c.Convert(t[i])
+		}
+		s.Time = t
+	}
+	if err := s.Check(); err != nil {
+		return p.errf(ndVarName, "%v", err)
+	}
+	p.scene = s
+	return nil
+}
+
+// param returns a warmrain_parameter_* global attribute.
+func (p *procFile) param(name string) string {
+	a, ok := p.info.Global(paramAttrStart + name)
+	if !ok {
+		return ""
+	}
+	s, _ := a.Text()
+	return s
+}
+
+// step reads time step t of the named diagnostics, in SI, with screened columns set to
+// NaN. It returns the fields and the per-column QC (1 = screened).
+func (p *procFile) step(t int, names []string) (map[string][]float64, []uint16, error) {
+	cells := p.scene.Cells()
+	start := make([]int, len(p.dims))
+	count := make([]int, len(p.dims))
+	count[len(count)-2], count[len(count)-1] = p.scene.NY, p.scene.NX
+	if len(p.dims) == 3 {
+		start[0], count[0] = t, 1
+	}
+	qc := make([]uint16, cells)
+	if p.qc != "" {
+		q, _, err := p.r.Read(p.qc, start, count)
+		if err != nil {
+			return nil, nil, err
+		}
+		for i, v := range q {
+			// A missing flag (fill) carries no screening information.
+			if !math.IsNaN(v) && uint16(int64(v))&p.qcScreen != 0 {
+				qc[i] = 1
+			}
+		}
+	}
+	out := map[string][]float64{}
+	for _, n := range names {
+		if _, done := out[n]; done || n == "" {
+			continue
+		}
+		vi, ok := p.vars[n]
+		if !ok {
+			return nil, nil, p.errf(n, "is missing; the first file has it (all files need the same diagnostics)")
+		}
+		d, _, err := p.r.Read(n, start, count)
+		if err != nil {
+			return nil, nil, err
+		}
+		for i := range d {
+			if qc[i] != 0 {
+				d[i] = math.NaN()
+			} else {
+				d[i] = vi.conv.Convert(d[i])
+			}
+		}
+		out[n] = d
+	}
+	return out, qc, nil
+}
+
+// summaryState gathers everything over the files.
+type summaryState struct {
+	acc       *summary.Accumulator
+	maps      *summary.MapAccumulator
+	mapNames  []string
+	mapInfo   map[string]varIn
+	mapsOK    bool
+	first     map[string][]float64 // first selected step (--map-of first)
+	firstTime float64
+	firstGrid summary.Scene
+	params    map[string]string // warmrain_parameter_* of the first file
+	mixed     bool              // parameters differ between files
+	history   string            // of the only input
+	files     int
+}
+
+func summarise(e *env, f summaryFlags, inputs, args []string) error {
+	acc, err := summary.New(f.opt)
+	if err != nil {
+		return usagef("%v", err)
+	}
+	maps, err := summary.NewMaps(f.region, f.window)
+	if err != nil {
+		return usagef("%v", err)
+	}
+	st := &summaryState{acc: acc, maps: maps, mapsOK: true, firstTime: math.NaN()}
+	for k, in := range inputs {
+		if err := st.addFile(e, f, in, k == 0); err != nil {
+			return err
+		}
+	}
+	res := acc.Result()
+	if err := summary.WriteTable(e.stdout, res); err != nil {
+		return err
+	}
+	ms := maps.Result()
+	if !st.mapsOK {
+		ms.Maps = nil
+	}
+	if f.output != "" {
+		ds := summaryDataset(f, st, res, ms, inputs, args)
+		if err := grid.WriteDataset(f.output, ds, f.force); err != nil {
+			return err
+		}
+		fmt.Fprintf(e.stderr, "warmrain summary: wrote %s\n", f.output)
+	}
+	if f.plotDir != "" {
+		if err := writePictures(e, f, st, res, ms); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool) error {
+	p, err := openProcessed(path)
+	if err != nil {
+		return err
+	}
+	defer p.r.Close()
+	st.files++
+	params := map[string]string{}
+	for _, a := range p.info.Globals {
+		if strings.HasPrefix(a.Name, paramAttrStart) {
+			params[strings.TrimPrefix(a.Name, paramAttrStart)], _ = a.Text()
+		}
+	}
+	if first {
+		st.params = params
+		st.mapInfo = p.vars
+		for _, v := range p.info.Vars { // file order
+			if _, ok := p.vars[v.Name]; ok {
+				st.mapNames = append(st.mapNames, v.Name)
+			}
+		}
+		if a, ok := p.info.Global("history"); ok {
+			st.history, _ = a.Text()
+		}
+	} else if !st.mixed {
+		for k, v := range st.params {
+			if params[k] != v {
+				st.mixed = true
+				fmt.Fprintf(e.stderr, "warmrain summary: %s was processed with %s = %s, the first file with %s; the summary mixes parameter settings\n", path, k, params[k], v)
+				break
+			}
+		}
+	}
+	needs := append([]string{p.lwp, ndVarName, popVarName, p.rate, p.surf}, st.mapNames...)
+	s := p.scene
+	for t := 0; t < s.NT; t++ {
+		if s.Time != nil && !f.window.Contains(s.Time[t]) {
+			continue
+		}
+		if s.Time == nil && !f.window.IsZero() {
+			fmt.Fprintf(e.stderr, "warmrain summary: %s has no time axis; the time window cannot select it, skipped\n", path)
+			break
+		}
+		d, qc, err := p.step(t, needs)
+		if err != nil {
+			return err
+		}
+		one := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: 1}
+		if s.Time != nil {
+			one.Time = s.Time[t : t+1]
+		}
+		cols := summary.Columns{
+			LWP: summary.Field{Name: p.lwp, Units: "kg m-2", Data: d[p.lwp]},
+			Nd:  summary.Field{Name: ndVarName, Units: "m-3", Data: d[ndVarName]},
+			POP: summary.Field{Name: popVarName, Units: "1", Data: d[popVarName]},
+			QC:  qc,
+		}
+		if p.rate != "" {
+			cols.Rate = summary.Field{Name: rateVarName, Units: "kg m-2 s-1", Data: d[p.rate]}
+		}
+		if p.surf != "" {
+			cols.SurfaceRadius = summary.Field{Name: surfVarName, Units: "m", Data: d[p.surf]}
+		}
+		if err := st.acc.Add(one, &cols); err != nil {
+			return fmt.Errorf("%s: time step %d: %w", path, t, err)
+		}
+		fields := make([]summary.Field, 0, len(st.mapNames))
+		for _, n := range st.mapNames {
+			vi := st.mapInfo[n]
+			fields = append(fields, summary.Field{Name: n, Units: vi.units, LongName: vi.long, Data: d[n]})
+		}
+		if st.mapsOK {
+			if err := st.maps.Accumulate(one, fields...); err != nil {
+				if !errors.Is(err, summary.ErrGrid) {
+					return fmt.Errorf("%s: time step %d: %w", path, t, err)
+				}
+				st.mapsOK = false
+				fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
+			}
+		}
+		if st.first == nil {
+			st.first = map[string][]float64{}
+			for _, fl := range fields {
+				dd := append([]float64(nil), fl.Data...)
+				for c := range dd {
+					if la, lo := one.LatLon(c/one.NX, c%one.NX); !f.region.Contains(la, lo) {
+						dd[c] = math.NaN()
+					}
+				}
+				st.first[fl.Name] = dd
+			}
+			st.firstGrid = summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: 1}
+			if s.Time != nil {
+				st.firstTime = s.Time[t]
+			}
+		}
+	}
+	return nil
+}
+
+// ---- the NetCDF summary file ----
+
+func attr(name string, v any) grid.Attr { return grid.Attr{Name: name, Value: v} }
+
+func summaryVarSpec(v summary.Var, float bool) grid.VarSpec {
+	vs := grid.VarSpec{Name: v.Name, Dims: v.Dims, Type: grid.Double}
+	isCoord := len(v.Dims) == 1 && v.Dims[0] == v.Name
+	isBounds := strings.HasSuffix(v.Name, "_bounds")
+	switch {
+	case v.Int:
+		vs.Type = grid.Int
+		d := make([]int32, len(v.Data))
+		for i, x := range v.Data {
+			d[i] = int32(x)
+		}
+		vs.Data = d
+	case float:
+		vs.Type = grid.Float
+		vs.Data = v.Data
+	default:
+		vs.Data = v.Data
+	}
+	if !v.Int && !isCoord && !isBounds {
+		vs.Attrs = append(vs.Attrs, attr("_FillValue", []float64{-999}))
+	}
+	for _, a := range [][2]string{{"standard_name", v.StandardName}, {"long_name", v.LongName}, {"units", v.Units},
+		{"bounds", v.Bounds}, {"ancillary_variables", v.Ancillary}, {"comment", v.Comment}} {
+		if a[1] != "" {
+			vs.Attrs = append(vs.Attrs, attr(a[0], a[1]))
+		}
+	}
+	return vs
+}
+
+func utcText(t float64) string {
+	sec, frac := math.Modf(t)
+	return time.Unix(int64(sec), int64(frac*1e9)).UTC().Format("2006-01-02T15:04:05Z")
+}
+
+func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet, inputs, args []string) *grid.Dataset {
+	ds := &grid.Dataset{}
+	dims := res.Dims()
+	for _, n := range []string{summary.DimLWP, summary.DimNd, summary.DimBounds} {
+		ds.Dims = append(ds.Dims, grid.DimSpec{Name: n, Len: dims[n]})
+	}
+	for _, v := range res.Variables() {
+		ds.Vars = append(ds.Vars, summaryVarSpec(v, false))
+	}
+	if len(ms.Maps) > 0 {
+		g := ms.Grid
+		twoD := g.TwoD()
+		yd, xd := "lat", "lon"
+		if twoD {
+			yd, xd = "y", "x"
+		}
+		ds.Dims = append(ds.Dims, grid.DimSpec{Name: yd, Len: g.NY}, grid.DimSpec{Name: xd, Len: g.NX})
+		coords := ""
+		if twoD {
+			ds.Vars = append(ds.Vars,
+				grid.VarSpec{Name: "lat", Dims: []string{"y", "x"}, Type: grid.Double, Data: g.Lat, Attrs: []grid.Attr{
+					attr("standard_name", "latitude"), attr("long_name", "latitude of the cell centre"), attr("units", "degrees_north")}},
+				grid.VarSpec{Name: "lon", Dims: []string{"y", "x"}, Type: grid.Double, Data: g.Lon, Attrs: []grid.Attr{
+					attr("standard_name", "longitude"), attr("long_name", "longitude of the cell centre"), attr("units", "degrees_east")}})
+			coords = "lat lon"
+		} else {
+			ds.Vars = append(ds.Vars,
+				grid.VarSpec{Name: "lat", Dims: []string{"lat"}, Type: grid.Double, Data: g.Lat, Attrs: []grid.Attr{
+					attr("standard_name", "latitude"), attr("long_name", "latitude of the cell centre"), attr("units", "degrees_north"), attr("axis", "Y")}},
+				grid.VarSpec{Name: "lon", Dims: []string{"lon"}, Type: grid.Double, Data: g.Lon, Attrs: []grid.Attr{
+					attr("standard_name", "longitude"), attr("long_name", "longitude of the cell centre"), attr("units", "degrees_east"), attr("axis", "X")}})
+		}
+		if !math.IsNaN(ms.TimeMin) {
+			ds.Vars = append(ds.Vars,
+				grid.VarSpec{Name: "time", Type: grid.Double, Data: []float64{(ms.TimeMin + ms.TimeMax) / 2}, Attrs: []grid.Attr{
+					attr("standard_name", "time"), attr("long_name", "middle of the averaging period (first to last time step averaged)"),
+					attr("units", "seconds since 1970-01-01 00:00:00"), attr("calendar", "standard"), attr("axis", "T"), attr("bounds", "time_bnds")}},
+				grid.VarSpec{Name: "time_bnds", Dims: []string{summary.DimBounds}, Type: grid.Double, Data: []float64{ms.TimeMin, ms.TimeMax}})
+			coords = strings.TrimSpace("time " + coords)
+		}
+		for _, v := range ms.Variables() {
+			// <name>_mean of the maps would clash with the bin means of the statistics
+			// (drizzle_probability_mean): the maps are <name>_time_mean and
+			// <name>_time_mean_count.
+			base := strings.TrimSuffix(strings.TrimSuffix(v.Name, "_mean"), "_count")
+			if v.Int {
+				v.Name = base + mapSuffix + "_count"
+			} else {
+				v.Name, v.Ancillary = base+mapSuffix, base+mapSuffix+"_count"
+			}
+			vs := summaryVarSpec(v, !v.Int)
+			if !v.Int {
+				vs.Attrs = append(vs.Attrs, attr("cell_methods", "time: mean"), attr("coverage_content_type", "modelResult"))
+				if sn := st.mapInfo[base].std; sn != "" && len(strings.Fields(sn)) == 1 {
+					vs.Attrs = append(vs.Attrs, attr("standard_name", sn))
+				}
+			} else {
+				vs.Attrs = append(vs.Attrs, attr("coverage_content_type", "auxiliaryInformation"))
+			}
+			if coords != "" {
+				vs.Attrs = append(vs.Attrs, attr("coordinates", coords))
+			}
+			ds.Vars = append(ds.Vars, vs)
+		}
+	}
+	line := time.Now().UTC().Format("2006-01-02T15:04:05Z") + ": warmrain " + Version() + " summary " + joinArgs(args)
+	hist := line
+	if st.history != "" && len(inputs) == 1 {
+		hist += "\n" + st.history
+	}
+	g := []grid.Attr{
+		attr("Conventions", "CF-1.13 ACDD-1.3"),
+		attr("title", "warm-rain summary statistics (warmrain)"),
+		attr("summary", "Drizzle probability and cloud-base drizzle rate binned by liquid water path and droplet number, precipitation susceptibilities per liquid-water-path bin, the fraction of drizzle reaching the surface, and time-mean maps, over processed warmrain files."),
+		attr("comment", summaryCaution+" Statistics are in SI units (LWP kg m-2, N_d m-3, rates kg m-2 s-1 = mm s-1 of liquid water)."),
+		attr("history", hist),
+		attr("source", "warmrain "+Version()+" (libnetcdf "+grid.LibraryVersion()+")"),
+		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap)"),
+		attr("standard_name_vocabulary", "CF Standard Name Table v83"),
+		attr("date_created", time.Now().UTC().Format(time.RFC3339)),
+		attr("warmrain_summary_inputs", strings.Join(inputs, "\n")),
+	}
+	ra := res.Attributes()
+	ra["qc_mask"] = "columns excluded when warm_rain_qc has any of the bits " + strings.Join(screenWords, " ")
+	keys := make([]string, 0, len(ra))
+	for k := range ra {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		g = append(g, attr(k, ra[k]))
+	}
+	if !math.IsNaN(ms.TimeMin) {
+		g = append(g, attr("time_coverage_start", utcText(ms.TimeMin)), attr("time_coverage_end", utcText(ms.TimeMax)))
+	}
+	if !st.mixed {
+		pk := make([]string, 0, len(st.params))
+		for k := range st.params {
+			pk = append(pk, k)
+		}
+		sort.Strings(pk)
+		for _, k := range pk {
+			g = append(g, attr(paramAttrStart+k, st.params[k]))
+		}
+	} else {
+		g = append(g, attr("warmrain_parameters", "the input files were processed with different parameters; see their warmrain_parameter_* attributes"))
+	}
+	ds.Globals = g
+	return ds
+}
+
+// ---- pictures ----
+
+// shortNames are the picture titles of the known diagnostics (the long_name of a file
+// is a sentence, too long for a title).
+var shortNames = map[string]string{
+	lwpVarName: "Liquid water path", ndVarName: "Droplet number concentration N_d",
+	"cloud_thickness": "Adiabatic cloud thickness", "condensation_rate": "Adiabatic condensation rate",
+	"adiabatic_top_effective_radius": "Adiabatic cloud-top effective radius",
+	"column_autoconversion_rate":     "Column autoconversion rate", "warm_rain_efficiency": "Warm-rain efficiency",
+	rateVarName: "Cloud-base drizzle rate", popVarName: "Drizzle probability (POP)",
+	"critical_lwp": "Critical LWP for drizzle onset", "collector_exit_radius": "Collector drop radius at cloud exit",
+	"collector_exit_time": "Collector drop time in cloud", surfVarName: "Drizzle drop radius at the surface (0 = evaporated)",
+	"drizzle_evaporation_height": "Height where drizzle evaporated",
+}
+
+func shortName(name, long string) string {
+	if s, ok := shortNames[name]; ok {
+		return s
+	}
+	if long != "" {
+		return upperFirst(long)
+	}
+	return name
+}
+
+// paramText is the key-parameter line of the picture titles.
+func (st *summaryState) paramText() string {
+	if st.mixed {
+		return "inputs processed with different parameters"
+	}
+	var parts []string
+	if a := st.params["autoconversion"]; a != "" {
+		parts = append(parts, a+" autoconversion")
+	}
+	if r, err := strconv.ParseFloat(st.params["onset_effective_radius"], 64); err == nil {
+		parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r*1e6))
+	}
+	if g := st.params["gamma_shape"]; g != "" {
+		parts = append(parts, "gamma shape "+g)
+	}
+	return strings.Join(parts, ", ")
+}
+
+func utcShort(t float64) time.Time {
+	sec, frac := math.Modf(t)
+	return time.Unix(int64(sec), int64(frac*1e9)).UTC()
+}
+
+// spanText is the compact time line of the titles: "2026-09-21 12:00 to 09-23 12:00
+// UTC (3 steps)".
+func spanText(ms summary.MapSet, files int) string {
+	n := fmt.Sprintf("%d time step", ms.Steps)
+	if ms.Steps != 1 {
+		n += "s"
+	}
+	if files > 1 {
+		n += fmt.Sprintf(", %d files", files)
+	}
+	if math.IsNaN(ms.TimeMin) {
+		return n
+	}
+	a, b := utcShort(ms.TimeMin), utcShort(ms.TimeMax)
+	if a.Equal(b) {
+		return a.Format("2006-01-02 15:04") + " UTC (" + n + ")"
+	}
+	lb := "2006-01-02 15:04"
+	if a.Year() == b.Year() {
+		lb = "01-02 15:04"
+	}
+	return a.Format("2006-01-02 15:04") + " to " + b.Format(lb) + " UTC (" + n + ")"
+}
+
+func regionText(r *summary.Region) string {
+	if r == nil {
+		return ""
+	}
+	lat := func(v float64) string {
+		if v < 0 {
+			return fmt.Sprintf("%g°S", -v)
+		}
+		return fmt.Sprintf("%g°N", v)
+	}
+	lon := func(v float64) string {
+		v = math.Mod(v+540, 360) - 180
+		if v < 0 {
+			return fmt.Sprintf("%g°W", -v)
+		}
+		return fmt.Sprintf("%g°E", v)
+	}
+	return "region " + lat(r.LatMin) + " to " + lat(r.LatMax) + ", " + lon(r.LonMin) + " to " + lon(r.LonMax)
+}
+
+// wrapLines joins the non-empty lines with newlines, breaking any longer than max
+// characters at blanks (the plots centre the title over the map and do not wrap).
+func wrapLines(max int, lines ...string) string {
+	var out []string
+	for _, l := range lines {
+		if l == "" {
+			continue
+		}
+		cur := ""
+		for _, w := range strings.Fields(l) {
+			switch {
+			case cur == "":
+				cur = w
+			case len([]rune(cur))+1+len([]rune(w)) <= max:
+				cur += " " + w
+			default:
+				out = append(out, cur)
+				cur = w
+			}
+		}
+		if cur != "" {
+			out = append(out, cur)
+		}
+	}
+	return strings.Join(out, "\n")
+}
+
+// titleChars estimates how many title characters fit over the map: the map keeps
+// equal degrees (plate carrée) in the picture minus the colour-bar column (150 px),
+// the latitude axis (~70 px), three title lines and the longitude axis; 13 pt text is
+// about 7.5 px a character (estimates from the plots layout, common practice).
+func titleChars(g summary.Scene, w, h int) int {
+	latMin, latMax, lonMin, lonMax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for _, v := range g.Lat {
+		latMin, latMax = math.Min(latMin, v), math.Max(latMax, v)
+	}
+	for _, v := range g.Lon {
+		lonMin, lonMax = math.Min(lonMin, v), math.Max(lonMax, v)
+	}
+	plotW := float64(w - 8 - 150 - 70)
+	plotH := float64(h - 12 - 3*17 - 10 - 45)
+	mapW := plotW
+	if dy, dx := latMax-latMin, lonMax-lonMin; dy > 0 && dx > 0 && dx < 360 {
+		mapW = math.Min(plotW, plotH*dx/dy)
+	}
+	return max(24, int(mapW/7.5))
+}
+
+// mapStyle sets the colour scale and units of a diagnostic's picture.
+func mapStyle(name, siUnit string, o *plots.MapOptions) {
+	switch name {
+	case popVarName:
+		o.Min, o.Max = 0, 1
+	case rateVarName, "column_autoconversion_rate", "warm_rain_efficiency":
+		o.Log = true
+		o.ColorMap = plots.Cividis()
+	}
+	if siUnit == "m" && strings.Contains(name, "radius") {
+		o.Scale, o.Units = 1e6, "µm"
+	}
+}
+
+func writePNG(path string, force bool, draw func(w io.Writer) error) error {
+	if _, err := os.Stat(path); err == nil && !force {
+		return fmt.Errorf("%s already exists; use --force to overwrite it", path)
+	}
+	var buf bytes.Buffer
+	if err := draw(&buf); err != nil {
+		return err
+	}
+	var rb [6]byte
+	rand.Read(rb[:])
+	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".tmp-"+hex.EncodeToString(rb[:]))
+	if err := os.WriteFile(tmp, buf.Bytes(), 0o644); err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	return nil
+}
+
+func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet) error {
+	if err := os.MkdirAll(f.plotDir, 0o755); err != nil {
+		return fmt.Errorf("--plots %s: %w", f.plotDir, err)
+	}
+	params := st.paramText()
+	region := regionText(f.region)
+	var wrote []string
+	put := func(file, what string, draw func(io.Writer) error) error {
+		path := filepath.Join(f.plotDir, file)
+		err := writePNG(path, f.force, draw)
+		switch {
+		case err == nil:
+			wrote = append(wrote, path)
+		case errors.Is(err, plots.ErrNoData):
+			fmt.Fprintf(e.stderr, "warmrain summary: no picture of %s: %v\n", what, err)
+		default:
+			return err
+		}
+		return nil
+	}
+	// Maps.
+	type mapJob struct {
+		field       summary.Field
+		grid        summary.Scene
+		title, when string
+		keepUnits   bool
+		file        string
+	}
+	var jobs []mapJob
+	if f.mapOf == "first" && st.first != nil {
+		when := "first time step"
+		if !math.IsNaN(st.firstTime) {
+			when = utcShort(st.firstTime).Format("2006-01-02 15:04") + " UTC (first time step)"
+		}
+		for _, n := range st.mapNames {
+			vi := st.mapInfo[n]
+			jobs = append(jobs, mapJob{field: summary.Field{Name: n, Units: vi.units, LongName: vi.long, Data: st.first[n]}, grid: st.firstGrid,
+				title: shortName(n, vi.long), when: when, file: "map_" + n + "_first.png"})
+		}
+	} else if f.mapOf == "mean" && len(ms.Maps) > 0 {
+		when := "time mean, " + spanText(ms, st.files)
+		for _, m := range ms.Maps {
+			n := m.Mean.Name
+			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].long), when: when, file: "map_" + n + "_mean.png"})
+		}
+		for _, m := range ms.Maps {
+			if m.Mean.Name == popVarName {
+				c := m.CountField()
+				c.Units = "1"
+				jobs = append(jobs, mapJob{field: c, grid: ms.Grid, title: "Number of time steps with a valid drizzle probability",
+					when: "over " + spanText(ms, st.files), keepUnits: true, file: "map_valid_count.png"})
+			}
+		}
+	}
+	for _, j := range jobs {
+		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits}
+		mapStyle(j.field.Name, j.field.Units, &o)
+		if j.keepUnits {
+			o.Scale, o.Units = 1, "count"
+		}
+		title := j.title
+		if v, ok := constantValue(j.field.Data); ok {
+			// A constant field would get a colour bar of ±1e-12: give it a readable
+			// range and say so in the title.
+			scale, units := o.Scale, o.Units
+			if scale == 0 {
+				scale, units = plots.DisplayUnits(j.field.Units)
+			}
+			d := v * scale
+			o.Log, o.Min, o.Max = false, d-math.Max(math.Abs(d)*0.5, 1), d+math.Max(math.Abs(d)*0.5, 1)
+			if d == 0 && !strings.Contains(j.field.Name, "temperature") {
+				o.Min, o.Max = 0, 1
+			}
+			title += fmt.Sprintf(": %.4g %s everywhere", d, units)
+		}
+		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region, params)
+		if err := put(j.file, j.field.Name, func(w io.Writer) error { return plots.Map(w, j.grid, j.field, o) }); err != nil {
+			return err
+		}
+	}
+	// Curves: the plots add their own last title line (error bars) to the subtitle.
+	chars := max(30, int(float64(f.width-8-200)/7.5))
+	span := spanText(ms, st.files)
+	pt := wrapLines(chars, "Drizzle probability against liquid water path, by droplet number", span, region, params)
+	if err := put("pop_vs_lwp.png", "POP against LWP", func(w io.Writer) error {
+		return plots.POPCurves(w, res, plots.CurveOptions{Width: f.width, Height: f.height, Title: pt})
+	}); err != nil {
+		return err
+	}
+	stt := wrapLines(chars, "Precipitation susceptibility S = -d ln X / d ln N_d", span, region, params)
+	if err := put("susceptibility_vs_lwp.png", "susceptibility against LWP", func(w io.Writer) error {
+		return plots.SusceptibilityCurves(w, res, plots.CurveOptions{Width: f.width, Height: f.height, Title: stt})
+	}); err != nil {
+		return err
+	}
+	for _, w := range wrote {
+		fmt.Fprintf(e.stderr, "warmrain summary: wrote %s\n", w)
+	}
+	return nil
+}
+
+// constantValue reports whether every finite value of d is the same (and there is one).
+func constantValue(d []float64) (float64, bool) {
+	v, seen := math.NaN(), false
+	for _, x := range d {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			continue
+		}
+		if !seen {
+			v, seen = x, true
+		} else if x != v {
+			return 0, false
+		}
+	}
+	return v, seen
+}
+
+func upperFirst(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}

@@ -1,0 +1,347 @@
+package grid
+
+import (
+	"fmt"
+	"math"
+	"strings"
+	"unsafe"
+)
+
+// Decoder turns stored values of one variable into float64 values in canonical
+// units, NaN for missing. The order follows CF §2.5.1 and §8.1 (NUG Appendix A):
+//
+//  1. reinterpret signed integers as unsigned when _Unsigned = "true";
+//  2. test the stored value against _FillValue (or the library's default fill
+//     for the type when the attribute is absent, except for byte types),
+//     missing_value (scalar or vector) and valid_min/valid_max/valid_range, in
+//     the packed domain; NaN stored values are missing too;
+//  3. unpack: x*scale_factor + add_offset (either may be absent);
+//  4. convert the units once: y = Factor*x + Offset.
+//
+// Steps 3 and 4 are folded into one multiply-add. Comparisons are made on the
+// stored values converted to float64, exact for every integer up to 2^53.
+// Infinite stored values are kept (physics screens them).
+//
+// valid_* attributes are normally in the packed domain; when a packed variable
+// carries them in the unpacked type (the type of scale_factor, differing from the
+// stored type), they are tested after unpacking, as netCDF-Java does.
+type Decoder struct {
+	Stored   Type    // type in the file
+	Unsigned bool    // _Unsigned = "true" applied
+	HasFill  bool    // a fill value is tested (attribute or default)
+	Fill     float64 // in the packed domain
+	FillAttr bool    // Fill comes from a _FillValue attribute
+	Missing  []float64
+	HasMin   bool
+	HasMax   bool
+	Min, Max float64
+	// ValidUnpacked: Min/Max are in the unpacked (but not unit-converted) domain.
+	ValidUnpacked bool
+	Packed        bool
+	Scale, Offset float64
+	Conv          Converter
+
+	a, b float64 // folded Scale/Offset and Conv
+}
+
+// NewDecoder builds the decoder of variable v of file from its attributes, with
+// conv taking unpacked values to canonical units.
+func NewDecoder(file string, v *VarInfo, conv Converter) (*Decoder, error) {
+	d := &Decoder{Stored: v.Type, Scale: 1, Conv: conv}
+	bad := func(format string, args ...any) error {
+		return varErr(ErrDecode, file, v.Name, format, args...)
+	}
+	if !v.Type.Numeric() {
+		return nil, varErr(ErrLayout, file, v.Name, "has type %s; expected a numeric type (byte, ubyte, short, ushort, int, uint, int64, uint64, float or double)", v.Type)
+	}
+	eff := v.Type
+	if a, ok := v.Attr("_Unsigned"); ok {
+		s, _ := a.Text()
+		if strings.EqualFold(strings.TrimSpace(s), "true") && v.Type.Integer() {
+			eff = v.Type.unsignedOf()
+			d.Unsigned = eff != v.Type
+		}
+	}
+	// number reads a numeric attribute, reinterpreting signed as unsigned like the data.
+	number := func(a Attr, want string) ([]float64, error) {
+		if !a.Type.Numeric() {
+			return nil, bad("attribute %s has type %s; expected %s", a.Name, a.Type, want)
+		}
+		if d.Unsigned && a.Type.Size() == v.Type.Size() && a.Type.Integer() {
+			return toFloat64s(reinterpretUnsigned(a.Value)), nil
+		}
+		return a.Float64s(), nil
+	}
+	if a, ok := v.Attr("_FillValue"); ok {
+		sameSize := a.Type.Integer() && v.Type.Integer() && a.Type.Size() == v.Type.Size() && d.Unsigned
+		if a.Type != v.Type && !sameSize {
+			return nil, bad("_FillValue has type %s; expected the variable's type %s (CF 2.5.1)", a.Type, v.Type)
+		}
+		f, err := number(a, v.Type.String())
+		if err != nil {
+			return nil, err
+		}
+		if len(f) != 1 {
+			return nil, bad("_FillValue has %d values; expected one", len(f))
+		}
+		d.HasFill, d.Fill, d.FillAttr = true, f[0], true
+	} else if fill, ok := defaultFill(eff); ok {
+		d.HasFill, d.Fill = true, fill
+	}
+	if a, ok := v.Attr("missing_value"); ok {
+		f, err := number(a, "numbers of the variable's type "+v.Type.String())
+		if err != nil {
+			return nil, err
+		}
+		d.Missing = f
+	}
+	if a, ok := v.Attr("scale_factor"); ok {
+		f, err := number(a, "float or double")
+		if err != nil {
+			return nil, err
+		}
+		if len(f) != 1 || f[0] == 0 || math.IsNaN(f[0]) || math.IsInf(f[0], 0) {
+			return nil, bad("scale_factor = %v; expected one finite non-zero number", f)
+		}
+		d.Packed, d.Scale = true, f[0]
+	}
+	if a, ok := v.Attr("add_offset"); ok {
+		f, err := number(a, "float or double")
+		if err != nil {
+			return nil, err
+		}
+		if len(f) != 1 || math.IsNaN(f[0]) || math.IsInf(f[0], 0) {
+			return nil, bad("add_offset = %v; expected one finite number", f)
+		}
+		d.Packed, d.Offset = true, f[0]
+	}
+	unpackedType := Type(0)
+	if a, ok := v.Attr("scale_factor"); ok {
+		unpackedType = a.Type
+	} else if a, ok := v.Attr("add_offset"); ok {
+		unpackedType = a.Type
+	}
+	vr, hasRange := v.Attr("valid_range")
+	vmin, hasMin := v.Attr("valid_min")
+	vmax, hasMax := v.Attr("valid_max")
+	validType := Type(0)
+	if hasRange {
+		f, err := number(vr, "two numbers of the variable's type "+v.Type.String())
+		if err != nil {
+			return nil, err
+		}
+		if len(f) != 2 || f[0] > f[1] {
+			return nil, bad("valid_range = %v; expected two increasing numbers", f)
+		}
+		d.HasMin, d.Min, d.HasMax, d.Max = true, f[0], true, f[1]
+		validType = vr.Type
+	} else {
+		if hasMin {
+			f, err := number(vmin, "one number of the variable's type "+v.Type.String())
+			if err != nil {
+				return nil, err
+			}
+			if len(f) != 1 {
+				return nil, bad("valid_min has %d values; expected one", len(f))
+			}
+			d.HasMin, d.Min = true, f[0]
+			validType = vmin.Type
+		}
+		if hasMax {
+			f, err := number(vmax, "one number of the variable's type "+v.Type.String())
+			if err != nil {
+				return nil, err
+			}
+			if len(f) != 1 {
+				return nil, bad("valid_max has %d values; expected one", len(f))
+			}
+			d.HasMax, d.Max = true, f[0]
+			validType = vmax.Type
+		}
+	}
+	if d.Packed && validType != 0 && validType != v.Type && validType == unpackedType && !d.Unsigned {
+		d.ValidUnpacked = true
+	}
+	d.a = d.Scale * conv.Factor
+	d.b = d.Offset*conv.Factor + conv.Offset
+	return d, nil
+}
+
+func reinterpretUnsigned(v any) any {
+	switch x := v.(type) {
+	case []int8:
+		return unsafe.Slice((*uint8)(unsafe.Pointer(unsafe.SliceData(x))), len(x))
+	case []int16:
+		return unsafe.Slice((*uint16)(unsafe.Pointer(unsafe.SliceData(x))), len(x))
+	case []int32:
+		return unsafe.Slice((*uint32)(unsafe.Pointer(unsafe.SliceData(x))), len(x))
+	case []int64:
+		return unsafe.Slice((*uint64)(unsafe.Pointer(unsafe.SliceData(x))), len(x))
+	}
+	return v
+}
+
+// defaultFill is libnetcdf's default fill for types where NUG says readers should
+// treat it as missing (not byte, ubyte or char).
+func defaultFill(t Type) (float64, bool) {
+	switch t {
+	case Short:
+		return -32767, true
+	case Ushort:
+		return 65535, true
+	case Int:
+		return -2147483647, true
+	case Uint:
+		return 4294967295, true
+	case Int64:
+		return -9223372036854775806, true
+	case Uint64:
+		return 18446744073709551614, true
+	case Float:
+		return float64(float32(9.9692099683868690e+36)), true
+	case Double:
+		return 9.9692099683868690e+36, true
+	}
+	return 0, false
+}
+
+// Describe says in words what the decoder does (for inspect).
+func (d *Decoder) Describe() string {
+	var parts []string
+	t := d.Stored.String()
+	if d.Unsigned {
+		t += " read as " + d.Stored.unsignedOf().String() + " (_Unsigned)"
+	}
+	parts = append(parts, "stored as "+t)
+	if d.HasFill {
+		if d.FillAttr {
+			parts = append(parts, fmt.Sprintf("_FillValue %g", d.Fill))
+		} else {
+			parts = append(parts, fmt.Sprintf("default fill %g", d.Fill))
+		}
+	}
+	if len(d.Missing) > 0 {
+		parts = append(parts, fmt.Sprintf("missing_value %v", d.Missing))
+	}
+	if d.HasMin || d.HasMax {
+		lo, hi := "-inf", "+inf"
+		if d.HasMin {
+			lo = fmt.Sprintf("%g", d.Min)
+		}
+		if d.HasMax {
+			hi = fmt.Sprintf("%g", d.Max)
+		}
+		dom := "packed"
+		if d.ValidUnpacked || !d.Packed {
+			dom = "stored"
+			if d.ValidUnpacked {
+				dom = "unpacked"
+			}
+		}
+		parts = append(parts, fmt.Sprintf("valid [%s, %s] (%s values)", lo, hi, dom))
+	}
+	if d.Packed {
+		parts = append(parts, fmt.Sprintf("unpacked as x*%g%+g", d.Scale, d.Offset))
+	}
+	return strings.Join(parts, "; ")
+}
+
+// Decode converts n = len(dst) stored values in raw (the variable's own type,
+// native byte order) into dst.
+func (d *Decoder) Decode(dst []float64, raw unsafe.Pointer) {
+	n := len(dst)
+	if n == 0 {
+		return
+	}
+	t := d.Stored
+	if d.Unsigned {
+		t = t.unsignedOf()
+	}
+	switch t {
+	case Byte:
+		decodeT(d, dst, unsafe.Slice((*int8)(raw), n))
+	case Ubyte:
+		decodeT(d, dst, unsafe.Slice((*uint8)(raw), n))
+	case Short:
+		decodeT(d, dst, unsafe.Slice((*int16)(raw), n))
+	case Ushort:
+		decodeT(d, dst, unsafe.Slice((*uint16)(raw), n))
+	case Int:
+		decodeT(d, dst, unsafe.Slice((*int32)(raw), n))
+	case Uint:
+		decodeT(d, dst, unsafe.Slice((*uint32)(raw), n))
+	case Int64:
+		decodeT(d, dst, unsafe.Slice((*int64)(raw), n))
+	case Uint64:
+		decodeT(d, dst, unsafe.Slice((*uint64)(raw), n))
+	case Float:
+		decodeT(d, dst, unsafe.Slice((*float32)(raw), n))
+	case Double:
+		decodeT(d, dst, unsafe.Slice((*float64)(raw), n))
+	default:
+		panic("grid: Decode of " + t.String())
+	}
+}
+
+type number interface {
+	~int8 | ~uint8 | ~int16 | ~uint16 | ~int32 | ~uint32 | ~int64 | ~uint64 | ~float32 | ~float64
+}
+
+func decodeT[T number](d *Decoder, dst []float64, src []T) {
+	nan := math.NaN()
+	a, b := d.a, d.b
+	hasFill, fill := d.HasFill, d.Fill
+	lo, hi := math.Inf(-1), math.Inf(1)
+	packedRange := !d.ValidUnpacked
+	if d.HasMin {
+		lo = d.Min
+	}
+	if d.HasMax {
+		hi = d.Max
+	}
+	if !packedRange {
+		// Test after unpacking (before the unit conversion).
+		for i, x := range src {
+			v := float64(x)
+			if v != v || (hasFill && v == fill) || isMissing(v, d.Missing) {
+				dst[i] = nan
+				continue
+			}
+			u := v*d.Scale + d.Offset
+			if u < lo || u > hi {
+				dst[i] = nan
+				continue
+			}
+			dst[i] = v*a + b
+		}
+		return
+	}
+	if len(d.Missing) == 0 {
+		for i, x := range src {
+			v := float64(x)
+			if v != v || (hasFill && v == fill) || v < lo || v > hi {
+				dst[i] = nan
+				continue
+			}
+			dst[i] = v*a + b
+		}
+		return
+	}
+	for i, x := range src {
+		v := float64(x)
+		if v != v || (hasFill && v == fill) || v < lo || v > hi || isMissing(v, d.Missing) {
+			dst[i] = nan
+			continue
+		}
+		dst[i] = v*a + b
+	}
+}
+
+func isMissing(v float64, m []float64) bool {
+	for _, x := range m {
+		if v == x {
+			return true
+		}
+	}
+	return false
+}

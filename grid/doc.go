@@ -1,0 +1,122 @@
+// Package grid reads gridded cloud fields from netCDF files and writes column
+// results back, the CF way, streaming over the grid with bounded memory. It knows
+// no physics: it turns files into []float64 slabs in canonical SI units (NaN for
+// missing) and slabs of results into CF-compliant netCDF-4 outputs.
+//
+// # Threads
+//
+// libnetcdf is not thread-safe, and the HDF5 library under it keeps its
+// error-printing switch per OS thread (which makes libnetcdf 4.9.0 print
+// spurious HDF5-DIAG stacks from any thread but the first). Every libnetcdf call
+// of the package therefore runs on one goroutine locked to its OS thread
+// (thread.go), started lazily, which first calls H5Eset_auto2(H5E_DEFAULT, NULL,
+// NULL). Work reaches it as closures on a channel. Real errors are still
+// returned as errors. The cgo gap fillers over libnetcdf (nc_lib.go) and the
+// github.com/fhs/go-netcdf calls are only ever made from that thread. UDUNITS-2
+// calls (units.go) are serialised by a mutex.
+//
+// # Inputs and roles
+//
+// Open(path, OpenOptions) opens a netCDF-3, netCDF-4/HDF5 file or an NCZarr store
+// (file:///abs/store#mode=nczarr,file) and binds each input Role (lwp and re
+// required; tau, ctt, ctp, cth, cloud_fraction, lwp_sd optional) to a variable,
+// using the rule table RoleRules (data, not code), in this order:
+//
+//  1. an explicit Override "ROLE=VARNAME" or "ROLE=VARNAME:UNITS" (ParseOverride);
+//  2. the CF standard_name (table v83, aliases included; a standard name with a
+//     modifier such as "standard_error" never binds a main role);
+//  3. a common variable name (case-insensitive).
+//
+// The LWP standard deviation (lwp_sd) is recognised by an LWP standard_name with
+// cell_methods containing standard_deviation, or by being named in the bound LWP
+// variable's ancillary_variables with a standard_error (or standard_deviation)
+// modifier, then by name. Two candidates for one role give ErrAmbiguous (listing
+// them and the override syntax); a missing required role gives ErrNoVariable
+// (listing what was searched). Binding.Reason says why each variable was taken.
+//
+// # Units
+//
+// Units go through UDUNITS-2: any units attribute convertible to the role's
+// canonical units (kg m-2, m, 1, K, Pa, m, 1, kg m-2) is accepted and converted
+// once, when decoding; a missing or non-convertible units attribute is an
+// ErrUnits error unless an override declares the units. Converter factors within
+// 1e-12 of a power of ten are made exact. "mb" (millibarn to UDUNITS) is refused
+// for pressures with a hint to use hPa or mbar.
+//
+// # Decoding
+//
+// Every numeric stored type is read in its own type and decoded in Go (Decoder):
+// _Unsigned, then _FillValue (or the library default fill for non-byte types),
+// missing_value and valid_min/valid_max/valid_range tested in the packed domain,
+// then scale_factor/add_offset, then the unit conversion; missing values become
+// NaN. A _FillValue of another type than the variable (a string one included) is
+// an ErrDecode error. Text attributes may be NC_CHAR or NC_STRING.
+//
+// # Layout
+//
+// All bound inputs must have exactly LWP's dimensions (else ErrLayout, "LWP and
+// r_e are on different grids ..."). The last two are the spatial dimensions (y,
+// x); the others are leading dimensions (time, ...), possibly unlimited. 1-D
+// coordinate variables must be strictly monotonic (descending latitude is fine)
+// and without missing values; 2-D latitude/longitude are found through LWP's
+// coordinates attribute. Zero-length dimensions are an error. Layout.Coords lists
+// what an output keeps: coordinate variables, auxiliary coordinates, their bounds
+// and the grid_mapping variable.
+//
+// # Slabs and memory
+//
+// The grid is processed in slabs: one index of each leading dimension, a block of
+// whole rows. The block height follows LWP's chunks (whole chunk rows, or an even
+// split of one chunk row when a chunk row is larger than the budget) and the
+// budget OpenOptions.SlabBytes (default 32 MiB) counting the float64 and raw
+// buffers of all inputs and outputs of one slab. Each input variable's chunk
+// cache is set to hold every chunk one slab touches, so each chunk is
+// decompressed once. Process keeps three slabs in flight: the I/O thread reads
+// slab k+1 and writes slab k-1 while the workers decode, compute and encode slab
+// k. Buffers are reused; nothing is allocated per slab after warm-up.
+//
+// # Outputs
+//
+// Create writes a netCDF-4 classic model file (shuffle + deflate, level 1 by
+// default) to a temporary file ".<name>.tmp-<random>" in the target folder;
+// Commit syncs it and renames it into place, Abort removes it. It refuses to write
+// into an input (ErrInputOverwrite: same path or os.SameFile) and refuses an
+// existing output unless WriteOptions.Force (ErrExists). In NewFile mode the
+// output holds LWP's dimensions, Layout.Coords and the new variables; in
+// CopyInput mode every input variable and global attribute too (NC_STRING
+// attributes become NC_CHAR, types the classic model lacks are widened). New
+// variables are chunked (1, ..., rows of a slab, up to all columns) with chunks of
+// at most 4 MiB, get _FillValue of their own type before any data, and the
+// attributes listed in OutputVar (coordinates and grid_mapping copied from LWP).
+// Globals: Conventions "CF-1.13 ACDD-1.3", date_created, history (the new line
+// first, then the input's), then WriteOptions.Globals. OutputVar.Quantize keeps N
+// significant digits (Granular BitRound) and adds the CF quantization container
+// "quantization_info"; such an output is written as netCDF-4 rather than the
+// classic model, because libnetcdf 4.9.0 fails nc_enddef after
+// nc_def_var_quantize in a classic-model file.
+//
+// Process(in, out, ProcessOptions, compute) runs the pipeline; compute receives
+// the slab and one []float64 per output variable and fills columns [lo, hi).
+// ProcessOptions.SkipCompute makes an I/O-only run (benchmarks). SlabInfo
+// reports the slab plan.
+//
+// # Known limits
+//
+// The memory bound holds for any number of rows, leading indices and files; it
+// grows with the row width for chunked inputs, because each input's chunk cache
+// holds one chunk row across all columns (inputs x X x chunk height x type size).
+// libnetcdf 4.9.0 cannot hold unlimited dimensions in NCZarr stores and crashes
+// opening an NCZarr store that holds a scalar variable (ncdump too).
+//
+// # Generic reading
+//
+// Describe(path) returns a FileInfo (dimensions, variables, types, attributes as
+// Go values, chunking, compression) for tools such as the CF lint.
+//
+// # Errors
+//
+// Errors wrap the sentinels ErrNoVariable, ErrAmbiguous, ErrUnits, ErrLayout,
+// ErrNotNetCDF, ErrExists, ErrInputOverwrite, ErrDecode, ErrOverride, usually
+// inside a *VarError{File, Var, Problem} naming the file, the variable and what
+// was expected.
+package grid

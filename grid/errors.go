@@ -1,0 +1,44 @@
+package grid
+
+import (
+	"errors"
+	"fmt"
+)
+
+// Sentinel errors. Every error returned by this package wraps one of them (or an
+// *os.PathError for a missing file) and names the file, the variable and what was
+// expected.
+var (
+	ErrNoVariable     = errors.New("grid: variable not found")
+	ErrAmbiguous      = errors.New("grid: ambiguous variable")
+	ErrUnits          = errors.New("grid: bad units")
+	ErrLayout         = errors.New("grid: unsupported layout")
+	ErrNotNetCDF      = errors.New("grid: not a netCDF file")
+	ErrExists         = errors.New("grid: output exists")
+	ErrInputOverwrite = errors.New("grid: refusing to write into an input")
+	ErrDecode         = errors.New("grid: bad packing or missing-value attributes")
+	ErrOverride       = errors.New("grid: bad override")
+	ErrCanceled       = errors.New("grid: canceled")
+)
+
+// VarError is a problem with one variable of one file. Err, when set, is the
+// sentinel (or underlying error) it wraps.
+type VarError struct {
+	File    string
+	Var     string // empty for a file-level problem
+	Problem string
+	Err     error
+}
+
+func (e *VarError) Error() string {
+	if e.Var == "" {
+		return fmt.Sprintf("%s: %s", e.File, e.Problem)
+	}
+	return fmt.Sprintf("%s: variable %q: %s", e.File, e.Var, e.Problem)
+}
+
+func (e *VarError) Unwrap() error { return e.Err }
+
+func varErr(sentinel error, file, v, format string, args ...any) error {
+	return &VarError{File: file, Var: v, Problem: fmt.Sprintf(format, args...), Err: sentinel}
+}

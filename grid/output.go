@@ -1,0 +1,739 @@
+package grid
+
+import (
+	"crypto/rand"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"time"
+	"unsafe"
+)
+
+// OutType is the stored type of an output variable.
+type OutType int
+
+// Output types. Int16 (with Scale/Offset) is for CF-packed values; Int8, Int16
+// and Int32 without scale are for flags (Int32 holds a 16-bit mask, since the
+// classic model has no unsigned short).
+const (
+	Float32 OutType = iota + 1
+	Int16
+	Int8
+	Int32
+)
+
+func (t OutType) nc() Type {
+	switch t {
+	case Int16:
+		return Short
+	case Int8:
+		return Byte
+	case Int32:
+		return Int
+	}
+	return Float
+}
+
+// OutputVar describes one new variable on LWP's grid. Fill is in the stored
+// domain (the packed value for packed Int16). ValidMin/ValidMax are in the
+// unpacked units of the variable; valid_range is written (packed for packed
+// variables) only when ValidMin < ValidMax. Scale = 0 means no packing. Empty text
+// fields and nil FlagMasks are left out. Quantize > 0 (Float32 only) keeps that
+// many significant decimal digits with libnetcdf's Granular BitRound and adds the
+// CF 1.12 quantization metadata.
+type OutputVar struct {
+	Name                string
+	StandardName        string
+	LongName            string
+	Units               string
+	Type                OutType
+	Fill                float64
+	ValidMin, ValidMax  float64
+	Scale, Offset       float64
+	FlagMasks           []int
+	FlagMeanings        string
+	AncillaryVariables  string
+	CellMethods         string
+	Comment             string
+	References          string
+	CoverageContentType string
+	Quantize            int
+}
+
+// Mode selects what the output holds besides the new variables.
+type Mode int
+
+// The output modes.
+const (
+	// NewFile: LWP's dimensions and the coordinate variables of Layout.Coords
+	// (coordinates, bounds, grid_mapping) plus the new variables.
+	NewFile Mode = iota
+	// CopyInput: every dimension, variable and global attribute of the input,
+	// plus the new variables.
+	CopyInput
+)
+
+// Global is a global text attribute.
+type Global struct{ Name, Value string }
+
+// WriteOptions configure Create. Start from DefaultWriteOptions: the zero value
+// has Shuffle off.
+type WriteOptions struct {
+	Mode    Mode
+	Deflate int  // deflate level 1-9; 0 means the default (1); -1 switches compression off
+	Shuffle bool // byte shuffle before deflate
+	Force   bool // overwrite an existing output (never an input)
+	// Globals are written last (they replace copied ones of the same name).
+	Globals []Global
+	// HistoryLine is prepended to the input's history (newest first), e.g.
+	// "2026-01-01T00:00:00Z: warmrain v0.1.0 process in.nc -o out.nc".
+	HistoryLine string
+}
+
+// DefaultWriteOptions: new file, deflate 1, shuffle on.
+func DefaultWriteOptions() WriteOptions { return WriteOptions{Deflate: 1, Shuffle: true} }
+
+// Output is an output being written to a temporary file; Commit renames it into
+// place, Abort removes it.
+type Output struct {
+	Path string // final name
+	Tmp  string // temporary file in the same folder
+
+	in      *Input
+	vars    []OutputVar
+	varIDs  []int
+	types   []Type
+	plan    *slabPlan
+	ncid    int
+	open    bool
+	done    bool
+	chunks  []int
+	deflate int
+	shuffle bool
+}
+
+// Vars returns the output variables.
+func (o *Output) Vars() []OutputVar { return o.vars }
+
+// Chunks returns the chunk sizes of the new variables.
+func (o *Output) Chunks() []int { return o.chunks }
+
+// Create starts an output for input in. It refuses to write into an input
+// (ErrInputOverwrite) and an existing path unless Force (ErrExists). The file is
+// netCDF-4 classic model; see the package documentation for what is kept.
+func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output, error) {
+	if isURL(path) {
+		return nil, &VarError{File: path, Problem: "outputs must be plain file paths (no URLs)", Err: ErrLayout}
+	}
+	if err := checkNotInput(path, in); err != nil {
+		return nil, err
+	}
+	if st, err := os.Stat(path); err == nil {
+		if st.IsDir() {
+			return nil, &VarError{File: path, Problem: "is a directory; expected an output file name", Err: ErrExists}
+		}
+		if !opt.Force {
+			return nil, &VarError{File: path, Problem: "already exists; refusing to overwrite it without force", Err: ErrExists}
+		}
+	}
+	if err := checkVars(path, in, vars, opt); err != nil {
+		return nil, err
+	}
+	dir := filepath.Dir(path)
+	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+		return nil, &VarError{File: path, Problem: fmt.Sprintf("output folder %q does not exist", dir), Err: os.ErrNotExist}
+	}
+	var rb [6]byte
+	rand.Read(rb[:])
+	tmp := filepath.Join(dir, "."+filepath.Base(path)+".tmp-"+hex.EncodeToString(rb[:]))
+	f, err := os.OpenFile(tmp, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	if err != nil {
+		return nil, &VarError{File: path, Problem: "cannot create a temporary file in the output folder: " + err.Error(), Err: err}
+	}
+	f.Close()
+	o := &Output{Path: path, Tmp: tmp, in: in, vars: vars}
+	o.deflate = opt.Deflate
+	if o.deflate == 0 {
+		o.deflate = 1
+	}
+	o.shuffle = opt.Shuffle && o.deflate > 0
+	for _, v := range vars {
+		o.types = append(o.types, v.Type.nc())
+	}
+	o.plan = newPlan(in, o.types, in.opt.SlabBytes)
+	if e := onIO(func() { err = o.defineIO(opt) }); e != nil {
+		err = e
+	}
+	if err != nil {
+		o.Abort()
+		return nil, err
+	}
+	return o, nil
+}
+
+func checkNotInput(path string, in *Input) error {
+	abs, _ := filepath.Abs(path)
+	inAbs, _ := filepath.Abs(in.Path)
+	if !isURL(in.Path) && abs == inAbs {
+		return &VarError{File: path, Problem: "is the input file; refusing to write into an input", Err: ErrInputOverwrite}
+	}
+	if st, err := os.Stat(path); err == nil && !isURL(in.Path) {
+		if ist, err := os.Stat(in.Path); err == nil && os.SameFile(st, ist) {
+			return &VarError{File: path, Problem: fmt.Sprintf("is the same file as the input %s; refusing to write into an input", in.Path), Err: ErrInputOverwrite}
+		}
+	}
+	return nil
+}
+
+func checkVars(path string, in *Input, vars []OutputVar, opt WriteOptions) error {
+	seen := map[string]bool{}
+	for _, c := range in.Layout.Coords {
+		seen[c] = true
+	}
+	if opt.Mode == CopyInput {
+		for _, v := range in.Info.Vars {
+			seen[v.Name] = true
+		}
+	}
+	for _, v := range vars {
+		bad := func(f string, a ...any) error {
+			return &VarError{File: path, Var: v.Name, Problem: fmt.Sprintf(f, a...), Err: ErrLayout}
+		}
+		switch {
+		case v.Name == "":
+			return &VarError{File: path, Problem: "an output variable has no name", Err: ErrLayout}
+		case seen[v.Name]:
+			return bad("is already a variable of the output (copied from the input or listed twice)")
+		case v.Type < Float32 || v.Type > Int32:
+			return bad("has no type; expected Float32, Int16, Int8 or Int32")
+		case v.Quantize < 0 || v.Quantize > 7 || (v.Quantize > 0 && v.Type != Float32):
+			return bad("Quantize = %d; expected 0 (off) or 1-7 significant digits on a Float32 variable", v.Quantize)
+		case len(v.FlagMasks) > 0 && len(strings.Fields(v.FlagMeanings)) != len(v.FlagMasks):
+			return bad("has %d flag_masks but %d flag_meanings; expected one word per mask", len(v.FlagMasks), len(strings.Fields(v.FlagMeanings)))
+		case v.Units != "":
+			if _, err := ParseUnits(v.Units); err != nil {
+				return &VarError{File: path, Var: v.Name, Problem: err.Error(), Err: err}
+			}
+		}
+		seen[v.Name] = true
+	}
+	return nil
+}
+
+// classicType maps a type to one allowed in the netCDF-4 classic model.
+func classicType(t Type) (Type, bool) {
+	switch t {
+	case Ubyte:
+		return Short, true
+	case Ushort:
+		return Int, true
+	case Uint, Int64, Uint64:
+		return Double, true
+	case String:
+		return 0, false
+	}
+	return t, true
+}
+
+// defineIO runs on the I/O thread.
+func (o *Output) defineIO(opt WriteOptions) error {
+	in := o.in
+	werr := func(v string, err error, what string) error {
+		return &VarError{File: o.Path, Var: v, Problem: what + ": " + err.Error(), Err: err}
+	}
+	mode := modeNetCDF4Classic
+	for _, v := range o.vars {
+		if v.Quantize > 0 {
+			// libnetcdf 4.9.0: nc_def_var_quantize in a classic-model file makes
+			// nc_enddef fail ("Operation not allowed in data mode"); a netCDF-4 file
+			// (holding only classic types) works.
+			mode = modeNetCDF4
+		}
+	}
+	ncid, err := ncCreate(o.Tmp, mode)
+	if err != nil {
+		return werr("", err, "cannot create")
+	}
+	o.ncid, o.open = ncid, true
+	// Which variables to copy.
+	var copyVars []*VarInfo
+	if opt.Mode == CopyInput {
+		for i := range in.Info.Vars {
+			copyVars = append(copyVars, &in.Info.Vars[i])
+		}
+	} else {
+		for _, c := range in.Layout.Coords {
+			copyVars = append(copyVars, in.Info.Var(c))
+		}
+	}
+	// Dimensions, in the input's order.
+	need := map[int]bool{}
+	for _, d := range in.Layout.Dims {
+		need[d.ID] = true
+	}
+	for _, v := range copyVars {
+		for _, id := range v.DimIDs {
+			need[id] = true
+		}
+	}
+	outDim := map[int]int{}
+	unlimUsed := false
+	for _, d := range in.Info.Dims {
+		if !need[d.ID] && opt.Mode != CopyInput {
+			continue
+		}
+		n := d.Len
+		if d.Unlimited && !unlimUsed {
+			n, unlimUsed = 0, true
+		}
+		id, err := ncDefDim(ncid, d.Name, n)
+		if err != nil {
+			return werr("", err, "cannot define dimension "+d.Name)
+		}
+		outDim[d.ID] = id
+	}
+	nd := len(in.Layout.Dims)
+	o.chunks = outputChunks(o.plan, nd, o.types)
+	// Copied variables.
+	type copyJob struct {
+		v     *VarInfo
+		outID int
+		t     Type
+	}
+	var jobs []copyJob
+	for _, v := range copyVars {
+		t, ok := classicType(v.Type)
+		if !ok {
+			return &VarError{File: in.Path, Var: v.Name, Problem: "has type string, which a netCDF-4 classic model output cannot hold; use the new-file mode", Err: ErrLayout}
+		}
+		dims := make([]int, len(v.DimIDs))
+		for i, id := range v.DimIDs {
+			dims[i] = outDim[id]
+		}
+		id, err := ncDefVar(ncid, v.Name, t, dims)
+		if err != nil {
+			return werr(v.Name, err, "cannot define")
+		}
+		if len(dims) > 0 {
+			onGrid := len(v.Dims) >= 2 && slices.Equal(v.DimIDs[len(v.DimIDs)-2:], []int{in.Layout.Y.ID, in.Layout.X.ID})
+			var chunks []int
+			switch {
+			case onGrid:
+				chunks = make([]int, len(dims))
+				for i := range chunks {
+					chunks[i] = 1
+				}
+				chunks[len(dims)-2], chunks[len(dims)-1] = o.chunks[nd-2], o.chunks[nd-1]
+				for i := range chunks {
+					chunks[i] = min(chunks[i], max(1, v.Shape[i]))
+				}
+			case v.Chunks != nil:
+				chunks = slices.Clone(v.Chunks)
+			}
+			if chunks != nil {
+				if err := ncDefChunking(ncid, id, chunks); err != nil {
+					return werr(v.Name, err, "cannot set chunking")
+				}
+				if o.deflate > 0 {
+					if err := ncDefDeflate(ncid, id, o.shuffle, o.deflate); err != nil {
+						return werr(v.Name, err, "cannot set compression")
+					}
+				}
+			}
+		}
+		for _, a := range v.Attrs {
+			if strings.HasPrefix(a.Name, "_Quantize") || (a.Name == "_Unsigned" && t != v.Type) {
+				continue
+			}
+			if err := putAttrConverted(ncid, id, a, t); err != nil {
+				return werr(v.Name, err, "cannot copy attribute "+a.Name)
+			}
+		}
+		jobs = append(jobs, copyJob{v, id, t})
+	}
+	// New variables.
+	lv := in.Info.Var(in.bindings[RoleLWP.Index()].Var)
+	gridDims := make([]int, nd)
+	for i, d := range in.Layout.Dims {
+		gridDims[i] = outDim[d.ID]
+	}
+	quantContainer := false
+	for k, v := range o.vars {
+		t := o.types[k]
+		id, err := ncDefVar(ncid, v.Name, t, gridDims)
+		if err != nil {
+			return werr(v.Name, err, "cannot define")
+		}
+		o.varIDs = append(o.varIDs, id)
+		if err := ncDefChunking(ncid, id, o.chunks); err != nil {
+			return werr(v.Name, err, "cannot set chunking")
+		}
+		if o.deflate > 0 {
+			if err := ncDefDeflate(ncid, id, o.shuffle, o.deflate); err != nil {
+				return werr(v.Name, err, "cannot set compression")
+			}
+		}
+		if err := ncDefFill(ncid, id, convertTyped([]float64{v.Fill}, t)); err != nil {
+			return werr(v.Name, err, "cannot set _FillValue")
+		}
+		if v.Quantize > 0 {
+			if err := ncDefQuantize(ncid, id, v.Quantize); err != nil {
+				return werr(v.Name, err, "cannot set quantization")
+			}
+			ncRedef(ncid) // 4.9.0 leaves define mode here; NC_EINDEFINE otherwise is fine
+			quantContainer = true
+		}
+		if err := o.putVarAttrs(id, v, t, lv); err != nil {
+			return werr(v.Name, err, "cannot write attributes")
+		}
+	}
+	if quantContainer {
+		id, err := ncDefVar(ncid, "quantization_info", Int, nil)
+		if err != nil {
+			return werr("quantization_info", err, "cannot define")
+		}
+		for _, a := range [][2]string{{"algorithm", "granular_bitround"}, {"implementation", "libnetcdf version " + LibraryVersion()}} {
+			if err := ncPutAtt(ncid, id, a[0], Char, a[1]); err != nil {
+				return werr("quantization_info", err, "cannot write attributes")
+			}
+		}
+	}
+	// Global attributes.
+	if opt.Mode == CopyInput {
+		for _, a := range in.Info.Globals {
+			if err := putAttrConverted(ncid, globalID, a, 0); err != nil {
+				return werr("", err, "cannot copy global attribute "+a.Name)
+			}
+		}
+	}
+	hist := opt.HistoryLine
+	if a, ok := in.Info.Global("history"); ok {
+		if old, _ := a.Text(); old != "" {
+			if hist != "" {
+				hist += "\n" + old
+			} else {
+				hist = old
+			}
+		}
+	}
+	globals := []Global{{"Conventions", "CF-1.13 ACDD-1.3"}, {"date_created", time.Now().UTC().Format(time.RFC3339)}}
+	if hist != "" {
+		globals = append(globals, Global{"history", hist})
+	}
+	globals = append(globals, opt.Globals...)
+	for _, g := range globals {
+		if err := ncPutAtt(ncid, globalID, g.Name, Char, g.Value); err != nil {
+			return werr("", err, "cannot write global attribute "+g.Name)
+		}
+	}
+	if err := ncEndDef(ncid); err != nil {
+		return werr("", err, "cannot end define mode")
+	}
+	for _, j := range jobs {
+		if err := copyDataIO(in, j.v, ncid, j.outID, j.t); err != nil {
+			return err
+		}
+	}
+	for _, id := range o.varIDs {
+		bytes, slots := o.plan.cacheFor(o.chunks, 4, true)
+		if err := ncSetVarChunkCache(ncid, id, bytes, slots, 1); err != nil {
+			return werr("", err, "cannot set chunk cache")
+		}
+	}
+	return nil
+}
+
+// outputChunks gives (1, ..., ry, cx): the slab height and the widest column count
+// keeping a chunk at most 4 MiB.
+func outputChunks(p *slabPlan, nd int, types []Type) []int {
+	size := 4
+	for _, t := range types {
+		size = max(size, t.Size())
+	}
+	c := make([]int, nd)
+	for i := range c {
+		c[i] = 1
+	}
+	c[nd-2] = p.ry
+	cx := p.X
+	if k := (p.ry*p.X*size + (4<<20 - 1)) / (4 << 20); k > 1 {
+		cx = (p.X + k - 1) / k
+	}
+	c[nd-1] = cx
+	return c
+}
+
+func (o *Output) putVarAttrs(id int, v OutputVar, t Type, lwp *VarInfo) error {
+	text := [][2]string{{"standard_name", v.StandardName}, {"long_name", v.LongName}, {"units", v.Units}}
+	for _, a := range text {
+		if a[1] != "" {
+			if err := ncPutAtt(o.ncid, id, a[0], Char, a[1]); err != nil {
+				return err
+			}
+		}
+	}
+	packed := v.Scale != 0
+	if packed {
+		if err := ncPutAtt(o.ncid, id, "scale_factor", Float, []float32{float32(v.Scale)}); err != nil {
+			return err
+		}
+		if err := ncPutAtt(o.ncid, id, "add_offset", Float, []float32{float32(v.Offset)}); err != nil {
+			return err
+		}
+	}
+	if v.ValidMin < v.ValidMax {
+		lo, hi := v.ValidMin, v.ValidMax
+		if packed {
+			lo, hi = (lo-v.Offset)/v.Scale, (hi-v.Offset)/v.Scale
+			if lo > hi {
+				lo, hi = hi, lo
+			}
+			lo, hi = math.Ceil(lo-1e-9), math.Floor(hi+1e-9)
+		}
+		if err := ncPutAtt(o.ncid, id, "valid_range", t, []float64{lo, hi}); err != nil {
+			return err
+		}
+	}
+	if len(v.FlagMasks) > 0 {
+		m := make([]float64, len(v.FlagMasks))
+		for i, x := range v.FlagMasks {
+			m[i] = float64(x)
+		}
+		if err := ncPutAtt(o.ncid, id, "flag_masks", t, m); err != nil {
+			return err
+		}
+	}
+	coords := lwp.Text("coordinates")
+	more := [][2]string{{"flag_meanings", v.FlagMeanings}, {"coordinates", coords}, {"grid_mapping", lwp.Text("grid_mapping")},
+		{"ancillary_variables", v.AncillaryVariables}, {"cell_methods", v.CellMethods}, {"comment", v.Comment},
+		{"references", v.References}, {"coverage_content_type", v.CoverageContentType}}
+	if v.Quantize > 0 {
+		more = append(more, [2]string{"quantization", "quantization_info"})
+	}
+	for _, a := range more {
+		if a[1] != "" {
+			if err := ncPutAtt(o.ncid, id, a[0], Char, a[1]); err != nil {
+				return err
+			}
+		}
+	}
+	if v.Quantize > 0 {
+		if err := ncPutAtt(o.ncid, id, "quantization_nsd", Int, []int32{int32(v.Quantize)}); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// putAttrConverted copies an attribute into a classic-model file: NC_STRING
+// becomes NC_CHAR, unsupported integer types become the next wider classic type,
+// and _FillValue, missing_value and valid_* follow the variable's type vt.
+func putAttrConverted(ncid, varid int, a Attr, vt Type) error {
+	if s, ok := a.Text(); ok {
+		return ncPutAtt(ncid, varid, a.Name, Char, s)
+	}
+	t, _ := classicType(a.Type)
+	switch a.Name {
+	case "_FillValue", "missing_value", "valid_min", "valid_max", "valid_range", "flag_values", "flag_masks":
+		if vt != 0 && vt.Numeric() {
+			t = vt
+		}
+	}
+	if typedLen(a.Value) == 0 {
+		return nil
+	}
+	return ncPutAtt(ncid, varid, a.Name, t, a.Value)
+}
+
+// copyDataIO copies a variable's data in blocks of at most 16 MiB (I/O thread).
+func copyDataIO(in *Input, v *VarInfo, outNC, outID int, t Type) error {
+	if !v.Type.Numeric() && v.Type != Char {
+		return nil
+	}
+	n := v.Len()
+	if n == 0 {
+		return nil
+	}
+	nd := len(v.Shape)
+	start := make([]uint64, nd)
+	count := make([]uint64, nd)
+	size := v.Type.Size()
+	const limit = 16 << 20
+	// Split along the first dimension whose trailing block fits.
+	k, inner := nd, 1
+	for k > 0 && inner*v.Shape[k-1]*size <= limit {
+		k--
+		inner *= v.Shape[k]
+	}
+	// Dimensions before k are iterated one by one (k-1 gets blocks).
+	buf := make([]uint64, (limit+7)/8+1)
+	var rec func(d int) error
+	rec = func(d int) error {
+		if d >= k-1 || k == 0 {
+			step, dimLen := 1, 1
+			if k > 0 {
+				dimLen = v.Shape[k-1]
+				step = max(1, limit/(inner*size))
+			}
+			for i := 0; i < dimLen; i += step {
+				if k > 0 {
+					start[k-1], count[k-1] = uint64(i), uint64(min(step, dimLen-i))
+				}
+				for j := k; j < nd; j++ {
+					start[j], count[j] = 0, uint64(v.Shape[j])
+				}
+				m := 1
+				for _, c := range count {
+					m *= int(c)
+				}
+				p := unsafe.Pointer(&buf[0])
+				if err := ncGetVara(in.ncid, v.ID, start, count, p); err != nil {
+					return varErr(err, in.Path, v.Name, "read failed while copying: %v", err)
+				}
+				if t != v.Type {
+					raw := newTyped(v.Type, m)
+					copyRawTo(raw, p, m*size)
+					conv := convertTyped(raw, t)
+					p = typedPtr(conv)
+					if err := ncPutVara(outNC, outID, start, count, p); err != nil {
+						return varErr(err, in.Path, v.Name, "write failed while copying: %v", err)
+					}
+					continue
+				}
+				if err := ncPutVara(outNC, outID, start, count, p); err != nil {
+					return varErr(err, in.Path, v.Name, "write failed while copying: %v", err)
+				}
+			}
+			return nil
+		}
+		for i := 0; i < v.Shape[d]; i++ {
+			start[d], count[d] = uint64(i), 1
+			if err := rec(d + 1); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+	return rec(0)
+}
+
+// encode converts columns [lo, hi) of an output slab to the stored type.
+func encode(v *OutputVar, t Type, dst unsafe.Pointer, src []float64, lo, hi int) {
+	switch t {
+	case Float:
+		d := unsafe.Slice((*float32)(dst), hi)
+		fill := float32(v.Fill)
+		for i := lo; i < hi; i++ {
+			x := src[i]
+			if x != x || math.IsInf(x, 0) {
+				d[i] = fill
+			} else {
+				d[i] = float32(x)
+			}
+		}
+	case Short:
+		encodeInt(v, unsafe.Slice((*int16)(dst), hi), src, lo, hi, math.MinInt16, math.MaxInt16)
+	case Byte:
+		encodeInt(v, unsafe.Slice((*int8)(dst), hi), src, lo, hi, math.MinInt8, math.MaxInt8)
+	case Int:
+		encodeInt(v, unsafe.Slice((*int32)(dst), hi), src, lo, hi, math.MinInt32, math.MaxInt32)
+	}
+}
+
+func encodeInt[T int8 | int16 | int32](v *OutputVar, d []T, src []float64, lo, hi int, tmin, tmax float64) {
+	fill := T(v.Fill)
+	scale, off := v.Scale, v.Offset
+	if scale == 0 {
+		scale, off = 1, 0
+	}
+	inv := 1 / scale
+	for i := lo; i < hi; i++ {
+		x := src[i]
+		if x != x {
+			d[i] = fill
+			continue
+		}
+		p := math.Round((x - off) * inv)
+		if p < tmin || p > tmax {
+			d[i] = fill
+			continue
+		}
+		d[i] = T(p)
+	}
+}
+
+// writeIO writes one slab of every output variable (I/O thread).
+func (o *Output) writeIO(start, count []uint64, raw [][]uint64, index int) error {
+	for k := range o.vars {
+		if err := ncPutVara(o.ncid, o.varIDs[k], start, count, unsafe.Pointer(&raw[k][0])); err != nil {
+			return &VarError{File: o.Path, Var: o.vars[k].Name, Problem: fmt.Sprintf("write of slab %d failed: %v", index, err), Err: err}
+		}
+	}
+	return nil
+}
+
+// Commit closes the temporary file, syncs it to disk and renames it into place.
+func (o *Output) Commit() error {
+	if o.done {
+		return fmt.Errorf("%s: output already committed or aborted", o.Path)
+	}
+	var err error
+	if o.open {
+		if e := onIO(func() { err = ncClose(o.ncid) }); e != nil {
+			err = e
+		}
+		o.open = false
+	}
+	if err != nil {
+		o.Abort()
+		return &VarError{File: o.Path, Problem: "closing the output failed (disk full?): " + err.Error(), Err: err}
+	}
+	if f, e := os.Open(o.Tmp); e == nil {
+		err = f.Sync()
+		f.Close()
+		if err != nil {
+			o.Abort()
+			return &VarError{File: o.Path, Problem: "sync failed: " + err.Error(), Err: err}
+		}
+	}
+	if err := checkNotInput(o.Path, o.in); err != nil {
+		o.Abort()
+		return err
+	}
+	if err := os.Rename(o.Tmp, o.Path); err != nil {
+		o.Abort()
+		return &VarError{File: o.Path, Problem: "cannot rename the temporary file into place: " + err.Error(), Err: err}
+	}
+	o.done = true
+	if d, e := os.Open(filepath.Dir(o.Path)); e == nil {
+		d.Sync()
+		d.Close()
+	}
+	return nil
+}
+
+// Abort discards the output: the temporary file is closed and removed. It is safe
+// to call more than once and after Commit (then it does nothing).
+func (o *Output) Abort() error {
+	if o.done {
+		return nil
+	}
+	o.done = true
+	if o.open {
+		onIO(func() {
+			if ncAbort(o.ncid) != nil {
+				ncClose(o.ncid)
+			}
+		})
+		o.open = false
+	}
+	if err := os.Remove(o.Tmp); err != nil && !errors.Is(err, os.ErrNotExist) {
+		return err
+	}
+	return nil
+}

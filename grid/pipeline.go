@@ -1,0 +1,219 @@
+package grid
+
+import (
+	"errors"
+	"fmt"
+	"runtime"
+	"sync"
+	"sync/atomic"
+	"unsafe"
+)
+
+// ProcessOptions configure Process.
+type ProcessOptions struct {
+	// Workers computing a slab in parallel (default runtime.GOMAXPROCS(0)).
+	Workers int
+	// Progress, if set, is called from the writer after each slab with the
+	// columns written so far and the total.
+	Progress func(doneCols, totalCols int64)
+	// SkipCompute makes an I/O-only run (for benchmarks): compute is not called
+	// and output variable k receives the decoded values of the k-th bound input
+	// role (cycling through them), so the output has realistic contents.
+	SkipCompute bool
+	// Cancel, when closed (e.g. ctx.Done() on SIGTERM), stops the run: Process
+	// aborts the output and returns an error wrapping ErrCanceled.
+	Cancel <-chan struct{}
+}
+
+// ComputeFunc computes outputs for columns [lo, hi) of slab s: outs[k][i] is
+// output variable k at column i, in the output's units (NaN = fill). It runs on
+// several goroutines at once, each with its own disjoint range, and must only
+// write outs[k][lo:hi].
+type ComputeFunc func(s *Slab, outs [][]float64, lo, hi int)
+
+// nBuffers slabs are in flight at most: one being read, one computed, one written.
+const nBuffers = 3
+
+type slabSet struct {
+	in     *inBuf
+	outs   [][]float64
+	outRaw [][]uint64
+}
+
+// Process streams in through compute into out: the I/O goroutine reads slab k+1
+// and writes slab k-1 while Workers goroutines compute slab k (decoding, compute
+// and encoding all run in the workers). Memory is bounded by three slab buffers.
+// On any error (or a panic in compute) everything stops, the output is aborted
+// and the first error is returned; on success the caller calls out.Commit().
+func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (err error) {
+	if compute == nil && !opt.SkipCompute {
+		return errors.New("grid: Process needs a compute function or SkipCompute")
+	}
+	if out.in != in {
+		return errors.New("grid: Process: the output was created for another input")
+	}
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	p := out.plan
+	var ioErr error
+	if e := onIO(func() { ioErr = in.setInputCachesIO(p) }); e != nil || ioErr != nil {
+		out.Abort()
+		return firstErr(e, ioErr)
+	}
+	free := make(chan *slabSet, nBuffers)
+	for i := 0; i < nBuffers; i++ {
+		s := &slabSet{in: newInBuf(in, p)}
+		for _, t := range out.types {
+			s.outs = append(s.outs, make([]float64, p.maxN))
+			s.outRaw = append(s.outRaw, make([]uint64, (p.maxN*t.Size()+7)/8+1))
+		}
+		free <- s
+	}
+	var (
+		stop    atomic.Bool
+		errOnce sync.Once
+		first   error
+	)
+	fail := func(e error) {
+		errOnce.Do(func() { first = e })
+		stop.Store(true)
+	}
+	if opt.Cancel != nil {
+		finished := make(chan struct{})
+		defer close(finished)
+		go func() {
+			select {
+			case <-opt.Cancel:
+				fail(fmt.Errorf("%w: %s -> %s", ErrCanceled, in.Path, out.Path))
+			case <-finished:
+			}
+		}()
+	}
+	readQ := make(chan *slabSet, nBuffers)
+	writeQ := make(chan *slabSet, nBuffers)
+	var wg sync.WaitGroup
+
+	// Reader.
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		defer close(readQ)
+		var cur *slabSet
+		var rerr error
+		call := newIOCall(func() { rerr = in.readIO(cur.in) })
+		k := 0
+		p.each(func(lead, y0, ny int) error {
+			if stop.Load() {
+				return errStop
+			}
+			cur = <-free
+			cur.in.setPos(p, k, lead, y0, ny)
+			k++
+			if e := call.run(); e != nil || rerr != nil {
+				fail(firstErr(e, rerr))
+				free <- cur
+				return errStop
+			}
+			readQ <- cur
+			return nil
+		})
+	}()
+
+	// Writer.
+	var done int64
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		var cur *slabSet
+		var werr error
+		call := newIOCall(func() { werr = out.writeIO(cur.in.start, cur.in.count, cur.outRaw, cur.in.slab.Index) })
+		for s := range writeQ {
+			if !stop.Load() {
+				cur = s
+				if e := call.run(); e != nil || werr != nil {
+					fail(firstErr(e, werr))
+				} else {
+					done += int64(s.in.slab.N)
+					if opt.Progress != nil {
+						opt.Progress(done, p.total)
+					}
+				}
+			}
+			free <- s
+		}
+	}()
+
+	// Workers: the calling goroutine hands out ranges.
+	type job struct {
+		s      *slabSet
+		lo, hi int
+	}
+	jobs := make(chan job, workers)
+	var jwg sync.WaitGroup
+	var bound []int
+	for i, b := range in.bindings {
+		if b != nil {
+			bound = append(bound, i)
+		}
+	}
+	work := func(j job) {
+		defer jwg.Done()
+		defer func() {
+			if r := recover(); r != nil {
+				fail(fmt.Errorf("grid: compute panicked on slab %d: %v", j.s.in.slab.Index, r))
+			}
+		}()
+		in.decode(j.s.in, j.lo, j.hi)
+		if opt.SkipCompute {
+			for k := range j.s.outs {
+				copy(j.s.outs[k][j.lo:j.hi], j.s.in.slab.In[bound[k%len(bound)]][j.lo:j.hi])
+			}
+		} else {
+			compute(&j.s.in.slab, j.s.outs, j.lo, j.hi)
+		}
+		for k := range j.s.outs {
+			encode(&out.vars[k], out.types[k], unsafe.Pointer(&j.s.outRaw[k][0]), j.s.outs[k], j.lo, j.hi)
+		}
+	}
+	var pool sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		pool.Add(1)
+		go func() {
+			defer pool.Done()
+			for j := range jobs {
+				work(j)
+			}
+		}()
+	}
+	for s := range readQ {
+		if stop.Load() {
+			free <- s
+			continue
+		}
+		n := s.in.slab.N
+		for k := range s.outs {
+			s.outs[k] = s.outs[k][:cap(s.outs[k])][:n]
+		}
+		step := (n + workers - 1) / workers
+		for lo := 0; lo < n; lo += step {
+			jwg.Add(1)
+			jobs <- job{s, lo, min(lo+step, n)}
+		}
+		jwg.Wait()
+		writeQ <- s
+	}
+	close(jobs)
+	pool.Wait()
+	close(writeQ)
+	wg.Wait()
+	errOnce.Do(func() {}) // no later failure can change first
+	if first != nil {
+		out.Abort()
+		return first
+	}
+	return nil
+}
+
+var errStop = errors.New("stop")
