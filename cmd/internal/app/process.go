@@ -136,9 +136,8 @@ func runProcess(e *env, args []string) error {
 	if st, err := os.Stat(o.output); err == nil && st.IsDir() {
 		folder = true
 	} else if strings.HasSuffix(o.output, "/") || len(inputs) > 1 {
-		folder = true
 		if err != nil {
-			return fmt.Errorf("output folder %s does not exist; create it first", o.output)
+			return fmt.Errorf("output folder %s does not exist; create it first (several inputs, or an output ending in /, need a folder)", o.output)
 		}
 		return fmt.Errorf("output %s is not a folder (several inputs need an output folder)", o.output)
 	}
@@ -207,10 +206,6 @@ func runProcess(e *env, args []string) error {
 	if o.jobs > 1 && len(mine) > 1 {
 		recs, err = job.runChildren(ctx, inputs, outputs, mine, man)
 	} else {
-		job.model, err = microphys.NewModel(params)
-		if err != nil {
-			return err
-		}
 		for _, i := range mine {
 			if ctx.Err() != nil {
 				break
@@ -259,7 +254,14 @@ type processJob struct {
 	args      []string
 	shardName string
 	digest    string
-	model     *microphys.Model
+	model     *microphys.Model // built on first use (the collector table takes a moment)
+	modelErr  error
+	modelOnce sync.Once
+}
+
+func (j *processJob) getModel() (*microphys.Model, error) {
+	j.modelOnce.Do(func() { j.model, j.modelErr = microphys.NewModel(j.params) })
+	return j.model, j.modelErr
 }
 
 // paramDigest covers everything that changes an output's contents.
@@ -385,6 +387,12 @@ func (j *processJob) one(ctx context.Context, input, output string, only bool) b
 	out, err := grid.Create(output, in, vars, wopt)
 	if err != nil {
 		return finish("failed", err)
+	}
+	if !j.o.ioOnly {
+		if _, err := j.getModel(); err != nil {
+			out.Abort()
+			return finish("failed", err)
+		}
 	}
 	var screened atomic.Int64
 	popt := grid.ProcessOptions{Workers: j.workers(), SkipCompute: j.o.ioOnly, Cancel: ctx.Done()}
@@ -601,10 +609,6 @@ func (j *processJob) runChild(ctx context.Context, inputs, outputs []string, min
 	k, n, err := parseSlot(j.o.slot)
 	if err != nil {
 		return usagef("--child-slot: %v", err)
-	}
-	j.model, err = microphys.NewModel(j.params)
-	if err != nil {
-		return err
 	}
 	enc := json.NewEncoder(j.e.stdout)
 	j.o.quiet = true

@@ -31,9 +31,10 @@ time-mean maps of every diagnostic with the number of values averaged per cell.
 
 The table goes to stdout. -o writes the same statistics and the maps as a CF NetCDF
 file; --plots writes PNG pictures into DIR: one quick-look map per diagnostic
-(map_<variable>_mean.png, or _first.png with --map-of first), POP against LWP for
+(map_<variable>_mean.png, or _first.png with --map-of first), a map of how many
+valid time steps each cell averaged (map_valid_count.png), POP against LWP for
 several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
-(susceptibility_vs_lwp.png).
+(susceptibility_vs_lwp.png). Existing files are only replaced with --force.
 
 Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
@@ -98,9 +99,9 @@ func runSummary(e *env, args []string) error {
 	to := fs.String("to", "", "keep time steps before `TIME` (UTC)")
 	lwpBins := fs.String("lwp-bins", "20:500:10", "LWP bins in g m-2: `LO:HI:N` logarithmic, or edges E1,E2,...")
 	ndBins := fs.String("nd-bins", "10:1000:10", "N_d bins in cm-3: `LO:HI:N` logarithmic, or edges E1,E2,...")
-	boot := fs.Int("bootstrap", 0, "Poisson-bootstrap replicates for the susceptibility errors (`N`, 0 = off)")
-	seed := fs.Uint64("seed", 1, "seed of the bootstrap (`S`)")
-	minCount := fs.Int("min-count", 50, "least columns an (LWP, N_d) bin needs to enter a fit or a curve (`N`)")
+	boot := fs.Int("bootstrap", 0, "number `N` of Poisson-bootstrap replicates for the susceptibility errors (0 = off)")
+	seed := fs.Uint64("seed", 1, "seed `S` of the bootstrap random numbers")
+	minCount := fs.Int("min-count", 50, "least columns `N` an (LWP, N_d) bin needs to enter a fit or a curve")
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
 	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
 	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
@@ -162,6 +163,15 @@ func runSummary(e *env, args []string) error {
 		}
 		if _, err := os.Stat(f.output); err == nil && !f.force {
 			return fmt.Errorf("%s already exists; use --force to overwrite it", f.output)
+		}
+	}
+	if f.plotDir != "" && !f.force {
+		ents, _ := os.ReadDir(f.plotDir)
+		for _, d := range ents {
+			n := d.Name()
+			if strings.HasSuffix(n, ".png") && (strings.HasPrefix(n, "map_") || n == "pop_vs_lwp.png" || n == "susceptibility_vs_lwp.png") {
+				return fmt.Errorf("--plots %s already holds pictures (%s); use --force to overwrite them, or another folder", f.plotDir, n)
+			}
 		}
 	}
 	return summarise(e, f, inputs, args)

@@ -66,7 +66,7 @@ func synthColumnAt(k int) synthColumn {
 	}
 	if k%13 == 0 {
 		c.qc |= int16(microphys.QCThinCloud)
-		c.pop, c.nd, c.surf = 1, 900, 200
+		c.pop, c.nd, c.surf = 1, 300, 200 // inside the bins: would bias the fits
 	}
 	return c
 }
@@ -161,6 +161,8 @@ out["lwp_bounds_shape"] = list(ds["lwp_bin_bounds"].shape)
 out["cell_methods"] = ds["drizzle_probability_time_mean"].attrs.get("cell_methods")
 out["history"] = ds.attrs["history"]
 out["surface_all"] = ds.attrs["surface_fraction_all"]
+out["rate_map_01"] = float(ds["cloud_base_drizzle_rate_time_mean"].values[0, 1])
+out["rate_map_units"] = ds["cloud_base_drizzle_rate_time_mean"].attrs.get("units")
 print(json.dumps(out))
 `
 	cmd := exec.Command(py, "-c", script, path)
@@ -276,6 +278,16 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	if got, err := strconv.ParseFloat(m["surface_all"].(string), 64); err != nil || math.Abs(got-float64(surfR)/float64(surfN)) > 1e-12 {
 		t.Errorf("surface_fraction_all = %v (%v), want %d/%d", m["surface_all"], err, surfR, surfN)
 	}
+	t.Logf("S_POP %.4f, S_R %.4f, S_I %.4f", sp, sr, si)
+	// The rate map is in SI: mm day-1 / 86400 = kg m-2 s-1 of liquid water (derived,
+	// rho_w = 1000 kg m-3); cell (0, 1) holds columns 1 and 1+NY*NX, neither screened.
+	if m["rate_map_units"] != nil && m["rate_map_units"] != "kg m-2 s-1" {
+		t.Errorf("rate map units %v", m["rate_map_units"])
+	}
+	wantRate := (cols[1].rate + cols[1+synthNY*synthNX].rate) / 2 / 86400
+	if got, ok := m["rate_map_01"].(float64); !ok || math.Abs(got-wantRate) > 1e-6*wantRate {
+		t.Errorf("rate map (0, 1) = %v, want %g kg m-2 s-1", m["rate_map_01"], wantRate)
+	}
 	if s := m["pop_mean_map_shape"].([]any); len(s) != 2 || s[0].(float64) != synthNY || s[1].(float64) != synthNX {
 		t.Errorf("map shape %v, want [%d %d]", s, synthNY, synthNX)
 	}
@@ -302,6 +314,13 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	}
 	if after, _ := os.ReadFile(out); string(after) != string(before) {
 		t.Error("the existing summary file was changed")
+	}
+	code, _, stderr = runCmd("summary", in, "--plots", pics)
+	if code != ExitFailure || !strings.Contains(stderr, "already holds pictures") {
+		t.Errorf("pictures without --force: exit %d, %s", code, stderr)
+	}
+	if code, _, stderr = runCmd("summary", in, "--plots", pics, "--force", "--plot-size", "640x480"); code != 0 {
+		t.Errorf("pictures with --force: exit %d, %s", code, stderr)
 	}
 }
 
