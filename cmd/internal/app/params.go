@@ -89,11 +89,11 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 	}
 	p.Collector.Collision, p.Collector.Coalescence = p.Collision, p.Coalescence
 	p.K, p.Qext, p.Fad = f.k, f.qext, f.fad
-	p.FixedCw = f.cw * 1e-6
-	p.ReStar = f.reStar * 1e-6
+	p.FixedCw = f.cw / 1e6
+	p.ReStar = f.reStar / 1e6
 	p.GammaShape = f.gamma
-	p.Collector.R0 = f.r0 * 1e-6
-	p.Collector.DrizzleRadius = f.drizzleR * 1e-6
+	p.Collector.R0 = f.r0 / 1e6
+	p.Collector.DrizzleRadius = f.drizzleR / 1e6
 	p.Collector.Updraft = f.updraft
 	p.SurfaceRH = f.surfaceRH
 	p.SurfacePressure = f.surfaceP * 100
@@ -109,15 +109,15 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 		}
 	}
 	p.DrizzleCoef, p.DrizzleLWPExp, p.DrizzleNdExp = law[0], law[1], law[2]
-	p.KesslerRate, p.KesslerThreshold = f.kesslerRate, f.kesslerThr*1e-3
+	p.KesslerRate, p.KesslerThreshold = f.kesslerRate, f.kesslerThr/1e3
 	p.EnableCollector = !f.noCollector
 	p.EnableEvaporation = !f.noCollector && !f.noEvaporation
-	p.MinLWP, p.MinTau, p.MinCTT, p.HMax = f.minLWP*1e-3, f.minTau, f.minCTT, f.maxH
+	p.MinLWP, p.MinTau, p.MinCTT, p.HMax = f.minLWP/1e3, f.minTau, f.minCTT, f.maxH
 	lo, hi, err := parsePair("re-range", f.reRange)
 	if err != nil {
 		return p, err
 	}
-	p.ReMin, p.ReMax = lo*1e-6, hi*1e-6
+	p.ReMin, p.ReMax = lo/1e6, hi/1e6
 	lo, hi, err = parsePair("nd-range", f.ndRange)
 	if err != nil {
 		return p, err

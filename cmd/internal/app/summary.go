@@ -494,16 +494,6 @@ func (p *procFile) scan() error {
 	return nil
 }
 
-// param returns a warmrain_parameter_* global attribute.
-func (p *procFile) param(name string) string {
-	a, ok := p.info.Global(paramAttrStart + name)
-	if !ok {
-		return ""
-	}
-	s, _ := a.Text()
-	return s
-}
-
 // step reads time step t of the named diagnostics, in SI, with screened columns set to
 // NaN. It returns the fields and the per-column QC (1 = screened).
 func (p *procFile) step(t int, names []string) (map[string][]float64, []uint16, error) {
