@@ -1,0 +1,90 @@
+package app
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"path/filepath"
+	"testing"
+	"time"
+
+	"github.com/warmrain/warmrain/grid"
+	"github.com/warmrain/warmrain/microphys"
+	"github.com/warmrain/warmrain/samples"
+)
+
+// Benchmarks of the slab pipeline end to end: one input file, read through grid,
+// computed by Model.Column on every column, written with deflate 1 + shuffle and
+// committed, exactly as `warmrain process` does for each file. The input is the
+// demo scenario of package samples on a finer grid (benchmark data, invented), so
+// it has every role (packed LWP, r_e, tau, CTT, CTP, CTH, cloud fraction, LWP
+// standard deviation) and a realistic share of screened columns. The model (and its
+// collector table) is built once outside the timer, so these measure the per-file
+// steady state; bench/run.sh measures the whole command side by side with nccopy and
+// an xarray script. Besides ns/op they report ns/column and columns/s.
+
+const benchSide = 500 // columns along each side of the benchmark input (one day)
+
+// benchInput writes the benchmark input into dir and returns its path.
+func benchInput(b *testing.B, dir string) string {
+	b.Helper()
+	cfg := samples.DefaultConfig()
+	cfg.NLat, cfg.NLon, cfg.NTime = benchSide, benchSide, 1
+	cfg.Res = 10.0 / benchSide // the scenario's 10° box
+	cfg.Deflate = 1
+	path := filepath.Join(dir, "bench_in.nc")
+	if err := samples.Generate(path, cfg); err != nil {
+		b.Fatal(err)
+	}
+	return path
+}
+
+func benchPipeline(b *testing.B, p microphys.Params, ioOnly bool) {
+	dir := b.TempDir()
+	input := benchInput(b, dir)
+	m, err := microphys.NewModel(p)
+	if err != nil {
+		b.Fatal(err)
+	}
+	defs, err := selectOutputs("all", p)
+	if err != nil {
+		b.Fatal(err)
+	}
+	job := &processJob{
+		e:      &env{stdout: io.Discard, stderr: io.Discard, prog: "warmrain"},
+		o:      processOptions{jobs: 1, deflate: 1, slabMB: grid.DefaultSlabBytes >> 20, ioOnly: ioOnly, quiet: true},
+		params: p, defs: defs, model: m,
+		args: []string{"process", input},
+	}
+	job.digest = job.paramDigest()
+	ctx := context.Background()
+	b.ReportAllocs()
+	b.ResetTimer()
+	t0 := time.Now()
+	var cols int64
+	for i := 0; i < b.N; i++ {
+		out := filepath.Join(dir, fmt.Sprintf("out_%d.nc", i))
+		r := job.one(ctx, input, out, false)
+		if r.Status != "done" {
+			b.Fatalf("process %s: %s %s", input, r.Status, r.Error)
+		}
+		cols += r.Columns
+	}
+	el := time.Since(t0)
+	b.ReportMetric(float64(el.Nanoseconds())/float64(cols), "ns/column")
+	b.ReportMetric(float64(cols)/el.Seconds(), "columns/s")
+}
+
+// BenchmarkPipelineAll is one file with every diagnostic (collector and evaporation table).
+func BenchmarkPipelineAll(b *testing.B) { benchPipeline(b, microphys.DefaultParams(), false) }
+
+// BenchmarkPipelineBulk is one file with the collector and evaporation off (--no-collector).
+func BenchmarkPipelineBulk(b *testing.B) {
+	p := microphys.DefaultParams()
+	p.EnableCollector, p.EnableEvaporation = false, false
+	benchPipeline(b, p, false)
+}
+
+// BenchmarkPipelineIOOnly reads the inputs and writes every output variable with the
+// same compression, the physics skipped (--io-only): the floor of the two above.
+func BenchmarkPipelineIOOnly(b *testing.B) { benchPipeline(b, microphys.DefaultParams(), true) }
