@@ -297,14 +297,16 @@ func (c Config) cell(f *Fields, t, i, j int) {
 	default: // deck and polluted line
 		// Closed cells ~25 km across: thicker centres, thinner rims.
 		f1, _ := worley(s, layDeckCells, lon/0.22, lat/0.22)
-		lwp = 62 + 50*clamp(1-f1/0.8, 0, 1) + 12*(sm(layDeckLWP, 0.4)-0.5)
-		lwp = clamp(lwp, 58, 122)
-		re = 10.5 + 1.0*(2*sm(layDeckRe, 0.5)-1) + 0.4*(2*w(layDeckRe)-1)
-		re = clamp(re, 9, 12)
+		// A remote deck on the edge of drizzling: r_e close to the onset
+		// radius of 12-15 µm and a broad sub-grid LWP spread.
+		lwp = 78 + 60*clamp(1-f1/0.8, 0, 1) + 16*(sm(layDeckLWP, 0.4)-0.5)
+		lwp = clamp(lwp, 72, 146)
+		re = 12.8 + 1.0*(2*sm(layDeckRe, 0.5)-1) + 0.4*(2*w(layDeckRe)-1)
+		re = clamp(re, 11.5, 14.2)
 		cf = 0.92 + 0.08*w(layCF)
-		stdRel = 0.12 + 0.1*w(layStd)
+		stdRel = 0.28 + 0.1*w(layStd)
 		if reg == RegionPollutedLine {
-			lwp = clamp(lwp+4, 58, 126)
+			lwp = clamp(lwp+4, 72, 150)
 			re = 7.4 + 0.5*(2*w(layLine)-1)
 			cf = 0.97 + 0.03*w(layCF)
 		}

@@ -93,11 +93,11 @@ func TestScenarioStructure(t *testing.T) {
 		got    float64
 		lo, hi float64
 	}{
-		{"deck LWP min", deck.lwpMin, 55, 125},
-		{"deck LWP max", deck.lwpMax, 55, 125},
-		{"deck r_e min", deck.reMin, 9, 12},
-		{"deck r_e max", deck.reMax, 9, 12},
-		{"deck mean N_d (derived)", deck.mean(deck.nd), 100, 200},
+		{"deck LWP min", deck.lwpMin, 70, 150},
+		{"deck LWP max", deck.lwpMax, 70, 150},
+		{"deck r_e min", deck.reMin, 11.5, 14.2},
+		{"deck r_e max", deck.reMax, 11.5, 14.2},
+		{"deck mean N_d (derived)", deck.mean(deck.nd), 70, 130},
 		{"pocket r_e min", pocket.reMin, 15, 22},
 		{"pocket r_e max", pocket.reMax, 15, 22},
 		{"pocket mean N_d (derived)", pocket.mean(pocket.nd), 20, 40},

@@ -8,6 +8,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/warmrain/warmrain/bench/synth"
 	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/microphys"
 	"github.com/warmrain/warmrain/samples"
@@ -15,33 +16,49 @@ import (
 
 // Benchmarks of the slab pipeline end to end: one input file, read through grid,
 // computed by Model.Column on every column, written with deflate 1 + shuffle and
-// committed, exactly as `warmrain process` does for each file. The input is the
-// demo scenario of package samples on a finer grid (benchmark data, invented), so
-// it has every role (packed LWP, r_e, tau, CTT, CTP, CTH, cloud fraction, LWP
-// standard deviation) and a realistic share of screened columns. The model (and its
-// collector table) is built once outside the timer, so these measure the per-file
-// steady state; bench/run.sh measures the whole command side by side with nccopy and
-// an xarray script. Besides ns/op they report ns/column and columns/s.
+// committed, exactly as `warmrain process` does for each file (processJob.one). The
+// model (and its collector table) is built once outside the timer, so these measure
+// the per-file steady state; bench/run.sh measures the whole command side by side
+// with nccopy and an xarray script. Besides ns/op they report ns/column and columns/s.
+//
+// Inputs (benchmark data, invented, written into b.TempDir()):
+//   - the input of bench/run.sh (package bench/synth): 1000 × 1000 columns of float32
+//     LWP, its standard deviation, r_e, CTT and CTP, deflate 1 + shuffle, chunks 1000²;
+//   - for BenchmarkPipelineAllCTH, the demo scenario of package samples on a 500 × 500
+//     grid, which also has cloud-top height (CTH), optical thickness and cloud fraction.
 
-const benchSide = 500 // columns along each side of the benchmark input (one day)
+const (
+	benchSide        = 1000 // columns along each side of the synth input
+	benchSamplesSide = 500  // the same for the samples scenario
+)
 
-// benchInput writes the benchmark input into dir and returns its path.
-func benchInput(b *testing.B, dir string) string {
+// synthInput writes the bench/run.sh input into dir and returns its path.
+func synthInput(b *testing.B, dir string) string {
+	b.Helper()
+	path := filepath.Join(dir, "bench_in.nc")
+	if err := synth.Write(path, synth.Config{N: benchSide, Variant: "deflate"}); err != nil {
+		b.Fatal(err)
+	}
+	return path
+}
+
+// samplesInput writes the samples scenario on a benchSamplesSide² grid into dir.
+func samplesInput(b *testing.B, dir string) string {
 	b.Helper()
 	cfg := samples.DefaultConfig()
-	cfg.NLat, cfg.NLon, cfg.NTime = benchSide, benchSide, 1
-	cfg.Res = 10.0 / benchSide // the scenario's 10° box
+	cfg.NLat, cfg.NLon, cfg.NTime = benchSamplesSide, benchSamplesSide, 1
+	cfg.Res = 10.0 / benchSamplesSide // the scenario's 10° box
 	cfg.Deflate = 1
-	path := filepath.Join(dir, "bench_in.nc")
+	path := filepath.Join(dir, "bench_samples.nc")
 	if err := samples.Generate(path, cfg); err != nil {
 		b.Fatal(err)
 	}
 	return path
 }
 
-func benchPipeline(b *testing.B, p microphys.Params, ioOnly bool) {
+func benchPipeline(b *testing.B, p microphys.Params, ioOnly bool, mkInput func(*testing.B, string) string) {
 	dir := b.TempDir()
-	input := benchInput(b, dir)
+	input := mkInput(b, dir)
 	m, err := microphys.NewModel(p)
 	if err != nil {
 		b.Fatal(err)
@@ -76,15 +93,25 @@ func benchPipeline(b *testing.B, p microphys.Params, ioOnly bool) {
 }
 
 // BenchmarkPipelineAll is one file with every diagnostic (collector and evaporation table).
-func BenchmarkPipelineAll(b *testing.B) { benchPipeline(b, microphys.DefaultParams(), false) }
+func BenchmarkPipelineAll(b *testing.B) {
+	benchPipeline(b, microphys.DefaultParams(), false, synthInput)
+}
 
 // BenchmarkPipelineBulk is one file with the collector and evaporation off (--no-collector).
 func BenchmarkPipelineBulk(b *testing.B) {
 	p := microphys.DefaultParams()
 	p.EnableCollector, p.EnableEvaporation = false, false
-	benchPipeline(b, p, false)
+	benchPipeline(b, p, false, synthInput)
 }
 
 // BenchmarkPipelineIOOnly reads the inputs and writes every output variable with the
 // same compression, the physics skipped (--io-only): the floor of the two above.
-func BenchmarkPipelineIOOnly(b *testing.B) { benchPipeline(b, microphys.DefaultParams(), true) }
+func BenchmarkPipelineIOOnly(b *testing.B) {
+	benchPipeline(b, microphys.DefaultParams(), true, synthInput)
+}
+
+// BenchmarkPipelineAllCTH is every diagnostic on an input with cloud-top height
+// (the samples scenario): the cloud-base height then comes from CTH.
+func BenchmarkPipelineAllCTH(b *testing.B) {
+	benchPipeline(b, microphys.DefaultParams(), false, samplesInput)
+}

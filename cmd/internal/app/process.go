@@ -148,8 +148,10 @@ func runProcess(e *env, args []string) error {
 		}
 	} else {
 		dir := filepath.Dir(o.output)
-		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+		if st, err := os.Stat(dir); err != nil {
 			return fmt.Errorf("output folder %s of %s does not exist", dir, o.output)
+		} else if !st.IsDir() {
+			return fmt.Errorf("output folder %s of %s is not a folder (a file has that name)", dir, o.output)
 		}
 		outputs = []string{o.output}
 	}
