@@ -1,0 +1,71 @@
+package microphys
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+var benchSink Outputs
+
+// typicalScSample draws n columns within the typical marine-stratocumulus ranges of
+// [Wood2012] (from memory, physics notes §6.4): LWP 40-200 g m-2, r_e 9-15 µm, T_top
+// 280-290 K, p_top 850-950 hPa, with an LWP standard deviation of 40 % (gamma shape 6.25).
+// Invented data for benchmarks.
+func typicalScSample(n int, seed uint64) []Inputs {
+	in := marineScSample(n, seed, false)
+	rng := rand.New(rand.NewPCG(seed, 9))
+	for i := range in {
+		in[i].LWP = 0.04 * math.Exp(rng.Float64()*math.Log(5))
+		in[i].Re = 9e-6 + 6e-6*rng.Float64()
+		in[i].CTT = 280 + 10*rng.Float64()
+		in[i].CTP = 85000 + 10000*rng.Float64()
+		in[i].LWPStd = 0.4 * in[i].LWP
+	}
+	return in
+}
+
+func benchColumns(b *testing.B, p Params, in []Inputs) {
+	m, err := NewModel(p)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	var out Outputs
+	for i := 0; i < b.N; i++ {
+		m.Column(&in[i&4095], &out)
+	}
+	benchSink = out
+}
+
+// BenchmarkColumnAll is Column with every diagnostic on (collector and evaporation
+// tables) over typical marine-stratocumulus columns.
+func BenchmarkColumnAll(b *testing.B) { benchColumns(b, DefaultParams(), typicalScSample(4096, 11)) }
+
+// BenchmarkColumnAllWide is BenchmarkColumnAll over the widened sample of the table test
+// (more low cloud bases, so more columns integrated directly near the evaporation boundary).
+func BenchmarkColumnAllWide(b *testing.B) {
+	in := marineScSample(4096, 11, false)
+	for i := range in {
+		in[i].LWPStd = 0.4 * in[i].LWP
+	}
+	benchColumns(b, DefaultParams(), in)
+}
+
+// BenchmarkColumnBulk is Column with the collector and evaporation off.
+func BenchmarkColumnBulk(b *testing.B) {
+	p := DefaultParams()
+	p.EnableCollector, p.EnableEvaporation = false, false
+	benchColumns(b, p, typicalScSample(4096, 11))
+}
+
+// BenchmarkNewModel is the table build of NewModel with DefaultParams (about 57000 direct
+// integrations on all cores).
+func BenchmarkNewModel(b *testing.B) {
+	for i := 0; i < b.N; i++ {
+		if _, err := NewModel(DefaultParams()); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
