@@ -55,7 +55,7 @@ var lwpNames = []string{
 }
 
 // RoleRules is the rule table, in role order. Sources: CF standard name table
-// v83 (see /work/shared/reference/cf.md §1); the common names are common practice.
+// v83 (canonical units as listed there); the common names are common practice.
 var RoleRules = [NumRoles]RoleRule{
 	{RoleLWP, "liquid water path", true, lwpNames, "kg m-2",
 		[]string{"lwp", "clwp", "liquid_water_path", "cloud_liquid_water_path", "lwp_liquid", "cwp_liquid", "LWP_liquid"}},

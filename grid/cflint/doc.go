@@ -8,8 +8,8 @@
 // project targets; LoadTable reads its XML, gzipped or not), and units
 // through a Units implementation (by default grid's UDUNITS-2 wrapper).
 //
-// The lint is not a full CF checker: it covers the rules listed in
-// /work/shared/reference/cf.md §5 (standard names and canonical units,
-// attribute types, flag counts, referenced variables, bounds shapes, units
-// strings, time units, Conventions and history).
+// The lint is not a full CF checker: it covers the rules in the table Rules
+// (standard names and canonical units, attribute types, flag counts,
+// referenced variables, bounds shapes, units strings, time units,
+// Conventions and history), each with the CF section it comes from.
 package cflint
