@@ -212,7 +212,7 @@ func runProcess(e *env, args []string) error {
 			if ctx.Err() != nil {
 				break
 			}
-			r := job.one(ctx, inputs[i], outputs[i], len(mine) == 1)
+			r := job.one(ctx, inputs[i], outputs[i], true)
 			recs = append(recs, r)
 			job.report(r)
 			if err := man.Add(r); err != nil {
@@ -332,7 +332,7 @@ func (j *processJob) complete(out string, id batch.Identity) (complete, ours boo
 }
 
 // one processes one input into one output and returns its manifest record.
-func (j *processJob) one(ctx context.Context, input, output string, only bool) batch.Record {
+func (j *processJob) one(ctx context.Context, input, output string, progress bool) batch.Record {
 	t0 := time.Now()
 	rec := batch.Record{Input: input, Output: output, Shard: j.shardName}
 	finish := func(status string, err error) batch.Record {
@@ -398,7 +398,7 @@ func (j *processJob) one(ctx context.Context, input, output string, only bool) b
 	}
 	var screened atomic.Int64
 	popt := grid.ProcessOptions{Workers: j.workers(), SkipCompute: j.o.ioOnly, Cancel: ctx.Done()}
-	if only && isTerminal(j.e.stderr) && !j.o.noProgess && !j.o.quiet {
+	if progress && isTerminal(j.e.stderr) && !j.o.noProgess {
 		popt.Progress = progressLine(j.e.stderr, input, t0)
 	}
 	err = grid.Process(in, out, popt, j.compute(&screened))
@@ -553,9 +553,6 @@ func (j *processJob) runChildren(ctx context.Context, inputs, outputs []string, 
 	for k := 0; k < n; k++ {
 		args := append([]string{"process"}, j.args...)
 		args = append(args, "--child-slot", fmt.Sprintf("%d/%d", k, n), "--threads", strconv.Itoa(j.workers()))
-		if j.shardName != "" && j.o.shard == "" {
-			// the Slurm shard is in the environment and is inherited
-		}
 		cmd := exec.Command(exe, args...)
 		cmd.Stderr = j.e.stderr
 		cmd.Env = append(os.Environ(), "WARMRAIN_CHILD=1")
