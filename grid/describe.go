@@ -159,7 +159,7 @@ func openError(path string, err error) error {
 		case ne.code == -101 || ne.code == -128: // NC_EHDFERR, NC_ENOFILTER..., HDF5 without netCDF metadata
 			return &VarError{File: path, Problem: "cannot be read as netCDF (" + ne.msg + "); the file may be truncated or an HDF5 file without netCDF metadata", Err: ErrNotNetCDF}
 		}
-		return &VarError{File: path, Problem: "cannot open: " + ne.msg, Err: ErrNotNetCDF}
+		return &VarError{File: path, Problem: "cannot open: " + ne.msg + "; expected a readable netCDF-3, netCDF-4/HDF5 file or an NCZarr store (the header may be corrupt)", Err: ErrNotNetCDF}
 	}
 	return fmt.Errorf("%s: %w", path, err)
 }

@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"syscall"
 	"time"
 	"unsafe"
 )
@@ -170,10 +171,36 @@ func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output
 		err = e
 	}
 	if err != nil {
+		var ve *VarError
+		if errors.As(err, &ve) {
+			err = noSpace(ve, dir) // also for copy errors, which name the input
+		}
 		o.Abort()
 		return nil, err
 	}
 	return o, nil
+}
+
+// diskFullMargin: a failed write with less free space than this in the output's
+// file system is reported as a full disk (libnetcdf and HDF5 report ENOSPC only
+// as "HDF error"; one slab write of one variable is at most a few 4 MiB chunks).
+const diskFullMargin = 16 << 20
+
+// noSpace adds "no space left on device" (and wraps syscall.ENOSPC) to a write
+// error of an output in folder dir when that file system is (nearly) full. Call
+// it before Abort, while the temporary file still holds its space.
+func noSpace(e *VarError, dir string) error {
+	var st syscall.Statfs_t
+	if syscall.Statfs(dir, &st) != nil {
+		return e
+	}
+	free := uint64(st.Bavail) * uint64(st.Bsize)
+	if free >= diskFullMargin {
+		return e
+	}
+	e.Problem += fmt.Sprintf("; no space left on device: the file system of %s has %d bytes free; expected room for the whole output", dir, free)
+	e.Err = errors.Join(e.Err, syscall.ENOSPC)
+	return e
 }
 
 func checkNotInput(path string, in *Input) error {
@@ -671,7 +698,7 @@ func encodeInt[T int8 | int16 | int32](v *OutputVar, d []T, src []float64, lo, h
 func (o *Output) writeIO(start, count []uint64, raw [][]uint64, index int) error {
 	for k := range o.vars {
 		if err := ncPutVara(o.ncid, o.varIDs[k], start, count, unsafe.Pointer(&raw[k][0])); err != nil {
-			return &VarError{File: o.Path, Var: o.vars[k].Name, Problem: fmt.Sprintf("write of slab %d failed: %v", index, err), Err: err}
+			return noSpace(&VarError{File: o.Path, Var: o.vars[k].Name, Problem: fmt.Sprintf("write of slab %d failed: %v", index, err), Err: err}, filepath.Dir(o.Path))
 		}
 	}
 	return nil
@@ -690,8 +717,9 @@ func (o *Output) Commit() error {
 		o.open = false
 	}
 	if err != nil {
+		e := noSpace(&VarError{File: o.Path, Problem: "closing the output failed (disk full?): " + err.Error(), Err: err}, filepath.Dir(o.Path))
 		o.Abort()
-		return &VarError{File: o.Path, Problem: "closing the output failed (disk full?): " + err.Error(), Err: err}
+		return e
 	}
 	if f, e := os.Open(o.Tmp); e == nil {
 		err = f.Sync()
@@ -732,6 +760,11 @@ func (o *Output) Abort() error {
 		})
 		o.open = false
 	}
+	// When a write failed (a full disk), libnetcdf/HDF5 cannot close the file and
+	// keep its descriptor open: removing the name alone would not give the space
+	// back until the process exits, and the next outputs of a batch would fail too.
+	// Emptying our own temporary file first frees it.
+	_ = os.Truncate(o.Tmp, 0)
 	if err := os.Remove(o.Tmp); err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}

@@ -226,7 +226,7 @@ func (in *Input) readIO(s *inBuf) error {
 			continue
 		}
 		if err := ncGetVara(in.ncid, b.varID, s.start, s.count, unsafe.Pointer(&s.raw[i][0])); err != nil {
-			return varErr(err, in.Path, b.Var, "read of rows %d-%d (slab %d) failed: %v", s.y0, s.y0+s.ny-1, s.slab.Index, err)
+			return varErr(err, in.Path, b.Var, "read of rows %d-%d (slab %d) failed: %v; expected readable data (the file may be damaged or truncated)", s.y0, s.y0+s.ny-1, s.slab.Index, err)
 		}
 	}
 	return nil

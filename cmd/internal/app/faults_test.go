@@ -122,14 +122,17 @@ func tmpFiles(t *testing.T, dir string) []string {
 	return out
 }
 
-// waitWriting waits until a temporary output appears in dir (the process is
-// writing) and returns when it did; ok is false if the process ended first.
-func waitWriting(t *testing.T, s *started, dir string) (time.Time, bool) {
+// waitWriting waits until a new entry appears in dir (a temporary output, or
+// the output itself if it were written in place: the process is writing) and
+// returns; ok is false if the process ended first.
+func waitWriting(t *testing.T, s *started, dir string, before []string) (time.Time, bool) {
 	t.Helper()
 	deadline := time.Now().Add(2 * time.Minute)
 	for time.Now().Before(deadline) {
-		if len(tmpFiles(t, dir)) > 0 {
-			return time.Now(), true
+		for _, n := range dirNames(t, dir) {
+			if !slices.Contains(before, n) {
+				return time.Now(), true
+			}
 		}
 		select {
 		case <-s.done:
@@ -137,14 +140,15 @@ func waitWriting(t *testing.T, s *started, dir string) (time.Time, bool) {
 		case <-time.After(2 * time.Millisecond):
 		}
 	}
-	t.Fatalf("no temporary output in %s after two minutes; stderr:\n%s", dir, s.stderr)
+	t.Fatalf("nothing written in %s after two minutes; stderr:\n%s", dir, s.stderr)
 	return time.Time{}, false
 }
 
 // dataDigest is the SHA-256 of every variable's decoded values (NaN as one bit
 // pattern), of the variables' attributes, and of the global attributes except
-// history and date_created: what must not change between equivalent runs.
-func dataDigest(t *testing.T, path string) map[string]string {
+// history, date_created and those in ignore: what must not change between
+// equivalent runs.
+func dataDigest(t *testing.T, path string, ignore ...string) map[string]string {
 	t.Helper()
 	fi, err := grid.Describe(path)
 	if err != nil {
@@ -175,7 +179,7 @@ func dataDigest(t *testing.T, path string) map[string]string {
 	}
 	g := sha256.New()
 	for _, a := range fi.Globals {
-		if a.Name == "history" || a.Name == "date_created" {
+		if a.Name == "history" || a.Name == "date_created" || slices.Contains(ignore, a.Name) {
 			continue
 		}
 		fmt.Fprintf(g, "%s=%s\n", a.Name, a)
@@ -255,17 +259,19 @@ func TestFaults(t *testing.T) {
 	}
 	ref := filepath.Join(refDir, "ref.nc")
 	s := start(t, exe, args(ref)...)
-	t0, _ := waitWriting(t, s, refDir)
+	t0, _ := waitWriting(t, s, refDir, nil)
 	if code := s.wait(t); code != 0 {
 		t.Fatalf("reference run: exit %d\n%s", code, s.stderr)
 	}
 	writing := time.Since(t0)
 	t.Logf("reference run: %v from the temporary file to exit", writing.Round(time.Millisecond))
 	refDigest := dataDigest(t, ref)
+	refOther := dataDigest(t, ref, attrIdentity) // for other input names
 	lintClean(t, ref)
 	inputUnchanged(t)
 
-	// complete checks that out is a whole, valid output equal to the reference.
+	// complete checks that out is a whole, valid output (every variable readable
+	// whole, CF lint clean) equal to the reference.
 	complete := func(t *testing.T, out string) {
 		t.Helper()
 		sameDigest(t, out, dataDigest(t, out), refDigest)
@@ -279,23 +285,38 @@ func TestFaults(t *testing.T) {
 		}
 		const kills = 20
 		rng := rand.New(rand.NewPCG(8, 20261201)) // seeded: the same moments on every run
-		var absent, whole, leftover int
+		var absent, whole, leftover, hit int
 		for i := 0; i < kills; i++ {
 			out := filepath.Join(dir, fmt.Sprintf("k%02d.nc", i))
 			// Delays from 0 to 1.3 times the writing time: most kills land while
 			// the slabs are written, some after the rename.
 			delay := time.Duration(rng.Float64() * 1.3 * float64(writing))
-			s := start(t, exe, args(out)...)
-			if _, ok := waitWriting(t, s, dir); ok {
+			// Every fourth run replaces a complete output (--redo): killed, it must
+			// leave the old file whole.
+			redo := i%4 == 3
+			var more []string
+			if redo {
+				copyBytes(t, ref, out)
+				more = []string{"--redo"}
+			}
+			before := dirNames(t, dir)
+			s := start(t, exe, args(out, more...)...)
+			if _, ok := waitWriting(t, s, dir, before); ok {
 				time.Sleep(delay)
 			}
 			_ = s.cmd.Process.Signal(syscall.SIGKILL)
 			code := s.wait(t)
+			if code == -1 {
+				hit++ // the kill reached a running process
+			}
 			if _, err := os.Stat(out); err == nil {
 				whole++
 				complete(t, out)
 			} else {
 				absent++
+				if redo {
+					t.Errorf("kill %d: the complete output %s replaced with --redo is gone", i, out)
+				}
 			}
 			if strings.Contains(s.stderr.String(), "panic") {
 				t.Errorf("kill %d: panic:\n%s", i, s.stderr)
@@ -306,9 +327,12 @@ func TestFaults(t *testing.T) {
 				os.Remove(filepath.Join(dir, n))
 			}
 			inputUnchanged(t)
-			t.Logf("kill %2d after %4d ms: exit %d, output %v", i, delay.Milliseconds(), code, map[bool]string{true: "complete", false: "absent"}[fileExists(out)])
+			t.Logf("kill %2d after %4d ms (redo %v): exit %d, output %v", i, delay.Milliseconds(), redo, code, map[bool]string{true: "complete", false: "absent"}[fileExists(out)])
 		}
-		t.Logf("%d kills: %d outputs absent, %d complete; %d temporary files left by kill -9", kills, absent, whole, leftover)
+		t.Logf("%d kills: %d hit a running process; %d outputs absent, %d complete; %d temporary files left by kill -9", kills, hit, absent, whole, leftover)
+		if hit < kills/2 {
+			t.Errorf("only %d of %d kills reached a running process: the test did not test the writing", hit, kills)
+		}
 		// A rerun after a kill completes the file.
 		last := filepath.Join(dir, fmt.Sprintf("k%02d.nc", kills-1))
 		if code, _, stderr := runTool(t, exe, args(last)...); code != 0 {
@@ -328,9 +352,9 @@ func TestFaults(t *testing.T) {
 			}
 			out := filepath.Join(dir, "out.nc")
 			rng := rand.New(rand.NewPCG(uint64(sig), 6))
-			delay := time.Duration((0.1 + 0.4*rng.Float64()) * float64(writing))
+			delay := time.Duration((0.05 + 0.25*rng.Float64()) * float64(writing))
 			s := start(t, exe, args(out)...)
-			if _, ok := waitWriting(t, s, dir); !ok {
+			if _, ok := waitWriting(t, s, dir, nil); !ok {
 				t.Fatalf("finished before the signal:\n%s", s.stderr)
 			}
 			time.Sleep(delay)
@@ -342,6 +366,15 @@ func TestFaults(t *testing.T) {
 			}
 			if !strings.Contains(s.stderr.String(), "interrupted") {
 				t.Errorf("stderr does not say interrupted:\n%s", s.stderr)
+			}
+			if n := tmpFiles(t, dir); len(n) != 0 {
+				t.Errorf("temporary files left after %v: %v", sig, n)
+			}
+			if fileExists(out) {
+				// The signal came after the rename: the output must be whole.
+				t.Logf("%v came after the output was complete", sig)
+				complete(t, out)
+				return
 			}
 			if names := dirNames(t, dir); len(names) != 0 {
 				t.Errorf("left %v after %v; want nothing", names, sig)
@@ -373,7 +406,7 @@ func TestFaults(t *testing.T) {
 		}
 		batch := append(append([]string{"process"}, ins...), "-o", outDir+"/", "--jobs", "2", "--no-collector", "-q")
 		s := start(t, exe, batch...)
-		if _, ok := waitWriting(t, s, outDir); !ok {
+		if _, ok := waitWriting(t, s, outDir, []string{"warmrain-manifest.jsonl"}); !ok {
 			t.Fatalf("finished before the signal:\n%s", s.stderr)
 		}
 		time.Sleep(writing / 4)
@@ -403,7 +436,9 @@ func TestFaults(t *testing.T) {
 			t.Fatalf("rerun: exit %d\n%s", code, stderr)
 		}
 		for _, n := range []string{"a_warmrain.nc", "b_warmrain.nc"} {
-			complete(t, filepath.Join(outDir, n))
+			p := filepath.Join(outDir, n)
+			sameDigest(t, p, dataDigest(t, p, attrIdentity), refOther)
+			lintClean(t, p)
 		}
 		if n := tmpFiles(t, outDir); len(n) != 0 {
 			t.Errorf("temporary files after the rerun: %v", n)
@@ -415,29 +450,87 @@ func TestFaults(t *testing.T) {
 		if err := os.Mkdir(dir, 0o755); err != nil {
 			t.Fatal(err)
 		}
-		// 2 MiB: the output (about 33 MB) cannot fit.
+		// 2 MiB: the big output (about 33 MB) cannot fit, the sample's (0.9 MB) can.
 		mountOrSkip(t, "tmpfs", "tmpfs", dir, "-o", "size=2m")
-		for _, mode := range [][]string{nil, {"--augment"}} {
-			out := filepath.Join(dir, "out.nc")
-			code, stdout, stderr := runCmd(args(out, mode...)...)
-			t.Logf("full disk %v: exit %d: %s", mode, code, strings.TrimSpace(stderr))
-			if code != ExitFailure || stdout != "" || hasPanic(stderr) {
-				t.Errorf("exit %d, stdout %q; want exit %d, no panic", code, stdout, ExitFailure)
+		inDir := filepath.Join(work, "full_in")
+		if err := os.Mkdir(inDir, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		var ins []string
+		for _, n := range []string{"a.nc", "b.nc"} {
+			p := filepath.Join(inDir, n)
+			if err := os.Link(in, p); err != nil {
+				t.Fatal(err)
 			}
-			for _, w := range []string{out, "no space left on device", dir} {
-				if !strings.Contains(stderr, w) {
-					t.Errorf("stderr does not contain %q:\n%s", w, stderr)
+			ins = append(ins, p)
+		}
+		small := filepath.Join(inDir, "c_small.nc")
+		b, err := os.ReadFile(sampleFile)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(small, b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		smallSum := fileSHA256(t, small)
+		ins = append(ins, small)
+		// The built command (a child process: libnetcdf keeps the descriptor of a
+		// file it failed to close, which would keep the mount busy in this one).
+		batch := append(append([]string{"process"}, ins...), "-o", dir+"/", "--no-collector",
+			"--manifest", filepath.Join(work, "full.jsonl"))
+		code, stdout, stderr := runTool(t, exe, batch...)
+		t.Logf("full disk: exit %d:\n%s", code, strings.TrimSpace(stderr))
+		if code != ExitFailure || stdout != "" || hasPanic(stderr) {
+			t.Errorf("exit %d, stdout %q; want exit %d, no panic", code, stdout, ExitFailure)
+		}
+		for _, n := range []string{"a_warmrain.nc", "b_warmrain.nc"} {
+			out := filepath.Join(dir, n)
+			line := ""
+			for _, l := range strings.Split(stderr, "\n") {
+				if strings.Contains(l, out) {
+					line = l
 				}
 			}
-			if names := dirNames(t, dir); len(names) != 0 {
-				t.Errorf("left %v on the full disk; want nothing", names)
+			if !strings.Contains(line, "no space left on device") || !strings.Contains(line, dir) {
+				t.Errorf("no line names %s with \"no space left on device\" and the folder:\n%s", out, stderr)
 			}
-			inputUnchanged(t)
+			if fileExists(out) {
+				t.Errorf("%s exists after a full disk", out)
+			}
+		}
+		// The space of a failed output is given back: the small file after them fits.
+		got := filepath.Join(dir, "c_small_warmrain.nc")
+		if !fileExists(got) {
+			t.Errorf("the small file after the failed ones was not written (space not freed?)")
+		} else {
+			lintClean(t, got)
+		}
+		if n := tmpFiles(t, dir); len(n) != 0 {
+			t.Errorf("temporary files left on the full disk: %v", n)
+		}
+		if names := dirNames(t, dir); len(names) != 1 {
+			t.Errorf("full disk holds %v; want only the small output", names)
+		}
+		inputUnchanged(t)
+		if fileSHA256(t, small) != smallSum {
+			t.Errorf("input %s changed", small)
 		}
 	})
 }
 
 func fileExists(p string) bool { _, err := os.Stat(p); return err == nil }
+
+// copyBytes copies a file's bytes.
+func copyBytes(t *testing.T, src, dst string) {
+	t.Helper()
+	b, err := os.ReadFile(src)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(dst, b, 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
 
 // manifest reads a JSON-lines manifest (absent: no records).
 func manifest(t *testing.T, path string) []map[string]any {

@@ -147,6 +147,16 @@ func badInputCases() []badInput {
 			return truncatedCopy(t, ncgenBad(t, "good", "classic", t.TempDir()), dir, "cut3.nc", -24)
 		}, want: []string{"truncated", "expected"},
 			bug: "libnetcdf reads past the end of a truncated classic file as zeros: exit 0, the cut columns flagged input_invalid; grid.Open should compare the file size with the size the CDF header describes"},
+		{name: "corrupt compressed data (netCDF-4, 400 bytes flipped)", make: func(t *testing.T, dir string) string {
+			b, err := os.ReadFile(sampleFile)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i := 200000; i < 200400 && i < len(b); i++ {
+				b[i] ^= 0x5a
+			}
+			return writeBytes(t, dir, "flipped.nc", b)
+		}, want: []string{"NetCDF: HDF error", "expected readable data", "damaged"}},
 		{name: "text file, not netCDF", make: func(t *testing.T, dir string) string {
 			return writeBytes(t, dir, "notes.nc", []byte("LWP 120 g m-2, re 12 um\n"))
 		}, want: []string{"not a netCDF file", "expected netCDF-3, netCDF-4/HDF5 or an NCZarr store"}},
