@@ -3,7 +3,8 @@
 # does nothing when everything is present. Needs root (or sudo) to install.
 set -euo pipefail
 pkgs=(libnetcdf-dev netcdf-bin libudunits2-dev udunits-bin pkg-config
-      python3-xarray python3-netcdf4 python3-scipy python3-h5netcdf python3-matplotlib time)
+      python3-xarray python3-netcdf4 python3-scipy python3-h5netcdf python3-h5py python3-matplotlib
+      hdf5-tools time)
 missing=()
 for p in "${pkgs[@]}"; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q 'install ok installed' || missing+=("$p")

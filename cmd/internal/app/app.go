@@ -93,6 +93,9 @@ func exitCode(e *env, sub string, err error) int {
 		fmt.Fprintf(e.stderr, "Run 'warmrain %s --help' for usage.\n", sub)
 		return ExitUsage
 	}
+	if errors.As(err, new(silentFailure)) {
+		return ExitFailure
+	}
 	var fe failedFiles
 	if errors.As(err, &fe) {
 		fmt.Fprintf(e.stderr, "warmrain %s: %v\n", sub, err)
@@ -101,6 +104,11 @@ func exitCode(e *env, sub string, err error) int {
 	fmt.Fprintf(e.stderr, "warmrain %s: %v\n", sub, err)
 	return ExitFailure
 }
+
+// silentFailure is a failure already reported (exit 1, nothing printed).
+type silentFailure struct{}
+
+func (silentFailure) Error() string { return "failed" }
 
 // failedFiles reports that some files of a batch failed (the others were done).
 type failedFiles struct{ failed, total int }

@@ -200,6 +200,7 @@ func runProcess(e *env, args []string) error {
 		}
 		defer man.Close()
 	}
+	job.single = len(mine) == 1
 	if len(mine) == 0 {
 		fmt.Fprintf(e.stderr, "warmrain: shard %s has no files (%d inputs)\n", shardName, len(inputs))
 		return nil
@@ -256,6 +257,7 @@ type processJob struct {
 	args      []string
 	shardName string
 	digest    string
+	single    bool // one file to process: its error is the command's error
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
@@ -296,7 +298,9 @@ func (j *processJob) report(r batch.Record) {
 	case "interrupted":
 		fmt.Fprintf(j.e.stderr, "warmrain: %s: interrupted, no output written\n", r.Input)
 	default:
-		fmt.Fprintf(j.e.stderr, "warmrain: %s: failed: %s\n", r.Input, r.Error)
+		if !j.single { // a single file's error is the command's error, printed once
+			fmt.Fprintf(j.e.stderr, "warmrain: %s: failed: %s\n", r.Input, r.Error)
+		}
 	}
 }
 
@@ -628,7 +632,7 @@ func (j *processJob) runChild(ctx context.Context, inputs, outputs []string, min
 		}
 	}
 	if failed > 0 || ctx.Err() != nil {
-		return failedFiles{failed: failed, total: len(mine)}
+		return silentFailure{} // the parent reports
 	}
 	return nil
 }
