@@ -147,7 +147,7 @@ func checkReadable(path string) error {
 	if st.Size() == 0 {
 		return &VarError{File: path, Problem: "is empty (0 bytes); expected a netCDF file", Err: ErrNotNetCDF}
 	}
-	return nil
+	return checkClassicSize(path, st.Size())
 }
 
 func openError(path string, err error) error {
