@@ -52,3 +52,31 @@ func TestClassicExpectedSize(t *testing.T) {
 		t.Errorf("netCDF-4 taken for classic: ok %v err %v", ok, err)
 	}
 }
+
+// TestStaleTempsRemoved: a temporary file left by a dead process of this
+// host is removed when the same output is created again; one of a live
+// process or of another host is kept.
+func TestStaleTempsRemoved(t *testing.T) {
+	dir := t.TempDir()
+	out := dir + "/o.nc"
+	host := tempHost()
+	dead := dir + "/.o.nc.tmp-" + host + "-999999999-aaaaaa"
+	live := dir + "/.o.nc.tmp-" + host + "-1-bbbbbb" // pid 1 always runs
+	other := dir + "/.o.nc.tmp-otherhost-999999999-cccccc"
+	for _, p := range []string{dead, live, other} {
+		os.WriteFile(p, nil, 0o644)
+	}
+	tmp, err := createTemp(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer os.Remove(tmp)
+	if _, err := os.Stat(dead); !os.IsNotExist(err) {
+		t.Error("stale temporary file of a dead process kept")
+	}
+	for _, p := range []string{live, other} {
+		if _, err := os.Stat(p); err != nil {
+			t.Errorf("%s removed", p)
+		}
+	}
+}

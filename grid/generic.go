@@ -1,8 +1,6 @@
 package grid
 
 import (
-	"crypto/rand"
-	"encoding/hex"
 	"fmt"
 	"math"
 	"os"
@@ -222,14 +220,10 @@ func WriteDataset(path string, ds *Dataset, force bool) error {
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return &VarError{File: path, Problem: fmt.Sprintf("output folder %q does not exist", dir), Err: os.ErrNotExist}
 	}
-	var rb [6]byte
-	rand.Read(rb[:])
-	tmp := filepath.Join(dir, "."+filepath.Base(path)+".tmp-"+hex.EncodeToString(rb[:]))
-	f, err := os.OpenFile(tmp, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	tmp, err := createTemp(path)
 	if err != nil {
-		return &VarError{File: path, Problem: "cannot create a temporary file in the output folder: " + err.Error(), Err: err}
+		return err
 	}
-	f.Close()
 	var werr error
 	if e := onIO(func() { werr = writeDatasetIO(path, tmp, ds) }); e != nil {
 		werr = e

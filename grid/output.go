@@ -1,8 +1,6 @@
 package grid
 
 import (
-	"crypto/rand"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"math"
@@ -149,14 +147,10 @@ func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return nil, &VarError{File: path, Problem: fmt.Sprintf("output folder %q does not exist", dir), Err: os.ErrNotExist}
 	}
-	var rb [6]byte
-	rand.Read(rb[:])
-	tmp := filepath.Join(dir, "."+filepath.Base(path)+".tmp-"+hex.EncodeToString(rb[:]))
-	f, err := os.OpenFile(tmp, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	tmp, err := createTemp(path)
 	if err != nil {
-		return nil, &VarError{File: path, Problem: "cannot create a temporary file in the output folder: " + err.Error(), Err: err}
+		return nil, err
 	}
-	f.Close()
 	o := &Output{Path: path, Tmp: tmp, in: in, vars: vars}
 	o.deflate = opt.Deflate
 	if o.deflate == 0 {
