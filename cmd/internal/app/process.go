@@ -13,6 +13,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"runtime/debug"
 	"strconv"
 	"strings"
 	"sync"
@@ -214,6 +215,7 @@ func runProcess(e *env, args []string) error {
 				break
 			}
 			r := job.one(ctx, inputs[i], outputs[i], true)
+			debug.FreeOSMemory() // the next file starts from the same footprint
 			recs = append(recs, r)
 			job.report(r)
 			if err := man.Add(r); err != nil {
@@ -624,6 +626,7 @@ func (j *processJob) runChild(ctx context.Context, inputs, outputs []string, min
 			break
 		}
 		r := j.one(ctx, inputs[i], outputs[i], false)
+		debug.FreeOSMemory()
 		if r.Status == "failed" || r.Status == "interrupted" {
 			failed++
 		}
