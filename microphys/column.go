@@ -42,11 +42,14 @@ type Model struct {
 	setup CollectorSetup
 	cbrtK float64    // K^(1/3)
 	tab   *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
+	pop   *popTable  // drizzle-probability table (pop.go)
+	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table.
+	lnDryRH float64
 }
 
-// NewModel validates p and, for CollectorMethod table with the collector on, builds the
-// collector/evaporation tables (see table.go; about a second on two cores). It returns
-// the *ParamError of Params.Validate.
+// NewModel validates p, builds the drizzle-probability table (pop.go) and, for
+// CollectorMethod table with the collector on, the collector/evaporation tables (see
+// table.go; about a second on two cores). It returns the *ParamError of Params.Validate.
 //
 // Reference: see Params and table.go.
 // Valid: any Params; invalid ones give an error.
@@ -54,9 +57,10 @@ func NewModel(p Params) (*Model, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
-	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, cbrtK: math.Cbrt(p.K)}
+	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
+	m.pop = newPopTable()
 	if p.EnableCollector && p.CollectorMethod == CollectorTable {
 		m.tab = buildCollTable(m)
 	}
@@ -103,10 +107,14 @@ const (
 //  5. Collector drop (CollectDirect or its table) and its sub-cloud evaporation
 //     (EvaporateDirect or its table; see table.go for when a column is integrated directly,
 //     flagged QCIntegratedDirectly). Cloud base (T_b, p_b) = CloudBase(CTT, CTP, H), H below
-//     the top along the moist adiabat; its height is CTH - H when CTH is present (then the
-//     evaporation is always integrated directly), else DryBaseHeight(T_b, p_b,
-//     Params.SurfacePressure) (flag QCCloudBaseAssumed). A base at or below the surface skips
-//     the evaporation (QCEvaporationSkipped).
+//     the top along the moist adiabat; its height is CTH - H when CTH is present (the table
+//     then takes the surface pressure from the dry adiabat below the base), else
+//     DryBaseHeight(T_b, p_b, Params.SurfacePressure) (flag QCCloudBaseAssumed). A base at
+//     or below the surface skips the evaporation (QCEvaporationSkipped).
+//
+// POP comes from a table of the regularized incomplete gamma function (pop.go; within 1e-4
+// absolute and 1e-4 relative of DrizzleProbability, tested) for 1 <= nu <= 1e4, otherwise
+// from DrizzleProbability itself.
 //
 // Column never allocates and never panics; a screened column has every diagnostic NaN.
 //
@@ -233,7 +241,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	if !math.IsNaN(in.LWPStd) {
 		nu = GammaShapeFromStd(lwp, in.LWPStd)
 	}
-	out.POP = DrizzleProbability(lwp, out.LWPCrit, nu)
+	out.POP = m.pop.prob(lwp, out.LWPCrit, nu)
 
 	if !p.EnableCollector {
 		out.QC = qc
@@ -268,9 +276,12 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc | QCEvaporationSkipped
 		return
 	}
-	// The table assumes the base pressure of the dry adiabat to SurfacePressure (no CTH).
-	if m.tab == nil || !math.IsNaN(cth) || !m.tab.evaporate(res.r, &l, &res) {
-		if m.tab != nil && math.IsNaN(cth) {
+	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default
+	if !math.IsNaN(in.SurfaceRH) {
+		u = math.Log1p(-rhs)
+	}
+	if m.tab == nil || !m.tab.evaporate(res.r, res.lnR, u, &l, m.surfacePressure(cth, &l), &res) {
+		if m.tab != nil {
 			qc |= QCIntegratedDirectly
 		}
 		e := EvaporateDirect(res.r, l)
@@ -295,6 +306,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 // colResult is the collector and evaporation result of one column.
 type colResult struct {
 	r, t     float64 // exit radius (m) and time (s)
+	lnR      float64 // ln r
 	exitBase bool
 	ok       bool
 	evapOK   bool    // sub-cloud layer defined and result finite
@@ -306,6 +318,7 @@ func (m *Model) collectDirect(h, gamma, nd, T, pr float64, res *colResult) {
 	c := CloudColumn{H: h, Gamma: gamma, Nd: nd, Air: NewAir(pr, T)}
 	cp := CollectDirect(c, m.setup)
 	res.r, res.t, res.exitBase = cp.ExitRadius, cp.ExitTime, cp.ExitBase
+	res.lnR = math.Log(cp.ExitRadius)
 	res.ok = cp.ExitRadius > 0 && colFinite(cp.ExitRadius) && cp.ExitTime >= 0 && colFinite(cp.ExitTime)
 }
 
@@ -354,6 +367,18 @@ func DryBaseHeight(tb, pb, ps float64) float64 {
 	}
 	ts := tb * math.Pow(ps/pb, GasConstantDry/SpecificHeatDryAir)
 	return SpecificHeatDryAir * (ts - tb) / Gravity
+}
+
+// surfacePressure returns the surface pressure (Pa) below the layer l: Params.SurfacePressure
+// when cloud base was placed by the dry adiabat (cth NaN), else the dry adiabat from the base
+// state down the base height, p_s = p_b (T_s/T_b)^(c_pd/R_d), T_s = T_b + g z_b/c_pd (the
+// same relations as DryBaseHeight and SubCloudLayer.State).
+func (m *Model) surfacePressure(cth float64, l *SubCloudLayer) float64 {
+	if math.IsNaN(cth) {
+		return m.p.SurfacePressure
+	}
+	_, ps, _ := l.State(0)
+	return ps
 }
 
 // subCloud fills the sub-cloud layer of a column; false when it is undefined.

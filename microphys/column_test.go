@@ -68,11 +68,15 @@ func TestColumnTypical(t *testing.T) {
 		{"Cw", out.Cw, cw}, {"Nd", out.Nd, nd}, {"H", out.H, h}, {"ReTop", out.ReTop, 12e-6},
 		{"Autoconv", out.Autoconv, pcol}, {"Efficiency", out.Efficiency, pcol / 0.12},
 		{"DrizzleRate", out.DrizzleRate, DrizzleRate(0.12, nd, 0.37, 1.75, 1.75)},
-		{"LWPCrit", out.LWPCrit, crit}, {"POP", out.POP, DrizzleProbability(0.12, crit, GammaShapeFromStd(0.12, 0.05))},
+		{"LWPCrit", out.LWPCrit, crit},
 	} {
 		if !scalar.EqualWithinRel(c.got, c.want, 1e-12) {
 			t.Errorf("%s = %.10g, want %.10g", c.name, c.got, c.want)
 		}
+	}
+	// Column takes POP from its table (pop.go), within popTabTol of the exact function.
+	if pop := DrizzleProbability(0.12, crit, GammaShapeFromStd(0.12, 0.05)); !scalar.EqualWithinAbs(out.POP, pop, popTabTol) {
+		t.Errorf("POP = %.10g, want %.10g within %g", out.POP, pop, popTabTol)
 	}
 	// Collector and evaporation against direct integration (table error bound, table.go).
 	var res colResult

@@ -3,6 +3,7 @@ package microphys
 import (
 	"encoding/json"
 	"math"
+	"math/rand/v2"
 	"os"
 	"os/exec"
 	"strings"
@@ -145,6 +146,53 @@ func TestDrizzleProbabilityScipy(t *testing.T) {
 		v := DrizzleProbability(1, x[i]/a[i], a[i])
 		if math.Abs(v-want[i]) > 1e-10 {
 			t.Errorf("POP(nu=%g, x=%g) = %.12g, scipy gammaincc %.12g", a[i], x[i], v, want[i])
+		}
+	}
+}
+
+// TestPopTableAgainstExact checks Column's drizzle-probability table against
+// mathext.GammaIncRegComp (the exact function behind DrizzleProbability) on a dense sweep and
+// a random sample of shapes nu in [1, 1e4] and ratios LWP*/LWP, to popTabTol = 1e-4 absolute
+// (derived: the table is built from the same function, so this bounds the interpolation).
+func TestPopTableAgainstExact(t *testing.T) {
+	t.Parallel()
+	pt := newPopTable()
+	worst, wnu, wr, relWorst := 0.0, 0.0, 0.0, 0.0
+	const popRelFloor, popRelTol = 1e-6, 1e-4 // relative bound on probabilities >= 1e-6 (derived from the ln Q tabulation)
+	check := func(nu, ratio float64) {
+		lwp := 0.1
+		got := pt.prob(lwp, ratio*lwp, nu)
+		want := DrizzleProbability(lwp, ratio*lwp, nu)
+		if e := math.Abs(got - want); e > worst || math.IsNaN(e) {
+			worst, wnu, wr = e, nu, ratio
+		}
+		if want >= popRelFloor {
+			relWorst = math.Max(relWorst, math.Abs(got-want)/want)
+		}
+	}
+	for lnu := 0.0; lnu <= math.Log(popNuMax); lnu += 0.0173 {
+		for lr := -3.0; lr <= 2; lr += 0.00731 {
+			check(math.Exp(lnu), math.Exp(lr))
+		}
+	}
+	rng := rand.New(rand.NewPCG(21, 5))
+	for i := 0; i < 200000; i++ {
+		check(math.Exp(rng.Float64()*math.Log(popNuMax)), math.Exp(-3+5*rng.Float64()))
+	}
+	check(popNuMin, 0)
+	check(popNuMax, 1)
+	t.Logf("largest table error %.3g at nu %.4g, LWP*/LWP %.4g; largest relative error (POP >= %g) %.3g", worst, wnu, wr, popRelFloor, relWorst)
+	if !(relWorst <= popRelTol) {
+		t.Errorf("drizzle-probability table relative error %.3g > %.3g", relWorst, popRelTol)
+	}
+	if !(worst <= popTabTol) {
+		t.Errorf("drizzle-probability table error %.3g > %.3g at nu %.4g, LWP*/LWP %.4g", worst, popTabTol, wnu, wr)
+	}
+	// Outside the table the exact function is used (derived: identical results).
+	for _, c := range [][3]float64{{0.1, 0.05, 0.5}, {0.1, 0.05, 2e4}, {0, 0.05, 4}, {0.1, math.Inf(1), 4}, {math.NaN(), 0.1, 4}} {
+		got, want := pt.prob(c[0], c[1], c[2]), DrizzleProbability(c[0], c[1], c[2])
+		if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Errorf("prob(%v) = %g, want %g", c, got, want)
 		}
 	}
 }

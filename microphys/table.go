@@ -10,36 +10,29 @@ import "math"
 // only through LWP = Gamma H^2/2, the cloud-top mean-volume radius r_v and the air (fall
 // speeds, coalescence). NewModel integrates CollectDirect once at every node of a regular
 // grid in (ln LWP, ln r_v, T_top, p_top) and Column interpolates ln R_exit and ln(t_exit/H):
-// Catmull-Rom cubic along ln LWP and ln r_v, linear along T and p (a residual air effect of
-// < 0.05 % over the whole range). Where the stencil's nodes disagree on whether the drop left
+// Catmull-Rom cubic along ln LWP and ln r_v, linear along T and p with two nodes each (a
+// residual air effect of < 0.05 % over the whole range; a third T node changed the largest
+// errors of TestTableAgainstDirect by < 0.03 %). Where the stencil's nodes disagree on whether the drop left
 // through the base or the top, or a node failed, the column is integrated directly.
 //
 // Evaporation table. Below cloud base T follows the dry adiabat from T_b and RH rises from
-// the surface value to 1 at base (EvaporateDirect). When cloud base is placed by the dry
-// adiabat down to Params.SurfacePressure (no CTH), p_b follows from T_b and the base height
-// z_b, so the result depends on (r0, z_b, T_b, RH_s). NewModel integrates EvaporateDirect on a
-// grid in (ln r0, ln z_b, T_b, RH_s) and Column interpolates linearly (r_surface/r0)^4 where
-// the drop reaches the surface (nearly linear in the remaining fall distance near the end,
-// d(r^4)/dz = 4A/k1 for Stokes drops, derived from physics notes §10) and ln of the fall
-// distance z_b - z_evap where it evaporates aloft (about 2 ln r0 + (ln z_b)/2 + const in the
-// linear humidity profile, derived).
-//
-// Near the reach/evaporate boundary the surface radius is ill-conditioned (r_s ∝
-// distance^(1/4), so d r_s/d r0 = (r0/r_s)^3). Cells whose nodes disagree straddle it; there
-// the total fall distance to evaporation, continued below the surface in the surface air
-// (EvaporateConstant) where the drop reaches it, is smooth across the boundary and is
-// interpolated instead: a clear evaporation aloft (total distance < e^-0.5 = 61 % of the
-// base height, i.e. above 39 % of it, bases above 50 m) is taken from it. The other straddling columns, cells of bases below
-// 200 m where the drop keeps less than 0.4^(1/4) = 80 % of its radius at some node, and
-// columns with a CTH (base pressure independent of the surface pressure) are integrated
-// directly.
+// the surface value to 1 at base (EvaporateDirect), so the result depends on the exit radius
+// r0 and the layer (z_b, T_b, RH_s, p_s): base height, base temperature, surface humidity
+// and surface pressure (the base pressure follows from them along the dry adiabat). p_s is
+// Params.SurfacePressure when cloud base is placed by the dry adiabat (no CTH), and the dry
+// adiabat from the base state down to the surface when a CTH places the base; both use the
+// same tables (see evapTable below). The drop that just evaporates on reaching the surface
+// sets the threshold radius r* of the layer; in xi = ln(r0/r*) the reach/evaporate boundary
+// is the plane xi = 0, so no interpolation cell straddles it and only columns within a
+// narrow band of it are integrated directly.
 //
 // Columns integrated directly (outside a grid or near a boundary) carry
 // QCIntegratedDirectly. The grids below keep the interpolation within 0.5 % of direct
-// integration over a random marine-stratocumulus sample (table_test.go reports the largest
-// errors; the surface-radius error is relative to the exit radius and the evaporation-height
-// error relative to the cloud-base height, because both pass through zero at the boundary).
-// Build cost: about 71000 nodes (36000 collector, 35000 evaporation), see BenchmarkNewModel.
+// integration over random marine-stratocumulus samples with and without CTH (table_test.go
+// reports the largest errors; the surface-radius error is relative to the exit radius and the
+// evaporation-height error relative to the cloud-base height, because both pass through zero
+// at the boundary). Build cost: 24320 collector nodes; 6561 threshold nodes and 864 layers of
+// 21 value nodes (about 25600 evaporation integrations); see BenchmarkNewModel.
 
 // tabGrid is a regular 4-D grid with, per node, tabVals values (float32, to keep the tables
 // small enough for the processor caches: about 0.5 MB for both) and one state byte (0 =
@@ -152,11 +145,10 @@ func (g *tabGrid) stencil(x [tabDims]float64, s *tabStencil) bool {
 	return true
 }
 
-// interp accumulates the weighted values into acc[0:tabVals] and acc[2] = the smallest value
-// 0 over the taps. It returns the state shared by every tap, or 0 when the taps disagree or
-// one failed.
-func (g *tabGrid) interp(s *tabStencil, acc *[3]float64) uint8 {
-	*acc = [3]float64{0, 0, math.Inf(1)}
+// interp accumulates the weighted values into acc[0:tabVals]. It returns the state shared
+// by every tap, or 0 when the taps disagree or one failed.
+func (g *tabGrid) interp(s *tabStencil, acc *[tabVals]float64) uint8 {
+	*acc = [tabVals]float64{}
 	base := 0
 	for d := 0; d < tabDims; d++ {
 		base += s.first[d] * g.stride[d]
@@ -183,33 +175,9 @@ func (g *tabGrid) interp(s *tabStencil, acc *[3]float64) uint8 {
 			p10, p11 := vals[o10*tabVals:o10*tabVals+2], vals[o11*tabVals:o11*tabVals+2]
 			acc[0] += wab * (w00*float64(p00[0]) + w01*float64(p01[0]) + w10*float64(p10[0]) + w11*float64(p11[0]))
 			acc[1] += wab * (w00*float64(p00[1]) + w01*float64(p01[1]) + w10*float64(p10[1]) + w11*float64(p11[1]))
-			acc[2] = min(acc[2], float64(p00[0]), float64(p01[0]), float64(p10[0]), float64(p11[0]))
 		}
 	}
 	return st
-}
-
-// sum returns the weighted sum of value k over the stencil, NaN if any tap is not finite.
-func (g *tabGrid) sum(s *tabStencil, k int) float64 {
-	base := 0
-	for d := 0; d < tabDims; d++ {
-		base += s.first[d] * g.stride[d]
-	}
-	acc := 0.0
-	for a := 0; a < s.nt[0]; a++ {
-		for b := 0; b < s.nt[1]; b++ {
-			for c := 0; c < s.nt[2]; c++ {
-				for e := 0; e < s.nt[3]; e++ {
-					v := float64(g.vals[(base+a*g.stride[0]+b*g.stride[1]+c*g.stride[2]+e*g.stride[3])*tabVals+k])
-					if !colFinite(v) {
-						return math.NaN()
-					}
-					acc += s.w[0][a] * s.w[1][b] * s.w[2][c] * s.w[3][e] * v
-				}
-			}
-		}
-	}
-	return acc
 }
 
 // Grid of the collector table: axes ln LWP (kg m-2), ln r_v (m), T (K), p (Pa).
@@ -219,50 +187,29 @@ var collGrid = struct {
 }{
 	lo: [tabDims]float64{math.Log(5e-3), math.Log(3e-6), 273.15, 60000},
 	hi: [tabDims]float64{math.Log(1), math.Log(30e-6), 305, 105000},
-	n:  [tabDims]int{80, 76, 3, 2},
-}
-
-// Grid of the evaporation table: axes ln r0 (m), ln z_b (m), T_b (K), RH_s (1).
-var evapGrid = struct {
-	lo, hi [tabDims]float64
-	n      [tabDims]int
-}{
-	lo: [tabDims]float64{math.Log(15e-6), 0, 270, 0.5},
-	hi: [tabDims]float64{math.Log(3e-3), math.Log(3000), 306, 1},
-	n:  [tabDims]int{36, 40, 4, 6},
+	n:  [tabDims]int{80, 76, 2, 2},
 }
 
 // Collector table outputs: ln R_exit, ln(t_exit/H), state (1 exit base, 2 exit top, NaN failed).
-// Evaporation table outputs: (r_s/r0)^4 or ln of the fall distance z_b - z_ev, state (1 reached, 2 evaporated, NaN failed).
 const (
-	ctState   = tabVals
-	etState   = tabVals
-	etTotal   = 1 // ln of the total fall distance to evaporation (virtual below the surface)
-	stBase    = 1
-	stTop     = 2
-	stReached = 1
-	stEvap    = 2
-	evMinFall = 1e-3 // m, floor of the tabulated fall distance
-	evMargin  = 0.5  // ln-distance margin of a clear evaporation aloft in a straddling cell
-	evMinBase = 50   // m, lowest cloud base for which straddling cells use the total distance
-	evMinQ    = 0.4  // smallest (r_s/r0)^4 at a cell's nodes for the table's surface radius ...
-	evLowBase = 200  // ... when the cloud base is below this height, m
+	ctState = tabVals
+	stBase  = 1
+	stTop   = 2
 )
 
 type collTable struct {
-	coll, evap *tabGrid
+	coll *tabGrid
+	evap *evapTable // nil when the evaporation is off
 }
 
-// buildCollTable integrates every node of both grids for model m (in parallel).
+// buildCollTable integrates every node of both tables for model m (in parallel).
 func buildCollTable(m *Model) *collTable {
 	t := &collTable{}
 	cg := collGrid
 	t.coll = newTabGrid(cg.lo, cg.hi, cg.n, [tabDims]bool{true, true, false, false})
 	t.coll.fill(m.collNode)
 	if m.p.EnableEvaporation {
-		eg := evapGrid
-		t.evap = newTabGrid(eg.lo, eg.hi, eg.n, [tabDims]bool{false, false, false, false})
-		t.evap.fill(m.evapNode)
+		t.evap = buildEvapTable(m.p.SurfacePressure)
 	}
 	return t
 }
@@ -302,32 +249,6 @@ func dryBasePressure(tb, zb, ps float64) float64 {
 	return ps * math.Pow(tb/ts, SpecificHeatDryAir/GasConstantDry)
 }
 
-// evapNode integrates one evaporation node x = (ln r0, z_b, T_b, RH_s).
-func (m *Model) evapNode(x [tabDims]float64, v []float64) {
-	v[0], v[etState], v[etTotal] = math.NaN(), math.NaN(), math.NaN()
-	r0, zb, tb, rh := math.Exp(x[0]), math.Exp(x[1]), x[2], x[3]
-	ps := m.p.SurfacePressure
-	l := SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: dryBasePressure(tb, zb, ps), SurfaceRH: rh}
-	e := EvaporateDirect(r0, l)
-	switch {
-	case e.Reached && e.SurfaceRadius > 0 && colFinite(e.SurfaceRadius):
-		q := e.SurfaceRadius / r0
-		v[0], v[etState] = q*q*q*q, stReached
-		// Virtual continuation below the surface in the surface air, to make the total
-		// fall distance smooth across the reach/evaporate boundary.
-		v[etTotal] = math.Inf(1)
-		if rh < 1 {
-			c := EvaporateConstant(e.SurfaceRadius, rh, NewAir(ps, tb+Gravity*zb/SpecificHeatDryAir), nil, true, 0)
-			if colFinite(c.Z) {
-				v[etTotal] = math.Log(zb - c.Z)
-			}
-		}
-	case !e.Reached && e.EvapHeight >= 0 && colFinite(e.EvapHeight):
-		d := math.Max(zb-e.EvapHeight, evMinFall)
-		v[0], v[etState], v[etTotal] = math.Log(d), stEvap, math.Log(d)
-	}
-}
-
 // collect interpolates the collector table at (ln LWP, ln r_v, T, p); false when the column is outside it or its
 // stencil straddles a regime change.
 func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool {
@@ -335,48 +256,431 @@ func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool 
 	if !t.coll.stencil([tabDims]float64{lnLWP, lnRv, T, pr}, &s) {
 		return false
 	}
-	var acc [3]float64
+	var acc [tabVals]float64
 	st := t.coll.interp(&s, &acc)
 	if st == 0 {
 		return false
 	}
 	res.ok = true
-	res.r, res.t = math.Exp(acc[0]), h*math.Exp(acc[1])
+	res.lnR, res.r, res.t = acc[0], math.Exp(acc[0]), h*math.Exp(acc[1])
 	res.exitBase = st == stBase
 	return true
 }
 
-// evaporate interpolates the evaporation table; false when outside it or straddling the
-// reach/evaporate boundary.
-func (t *collTable) evaporate(r0 float64, l *SubCloudLayer, res *colResult) bool {
+// nGrid is a regular grid of up to nDims axes with one float32 value per node (NaN for a
+// failed node, so that any failed tap makes the interpolated value NaN), interpolated with
+// 3-point quadratics along the curved axes (field cubic; see axisTaps) and linearly along
+// the others; a linear axis whose point falls on a node uses that node only. When the grid
+// is strict, a point in the first or last cell of a curved axis counts as outside (the
+// grid's ranges are then padded by one cell beyond the range of use). The quadratic needs
+// 3 taps per axis where Catmull-Rom needs 4 (27 instead of 64 for the threshold table) at
+// a similar error, measured in TestEvapThreshold and TestTableAgainstDirect.
+type nGrid struct {
+	dims          int
+	strict        bool
+	lo, step, inv [nDims]float64
+	n, stride     [nDims]int
+	cubic         [nDims]bool // curved axis: quadratic interpolation
+	vals          []float32
+}
+
+const nDims = 5
+
+// newNGrid lays out a grid of len(n) axes from lo to hi with n nodes per axis (n >= 2).
+func newNGrid(lo, hi []float64, n []int, cubic []bool, strict bool) *nGrid {
+	g := &nGrid{dims: len(n), strict: strict}
+	total := 1
+	for d := g.dims - 1; d >= 0; d-- {
+		g.lo[d], g.n[d], g.cubic[d] = lo[d], n[d], cubic[d]
+		g.stride[d] = total
+		total *= n[d]
+		g.step[d] = (hi[d] - lo[d]) / float64(n[d]-1)
+		g.inv[d] = 1 / g.step[d]
+	}
+	g.vals = make([]float32, total)
+	for i := range g.vals {
+		g.vals[i] = float32(math.NaN())
+	}
+	return g
+}
+
+// node returns the coordinates of node index i.
+func (g *nGrid) node(i int) (x [nDims]float64) {
+	for d := 0; d < g.dims; d++ {
+		k := i / g.stride[d]
+		i -= k * g.stride[d]
+		x[d] = g.lo[d] + float64(k)*g.step[d]
+	}
+	return x
+}
+
+// axisTaps locates coordinate xd on axis d: the taps' first node offset, their number (1, 2
+// or 3 consecutive nodes) and weights; nt = 0 when outside. Along a curved axis the taps are
+// the 3-point Lagrange quadratic about the nearest node k (common practice):
+//
+//	t = u - k in [-1/2, 1/2]:  w_-1 = t (t - 1)/2,  w_0 = 1 - t^2,  w_1 = t (t + 1)/2
+//
+// (about the second or last-but-one node in the first and last half-cell, or outside when
+// the grid is strict and the point is in the first or last cell).
+func (g *nGrid) axisTaps(d int, xd float64, w *[4]float64) (off, nt int) {
+	u := (xd - g.lo[d]) * g.inv[d]
+	top := float64(g.n[d] - 1)
+	if !(u >= 0 && u <= top) {
+		return 0, 0
+	}
+	sd := g.stride[d]
+	if g.cubic[d] {
+		if g.strict && !(u >= 1 && u <= top-1) {
+			return 0, 0
+		}
+		k := int(u + 0.5)
+		k = max(1, min(k, g.n[d]-2))
+		t := u - float64(k)
+		w[0], w[1], w[2] = t*(t-1)/2, 1-t*t, t*(t+1)/2
+		return (k - 1) * sd, 3
+	}
+	k := int(u)
+	if k == g.n[d]-1 {
+		k--
+	}
+	t := u - float64(k)
+	if t == 0 {
+		w[0] = 1
+		return k * sd, 1
+	}
+	w[0], w[1] = 1-t, t
+	return k * sd, 2
+}
+
+// at interpolates the grid at x; NaN outside the grid or when a tap failed. The last axis
+// (stride 1) is contracted innermost over consecutive values; the weights and offsets of the
+// other axes are expanded into a list first.
+func (g *nGrid) at(x *[nDims]float64) float64 {
+	var ow [32]float64
+	var oo [32]int
+	ow[0], oo[0] = 1, 0
+	n := 1
+	last := g.dims - 1
+	var w [4]float64
+	for d := 0; d < last; d++ {
+		off, nt := g.axisTaps(d, x[d], &w)
+		if nt == 0 {
+			return math.NaN()
+		}
+		sd := g.stride[d]
+		for i := n - 1; i >= 0; i-- { // expand in place, backwards
+			wi, oi := ow[i], oo[i]+off
+			for j := nt - 1; j >= 0; j-- {
+				ow[i*nt+j], oo[i*nt+j] = wi*w[j], oi+j*sd
+			}
+		}
+		n *= nt
+	}
+	off, nt := g.axisTaps(last, x[last], &w)
+	v := g.vals
+	acc := 0.0
+	switch nt {
+	case 3:
+		for i := 0; i < n; i++ {
+			p := v[oo[i]+off : oo[i]+off+3]
+			acc += ow[i] * (w[0]*float64(p[0]) + w[1]*float64(p[1]) + w[2]*float64(p[2]))
+		}
+	case 2:
+		for i := 0; i < n; i++ {
+			p := v[oo[i]+off : oo[i]+off+2]
+			acc += ow[i] * (w[0]*float64(p[0]) + w[1]*float64(p[1]))
+		}
+	case 1:
+		for i := 0; i < n; i++ {
+			acc += ow[i] * float64(v[oo[i]+off])
+		}
+	default:
+		return math.NaN()
+	}
+	return acc
+}
+
+// Evaporation table.
+//
+// The drop that just reaches the surface with zero radius leaves cloud base with the
+// threshold radius r*(z_b, T_b, RH_s, p_s) of the layer (base height, base temperature,
+// surface humidity and surface pressure; the base pressure follows from them along the dry
+// adiabat). r* is found by integrating the EvaporateDirect system backward in time from
+// r = 0 at the surface up to cloud base (one integration per layer). Measured in
+// xi = ln(r0/r*), a drop reaches the surface when xi > 0 and evaporates aloft when xi < 0,
+// so the boundary is a grid plane and no interpolation cell straddles it. Two tables on
+// (s, ln z_b, T_b, ln(1 - RH_s), p_s), s = |xi|^(1/2), hold
+//
+//	xi > 0:  (ln G)/xi,  G = (r0^4 - r_s^4)/r*^4,  so (r_s/r0)^4 = 1 - exp(xi ((ln G)/xi - 4))
+//	xi < 0:  v = ln(d/z_b)/xi,  d = z_b - z_evap the fall distance, z_evap = z_b (1 - exp(xi v))
+//
+// Both quotients are finite at the boundary and smooth in s (the end of a drop's life is in
+// the Stokes regime, where d(r^4)/dz is finite and has a term in r^2 = (r^4)^(1/2), which
+// makes the dependence on xi analytic in |xi|^(1/2); derived from physics notes §10); the
+// node at s = 0 is their linear extrapolation from the first two nodes. The threshold table
+// holds ln r* on (ln z_b, T_b, ln(1 - RH_s), p_s); ln(1 - RH_s) keeps ln r* nearly linear as
+// RH_s -> 1 (r*^4 ∝ 1 - RH_s for Stokes drops, derived). Within evXiBand of the boundary, and
+// where Q = (r_s/r0)^4 < evMinQ, the column is integrated directly: r_s ∝ (r0 - r*)^(1/4) is
+// ill-conditioned there, an error e in xi moves r_s/r0 by at most e (1 - Q)/Q^(3/4) (derived
+// from the reach formula above), which for the tested threshold-table bound e <= 3e-4
+// (TestEvapThreshold) stays below 0.4 % for Q >= evMinQ = 0.03. The surface-pressure axis
+// spans Params.SurfacePressure ± 10 kPa with a node at Params.SurfacePressure, so columns
+// without a CTH use one plane of it; a CTH whose base state implies a surface pressure
+// outside that span (cloud-top pressure and height inconsistent) is integrated directly.
+type evapTable struct {
+	thr, reach, evap *nGrid
+}
+
+// Axes of the evaporation tables: ln z_b (m), T_b (K), u = ln(1 - RH_s), p_s (Pa, offset from
+// Params.SurfacePressure), and s = |xi|^(1/2) for the value tables. The threshold table is
+// strict (padded by one cell: ranges of use z_b 1-3000 m, T_b 270-306 K, RH_s 0.5-0.99).
+var evapAxes = struct {
+	thrLo, thrHi [4]float64
+	thrN         [4]int
+	valLo, valHi [4]float64
+	valN         [4]int
+	sReach       float64 // largest s of the reach table
+	nReach       int
+	sEvap        float64 // largest s of the evaporation table
+	nEvap        int
+}{
+	thrLo:  [4]float64{-1.0 / 3, 264, math.Log(0.01) - 0.56, -10000},
+	thrHi:  [4]float64{8 + 1.0/3, 312, math.Log(0.5) + 0.56, 10000},
+	thrN:   [4]int{27, 9, 9, 3},
+	valLo:  [4]float64{0, 270, math.Log(0.01), -10000},
+	valHi:  [4]float64{math.Log(3000), 306, math.Log(0.5), 10000},
+	valN:   [4]int{12, 4, 6, 3},
+	sReach: 2.4, nReach: 13,
+	sEvap: 2.25, nEvap: 10,
+}
+
+const (
+	evXiBand  = 2e-3 // half-width in xi of the band integrated directly (> the threshold table error 3e-4)
+	evMinQ    = 0.03 // smallest (r_s/r0)^4 taken from the table (see evapTable)
+	evMinFall = 1e-3 // m, floor of the tabulated fall distance
+)
+
+// buildEvapTable integrates the threshold and both value tables (in parallel), for a
+// surface pressure ps0 (Pa) of the columns without CTH. Axis order (last axis contiguous):
+// threshold (p_s, T_b, u, ln z_b), values (p_s, u, T_b, ln z_b, s).
+func buildEvapTable(ps0 float64) *evapTable {
+	a := evapAxes
+	t := &evapTable{}
+	t.thr = newNGrid([]float64{ps0 + a.thrLo[3], a.thrLo[1], a.thrLo[2], a.thrLo[0]},
+		[]float64{ps0 + a.thrHi[3], a.thrHi[1], a.thrHi[2], a.thrHi[0]},
+		[]int{a.thrN[3], a.thrN[1], a.thrN[2], a.thrN[0]}, []bool{false, true, true, true}, true)
+	vlo := []float64{ps0 + a.valLo[3], a.valLo[2], a.valLo[1], a.valLo[0], 0}
+	vhi := []float64{ps0 + a.valHi[3], a.valHi[2], a.valHi[1], a.valHi[0], a.sReach}
+	cub := []bool{false, false, false, true, true}
+	t.reach = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nReach}, cub, false)
+	vhi[4] = a.sEvap
+	t.evap = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nEvap}, cub, false)
+	// Work items: every node of the threshold table, and every layer (s-line) of the value tables.
+	nThr := len(t.thr.vals)
+	nLay := len(t.reach.vals) / a.nReach
+	parallelFor(nThr+nLay, func(i int) {
+		if i < nThr {
+			x := t.thr.node(i)
+			t.thr.vals[i] = float32(math.Log(evapThreshold(evLayer(x[3], x[1], x[2], x[0]))))
+			return
+		}
+		i -= nThr
+		x := t.reach.node(i * a.nReach) // s = 0
+		l := evLayer(x[3], x[2], x[1], x[0])
+		rs := evapThreshold(l)
+		if !(rs > 0) {
+			return
+		}
+		for _, g := range []*nGrid{t.reach, t.evap} {
+			sign := 1.0
+			if g == t.evap {
+				sign = -1
+			}
+			ns := g.n[4]
+			vals := g.vals[i*ns : (i+1)*ns]
+			for k := 1; k < ns; k++ {
+				s := float64(k) * g.step[4]
+				xi := sign * s * s
+				r0 := rs * math.Exp(xi)
+				if r0 > BeardDMax/2 && k > 2 { // beyond Beard's range: extrapolate (these nodes are taps only)
+					vals[k] = 2*vals[k-1] - vals[k-2]
+					continue
+				}
+				e := evaporateTol(r0, l, evTabRelTol)
+				if sign > 0 {
+					if !e.Reached || !(e.SurfaceRadius >= 0) || !colFinite(e.SurfaceRadius) {
+						continue
+					}
+					q := e.SurfaceRadius / rs
+					if G := math.Exp(4*xi) - q*q*q*q; G > 0 {
+						vals[k] = float32(math.Log(G) / xi)
+					}
+				} else {
+					if e.Reached || !(e.EvapHeight >= 0) || !colFinite(e.EvapHeight) {
+						continue
+					}
+					d := math.Max(l.BaseHeight-e.EvapHeight, evMinFall)
+					vals[k] = float32(math.Log(d/l.BaseHeight) / xi)
+				}
+			}
+			vals[0] = 2*vals[1] - vals[2] // linear extrapolation to s = 0 (derived)
+		}
+	})
+	return t
+}
+
+// parallelFor calls f(i) for i in [0, n) on tabWork goroutines.
+func parallelFor(n int, f func(i int)) {
+	done := make(chan struct{}, tabWork)
+	for w := 0; w < tabWork; w++ {
+		go func(w int) {
+			for i := w; i < n; i += tabWork {
+				f(i)
+			}
+			done <- struct{}{}
+		}(w)
+	}
+	for w := 0; w < tabWork; w++ {
+		<-done
+	}
+}
+
+// Relative tolerances of the integrations at the nodes of the evaporation tables (derived:
+// the integration error in r^2 is then below 1e-5 of the values tabulated, far below the
+// 0.5 % bound of the interpolation; the threshold radius is held tighter because the surface
+// radius near the boundary is sensitive to it).
+const (
+	evTabRelTol = 1e-6
+	evThrRelTol = 1e-7
+)
+
+// evaporateTol is EvaporateDirect with the relative tolerance rtol (same system, events and
+// absolute-tolerance scales).
+func evaporateTol(r0 float64, l SubCloudLayer, rtol float64) EvapPath {
+	bad := EvapPath{SurfaceRadius: math.NaN(), EvapHeight: math.NaN(), Time: math.NaN()}
+	if !(r0 > 0 && r0 <= BeardDMax/2 && l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight &&
+		l.SurfaceRH >= 0 && l.SurfaceRH <= 1 && validT(l.BaseT) && validP(l.BaseP)) {
+		return bad
+	}
+	if Ts, ps, _ := l.State(0); !validT(Ts) || !validP(ps) {
+		return bad
+	}
+	sys := evapSys{l: l, layer: true, ventilate: true}
+	var ev eventSet
+	ev.add(0, 0, -1)
+	ev.add(1, 0, -1)
+	opt := odeOptions{
+		rtol:     rtol,
+		atol:     [2]float64{rtol * evapRadiusScale * evapRadiusScale, rtol * l.BaseHeight},
+		tEnd:     EvapMaxTime,
+		maxSteps: EvapMaxSteps,
+	}
+	res := integrate(sys, [2]float64{r0 * r0, l.BaseHeight}, opt, &ev, nil)
+	switch res.event {
+	case 0:
+		return EvapPath{SurfaceRadius: 0, EvapHeight: res.y[1], Time: res.t}
+	case 1:
+		return EvapPath{SurfaceRadius: math.Sqrt(math.Max(res.y[0], 0)), EvapHeight: math.NaN(), Time: res.t, Reached: true}
+	}
+	return bad
+}
+
+// evLayer is the sub-cloud layer of table coordinates (ln z_b, T_b, ln(1 - RH_s), p_s).
+func evLayer(lz, tb, u, ps float64) SubCloudLayer {
+	zb := math.Exp(lz)
+	return SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: dryBasePressure(tb, zb, ps), SurfaceRH: -math.Expm1(u)}
+}
+
+// reverseEvap is the EvaporateDirect system run backward in time.
+type reverseEvap struct{ e evapSys }
+
+func (s reverseEvap) aux([2]float64) float64 { return 0 }
+
+func (s reverseEvap) deriv(y [2]float64) [2]float64 {
+	d := s.e.deriv(y)
+	return [2]float64{-d[0], -d[1]}
+}
+
+// evapThreshold returns the cloud-base radius (m) of the drop that just evaporates on reaching
+// the surface of layer l: the EvaporateDirect system integrated backward in time from r = 0 at
+// z = 0 up to z = BaseHeight, with the same integrator (relative tolerance evThrRelTol). NaN
+// on failure.
+func evapThreshold(l SubCloudLayer) float64 {
+	if !(l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight && l.SurfaceRH >= 0 && l.SurfaceRH < 1 &&
+		validT(l.BaseT) && validP(l.BaseP)) {
+		return math.NaN()
+	}
+	if Ts, ps, _ := l.State(0); !validT(Ts) || !validP(ps) {
+		return math.NaN()
+	}
+	sys := reverseEvap{evapSys{l: l, layer: true, ventilate: true}}
+	var ev eventSet
+	ev.add(1, l.BaseHeight, 1)
+	opt := odeOptions{
+		rtol:     evThrRelTol,
+		atol:     [2]float64{evThrRelTol * evapRadiusScale * evapRadiusScale, evThrRelTol * l.BaseHeight},
+		tEnd:     EvapMaxTime,
+		maxSteps: EvapMaxSteps,
+	}
+	res := integrate(sys, [2]float64{0, 0}, opt, &ev, nil)
+	if res.event != 0 || !(res.y[0] > 0) {
+		return math.NaN()
+	}
+	return math.Sqrt(res.y[0])
+}
+
+// Results of evapTable.lookup.
+const (
+	evOutside = iota // outside the tables or near the boundary: integrate directly
+	evReached
+	evEvaporated
+)
+
+// lookup interpolates the evaporation of a drop of radius r0 (m, lnR0 = ln r0) leaving the
+// base of layer l above a surface at pressure ps (Pa); u = ln(1 - l.SurfaceRH). It returns evReached with the surface radius, or
+// evEvaporated with the evaporation height, or evOutside.
+func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (kind int, v float64) {
+	zb := l.BaseHeight
+	lz := math.Log(zb)
+	x := [nDims]float64{ps, l.BaseT, u, lz}
+	lrs := t.thr.at(&x)
+	if math.IsNaN(lrs) {
+		return evOutside, 0
+	}
+	xi := lnR0 - lrs
+	x = [nDims]float64{ps, u, l.BaseT, lz, 0}
+	switch {
+	case xi >= evXiBand:
+		x[4] = math.Sqrt(xi)
+		q := -math.Expm1(xi * (t.reach.at(&x) - 4))
+		if !(q >= evMinQ) { // NaN too
+			return evOutside, 0
+		}
+		return evReached, r0 * math.Sqrt(math.Sqrt(math.Min(q, 1)))
+	case xi <= -evXiBand:
+		x[4] = math.Sqrt(-xi)
+		lv := t.evap.at(&x)
+		if math.IsNaN(lv) {
+			return evOutside, 0
+		}
+		return evEvaporated, math.Max(-zb*math.Expm1(xi*lv), 0)
+	}
+	return evOutside, 0
+}
+
+// evaporate interpolates the evaporation table into res for a drop of radius r0 (m, lnR0 =
+// ln r0) leaving the base of layer l above a surface at pressure ps (Pa), u = ln(1 - RH_s);
+// false when the column must be integrated directly.
+func (t *collTable) evaporate(r0, lnR0, u float64, l *SubCloudLayer, ps float64, res *colResult) bool {
 	if t.evap == nil {
 		return false
 	}
-	var s tabStencil
-	if !t.evap.stencil([tabDims]float64{math.Log(r0), math.Log(l.BaseHeight), l.BaseT, l.SurfaceRH}, &s) {
-		return false
-	}
-	var acc [3]float64
-	st := t.evap.interp(&s, &acc)
-	if st == 0 {
-		// Straddling the boundary: decide by the smooth total fall distance; only a clear
-		// evaporation aloft is taken from the table (the surface radius is ill-conditioned
-		// near the boundary, r_s ∝ (distance)^(1/4), so those columns are integrated).
-		lt := t.evap.sum(&s, etTotal)
-		if !(l.BaseHeight >= evMinBase && lt < math.Log(l.BaseHeight)-evMargin) {
-			return false
-		}
-		res.rs, res.zev, res.evapOK = 0, math.Max(l.BaseHeight-math.Exp(lt), 0), true
-		return true
-	}
-	switch st {
-	case stReached:
-		if acc[2] < evMinQ && l.BaseHeight < evLowBase { // near the boundary in a shallow layer: integrate
-			return false
-		}
-		res.rs, res.zev = math.Sqrt(math.Sqrt(math.Max(acc[0], 0)))*r0, math.NaN()
-	case stEvap:
-		res.rs, res.zev = 0, math.Max(l.BaseHeight-math.Exp(acc[0]), 0)
+	kind, v := t.evap.lookup(r0, lnR0, u, l, ps)
+	switch kind {
+	case evReached:
+		res.rs, res.zev = v, math.NaN()
+	case evEvaporated:
+		res.rs, res.zev = 0, v
 	default:
 		return false
 	}

@@ -33,6 +33,25 @@ func marineScSample(n int, seed uint64, withCTH bool) []Inputs {
 	return in
 }
 
+// marineScSampleCTH is marineScSample with a cloud-top height on every column, consistent
+// with the cloud-top pressure: CTH 500-2000 m, surface pressure 990-1035 hPa, and the
+// cloud-top pressure from the hydrostatic equation with a mean layer temperature CTT + Γ
+// CTH/2, Γ = 6.5 K km-1 (common practice: the standard-atmosphere lapse rate), and a surface
+// humidity of 0.6-0.95. Invented data: a test sample, not observations.
+func marineScSampleCTH(n int, seed uint64) []Inputs {
+	in := marineScSample(n, seed, false)
+	rng := rand.New(rand.NewPCG(seed, 13))
+	for i := range in {
+		cth := 500 + 1500*rng.Float64()
+		ps := 99000 + 4500*rng.Float64()
+		tm := in[i].CTT + 0.5*6.5e-3*cth
+		in[i].CTH = cth
+		in[i].CTP = ps * math.Exp(-Gravity*cth/(GasConstantDry*tm))
+		in[i].SurfaceRH = 0.6 + 0.35*rng.Float64()
+	}
+	return in
+}
+
 type tableErrors struct {
 	n, used                   int
 	radius, time, surf, evapZ float64 // end to end: max relative errors (surf / exit radius, evapZ / base height)
@@ -89,7 +108,7 @@ func compareTable(t *testing.T, p Params, in []Inputs) tableErrors {
 		}
 		// The evaporation table alone, from the same (direct) exit radius.
 		var res colResult
-		if !math.IsNaN(in[i].CTH) || !mt.tab.evaporate(od.CollectorRadius, &l, &res) {
+		if !mt.tab.evaporate(od.CollectorRadius, math.Log(od.CollectorRadius), math.Log1p(-l.SurfaceRH), &l, mt.surfacePressure(in[i].CTH, &l), &res) {
 			continue
 		}
 		e.nEvap++
@@ -140,5 +159,109 @@ func TestTableAgainstDirect(t *testing.T) {
 	}
 	if e.classMismatch != 0 {
 		t.Errorf("%d columns reached the surface in one method and evaporated in the other", e.classMismatch)
+	}
+}
+
+// TestTableAgainstDirectCTH is TestTableAgainstDirect for columns that give a cloud-top
+// height (the base pressure then comes from the cloud top, not from Params.SurfacePressure),
+// with the same bounds (derived: the table is built from the same integrators).
+func TestTableAgainstDirectCTH(t *testing.T) {
+	if testing.Short() {
+		t.Skip("direct integration of 6000 columns")
+	}
+	in := marineScSampleCTH(6000, 2)
+	e := compareTable(t, DefaultParams(), in)
+	t.Logf("columns %d (table used for %d): collector table max rel error radius %.3g time %.3g; "+
+		"evaporation table (%d columns, same exit radius) surface radius/exit radius %.3g evap height/base height %.3g; "+
+		"end to end surface radius/exit radius %.3g evap height/base height %.3g; class mismatches %d",
+		e.n, e.used, e.radius, e.time, e.nEvap, e.evSurf, e.evZ, e.surf, e.evapZ, e.classMismatch)
+	if e.n < 5000 || e.used < e.n*9/10 || e.nEvap < e.n/2 {
+		t.Errorf("sample too small or table rarely used: %d columns, %d via table, %d evaporations", e.n, e.used, e.nEvap)
+	}
+	for _, c := range []struct {
+		name string
+		v    float64
+	}{{"collector radius", e.radius}, {"collector time", e.time}, {"evaporation surface radius", e.evSurf},
+		{"evaporation height", e.evZ}, {"end-to-end evaporation height", e.evapZ}} {
+		if c.v > tableTol {
+			t.Errorf("table %s error %.3g > %.3g", c.name, c.v, tableTol)
+		}
+	}
+	if e.surf > 4*tableTol {
+		t.Errorf("end-to-end surface radius error %.3g > %.3g", e.surf, 4*tableTol)
+	}
+	if e.classMismatch != 0 {
+		t.Errorf("%d columns reached the surface in one method and evaporated in the other", e.classMismatch)
+	}
+}
+
+var benchEvapSink float64
+
+// BenchmarkEvapLookup is the evaporation table lookup of one column (threshold and value
+// tables), without and with a CTH (surface pressure off the Params.SurfacePressure plane).
+func BenchmarkEvapLookup(b *testing.B) {
+	m := defaultModel(b)
+	l := SubCloudLayer{BaseHeight: 420, BaseT: 286, BaseP: dryBasePressure(286, 420, 101325), SurfaceRH: 0.8}
+	for _, c := range []struct {
+		name string
+		ps   float64
+	}{{"NoCTH", 101325}, {"CTH", 100100}} {
+		b.Run(c.name, func(b *testing.B) {
+			b.ReportAllocs()
+			s := 0.0
+			for i := 0; i < b.N; i++ {
+				r0 := 60e-6 + float64(i&255)*1e-7
+				_, v := m.tab.evap.lookup(r0, math.Log(r0), math.Log1p(-l.SurfaceRH), &l, c.ps)
+				s += v
+			}
+			benchEvapSink = s
+		})
+	}
+}
+
+// TestEvapThreshold checks the threshold radius of the evaporation table (derived: the drop
+// that leaves cloud base just above r* reaches the surface under EvaporateDirect, the one
+// just below evaporates aloft), and bounds the threshold table's interpolation error in
+// xi = ln r*, on which evXiBand and evMinQ rest (table.go): an error e in xi moves r_s/r0 by
+// at most e (1 - Q)/Q^(3/4) at (r_s/r0)^4 = Q, derived from (r_s/r0)^4 = 1 - exp(xi (g - 4)).
+func TestEvapThreshold(t *testing.T) {
+	t.Parallel()
+	const thrTol = 3e-4 // bound on the threshold table error in ln r*
+	if thrTol >= evXiBand {
+		t.Fatalf("threshold bound %g not inside the direct band %g", thrTol, evXiBand)
+	}
+	if e := thrTol * (1 - evMinQ) / math.Pow(evMinQ, 0.75); e > tableTol {
+		t.Errorf("threshold bound %g allows a surface-radius error %.3g > %g at Q = evMinQ", thrTol, e, tableTol)
+	}
+	et := buildEvapTable(101325)
+	rng := rand.New(rand.NewPCG(17, 3))
+	worst := 0.0
+	for i := 0; i < 1500; i++ {
+		lz := rng.Float64() * math.Log(3000)
+		tb := 270 + 36*rng.Float64()
+		rh := 0.5 + 0.49*rng.Float64()
+		ps := 101325 + (2*rng.Float64()-1)*1e4
+		if i%3 == 0 {
+			ps = 101325
+		}
+		l := evLayer(lz, tb, math.Log1p(-rh), ps)
+		if Ts, _, _ := l.State(0); Ts > 320 { // surface air beyond the physical range of use
+			continue
+		}
+		rs := evapThreshold(l)
+		x := [nDims]float64{ps, tb, math.Log1p(-rh), lz}
+		e := math.Abs(et.thr.at(&x) - math.Log(rs))
+		if !(e <= worst) {
+			worst = e
+		}
+		if i%25 == 0 {
+			if a, b := EvaporateDirect(rs*(1+1e-5), l), EvaporateDirect(rs*(1-1e-5), l); !a.Reached || b.Reached {
+				t.Errorf("layer %+v: r* = %.6g m, r*(1+1e-5) reached %v, r*(1-1e-5) reached %v", l, rs, a.Reached, b.Reached)
+			}
+		}
+	}
+	t.Logf("threshold table: largest error in ln r* %.3g", worst)
+	if !(worst <= thrTol) {
+		t.Errorf("threshold table error %.3g > %g", worst, thrTol)
 	}
 }
