@@ -185,7 +185,11 @@ func (e evapSys) deriv(y [2]float64) [2]float64 {
 // Valid: r0 in (0, 3.5 mm], BaseHeight in (0, 5 km], SurfaceRH in [0, 1], the air at base and
 // at the surface inside [AirTMin, AirTMax] x [AirPMin, AirPMax]; NaN fields otherwise, or
 // when EvapMaxSteps or EvapMaxTime is exceeded.
-func EvaporateDirect(r0 float64, l SubCloudLayer) EvapPath {
+func EvaporateDirect(r0 float64, l SubCloudLayer) EvapPath { return evaporateTol(r0, l, EvapRelTol) }
+
+// evaporateTol is EvaporateDirect with the relative tolerance rtol (the table build uses a
+// looser one; same system, events and absolute-tolerance scales).
+func evaporateTol(r0 float64, l SubCloudLayer, rtol float64) EvapPath {
 	bad := EvapPath{SurfaceRadius: math.NaN(), EvapHeight: math.NaN(), Time: math.NaN()}
 	if !(r0 > 0 && r0 <= BeardDMax/2 && l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight &&
 		l.SurfaceRH >= 0 && l.SurfaceRH <= 1 && validT(l.BaseT) && validP(l.BaseP)) {
@@ -199,8 +203,8 @@ func EvaporateDirect(r0 float64, l SubCloudLayer) EvapPath {
 	ev.add(0, 0, -1)
 	ev.add(1, 0, -1)
 	opt := odeOptions{
-		rtol:     EvapRelTol,
-		atol:     [2]float64{EvapRelTol * evapRadiusScale * evapRadiusScale, EvapRelTol * l.BaseHeight},
+		rtol:     rtol,
+		atol:     [2]float64{rtol * evapRadiusScale * evapRadiusScale, rtol * l.BaseHeight},
 		tEnd:     EvapMaxTime,
 		maxSteps: EvapMaxSteps,
 	}

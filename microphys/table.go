@@ -554,37 +554,6 @@ const (
 	evThrRelTol = 1e-7
 )
 
-// evaporateTol is EvaporateDirect with the relative tolerance rtol (same system, events and
-// absolute-tolerance scales).
-func evaporateTol(r0 float64, l SubCloudLayer, rtol float64) EvapPath {
-	bad := EvapPath{SurfaceRadius: math.NaN(), EvapHeight: math.NaN(), Time: math.NaN()}
-	if !(r0 > 0 && r0 <= BeardDMax/2 && l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight &&
-		l.SurfaceRH >= 0 && l.SurfaceRH <= 1 && validT(l.BaseT) && validP(l.BaseP)) {
-		return bad
-	}
-	if Ts, ps, _ := l.State(0); !validT(Ts) || !validP(ps) {
-		return bad
-	}
-	sys := evapSys{l: l, layer: true, ventilate: true}
-	var ev eventSet
-	ev.add(0, 0, -1)
-	ev.add(1, 0, -1)
-	opt := odeOptions{
-		rtol:     rtol,
-		atol:     [2]float64{rtol * evapRadiusScale * evapRadiusScale, rtol * l.BaseHeight},
-		tEnd:     EvapMaxTime,
-		maxSteps: EvapMaxSteps,
-	}
-	res := integrate(sys, [2]float64{r0 * r0, l.BaseHeight}, opt, &ev, nil)
-	switch res.event {
-	case 0:
-		return EvapPath{SurfaceRadius: 0, EvapHeight: res.y[1], Time: res.t}
-	case 1:
-		return EvapPath{SurfaceRadius: math.Sqrt(math.Max(res.y[0], 0)), EvapHeight: math.NaN(), Time: res.t, Reached: true}
-	}
-	return bad
-}
-
 // evLayer is the sub-cloud layer of table coordinates (ln z_b, T_b, ln(1 - RH_s), p_s).
 func evLayer(lz, tb, u, ps float64) SubCloudLayer {
 	zb := math.Exp(lz)
