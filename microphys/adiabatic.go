@@ -238,7 +238,10 @@ func CriticalLWP(nd, reStar, k, fad, cw float64) float64 {
 type adState struct{ cw, gm, rho float64 }
 
 // adiabaticState computes CondensationRate, MoistLapseRate and the saturated air density
-// with one SatVapourPressure call.
+// with one SatVapourPressure call, in the arithmetic of the exported functions. CloudBase,
+// the collector table's nodes and Column's direct integrations use it: the adaptive
+// integrations respond to a last-bit change of their inputs by up to their tolerance, so
+// they are kept on this exact arithmetic (airStateFast serves the bulk diagnostics).
 func adiabaticState(T, p float64) adState {
 	nan := math.NaN()
 	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
@@ -255,4 +258,40 @@ func adiabaticState(T, p float64) adState {
 		(SpecificHeatDryAir + lv*lv*rs*Epsilon/(GasConstantDry*T*T))
 	rho := AirDensity(p, T, rs)
 	return adState{rho * SpecificHeatDryAir / lv * (gd - gm), gm, rho}
+}
+
+// airStateFast is adiabaticState for Column's bulk diagnostics: CondensationRate,
+// MoistLapseRate and the saturated air density AirDensity(p, T, r_s) with one exponential
+// (colExp) and two divisions after it: the same
+// formulas with SatVapourPressure and LatentHeat written out (T is already inside their
+// envelope here) and brought over common denominators (derived), with w = p - e_s,
+// A = L_v eps e_s/(R_d T), B = L_v eps/T:
+//
+//	r_s = eps e_s/w,  G_m = g (w + A)/(c_pd w + A B),  rho_a = (p - (1 - eps) e_s)/(R_d T)
+//	c_w = rho_a (c_pd/L_v) (g/c_pd - G_m) = rho_a g A (B - c_pd)/(L_v (c_pd w + A B))
+//
+// within adStateTol relative of the exported functions (tested).
+func airStateFast(T, p float64) adState {
+	nan := math.NaN()
+	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
+		return adState{nan, nan, nan}
+	}
+	tc := T - kelvinOffset
+	rt := 1 / (GasConstantDry * T)
+	es := boltonEs[0] * colExp(boltonEs[1]*tc/(tc+boltonEs[2])) // SatVapourPressure
+	if !(es < p) {
+		return adState{nan, nan, nan}
+	}
+	lv := (boltonLv[0] - boltonLv[1]*tc) * boltonLv[2] // LatentHeat
+	w := p - es
+	le := lv * Epsilon
+	a := le * es * rt
+	bb := le * GasConstantDry * rt
+	inv := 1 / (SpecificHeatDryAir*w + a*bb)
+	gm := Gravity * (w + a) * inv
+	if !(Epsilon*es <= maxMixingRatio*w) { // AirDensity's bound r_s <= 0.1: no density, no c_w
+		return adState{nan, gm, nan}
+	}
+	rho := (p - (1-Epsilon)*es) * rt
+	return adState{rho * Gravity * (a / lv) * (bb - SpecificHeatDryAir) * inv, gm, rho}
 }

@@ -48,12 +48,34 @@ func TestCondensationRateTable(t *testing.T) {
 	if !(lo < 1.9e-6*1.03 && hi > 1.9e-6*0.97) {
 		t.Errorf("Brenguier default 1.9e-6 not within c_w(278 K, 900 hPa) = %.4g .. c_w(282 K, 1000 hPa) = %.4g", lo, hi)
 	}
-	// Same state through the shared helper used by Column.
-	st := adiabaticState(283.15, 90000)
-	if st.cw != CondensationRate(283.15, 90000) || st.gm != MoistLapseRate(283.15, 90000) {
-		t.Error("adiabaticState disagrees with CondensationRate/MoistLapseRate")
+	// Same states through the helpers used by Column (derived: the same formulas, in
+	// another arithmetic order for airStateFast, so equal to rounding), over the whole range
+	// and beyond it.
+	for T := 235.0; T <= 315; T += 0.37 {
+		for p := 1.5e4; p <= 1.15e5; p += 1234.5 {
+			st, ex := airStateFast(T, p), adiabaticState(T, p)
+			same := func(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
+			if !same(ex.cw, CondensationRate(T, p)) || !same(ex.gm, MoistLapseRate(T, p)) {
+				t.Fatalf("adiabaticState(%g, %g) disagrees with CondensationRate/MoistLapseRate", T, p)
+			}
+			es := SatVapourPressure(T)
+			rho := AirDensity(p, T, Epsilon*es/(p-es))
+			cw, gm := CondensationRate(T, p), MoistLapseRate(T, p)
+			if math.IsNaN(cw) {
+				rho = math.NaN()
+			}
+			for _, c := range [][2]float64{{st.cw, cw}, {st.gm, gm}, {st.rho, rho}} {
+				if math.IsNaN(c[0]) != math.IsNaN(c[1]) || !math.IsNaN(c[1]) && !scalar.EqualWithinRel(c[0], c[1], adStateTol) {
+					t.Fatalf("airStateFast(%g, %g) = %+v, want c_w %g, G_m %g, rho %g", T, p, st, cw, gm, rho)
+				}
+			}
+		}
 	}
 }
+
+// adStateTol is the relative tolerance of airStateFast against the exported functions
+// (rounding only, derived).
+const adStateTol = 1e-13
 
 func TestCondensationRateBadInput(t *testing.T) {
 	t.Parallel()

@@ -45,6 +45,7 @@ type Model struct {
 	pop   *popTable  // drizzle-probability table (pop.go)
 	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table.
 	lnDryRH float64
+	bulk    bulkConsts // constants of Column's bulk diagnostics (column.go)
 }
 
 // NewModel validates p, builds the drizzle-probability table (pop.go) and, for
@@ -61,6 +62,7 @@ func NewModel(p Params) (*Model, error) {
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
 	m.pop = newPopTable()
+	m.bulk = newBulkConsts(&p, m.pop)
 	if p.EnableCollector && p.CollectorMethod == CollectorTable {
 		m.tab = buildCollTable(m)
 	}
@@ -78,10 +80,259 @@ func colFinite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
 // Constants of the log forms in Column (derived from the formulas they replace).
 var (
-	colLnRvConst = math.Log(three / (four * math.Pi * WaterDensity)) // ln(3/(4 pi rho_w))
-	colLnKK      = math.Log(kk2000Auto[0] / (kk2000Auto[1] + 1))     // ln(1350/3.47)
-	colLnCm3     = math.Log(kk2000Auto[3])                           // ln(cm-3 per m-3)
-	colLnGPerKg  = math.Log(drizzleUnits[0])                         // ln(g per kg)
+	colLnCm3    = math.Log(kk2000Auto[3])   // ln(cm-3 per m-3)
+	colLnGPerKg = math.Log(drizzleUnits[0]) // ln(g per kg)
+)
+
+// bulkConsts holds the per-Model constants of Column's bulk diagnostics: the products of
+// parameters in the exported formulas, folded once so that a column costs one exponential
+// for the air state, one logarithm of N_d, one logarithm and one exponential for KK2000, and
+// one of each for POP (colLog, colExp).
+// Each helper below names the exported function it replaces; column_fast_test.go checks it
+// against that function within bulkTol (derived: the same formula, other rounding).
+type bulkConsts struct {
+	tauLWP  float64 // tau = tauLWP LWP/r_e (TauAdiabatic with Q_ext)
+	ndTau   float64 // N_d = ndTau (c_w tau/r_e^5)^(1/2) (DropletNumber)
+	ndLWP   float64 // N_d = ndLWP (c_w LWP)^(1/2)/r_e^3 (DropletNumber of TauAdiabatic)
+	hCoef   float64 // H = (hCoef LWP/c_w)^(1/2), hCoef = 2/f_ad (Thickness)
+	rvCoef  float64 // r_e,top^3 = rvCoef gamma H/N_d, rvCoef = 3/(4 pi rho_w k)
+	reStar  float64 // r_e* (CriticalLWP)
+	kkLnK   float64 // ln of the KK2000 efficiency's constant (kk2000Efficiency)
+	kkY     float64 // (b - 1)/2: exponent of LWP gamma/rho_a^2 (b of KK2000)
+	kkN     float64 // c: exponent of N_d (c of KK2000)
+	drizA   float64 // DrizzleCoef/(s per day)
+	drizX   float64 // g per kg / cm-3 per m-3: (LWP/N_d) in the units of DrizzleRate
+	drizB   float64 // DrizzleLWPExp
+	drizC   float64 // DrizzleNdExp
+	drizWay int     // drizzleRate's form: drizSevenQuarters, drizSameExp or drizGeneral
+	popSn   float64 // Params.GammaShape^(1/2) (popColumn)
+	popLnNu float64 // ln Params.GammaShape, as popTable.prob forms it
+	popFast bool    // the POP grid has the layout popAt2 assumes
+	defAir  adState // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
+}
+
+// Forms of drizzleRate.
+const (
+	drizGeneral       = iota // exp(b ln LWP - c ln N_d)
+	drizSameExp              // b = c: exp(b ln(LWP/N_d))
+	drizSevenQuarters        // b = c = 7/4 (the default): x^(7/4) = x x^(1/2) x^(1/4)
+)
+
+// drizzleSevenQuarters is the exponent of drizSevenQuarters (the default of Params).
+const drizzleSevenQuarters = 1.75
+
+// newBulkConsts folds the constants of p (valid) for Column.
+func newBulkConsts(p *Params, pt *popTable) bulkConsts {
+	k, q, fad := p.K, p.Qext, p.Fad
+	bkk, ckk := kk2000Auto[1], kk2000Auto[2]
+	c := bulkConsts{
+		tauLWP: q / adQextGeometric / (adLWPTauAdiabatic * WaterDensity),
+		ndTau:  adNdSqrtFive / (2 * math.Pi * k) * math.Sqrt(fad/(q*WaterDensity)),
+		hCoef:  2 / fad,
+		rvCoef: three / (four * math.Pi * WaterDensity * k),
+		reStar: p.ReStar,
+		// P_col/LWP = 1350/(b+1) 2^((b+1)/2) (1e-6)^-c (LWP gamma/rho_a^2)^((b-1)/2) N_d^-c,
+		// ColumnAutoconvKK2000 with H = (2 LWP/gamma)^(1/2) (derived).
+		kkLnK: math.Log(kk2000Auto[0]/(bkk+1)) + (bkk+1)/2*math.Ln2 - ckk*colLnCm3,
+		kkY:   (bkk - 1) / 2,
+		kkN:   ckk,
+		drizA: p.DrizzleCoef / drizzleUnits[2],
+		drizX: drizzleUnits[0] / drizzleUnits[1],
+		drizB: p.DrizzleLWPExp,
+		drizC: p.DrizzleNdExp,
+		popSn: math.Sqrt(p.GammaShape),
+	}
+	c.ndLWP = c.ndTau * math.Sqrt(c.tauLWP)
+	c.popLnNu = 2 * math.Log(c.popSn)
+	switch {
+	case p.DrizzleLWPExp == drizzleSevenQuarters && p.DrizzleNdExp == drizzleSevenQuarters:
+		c.drizWay = drizSevenQuarters
+	case p.DrizzleLWPExp == p.DrizzleNdExp:
+		c.drizWay = drizSameExp
+	}
+	if pt != nil && pt.g != nil {
+		g := pt.g
+		c.popFast = g.dims == 2 && g.cubic[0] && g.cubic[1] && !g.strict && g.stride[1] == 1 &&
+			g.n[0] >= 3 && g.n[1] >= 3
+	}
+	c.defAir = airStateFast(p.DefaultCTT, p.DefaultCTP)
+	return c
+}
+
+// tauAdiabatic is TauAdiabatic(lwp, re, Qext) for valid inputs.
+func (c *bulkConsts) tauAdiabatic(lwp, re float64) float64 { return c.tauLWP * lwp / re }
+
+// dropletNumber is DropletNumber(tau, re, K, Qext, Fad, cw) for valid inputs.
+func (c *bulkConsts) dropletNumber(tau, re, cw float64) float64 {
+	r2 := re * re
+	return c.ndTau * math.Sqrt(cw*tau/(r2*r2*re))
+}
+
+// dropletNumberLWP is DropletNumber(TauAdiabatic(lwp, re, Qext), re, K, Qext, Fad, cw) for
+// valid inputs.
+func (c *bulkConsts) dropletNumberLWP(lwp, re, cw float64) float64 {
+	return c.ndLWP * math.Sqrt(cw*lwp) / (re * re * re)
+}
+
+// thickness is Thickness(lwp, Fad, cw) for valid inputs.
+func (c *bulkConsts) thickness(lwp, cw float64) float64 { return math.Sqrt(c.hCoef * lwp / cw) }
+
+// reTop is EffectiveRadius(h, nd, K, Fad, cw), the cloud-top r_e, with gamma = Fad cw.
+func (c *bulkConsts) reTop(gamma, h, nd float64) float64 {
+	return math.Cbrt(c.rvCoef * gamma * h / nd)
+}
+
+// criticalLWP is CriticalLWP(nd, ReStar, K, Fad, cw) for a column of LWP lwp whose top r_e is
+// reTop, with s = (LWP*/LWP)^(1/3): r_e(H) grows as H^(1/3) and LWP as H^2 at fixed N_d, so
+// LWP*/LWP = (r_e*/r_e,top)^6 (derived from the two formulas).
+func (c *bulkConsts) criticalLWP(lwp, reTop float64) (crit, s float64) {
+	s = c.reStar / reTop
+	s *= s
+	return lwp * s * s * s, s
+}
+
+// kk2000Efficiency is ColumnAutoconvKK2000(Thickness(lwp, 1, gamma), gamma, nd, rho)/lwp for
+// lwp > 0, with lnNd = ln nd.
+func (c *bulkConsts) kk2000Efficiency(lwp, gamma, rho, lnNd float64) float64 {
+	return colExp(c.kkLnK + c.kkY*colLog(lwp*gamma/(rho*rho)) - c.kkN*lnNd)
+}
+
+// drizzleRate is DrizzleRate(lwp, nd, DrizzleCoef, DrizzleLWPExp, DrizzleNdExp) for lwp > 0,
+// nd > 0, with lnNd = ln nd.
+func (c *bulkConsts) drizzleRate(lwp, nd, lnNd float64) float64 {
+	switch c.drizWay {
+	case drizSevenQuarters:
+		x := c.drizX * lwp / nd
+		r := math.Sqrt(x)
+		return c.drizA * x * r * math.Sqrt(r)
+	case drizSameExp:
+		return c.drizA * math.Exp(c.drizB*math.Log(c.drizX*lwp/nd))
+	}
+	return c.drizA * math.Exp(c.drizB*(math.Log(lwp)+colLnGPerKg)-c.drizC*(lnNd+colLnCm3))
+}
+
+// popColumn is popTable.prob(lwp, crit, nu) with s = (crit/lwp)^(1/3) and sn = nu^(1/2)
+// known, and lnNu = ln nu (NaN: computed here as 2 ln sn), for lwp > 0 and crit >= 0
+// finite: the same Wilson-Hilferty variable and the same grid interpolation (popAt2).
+func (m *Model) popColumn(lwp, crit, s, nu, sn, lnNu float64) float64 {
+	if !m.bulk.popFast || !(nu >= popNuMin && nu <= popNuMax) {
+		return m.pop.prob(lwp, crit, nu)
+	}
+	z := three * sn * (s - 1 + 1/(three*three*nu))
+	switch {
+	case z <= -popZMax:
+		return 1
+	case z >= popZMax:
+		return 0
+	}
+	if math.IsNaN(lnNu) {
+		lnNu = 2 * colLog(sn)
+	}
+	return colExp(min(popAt2(m.pop.g, lnNu, z), 0))
+}
+
+// popAt2 is g.at for a grid of two curved axes, not strict, last stride 1 (the POP table):
+// the same taps (nGrid.axisTaps), weights and order of summation, unrolled.
+func popAt2(g *nGrid, x0, x1 float64) float64 {
+	u0 := (x0 - g.lo[0]) * g.inv[0]
+	u1 := (x1 - g.lo[1]) * g.inv[1]
+	if !(u0 >= 0 && u0 <= float64(g.n[0]-1) && u1 >= 0 && u1 <= float64(g.n[1]-1)) {
+		return math.NaN()
+	}
+	k0 := max(1, min(int(u0+colHalf), g.n[0]-2))
+	k1 := max(1, min(int(u1+colHalf), g.n[1]-2))
+	t0, t1 := u0-float64(k0), u1-float64(k1)
+	a0, a1, a2 := t0*(t0-1)/2, 1-t0*t0, t0*(t0+1)/2
+	b0, b1, b2 := t1*(t1-1)/2, 1-t1*t1, t1*(t1+1)/2
+	sd := g.stride[0]
+	o := (k0-1)*sd + k1 - 1
+	v := g.vals
+	r0 := v[o : o+3]
+	r1 := v[o+sd : o+sd+3]
+	r2 := v[o+2*sd : o+2*sd+3]
+	acc := a0 * (b0*float64(r0[0]) + b1*float64(r0[1]) + b2*float64(r0[2]))
+	acc += a1 * (b0*float64(r1[0]) + b1*float64(r1[1]) + b2*float64(r1[2]))
+	acc += a2 * (b0*float64(r2[0]) + b1*float64(r2[1]) + b2*float64(r2[2]))
+	return acc
+}
+
+// colExp returns e^x within a few units in the last place (tested against math.Exp,
+// expTol): x = (64 k + j) ln2/64 + r with |r| <= ln2/128, e^x = 2^k 2^(j/64) e^r, the 64
+// values 2^(j/64) from math.Exp2 and e^r by its Taylor polynomial to r^5 (truncation below
+// 4e-17 relative), ln2/64 in two parts so that r is exact (common practice). Outside
+// |x| < expMaxArg (and for NaN) it is math.Exp.
+func colExp(x float64) float64 {
+	if !(x > -expMaxArg && x < expMaxArg) {
+		return math.Exp(x)
+	}
+	kf := x*(expTableN/math.Ln2) + expRound - expRound // nearest integer (round to even)
+	k := int64(kf)
+	r := x - kf*(expLn2Hi/expTableN) - kf*(expLn2Lo/expTableN)
+	r2 := r * r // Estrin's scheme: the three pairs in parallel
+	q := (1 + r) + r2*((expTaylor[2]+r*expTaylor[3])+r2*(expTaylor[4]+r*expTaylor[5]))
+	return expTable[k&(expTableN-1)] * q * math.Float64frombits(uint64(k>>expTableBits+expBias)<<expMantBits)
+}
+
+// colLog returns ln x for x > 0 normal and finite within logTol max(1, |ln x|) absolute
+// (tested against math.Log; Column only uses logarithms as exponents and table coordinates,
+// where the absolute error is what counts): x = 2^e m, m in [1, 2) in 64 cells of centre c_j,
+// ln x = e ln2 + ln c_j + ln(1 + t), t = m/c_j - 1 with |t| <= 1/128, ln c_j from math.Log
+// and ln(1 + t) by its Taylor polynomial to t^6 (truncation below 4e-17; common practice).
+// Other x (0, subnormal, negative, Inf, NaN) go to math.Log.
+func colLog(x float64) float64 {
+	bits := math.Float64bits(x)
+	e := int64(bits>>expMantBits) - expBias
+	if !(x >= logMinNormal && x < math.MaxFloat64) {
+		return math.Log(x)
+	}
+	j := (bits >> (expMantBits - expTableBits)) & (expTableN - 1)
+	m := math.Float64frombits(bits&(1<<expMantBits-1) | expBias<<expMantBits)
+	t := m*logInvCentre[j] - 1
+	t2 := t * t
+	// ln(1+t) = t - t^2/2 + t^3/3 - t^4/4 + t^5/5 - t^6/6, by Estrin's scheme
+	l1p := t + t2*((logTaylor[2]+t*logTaylor[3])+t2*((logTaylor[4]+t*logTaylor[5])+t2*logTaylor[6]))
+	ef := float64(e)
+	return ef*expLn2Hi + (logLnCentre[j] + (l1p + ef*expLn2Lo))
+}
+
+// logMinNormal is the smallest normal float64 (colLog's fast range).
+const logMinNormal = 0x1p-1022
+
+// logTaylor holds (-1)^(n+1)/n, n = 0..6 (entries 0 and 1 unused), logInvCentre 1/c_j and
+// logLnCentre ln c_j (rounded 1/c_j, so that t is m times it exactly as used), c_j =
+// 1 + (j + 1/2)/64 (colLog).
+var (
+	logTaylor                 = [7]float64{0, 1, -1.0 / 2, 1.0 / 3, -1.0 / 4, 1.0 / 5, -1.0 / 6}
+	logInvCentre, logLnCentre = func() (inv, ln [expTableN]float64) {
+		for j := range inv {
+			inv[j] = 1 / (1 + (float64(j)+colHalf)/expTableN)
+			ln[j] = -math.Log(inv[j])
+		}
+		return inv, ln
+	}()
+)
+
+// Constants of colExp.
+const (
+	expTableBits = 6
+	expTableN    = 1 << expTableBits
+	expMaxArg    = 700.0                // |x| bound of the fast path (2^k stays normal)
+	expRound     = 0x1.8p52             // adding and subtracting it rounds to an integer
+	expLn2Hi     = 0x1.62e42fee00000p-1 // ln 2 to 32 bits (its multiples by k are exact)
+	expLn2Lo     = math.Ln2 - expLn2Hi  // the rest of ln 2 (exact constant arithmetic)
+	expBias      = 1023                 // float64 exponent bias
+	expMantBits  = 52                   // float64 mantissa bits
+)
+
+// expTaylor holds 1/n!, n = 0..5, and expTable 2^(j/64), j = 0..63 (colExp).
+var (
+	expTaylor = [6]float64{1, 1, 1.0 / 2, 1.0 / 6, 1.0 / 24, 1.0 / 120}
+	expTable  = func() (t [expTableN]float64) {
+		for j := range t {
+			t[j] = math.Exp2(float64(j) / expTableN)
+		}
+		return t
+	}()
 )
 
 // Physical input bounds outside which a present input is invalid (QCInputInvalid).
@@ -115,6 +366,12 @@ const (
 // POP comes from a table of the regularized incomplete gamma function (pop.go; within 1e-4
 // absolute and 1e-4 relative of DrizzleProbability, tested) for 1 <= nu <= 1e4, otherwise
 // from DrizzleProbability itself.
+//
+// Steps 2-4 run on per-Model constants folded from the formulas (bulkConsts: one
+// exponential for the air state, one logarithm of N_d, and one logarithm and one
+// exponential each for KK2000 and for POP), within 1e-12 relative of the exported
+// functions (tested); the collector and evaporation integrations get their inputs in the
+// exported functions' own arithmetic (exactColumn).
 //
 // Column never allocates and never panics; a screened column has every diagnostic NaN.
 //
@@ -191,7 +448,10 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		return
 	}
 
-	st := adiabaticState(T, pr)
+	st := m.bulk.defAir // the air state of absent CTT and CTP, computed once
+	if T != p.DefaultCTT || pr != p.DefaultCTP {
+		st = airStateFast(T, pr)
+	}
 	cw := st.cw
 	if p.FixedCw > 0 {
 		cw = p.FixedCw
@@ -200,15 +460,19 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc | QCInputInvalid
 		return
 	}
+	b := &m.bulk
 	gamma := p.Fad * cw
-	if !tauGiven {
-		tau = TauAdiabatic(lwp, re, p.Qext)
+	var nd float64
+	if tauGiven {
+		nd = b.dropletNumber(tau, re, cw)
+	} else {
+		tau = b.tauAdiabatic(lwp, re)
+		nd = b.dropletNumberLWP(lwp, re, cw)
 	}
 	if tau < p.MinTau {
 		qc |= QCThinCloud
 	}
-	nd := DropletNumber(tau, re, p.K, p.Qext, p.Fad, cw)
-	h := Thickness(lwp, p.Fad, cw)
+	h := b.thickness(lwp, cw)
 	if !(nd >= p.NdMin && nd <= p.NdMax) {
 		qc |= QCDropletNumberImplausible
 	}
@@ -221,38 +485,56 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	}
 
 	out.Nd, out.H, out.Cw = nd, h, cw
-	// Logarithms shared by the power laws (same formulas as ColumnAutoconvKK2000,
-	// DrizzleRate and the table axes, written in logs to save transcendental calls).
-	lnLWP, lnNd, lnGamma := math.Log(lwp), math.Log(nd), math.Log(gamma)
-	lnH := (math.Ln2 + lnLWP - lnGamma) / 2
-	lnRv := (lnGamma + lnH - lnNd + colLnRvConst) / three // r_v^3 = 3 gamma H/(4 pi rho_w N)
-	rvTop := math.Exp(lnRv)
-	out.ReTop = rvTop / m.cbrtK
-	if m.ac.Scheme == AutoconvKK2000 {
-		b := kk2000Auto[1]
-		out.Autoconv = math.Exp(colLnKK + (1-b)*math.Log(st.rho) - kk2000Auto[2]*(lnNd+colLnCm3) +
-			b*lnGamma + (b+1)*lnH)
-	} else {
+	// r_e at the top of the adiabatic model: the input r_e itself when tau came from LWP
+	// (derived: TauAdiabatic, DropletNumber and Thickness make r_v(H)^3 = k r_e^3).
+	reTop := re
+	if tauGiven {
+		reTop = b.reTop(gamma, h, nd)
+	}
+	out.ReTop = reTop
+	if lwp > 0 {
+		crit, s := b.criticalLWP(lwp, reTop)
+		out.LWPCrit = crit
+		lnNd := colLog(nd)
+		if m.ac.Scheme == AutoconvKK2000 {
+			out.Efficiency = b.kk2000Efficiency(lwp, gamma, st.rho, lnNd)
+			out.Autoconv = out.Efficiency * lwp
+		} else {
+			out.Autoconv = ColumnAutoconversion(m.ac, h, gamma, nd, st.rho)
+			out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
+		}
+		out.DrizzleRate = b.drizzleRate(lwp, nd, lnNd)
+		nu, sn, lnNu := p.GammaShape, b.popSn, b.popLnNu
+		if !math.IsNaN(in.LWPStd) {
+			sn = lwp / in.LWPStd // GammaShapeFromStd: nu = (mean/sd)^2
+			nu, lnNu = sn*sn, math.NaN()
+		}
+		out.POP = m.popColumn(lwp, crit, s, nu, sn, lnNu)
+	} else { // LWP = 0 (possible with a given tau and MinLWP = 0): the exported functions
 		out.Autoconv = ColumnAutoconversion(m.ac, h, gamma, nd, st.rho)
+		out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
+		out.DrizzleRate = DrizzleRate(lwp, nd, p.DrizzleCoef, p.DrizzleLWPExp, p.DrizzleNdExp)
+		out.LWPCrit = CriticalLWP(nd, p.ReStar, p.K, p.Fad, cw)
+		if !math.IsNaN(in.LWPStd) {
+			nu = GammaShapeFromStd(lwp, in.LWPStd)
+		}
+		out.POP = m.pop.prob(lwp, out.LWPCrit, nu)
 	}
-	out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
-	out.DrizzleRate = p.DrizzleCoef * math.Exp(p.DrizzleLWPExp*(lnLWP+colLnGPerKg)-p.DrizzleNdExp*(lnNd+colLnCm3)) / drizzleUnits[2]
-	out.LWPCrit = CriticalLWP(nd, p.ReStar, p.K, p.Fad, cw)
-	if !math.IsNaN(in.LWPStd) {
-		nu = GammaShapeFromStd(lwp, in.LWPStd)
-	}
-	out.POP = m.pop.prob(lwp, out.LWPCrit, nu)
 
 	if !p.EnableCollector {
 		out.QC = qc
 		return
 	}
+	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
+	lnLWP, lnRv := math.Log(lwp), math.Log(m.cbrtK*reTop)
 	var res colResult
+	var ex exactCol // the direct integrations' inputs, when needed
 	if m.tab == nil || !m.tab.collect(lnLWP, lnRv, h, T, pr, &res) {
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
 		}
-		m.collectDirect(h, gamma, nd, T, pr, &res)
+		ex = m.exactColumn(lwp, re, in.Tau, T, pr)
+		m.collectDirect(ex.h, ex.gamma, ex.nd, T, pr, &res)
 	}
 	if !res.ok {
 		out.QC = qc | QCCollectorFailed | QCEvaporationSkipped
@@ -284,6 +566,19 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
 		}
+		if !ex.ok {
+			ex = m.exactColumn(lwp, re, in.Tau, T, pr)
+		}
+		if ex.h != h || ex.gm != st.gm { // the layer in the arithmetic of the exported functions
+			var le SubCloudLayer
+			tb, pb := math.NaN(), math.NaN()
+			if ex.h <= 5000 {
+				tb, pb = cloudBase(T, pr, ex.h, ex.gm)
+			}
+			if m.subCloudFrom(tb, pb, ex.h, cth, rhs, &le) {
+				l = le
+			}
+		}
 		e := EvaporateDirect(res.r, l)
 		res.evapOK = true
 		switch {
@@ -301,6 +596,31 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	}
 	out.SurfaceRadius, out.EvapHeight = res.rs, res.zev
 	out.QC = qc
+}
+
+// exactCol is a column's H (m), gamma (kg m-4), N_d (m-3) and cloud-top G_m (K m-1) in the
+// arithmetic of the exported functions (adiabaticState, TauAdiabatic, DropletNumber,
+// Thickness), for the direct integrations: their adaptive steps answer a last-bit change of
+// the inputs by up to their tolerance, so they get the inputs they always had.
+type exactCol struct {
+	h, gamma, nd, gm float64
+	ok               bool
+}
+
+// exactColumn computes exactCol for a column that passed Column's screening (tau NaN: from
+// LWP).
+func (m *Model) exactColumn(lwp, re, tau, T, pr float64) exactCol {
+	p := &m.p
+	st := adiabaticState(T, pr)
+	cw := st.cw
+	if p.FixedCw > 0 {
+		cw = p.FixedCw
+	}
+	if math.IsNaN(tau) {
+		tau = TauAdiabatic(lwp, re, p.Qext)
+	}
+	return exactCol{h: Thickness(lwp, p.Fad, cw), gamma: p.Fad * cw,
+		nd: DropletNumber(tau, re, p.K, p.Qext, p.Fad, cw), gm: st.gm, ok: true}
 }
 
 // colResult is the collector and evaporation result of one column.

@@ -75,6 +75,18 @@ func BenchmarkColumnBulk(b *testing.B) {
 	benchColumns(b, p, typicalScSample(4096, 11))
 }
 
+// BenchmarkColumnBulkDefaultAir is BenchmarkColumnBulk without cloud-top temperature and
+// pressure (the air state of Params.DefaultCTT and DefaultCTP, computed once per Model).
+func BenchmarkColumnBulkDefaultAir(b *testing.B) {
+	p := DefaultParams()
+	p.EnableCollector, p.EnableEvaporation = false, false
+	in := typicalScSample(4096, 11)
+	for i := range in {
+		in[i].CTT, in[i].CTP = math.NaN(), math.NaN()
+	}
+	benchColumns(b, p, in)
+}
+
 // BenchmarkNewModel is the table build of NewModel with DefaultParams (about 50000 direct
 // integrations on all cores, table.go).
 func BenchmarkNewModel(b *testing.B) {
