@@ -75,4 +75,3 @@ func globEscape(s string) string {
 	}
 	return b.String()
 }
-

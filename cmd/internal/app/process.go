@@ -259,7 +259,7 @@ type processJob struct {
 	args      []string
 	shardName string
 	digest    string
-	single    bool // one file to process: its error is the command's error
+	single    bool             // one file to process: its error is the command's error
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
