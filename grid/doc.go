@@ -65,15 +65,21 @@
 //
 // # Slabs and memory
 //
-// The grid is processed in slabs: one index of each leading dimension, a block of
-// whole rows. The block height follows LWP's chunks (whole chunk rows, or an even
-// split of one chunk row when a chunk row is larger than the budget) and the
-// budget OpenOptions.SlabBytes (default 32 MiB) counting the float64 and raw
-// buffers of all inputs and outputs of one slab. Each input variable's chunk
-// cache is set to hold every chunk one slab touches, so each chunk is
-// decompressed once. Process keeps three slabs in flight: the I/O thread reads
-// slab k+1 and writes slab k-1 while the workers decode, compute and encode slab
-// k. Buffers are reused; nothing is allocated per slab after warm-up.
+// The grid is processed in slabs: one index of each leading dimension and a tile
+// of rows and columns aligned with LWP's chunks, within the budget
+// OpenOptions.SlabBytes (default 32 MiB) counting the float64 and raw buffers of
+// all inputs and outputs of one slab. A chunk that fits the budget is read whole
+// (tiles of whole chunks, as many across as fit, or blocks of whole chunk rows); a
+// larger chunk is read in pieces of its column (cx wide, a divisor of its height
+// high when a good one exists), each column band from top to bottom before the
+// next one. Contiguous and netCDF-3 inputs are read in blocks of whole rows. Each
+// input variable's chunk cache is set to hold every chunk one slab (or one row of
+// slabs across a band) touches, about one chunk per variable, so each chunk is
+// decompressed once and memory does not grow with the grid. Process keeps three
+// slabs in flight: the I/O thread reads slab k+1 and writes slab k-1 while the
+// workers decode, compute and encode slab k; only the raw buffers are held three
+// times, the decoded ones once. Buffers are reused, and kept in a pool for the
+// next run; nothing is allocated per slab after warm-up.
 //
 // # Outputs
 //
@@ -85,9 +91,10 @@
 // output holds LWP's dimensions, Layout.Coords and the new variables; in
 // CopyInput mode every input variable and global attribute too (NC_STRING
 // attributes become NC_CHAR, types the classic model lacks are widened). New
-// variables are chunked (1, ..., rows of a slab, up to all columns) with chunks of
-// at most 4 MiB, get _FillValue of their own type before any data, and the
-// attributes listed in OutputVar (coordinates and grid_mapping copied from LWP).
+// variables are chunked like one slab, (1, ..., rows, columns of a slab), in
+// chunks of at most 4 MiB, with a chunk cache holding one slab's chunks, so each
+// chunk is written whole and compressed once; they get _FillValue of their own
+// type before any data, and the attributes listed in OutputVar (coordinates and grid_mapping copied from LWP).
 // Globals: Conventions "CF-1.13 ACDD-1.3", date_created, history (the new line
 // first, then the input's), then WriteOptions.Globals. OutputVar.Quantize keeps N
 // significant digits (Granular BitRound) and adds the CF quantization container
@@ -102,10 +109,10 @@
 //
 // # Known limits
 //
-// The memory bound holds for any number of rows, leading indices and files; it
-// grows with the row width for chunked inputs, because each input's chunk cache
-// holds one chunk row across all columns (inputs x X x chunk height x type size).
-// libnetcdf 4.9.0 cannot hold unlimited dimensions in NCZarr stores and crashes
+// The memory bound holds for any number of rows, columns, leading indices and
+// files. Inputs chunked unlike LWP may have a chunk decompressed twice (by
+// neighbouring bands), and blocks of whole rows of a contiguous LWP read chunked
+// inputs through caches that hold a chunk row. libnetcdf 4.9.0 cannot hold unlimited dimensions in NCZarr stores and crashes
 // opening an NCZarr store that holds a scalar variable (ncdump too).
 //
 // # Generic reading

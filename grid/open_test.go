@@ -26,8 +26,8 @@ func readAll(t *testing.T, in *Input) map[Role][]float64 {
 	buf := newInBuf(in, p)
 	out := map[Role][]float64{}
 	k := 0
-	err := p.each(func(lead, y0, ny int) error {
-		buf.setPos(p, k, lead, y0, ny)
+	err := p.each(func(lead, y0, ny, x0, nx int) error {
+		buf.setPos(p, k, lead, y0, ny, x0, nx)
 		k++
 		var rerr error
 		if e := onIO(func() { rerr = in.readIO(buf) }); e != nil {
@@ -46,8 +46,10 @@ func readAll(t *testing.T, in *Input) map[Role][]float64 {
 				all = make([]float64, in.Layout.Columns)
 				out[r] = all
 			}
-			off := (lead*p.Y + y0) * p.X
-			copy(all[off:], buf.slab.In[i])
+			for r := 0; r < ny; r++ {
+				off := (lead*p.Y+y0+r)*p.X + x0
+				copy(all[off:off+nx], buf.slab.In[i][r*nx:(r+1)*nx])
+			}
 		}
 		return nil
 	})
@@ -276,8 +278,8 @@ data: w = 50, 60 ; re = 1e-5, 1e-5 ; }`, "classic")
 }
 
 // TestSlabOrderChunkedLeading: LWP chunked over two time steps and two rows;
-// with slabs of one row the plan visits both time steps of a chunk before moving
-// on, and every value still lands in its place.
+// with slabs of one column the plan visits both time steps of a chunk before
+// moving on, and every value still lands in its place.
 func TestSlabOrderChunkedLeading(t *testing.T) {
 	cdl, err := os.ReadFile(filepath.Join("testdata", "grid3d.cdl"))
 	if err != nil {
@@ -299,8 +301,13 @@ func TestSlabOrderChunkedLeading(t *testing.T) {
 	}
 	p := newPlan(b, nil, 1)
 	var order []string
-	p.each(func(lead, y0, ny int) error { order = append(order, fmt.Sprintf("%d/%d+%d", lead, y0, ny)); return nil })
-	want := "0/0+1 1/0+1 0/1+1 1/1+1 0/2+1 1/2+1"
+	p.each(func(lead, y0, ny, x0, nx int) error {
+		order = append(order, fmt.Sprintf("%d/%d+%d/%d+%d", lead, y0, ny, x0, nx))
+		return nil
+	})
+	want := "0/0+1/0+1 1/0+1/0+1 0/0+1/1+1 1/0+1/1+1 0/0+1/2+1 1/0+1/2+1 0/0+1/3+1 1/0+1/3+1 " +
+		"0/1+1/0+1 1/1+1/0+1 0/1+1/1+1 1/1+1/1+1 0/1+1/2+1 1/1+1/2+1 0/1+1/3+1 1/1+1/3+1 " +
+		"0/2+1/0+1 1/2+1/0+1 0/2+1/1+1 1/2+1/1+1 0/2+1/2+1 1/2+1/2+1 0/2+1/3+1 1/2+1/3+1"
 	if got := strings.Join(order, " "); got != want {
 		t.Errorf("slab order %s, want %s", got, want)
 	}

@@ -460,8 +460,8 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			return err
 		}
 	}
-	for _, id := range o.varIDs {
-		bytes, slots := o.plan.cacheFor(o.chunks, 4, true)
+	for k, id := range o.varIDs {
+		bytes, slots := outputCache(o.plan, o.chunks, o.types[k].Size())
 		if err := ncSetVarChunkCache(ncid, id, bytes, slots, 1); err != nil {
 			return werr("", err, "cannot set chunk cache")
 		}
@@ -469,9 +469,13 @@ func (o *Output) defineIO(opt WriteOptions) error {
 	return nil
 }
 
-// outputChunks gives (1, ..., ry, cx): the slab height and the widest column count
-// keeping a chunk at most 4 MiB.
+// outputChunks gives the chunks of the new variables: for tiles (slabs narrower
+// than the grid) one slab, (1, ..., ry, rx), so that every chunk is written whole
+// by one slab; a slab larger than 4 MiB is cut into an exact number of chunks
+// along rows, or else columns. For blocks of whole rows (1, ..., ry, cx): the slab
+// height and the widest column count keeping a chunk at most 4 MiB.
 func outputChunks(p *slabPlan, nd int, types []Type) []int {
+	const limit = 4 << 20
 	size := 4
 	for _, t := range types {
 		size = max(size, t.Size())
@@ -481,12 +485,41 @@ func outputChunks(p *slabPlan, nd int, types []Type) []int {
 		c[i] = 1
 	}
 	c[nd-2] = p.ry
+	if p.rx < p.X {
+		oy, ox := p.ry, p.rx
+		for k := 1; oy*ox*size > limit && k <= p.ry; k++ {
+			if p.ry%k == 0 {
+				oy = p.ry / k
+			}
+		}
+		for k := 1; oy*ox*size > limit && k <= p.rx; k++ {
+			if p.rx%k == 0 {
+				ox = p.rx / k
+			}
+		}
+		c[nd-2], c[nd-1] = oy, ox
+		return c
+	}
 	cx := p.X
-	if k := (p.ry*p.X*size + (4<<20 - 1)) / (4 << 20); k > 1 {
+	if k := (p.ry*p.X*size + (limit - 1)) / limit; k > 1 {
 		cx = (p.X + k - 1) / k
 	}
 	c[nd-1] = cx
 	return c
+}
+
+// outputCache sizes an output variable's chunk cache to hold the chunks of one
+// slab: HDF5 compresses a chunk when it leaves the cache (or at close), so each
+// chunk, written whole by one slab, is compressed once, when the next slab's
+// chunks push it out.
+func outputCache(p *slabPlan, chunks []int, size int) (bytes, slots int) {
+	nd := len(chunks)
+	chunkBytes := size
+	for _, c := range chunks {
+		chunkBytes *= c
+	}
+	n := ((p.ry + chunks[nd-2] - 1) / chunks[nd-2]) * ((p.rx + chunks[nd-1] - 1) / chunks[nd-1])
+	return n*chunkBytes + chunkBytes/8 + (64 << 10), max(521, 20*n+1)
 }
 
 func (o *Output) putVarAttrs(id int, v OutputVar, t Type, lwp *VarInfo) error {

@@ -32,19 +32,84 @@ type ProcessOptions struct {
 type ComputeFunc func(s *Slab, outs [][]float64, lo, hi int)
 
 // nBuffers slabs are in flight at most: one being read, one computed, one written.
+// Only the raw (stored-type) buffers are needed three times: the decoded inputs
+// and the float64 outputs belong to the slab being computed, so one set of them is
+// shared by every slab.
 const nBuffers = 3
 
 type slabSet struct {
 	in     *inBuf
-	outs   [][]float64
 	outRaw [][]uint64
+}
+
+// bufPool keeps the buffers of finished runs for the next one, so that a process
+// handling many files reuses them instead of allocating new ones while the old
+// ones wait for the garbage collector (whose heap target would then be about
+// twice the buffers). It holds at most poolLimit bytes.
+var bufPool struct {
+	sync.Mutex
+	raw   [][]uint64
+	f     [][]float64
+	bytes int
+}
+
+const poolLimit = 128 << 20
+
+func getRaw(n int) []uint64  { return poolGet(&bufPool.raw, n) }
+func getF64(n int) []float64 { return poolGet(&bufPool.f, n) }
+func putRaw(b []uint64)      { poolPut(&bufPool.raw, b) }
+func putF64(b []float64)     { poolPut(&bufPool.f, b) }
+
+// poolGet returns the smallest pooled buffer holding n values (resliced to n), or
+// a new one.
+func poolGet[T uint64 | float64](list *[][]T, n int) []T {
+	bufPool.Lock()
+	defer bufPool.Unlock()
+	best := -1
+	for i, b := range *list {
+		if cap(b) >= n && (best < 0 || cap(b) < cap((*list)[best])) {
+			best = i
+		}
+	}
+	if best < 0 {
+		return make([]T, n)
+	}
+	b := (*list)[best]
+	last := len(*list) - 1
+	(*list)[best] = (*list)[last]
+	(*list)[last] = nil
+	*list = (*list)[:last]
+	bufPool.bytes -= 8 * cap(b)
+	return b[:n]
+}
+
+func poolPut[T uint64 | float64](list *[][]T, b []T) {
+	if cap(b) == 0 {
+		return
+	}
+	bufPool.Lock()
+	defer bufPool.Unlock()
+	if bufPool.bytes+8*cap(b) > poolLimit {
+		return
+	}
+	*list = append(*list, b)
+	bufPool.bytes += 8 * cap(b)
+}
+
+// release gives the raw buffers of s back to the pool.
+func (s *inBuf) release() {
+	for i := range s.raw {
+		putRaw(s.raw[i])
+		s.raw[i] = nil
+	}
 }
 
 // Process streams in through compute into out: the I/O goroutine reads slab k+1
 // and writes slab k-1 while Workers goroutines compute slab k (decoding, compute
-// and encoding all run in the workers). Memory is bounded by three slab buffers.
-// On any error (or a panic in compute) everything stops, the output is aborted
-// and the first error is returned; on success the caller calls out.Commit().
+// and encoding all run in the workers). Memory is bounded by three raw slab
+// buffers and one set of decoded ones. On any error (or a panic in compute)
+// everything stops, the output is aborted and the first error is returned; on
+// success the caller calls out.Commit().
 func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (err error) {
 	if compute == nil && !opt.SkipCompute {
 		return errors.New("grid: Process needs a compute function or SkipCompute")
@@ -62,15 +127,43 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		out.Abort()
 		return firstErr(e, ioErr)
 	}
-	free := make(chan *slabSet, nBuffers)
-	for i := 0; i < nBuffers; i++ {
-		s := &slabSet{in: newInBuf(in, p)}
-		for _, t := range out.types {
-			s.outs = append(s.outs, make([]float64, p.maxN))
-			s.outRaw = append(s.outRaw, make([]uint64, (p.maxN*t.Size()+7)/8+1))
+	// Buffers: three raw sets, one decoded set (see nBuffers), from the pool.
+	var decIn [NumRoles][]float64
+	for i, b := range in.bindings {
+		if b != nil {
+			decIn[i] = getF64(p.maxN)
 		}
+	}
+	decOut := make([][]float64, len(out.types))
+	for k := range decOut {
+		decOut[k] = getF64(p.maxN)
+	}
+	sets := make([]*slabSet, nBuffers)
+	free := make(chan *slabSet, nBuffers)
+	for i := range sets {
+		s := &slabSet{in: newRawBuf(in, p)}
+		for _, t := range out.types {
+			s.outRaw = append(s.outRaw, getRaw(rawWords(p.maxN, t.Size())))
+		}
+		sets[i] = s
 		free <- s
 	}
+	defer func() { // every goroutine has finished when Process returns
+		for _, s := range sets {
+			s.in.release()
+			for k := range s.outRaw {
+				putRaw(s.outRaw[k])
+			}
+		}
+		for i := range decIn {
+			if decIn[i] != nil {
+				putF64(decIn[i])
+			}
+		}
+		for k := range decOut {
+			putF64(decOut[k])
+		}
+	}()
 	var (
 		stop    atomic.Bool
 		errOnce sync.Once
@@ -104,12 +197,12 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		var rerr error
 		call := newIOCall(func() { rerr = in.readIO(cur.in) })
 		k := 0
-		p.each(func(lead, y0, ny int) error {
+		p.each(func(lead, y0, ny, x0, nx int) error {
 			if stop.Load() {
 				return errStop
 			}
 			cur = <-free
-			cur.in.setPos(p, k, lead, y0, ny)
+			cur.in.setPos(p, k, lead, y0, ny, x0, nx)
 			k++
 			if e := call.run(); e != nil || rerr != nil {
 				fail(firstErr(e, rerr))
@@ -167,14 +260,14 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		}()
 		in.decode(j.s.in, j.lo, j.hi)
 		if opt.SkipCompute {
-			for k := range j.s.outs {
-				copy(j.s.outs[k][j.lo:j.hi], j.s.in.slab.In[bound[k%len(bound)]][j.lo:j.hi])
+			for k := range decOut {
+				copy(decOut[k][j.lo:j.hi], j.s.in.slab.In[bound[k%len(bound)]][j.lo:j.hi])
 			}
 		} else {
-			compute(&j.s.in.slab, j.s.outs, j.lo, j.hi)
+			compute(&j.s.in.slab, decOut, j.lo, j.hi)
 		}
-		for k := range j.s.outs {
-			encode(&out.vars[k], out.types[k], unsafe.Pointer(&j.s.outRaw[k][0]), j.s.outs[k], j.lo, j.hi)
+		for k := range decOut {
+			encode(&out.vars[k], out.types[k], unsafe.Pointer(&j.s.outRaw[k][0]), decOut[k], j.lo, j.hi)
 		}
 	}
 	var pool sync.WaitGroup
@@ -193,8 +286,13 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			continue
 		}
 		n := s.in.slab.N
-		for k := range s.outs {
-			s.outs[k] = s.outs[k][:cap(s.outs[k])][:n]
+		for i := range decIn { // lend the decoded buffers to this slab
+			if decIn[i] != nil {
+				s.in.slab.In[i] = decIn[i][:n]
+			}
+		}
+		for k := range decOut {
+			decOut[k] = decOut[k][:cap(decOut[k])][:n]
 		}
 		step := (n + workers - 1) / workers
 		for lo := 0; lo < n; lo += step {

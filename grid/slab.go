@@ -6,33 +6,47 @@ import (
 	"unsafe"
 )
 
-// Slab is one block of the grid: one index on every leading dimension, a block of
-// rows, every column. In[i] holds role Roles[i] for the slab's N columns in
-// canonical units (NaN = missing), or nil when the role is absent. The slices are
-// reused from slab to slab; copy what you keep.
+// Slab is one block of the grid: one index on every leading dimension and a
+// rectangle of rows and columns (a tile aligned with LWP's chunks, or a block of
+// whole rows), described by Start and Count. In[i] holds role Roles[i] for the
+// slab's N columns in canonical units (NaN = missing), in row-major order within
+// the slab, or nil when the role is absent. The slices are reused from slab to
+// slab; copy what you keep.
 type Slab struct {
 	Index int   // slab number, 0-based, in processing order
 	Start []int // start index on each of LWP's dimensions
-	Count []int // count on each dimension (1 on leading dimensions, all of X)
+	Count []int // count on each dimension (1 on leading dimensions)
 	N     int   // number of columns
 	In    [NumRoles][]float64
 }
 
-// slabPlan says how the grid is cut. Rows come in blocks of at most ry rows that
-// never cross a chunk row of LWP (when ry is smaller than LWP's chunk height) or
-// cover whole chunk rows (when larger). When LWP is chunked along the innermost
-// leading dimension with chunk length b > 1, the b leading indices sharing a chunk
-// are visited one after the other for the same rows, so their chunks are still in
-// the cache.
+// slabPlan says how the grid is cut into slabs of at most ry rows and rx columns.
+//
+//   - Contiguous (or netCDF-3) LWP: blocks of whole rows (rx = X).
+//   - Chunked LWP whose chunk (cy x cx) fits the budget: tiles of whole chunks, one
+//     chunk row high and as many chunks wide as fit (whole chunk rows, or blocks of
+//     them, when a chunk row fits), visited row by row.
+//   - Chunked LWP whose chunk is larger than the budget: pieces of one chunk column
+//     (cx wide, ry rows; narrower pieces when even one chunk row of a chunk is too
+//     wide), and each column band of width cx is visited top to bottom before the
+//     next one, so every chunk is read while it is in the cache. ry is a divisor of
+//     cy when a good one exists; otherwise slabs may straddle two chunk rows
+//     (straddle), and caches hold one more chunk row.
+//
+// When LWP is chunked along the innermost leading dimension with chunk length
+// b > 1, the b leading indices sharing a chunk are visited one after the other for
+// the same tile, so their chunks are still in the cache.
 type slabPlan struct {
-	lead  []int // leading dimension lengths
-	Y, X  int
-	ry    int // rows per slab (at most)
-	cy    int // LWP chunk height (0 = contiguous)
-	b     int // leading block (see above)
-	maxN  int
-	total int64 // columns
-	count int   // slabs
+	lead     []int // leading dimension lengths
+	Y, X     int
+	ry, rx   int  // rows and columns per slab (at most)
+	band     int  // column band visited top to bottom before the next one (X: row by row)
+	cy, cx   int  // LWP chunk height and width (0 = contiguous)
+	straddle bool // slabs may cross a chunk row of LWP
+	b        int  // leading block (see above)
+	maxN     int
+	total    int64 // columns
+	count    int   // slabs
 }
 
 func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
@@ -50,14 +64,11 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 	for _, t := range outTypes {
 		perCol += 8 + t.Size()
 	}
-	rowsMax := budget / (perCol * p.X)
-	if rowsMax < 1 {
-		rowsMax = 1
-	}
+	cols := max(1, budget/perCol) // columns per slab at most
 	lb := in.bindings[RoleLWP.Index()]
 	nd := len(L.Dims)
 	if lb.Chunks != nil {
-		p.cy = lb.Chunks[nd-2]
+		p.cy, p.cx = lb.Chunks[nd-2], lb.Chunks[nd-1]
 		if nd > 2 {
 			p.b = lb.Chunks[nd-3]
 			for _, c := range lb.Chunks[:nd-3] {
@@ -67,48 +78,54 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 			}
 		}
 	}
-	switch {
-	case p.cy > 0 && rowsMax >= p.cy:
-		p.ry = rowsMax / p.cy * p.cy
-	case p.cy > 0:
-		k := (p.cy + rowsMax - 1) / rowsMax
-		p.ry = (p.cy + k - 1) / k
-	default:
-		p.ry = rowsMax
+	p.band, p.rx = p.X, p.X
+	if p.cy == 0 {
+		p.ry = max(1, cols/p.X)
+	} else {
+		cy, cx := min(p.cy, p.Y), min(p.cx, p.X)
+		switch {
+		case cy*cx <= cols:
+			kx := min(cols/(cy*cx), (p.X+cx-1)/cx)
+			if p.rx = kx * cx; p.rx >= p.X {
+				p.rx = p.X
+				p.ry = cols / p.X / cy * cy
+			} else {
+				p.ry = cy
+			}
+		default:
+			p.band = cx
+			r := 1
+			if cx <= cols {
+				p.rx, r = cx, cols/cx
+			} else {
+				k := (cx + cols - 1) / cols
+				p.rx = (cx + k - 1) / k
+			}
+			p.ry, p.straddle = pieceRows(cy, r)
+		}
 	}
-	if p.ry > p.Y {
-		p.ry = p.Y
-	}
-	p.maxN = p.ry * p.X
+	p.ry = min(p.ry, p.Y)
+	p.maxN = p.ry * p.rx
 	p.count = 0
-	p.each(func(int, int, int) error { p.count++; return nil })
+	p.each(func(int, int, int, int, int) error { p.count++; return nil })
 	return p
 }
 
-// rowBlocks calls fn for each block of rows in order.
-func (p *slabPlan) rowBlocks(fn func(y0, ny int) error) error {
-	if p.cy > 0 && p.ry < p.cy {
-		for cr := 0; cr < p.Y; cr += p.cy {
-			end := min(cr+p.cy, p.Y)
-			for y0 := cr; y0 < end; y0 += p.ry {
-				if err := fn(y0, min(p.ry, end-y0)); err != nil {
-					return err
-				}
-			}
-		}
-		return nil
-	}
-	for y0 := 0; y0 < p.Y; y0 += p.ry {
-		if err := fn(y0, min(p.ry, p.Y-y0)); err != nil {
-			return err
+// pieceRows picks the height of the pieces of a chunk of cy rows when at most r <
+// cy rows fit: the largest divisor of cy not above r when it is at least r/2 (the
+// pieces then tile each chunk exactly), else r (pieces may straddle chunk rows).
+func pieceRows(cy, r int) (rows int, straddle bool) {
+	for d := r; d >= 1 && 2*d >= r; d-- {
+		if cy%d == 0 {
+			return d, false
 		}
 	}
-	return nil
+	return r, true
 }
 
-// each calls fn(lead, y0, ny) for every slab in processing order; lead is the flat
-// index over the leading dimensions.
-func (p *slabPlan) each(fn func(lead, y0, ny int) error) error {
+// each calls fn(lead, y0, ny, x0, nx) for every slab in processing order; lead is
+// the flat index over the leading dimensions.
+func (p *slabPlan) each(fn func(lead, y0, ny, x0, nx int) error) error {
 	lout, ln := 1, 1
 	if k := len(p.lead); k > 0 {
 		ln = p.lead[k-1]
@@ -118,16 +135,19 @@ func (p *slabPlan) each(fn func(lead, y0, ny int) error) error {
 	}
 	for outer := 0; outer < lout; outer++ {
 		for ib := 0; ib < ln; ib += p.b {
-			err := p.rowBlocks(func(y0, ny int) error {
-				for inner := ib; inner < min(ib+p.b, ln); inner++ {
-					if err := fn(outer*ln+inner, y0, ny); err != nil {
-						return err
+			for bx := 0; bx < p.X; bx += p.band {
+				bend := min(bx+p.band, p.X)
+				for y0 := 0; y0 < p.Y; y0 += p.ry {
+					ny := min(p.ry, p.Y-y0)
+					for x0 := bx; x0 < bend; x0 += p.rx {
+						nx := min(p.rx, bend-x0)
+						for inner := ib; inner < min(ib+p.b, ln); inner++ {
+							if err := fn(outer*ln+inner, y0, ny, x0, nx); err != nil {
+								return err
+							}
+						}
 					}
 				}
-				return nil
-			})
-			if err != nil {
-				return err
 			}
 		}
 	}
@@ -135,7 +155,7 @@ func (p *slabPlan) each(fn func(lead, y0, ny int) error) error {
 }
 
 // setStart fills start/count (libnetcdf order) for a slab.
-func (p *slabPlan) setStart(start, count []uint64, lead, y0, ny int) {
+func (p *slabPlan) setStart(start, count []uint64, lead, y0, ny, x0, nx int) {
 	k := len(p.lead)
 	for i := k - 1; i >= 0; i-- {
 		start[i] = uint64(lead % p.lead[i])
@@ -143,24 +163,37 @@ func (p *slabPlan) setStart(start, count []uint64, lead, y0, ny int) {
 		lead /= p.lead[i]
 	}
 	start[k], count[k] = uint64(y0), uint64(ny)
-	start[k+1], count[k+1] = 0, uint64(p.X)
+	start[k+1], count[k+1] = uint64(x0), uint64(nx)
 }
 
-// cacheFor sizes a chunk cache to hold every chunk one slab (of ry rows and all
-// columns) touches in a variable with the given chunk sizes, plus one more chunk
-// row when the variable's chunks are not aligned with the slabs.
-func (p *slabPlan) cacheFor(chunks []int, size int, aligned bool) (bytes, slots int) {
+// cacheFor sizes an input's chunk cache for a variable with the given chunk sizes
+// (cf.md 3.3: the cache holds every chunk one read touches). It counts the chunks
+// of the variable that one slab (in a column band: one row of slabs across the
+// band, which are all read before the band moves down) can touch, over the actual
+// slab grid: one chunk for a variable chunked like LWP and slabs that are pieces
+// of a chunk, two rows of them when slabs straddle chunk rows, more for chunks not
+// aligned with LWP's. Chunks shared by consecutive slabs were touched last, so
+// they are still cached when the next slab reads them.
+func (p *slabPlan) cacheFor(chunks []int, size int) (bytes, slots int) {
 	nd := len(chunks)
 	cy, cx := chunks[nd-2], chunks[nd-1]
 	chunkBytes := size
 	for _, c := range chunks {
 		chunkBytes *= c
 	}
-	rows := (p.ry + cy - 1) / cy
-	if !aligned || (p.ry < cy && p.cy != cy) {
-		rows++
+	span := func(a, n, c int) int { return (a+n-1)/c - a/c + 1 } // chunks over [a, a+n)
+	rows, cols := 1, 1
+	for y0 := 0; y0 < p.Y; y0 += p.ry {
+		rows = max(rows, span(y0, min(p.ry, p.Y-y0), cy))
 	}
-	n := rows * ((p.X + cx - 1) / cx)
+	w := p.rx
+	if p.band < p.X {
+		w = p.band
+	}
+	for x0 := 0; x0 < p.X; x0 += w {
+		cols = max(cols, span(x0, min(w, p.X-x0), cx))
+	}
+	n := rows * cols
 	bytes = n*chunkBytes + chunkBytes/8 + (1 << 20)
 	slots = max(521, 20*n+1)
 	return
@@ -172,8 +205,7 @@ func (in *Input) setInputCachesIO(p *slabPlan) error {
 		if b == nil || b.Chunks == nil {
 			continue
 		}
-		aligned := b.Role == RoleLWP
-		bytes, slots := p.cacheFor(b.Chunks, b.Type.Size(), aligned)
+		bytes, slots := p.cacheFor(b.Chunks, b.Type.Size())
 		if err := ncSetVarChunkCache(in.ncid, b.varID, bytes, slots, 0.75); err != nil {
 			return varErr(err, in.Path, b.Var, "cannot set the chunk cache: %v", err)
 		}
@@ -181,15 +213,28 @@ func (in *Input) setInputCachesIO(p *slabPlan) error {
 	return nil
 }
 
-// inBuf holds the raw and decoded buffers of one slab.
+// inBuf holds the raw (stored-type) buffers of one slab and, for Stats, its
+// decoded buffers; Process lends one shared set of decoded buffers to the slab
+// being computed.
 type inBuf struct {
-	slab         Slab
-	raw          [NumRoles][]uint64
-	start, count []uint64
-	lead, y0, ny int
+	slab                 Slab
+	raw                  [NumRoles][]uint64
+	start, count         []uint64
+	lead, y0, ny, x0, nx int
 }
 
 func newInBuf(in *Input, p *slabPlan) *inBuf {
+	s := newRawBuf(in, p)
+	for i, b := range in.bindings {
+		if b != nil {
+			s.slab.In[i] = make([]float64, p.maxN)
+		}
+	}
+	return s
+}
+
+// newRawBuf allocates the raw buffers only (from the buffer pool).
+func newRawBuf(in *Input, p *slabPlan) *inBuf {
 	nd := len(in.Layout.Dims)
 	s := &inBuf{start: make([]uint64, nd), count: make([]uint64, nd)}
 	s.slab.Start = make([]int, nd)
@@ -198,17 +243,20 @@ func newInBuf(in *Input, p *slabPlan) *inBuf {
 		if b == nil {
 			continue
 		}
-		s.raw[i] = make([]uint64, (p.maxN*b.Type.Size()+7)/8+1)
-		s.slab.In[i] = make([]float64, p.maxN)
+		s.raw[i] = getRaw(rawWords(p.maxN, b.Type.Size()))
 	}
 	return s
 }
 
-func (s *inBuf) setPos(p *slabPlan, index, lead, y0, ny int) {
-	s.lead, s.y0, s.ny = lead, y0, ny
-	p.setStart(s.start, s.count, lead, y0, ny)
+// rawWords is the length of a []uint64 holding n values of size bytes (one spare
+// word so that &buf[0] is valid for n = 0).
+func rawWords(n, size int) int { return (n*size+7)/8 + 1 }
+
+func (s *inBuf) setPos(p *slabPlan, index, lead, y0, ny, x0, nx int) {
+	s.lead, s.y0, s.ny, s.x0, s.nx = lead, y0, ny, x0, nx
+	p.setStart(s.start, s.count, lead, y0, ny, x0, nx)
 	s.slab.Index = index
-	s.slab.N = ny * p.X
+	s.slab.N = ny * nx
 	for i := range s.start {
 		s.slab.Start[i], s.slab.Count[i] = int(s.start[i]), int(s.count[i])
 	}
@@ -226,7 +274,7 @@ func (in *Input) readIO(s *inBuf) error {
 			continue
 		}
 		if err := ncGetVara(in.ncid, b.varID, s.start, s.count, unsafe.Pointer(&s.raw[i][0])); err != nil {
-			return varErr(err, in.Path, b.Var, "read of rows %d-%d (slab %d) failed: %v; expected readable data (the file may be damaged or truncated)", s.y0, s.y0+s.ny-1, s.slab.Index, err)
+			return varErr(err, in.Path, b.Var, "read of rows %d-%d, columns %d-%d (slab %d) failed: %v; expected readable data (the file may be damaged or truncated)", s.y0, s.y0+s.ny-1, s.x0, s.x0+s.nx-1, s.slab.Index, err)
 		}
 	}
 	return nil
@@ -261,6 +309,7 @@ type VarStats struct {
 func (in *Input) Stats() ([]VarStats, error) {
 	p := newPlan(in, nil, in.opt.SlabBytes)
 	buf := newInBuf(in, p)
+	defer buf.release()
 	var st [NumRoles]VarStats
 	var sum [NumRoles]float64
 	for i := range st {
@@ -271,8 +320,8 @@ func (in *Input) Stats() ([]VarStats, error) {
 		return nil, firstErr(e, err)
 	}
 	k := 0
-	err = p.each(func(lead, y0, ny int) error {
-		buf.setPos(p, k, lead, y0, ny)
+	err = p.each(func(lead, y0, ny, x0, nx int) error {
+		buf.setPos(p, k, lead, y0, ny, x0, nx)
 		k++
 		var rerr error
 		if e := onIO(func() { rerr = in.readIO(buf) }); e != nil {
