@@ -72,7 +72,7 @@ var hallRatio = [20]float64{0.05, 0.10, 0.15, 0.20, 0.25, 0.30, 0.35, 0.40, 0.45
 	0.55, 0.60, 0.65, 0.70, 0.75, 0.80, 0.85, 0.90, 0.95, 1.0}
 
 // hallTable is Hall (1980) table 1, E(R, r/R): rows hallR, columns hallRatio [Hall1980].
-// The cell R = 30 µm, r/R = 0.05 is 1e-4 (majority of transcriptions; see physics.md §3.1).
+// The cell R = 30 µm, r/R = 0.05 is 1e-4 (the value most reproductions of the table give; 1e-3 in one).
 var hallTable = [11][20]float64{
 	{.0001, .0001, .0001, .014, .017, .019, .022, .027, .030, .033, .035, .037, .038, .038, .037, .036, .035, .032, .029, .027},
 	{.0001, .0001, .005, .016, .022, .030, .043, .052, .064, .072, .079, .082, .080, .076, .067, .057, .048, .040, .033, .027},

@@ -1,3 +1,5 @@
+// Examples document usage; their printed values come from the package itself and are not
+// checks against published values (those are in the tests that name their source).
 package microphys_test
 
 import (

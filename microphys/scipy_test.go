@@ -26,7 +26,7 @@ func findScipyPython() string {
 	return ""
 }
 
-// scipyCollector integrates the CollectDirect system (Beard 1976 fall speed, Hall 1980
+// scipyCollector integrates the CollectDirect system (Beard (1976) fall speed, Hall (1980)
 // table with bilinear interpolation and the same clamping, coalescence efficiency 1) with
 // scipy.integrate.solve_ivp (DOP853) and prints exit radius and time as JSON. The constants
 // and tables come from the Go side, so both sides use identical inputs.

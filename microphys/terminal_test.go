@@ -29,7 +29,7 @@ func TestFallSpeedBeardCheckValues(t *testing.T) {
 }
 
 // gunnKinzer is Gunn & Kinzer (1949) table 2 (D in mm, V in m s-1), measured near 1013 hPa
-// and 20 degC; transcription in physics.md §1.2.
+// and 20 degC (all 35 rows, as reproduced in physics notes §1.2).
 var gunnKinzer = [][2]float64{
 	{0.078, 0.18}, {0.1, 0.27}, {0.2, 0.72}, {0.3, 1.17}, {0.4, 1.62}, {0.5, 2.06},
 	{0.6, 2.47}, {0.7, 2.87}, {0.8, 3.27}, {0.9, 3.67}, {1.0, 4.03}, {1.2, 4.64},
