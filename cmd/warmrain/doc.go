@@ -50,7 +50,7 @@ Data go to stdout or files; messages go to stderr.
 	  -j, --jobs int                      files processed at the same time, each in its own
 	                                      process (libnetcdf is single-threaded) (default 1)
 	      --threads int                   compute goroutines per process (0: the CPUs divided by
-	                                      --jobs)
+	                                      --jobs, less one for the I/O thread)
 	      --deflate int                   deflate level of the outputs, 1-9 (0: no compression)
 	                                      (default 1)
 	      --significant-digits int        lossy: keep this many significant decimal digits in
