@@ -149,12 +149,12 @@ func (s collectorSys) deriv(y [2]float64) [2]float64 {
 // still gains mass (the larger drop sweeps the smaller; the merged mass is the same).
 // Reference: [Bowen1950] (continuous collection), [PruppacherKlett1997] eq. 15-5,
 // [Beard1976], [Hall1980], [DormandPrince1980].
-// Valid: H in (0, 10 km], Gamma >= 0, Nd > 0, R0 in (0, 3.5 mm], |w| <= 20 m s-1,
+// Valid: H in (0, 10 km], Gamma in [0, 1e-4] kg m-4, Nd > 0, R0 in (0, 3.5 mm], |w| <= 20 m s-1,
 // DrizzleRadius > 0, RelTol in [1e-12, 1e-2], valid Air and kinds; otherwise every float of
 // the result is NaN.
 func CollectDirect(c CloudColumn, s CollectorSetup) CollectorPath {
 	bad := CollectorPath{ExitRadius: math.NaN(), ExitTime: math.NaN(), TopHeight: math.NaN(), DrizzleTime: math.NaN()}
-	if !(c.H > 0 && c.H <= maxCloudThickness && c.Gamma >= 0 && c.Gamma < math.Inf(1) &&
+	if !(c.H > 0 && c.H <= maxCloudThickness && c.Gamma >= 0 && c.Gamma <= maxGamma &&
 		c.Nd > 0 && c.Nd < math.Inf(1) && c.Air.ok() &&
 		s.R0 > 0 && s.R0 <= BeardDMax/2 && math.Abs(s.Updraft) <= maxUpdraft &&
 		s.DrizzleRadius > 0 && s.DrizzleRadius < math.Inf(1) &&
@@ -226,6 +226,7 @@ func CollectDirect(c CloudColumn, s CollectorSetup) CollectorPath {
 // Validity limits of CollectDirect (common practice).
 const (
 	maxCloudThickness = 1e4
+	maxGamma          = 1e-4 // kg m-4: 30x the largest adiabatic c_w (about 3e-6 at 300 K)
 	maxUpdraft        = 20.0
 	minRelTol         = 1e-12
 	maxRelTol         = 1e-2
