@@ -149,7 +149,8 @@ func (s collectorSys) deriv(y [2]float64) [2]float64 {
 // still gains mass (the larger drop sweeps the smaller; the merged mass is the same).
 // Reference: [Bowen1950] (continuous collection), [PruppacherKlett1997] eq. 15-5,
 // [Beard1976], [Hall1980], [DormandPrince1980].
-// Valid: H in (0, 10 km], Gamma in [0, 1e-4] kg m-4, Nd > 0, R0 in (0, 3.5 mm], |w| <= 20 m s-1,
+// Valid: H in (0, 10 km], Gamma in [0, 1e-4] kg m-4, Nd > 0 with a mean-volume droplet radius
+// at cloud top of at most 100 µm (cloud droplets, not drizzle), R0 in (0, 3.5 mm], |w| <= 20 m s-1,
 // DrizzleRadius > 0, RelTol in [1e-12, 1e-2], valid Air and kinds; otherwise every float of
 // the result is NaN.
 func CollectDirect(c CloudColumn, s CollectorSetup) CollectorPath {
@@ -160,6 +161,9 @@ func CollectDirect(c CloudColumn, s CollectorSetup) CollectorPath {
 		s.DrizzleRadius > 0 && s.DrizzleRadius < math.Inf(1) &&
 		s.RelTol >= minRelTol && s.RelTol <= maxRelTol &&
 		s.Collision.valid() && s.Coalescence.valid()) {
+		return bad
+	}
+	if rTop3 := 3 * c.Gamma * c.H / (4 * math.Pi * WaterDensity * c.Nd); rTop3 > maxDropletRadius*maxDropletRadius*maxDropletRadius {
 		return bad
 	}
 	sys := collectorSys{
@@ -226,7 +230,8 @@ func CollectDirect(c CloudColumn, s CollectorSetup) CollectorPath {
 // Validity limits of CollectDirect (common practice).
 const (
 	maxCloudThickness = 1e4
-	maxGamma          = 1e-4 // kg m-4: 30x the largest adiabatic c_w (about 3e-6 at 300 K)
+	maxGamma          = 1e-4   // kg m-4: 30x the largest adiabatic c_w (about 3e-6 at 300 K)
+	maxDropletRadius  = 100e-6 // m: cloud droplets at cloud top (drizzle is larger)
 	maxUpdraft        = 20.0
 	minRelTol         = 1e-12
 	maxRelTol         = 1e-2
