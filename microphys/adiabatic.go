@@ -29,22 +29,7 @@ const (
 // Reference: [Glickman2000] "Moist-adiabatic lapse rate" (G_m); [Brenguier2000] (c_w).
 // Valid: 240 K <= T <= 310 K, 2e4 Pa <= p <= 1.1e5 Pa and e_s < p; NaN outside
 // (the Bolton e_s fit is stated for -35..35 degC).
-func CondensationRate(T, p float64) float64 {
-	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
-		return math.NaN()
-	}
-	es := SatVapourPressure(T)
-	if !(es < p) {
-		return math.NaN()
-	}
-	lv := LatentHeat(T)
-	rs := Epsilon * es / (p - es)
-	gd := Gravity / SpecificHeatDryAir
-	gm := Gravity * (1 + lv*rs/(GasConstantDry*T)) /
-		(SpecificHeatDryAir + lv*lv*rs*Epsilon/(GasConstantDry*T*T))
-	rho := AirDensity(p, T, rs)
-	return rho * SpecificHeatDryAir / lv * (gd - gm)
-}
+func CondensationRate(T, p float64) float64 { return adiabaticState(T, p).cw }
 
 // MoistLapseRate returns the saturated-adiabatic lapse rate G_m = -dT/dz, K m-1, at T (K)
 // and p (Pa):
@@ -53,19 +38,7 @@ func CondensationRate(T, p float64) float64 {
 //
 // Reference: [Glickman2000] "Moist-adiabatic lapse rate".
 // Valid: as CondensationRate; NaN outside.
-func MoistLapseRate(T, p float64) float64 {
-	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
-		return math.NaN()
-	}
-	es := SatVapourPressure(T)
-	if !(es < p) {
-		return math.NaN()
-	}
-	lv := LatentHeat(T)
-	rs := Epsilon * es / (p - es)
-	return Gravity * (1 + lv*rs/(GasConstantDry*T)) /
-		(SpecificHeatDryAir + lv*lv*rs*Epsilon/(GasConstantDry*T*T))
-}
+func MoistLapseRate(T, p float64) float64 { return adiabaticState(T, p).gm }
 
 // LWPAdiabatic returns the liquid water path (kg m-2) of an adiabatic cloud with optical
 // thickness tau (1) and cloud-top effective radius re (m):
@@ -238,7 +211,7 @@ func CriticalLWP(nd, reStar, k, fad, cw float64) float64 {
 type adState struct{ cw, gm, rho float64 }
 
 // adiabaticState computes CondensationRate, MoistLapseRate and the saturated air density
-// with one SatVapourPressure call, in the arithmetic of the exported functions. CloudBase,
+// with one SatVapourPressure call; the two exported functions are this. CloudBase,
 // the collector table's nodes and Column's direct integrations use it: the adaptive
 // integrations respond to a last-bit change of their inputs by up to their tolerance, so
 // they are kept on this exact arithmetic (airStateFast serves the bulk diagnostics).
