@@ -59,6 +59,12 @@ func onIO(f func()) error {
 	return nil
 }
 
+// OnIOThread runs f on the I/O thread, where every libnetcdf call of the process
+// must run (libnetcdf is not thread-safe, and HDF5's error printing is switched off
+// only there). It is for packages that call libnetcdf directly, such as the sample
+// and benchmark-input generators; f must not call back into grid.
+func OnIOThread(f func()) error { return onIO(f) }
+
 // ioCall is a reusable request, for the hot path of the slab pipeline (no
 // allocation per call after it is built).
 type ioCall struct{ r ioReq }

@@ -2,43 +2,29 @@ package samples
 
 import (
 	"fmt"
-	"runtime"
-	"sync"
+
+	"github.com/warmrain/warmrain/grid"
 )
 
 // libnetcdf is not thread-safe, so every netCDF call of this package runs on
-// one long-lived goroutine locked to its OS thread. Being long-lived matters
-// too: when this thread is the first to call libnetcdf, the library's
-// one-time switch-off of HDF5 error printing applies to it, so reads made
-// here print no HDF5-DIAG stacks.
+// grid's I/O thread, the one thread of the process that calls libnetcdf (and on
+// which HDF5's error printing is switched off).
 
-var (
-	ncOnce sync.Once
-	ncJobs chan func()
-)
-
-// onNCThread runs fn on the package's netCDF thread and returns its error.
-// It must not be called from fn (that would deadlock).
+// onNCThread runs fn on the netCDF thread and returns its error. It must not be
+// called from fn (that would deadlock).
 func onNCThread(fn func() error) error {
-	ncOnce.Do(func() {
-		ncJobs = make(chan func())
-		go func() {
-			runtime.LockOSThread() // never unlocked: the goroutine owns the thread
-			for job := range ncJobs {
-				job()
-			}
-		}()
-	})
-	done := make(chan error, 1)
-	ncJobs <- func() {
+	var err error
+	if e := grid.OnIOThread(func() {
 		defer func() {
 			if p := recover(); p != nil {
-				done <- panicError{p}
+				err = panicError{p}
 			}
 		}()
-		done <- fn()
+		err = fn()
+	}); e != nil {
+		return e
 	}
-	return <-done
+	return err
 }
 
 type panicError struct{ v any }

@@ -38,10 +38,10 @@ import (
 	"math"
 	"os"
 	"path/filepath"
-	"runtime"
 	"unsafe"
 
 	"github.com/fhs/go-netcdf/netcdf"
+	"github.com/warmrain/warmrain/grid"
 )
 
 const (
@@ -117,12 +117,11 @@ func writeAtomic(path string, cfg config) error {
 	}
 	name := tmp.Name()
 	tmp.Close()
-	done := make(chan error)
-	go func() {
-		runtime.LockOSThread() // every libnetcdf call of this program runs here
-		done <- write(name, cfg)
-	}()
-	if err := <-done; err != nil {
+	var werr error
+	if e := grid.OnIOThread(func() { werr = write(name, cfg) }); e != nil { // every libnetcdf call runs there
+		werr = e
+	}
+	if err := werr; err != nil {
 		os.Remove(name)
 		return err
 	}
