@@ -58,15 +58,21 @@ func NewModel(p Params) (*Model, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
+	m := newModelBase(p)
+	if p.EnableCollector && p.CollectorMethod == CollectorTable {
+		m.tab = buildCollTable(m)
+	}
+	return m, nil
+}
+
+// newModelBase is the Model of valid parameters p without its collector tables.
+func newModelBase(p Params) *Model {
 	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
 	m.pop = newPopTable()
 	m.bulk = newBulkConsts(&p, m.pop)
-	if p.EnableCollector && p.CollectorMethod == CollectorTable {
-		m.tab = buildCollTable(m)
-	}
-	return m, nil
+	return m
 }
 
 // Params returns the model's parameters.
@@ -371,7 +377,9 @@ const (
 // exponential for the air state, one logarithm of N_d, and one logarithm and one
 // exponential each for KK2000 and for POP), within 1e-12 relative of the exported
 // functions (tested); the collector and evaporation integrations get their inputs in the
-// exported functions' own arithmetic (exactColumn).
+// exported functions' own arithmetic (exactColumn, collTable.collectRef). The table
+// coordinates (ln LWP, ln r_v, the sub-cloud layer of subCloudFast) and the unrolled table
+// interpolations agree with that arithmetic to rounding (colExp, colLog).
 //
 // Column never allocates and never panics; a screened column has every diagnostic NaN.
 //
@@ -526,10 +534,11 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		return
 	}
 	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
-	lnLWP, lnRv := math.Log(lwp), math.Log(m.cbrtK*reTop)
+	lnLWP, lnRv := colLog(lwp), colLog(m.cbrtK*reTop)
 	var res colResult
 	var ex exactCol // the direct integrations' inputs, when needed
-	if m.tab == nil || !m.tab.collect(lnLWP, lnRv, h, T, pr, &res) {
+	collTab := m.tab != nil && m.tab.collect(lnLWP, lnRv, h, T, pr, &res)
+	if !collTab {
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
 		}
@@ -549,27 +558,41 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc | QCEvaporationSkipped
 		return
 	}
+	// The layer of the evaporation table is placed in the fast arithmetic (subCloudFast: table
+	// coordinates, equal to rounding); a direct integration gets the layer of the exported
+	// functions' arithmetic below.
 	var l SubCloudLayer
-	tb, pb := math.NaN(), math.NaN()
-	if h <= 5000 {
-		tb, pb = cloudBase(T, pr, h, st.gm)
+	fastL := m.tab != nil && m.tab.evap != nil
+	var okL bool
+	if fastL {
+		okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
+	} else {
+		tb, pb := math.NaN(), math.NaN()
+		if h <= 5000 {
+			tb, pb = cloudBase(T, pr, h, st.gm)
+		}
+		okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
 	}
-	if !m.subCloudFrom(tb, pb, h, cth, rhs, &l) {
+	if !okL {
 		out.QC = qc | QCEvaporationSkipped
 		return
 	}
 	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default
 	if !math.IsNaN(in.SurfaceRH) {
-		u = math.Log1p(-rhs)
+		u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
 	}
-	if m.tab == nil || !m.tab.evaporate(res.r, res.lnR, u, &l, m.surfacePressure(cth, &l), &res) {
+	if !fastL || !m.tab.evaporate(res.r, res.lnR, u, &l, m.surfacePressureFast(cth, &l), &res) {
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
 		}
 		if !ex.ok {
 			ex = m.exactColumn(lwp, re, in.Tau, T, pr)
 		}
-		if ex.h != h || ex.gm != st.gm { // the layer in the arithmetic of the exported functions
+		if collTab { // the exit radius in the reference arithmetic (collectRef), reported too
+			m.tab.collectRef(math.Log(lwp), math.Log(m.cbrtK*reTop), h, T, pr, &res)
+			out.CollectorRadius, out.CollectorTime = res.r, res.t
+		}
+		if fastL || ex.h != h || ex.gm != st.gm { // the layer in the arithmetic of the exported functions
 			var le SubCloudLayer
 			tb, pb := math.NaN(), math.NaN()
 			if ex.h <= 5000 {
@@ -689,6 +712,16 @@ func DryBaseHeight(tb, pb, ps float64) float64 {
 	return SpecificHeatDryAir * (ts - tb) / Gravity
 }
 
+// surfacePressureFast is surfacePressure for the evaporation table's coordinates, with
+// colExp and colLog in SubCloudLayer.State's formula (the same value to rounding, derived).
+func (m *Model) surfacePressureFast(cth float64, l *SubCloudLayer) float64 {
+	if math.IsNaN(cth) {
+		return m.p.SurfacePressure
+	}
+	ts := l.BaseT + Gravity/SpecificHeatDryAir*l.BaseHeight
+	return l.BaseP * colExp(SpecificHeatDryAir/GasConstantDry*colLog(ts/l.BaseT))
+}
+
 // surfacePressure returns the surface pressure (Pa) below the layer l: Params.SurfacePressure
 // when cloud base was placed by the dry adiabat (cth NaN), else the dry adiabat from the base
 // state down the base height, p_s = p_b (T_s/T_b)^(c_pd/R_d), T_s = T_b + g z_b/c_pd (the
@@ -705,6 +738,45 @@ func (m *Model) surfacePressure(cth float64, l *SubCloudLayer) float64 {
 func (m *Model) subCloud(T, pr, h, cth, rhs float64, l *SubCloudLayer) bool {
 	tb, pb := CloudBase(T, pr, h)
 	return m.subCloudFrom(tb, pb, h, cth, rhs, l)
+}
+
+// subCloudFast is subCloud for the evaporation table's coordinates, from the cloud-top lapse
+// rate g1 (K m-1): the formulas of cloudBase, DryBaseHeight and subCloudFrom with colExp,
+// colLog and airStateFast's lapse rate (within adStateTol of adiabaticState), so the layer
+// equals subCloud's to rounding (derived). Without a CTH, ln(p_s/p_b) is formed as
+// ln(p_s/p) - g H/(R_d (T + T_b)/2), p_b's own exponent, so the logarithm does not wait for
+// the cloud base.
+func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bool {
+	if !(h <= 5000) {
+		return false
+	}
+	noCTH := math.IsNaN(cth)
+	ps, lnSP := m.p.SurfacePressure, 0.0
+	if noCTH {
+		lnSP = colLog(ps / p)
+	}
+	tm := T + g1*h*colHalf
+	pm := p * colExp(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf))
+	g2 := airStateFast(tm, pm).gm
+	if math.IsNaN(g2) {
+		g2 = g1
+	}
+	tb := T + g2*h
+	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf)
+	pb := p * colExp(x)
+	zb := cth - h
+	if noCTH {
+		zb = math.NaN() // DryBaseHeight's domain
+		if ps > pb && pb > 0 && tb > 0 && !math.IsInf(ps, 1) && !math.IsInf(tb, 1) {
+			ts := tb * colExp(GasConstantDry/SpecificHeatDryAir*(lnSP-x))
+			zb = SpecificHeatDryAir * (ts - tb) / Gravity
+		}
+	}
+	if !(zb > 0) || !colFinite(tb) || !colFinite(pb) {
+		return false
+	}
+	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs}
+	return true
 }
 
 // subCloudFrom is subCloud with the cloud-base state known.

@@ -180,6 +180,85 @@ func (g *tabGrid) interp(s *tabStencil, acc *[tabVals]float64) uint8 {
 	return st
 }
 
+// isCC22 reports whether g has the collector table's layout: cubic axes 0 and 1, and two
+// nodes along each of the linear axes 2 and 3 (interpCC22).
+func (g *tabGrid) isCC22() bool {
+	return g.cubic[0] && g.cubic[1] && g.n[2] == 2 && g.n[3] == 2
+}
+
+// interpCC22 is stencil and interp for a grid with isCC22 at x = (x0, x1, x2, x3): the same
+// taps, weights and state test, unrolled, with one partial sum per tap of axis 0 (equal to
+// interp to rounding, TestTableFastPaths); 0 outside the grid too. With two nodes per linear
+// axis (strides 2 and 1), the 2 x 2 block of each (a, b) tap is 4 consecutive nodes and the
+// blocks of the b taps are consecutive, so the state bytes of one a tap are compared 8 at a
+// time.
+func (g *tabGrid) interpCC22(x0, x1, x2, x3 float64, acc *[tabVals]float64) uint8 {
+	// stencil along the cubic axes 0 and 1, written out
+	var w [2][4]float64
+	var nt [2]int
+	xs := [2]float64{x0, x1}
+	base := 0
+	for d := 0; d < 2; d++ {
+		u := (xs[d] - g.lo[d]) * g.inv[d]
+		top := g.n[d] - 1
+		if !(u >= 0 && u <= float64(top)) {
+			return 0
+		}
+		k := min(int(u), top-1)
+		t := u - float64(k)
+		if k >= 1 && k <= top-2 {
+			t2 := t * t
+			t3 := t2 * t
+			w[d] = [4]float64{(-t + 2*t2 - t3) / 2, (2 - 5*t2 + 3*t3) / 2, (t + 4*t2 - 3*t3) / 2, (-t2 + t3) / 2} // the rows of catmullRom
+			nt[d] = 4
+			k--
+		} else {
+			w[d][0], w[d][1] = 1-t, t
+			nt[d] = 2
+		}
+		base += k * g.stride[d]
+	}
+	wa, wb, n0, n1 := &w[0], &w[1], nt[0], nt[1]
+	u2 := (x2 - g.lo[2]) * g.inv[2] // one cell: first node 0, t = u
+	u3 := (x3 - g.lo[3]) * g.inv[3]
+	if !(u2 >= 0 && u2 <= 1) || !(u3 >= 0 && u3 <= 1) {
+		return 0
+	}
+	*acc = [tabVals]float64{}
+	st := g.state[base]
+	if st == 0 {
+		return 0
+	}
+	acc0, acc1 := 0.0, 0.0
+	w00, w01 := (1-u2)*(1-u3), (1-u2)*u3
+	w10, w11 := u2*(1-u3), u2*u3
+	rep := uint64(st) * 0x0101010101010101
+	nb := 4 * n1 // state bytes (nodes) of one a tap
+	vals, state := g.vals, g.state
+	for a := 0; a < n0; a++ {
+		oa := base + a*g.stride[0]
+		sa := state[oa : oa+nb]
+		for i := 0; i+8 <= nb; i += 8 {
+			b := sa[i : i+8 : i+8]
+			if uint64(b[0])|uint64(b[1])<<8|uint64(b[2])<<16|uint64(b[3])<<24|
+				uint64(b[4])<<32|uint64(b[5])<<40|uint64(b[6])<<48|uint64(b[7])<<56 != rep {
+				return 0
+			}
+		}
+		va := vals[oa*tabVals : (oa+nb)*tabVals]
+		r0, r1 := 0.0, 0.0
+		for b := 0; b < n1; b++ {
+			p := va[8*b : 8*b+8 : 8*b+8]
+			r0 += wb[b] * (w00*float64(p[0]) + w01*float64(p[2]) + w10*float64(p[4]) + w11*float64(p[6]))
+			r1 += wb[b] * (w00*float64(p[1]) + w01*float64(p[3]) + w10*float64(p[5]) + w11*float64(p[7]))
+		}
+		acc0 += wa[a] * r0
+		acc1 += wa[a] * r1
+	}
+	acc[0], acc[1] = acc0, acc1
+	return st
+}
+
 // Grid of the collector table: axes ln LWP (kg m-2), ln r_v (m), T (K), p (Pa).
 var collGrid = struct {
 	lo, hi [tabDims]float64
@@ -204,12 +283,21 @@ type collTable struct {
 
 // buildCollTable integrates every node of both tables for model m (in parallel).
 func buildCollTable(m *Model) *collTable {
+	t := newTableShells(m.p)
+	t.coll.fill(m.collNode)
+	if t.evap != nil {
+		t.evap.fill()
+	}
+	return t
+}
+
+// newTableShells lays out the (unfilled) tables of parameters p.
+func newTableShells(p Params) *collTable {
 	t := &collTable{}
 	cg := collGrid
 	t.coll = newTabGrid(cg.lo, cg.hi, cg.n, [tabDims]bool{true, true, false, false})
-	t.coll.fill(m.collNode)
-	if m.p.EnableEvaporation {
-		t.evap = buildEvapTable(m.p.SurfacePressure)
+	if p.EnableEvaporation {
+		t.evap = newEvapTable(p.SurfacePressure)
 	}
 	return t
 }
@@ -249,9 +337,29 @@ func dryBasePressure(tb, zb, ps float64) float64 {
 	return ps * math.Pow(tb/ts, SpecificHeatDryAir/GasConstantDry)
 }
 
-// collect interpolates the collector table at (ln LWP, ln r_v, T, p); false when the column is outside it or its
-// stencil straddles a regime change.
+// collect interpolates the collector table at (ln LWP, ln r_v, T, p); false when the column
+// is outside it or its stencil straddles a regime change. It is collectRef through the
+// unrolled interpCC22 and colExp: the same results to rounding.
 func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool {
+	g := t.coll
+	if !g.isCC22() {
+		return t.collectRef(lnLWP, lnRv, h, T, pr, res)
+	}
+	var acc [tabVals]float64
+	st := g.interpCC22(lnLWP, lnRv, T, pr, &acc)
+	if st == 0 {
+		return false
+	}
+	res.ok = true
+	res.lnR, res.r, res.t = acc[0], colExp(acc[0]), h*colExp(acc[1])
+	res.exitBase = st == stBase
+	return true
+}
+
+// collectRef is collect by the general stencil and interp, with math.Exp: the exit radius
+// given to a direct evaporation integration (Column), whose adaptive steps answer a last-bit
+// change of r0 by up to their tolerance, so it gets the inputs it always had.
+func (t *collTable) collectRef(lnLWP, lnRv, h, T, pr float64, res *colResult) bool {
 	var s tabStencil
 	if !t.coll.stencil([tabDims]float64{lnLWP, lnRv, T, pr}, &s) {
 		return false
@@ -400,6 +508,127 @@ func (g *nGrid) at(x *[nDims]float64) float64 {
 	return acc
 }
 
+// linTaps is axisTaps along linear axis d: the same offset, number of taps (0 outside) and
+// weights, for the unrolled lookups below (which write out axisTaps along the curved axes).
+func (g *nGrid) linTaps(d int, xd float64) (off, nt int, w0, w1 float64) {
+	u := (xd - g.lo[d]) * g.inv[d]
+	top := g.n[d] - 1
+	if !(u >= 0 && u <= float64(top)) {
+		return 0, 0, 0, 0
+	}
+	k := min(int(u), top-1)
+	t := u - float64(k)
+	if t == 0 {
+		return k * g.stride[d], 1, 1, 0
+	}
+	return k * g.stride[d], 2, 1 - t, t
+}
+
+// isLQQQ reports whether g has the threshold table's layout: four axes, the first linear and
+// the other three curved (at1L3Q).
+func (g *nGrid) isLQQQ() bool {
+	return g.dims == 4 && !g.cubic[0] && g.cubic[1] && g.cubic[2] && g.cubic[3]
+}
+
+// isLLLQQ reports whether g has the value tables' layout: five axes, three linear and then two
+// curved (at3L2Q).
+func (g *nGrid) isLLLQQ() bool {
+	return g.dims == 5 && !g.cubic[0] && !g.cubic[1] && !g.cubic[2] && g.cubic[3] && g.cubic[4]
+}
+
+// at1L3Q is at for a grid with isLQQQ (the threshold table): the same taps and weights,
+// unrolled and contracted axis by axis (last axis first) so that the sums of one axis do not
+// wait for each other; equal to at to rounding.
+func (g *nGrid) at1L3Q(x *[nDims]float64) float64 {
+	o0, n0, a0, a1 := g.linTaps(0, x[0])
+	if n0 == 0 {
+		return math.NaN()
+	}
+	var wq [4][3]float64 // quadTaps of axes 1-3, written out
+	oq := 0
+	for d := 1; d < 4; d++ {
+		u := (x[d] - g.lo[d]) * g.inv[d]
+		top := float64(g.n[d] - 1)
+		if !(u >= 0 && u <= top) || g.strict && !(u >= 1 && u <= top-1) {
+			return math.NaN()
+		}
+		k := max(1, min(int(u+colHalf), g.n[d]-2))
+		t := u - float64(k)
+		wq[d] = [3]float64{t * (t - 1) / 2, 1 - t*t, t * (t + 1) / 2}
+		oq += (k - 1) * g.stride[d]
+	}
+	wb, wc, wd := &wq[1], &wq[2], &wq[3]
+	wa := [2]float64{a0, a1}
+	s0, s1, s2 := g.stride[0], g.stride[1], g.stride[2]
+	v := g.vals
+	acc := 0.0
+	for a := 0; a < n0; a++ {
+		var sb [3]float64
+		for b := 0; b < 3; b++ {
+			o := o0 + a*s0 + b*s1 + oq
+			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
+			r0 := wd[0]*float64(p0[0]) + wd[1]*float64(p0[1]) + wd[2]*float64(p0[2])
+			r1 := wd[0]*float64(p1[0]) + wd[1]*float64(p1[1]) + wd[2]*float64(p1[2])
+			r2 := wd[0]*float64(p2[0]) + wd[1]*float64(p2[1]) + wd[2]*float64(p2[2])
+			sb[b] = wc[0]*r0 + wc[1]*r1 + wc[2]*r2
+		}
+		acc += wa[a] * (wb[0]*sb[0] + wb[1]*sb[1] + wb[2]*sb[2])
+	}
+	return acc
+}
+
+// at3L2Q is at for a grid with isLLLQQ (the value tables): the same taps and weights,
+// unrolled and contracted along the two curved axes first (as at1L3Q); equal to at to
+// rounding.
+func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
+	o0, n0, a0, a1 := g.linTaps(0, x[0])
+	o1, n1, b0, b1 := g.linTaps(1, x[1])
+	o2, n2, c0, c1 := g.linTaps(2, x[2])
+	if n0 == 0 || n1 == 0 || n2 == 0 {
+		return math.NaN()
+	}
+	var wq [5][3]float64 // quadTaps of axes 3 and 4, written out
+	oq := 0
+	for d := 3; d < 5; d++ {
+		u := (x[d] - g.lo[d]) * g.inv[d]
+		top := float64(g.n[d] - 1)
+		if !(u >= 0 && u <= top) || g.strict && !(u >= 1 && u <= top-1) {
+			return math.NaN()
+		}
+		k := max(1, min(int(u+colHalf), g.n[d]-2))
+		t := u - float64(k)
+		wq[d] = [3]float64{t * (t - 1) / 2, 1 - t*t, t * (t + 1) / 2}
+		oq += (k - 1) * g.stride[d]
+	}
+	wd, we := &wq[3], &wq[4]
+	wa, wb, wc := [2]float64{a0, a1}, [2]float64{b0, b1}, [2]float64{c0, c1}
+	s0, s1, s2, s3 := g.stride[0], g.stride[1], g.stride[2], g.stride[3]
+	v := g.vals
+	acc := 0.0
+	for a := 0; a < n0; a++ {
+		for b := 0; b < n1; b++ {
+			wab := wa[a] * wb[b]
+			for c := 0; c < n2; c++ {
+				o := o0 + a*s0 + o1 + b*s1 + o2 + c*s2 + oq
+				p0, p1, p2 := v[o:o+3:o+3], v[o+s3:o+s3+3:o+s3+3], v[o+2*s3:o+2*s3+3:o+2*s3+3]
+				r0 := we[0]*float64(p0[0]) + we[1]*float64(p0[1]) + we[2]*float64(p0[2])
+				r1 := we[0]*float64(p1[0]) + we[1]*float64(p1[1]) + we[2]*float64(p1[2])
+				r2 := we[0]*float64(p2[0]) + we[1]*float64(p2[1]) + we[2]*float64(p2[2])
+				acc += wab * wc[c] * (wd[0]*r0 + wd[1]*r1 + wd[2]*r2)
+			}
+		}
+	}
+	return acc
+}
+
+// valueAt is at, through at3L2Q for the value tables' layout.
+func (g *nGrid) valueAt(x *[nDims]float64) float64 {
+	if g.isLLLQQ() {
+		return g.at3L2Q(x)
+	}
+	return g.at(x)
+}
+
 // Evaporation table.
 //
 // The drop that just reaches the surface with zero radius leaves cloud base with the
@@ -460,10 +689,10 @@ const (
 	evMinFall = 1e-3 // m, floor of the tabulated fall distance
 )
 
-// buildEvapTable integrates the threshold and both value tables (in parallel), for a
-// surface pressure ps0 (Pa) of the columns without CTH. Axis order (last axis contiguous):
-// threshold (p_s, T_b, u, ln z_b), values (p_s, u, T_b, ln z_b, s).
-func buildEvapTable(ps0 float64) *evapTable {
+// newEvapTable lays out the (unfilled) threshold and value tables for a surface pressure
+// ps0 (Pa) of the columns without CTH. Axis order (last axis contiguous): threshold (p_s,
+// T_b, u, ln z_b), values (p_s, u, T_b, ln z_b, s).
+func newEvapTable(ps0 float64) *evapTable {
 	a := evapAxes
 	t := &evapTable{}
 	t.thr = newNGrid([]float64{ps0 + a.thrLo[3], a.thrLo[1], a.thrLo[2], a.thrLo[0]},
@@ -475,58 +704,74 @@ func buildEvapTable(ps0 float64) *evapTable {
 	t.reach = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nReach}, cub, false)
 	vhi[4] = a.sEvap
 	t.evap = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nEvap}, cub, false)
-	// Work items: every node of the threshold table, and every layer (s-line) of the value tables.
+	return t
+}
+
+// buildEvapTable is newEvapTable filled.
+func buildEvapTable(ps0 float64) *evapTable {
+	t := newEvapTable(ps0)
+	t.fill()
+	return t
+}
+
+// fill integrates the threshold and both value tables (in parallel): every node of the
+// threshold table, and every layer (s-line) of the value tables.
+func (t *evapTable) fill() {
 	nThr := len(t.thr.vals)
-	nLay := len(t.reach.vals) / a.nReach
+	nLay := len(t.reach.vals) / evapAxes.nReach
 	parallelFor(nThr+nLay, func(i int) {
 		if i < nThr {
 			x := t.thr.node(i)
 			t.thr.vals[i] = float32(math.Log(evapThreshold(evLayer(x[3], x[1], x[2], x[0]))))
 			return
 		}
-		i -= nThr
-		x := t.reach.node(i * a.nReach) // s = 0
-		l := evLayer(x[3], x[2], x[1], x[0])
-		rs := evapThreshold(l)
-		if !(rs > 0) {
-			return
+		fillEvapLayer(t, i-nThr)
+	})
+}
+
+// fillEvapLayer integrates layer i (the s-line of node i*nReach) of both value tables.
+func fillEvapLayer(t *evapTable, i int) {
+	a := evapAxes
+	x := t.reach.node(i * a.nReach) // s = 0
+	l := evLayer(x[3], x[2], x[1], x[0])
+	rs := evapThreshold(l)
+	if !(rs > 0) {
+		return
+	}
+	for _, g := range []*nGrid{t.reach, t.evap} {
+		sign := 1.0
+		if g == t.evap {
+			sign = -1
 		}
-		for _, g := range []*nGrid{t.reach, t.evap} {
-			sign := 1.0
-			if g == t.evap {
-				sign = -1
+		ns := g.n[4]
+		vals := g.vals[i*ns : (i+1)*ns]
+		for k := 1; k < ns; k++ {
+			s := float64(k) * g.step[4]
+			xi := sign * s * s
+			r0 := rs * math.Exp(xi)
+			if r0 > BeardDMax/2 && k > 2 { // beyond Beard's range: extrapolate (these nodes are taps only)
+				vals[k] = 2*vals[k-1] - vals[k-2]
+				continue
 			}
-			ns := g.n[4]
-			vals := g.vals[i*ns : (i+1)*ns]
-			for k := 1; k < ns; k++ {
-				s := float64(k) * g.step[4]
-				xi := sign * s * s
-				r0 := rs * math.Exp(xi)
-				if r0 > BeardDMax/2 && k > 2 { // beyond Beard's range: extrapolate (these nodes are taps only)
-					vals[k] = 2*vals[k-1] - vals[k-2]
+			e := evaporateTol(r0, l, evTabRelTol)
+			if sign > 0 {
+				if !e.Reached || !(e.SurfaceRadius >= 0) || !colFinite(e.SurfaceRadius) {
 					continue
 				}
-				e := evaporateTol(r0, l, evTabRelTol)
-				if sign > 0 {
-					if !e.Reached || !(e.SurfaceRadius >= 0) || !colFinite(e.SurfaceRadius) {
-						continue
-					}
-					q := e.SurfaceRadius / rs
-					if G := math.Exp(4*xi) - q*q*q*q; G > 0 {
-						vals[k] = float32(math.Log(G) / xi)
-					}
-				} else {
-					if e.Reached || !(e.EvapHeight >= 0) || !colFinite(e.EvapHeight) {
-						continue
-					}
-					d := math.Max(l.BaseHeight-e.EvapHeight, evMinFall)
-					vals[k] = float32(math.Log(d/l.BaseHeight) / xi)
+				q := e.SurfaceRadius / rs
+				if G := math.Exp(4*xi) - q*q*q*q; G > 0 {
+					vals[k] = float32(math.Log(G) / xi)
 				}
+			} else {
+				if e.Reached || !(e.EvapHeight >= 0) || !colFinite(e.EvapHeight) {
+					continue
+				}
+				d := math.Max(l.BaseHeight-e.EvapHeight, evMinFall)
+				vals[k] = float32(math.Log(d/l.BaseHeight) / xi)
 			}
-			vals[0] = 2*vals[1] - vals[2] // linear extrapolation to s = 0 (derived)
 		}
-	})
-	return t
+		vals[0] = 2*vals[1] - vals[2] // linear extrapolation to s = 0 (derived)
+	}
 }
 
 // parallelFor calls f(i) for i in [0, n) on tabWork goroutines.
@@ -610,9 +855,14 @@ const (
 // evEvaporated with the evaporation height, or evOutside.
 func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (kind int, v float64) {
 	zb := l.BaseHeight
-	lz := math.Log(zb)
+	lz := colLog(zb) // a table coordinate: absolute error logTol max(1, |ln z_b|)
 	x := [nDims]float64{ps, l.BaseT, u, lz}
-	lrs := t.thr.at(&x)
+	var lrs float64
+	if t.thr.isLQQQ() {
+		lrs = t.thr.at1L3Q(&x)
+	} else {
+		lrs = t.thr.at(&x)
+	}
 	if math.IsNaN(lrs) {
 		return evOutside, 0
 	}
@@ -621,20 +871,29 @@ func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (k
 	switch {
 	case xi >= evXiBand:
 		x[4] = math.Sqrt(xi)
-		q := -math.Expm1(xi * (t.reach.at(&x) - 4))
+		q := -colExpm1(xi * (t.reach.valueAt(&x) - 4))
 		if !(q >= evMinQ) { // NaN too
 			return evOutside, 0
 		}
 		return evReached, r0 * math.Sqrt(math.Sqrt(math.Min(q, 1)))
 	case xi <= -evXiBand:
 		x[4] = math.Sqrt(-xi)
-		lv := t.evap.at(&x)
+		lv := t.evap.valueAt(&x)
 		if math.IsNaN(lv) {
 			return evOutside, 0
 		}
-		return evEvaporated, math.Max(-zb*math.Expm1(xi*lv), 0)
+		return evEvaporated, math.Max(-zb*colExpm1(xi*lv), 0)
 	}
 	return evOutside, 0
+}
+
+// colExpm1 returns e^x - 1: colExp(x) - 1 for x < -1/2, where |e^x - 1| > 0.39 keeps it
+// within 3e-15 relative (derived from expTol), else math.Expm1 (and for NaN).
+func colExpm1(x float64) float64 {
+	if x < -colHalf {
+		return colExp(x) - 1
+	}
+	return math.Expm1(x)
 }
 
 // evaporate interpolates the evaporation table into res for a drop of radius r0 (m, lnR0 =

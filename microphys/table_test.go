@@ -265,3 +265,105 @@ func TestEvapThreshold(t *testing.T) {
 		t.Errorf("threshold table error %.3g > %g", worst, thrTol)
 	}
 }
+
+// TestTableFastPaths checks the unrolled interpolations of Column's table path against the
+// general ones they write out (derived: the same taps and weights, summed in another order,
+// so equal to rounding): interpCC22 against stencil and interp, at1L3Q and at3L2Q against
+// nGrid.at, colExpm1 against math.Expm1, and subCloudFast against subCloud, over random
+// points inside and around the tables.
+func TestTableFastPaths(t *testing.T) {
+	t.Parallel()
+	m := defaultModel(t)
+	const tol = 1e-13 // absolute on the interpolated logarithms, relative on the layer (derived: rounding)
+	rng := rand.New(rand.NewPCG(5, 6))
+	between := func(lo, hi float64) float64 { return lo + (hi-lo)*(1.2*rng.Float64()-0.1) } // 10 % beyond each end
+	cg := m.tab.coll
+	if !cg.isCC22() || !m.tab.evap.thr.isLQQQ() || !m.tab.evap.reach.isLLLQQ() || !m.tab.evap.evap.isLLLQQ() {
+		t.Fatal("the tables do not have the layouts of the unrolled interpolations")
+	}
+	inside := 0
+	for i := 0; i < 20000; i++ {
+		var x [tabDims]float64
+		for d := range x {
+			x[d] = between(collGrid.lo[d], collGrid.hi[d])
+		}
+		var s tabStencil
+		var want, got [tabVals]float64
+		wst := uint8(0)
+		if cg.stencil(x, &s) {
+			wst = cg.interp(&s, &want)
+		}
+		gst := cg.interpCC22(x[0], x[1], x[2], x[3], &got)
+		if gst != wst {
+			t.Fatalf("collector table at %v: state %d, want %d", x, gst, wst)
+		}
+		if wst != 0 {
+			inside++
+			for k := range got {
+				if math.Abs(got[k]-want[k]) > tol {
+					t.Fatalf("collector table at %v: value %d = %.17g, want %.17g", x, k, got[k], want[k])
+				}
+			}
+		}
+	}
+	for _, g := range []*nGrid{m.tab.evap.thr, m.tab.evap.reach, m.tab.evap.evap} {
+		for i := 0; i < 20000; i++ {
+			var x [nDims]float64
+			for d := 0; d < g.dims; d++ {
+				hi := g.lo[d] + float64(g.n[d]-1)*g.step[d]
+				x[d] = between(g.lo[d], hi)
+				if d == 0 && i%2 == 0 {
+					x[d] = m.p.SurfacePressure // on the middle node, as for columns without CTH
+				}
+			}
+			want := g.at(&x)
+			var got float64
+			if g.dims == 4 {
+				got = g.at1L3Q(&x)
+			} else {
+				got = g.at3L2Q(&x)
+			}
+			if math.IsNaN(got) != math.IsNaN(want) || math.Abs(got-want) > tol {
+				t.Fatalf("%d-axis table at %v: %.17g, want %.17g", g.dims, x, got, want)
+			}
+			if !math.IsNaN(want) {
+				inside++
+			}
+		}
+	}
+	if inside < 20000 { // a quarter: enough to exercise every table inside
+		t.Errorf("only %d of 80000 points inside the tables", inside)
+	}
+	for i := 0; i < 20000; i++ {
+		x := -40 * rng.Float64() * rng.Float64()
+		if got, want := colExpm1(x), math.Expm1(x); math.Abs(got-want) > 3e-15*math.Abs(want) {
+			t.Fatalf("colExpm1(%g) = %.17g, want %.17g", x, got, want)
+		}
+	}
+	for i, in := range marineScSample(4000, 3, true) {
+		st := adiabaticState(in.CTT, in.CTP)
+		h := Thickness(in.LWP, m.p.Fad, st.cw)
+		rh := in.SurfaceRH
+		if math.IsNaN(rh) {
+			rh = m.p.SurfaceRH
+		}
+		var lf, lw SubCloudLayer
+		okF := m.subCloudFast(in.CTT, in.CTP, h, airStateFast(in.CTT, in.CTP).gm, in.CTH, rh, &lf)
+		okW := m.subCloud(in.CTT, in.CTP, h, in.CTH, rh, &lw)
+		if okF != okW {
+			t.Fatalf("column %d: subCloudFast %v, subCloud %v", i, okF, okW)
+		}
+		if !okW {
+			continue
+		}
+		// z_b = c_pd (T_s - T_b)/g loses the digits of T_s - T_b: its rounding is relative to
+		// c_pd T_s/g (derived from DryBaseHeight).
+		zScale := SpecificHeatDryAir * (lw.BaseT + Gravity/SpecificHeatDryAir*lw.BaseHeight) / Gravity
+		for _, c := range [][3]float64{{lf.BaseHeight, lw.BaseHeight, zScale}, {lf.BaseT, lw.BaseT, lw.BaseT},
+			{lf.BaseP, lw.BaseP, lw.BaseP}, {m.surfacePressureFast(in.CTH, &lf), m.surfacePressure(in.CTH, &lw), lw.BaseP}} {
+			if math.Abs(c[0]-c[1]) > tol*c[2] {
+				t.Fatalf("column %d: layer %+v, want %+v", i, lf, lw)
+			}
+		}
+	}
+}
