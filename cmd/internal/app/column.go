@@ -175,7 +175,7 @@ func runColumn(e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	m, err := microphys.NewModel(p)
+	m, err := newModel(p)
 	if err != nil {
 		return usagef("%v", err)
 	}
