@@ -6,6 +6,7 @@ import (
 	"runtime"
 	"sync"
 	"sync/atomic"
+	"time"
 	"unsafe"
 )
 
@@ -23,6 +24,20 @@ type ProcessOptions struct {
 	// Cancel, when closed (e.g. ctx.Done() on SIGTERM), stops the run: Process
 	// aborts the output and returns an error wrapping ErrCanceled.
 	Cancel <-chan struct{}
+	// Stats, if set, receives the time spent in each stage when Process returns.
+	Stats *ProcessStats
+}
+
+// ProcessStats are the busy times of the pipeline's stages in one Process call:
+// Read and Write are the time the I/O thread spent reading and writing slabs
+// (decompression and compression included; the chunks left in the output's cache
+// are compressed at Commit, outside Process), Compute the summed time of the
+// workers (decoding, compute and encoding), WaitRead the time the workers waited
+// for a slab to be read, and Wall the whole call. When Read + Write is close to
+// Wall the run is bound by the I/O thread and the compute hides behind it.
+type ProcessStats struct {
+	Wall, Read, Write, Compute, WaitRead time.Duration
+	Slabs                                int
 }
 
 // ComputeFunc computes outputs for columns [lo, hi) of slab s: outs[k][i] is
@@ -184,6 +199,16 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		}()
 	}
+	tStart := time.Now()
+	var readDur, writeDur, waitRead time.Duration
+	var computeNs atomic.Int64
+	nSlabs := 0
+	if opt.Stats != nil {
+		defer func() {
+			*opt.Stats = ProcessStats{Wall: time.Since(tStart), Read: readDur, Write: writeDur,
+				Compute: time.Duration(computeNs.Load()), WaitRead: waitRead, Slabs: nSlabs}
+		}()
+	}
 	readQ := make(chan *slabSet, nBuffers)
 	writeQ := make(chan *slabSet, nBuffers)
 	var wg sync.WaitGroup
@@ -195,7 +220,11 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		defer close(readQ)
 		var cur *slabSet
 		var rerr error
-		call := newIOCall(func() { rerr = in.readIO(cur.in) })
+		call := newIOCall(func() {
+			t0 := time.Now()
+			rerr = in.readIO(cur.in)
+			readDur += time.Since(t0)
+		})
 		k := 0
 		p.each(func(lead, y0, ny, x0, nx int) error {
 			if stop.Load() {
@@ -221,7 +250,11 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		defer wg.Done()
 		var cur *slabSet
 		var werr error
-		call := newIOCall(func() { werr = out.writeIO(cur.in.start, cur.in.count, cur.outRaw, cur.in.slab.Index) })
+		call := newIOCall(func() {
+			t0 := time.Now()
+			werr = out.writeIO(cur.in.start, cur.in.count, cur.outRaw, cur.in.slab.Index)
+			writeDur += time.Since(t0)
+		})
 		for s := range writeQ {
 			if !stop.Load() {
 				cur = s
@@ -252,6 +285,8 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		}
 	}
 	work := func(j job) {
+		t0 := time.Now()
+		defer func() { computeNs.Add(int64(time.Since(t0))) }()
 		defer jwg.Done()
 		defer func() {
 			if r := recover(); r != nil {
@@ -280,7 +315,14 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		}()
 	}
-	for s := range readQ {
+	for {
+		t0 := time.Now()
+		s, ok := <-readQ
+		waitRead += time.Since(t0)
+		if !ok {
+			break
+		}
+		nSlabs++
 		if stop.Load() {
 			free <- s
 			continue

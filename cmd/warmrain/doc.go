@@ -53,6 +53,8 @@ Data go to stdout or files; messages go to stderr.
 	                                      --jobs, less one for the I/O thread)
 	      --deflate int                   deflate level of the outputs, 1-9 (0: no compression)
 	                                      (default 1)
+	      --pack[=true|false]             store the bounded outputs as CF-packed 16-bit integers
+	                                      (smaller, faster; precision in README)
 	      --significant-digits int        lossy: keep this many significant decimal digits in
 	                                      float outputs (CF quantization metadata; 0: off)
 	  -f, --force[=true|false]            overwrite existing outputs (inputs are never overwritten)

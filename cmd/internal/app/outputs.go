@@ -25,6 +25,17 @@ type outputDef struct {
 	collector    bool      // needs the collector model
 	evaporation  bool      // needs the evaporation model
 	content      string
+	packable     bool // bounded: stored as CF-packed int16 over [validMin, validMax] with --pack
+}
+
+// packedSteps is the number of int16 steps a packed output's valid range spans: stored
+// values -32767..32767 (-32768 is the fill value), so the step is (validMax -
+// validMin)/packedSteps and a value is kept within half a step.
+const packedSteps = 65534
+
+// packing returns the scale_factor and add_offset of a packed output.
+func (d *outputDef) packing() (scale, offset float64) {
+	return (d.validMax - d.validMin) / packedSteps, (d.validMax + d.validMin) / 2
 }
 
 const qcName = "warm_rain_qc"
@@ -48,16 +59,16 @@ func outputTable() []outputDef {
 			longName:     "geometric thickness of the adiabatic liquid cloud layer",
 			validMin:     0, validMax: 2e4,
 			comment:    "H = sqrt(2 LWP / (f_ad c_w))",
-			references: "Brenguier et al. (2000)", content: "modelResult"},
+			references: "Brenguier et al. (2000)", content: "modelResult", packable: true},
 		{name: "condensation_rate", get: func(o *microphys.Outputs) float64 { return o.Cw }, scale: 1e6, units: "g m-3 km-1",
 			longName: "adiabatic condensation rate (increase of liquid water content with height along the moist adiabat)",
 			validMin: 0, validMax: 10,
 			comment:    "c_w at cloud-top temperature and pressure, before the adiabatic fraction is applied",
-			references: "Brenguier et al. (2000); Bolton (1980)", content: "modelResult"},
+			references: "Brenguier et al. (2000); Bolton (1980)", content: "modelResult", packable: true},
 		{name: "adiabatic_top_effective_radius", get: func(o *microphys.Outputs) float64 { return o.ReTop }, scale: 1e6, units: "um",
 			longName: "cloud-top effective radius of the adiabatic cloud model",
 			validMin: 0, validMax: 100,
-			comment: "r_e at the top of the adiabatic column with the derived N_d and H", content: "modelResult"},
+			comment: "r_e at the top of the adiabatic column with the derived N_d and H", content: "modelResult", packable: true},
 		{name: "column_autoconversion_rate", get: func(o *microphys.Outputs) float64 { return o.Autoconv }, scale: 1, units: "kg m-2 s-1",
 			longName: "column-integrated autoconversion rate of cloud water to drizzle over the adiabatic profile",
 			validMin: 0, validMax: 1,
@@ -73,7 +84,7 @@ func outputTable() []outputDef {
 		{name: "drizzle_probability", get: func(o *microphys.Outputs) float64 { return o.POP }, scale: 1, units: "1",
 			longName: "probability that the column drizzles (sub-grid gamma-distributed LWP above the critical LWP)",
 			validMin: 0, validMax: 1,
-			comment: "POP = Q(nu, nu LWP*/LWP), Q the regularized upper incomplete gamma function", references: "Barker (1996)", content: "modelResult"},
+			comment: "POP = Q(nu, nu LWP*/LWP), Q the regularized upper incomplete gamma function", references: "Barker (1996)", content: "modelResult", packable: true},
 		{name: "critical_lwp", get: func(o *microphys.Outputs) float64 { return o.LWPCrit }, scale: 1e3, units: "g m-2",
 			longName: "liquid water path at which the adiabatic cloud-top effective radius reaches the drizzle-onset radius",
 			validMin: 0, validMax: 1e5, content: "modelResult"},
@@ -90,7 +101,7 @@ func outputTable() []outputDef {
 			comment: "diffusional evaporation with ventilation through a well-mixed sub-cloud layer", content: "modelResult"},
 		{name: "drizzle_evaporation_height", get: func(o *microphys.Outputs) float64 { return o.EvapHeight }, scale: 1, units: "m",
 			longName: "height above the surface at which the collector drop evaporated completely (missing if it reached the surface)",
-			validMin: 0, validMax: 2e4, collector: true, evaporation: true, content: "modelResult"},
+			validMin: 0, validMax: 2e4, collector: true, evaporation: true, content: "modelResult", packable: true},
 	}
 }
 
@@ -148,17 +159,22 @@ func outputNames(defs []outputDef) []string {
 }
 
 // gridVars turns the chosen outputs into grid output variables, QC last.
-func gridVars(defs []outputDef, inputVars string) []grid.OutputVar {
+func gridVars(defs []outputDef, inputVars string, pack bool) []grid.OutputVar {
 	anc := qcName
 	vars := make([]grid.OutputVar, 0, len(defs)+1)
 	for _, d := range defs {
 		comment := d.comment
-		vars = append(vars, grid.OutputVar{
+		v := grid.OutputVar{
 			Name: d.name, StandardName: d.standardName, LongName: d.longName, Units: d.units,
 			Type: grid.Float32, Fill: -999, ValidMin: d.validMin, ValidMax: d.validMax,
 			AncillaryVariables: anc, CellMethods: "time: point", Comment: comment, References: d.references,
 			CoverageContentType: d.content,
-		})
+		}
+		if pack && d.packable {
+			v.Type, v.Fill = grid.Int16, -32768
+			v.Scale, v.Offset = d.packing()
+		}
+		vars = append(vars, v)
 	}
 	masks := make([]int, len(microphys.QCFlags))
 	words := make([]string, len(microphys.QCFlags))

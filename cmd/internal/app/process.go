@@ -14,6 +14,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"runtime/debug"
+	"runtime/pprof"
 	"strconv"
 	"strings"
 	"sync"
@@ -60,6 +61,9 @@ type processOptions struct {
 	checksum, quiet, noProgess bool
 	slabMB                     int
 	ioOnly                     bool
+	cpuProfile                 string
+	stats                      bool
+	pack                       bool
 	quantize                   int
 	slot                       string // internal: "k/n" for a child process of --jobs
 	phys                       *physicsFlags
@@ -76,6 +80,7 @@ func runProcess(e *env, args []string) error {
 	fs.IntVarP(&o.jobs, "jobs", "j", 1, "files processed at the same time, each in its own process (libnetcdf is single-threaded)")
 	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs, less one for the I/O thread)")
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
+	fs.BoolVar(&o.pack, "pack", false, "store the bounded outputs as CF-packed 16-bit integers (smaller, faster; precision in README)")
 	fs.IntVar(&o.quantize, "significant-digits", 0, "lossy: keep this many significant decimal digits in float outputs (CF quantization metadata; 0: off)")
 	fs.BoolVarP(&o.force, "force", "f", false, "overwrite existing outputs (inputs are never overwritten)")
 	fs.BoolVar(&o.redo, "redo", false, "process again even when a complete output exists (replaces outputs written by warmrain)")
@@ -88,6 +93,10 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no progress line (it is shown only when stderr is a terminal)")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
 	fs.BoolVar(&o.ioOnly, "io-only", false, "benchmark: read inputs and write outputs without the physics")
+	fs.StringVar(&o.cpuProfile, "cpu-profile", "", "developers: write a Go CPU profile of the run to this file (see DEVELOPERS.md)")
+	_ = fs.MarkHidden("cpu-profile")
+	fs.BoolVar(&o.stats, "pipeline-stats", false, "developers: print the busy time of each pipeline stage per file on stderr")
+	_ = fs.MarkHidden("pipeline-stats")
 	fs.StringVar(&o.slot, "child-slot", "", "internal")
 	_ = fs.MarkHidden("child-slot")
 	_ = fs.MarkHidden("io-only")
@@ -180,6 +189,21 @@ func runProcess(e *env, args []string) error {
 		shardName = fmt.Sprintf("%d/%d", shard.Index, shard.Count)
 	}
 
+	if o.cpuProfile != "" {
+		f, err := os.Create(o.cpuProfile)
+		if err != nil {
+			return fmt.Errorf("--cpu-profile: %v", err)
+		}
+		if err := pprof.StartCPUProfile(f); err != nil {
+			f.Close()
+			return fmt.Errorf("--cpu-profile %s: %v", o.cpuProfile, err)
+		}
+		defer func() {
+			pprof.StopCPUProfile()
+			f.Close()
+		}()
+	}
+
 	job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, args: args, shardName: shardName}
 	job.digest = job.paramDigest()
 
@@ -266,7 +290,7 @@ type processJob struct {
 }
 
 func (j *processJob) getModel() (*microphys.Model, error) {
-	j.modelOnce.Do(func() { j.model, j.modelErr = microphys.NewModel(j.params) })
+	j.modelOnce.Do(func() { j.model, j.modelErr = newModel(j.params) })
 	return j.model, j.modelErr
 }
 
@@ -281,6 +305,7 @@ func (j *processJob) paramDigest() string {
 		[2]string{"augment", strconv.FormatBool(j.o.augment)},
 		[2]string{"deflate", strconv.Itoa(j.o.deflate)},
 		[2]string{"significant_digits", strconv.Itoa(j.o.quantize)},
+		[2]string{"pack", strconv.FormatBool(j.o.pack)},
 		[2]string{"io_only", strconv.FormatBool(j.o.ioOnly)},
 		[2]string{"binds", strings.Join(j.o.binds, ";")},
 		[2]string{"version", Version()})
@@ -384,7 +409,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	wopt.HistoryLine = fmt.Sprintf("%s: warmrain %s process %s", time.Now().UTC().Format("2006-01-02T15:04:05Z"), Version(), joinArgs(j.args))
 	wopt.Globals = j.globals(id)
-	vars := gridVars(j.defs, strings.Join(used, " "))
+	vars := gridVars(j.defs, strings.Join(used, " "), j.o.pack)
 	if j.o.quantize > 0 {
 		for k := range vars {
 			if vars[k].Type == grid.Float32 {
@@ -407,7 +432,17 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if progress && isTerminal(j.e.stderr) && !j.o.noProgess {
 		popt.Progress = progressLine(j.e.stderr, input, t0)
 	}
+	var stats grid.ProcessStats
+	if j.o.stats {
+		popt.Stats = &stats
+	}
 	err = grid.Process(in, out, popt, j.compute(&screened))
+	if j.o.stats {
+		io := stats.Read + stats.Write
+		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s on %d workers; waited for input %.2f s\n",
+			input, stats.Slabs, stats.Wall.Seconds(), io.Seconds(), stats.Read.Seconds(), stats.Write.Seconds(),
+			100*io.Seconds()/stats.Wall.Seconds(), stats.Compute.Seconds(), popt.Workers, stats.WaitRead.Seconds())
+	}
 	if popt.Progress != nil {
 		fmt.Fprint(j.e.stderr, "\r\033[K")
 	}
@@ -555,6 +590,13 @@ func (j *processJob) runChildren(ctx context.Context, inputs, outputs []string, 
 		return nil, fmt.Errorf("--jobs needs the warmrain executable: %w", err)
 	}
 	n := min(j.o.jobs, len(mine))
+	if !j.o.ioOnly && tableCachePath(tableCacheDir(), j.params) != "" {
+		// Fill the table cache once here, so that the children load the tables
+		// instead of each integrating them at the same time.
+		if _, err := j.getModel(); err != nil {
+			return nil, err
+		}
+	}
 	var mu sync.Mutex
 	var recs []batch.Record
 	var wg sync.WaitGroup

@@ -399,3 +399,84 @@ print("ok")
 		t.Fatalf("xarray check: %v\n%s", err, b)
 	}
 }
+
+// TestProcessPack: with --pack the bounded outputs are CF-packed int16 whose unpacked values
+// (through grid, and through xarray/netCDF4 as an outside reader) lie within half a packing
+// step of the float32 run's values, with the same missing columns; the other outputs are
+// unchanged. The sample is the invented demo scenario.
+func TestProcessPack(t *testing.T) {
+	dir := t.TempDir()
+	in := samplePath(t)
+	plain, packed := filepath.Join(dir, "plain.nc"), filepath.Join(dir, "packed.nc")
+	if code, _, e := runProc(t, "process", in, "-o", plain, "-q"); code != 0 {
+		t.Fatalf("process: %d %s", code, e)
+	}
+	if code, _, e := runProc(t, "process", in, "-o", packed, "-q", "--pack"); code != 0 {
+		t.Fatalf("process --pack: %d %s", code, e)
+	}
+	defs, err := selectOutputs("all", microphys.DefaultParams())
+	if err != nil {
+		t.Fatal(err)
+	}
+	npacked := 0
+	for _, d := range defs {
+		a, b := readVar(t, plain, d.name), readVar(t, packed, d.name)
+		if len(a) != len(b) {
+			t.Fatalf("%s: %d vs %d values", d.name, len(a), len(b))
+		}
+		tol := 0.0
+		if d.packable {
+			npacked++
+			scale, _ := d.packing()
+			tol = scale/2 + 1e-6*math.Max(math.Abs(d.validMin), math.Abs(d.validMax))
+		}
+		nvalid := 0
+		for i := range a {
+			if math.IsNaN(a[i]) != math.IsNaN(b[i]) {
+				t.Fatalf("%s[%d]: missing in one run only (%g vs %g)", d.name, i, a[i], b[i])
+			}
+			if math.IsNaN(a[i]) {
+				continue
+			}
+			nvalid++
+			if math.Abs(a[i]-b[i]) > tol {
+				t.Fatalf("%s[%d]: packed %g, float32 %g (tolerance %g)", d.name, i, b[i], a[i], tol)
+			}
+		}
+		if nvalid == 0 {
+			t.Errorf("%s: no valid value in the sample (the test would not check it)", d.name)
+		}
+	}
+	if npacked != 5 {
+		t.Errorf("%d packable outputs, want 5", npacked)
+	}
+	// The stored type and attributes, and an outside reader's unpacking.
+	py := "/usr/bin/python3"
+	if exec.Command(py, "-c", "import netCDF4, xarray").Run() != nil {
+		if os.Getenv("CI") == "true" {
+			t.Fatal("python3-netcdf4 and python3-xarray are required in CI")
+		}
+		t.Skip("python3-netcdf4/xarray not installed")
+	}
+	check := `
+import sys, netCDF4, xarray, numpy as np
+p, f = sys.argv[1], sys.argv[2]
+ds = netCDF4.Dataset(p)
+v = ds["drizzle_probability"]
+assert v.dtype == np.int16, v.dtype
+assert v._FillValue == -32768
+assert hasattr(v, "scale_factor") and hasattr(v, "add_offset")
+a = xarray.open_dataset(p)["drizzle_probability"].values
+b = xarray.open_dataset(f)["drizzle_probability"].values
+assert a.dtype.kind == "f"
+assert (np.isnan(a) == np.isnan(b)).all()
+m = ~np.isnan(a)
+assert m.any()
+step = float(v.scale_factor)
+assert np.nanmax(np.abs(a[m] - b[m])) <= step / 2 + 1e-6, np.nanmax(np.abs(a[m] - b[m]))
+print("ok")
+`
+	if out, err := exec.Command(py, "-c", check, packed, plain).CombinedOutput(); err != nil || !strings.Contains(string(out), "ok") {
+		t.Fatalf("outside reader: %v\n%s", err, out)
+	}
+}
