@@ -27,10 +27,16 @@ CASES = [  # key, label
     ("b_d4", "(b) io-only --deflate 4"),
     ("b_q3", "(b) io-only --significant-digits 3"),
     ("c_q3", "(c) all --significant-digits 3"),
+    ("b_pack", "(b) io-only --pack"),
+    ("c_pack", "(c) all --pack"),
+    ("c_nocache", "(c) all, table cache off"),
+    ("b_hog", "(b) io-only, other core busy"),
+    ("f_b", "(f) nccopy of (b)'s output"),
+    ("f_c", "(f) nccopy of (c)'s output"),
 ]
 LABEL = dict(CASES)
 # The I/O floor each case is compared to.
-FLOOR = {"c_packed": "b_packed", "b_packed": "b_packed", "c_plain": "b_plain", "b_plain": "b_plain"}
+FLOOR = {"c_pack": "b_pack", "b_pack": "b_pack", "c_packed": "b_packed", "b_packed": "b_packed", "c_plain": "b_plain", "b_plain": "b_plain"}
 
 
 def read_tsv(path):
@@ -38,6 +44,23 @@ def read_tsv(path):
         return []
     with open(path) as f:
         return [line.rstrip("\n").split("\t") for line in f if line.strip() and not line.startswith("#")]
+
+
+def pipeline_stats(d, case, n):
+    """The --pipeline-stats line of a case's log: (wall, io, compute) seconds, or None."""
+    path = os.path.join(d, "log", "%s-%d.err" % (case, n))
+    if not os.path.exists(path):
+        return None
+    for line in open(path):
+        if ": pipeline " in line:
+            try:
+                wall = float(line.split("wall ")[1].split(" s")[0])
+                io = float(line.split("I/O thread ")[1].split(" s")[0])
+                comp = float(line.split("compute ")[1].split(" s")[0])
+                return wall, io, comp
+            except (IndexError, ValueError):
+                return None
+    return None
 
 
 def verdict(ok):
@@ -86,6 +109,18 @@ def main(d):
             p("%-34s %6s %9.2f %12.3g %9.1f %7s %7s %8.2f %8.1f" % (label, "8×2000²" if cols == 8 * 2000 * 2000 else str(cols),
                                                                  wall, cols / wall, rss, "-", "-", cpu, outmb))
     p("")
+    for n in sizes:
+        parts = []
+        for key in ("b", "b_hog", "c"):
+            st = pipeline_stats(d, key, n)
+            if st:
+                parts.append("%s: Process %.2f s, I/O thread busy %.2f s (%.0f %%), compute %.2f s" % (
+                    key, st[0], st[1], 100 * st[1] / st[0], st[2]))
+        fb, fc = runs.get(("f_b", n)), runs.get(("f_c", n))
+        if fb and fc:
+            parts.append("nccopy of (c)'s output / of (b)'s: %.2f (what (c)'s contents cost more to compress)" % (fc[1] / fb[1]))
+        if parts:
+            p("Pipeline %d² (--pipeline-stats): " % n + "; ".join(parts))
     p("Script phases (s): " + "; ".join("%d²: read %.2f compute %.2f write %.2f" % ((n,) + script[n]) for n in sorted(script)))
     if kernel:
         p("Kernel (go test -bench, one core): " + ", ".join("%s %.0f ns/column" % (k, v) for k, v in sorted(kernel.items())))

@@ -12,6 +12,9 @@
 #   (c)  warmrain process                        every diagnostic
 #   (d)  warmrain process --no-collector         bulk diagnostics only
 #   (e)  bench/bulk_xarray.py                    an analyst's xarray/numpy/scipy script (bulk set)
+#   (c) with the table cache off (a first run: the tables are integrated)
+#   (f)  nccopy -d 1 -s of (b)'s and of (c)'s output: what their contents cost to compress
+#   (b) again while another process keeps the other core busy: what sharing the machine costs
 #   (b)/(c) again on the int16-packed and the contiguous inputs
 #   the archive case: 8 files of 2000² with --jobs 1 and --jobs 2 (outputs compared)
 # and prints one table (wall s, columns/s, peak RSS, ratios to (b) and (e), CPU s,
@@ -28,7 +31,7 @@
 #   ARCHIVE=1                run the archive case (0: skip)
 #   KERNEL=1                 run the microphys kernel benchmarks (0: skip)
 #   LEVERS=1                 output-size levers of (b) at LEVER_SIZE (default 2000): --deflate 0,
-#                            --deflate 4, --significant-digits 3 (0: skip)
+#                            --deflate 4, --significant-digits 3, --pack (0: skip)
 #   SCRIPT_MAX=4000          largest size for the xarray script (it holds ~370 bytes per column:
 #                            8000² would need ~24 GB)
 #   PY=/usr/bin/python3      Debian's python3 with xarray, numpy, scipy, netCDF4
@@ -129,11 +132,18 @@ for n in $SIZES; do
 	esac
 done
 
+# The collector/evaporation tables are built once and kept in a cache folder of the
+# benchmark (as in a user's cache after the first run); (c) table cache off measures a
+# first run.
+export WARMRAIN_TABLE_CACHE=$BENCH_DIR/tables
+mkdir -p "$WARMRAIN_TABLE_CACHE"
+"$WR" column --lwp 100 --re 12 >/dev/null
+
 info=$BENCH_DIR/info.txt
 {
 	echo "warmrain benchmark (bench/run.sh), $(date -u +%Y-%m-%dT%H:%M:%SZ), $(nproc) cores, $(uname -m), $(nc-config --version 2>/dev/null || echo 'netCDF ?'), $(go version | cut -d' ' -f3)"
 	echo "warmrain $(git -C "$ROOT" rev-parse --short HEAD 2>/dev/null || echo '?')$(git -C "$ROOT" diff --quiet 2>/dev/null || echo '+dirty'); inputs: float32 deflate 1 + shuffle, chunks 1000², 5 variables; outputs deflate 1 + shuffle"
-	echo "sizes: $SIZES (variants: $VARIANT_SIZES), repeats: $REPEAT; wall and peak RSS from GNU time -v; page cache warm"
+	echo "sizes: $SIZES (variants: $VARIANT_SIZES), repeats: $REPEAT; wall and peak RSS from GNU time -v; page cache warm; table cache warm unless said"
 } >"$info"
 
 for n in $SIZES; do
@@ -142,9 +152,20 @@ for n in $SIZES; do
 	o=$BENCH_DIR/out
 	log "== $n x $n"
 	measure a "$n" "$cols" "$o/a_$n.nc" nccopy -d 1 -s "$in" "$o/a_$n.nc"
-	measure b "$n" "$cols" "$o/b_$n.nc" "$WR" process "$in" -o "$o/b_$n.nc" --io-only -q
+	measure b "$n" "$cols" "$o/b_$n.nc" "$WR" process "$in" -o "$o/b_$n.nc" --io-only -q --pipeline-stats
 	measure b_bulk "$n" "$cols" "$o/bb_$n.nc" "$WR" process "$in" -o "$o/bb_$n.nc" --io-only --no-collector -q
-	measure c "$n" "$cols" "$o/c_$n.nc" "$WR" process "$in" -o "$o/c_$n.nc" -q
+	measure c "$n" "$cols" "$o/c_$n.nc" "$WR" process "$in" -o "$o/c_$n.nc" -q --pipeline-stats
+	measure c_nocache "$n" "$cols" "$o/cn_$n.nc" env WARMRAIN_TABLE_CACHE=off "$WR" process "$in" -o "$o/cn_$n.nc" -q
+	# What sharing the machine costs the I/O thread: (b) while another process keeps the
+	# other core busy (sha256sum of /dev/zero; no memory traffic to speak of).
+	sha256sum /dev/zero &
+	hog=$!
+	measure b_hog "$n" "$cols" "$o/bh_$n.nc" "$WR" process "$in" -o "$o/bh_$n.nc" --io-only -q --pipeline-stats
+	kill "$hog"
+	wait "$hog" 2>/dev/null || true
+	# What the outputs' contents cost to compress: libnetcdf copying (b)'s and (c)'s outputs.
+	measure f_b "$n" "$cols" "$o/fb_$n.nc" nccopy -d 1 -s "$o/b_$n.nc" "$o/fb_$n.nc"
+	measure f_c "$n" "$cols" "$o/fc_$n.nc" nccopy -d 1 -s "$o/c_$n.nc" "$o/fc_$n.nc"
 	measure d "$n" "$cols" "$o/d_$n.nc" "$WR" process "$in" -o "$o/d_$n.nc" --no-collector -q
 	if [ "$n" -le "$SCRIPT_MAX" ]; then
 		ch=$(chunks_of "$o/d_$n.nc" droplet_number)
@@ -198,6 +219,8 @@ if [ "$LEVERS" = 1 ]; then
 	measure b_d4 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --deflate 4 -q
 	measure b_q3 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --significant-digits 3 -q
 	measure c_q3 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --significant-digits 3 -q
+	measure b_pack "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --pack -q
+	measure c_pack "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --pack -q
 	rm -f "$o/l_$n.nc"
 fi
 
