@@ -78,20 +78,11 @@ func (g *tabGrid) fill(f func(x [tabDims]float64, v []float64)) {
 		go func(w int) {
 			var v [tabVals + 1]float64
 			for i := w; i < total; i += tabWork {
-				var x [tabDims]float64
-				rem := i
-				for d := 0; d < tabDims; d++ {
-					k := rem / g.stride[d]
-					rem -= k * g.stride[d]
-					x[d] = g.lo[d] + float64(k)*g.step[d]
-				}
-				f(x, v[:])
+				f(g.node(i), v[:])
 				for k := 0; k < tabVals; k++ {
 					g.vals[i*tabVals+k] = float32(v[k])
 				}
-				if st := v[tabVals]; st >= 1 && st <= 255 {
-					g.state[i] = uint8(st)
-				}
+				g.state[i] = stateByte(v[tabVals])
 			}
 			done <- struct{}{}
 		}(w)
@@ -99,6 +90,24 @@ func (g *tabGrid) fill(f func(x [tabDims]float64, v []float64)) {
 	for w := 0; w < tabWork; w++ {
 		<-done
 	}
+}
+
+// node returns the coordinates of node index i.
+func (g *tabGrid) node(i int) (x [tabDims]float64) {
+	for d := 0; d < tabDims; d++ {
+		k := i / g.stride[d]
+		i -= k * g.stride[d]
+		x[d] = g.lo[d] + float64(k)*g.step[d]
+	}
+	return x
+}
+
+// stateByte is the state byte of a node function's state value (0 = failed, NaN too).
+func stateByte(st float64) uint8 {
+	if st >= 1 && st <= 255 {
+		return uint8(st)
+	}
+	return 0
 }
 
 // tabStencil is the interpolation stencil of one point: first node and weights per axis.
@@ -536,6 +545,20 @@ func (g *nGrid) isLLLQQ() bool {
 	return g.dims == 5 && !g.cubic[0] && !g.cubic[1] && !g.cubic[2] && g.cubic[3] && g.cubic[4]
 }
 
+// quadTaps is axisTaps for curved axis d: the first tap's offset and the 3 quadratic weights;
+// false outside (or, for a strict grid, in the first or last cell).
+func (g *nGrid) quadTaps(d int, xd float64, w *[3]float64) (off int, ok bool) {
+	u := (xd - g.lo[d]) * g.inv[d]
+	top := float64(g.n[d] - 1)
+	if !(u >= 0 && u <= top) || g.strict && !(u >= 1 && u <= top-1) {
+		return 0, false
+	}
+	k := max(1, min(int(u+colHalf), g.n[d]-2))
+	t := u - float64(k)
+	*w = [3]float64{t * (t - 1) / 2, 1 - t*t, t * (t + 1) / 2}
+	return (k - 1) * g.stride[d], true
+}
+
 // at1L3Q is at for a grid with isLQQQ (the threshold table): the same taps and weights,
 // unrolled and contracted axis by axis (last axis first) so that the sums of one axis do not
 // wait for each other; equal to at to rounding.
@@ -547,15 +570,11 @@ func (g *nGrid) at1L3Q(x *[nDims]float64) float64 {
 	var wq [4][3]float64 // quadTaps of axes 1-3, written out
 	oq := 0
 	for d := 1; d < 4; d++ {
-		u := (x[d] - g.lo[d]) * g.inv[d]
-		top := float64(g.n[d] - 1)
-		if !(u >= 0 && u <= top) || g.strict && !(u >= 1 && u <= top-1) {
+		off, ok := g.quadTaps(d, x[d], &wq[d])
+		if !ok {
 			return math.NaN()
 		}
-		k := max(1, min(int(u+colHalf), g.n[d]-2))
-		t := u - float64(k)
-		wq[d] = [3]float64{t * (t - 1) / 2, 1 - t*t, t * (t + 1) / 2}
-		oq += (k - 1) * g.stride[d]
+		oq += off
 	}
 	wb, wc, wd := &wq[1], &wq[2], &wq[3]
 	wa := [2]float64{a0, a1}
@@ -590,15 +609,11 @@ func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
 	var wq [5][3]float64 // quadTaps of axes 3 and 4, written out
 	oq := 0
 	for d := 3; d < 5; d++ {
-		u := (x[d] - g.lo[d]) * g.inv[d]
-		top := float64(g.n[d] - 1)
-		if !(u >= 0 && u <= top) || g.strict && !(u >= 1 && u <= top-1) {
+		off, ok := g.quadTaps(d, x[d], &wq[d])
+		if !ok {
 			return math.NaN()
 		}
-		k := max(1, min(int(u+colHalf), g.n[d]-2))
-		t := u - float64(k)
-		wq[d] = [3]float64{t * (t - 1) / 2, 1 - t*t, t * (t + 1) / 2}
-		oq += (k - 1) * g.stride[d]
+		oq += off
 	}
 	wd, we := &wq[3], &wq[4]
 	wa, wb, wc := [2]float64{a0, a1}, [2]float64{b0, b1}, [2]float64{c0, c1}

@@ -143,19 +143,8 @@ func verifyTables(m *Model, t *collTable) error {
 	var v [tabVals + 1]float64
 	for k := 0; k < tableVerifyNodes; k++ {
 		i := spreadIndex(k, total)
-		var x [tabDims]float64
-		rem := i
-		for d := 0; d < tabDims; d++ {
-			j := rem / g.stride[d]
-			rem -= j * g.stride[d]
-			x[d] = g.lo[d] + float64(j)*g.step[d]
-		}
-		m.collNode(x, v[:])
-		var st uint8
-		if s := v[tabVals]; s >= 1 && s <= 255 {
-			st = uint8(s)
-		}
-		if st != g.state[i] {
+		m.collNode(g.node(i), v[:])
+		if st := stateByte(v[tabVals]); st != g.state[i] {
 			return fmt.Errorf("collector node %d: state %d, saved %d", i, st, g.state[i])
 		}
 		for q := 0; q < tabVals; q++ {
