@@ -27,6 +27,8 @@ CASES = [  # key, label
     ("b_d4", "(b) io-only --deflate 4"),
     ("b_q3", "(b) io-only --significant-digits 3"),
     ("c_q3", "(c) all --significant-digits 3"),
+    ("b_slab8", "(b) io-only --slab-mb 8"),
+    ("b_slab128", "(b) io-only --slab-mb 128"),
     ("b_pack", "(b) io-only --pack"),
     ("c_pack", "(c) all --pack"),
     ("c_nocache", "(c) all, table cache off"),

@@ -31,7 +31,8 @@
 #   ARCHIVE=1                run the archive case (0: skip)
 #   KERNEL=1                 run the microphys kernel benchmarks (0: skip)
 #   LEVERS=1                 output-size levers of (b) at LEVER_SIZE (default 2000): --deflate 0,
-#                            --deflate 4, --significant-digits 3, --pack (0: skip)
+#                            --deflate 4, --significant-digits 3, --pack, --slab-mb 8 and 128
+#                            (slabs, and so output chunks, of a quarter and four times the default) (0: skip)
 #   SCRIPT_MAX=4000          largest size for the xarray script (it holds ~370 bytes per column:
 #                            8000² would need ~24 GB)
 #   PY=/usr/bin/python3      Debian's python3 with xarray, numpy, scipy, netCDF4
@@ -219,6 +220,8 @@ if [ "$LEVERS" = 1 ]; then
 	measure b_d4 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --deflate 4 -q
 	measure b_q3 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --significant-digits 3 -q
 	measure c_q3 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --significant-digits 3 -q
+	measure b_slab8 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --slab-mb 8 -q
+	measure b_slab128 "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --slab-mb 128 -q
 	measure b_pack "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --io-only --pack -q
 	measure c_pack "$n" $((n * n)) "$o/l_$n.nc" "$WR" process "$in" -o "$o/l_$n.nc" --pack -q
 	rm -f "$o/l_$n.nc"
