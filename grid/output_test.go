@@ -430,3 +430,39 @@ func TestProcessCancel(t *testing.T) {
 		t.Error("final file written")
 	}
 }
+
+// TestProcessStats: ProcessStats counts every slab, and its stage times are positive and
+// within the wall time (Read and Write run on the one I/O thread, so together they fit in
+// it; Compute sums the workers, so it is checked against Wall times the workers).
+func TestProcessStats(t *testing.T) {
+	inPath := ncgen(t, "grid3d.cdl", "nc4")
+	in, err := Open(inPath, OpenOptions{SlabBytes: 200}) // one row per slab: many slabs
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer in.Close()
+	out, err := Create(filepath.Join(t.TempDir(), "out.nc"), in, testVars(), DefaultWriteOptions())
+	if err != nil {
+		t.Fatal(err)
+	}
+	var st ProcessStats
+	const workers = 2
+	if err := Process(in, out, ProcessOptions{Workers: workers, Stats: &st}, testCompute); err != nil {
+		t.Fatal(err)
+	}
+	if err := out.Commit(); err != nil {
+		t.Fatal(err)
+	}
+	if st.Slabs != out.plan.count || st.Slabs < 2 {
+		t.Errorf("Slabs = %d, want the plan's %d (>= 2)", st.Slabs, out.plan.count)
+	}
+	if !(st.Read > 0 && st.Write > 0 && st.Compute > 0 && st.Wall > 0) {
+		t.Errorf("stage times not all positive: %+v", st)
+	}
+	if st.Read+st.Write > st.Wall {
+		t.Errorf("I/O thread busy %v longer than the call %v", st.Read+st.Write, st.Wall)
+	}
+	if st.Compute > workers*st.Wall || st.WaitRead > st.Wall {
+		t.Errorf("compute %v or wait %v longer than possible in %v", st.Compute, st.WaitRead, st.Wall)
+	}
+}

@@ -480,3 +480,37 @@ print("ok")
 		t.Fatalf("outside reader: %v\n%s", err, out)
 	}
 }
+
+// TestProcessDeveloperOptions: the hidden --pipeline-stats prints one stage line per file on
+// stderr (nothing on stdout), and --cpu-profile writes a profile that go tool pprof reads.
+func TestProcessDeveloperOptions(t *testing.T) {
+	dir := t.TempDir()
+	prof := filepath.Join(dir, "cpu.prof")
+	code, stdout, stderr := runProc(t, "process", samplePath(t), "-o", filepath.Join(dir, "out.nc"), "-q",
+		"--pipeline-stats", "--cpu-profile", prof)
+	if code != 0 {
+		t.Fatalf("process: %d %s", code, stderr)
+	}
+	if stdout != "" {
+		t.Errorf("stdout not empty: %q", stdout)
+	}
+	if n := strings.Count(stderr, ": pipeline "); n != 1 || !strings.Contains(stderr, "I/O thread") || !strings.Contains(stderr, "slabs") {
+		t.Errorf("stderr: %d stage lines, want 1:\n%s", n, stderr)
+	}
+	st, err := os.Stat(prof)
+	if err != nil || st.Size() == 0 {
+		t.Fatalf("profile %s: %v", prof, err)
+	}
+	if out, err := exec.Command("go", "tool", "pprof", "-raw", prof).CombinedOutput(); err != nil {
+		t.Errorf("go tool pprof cannot read the profile: %v\n%.500s", err, out)
+	}
+	// A profile that cannot be created is a clear error before any work.
+	code, _, stderr = runProc(t, "process", samplePath(t), "-o", filepath.Join(dir, "out2.nc"),
+		"--cpu-profile", filepath.Join(dir, "missing", "cpu.prof"))
+	if code == 0 || !strings.Contains(stderr, "--cpu-profile") {
+		t.Errorf("unwritable profile: exit %d, stderr %q", code, stderr)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out2.nc")); err == nil {
+		t.Error("output written although the profile could not be created")
+	}
+}
