@@ -25,18 +25,7 @@ func readAll(t *testing.T, in *Input) map[Role][]float64 {
 	p := newPlan(in, nil, in.opt.SlabBytes)
 	buf := newInBuf(in, p)
 	out := map[Role][]float64{}
-	k := 0
-	err := p.each(func(lead, y0, ny, x0, nx int) error {
-		buf.setPos(p, k, lead, y0, ny, x0, nx)
-		k++
-		var rerr error
-		if e := onIO(func() { rerr = in.readIO(buf) }); e != nil {
-			return e
-		}
-		if rerr != nil {
-			return rerr
-		}
-		in.decode(buf, 0, buf.slab.N)
+	err := in.eachDecoded(p, buf, func(lead, y0, ny, x0, nx int) error {
 		for i, r := range Roles {
 			if buf.slab.In[i] == nil {
 				continue

@@ -304,6 +304,25 @@ type VarStats struct {
 	FillFraction float64
 }
 
+// eachDecoded reads and decodes every slab of plan p into buf, one after the other (no
+// pipeline), and calls fn after each with the slab's position.
+func (in *Input) eachDecoded(p *slabPlan, buf *inBuf, fn func(lead, y0, ny, x0, nx int) error) error {
+	k := 0
+	return p.each(func(lead, y0, ny, x0, nx int) error {
+		buf.setPos(p, k, lead, y0, ny, x0, nx)
+		k++
+		var rerr error
+		if e := onIO(func() { rerr = in.readIO(buf) }); e != nil {
+			return e
+		}
+		if rerr != nil {
+			return rerr
+		}
+		in.decode(buf, 0, buf.slab.N)
+		return fn(lead, y0, ny, x0, nx)
+	})
+}
+
 // Stats reads every bound variable once, slab by slab, and returns the value
 // statistics (in canonical units) in role order.
 func (in *Input) Stats() ([]VarStats, error) {
@@ -319,18 +338,7 @@ func (in *Input) Stats() ([]VarStats, error) {
 	if e := onIO(func() { err = in.setInputCachesIO(p) }); e != nil || err != nil {
 		return nil, firstErr(e, err)
 	}
-	k := 0
-	err = p.each(func(lead, y0, ny, x0, nx int) error {
-		buf.setPos(p, k, lead, y0, ny, x0, nx)
-		k++
-		var rerr error
-		if e := onIO(func() { rerr = in.readIO(buf) }); e != nil {
-			return e
-		}
-		if rerr != nil {
-			return rerr
-		}
-		in.decode(buf, 0, buf.slab.N)
+	err = in.eachDecoded(p, buf, func(lead, y0, ny, x0, nx int) error {
 		for i := range buf.slab.In {
 			for _, x := range buf.slab.In[i] {
 				if math.IsNaN(x) {

@@ -154,13 +154,8 @@ func lerp(a, b, t float64) float64 {
 // Valid: 10 µm <= R <= 300 µm, 0.05 <= r/R <= 1 (clamped outside); NaN for negative or NaN
 // radii or R = r = 0.
 func HallEfficiency(R, r float64) float64 {
-	if !(R >= 0 && r >= 0) || math.IsInf(R, 1) || math.IsInf(r, 1) {
-		return math.NaN()
-	}
-	if r > R {
-		R, r = r, R
-	}
-	if R == 0 {
+	R, r, ok := collisionPair(R, r)
+	if !ok {
 		return math.NaN()
 	}
 	i, t := bracket(hallR[:], R)
@@ -168,6 +163,18 @@ func HallEfficiency(R, r float64) float64 {
 	lo := lerp(hallTable[i][j], hallTable[i][j+1], u)
 	hi := lerp(hallTable[i+1][j], hallTable[i+1][j+1], u)
 	return lerp(lo, hi, t)
+}
+
+// collisionPair orders two radii as (collector, collected) and reports whether they are a
+// valid pair: finite, non-negative and not both zero.
+func collisionPair(R, r float64) (big, small float64, ok bool) {
+	if !(R >= 0 && r >= 0) || math.IsInf(R, 1) || math.IsInf(r, 1) {
+		return 0, 0, false
+	}
+	if r > R {
+		R, r = r, R
+	}
+	return R, r, R > 0
 }
 
 // LongEfficiency returns the Long (1974) collision efficiency (1) of a collector of radius R
@@ -182,13 +189,8 @@ func HallEfficiency(R, r float64) float64 {
 // Reference: [Long1974], as quoted by [Simmel2002] eq. 13.
 // Valid: any non-negative radii; NaN for negative or NaN radii or R = r = 0.
 func LongEfficiency(R, r float64) float64 {
-	if !(R >= 0 && r >= 0) || math.IsInf(R, 1) || math.IsInf(r, 1) {
-		return math.NaN()
-	}
-	if r > R {
-		R, r = r, R
-	}
-	if R == 0 {
+	R, r, ok := collisionPair(R, r)
+	if !ok {
 		return math.NaN()
 	}
 	if R > longFit[3] {

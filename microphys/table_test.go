@@ -135,11 +135,32 @@ func TestTableAgainstDirect(t *testing.T) {
 	}
 	in := marineScSample(9000, 1, true)
 	e := compareTable(t, DefaultParams(), in)
+	checkTableErrors(t, e, 8000, 3)
+}
+
+// TestTableAgainstDirectCTH is TestTableAgainstDirect for columns that give a cloud-top
+// height (the base pressure then comes from the cloud top, not from Params.SurfacePressure),
+// with the same bounds (derived: the table is built from the same integrators).
+func TestTableAgainstDirectCTH(t *testing.T) {
+	if testing.Short() {
+		t.Skip("direct integration of 6000 columns")
+	}
+	in := marineScSampleCTH(6000, 2)
+	e := compareTable(t, DefaultParams(), in)
+	checkTableErrors(t, e, 5000, 2)
+}
+
+// checkTableErrors logs the errors of compareTable and checks them against the bounds of
+// TestTableAgainstDirect (derived: the table is built from the same integrators): at least
+// minN columns, 9/10 of them through the table and 1/evapDiv of them evaporating; every
+// table error within tableTol; no column classed differently.
+func checkTableErrors(t *testing.T, e tableErrors, minN, evapDiv int) {
+	t.Helper()
 	t.Logf("columns %d (table used for %d): collector table max rel error radius %.3g time %.3g; "+
 		"evaporation table (%d columns, same exit radius) surface radius/exit radius %.3g evap height/base height %.3g; "+
 		"end to end surface radius/exit radius %.3g evap height/base height %.3g; class mismatches %d",
 		e.n, e.used, e.radius, e.time, e.nEvap, e.evSurf, e.evZ, e.surf, e.evapZ, e.classMismatch)
-	if e.n < 8000 || e.used < e.n*9/10 || e.nEvap < e.n/3 {
+	if e.n < minN || e.used < e.n*9/10 || e.nEvap < e.n/evapDiv {
 		t.Errorf("sample too small or table rarely used: %d columns, %d via table, %d evaporations", e.n, e.used, e.nEvap)
 	}
 	for _, c := range []struct {
@@ -154,39 +175,6 @@ func TestTableAgainstDirect(t *testing.T) {
 	// End to end, the surface radius also carries the collector table's error, amplified near
 	// the reach/evaporate boundary by d r_s/d r0 = (r0/r_s)^3 (r_s^4 = r0^4 - const for a
 	// Stokes drop, derived from physics notes §10); bound it at 4 x tableTol.
-	if e.surf > 4*tableTol {
-		t.Errorf("end-to-end surface radius error %.3g > %.3g", e.surf, 4*tableTol)
-	}
-	if e.classMismatch != 0 {
-		t.Errorf("%d columns reached the surface in one method and evaporated in the other", e.classMismatch)
-	}
-}
-
-// TestTableAgainstDirectCTH is TestTableAgainstDirect for columns that give a cloud-top
-// height (the base pressure then comes from the cloud top, not from Params.SurfacePressure),
-// with the same bounds (derived: the table is built from the same integrators).
-func TestTableAgainstDirectCTH(t *testing.T) {
-	if testing.Short() {
-		t.Skip("direct integration of 6000 columns")
-	}
-	in := marineScSampleCTH(6000, 2)
-	e := compareTable(t, DefaultParams(), in)
-	t.Logf("columns %d (table used for %d): collector table max rel error radius %.3g time %.3g; "+
-		"evaporation table (%d columns, same exit radius) surface radius/exit radius %.3g evap height/base height %.3g; "+
-		"end to end surface radius/exit radius %.3g evap height/base height %.3g; class mismatches %d",
-		e.n, e.used, e.radius, e.time, e.nEvap, e.evSurf, e.evZ, e.surf, e.evapZ, e.classMismatch)
-	if e.n < 5000 || e.used < e.n*9/10 || e.nEvap < e.n/2 {
-		t.Errorf("sample too small or table rarely used: %d columns, %d via table, %d evaporations", e.n, e.used, e.nEvap)
-	}
-	for _, c := range []struct {
-		name string
-		v    float64
-	}{{"collector radius", e.radius}, {"collector time", e.time}, {"evaporation surface radius", e.evSurf},
-		{"evaporation height", e.evZ}, {"end-to-end evaporation height", e.evapZ}} {
-		if c.v > tableTol {
-			t.Errorf("table %s error %.3g > %.3g", c.name, c.v, tableTol)
-		}
-	}
 	if e.surf > 4*tableTol {
 		t.Errorf("end-to-end surface radius error %.3g > %.3g", e.surf, 4*tableTol)
 	}

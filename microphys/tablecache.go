@@ -92,10 +92,10 @@ func NewModelTables(p Params, data []byte) (*Model, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
-	if p.TableKey() == "" {
-		return NewModel(p)
-	}
 	m := newModelBase(p)
+	if p.TableKey() == "" {
+		return m, nil // no tables to take
+	}
 	t, err := readTables(m, data)
 	if err != nil {
 		return nil, fmt.Errorf("%w: %v", ErrTablesMismatch, err)
@@ -166,7 +166,7 @@ func verifyTables(m *Model, t *collTable) error {
 		}
 	}
 	// Value tables: one whole layer (s-line) of each, rebuilt into scratch copies.
-	ref := newTableShells(m.p).evap
+	ref := newEvapTable(m.p.SurfacePressure)
 	ns := evapAxes.nReach
 	nLay := len(ref.reach.vals) / ns
 	for k := 0; k < 2; k++ {

@@ -396,14 +396,7 @@ func TestFaults(t *testing.T) {
 				t.Fatal(err)
 			}
 		}
-		var ins []string
-		for _, n := range []string{"a.nc", "b.nc"} {
-			p := filepath.Join(inDir, n)
-			if err := os.Link(in, p); err != nil {
-				t.Fatal(err)
-			}
-			ins = append(ins, p)
-		}
+		ins := linkInputs(t, in, inDir, "a.nc", "b.nc")
 		batch := append(append([]string{"process"}, ins...), "-o", outDir+"/", "--jobs", "2", "--no-collector", "-q")
 		s := start(t, exe, batch...)
 		if _, ok := waitWriting(t, s, outDir, []string{"warmrain-manifest.jsonl"}); !ok {
@@ -456,14 +449,7 @@ func TestFaults(t *testing.T) {
 		if err := os.Mkdir(inDir, 0o755); err != nil {
 			t.Fatal(err)
 		}
-		var ins []string
-		for _, n := range []string{"a.nc", "b.nc"} {
-			p := filepath.Join(inDir, n)
-			if err := os.Link(in, p); err != nil {
-				t.Fatal(err)
-			}
-			ins = append(ins, p)
-		}
+		ins := linkInputs(t, in, inDir, "a.nc", "b.nc")
 		small := filepath.Join(inDir, "c_small.nc")
 		b, err := os.ReadFile(sampleFile)
 		if err != nil {
@@ -624,4 +610,18 @@ func TestDeterminism(t *testing.T) {
 			t.Errorf("a rerun without --redo rewrote %s", n)
 		}
 	}
+}
+
+// linkInputs hard-links file under each name in dir and returns the new paths.
+func linkInputs(t *testing.T, file, dir string, names ...string) []string {
+	t.Helper()
+	var paths []string
+	for _, n := range names {
+		p := filepath.Join(dir, n)
+		if err := os.Link(file, p); err != nil {
+			t.Fatal(err)
+		}
+		paths = append(paths, p)
+	}
+	return paths
 }

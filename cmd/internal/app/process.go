@@ -438,10 +438,10 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	err = grid.Process(in, out, popt, j.compute(&screened))
 	if j.o.stats {
-		io := stats.Read + stats.Write
+		busy := stats.Read + stats.Write
 		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s on %d workers; waited for input %.2f s\n",
-			input, stats.Slabs, stats.Wall.Seconds(), io.Seconds(), stats.Read.Seconds(), stats.Write.Seconds(),
-			100*io.Seconds()/stats.Wall.Seconds(), stats.Compute.Seconds(), popt.Workers, stats.WaitRead.Seconds())
+			input, stats.Slabs, stats.Wall.Seconds(), busy.Seconds(), stats.Read.Seconds(), stats.Write.Seconds(),
+			100*busy.Seconds()/stats.Wall.Seconds(), stats.Compute.Seconds(), popt.Workers, stats.WaitRead.Seconds())
 	}
 	if popt.Progress != nil {
 		fmt.Fprint(j.e.stderr, "\r\033[K")

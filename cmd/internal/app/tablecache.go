@@ -87,9 +87,6 @@ func tableCachePath(dir string, p microphys.Params) string {
 
 // newModel is microphys.NewModel through the table cache.
 func newModel(p microphys.Params) (*microphys.Model, error) {
-	if err := p.Validate(); err != nil {
-		return nil, err
-	}
 	path := tableCachePath(tableCacheDir(), p)
 	if path == "" {
 		return microphys.NewModel(p)
