@@ -43,22 +43,36 @@ type Binding struct {
 	varID int
 }
 
-// Layout is the grid shared by every bound input (LWP's dimensions).
+// Layout is the set of columns shared by every bound input (LWP's dimensions).
+// A column is one horizontal location at one index of every other dimension.
 type Layout struct {
-	Dims    []DimInfo // LWP's dimensions, slowest first
-	Leading []DimInfo // all but the last two
-	Y, X    DimInfo   // the spatial dimensions (the last two)
+	Dims []DimInfo // LWP's dimensions, slowest first
+	// Shape is grid (two horizontal dimensions), cells (one: a mesh or a list of
+	// sites) or series (none: a time series at one site); see HorizontalOf.
+	Shape Shape
+	// Horizontal are the horizontal dimensions and Leading all the others (time,
+	// ensemble member, ...), each in file order.
+	Horizontal, Leading []DimInfo
+	// Y and X are a grid's horizontal dimensions; cells have X only; both are
+	// zero for a series.
+	Y, X DimInfo
 	// Lat and Lon name the latitude and longitude variables: 1-D coordinate
-	// variables of Y and X, or 2-D (Y, X) auxiliary coordinates named by LWP's
-	// coordinates attribute. Empty when none was found.
+	// variables of Y and X, 2-D (Y, X) auxiliary coordinates of a swath, 1-D
+	// auxiliary coordinates of cells, or a site's scalars. Empty when none was
+	// found. LatLonRank is their rank, LatLonRadians whether they are in radians.
 	Lat, Lon      string
 	LatLon2D      bool
+	LatLonRank    int
+	LatLonRadians bool
 	LatDescending bool
-	GridMapping   string // grid_mapping container variable, or ""
+	// Time is the time axis of one of LWP's dimensions (nil when none); an
+	// output keeps it in CF units (TimeAxis.CFUnits).
+	Time        *TimeAxis
+	GridMapping string // grid_mapping container variable, or ""
 	// Coords lists every variable an output keeps: coordinate variables of the
 	// dimensions, auxiliary coordinates, their bounds, the grid_mapping variable.
 	Coords []string
-	// Columns is the number of grid columns (product of all dimension lengths).
+	// Columns is the number of columns (product of all dimension lengths).
 	Columns int64
 }
 
@@ -167,13 +181,33 @@ func isSDMethod(cm string) bool {
 	return strings.Contains(cm, "standard_deviation") || strings.Contains(cm, "variance")
 }
 
-// candidate variables: numeric, at least 2-D, not a coordinate variable.
+// candidate variables: numeric, at least 1-D, not a coordinate variable, and,
+// when 1-D, named by no other variable's coordinates or bounds attribute (a time
+// series or a list of cells has 1-D data; its latitude and longitude are 1-D
+// too).
 func (in *Input) dataVars() []*VarInfo {
 	var out []*VarInfo
+	var coordNames map[string]bool
 	for i := range in.Info.Vars {
 		v := &in.Info.Vars[i]
-		if !v.Type.Numeric() || len(v.Dims) < 2 {
+		if !v.Type.Numeric() || len(v.Dims) < 1 {
 			continue
+		}
+		if len(v.Dims) == 1 {
+			if v.Dims[0] == v.Name || isLatName(v.Name) || isLonName(v.Name) || v.Text("standard_name") == "latitude" || v.Text("standard_name") == "longitude" {
+				continue
+			}
+			if coordNames == nil {
+				coordNames = map[string]bool{}
+				for _, w := range in.Info.Vars {
+					for _, n := range strings.Fields(w.Text("coordinates") + " " + w.Text("bounds")) {
+						coordNames[n] = true
+					}
+				}
+			}
+			if coordNames[v.Name] {
+				continue
+			}
 		}
 		out = append(out, v)
 	}
@@ -371,8 +405,8 @@ var roleLabel = map[Role]string{RoleLWP: "LWP", RoleRe: "r_e", RoleTau: "tau", R
 func (in *Input) layoutIO() error {
 	lb := in.bindings[RoleLWP.Index()]
 	lv := in.Info.Var(lb.Var)
-	if len(lv.Dims) < 2 {
-		return varErr(ErrLayout, in.Path, lv.Name, "has dimensions %s; expected at least two (..., y, x)", dimsString(lv))
+	if len(lv.Dims) < 1 {
+		return varErr(ErrLayout, in.Path, lv.Name, "is a scalar; expected at least one dimension (time, cells, or y and x)")
 	}
 	for _, b := range in.bindings {
 		if b == nil || b.Role == RoleLWP {
@@ -399,8 +433,23 @@ func (in *Input) layoutIO() error {
 		L.Dims = append(L.Dims, d)
 		L.Columns *= int64(d.Len)
 	}
-	n := len(L.Dims)
-	L.Leading, L.Y, L.X = L.Dims[:n-2], L.Dims[n-2], L.Dims[n-1]
+	h := HorizontalOf(in.Info, lv)
+	L.Shape = h.Shape
+	for i, d := range L.Dims {
+		if slices.Contains(h.Dims, i) {
+			L.Horizontal = append(L.Horizontal, d)
+		} else {
+			L.Leading = append(L.Leading, d)
+		}
+	}
+	switch len(L.Horizontal) {
+	case 2:
+		L.Y, L.X = L.Horizontal[0], L.Horizontal[1]
+	case 1:
+		L.X = L.Horizontal[0]
+	}
+	L.Lat, L.Lon, L.LatLonRank, L.LatLonRadians = h.Lat, h.Lon, h.LatLonRank, h.Radians
+	L.LatLon2D = h.LatLonRank == 2
 	add := func(name string) {
 		if name != "" && in.Info.Var(name) != nil && !slices.Contains(L.Coords, name) {
 			L.Coords = append(L.Coords, name)
@@ -412,33 +461,43 @@ func (in *Input) layoutIO() error {
 		if v == nil || len(v.Dims) != 1 || v.Dims[0] != d.Name {
 			continue
 		}
-		desc, err := in.checkMonotonicIO(v)
-		if err != nil {
-			return err
+		if v.Type.Numeric() {
+			desc, err := in.checkMonotonicIO(v)
+			if err != nil {
+				return err
+			}
+			if v.Name == L.Lat {
+				L.LatDescending = desc
+			}
 		}
 		add(v.Name)
-		if d.Name == L.Y.Name && isLat(v) {
-			L.Lat, L.LatDescending = v.Name, desc
-		}
-		if d.Name == L.X.Name && isLon(v) {
-			L.Lon = v.Name
+		if h.Time >= 0 && d.Name == L.Dims[h.Time].Name && (LooksLikeTime(v.Text("units")) || v.Text("standard_name") == "time") {
+			ta, err := ParseTimeAxis(in.Info, v)
+			if err != nil {
+				return err
+			}
+			if ta.Absolute {
+				x, err := in.readAllIO(v)
+				if err != nil {
+					return err
+				}
+				if err := ta.CheckTimeValues(in.Path, x); err != nil {
+					return err
+				}
+			}
+			L.Time = ta
 		}
 	}
-	// Auxiliary coordinates named by LWP's coordinates attribute.
+	// Auxiliary coordinates named by LWP's coordinates attribute, and the
+	// latitude and longitude found without it.
 	for _, name := range strings.Fields(lv.Text("coordinates")) {
-		v := in.Info.Var(name)
-		if v == nil {
+		if in.Info.Var(name) == nil {
 			return varErr(ErrLayout, in.Path, lv.Name, "coordinates attribute names %q, which does not exist in the file", name)
 		}
 		add(name)
-		if len(v.Dims) == 2 && v.Dims[0] == L.Y.Name && v.Dims[1] == L.X.Name {
-			if isLat(v) && L.Lat == "" {
-				L.Lat, L.LatLon2D = name, true
-			} else if isLon(v) && L.Lon == "" {
-				L.Lon, L.LatLon2D = name, true
-			}
-		}
 	}
+	add(L.Lat)
+	add(L.Lon)
 	// Bounds of every coordinate kept, and the grid mapping.
 	for _, c := range slices.Clone(L.Coords) {
 		add(in.Info.Var(c).Text("bounds"))

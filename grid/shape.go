@@ -1,0 +1,262 @@
+package grid
+
+import (
+	"slices"
+	"strings"
+)
+
+// Shape says how the columns of a variable are laid out horizontally.
+type Shape string
+
+// The shapes of a set of columns.
+const (
+	// ShapeGrid: two horizontal dimensions (y, x), a regular grid with 1-D
+	// latitude and longitude, a swath with 2-D ones, or a grid without any.
+	ShapeGrid Shape = "grid"
+	// ShapeCells: one horizontal dimension, an unstructured mesh (ncells) or a
+	// list of sites (loc, station), with 1-D auxiliary latitude and longitude or
+	// none.
+	ShapeCells Shape = "cells"
+	// ShapeSeries: no horizontal dimension, a time series at one site (a
+	// ground-based radiometer); latitude and longitude, if any, are scalars.
+	ShapeSeries Shape = "series"
+)
+
+// Horizontal is what the metadata say about a variable's columns: which of its
+// dimensions are horizontal and where its latitude and longitude are. It reads
+// nothing but metadata.
+type Horizontal struct {
+	Shape Shape
+	// Dims are the indices (into the variable's dimensions) of the horizontal
+	// dimensions, in file order: two for a grid, one for cells, none for a series.
+	Dims []int
+	// Lat and Lon name the latitude and longitude variables, "" when none.
+	Lat, Lon string
+	// LatLonRank is the rank of Lat and Lon: 0 (a site's scalars), 1 (coordinate
+	// variables of y and x, or auxiliary coordinates of cells) or 2 (a swath).
+	LatLonRank int
+	// Radians is true when Lat and Lon are in radians (ICON's clat and clon).
+	Radians bool
+	// Time is the index of the dimension whose coordinate variable is a time
+	// axis, -1 when none.
+	Time int
+}
+
+// timeLike reports whether a coordinate variable (or, when v is nil, a bare
+// dimension name) is a time axis.
+func timeLike(name string, v *VarInfo) bool {
+	if v != nil {
+		u := strings.ToLower(v.Text("units"))
+		if v.Text("standard_name") == "time" || strings.EqualFold(v.Text("axis"), "T") ||
+			strings.Contains(u, " since ") || strings.Contains(u, " as %y") {
+			return true
+		}
+	}
+	n := strings.ToLower(name)
+	return n == "time" || n == "t" || n == "times" || n == "record" || n == "valid_time"
+}
+
+// memberLike reports whether a dimension counts ensemble members or realizations.
+func memberLike(name string, v *VarInfo) bool {
+	if v != nil && (v.Text("standard_name") == "realization" || strings.EqualFold(v.Text("axis"), "E")) {
+		return true
+	}
+	switch strings.ToLower(name) {
+	case "member", "members", "ens", "ensemble", "realization", "realisation", "number", "mem", "ens_member", "member_id":
+		return true
+	}
+	return false
+}
+
+// verticalLike reports whether a dimension is a vertical axis (a column's levels
+// are never separate columns, but a 2-D field may carry a length-1 level).
+func verticalLike(name string, v *VarInfo) bool {
+	if v != nil {
+		if strings.EqualFold(v.Text("axis"), "Z") || v.Text("positive") != "" {
+			return true
+		}
+	}
+	switch strings.ToLower(name) {
+	case "lev", "level", "plev", "height", "height_2m", "altitude", "z", "depth":
+		return true
+	}
+	return false
+}
+
+func latLonUnitsRadians(v *VarInfo) bool {
+	switch strings.ToLower(strings.TrimSpace(v.Text("units"))) {
+	case "radian", "radians", "rad":
+		return true
+	}
+	return false
+}
+
+// isLatName and isLonName: the names of latitude and longitude variables in
+// products that give neither standard_name nor degree units (ICON's clat/clon
+// are in radians).
+func isLatName(n string) bool {
+	switch strings.ToLower(n) {
+	case "lat", "latitude", "clat", "nav_lat", "xlat", "lat_cell", "latitudes":
+		return true
+	}
+	return false
+}
+
+func isLonName(n string) bool {
+	switch strings.ToLower(n) {
+	case "lon", "longitude", "clon", "nav_lon", "xlong", "lon_cell", "longitudes":
+		return true
+	}
+	return false
+}
+
+// HorizontalOf finds the horizontal dimensions and the latitude and longitude of
+// variable v from the metadata of fi (pure: it reads no data). The rules, first
+// match wins:
+//
+//  1. 1-D coordinate variables of two of v's dimensions that are latitude and
+//     longitude: a grid on those two.
+//  2. 2-D latitude and longitude named by v's coordinates attribute: a swath on
+//     their dimensions.
+//  3. 1-D latitude and longitude on one of v's dimensions, named by the
+//     coordinates attribute or found by name or standard_name: cells (a mesh or
+//     a list of sites).
+//  4. Otherwise the dimensions that are not time, ensemble member or vertical
+//     axes (by coordinate variable attributes or by name): the last two form a
+//     grid, one alone is cells, none is a series. Scalar latitude and longitude
+//     named by the coordinates attribute (a site) are kept.
+func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
+	h := Horizontal{Time: -1}
+	coordOf := func(d string) *VarInfo {
+		c := fi.Var(d)
+		if c == nil || len(c.Dims) != 1 || c.Dims[0] != d {
+			return nil
+		}
+		return c
+	}
+	for i, d := range v.Dims {
+		if timeLike(d, coordOf(d)) && coordOf(d) != nil {
+			h.Time = i
+			break
+		}
+	}
+	dimIndex := func(name string) int { return slices.Index(v.Dims, name) }
+	setLL := func(lat, lon *VarInfo, rank int) {
+		h.Lat, h.Lon, h.LatLonRank = lat.Name, lon.Name, rank
+		h.Radians = latLonUnitsRadians(lat)
+	}
+	// 1. Coordinate variables.
+	var lat1, lon1 *VarInfo
+	for _, d := range v.Dims {
+		c := coordOf(d)
+		if c == nil {
+			continue
+		}
+		if isLat(c) && lat1 == nil {
+			lat1 = c
+		} else if isLon(c) && lon1 == nil {
+			lon1 = c
+		}
+	}
+	if lat1 != nil && lon1 != nil {
+		a, b := dimIndex(lat1.Name), dimIndex(lon1.Name)
+		h.Shape, h.Dims = ShapeGrid, []int{min(a, b), max(a, b)}
+		setLL(lat1, lon1, 1)
+		return h
+	}
+	// 2 and 3. Auxiliary coordinates (named, then found).
+	aux := []*VarInfo{}
+	for _, n := range strings.Fields(v.Text("coordinates")) {
+		if c := fi.Var(n); c != nil {
+			aux = append(aux, c)
+		}
+	}
+	for i := range fi.Vars {
+		c := &fi.Vars[i]
+		if len(c.Dims) == 1 && c.Dims[0] != c.Name && slices.Contains(v.Dims, c.Dims[0]) && !slices.Contains(aux, c) &&
+			(h.Time < 0 || c.Dims[0] != v.Dims[h.Time]) {
+			aux = append(aux, c)
+		}
+	}
+	var lat, lon *VarInfo
+	for _, rank := range []int{2, 1} {
+		lat, lon = nil, nil
+		for _, c := range aux {
+			if len(c.Dims) != rank || !c.Type.Numeric() {
+				continue
+			}
+			inV := true
+			for _, d := range c.Dims {
+				inV = inV && slices.Contains(v.Dims, d)
+			}
+			if !inV {
+				continue
+			}
+			if (isLat(c) || isLatName(c.Name)) && lat == nil {
+				lat = c
+			} else if (isLon(c) || isLonName(c.Name)) && lon == nil {
+				lon = c
+			}
+		}
+		if lat != nil && lon != nil && slices.Equal(lat.Dims, lon.Dims) {
+			for _, d := range lat.Dims {
+				h.Dims = append(h.Dims, dimIndex(d))
+			}
+			slices.Sort(h.Dims)
+			h.Shape = ShapeGrid
+			if rank == 1 {
+				h.Shape = ShapeCells
+			}
+			setLL(lat, lon, rank)
+			return h
+		}
+	}
+	// 4. By elimination.
+	var hz []int
+	for i, d := range v.Dims {
+		c := coordOf(d)
+		if timeLike(d, c) || memberLike(d, c) || verticalLike(d, c) {
+			continue
+		}
+		hz = append(hz, i)
+	}
+	if len(hz) > 2 {
+		hz = hz[len(hz)-2:]
+	}
+	h.Dims = hz
+	switch len(hz) {
+	case 2:
+		h.Shape = ShapeGrid
+	case 1:
+		h.Shape = ShapeCells
+	default:
+		h.Shape = ShapeSeries
+	}
+	// A site's scalar latitude and longitude.
+	lat, lon = nil, nil
+	var scalars []*VarInfo
+	for _, n := range strings.Fields(v.Text("coordinates")) {
+		if c := fi.Var(n); c != nil {
+			scalars = append(scalars, c)
+		}
+	}
+	for i := range fi.Vars {
+		if c := &fi.Vars[i]; isLatName(c.Name) || isLonName(c.Name) {
+			scalars = append(scalars, c)
+		}
+	}
+	for _, c := range scalars {
+		if len(c.Dims) != 0 || !c.Type.Numeric() {
+			continue
+		}
+		if (isLat(c) || isLatName(c.Name)) && lat == nil {
+			lat = c
+		} else if (isLon(c) || isLonName(c.Name)) && lon == nil {
+			lon = c
+		}
+	}
+	if h.Shape == ShapeSeries && lat != nil && lon != nil {
+		setLL(lat, lon, 0)
+	}
+	return h
+}
