@@ -15,7 +15,9 @@ import (
 //
 //   - CDO's and ICON's absolute time "day as %Y%m%d.%f": the value is the date
 //     written as a number (20260701.25 is 2026-07-01 06:00), in the proleptic
-//     Gregorian calendar (the CDO documentation of the absolute time axis).
+//     Gregorian calendar (the CDO documentation of the absolute time axis). CDO
+//     writes the fraction with 7 decimals (8.64 ms) of times it keeps in whole
+//     seconds, so the time read is rounded to the nearest second.
 //   - "<unit> since midnight" (also "decimal hours since midnight", "hours from
 //     midnight UTC"), written by instruments that store one day per file: the
 //     date is taken from the global attributes date, start_date, date_start,
@@ -184,7 +186,7 @@ func absoluteDay(x float64) float64 {
 	if t.Day() != d { // 20260231 is not a date
 		return math.NaN()
 	}
-	return float64(t.Unix()) + frac*86400
+	return float64(t.Unix()) + math.Round(frac*86400)
 }
 
 // CheckTimeValues returns an error naming the first stored value that is not a
