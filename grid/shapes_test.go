@@ -274,7 +274,7 @@ func TestCDOAbsoluteTime(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer in.Close()
-	if in.Layout.Time == nil || !in.Layout.Time.Absolute || !strings.Contains(in.Layout.Time.Note, "absolute") {
+	if in.Layout.Time == nil || !in.Layout.Time.Absolute || !strings.Contains(in.Layout.Time.Note, "date written as a number") {
 		t.Fatalf("time axis %+v", in.Layout.Time)
 	}
 	out := filepath.Join(t.TempDir(), "out.nc")

@@ -94,7 +94,7 @@ func ParseTimeAxis(fi *FileInfo, v *VarInfo) (*TimeAxis, error) {
 			return nil, bad("absolute time %q of %s is not read (only \"day as %%Y%%m%%d.%%f\"); expected CF units \"<unit> since <date>\": write a relative time axis with cdo -r copy IN OUT", format, unit)
 		}
 		a.Absolute, a.CFUnits = true, unixUnits
-		a.Note = "absolute time (day as %Y%m%d.%f, the date as a number) read as " + unixUnits
+		a.Note = "the date written as a number (the absolute time axis of CDO and ICON), read as " + unixUnits
 		return a, nil
 	}
 	if m := reMidnight.FindStringSubmatch(units); m != nil {

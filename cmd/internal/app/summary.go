@@ -770,7 +770,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	}
 	if p.noMaps != "" && st.mapsOK {
 		st.mapsOK = false
-		fmt.Fprintf(e.stderr, "warmrain summary: no maps: %s %s; the binned statistics use every column\n", path, p.noMaps)
+		fmt.Fprintf(e.stderr, "warmrain summary: no maps: %s: %s; the binned statistics use every column\n", path, p.noMaps)
 	}
 	if p.timeVals == nil && !f.window.IsZero() {
 		fmt.Fprintf(e.stderr, "warmrain summary: %s has no time axis; the time window cannot select it, skipped\n", path)
