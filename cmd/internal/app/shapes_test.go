@@ -237,9 +237,9 @@ func TestShapesSummaryTimeWindow(t *testing.T) {
 		from, to string
 		selected int
 	}{
-		{"series", "2026-07-01T06:00", "2026-07-01T12:00", 180}, // 720 steps of 2 min: 6 h
+		{"series", "2026-07-01T06:00", "2026-07-01T12:00", 180},         // 720 steps of 2 min: 6 h
 		{"sites_loc_first", "2026-07-01T03:00", "2026-07-01T09:01", 27}, // steps at 3, 6, 9 h of 9 sites
-		{"icon", "2026-07-01T06:00", "2026-07-02", 1000},                 // the second step of the CDO axis
+		{"icon", "2026-07-01T06:00", "2026-07-02", 1000},                // the second step of the CDO axis
 	} {
 		t.Run(c.family, func(t *testing.T) {
 			dir := t.TempDir()
