@@ -120,7 +120,8 @@ func isLonName(n string) bool {
 //     their dimensions.
 //  3. 1-D latitude and longitude on one of v's dimensions, named by the
 //     coordinates attribute or found by name or standard_name: cells (a mesh or
-//     a list of sites).
+//     a list of sites); on two dimensions: a grid on them. Variables along the
+//     time dimension (a ship's track) are not taken as coordinates.
 //  4. Otherwise the dimensions that are not time, ensemble member or vertical
 //     axes (by coordinate variable attributes or by name): the last two form a
 //     grid, one alone is cells, none is a series. Scalar latitude and longitude
@@ -198,6 +199,13 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 				lon = c
 			}
 		}
+		if rank == 1 && lat != nil && lon != nil && lat.Dims[0] != lon.Dims[0] {
+			// 1-D auxiliary latitude and longitude on two dimensions: a grid.
+			a, b := dimIndex(lat.Dims[0]), dimIndex(lon.Dims[0])
+			h.Shape, h.Dims = ShapeGrid, []int{min(a, b), max(a, b)}
+			setLL(lat, lon, 1)
+			return h
+		}
 		if lat != nil && lon != nil && slices.Equal(lat.Dims, lon.Dims) {
 			for _, d := range lat.Dims {
 				h.Dims = append(h.Dims, dimIndex(d))
@@ -259,4 +267,24 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 		setLL(lat, lon, 0)
 	}
 	return h
+}
+
+// highestRank keeps the candidates of the highest rank: since 1-D variables are
+// candidates too (a time series, a list of cells), a domain-mean series beside a
+// gridded field of the same quantity does not make the choice ambiguous.
+func highestRank(c []cand) []cand {
+	if len(c) < 2 {
+		return c
+	}
+	top := 0
+	for _, x := range c {
+		top = max(top, len(x.v.Dims))
+	}
+	out := c[:0:0]
+	for _, x := range c {
+		if len(x.v.Dims) == top {
+			out = append(out, x)
+		}
+	}
+	return out
 }

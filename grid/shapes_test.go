@@ -436,3 +436,77 @@ data: lwp = 1, 2, 3, 4 ; re = 10, 10, 10, 10 ;
 		}
 	})
 }
+
+// TestHorizontalOfRules: the metadata rules of HorizontalOf on small CDL files
+// (ncgen), one per rule and the cases between them.
+func TestHorizontalOfRules(t *testing.T) {
+	cases := []struct {
+		name, cdl string
+		shape     Shape
+		dims      []int
+		lat       string
+	}{
+		{"aux 1-D lat(y), lon(x)", `netcdf a { dimensions: y = 2 ; x = 3 ;
+variables: float lwp(y, x) ; lwp:coordinates = "nav_lat nav_lon" ;
+  float nav_lat(y) ; nav_lat:units = "degrees_north" ; float nav_lon(x) ; nav_lon:units = "degrees_east" ; }`, ShapeGrid, []int{0, 1}, "nav_lat"},
+		{"vertical level of length 1", `netcdf a { dimensions: time = 2 ; level = 1 ; y = 2 ; x = 3 ;
+variables: float lwp(time, level, y, x) ; double level(level) ; level:axis = "Z" ; }`, ShapeGrid, []int{2, 3}, ""},
+		{"cells without coordinates", `netcdf a { dimensions: time = 2 ; ncells = 5 ;
+variables: float lwp(time, ncells) ; }`, ShapeCells, []int{1}, ""},
+		{"sites first, time second", `netcdf a { dimensions: station = 3 ; time = 4 ;
+variables: float lwp(station, time) ; double time(time) ; time:units = "days since 2026-01-01" ;
+  float latitude(station) ; latitude:units = "degrees_north" ; float longitude(station) ; longitude:units = "degrees_east" ; }`, ShapeCells, []int{0}, "latitude"},
+		{"ship track: lat(time) is not a horizontal dimension", `netcdf a { dimensions: time = 4 ;
+variables: float lwp(time) ; double time(time) ; time:units = "hours since 2026-01-01" ;
+  float lat(time) ; lat:units = "degrees_north" ; float lon(time) ; lon:units = "degrees_east" ; }`, ShapeSeries, nil, ""},
+		{"ensemble members and time only", `netcdf a { dimensions: time = 2 ; member = 3 ;
+variables: float lwp(time, member) ; }`, ShapeSeries, nil, ""},
+		{"(lon, lat) order", `netcdf a { dimensions: lon = 3 ; lat = 2 ;
+variables: float lwp(lon, lat) ; float lat(lat) ; lat:units = "degrees_north" ; float lon(lon) ; lon:units = "degrees_east" ; }`, ShapeGrid, []int{0, 1}, "lat"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			fi, err := Describe(ncgenText(t, c.cdl, "nc4"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			h := HorizontalOf(fi, fi.Var("lwp"))
+			if h.Shape != c.shape || !slices.Equal(h.Dims, c.dims) || h.Lat != c.lat {
+				t.Fatalf("got %s on %v, lat %q; want %s on %v, lat %q", h.Shape, h.Dims, h.Lat, c.shape, c.dims, c.lat)
+			}
+		})
+	}
+}
+
+// TestOneDimensionalCandidates: 1-D variables are candidates (a radiometer's
+// lwp(time) beside its 2-D brightness temperatures), and a domain-mean series of
+// LWP beside the gridded LWP does not make the choice ambiguous.
+func TestOneDimensionalCandidates(t *testing.T) {
+	radiometer := ncgenText(t, `netcdf r { dimensions: time = 3 ; n_freq = 2 ;
+variables: double time(time) ; time:units = "seconds since 2026-07-01" ;
+  float tb(time, n_freq) ; tb:units = "K" ;
+  float lwp(time) ; lwp:units = "g m-2" ; float re(time) ; re:units = "um" ;
+data: time = 0, 1, 2 ; tb = 1, 2, 3, 4, 5, 6 ; lwp = 50, 60, 70 ; re = 10, 11, 12 ; }`, "nc4")
+	in, err := Open(radiometer, OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b, _ := in.Binding(RoleLWP); b.Var != "lwp" || in.Layout.Shape != ShapeSeries {
+		t.Errorf("bound %q, shape %s", b.Var, in.Layout.Shape)
+	}
+	in.Close()
+	mixed := ncgenText(t, `netcdf m { dimensions: time = 2 ; y = 2 ; x = 2 ;
+variables:
+  float lwp(time, y, x) ; lwp:standard_name = "atmosphere_mass_content_of_cloud_liquid_water" ; lwp:units = "g m-2" ;
+  float lwp_mean(time) ; lwp_mean:standard_name = "atmosphere_mass_content_of_cloud_liquid_water" ; lwp_mean:units = "g m-2" ; lwp_mean:cell_methods = "area: mean" ;
+  float re(time, y, x) ; re:units = "um" ;
+data: lwp = 1, 2, 3, 4, 5, 6, 7, 8 ; lwp_mean = 2.5, 6.5 ; re = 9, 9, 9, 9, 9, 9, 9, 9 ; }`, "nc4")
+	in, err = Open(mixed, OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer in.Close()
+	if b, _ := in.Binding(RoleLWP); b.Var != "lwp" || in.Layout.Shape != ShapeGrid {
+		t.Errorf("bound %q, shape %s", b.Var, in.Layout.Shape)
+	}
+}

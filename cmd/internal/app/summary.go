@@ -538,14 +538,15 @@ type block struct {
 	number int
 }
 
-// blocks calls fn for runs of steps of at most about 1 Mi values each.
+// blocks calls fn for runs of steps of at most 64 Ki values each (or one step),
+// so that a long series is read in a few blocks with bounded memory.
 func (p *procFile) blocks(fn func(b block) error) error {
 	cells := p.scene.Cells()
 	if len(p.steps) == 0 {
 		return fn(block{index: make([]int, len(p.dims)), n: 1, inner: -1})
 	}
 	inner := p.steps[len(p.steps)-1]
-	run := max(1, (1<<20)/cells)
+	run := max(1, (1<<16)/cells)
 	outer := p.steps[:len(p.steps)-1]
 	idx := make([]int, len(p.dims))
 	k := 0
