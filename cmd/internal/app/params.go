@@ -46,6 +46,8 @@ func paramHelp(rows []*microphys.ParamDecl) string {
 	switch {
 	case d.Kind == microphys.ParamChoice:
 		h += ": " + strings.Join(d.Choices, ", ")
+	case d.Unit == "um":
+		h += ", µm"
 	case d.Unit != "" && d.Unit != "1":
 		h += ", " + d.Unit
 	}
@@ -137,4 +139,3 @@ func paramAttr(s microphys.Setting) string {
 	}
 	return s.Value + " " + s.Unit
 }
-
