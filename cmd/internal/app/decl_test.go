@@ -149,3 +149,20 @@ func TestReferencesFollowScheme(t *testing.T) {
 		}
 	}
 }
+
+// TestPictureParamLine checks that the pictures' parameter line reads the onset radius
+// as --onset-radius writes it, and as earlier versions wrote it (SI, other name).
+func TestPictureParamLine(t *testing.T) {
+	for _, params := range []map[string]string{
+		{"autoconversion": "kk2000", "onset_radius": paramAttr(microphys.DefaultParams().Settings()[7])},
+		{"autoconversion": "kk2000", "onset_effective_radius": "1.4e-05"},
+	} {
+		st := &summaryState{params: params}
+		if got := st.paramText(); got != "kk2000 autoconversion, onset r_e 14 µm" {
+			t.Errorf("%v: %q", params, got)
+		}
+	}
+	if s := microphys.DefaultParams().Settings()[7]; s.Name != "onset_radius" {
+		t.Fatalf("setting 7 is %s; update this test", s.Name)
+	}
+}

@@ -891,7 +891,11 @@ func (st *summaryState) paramText() string {
 	if a := st.params["autoconversion"]; a != "" {
 		parts = append(parts, a+" autoconversion")
 	}
-	if r, err := strconv.ParseFloat(st.params["onset_effective_radius"], 64); err == nil {
+	if v, unit, _ := strings.Cut(st.params["onset_radius"], " "); unit == "um" { // as --onset-radius
+		if r, err := strconv.ParseFloat(v, 64); err == nil {
+			parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r))
+		}
+	} else if r, err := strconv.ParseFloat(st.params["onset_effective_radius"], 64); err == nil { // files of earlier versions, in m
 		parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r*1e6))
 	}
 	if g := st.params["gamma_shape"]; g != "" {
