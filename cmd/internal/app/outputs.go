@@ -16,7 +16,6 @@ type outputDef struct {
 	get          func(o *microphys.Outputs) float64
 	scale        float64 // file value = SI value * scale
 	units        string
-	siUnits      string
 	standardName string
 	longName     string
 	validMin     float64
@@ -53,7 +52,7 @@ func outputTableFor(s microphys.AutoconvScheme) []outputDef {
 	defs := make([]outputDef, len(microphys.OutputDecls))
 	for i := range microphys.OutputDecls {
 		d := &microphys.OutputDecls[i]
-		defs[i] = outputDef{name: d.Name, get: d.Get, scale: d.Scale, units: d.Units, siUnits: d.SIUnits,
+		defs[i] = outputDef{name: d.Name, get: d.Get, scale: d.Scale, units: d.Units,
 			standardName: d.StandardName, longName: d.LongName, validMin: d.ValidMin, validMax: d.ValidMax,
 			comment: d.Comment, references: d.ReferencesFor(s), input: grid.Role(d.Input),
 			collector: d.Collector, evaporation: d.Evaporation, content: d.Content, packable: d.Packable}
