@@ -472,7 +472,7 @@ func (in *Input) layoutIO() error {
 			}
 		}
 		add(v.Name)
-		if h.Time >= 0 && d.Name == L.Dims[h.Time].Name && (LooksLikeTime(v.Text("units")) || v.Text("standard_name") == "time") {
+		if h.Time >= 0 && d.Name == L.Dims[h.Time].Name {
 			ta, err := ParseTimeAxis(in.Info, v)
 			if err != nil {
 				return err

@@ -38,7 +38,7 @@ type Horizontal struct {
 	// Radians is true when Lat and Lon are in radians (ICON's clat and clon).
 	Radians bool
 	// Time is the index of the dimension whose coordinate variable is a time
-	// axis, -1 when none.
+	// axis (IsTimeAxis), -1 when none.
 	Time int
 }
 
@@ -54,6 +54,14 @@ func timeLike(name string, v *VarInfo) bool {
 	}
 	n := strings.ToLower(name)
 	return n == "time" || n == "t" || n == "times" || n == "record" || n == "valid_time"
+}
+
+// IsTimeAxis reports whether a coordinate variable is a time axis whose units
+// must be read (ParseTimeAxis): units that read as a time reference, standard_name
+// time or axis T. A dimension merely named time, whose coordinate has other
+// units (an index), is a leading dimension without times.
+func IsTimeAxis(v *VarInfo) bool {
+	return LooksLikeTime(v.Text("units")) || v.Text("standard_name") == "time" || strings.EqualFold(v.Text("axis"), "T")
 }
 
 // memberLike reports whether a dimension counts ensemble members or realizations.
@@ -136,7 +144,7 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 		return c
 	}
 	for i, d := range v.Dims {
-		if timeLike(d, coordOf(d)) && coordOf(d) != nil {
+		if c := coordOf(d); c != nil && IsTimeAxis(c) {
 			h.Time = i
 			break
 		}

@@ -39,7 +39,12 @@ type TimeAxis struct {
 	Absolute bool
 	// Note says in words how non-CF units were read ("" for CF units).
 	Note string
-	conv Converter // CFUnits -> seconds since 1970-01-01 00:00:00 UTC
+	// Calendar is the calendar attribute; Standard is false for calendars other
+	// than standard, gregorian and proleptic_gregorian (noleap, 360_day, ...),
+	// whose dates Seconds does not give (it converts as if Gregorian).
+	Calendar string
+	Standard bool
+	conv     Converter // CFUnits -> seconds since 1970-01-01 00:00:00 UTC
 }
 
 // unixUnits are the units Seconds returns.
@@ -77,13 +82,14 @@ func LooksLikeTime(units string) bool {
 // ParseTimeAxis reads the units of time coordinate v of file fi (see TimeAxis).
 func ParseTimeAxis(fi *FileInfo, v *VarInfo) (*TimeAxis, error) {
 	units := strings.TrimSpace(v.Text("units"))
-	a := &TimeAxis{Var: v.Name, Units: units, CFUnits: units}
+	a := &TimeAxis{Var: v.Name, Units: units, CFUnits: units, Calendar: v.Text("calendar"), Standard: true}
 	bad := func(format string, args ...any) error {
 		return varErr(ErrUnits, fi.Path, v.Name, "time units %q: "+format, append([]any{units}, args...)...)
 	}
 	switch cal := strings.ToLower(v.Text("calendar")); cal {
 	case "", "standard", "gregorian", "proleptic_gregorian":
 	default:
+		a.Standard = false
 		if m := reAbsolute.FindStringSubmatch(units); m != nil {
 			return nil, bad("absolute time in the %s calendar cannot be read; expected the standard or proleptic_gregorian calendar", cal)
 		}

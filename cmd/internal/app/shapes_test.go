@@ -351,3 +351,39 @@ data: lwp = 60, 120, 240, 30 ; re = 9, 12, 16, 20 ;
 		t.Errorf("--region without coordinates: exit %d, stderr %q", code, stderr)
 	}
 }
+
+// TestShapesNoLeapCalendar: model output in a noleap calendar is processed and
+// summarised; only a time window, which needs Gregorian dates, is refused.
+func TestShapesNoLeapCalendar(t *testing.T) {
+	if _, err := exec.LookPath("ncgen"); err != nil {
+		t.Skip("ncgen not installed")
+	}
+	dir := t.TempDir()
+	cdl := filepath.Join(dir, "noleap.cdl")
+	in := filepath.Join(dir, "noleap.nc")
+	os.WriteFile(cdl, []byte(`netcdf noleap {
+dimensions: time = 2 ; lat = 2 ; lon = 2 ;
+variables:
+  double time(time) ; time:units = "days since 2000-01-01" ; time:calendar = "noleap" ;
+  float lat(lat) ; lat:units = "degrees_north" ; float lon(lon) ; lon:units = "degrees_east" ;
+  float lwp(time, lat, lon) ; lwp:units = "g m-2" ;
+  float re(time, lat, lon) ; re:units = "um" ;
+data: time = 0, 365 ; lat = 10, 20 ; lon = 30, 40 ;
+  lwp = 80, 90, 100, 110, 120, 130, 140, 150 ; re = 12, 13, 14, 15, 16, 17, 18, 19 ;
+}`), 0o644)
+	if b, err := exec.Command("ncgen", "-k", "nc4", "-o", in, cdl).CombinedOutput(); err != nil {
+		t.Fatalf("ncgen: %v %s", err, b)
+	}
+	out := filepath.Join(dir, "out.nc")
+	if code, _, stderr := runProc(t, "process", in, "-o", out); code != 0 {
+		t.Fatalf("process: %s", stderr)
+	}
+	code, stdout, stderr := runProc(t, "summary", out)
+	if mm := reColumns.FindStringSubmatch(stdout); code != 0 || mm == nil || mm[1] != "8" {
+		t.Fatalf("summary: exit %d, %q %q", code, stdout, stderr)
+	}
+	code, _, stderr = runProc(t, "summary", out, "--from", "2000-06-01")
+	if code == 0 || !strings.Contains(stderr, "noleap") || !strings.Contains(stderr, out) {
+		t.Errorf("window on a noleap axis: exit %d, %q", code, stderr)
+	}
+}

@@ -307,6 +307,7 @@ type procFile struct {
 	times    *grid.TimeAxis
 	timeVals []float64 // seconds since 1970 along dims[hz.Time]
 	noMaps   string    // why this file gives no maps ("" when it does)
+	window   summary.Window
 	scene    summary.Scene
 	lwp      string
 	rate     string // "" when absent
@@ -322,12 +323,12 @@ type varIn struct {
 	conv                   grid.Converter
 }
 
-func openProcessed(path string) (*procFile, error) {
+func openProcessed(path string, window summary.Window) (*procFile, error) {
 	r, err := grid.OpenReader(path)
 	if err != nil {
 		return nil, err
 	}
-	p := &procFile{path: path, r: r, info: r.Info(), vars: map[string]varIn{}}
+	p := &procFile{path: path, r: r, info: r.Info(), vars: map[string]varIn{}, window: window}
 	if err := p.bind(); err != nil {
 		r.Close()
 		return nil, err
@@ -527,6 +528,13 @@ func (p *procFile) scan() error {
 		ta, err := grid.ParseTimeAxis(fi, tv)
 		if err != nil {
 			return err
+		}
+		if !ta.Standard {
+			if !p.window.IsZero() {
+				return p.errf(td, "calendar %q: --from and --to need the standard (Gregorian) calendar", ta.Calendar)
+			}
+			p.scene = s
+			return s.Check()
 		}
 		t, err := read(td)
 		if err != nil {
@@ -762,7 +770,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 }
 
 func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool) error {
-	p, err := openProcessed(path)
+	p, err := openProcessed(path, f.window)
 	if err != nil {
 		return err
 	}

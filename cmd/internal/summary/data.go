@@ -25,7 +25,8 @@ type Field struct {
 // Lat and Lon are in degrees (north, east). They are either 1-D (len(Lat) == NY,
 // len(Lon) == NX, a rectilinear grid) or 2-D (len(Lat) == len(Lon) == NY*NX, row-major,
 // for swaths). Time is in seconds since 1970-01-01T00:00:00Z with len(Time) == NT; it may
-// be nil when NT == 1 (a scene without a time axis, which no time window can select).
+// be nil (steps without times: a scene without a time axis, or one in a calendar whose
+// dates are not Gregorian, which no time window can select).
 // Lat and Lon may both be nil: columns without coordinates (a mesh or a site list
 // without latitude and longitude, or a time series), which the statistics use and no
 // Region can select; such scenes have no maps.
@@ -74,7 +75,7 @@ func (s Scene) Check() error {
 		return fmt.Errorf("%w: lat has %d and lon %d values, want (NY=%d, NX=%d) for 1-D or %d each for 2-D coordinates",
 			ErrShape, len(s.Lat), len(s.Lon), s.NY, s.NX, n)
 	}
-	if len(s.Time) != s.NT && !(s.Time == nil && s.NT == 1) {
+	if s.Time != nil && len(s.Time) != s.NT {
 		return fmt.Errorf("%w: time has %d values, want NT=%d", ErrShape, len(s.Time), s.NT)
 	}
 	return nil
