@@ -729,6 +729,20 @@ type summaryState struct {
 	mixed     bool              // parameters differ between files
 	history   string            // of the only input
 	files     int
+	// steps, tmin and tmax count the selected time steps (leading indices) and
+	// their time range over every file, maps or not.
+	steps      int
+	tmin, tmax float64
+}
+
+// stepSpan is ms with the step count and time range of every selected step, for
+// the titles of the curves (which also cover files without maps).
+func (st *summaryState) stepSpan(ms summary.MapSet) summary.MapSet {
+	ms.Steps, ms.TimeMin, ms.TimeMax = st.steps, st.tmin, st.tmax
+	if math.IsInf(st.tmin, 1) {
+		ms.TimeMin, ms.TimeMax = math.NaN(), math.NaN()
+	}
+	return ms
 }
 
 func summarise(e *env, f summaryFlags, inputs, args []string) error {
@@ -740,7 +754,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 	if err != nil {
 		return usagef("%v", err)
 	}
-	st := &summaryState{acc: acc, maps: maps, mapsOK: true, firstTime: math.NaN()}
+	st := &summaryState{acc: acc, maps: maps, mapsOK: true, firstTime: math.NaN(), tmin: math.Inf(1), tmax: math.Inf(-1)}
 	for k, in := range inputs {
 		if err := st.addFile(e, f, in, k == 0); err != nil {
 			return err
@@ -828,6 +842,14 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		d, qc, err := p.step(b, needs)
 		if err != nil {
 			return err
+		}
+		for k := 0; k < b.n; k++ {
+			if times == nil {
+				st.steps++
+			} else if f.window.Contains(times[k]) {
+				st.steps++
+				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
+			}
 		}
 		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.n, Time: times}
 		cols := summary.Columns{
@@ -1287,7 +1309,7 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 	}
 	// Curves: the plots add their own last title line (error bars) to the subtitle.
 	chars := max(30, int(float64(f.width-8-200)/7.5))
-	span := spanText(ms, st.files)
+	span := spanText(st.stepSpan(ms), st.files)
 	pt := wrapLines(chars, "Drizzle probability against liquid water path, by droplet number", span, region, params)
 	if err := put("pop_vs_lwp.png", "POP against LWP", func(w io.Writer) error {
 		return plots.POPCurves(w, res, plots.CurveOptions{Width: f.width, Height: f.height, Title: pt})
