@@ -257,7 +257,7 @@ func (in *Input) bind() error {
 			if len(cands) == 0 {
 				cands = in.byCommonName(rule, bound)
 			}
-			cands = highestRank(cands)
+			cands = in.fitRank(rule.Role, highestRank(cands))
 			if len(cands) > 1 {
 				vs := make([]*VarInfo, len(cands))
 				for k, c := range cands {

@@ -479,8 +479,9 @@ variables: float lwp(lon, lat) ; float lat(lat) ; lat:units = "degrees_north" ; 
 }
 
 // TestOneDimensionalCandidates: 1-D variables are candidates (a radiometer's
-// lwp(time) beside its 2-D brightness temperatures), and a domain-mean series of
-// LWP beside the gridded LWP does not make the choice ambiguous.
+// lwp(time) beside its 2-D brightness temperatures), a domain-mean series of LWP
+// beside the gridded LWP does not make the choice ambiguous, and a 1-D series is
+// never bound beside a gridded LWP.
 func TestOneDimensionalCandidates(t *testing.T) {
 	radiometer := ncgenText(t, `netcdf r { dimensions: time = 3 ; n_freq = 2 ;
 variables: double time(time) ; time:units = "seconds since 2026-07-01" ;
@@ -500,7 +501,8 @@ variables:
   float lwp(time, y, x) ; lwp:standard_name = "atmosphere_mass_content_of_cloud_liquid_water" ; lwp:units = "g m-2" ;
   float lwp_mean(time) ; lwp_mean:standard_name = "atmosphere_mass_content_of_cloud_liquid_water" ; lwp_mean:units = "g m-2" ; lwp_mean:cell_methods = "area: mean" ;
   float re(time, y, x) ; re:units = "um" ;
-data: lwp = 1, 2, 3, 4, 5, 6, 7, 8 ; lwp_mean = 2.5, 6.5 ; re = 9, 9, 9, 9, 9, 9, 9, 9 ; }`, "nc4")
+  float ctp_mean(time) ; ctp_mean:standard_name = "air_pressure_at_cloud_top" ; ctp_mean:units = "hPa" ;
+data: lwp = 1, 2, 3, 4, 5, 6, 7, 8 ; lwp_mean = 2.5, 6.5 ; re = 9, 9, 9, 9, 9, 9, 9, 9 ; ctp_mean = 900, 910 ; }`, "nc4")
 	in, err = Open(mixed, OpenOptions{})
 	if err != nil {
 		t.Fatal(err)
@@ -508,5 +510,8 @@ data: lwp = 1, 2, 3, 4, 5, 6, 7, 8 ; lwp_mean = 2.5, 6.5 ; re = 9, 9, 9, 9, 9, 9
 	defer in.Close()
 	if b, _ := in.Binding(RoleLWP); b.Var != "lwp" || in.Layout.Shape != ShapeGrid {
 		t.Errorf("bound %q, shape %s", b.Var, in.Layout.Shape)
+	}
+	if in.Has(RoleCTP) {
+		t.Errorf("the domain-mean series ctp_mean(time) was bound to the gridded field's CTP")
 	}
 }

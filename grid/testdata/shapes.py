@@ -27,7 +27,7 @@ expect_time = None
 if family == "icon":
     # ICON-like unstructured mesh: clat/clon in radians with cell bounds, CDO's
     # absolute time axis "day as %Y%m%d.%f", chunked and deflated like model output.
-    nt, nc = 3, 1000
+    nt, nc = 3, 600
     d = netCDF4.Dataset(path, "w", format="NETCDF4")
     d.createDimension("time", None)
     d.createDimension("ncells", nc)

@@ -12,6 +12,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/microphys"
 )
 
@@ -110,16 +111,21 @@ func TestShapesEndToEnd(t *testing.T) {
 		t.Fatal(err)
 	}
 	cases := []struct {
-		family  string
-		inspect string // in inspect's layout
-		noMaps  string // in summary's stderr, "" when maps are made
+		family   string
+		inspect  string // in inspect's layout
+		noMaps   string // in summary's stderr, "" when maps are made
+		from, to string // a time window of summary ("" = none)
+		selected int    // columns the window selects
 	}{
-		{"icon", "cells along ncells", "single horizontal dimension ncells"},
-		{"sites", "cells along loc", "single horizontal dimension loc"},
-		{"sites_loc_first", "cells along loc", "single horizontal dimension loc"},
-		{"series", "none (a time series at one site)", "time series at one site"},
-		{"swath", "y = scan, x = pixel", ""},
-		{"members", "y = lat, x = lon", ""},
+		// The second step of the CDO axis: 600 cells.
+		{"icon", "cells along ncells", "single horizontal dimension ncells", "2026-07-01T06:00", "2026-07-02", 600},
+		{"sites", "cells along loc", "single horizontal dimension loc", "", "", 0},
+		// Steps at 3, 6 and 9 h of 9 sites stored as (loc, time).
+		{"sites_loc_first", "cells along loc", "single horizontal dimension loc", "2026-07-01T03:00", "2026-07-01T09:01", 27},
+		// 720 steps of 2 min read from "decimal hours since midnight": 6 h.
+		{"series", "none (a time series at one site)", "time series at one site", "2026-07-01T06:00", "2026-07-01T12:00", 180},
+		{"swath", "y = scan, x = pixel", "", "", "", 0},
+		{"members", "y = lat, x = lon", "", "", "", 0},
 	}
 	for _, c := range cases {
 		t.Run(c.family, func(t *testing.T) {
@@ -215,7 +221,11 @@ func TestShapesEndToEnd(t *testing.T) {
 			if v, _ := strconv.Atoi(mm[3]); v != valid {
 				t.Errorf("summary binned %d valid columns; microphys gives %d", v, valid)
 			}
-			hasMaps := strings.Contains(pyRun(t, py, "-c", "import sys, netCDF4; print(list(netCDF4.Dataset(sys.argv[1]).variables))", sumNC), "drizzle_probability_time_mean")
+			sfi, err := grid.Describe(sumNC)
+			if err != nil {
+				t.Fatal(err)
+			}
+			hasMaps := sfi.Var("drizzle_probability_time_mean") != nil
 			if c.noMaps != "" {
 				if !strings.Contains(stderr, "no maps") || !strings.Contains(stderr, c.noMaps) || hasMaps {
 					t.Errorf("want maps skipped because of %q; stderr %q, maps in file %v", c.noMaps, stderr, hasMaps)
@@ -223,43 +233,45 @@ func TestShapesEndToEnd(t *testing.T) {
 			} else if !hasMaps || strings.Contains(stderr, "no maps") {
 				t.Errorf("want maps; stderr %q, maps in file %v", stderr, hasMaps)
 			}
+			if c.from != "" {
+				code, stdout, stderr := runProc(t, "summary", out, "--from", c.from, "--to", c.to)
+				mm := reColumns.FindStringSubmatch(stdout)
+				if code != 0 || mm == nil {
+					t.Fatalf("summary --from --to: exit %d: %s", code, stderr)
+				}
+				if sel, _ := strconv.Atoi(mm[2]); sel != c.selected {
+					t.Errorf("the window selects %d columns; want %d", sel, c.selected)
+				}
+			}
+			if c.family == "icon" {
+				checkRegion(t, out, f)
+			}
 		})
 	}
 }
 
-// TestShapesSummaryTimeWindow: a window selects the radiometer's steps by the time
-// read from "decimal hours since midnight" (rewritten in CF units by process), and
-// the sites' steps when the file stores (loc, time).
-func TestShapesSummaryTimeWindow(t *testing.T) {
-	py := needPython(t)
-	for _, c := range []struct {
-		family   string
-		from, to string
-		selected int
-	}{
-		{"series", "2026-07-01T06:00", "2026-07-01T12:00", 180},         // 720 steps of 2 min: 6 h
-		{"sites_loc_first", "2026-07-01T03:00", "2026-07-01T09:01", 27}, // steps at 3, 6, 9 h of 9 sites
-		{"icon", "2026-07-01T06:00", "2026-07-02", 1000},                // the second step of the CDO axis
-	} {
-		t.Run(c.family, func(t *testing.T) {
-			dir := t.TempDir()
-			in, _ := writeShape(t, py, c.family, dir)
-			out := filepath.Join(dir, "out.nc")
-			if code, _, stderr := runProc(t, "process", in, "-o", out); code != 0 {
-				t.Fatalf("process: %s", stderr)
-			}
-			code, stdout, stderr := runProc(t, "summary", out, "--from", c.from, "--to", c.to)
-			if code != 0 {
-				t.Fatalf("summary exit %d: %s", code, stderr)
-			}
-			mm := reColumns.FindStringSubmatch(stdout)
-			if mm == nil {
-				t.Fatalf("no counts:\n%s", stdout)
-			}
-			if sel, _ := strconv.Atoi(mm[2]); sel != c.selected {
-				t.Errorf("%d columns selected; want %d", sel, c.selected)
-			}
-		})
+// checkRegion: --region selects ICON's cells by their own coordinates, radians read
+// as degrees.
+func checkRegion(t *testing.T, out string, f shapeFixture) {
+	t.Helper()
+	lat, lon := f.Coords["clat"].Values, f.Coords["clon"].Values
+	inBox := 0
+	for i := range lat {
+		la, lo := lat[i]*180/math.Pi, lon[i]*180/math.Pi
+		if la >= -10 && la <= 10 && lo >= -85 && lo <= -75 {
+			inBox++
+		}
+	}
+	if inBox == 0 || inBox == len(lat) {
+		t.Fatalf("%d of %d cells in the box: the test selects nothing or everything", inBox, len(lat))
+	}
+	code, stdout, stderr := runProc(t, "summary", out, "--region", "-10,10,-85,-75")
+	mm := reColumns.FindStringSubmatch(stdout)
+	if code != 0 || mm == nil {
+		t.Fatalf("summary exit %d: %s", code, stderr)
+	}
+	if sel, _ := strconv.Atoi(mm[2]); sel != 3*inBox {
+		t.Errorf("%d columns selected; the box holds %d cells at 3 times", sel, inBox)
 	}
 }
 
@@ -295,37 +307,13 @@ data: time = 0, 1 ; lwp = 80, 90 ; re = 12, 13 ;
 	}
 }
 
-// TestShapesRegion: --region selects cells by their own coordinates (ICON's radians
-// read as degrees), and a file without coordinates gives the statistics, says why
+// TestShapesNoCoordinates: a file without coordinates gives the statistics, says why
 // it has no maps, and refuses a region with a clear message.
-func TestShapesRegion(t *testing.T) {
-	py := needPython(t)
+func TestShapesNoCoordinates(t *testing.T) {
+	if _, err := exec.LookPath("ncgen"); err != nil {
+		t.Skip("ncgen not installed")
+	}
 	dir := t.TempDir()
-	in, f := writeShape(t, py, "icon", dir)
-	out := filepath.Join(dir, "out.nc")
-	if code, _, stderr := runProc(t, "process", in, "-o", out); code != 0 {
-		t.Fatalf("process: %s", stderr)
-	}
-	lat, lon := f.Coords["clat"].Values, f.Coords["clon"].Values
-	inBox := 0
-	for i := range lat {
-		la, lo := lat[i]*180/math.Pi, lon[i]*180/math.Pi
-		if la >= -10 && la <= 10 && lo >= -85 && lo <= -75 {
-			inBox++
-		}
-	}
-	if inBox == 0 || inBox == len(lat) {
-		t.Fatalf("%d of %d cells in the box: the test selects nothing or everything", inBox, len(lat))
-	}
-	code, stdout, stderr := runProc(t, "summary", out, "--region", "-10,10,-85,-75")
-	mm := reColumns.FindStringSubmatch(stdout)
-	if code != 0 || mm == nil {
-		t.Fatalf("summary exit %d: %s", code, stderr)
-	}
-	if sel, _ := strconv.Atoi(mm[2]); sel != 3*inBox {
-		t.Errorf("%d columns selected; the box holds %d cells at 3 times", sel, inBox)
-	}
-
 	cdl := filepath.Join(dir, "bare.cdl")
 	bare := filepath.Join(dir, "bare.nc")
 	os.WriteFile(cdl, []byte(`netcdf bare {
@@ -342,7 +330,7 @@ data: lwp = 60, 120, 240, 30 ; re = 9, 12, 16, 20 ;
 	if code, _, stderr := runProc(t, "process", bare, "-o", bareOut); code != 0 {
 		t.Fatalf("process: %s", stderr)
 	}
-	code, stdout, stderr = runProc(t, "summary", bareOut)
+	code, stdout, stderr := runProc(t, "summary", bareOut)
 	if mm := reColumns.FindStringSubmatch(stdout); code != 0 || mm == nil || mm[1] != "4" || !strings.Contains(stderr, "no maps") {
 		t.Errorf("summary of a file without coordinates: exit %d, stdout %q, stderr %q", code, stdout, stderr)
 	}
