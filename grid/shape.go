@@ -124,8 +124,8 @@ func isLonName(n string) bool {
 //
 //  1. 1-D coordinate variables of two of v's dimensions that are latitude and
 //     longitude: a grid on those two.
-//  2. 2-D latitude and longitude named by v's coordinates attribute: a swath on
-//     their dimensions.
+//  2. 2-D latitude and longitude on two of v's dimensions (named by the
+//     coordinates attribute, or found by name or standard_name): a swath on them.
 //  3. 1-D latitude and longitude on one of v's dimensions, named by the
 //     coordinates attribute or found by name or standard_name: cells (a mesh or
 //     a list of sites); on two dimensions: a grid on them. Variables along the
@@ -182,8 +182,14 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 	}
 	for i := range fi.Vars {
 		c := &fi.Vars[i]
-		if len(c.Dims) == 1 && c.Dims[0] != c.Name && slices.Contains(v.Dims, c.Dims[0]) && !slices.Contains(aux, c) &&
-			(h.Time < 0 || c.Dims[0] != v.Dims[h.Time]) {
+		if c == v || slices.Contains(aux, c) || (len(c.Dims) == 1 && c.Dims[0] == c.Name) || len(c.Dims) < 1 || len(c.Dims) > 2 {
+			continue
+		}
+		onV := true
+		for _, d := range c.Dims {
+			onV = onV && slices.Contains(v.Dims, d) && (h.Time < 0 || d != v.Dims[h.Time])
+		}
+		if onV {
 			aux = append(aux, c)
 		}
 	}

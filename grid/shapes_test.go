@@ -461,6 +461,8 @@ variables: float lwp(time) ; double time(time) ; time:units = "hours since 2026-
   float lat(time) ; lat:units = "degrees_north" ; float lon(time) ; lon:units = "degrees_east" ; }`, ShapeSeries, nil, ""},
 		{"ensemble members and time only", `netcdf a { dimensions: time = 2 ; member = 3 ;
 variables: float lwp(time, member) ; }`, ShapeSeries, nil, ""},
+		{"swath without a coordinates attribute", `netcdf a { dimensions: y = 2 ; x = 3 ;
+variables: float lwp(y, x) ; float latitude(y, x) ; latitude:units = "degrees_north" ; float longitude(y, x) ; longitude:units = "degrees_east" ; }`, ShapeGrid, []int{0, 1}, "latitude"},
 		{"(lon, lat) order", `netcdf a { dimensions: lon = 3 ; lat = 2 ;
 variables: float lwp(lon, lat) ; float lat(lat) ; lat:units = "degrees_north" ; float lon(lon) ; lon:units = "degrees_east" ; }`, ShapeGrid, []int{0, 1}, "lat"},
 	}
