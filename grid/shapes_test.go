@@ -429,6 +429,32 @@ data: lwp = 1, 2, 3, 4 ; re = 10, 10, 10, 10 ;
 			t.Fatalf("directory: %v; want the URL to use", err)
 		}
 	})
+	t.Run("nczarr_1.0_scalar", func(t *testing.T) {
+		// The array metadata of NCZarr 1.0 (libnetcdf 4.8) beside a pure-Zarr .zarray:
+		// a scalar has no dimrefs (the 1.0 layout from memory; libnetcdf 4.9.0
+		// writes only the 2.0 layout, so no tool here can write it).
+		store := filepath.Join(dir, "old.zarr")
+		for _, f := range []struct{ path, text string }{
+			{".zgroup", `{"zarr_format": 2}`},
+			{"crs/.zarray", `{"zarr_format": 2, "shape": [1], "chunks": [1], "dtype": "<i4", "compressor": null, "filters": null, "order": "C", "fill_value": null}`},
+			{"crs/.nczarray", `{"dimrefs": [], "storage": "scalar"}`},
+		} {
+			p := filepath.Join(store, f.path)
+			if err := os.MkdirAll(filepath.Dir(p), 0o755); err != nil {
+				t.Fatal(err)
+			}
+			if err := os.WriteFile(p, []byte(f.text), 0o644); err != nil {
+				t.Fatal(err)
+			}
+		}
+		err := checkZarrStore(url(store, "nczarr"))
+		if !errors.Is(err, ErrZarr) || !strings.Contains(err.Error(), "/crs") {
+			t.Fatalf("error %v; want ErrZarr naming /crs", err)
+		}
+		if err := checkZarrStore(url(store, "zarr")); err != nil {
+			t.Fatalf("pure Zarr mode: %v; a scalar is read there", err)
+		}
+	})
 	t.Run("remote", func(t *testing.T) {
 		_, err := Open("https://example.invalid/store#mode=nczarr,s3", OpenOptions{})
 		if !errors.Is(err, ErrZarr) || !strings.Contains(err.Error(), "local directory") {

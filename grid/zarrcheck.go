@@ -67,7 +67,7 @@ func jsonNull(m json.RawMessage) bool {
 }
 
 // checkZarrStore reads the metadata of a local Zarr store (every .zarray,
-// .zgroup and zarr.json below it) before libnetcdf sees it, and refuses what
+// .nczarray and zarr.json below it) before libnetcdf sees it, and refuses what
 // libnetcdf 4.9.0 crashes on or misreads (each found with its own tools):
 //
 //   - an NCZarr store holding a scalar variable, opened in NCZarr mode: the
@@ -117,6 +117,20 @@ func checkZarrStore(u string) error {
 		switch d.Name() {
 		case "zarr.json":
 			problems = append(problems, fmt.Sprintf("%s is Zarr version 3 (zarr.json); expected version 2", name))
+		case ".nczarray": // NCZarr 1.0 (libnetcdf 4.8) keeps its array metadata apart
+			b, err := os.ReadFile(p)
+			if err != nil {
+				return err
+			}
+			var meta struct {
+				Dimrefs []string `json:"dimrefs"`
+				Storage string   `json:"storage"`
+			}
+			if json.Unmarshal(b, &meta) != nil {
+				problems = append(problems, fmt.Sprintf("%s/.nczarray is not valid JSON", name))
+			} else if nczarr && (meta.Storage == "scalar" || len(meta.Dimrefs) == 0) {
+				problems = append(problems, fmt.Sprintf("variable %s is a scalar in an NCZarr store (opening it in NCZarr mode crashes the library)", name))
+			}
 		case ".zarray":
 			b, err := os.ReadFile(p)
 			if err != nil {
