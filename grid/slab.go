@@ -167,7 +167,7 @@ func (p *slabPlan) setStart(start, count []uint64, lead, y0, ny, x0, nx int) {
 }
 
 // cacheFor sizes an input's chunk cache for a variable with the given chunk sizes
-// (cf.md 3.3: the cache holds every chunk one read touches). It counts the chunks
+// (doc/netcdf.md#chunking: the cache holds every chunk one read touches). It counts the chunks
 // of the variable that one slab (in a column band: one row of slabs across the
 // band, which are all read before the band moves down) can touch, over the actual
 // slab grid: one chunk for a variable chunked like LWP and slabs that are pieces

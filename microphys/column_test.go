@@ -125,13 +125,13 @@ func TestColumnTauGiven(t *testing.T) {
 	if !math.IsNaN(out.CollectorRadius) || !math.IsNaN(out.SurfaceRadius) {
 		t.Error("collector off but collector outputs set")
 	}
-	// Fixed c_w option ([Brenguier2000] 1.9e-6): the N_d check value of physics notes §6.3.
+	// Fixed c_w option ([Brenguier2000] 1.9e-6): the N_d check value of doc/science.md#droplet-number-and-thickness.
 	p.FixedCw = 1.9e-6
 	m, _ = NewModel(p)
 	in.LWP, in.Tau = LWPAdiabatic(10, 10e-6), 10
 	m.Column(&in, &out)
 	if !scalar.EqualWithinRel(out.Nd, 137.11e6, 1e-4) || out.Cw != 1.9e-6 {
-		t.Errorf("fixed c_w: N_d = %.5g, want 137.11e6 (physics notes §6.3)", out.Nd)
+		t.Errorf("fixed c_w: N_d = %.5g, want 137.11e6 (doc/science.md#droplet-number-and-thickness)", out.Nd)
 	}
 }
 
@@ -184,7 +184,7 @@ func TestColumnScreening(t *testing.T) {
 	}
 }
 
-// TestColumnNoAlloc checks that Column does not allocate (issue 2 item 10).
+// TestColumnNoAlloc checks that Column does not allocate (DEVELOPERS.md, the column API).
 func TestColumnNoAlloc(t *testing.T) {
 	m := defaultModel(t)
 	in := marineScSample(64, 5, true)
@@ -204,7 +204,7 @@ func invalidInput(in *Inputs) bool {
 		bad(in.CTP, 2e4, 1.1e5) || bad(in.CTH, 0, 2e4) || bad(in.LWPStd, 0, math.MaxFloat64) || bad(in.SurfaceRH, 0, 1)
 }
 
-// FuzzColumn checks Column's invariants for any float input (STYLE.md item 10): no panic;
+// FuzzColumn checks Column's invariants for any float input (microphys/doc.go, Bad input): no panic;
 // invalid input is screened with every diagnostic NaN; an unscreened column has finite,
 // positive N_d, H and c_w, rates >= 0 and POP in [0, 1]. Seeds: the screening table above
 // and typical columns; corpus in testdata/fuzz/FuzzColumn.

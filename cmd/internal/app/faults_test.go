@@ -1,6 +1,6 @@
 package app
 
-// Faults and determinism of `warmrain process` (issue 8), through the built
+// Faults and determinism of `warmrain process`, through the built
 // command in child processes: kill -9 at seeded random moments while it
 // writes (the final name is absent or a complete file), SIGTERM/SIGINT (no
 // temporary file, exit 1, a rerun completes), a full disk (a clear error, no
