@@ -212,7 +212,7 @@ func FuzzColumn(f *testing.F) {
 	n := math.NaN()
 	f.Add(0.1, 12e-6, n, 285.0, 90000.0, n, n, n)
 	f.Add(0.05, 9e-6, 8.0, 290.0, 95000.0, 900.0, 0.02, 0.7)
-	f.Add(-1.0, math.Inf(1), math.Inf(-1), 1e300, -1e300, 0.0, -0.0, 2.0)
+	f.Add(-1.0, math.Inf(1), math.Inf(-1), 1e300, -1e300, 0.0, math.Copysign(0, -1), 2.0)
 	f.Add(1e-300, 1e-300, 1e-300, 200.0, 2e4, 2e4, 1e300, 1.0)
 	f.Add(0.3, 29e-6, n, 273.15, 110000.0, 100.0, 0.0, 0.0)
 	m := defaultModel(f) // build the tables once per process, before any input is timed

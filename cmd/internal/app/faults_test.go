@@ -20,7 +20,6 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
-	"runtime"
 	"slices"
 	"strings"
 	"syscall"
@@ -36,10 +35,7 @@ func buildTools(t *testing.T, dir string) (warmrain, gensample string) {
 	t.Helper()
 	goTool, err := exec.LookPath("go")
 	if err != nil {
-		goTool = filepath.Join(runtime.GOROOT(), "bin", "go")
-		if _, err := os.Stat(goTool); err != nil {
-			skipOrFailMissing(t, "the go command")
-		}
+		skipOrFailMissing(t, "the go command")
 	}
 	cmd := exec.Command(goTool, "build", "-o", dir+string(filepath.Separator),
 		"github.com/warmrain/warmrain/cmd/warmrain", "github.com/warmrain/warmrain/samples/cmd/gensample")
