@@ -25,7 +25,7 @@ test: deps
 lint: deps
 	GO=$(GO) bash .ci/lint.sh
 
-# race: the race detector on grid, cmd/internal/batch and cmd/internal/app.
+# race: the race detector on grid and cmd/internal/batch (.ci/race.sh).
 race: deps
 	GO=$(GO) bash .ci/race.sh
 
