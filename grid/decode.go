@@ -252,6 +252,8 @@ func (d *Decoder) Describe() string {
 		parts = append(parts, fmt.Sprintf("valid [%s, %s] (%s values)", lo, hi, dom))
 	}
 	switch {
+	case d.HDF4Cal && d.CalOffset == 0:
+		parts = append(parts, fmt.Sprintf("unpacked the HDF4 way (SDsetcal): scale_factor*(x - add_offset) = %g*x, not CF's x*scale_factor + add_offset (the same here, add_offset being 0)", d.Scale))
 	case d.HDF4Cal:
 		parts = append(parts, fmt.Sprintf("unpacked the HDF4 way (SDsetcal): scale_factor*(x - add_offset) = %g*(x%+g), not CF's x*scale_factor + add_offset", d.Scale, -d.CalOffset))
 	case d.Packed:

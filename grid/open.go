@@ -457,6 +457,7 @@ func (in *Input) layoutIO() error {
 			}
 		}
 	}
+	findLatLon2D(in.Info, L)
 	// Bounds of every coordinate kept, and the grid mapping.
 	for _, c := range slices.Clone(L.Coords) {
 		cv := in.Info.Var(c)

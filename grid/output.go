@@ -569,6 +569,9 @@ func (o *Output) putVarAttrs(id int, v OutputVar, t Type, lwp *VarInfo) error {
 		}
 	}
 	coords := flattenPaths(lwp.Text("coordinates"))
+	if L := o.in.Layout; coords == "" && L.LatLon2D && L.Lat != "" && L.Lon != "" {
+		coords = baseName(L.Lon) + " " + baseName(L.Lat) // found without a coordinates attribute (findLatLon2D)
+	}
 	more := [][2]string{{"flag_meanings", v.FlagMeanings}, {"coordinates", coords}, {"grid_mapping", flattenPaths(lwp.Text("grid_mapping"))},
 		{"ancillary_variables", v.AncillaryVariables}, {"cell_methods", v.CellMethods}, {"comment", v.Comment},
 		{"references", v.References}, {"coverage_content_type", v.CoverageContentType}}

@@ -406,3 +406,37 @@ func (fi *FileInfo) detach() {
 
 // sceneName is how errors and reports name a scene: its files joined with +.
 func sceneName(files []string) string { return strings.Join(files, "+") }
+
+// findLatLon2D takes, when the layout has no latitude and longitude yet, the
+// one 2-D latitude and the one 2-D longitude variable on exactly the grid's
+// (y, x) dimensions, by standard_name, units or name: level-2 swaths of the
+// polar imagers (HDF4) keep them so, without a coordinates attribute.
+func findLatLon2D(fi *FileInfo, L *Layout) {
+	if L.Lat != "" || L.Lon != "" {
+		return
+	}
+	var lats, lons []string
+	for i := range fi.Vars {
+		v := &fi.Vars[i]
+		if len(v.Dims) != 2 || v.Dims[0] != L.Y.Name || v.Dims[1] != L.X.Name || !v.Type.Numeric() {
+			continue
+		}
+		tmp := *v
+		tmp.Name = v.Base()
+		switch {
+		case isLat(&tmp):
+			lats = append(lats, v.Name)
+		case isLon(&tmp):
+			lons = append(lons, v.Name)
+		}
+	}
+	if len(lats) != 1 || len(lons) != 1 {
+		return
+	}
+	L.Lat, L.Lon, L.LatLon2D = lats[0], lons[0], true
+	for _, n := range []string{lats[0], lons[0]} {
+		if !slices.Contains(L.Coords, n) {
+			L.Coords = append(L.Coords, n)
+		}
+	}
+}
