@@ -36,7 +36,7 @@ func TestHDF4SwathValues(t *testing.T) {
 	}
 	// Every data set against ncdump-hdf's stored values, decoded the HDF4 way.
 	cases := []struct {
-		name                          string
+		name                        string
 		scale, offset, fill, lo, hi float64
 	}{
 		{"Cloud_Water_Path", 0.5, -40, -9999, 0, 10000},

@@ -402,4 +402,3 @@ func reValues(n int) string {
 	v[2] = "1e20"
 	return strings.Join(v, ", ")
 }
-

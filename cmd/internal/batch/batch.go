@@ -303,13 +303,13 @@ type Record struct {
 	Input string `json:"input"` // the input, or the first file of a scene joined with +
 	// Inputs lists every file of a scene joined with + (absent for one file).
 	Inputs           []string `json:"inputs,omitempty"`
-	Output           string  `json:"output"`
-	Status           string  `json:"status"` // done, skipped, failed, interrupted
-	Columns          int64   `json:"columns"`
-	ScreenedFraction float64 `json:"screened_fraction"`
-	Seconds          float64 `json:"seconds"`
-	Shard            string  `json:"shard,omitempty"`
-	Error            string  `json:"error,omitempty"`
+	Output           string   `json:"output"`
+	Status           string   `json:"status"` // done, skipped, failed, interrupted
+	Columns          int64    `json:"columns"`
+	ScreenedFraction float64  `json:"screened_fraction"`
+	Seconds          float64  `json:"seconds"`
+	Shard            string   `json:"shard,omitempty"`
+	Error            string   `json:"error,omitempty"`
 }
 
 // Manifest appends records to a JSON-lines file, one write per record so
