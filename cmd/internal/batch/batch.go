@@ -299,17 +299,19 @@ func (s Shard) Select(inputs []string) []int {
 
 // Record is one line of the run manifest (JSON lines).
 type Record struct {
-	Time  string `json:"time"`
-	Input string `json:"input"` // the input, or the first file of a scene joined with +
-	// Inputs lists every file of a scene joined with + (absent for one file).
-	Inputs           []string `json:"inputs,omitempty"`
-	Output           string   `json:"output"`
-	Status           string   `json:"status"` // done, skipped, failed, interrupted
-	Columns          int64    `json:"columns"`
-	ScreenedFraction float64  `json:"screened_fraction"`
-	Seconds          float64  `json:"seconds"`
-	Shard            string   `json:"shard,omitempty"`
-	Error            string   `json:"error,omitempty"`
+	Time             string  `json:"time"`
+	Input            string  `json:"input"`
+	Output           string  `json:"output"`
+	Status           string  `json:"status"` // done, skipped, failed, interrupted
+	Columns          int64   `json:"columns"`
+	ScreenedFraction float64 `json:"screened_fraction"`
+	Seconds          float64 `json:"seconds"`
+	Shard            string  `json:"shard,omitempty"`
+	Error            string  `json:"error,omitempty"`
+
+	// Inputs lists every file of a scene joined with + (Input is then the
+	// first of them); absent for a single file.
+	Inputs []string `json:"inputs,omitempty"`
 }
 
 // Manifest appends records to a JSON-lines file, one write per record so
