@@ -39,6 +39,10 @@ type Decoder struct {
 	ValidUnpacked bool
 	Packed        bool
 	Scale, Offset float64
+	Conv          Converter
+
+	a, b float64 // folded Scale/Offset and Conv
+
 	// HDF4Cal: the variable is an HDF4 SD data set whose scale_factor and
 	// add_offset were written by SDsetcal, meaning value = scale_factor *
 	// (stored - add_offset) (HDF4 User's Guide, SDsetcal), not CF's stored *
@@ -46,9 +50,6 @@ type Decoder struct {
 	// is then -scale_factor * add_offset, so that x*Scale + Offset still holds.
 	HDF4Cal   bool
 	CalOffset float64
-	Conv      Converter
-
-	a, b float64 // folded Scale/Offset and Conv
 }
 
 // NewDecoder builds the decoder of variable v of file from its attributes, with
