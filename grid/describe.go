@@ -29,12 +29,12 @@ type DimInfo struct {
 	Unlimited bool
 }
 
-// VarInfo describes one variable.
+// VarInfo describes one variable. ID is its libnetcdf id within its group (or
+// its HDF4 SDS index). Name is its name in the root group, or its full group
+// path ("/geophysical_data/cloud_water_path") in a netCDF-4 subgroup; HDF4 SD
+// names may contain blanks.
 type VarInfo struct {
-	ID int // libnetcdf variable id within its group, or HDF4 SDS index
-	// Name is the variable's name in the root group, or its full group path
-	// ("/geophysical_data/cloud_water_path") in a netCDF-4 subgroup. HDF4 SD names
-	// may contain blanks.
+	ID      int
 	Name    string
 	Type    Type
 	Dims    []string // dimension names, slowest first
@@ -79,13 +79,16 @@ func (v *VarInfo) Len() int {
 
 // FileInfo describes an input: one file, every group of it included, or a
 // scene of several files joined with "+" seen as one (see store.go).
+// Path is the first (or only) file, Files every file of the scene in the order
+// given.
 type FileInfo struct {
-	Path    string   // the first (or only) file
-	Files   []string // every file of the scene, in the order given
+	Path    string
 	Format  Format
 	Dims    []DimInfo
 	Vars    []VarInfo
 	Globals []Attr
+
+	Files []string
 }
 
 // Var returns the named variable or nil. name is a root-group name, a full
