@@ -377,7 +377,7 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			if strings.HasPrefix(a.Name, "_Quantize") || (a.Name == "_Unsigned" && t != v.Type) {
 				continue
 			}
-			if err := putAttrConverted(ncid, id, flattenRefs(a), t); err != nil {
+			if err := putAttrConverted(ncid, id, flattenRefs(hdf4ToCF(v, a)), t); err != nil {
 				return werr(v.Name, err, "cannot copy attribute "+a.Name)
 			}
 		}

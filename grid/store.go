@@ -440,3 +440,23 @@ func findLatLon2D(fi *FileInfo, L *Layout) {
 		}
 	}
 }
+
+// hdf4ToCF rewrites the add_offset of an HDF4 data set copied into a netCDF
+// output so that CF readers get the values HDF4 means: scale_factor * (stored
+// - add_offset) is stored * scale_factor + (-scale_factor * add_offset).
+func hdf4ToCF(v *VarInfo, a Attr) Attr {
+	if !v.HDF4 || a.Name != "add_offset" {
+		return a
+	}
+	sa, ok := v.Attr("scale_factor")
+	off := a.Float64s()
+	if !ok || len(sa.Float64s()) != 1 || len(off) != 1 {
+		return a
+	}
+	cf := -sa.Float64s()[0] * off[0]
+	if cf == 0 {
+		cf = 0 // no negative zero
+	}
+	a.Value = convertTyped([]float64{cf}, a.Type)
+	return a
+}

@@ -139,6 +139,30 @@ func TestProductHDF4Swath(t *testing.T) {
 	if qc := readVar(t, out, qcName); uint16(qc[15])&microphys.QCPossibleIce == 0 {
 		t.Fatalf("column 15 (265 K) QC %v; want possible_ice", microphys.QCNames(uint16(qc[15])))
 	}
+	// --augment copies the HDF4 data sets with CF packing attributes: netCDF4-python
+	// (CF decoding) reads the values HDF4 means.
+	aug := filepath.Join(dir, "swath_aug.nc")
+	if code, _, stderr := runProc(t, append([]string{"process", path, "-o", aug, "--augment"}, binds...)...); code != 0 {
+		t.Fatalf("process --augment: exit %d: %s", code, stderr)
+	}
+	var raw map[string][]*float64
+	script := `
+import sys, json, numpy as np, netCDF4
+d = netCDF4.Dataset(sys.argv[1])
+f = lambda n: [None if np.ma.is_masked(x) else float(x) for x in d[n][:].ravel()]
+print(json.dumps({"cwp": f("Cloud_Water_Path"), "re": f("Cloud Effective Radius"), "ctt": f("Cloud_Top_Temperature")}))
+`
+	if err := json.Unmarshal([]byte(gridtest.Python(t, script, aug)), &raw); err != nil {
+		t.Fatal(err)
+	}
+	for name, want := range map[string][]float64{"cwp": scaled(in.lwp, 1e3), "re": scaled(in.re, 1e6), "ctt": in.ctt} {
+		got := gridtest.Floats(raw[name])
+		for i := range want {
+			if math.IsNaN(want[i]) != math.IsNaN(got[i]) || (!math.IsNaN(want[i]) && math.Abs(got[i]-want[i]) > 1e-6*math.Abs(want[i])) {
+				t.Fatalf("augmented %s[%d] read by netCDF4-python = %g, want %g", name, i, got[i], want[i])
+			}
+		}
+	}
 	lat := readVar(t, out, "Latitude")
 	if len(lat) != 20 || math.Abs(lat[19]+21.9) > 1e-5 {
 		t.Fatalf("2-D latitude not kept: %v", lat)
