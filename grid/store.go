@@ -185,6 +185,20 @@ func SceneFiles(spec string) []string {
 // checkScene runs checkReadable on every file of a scene and refuses a file
 // given twice.
 func checkScene(files []string) error {
+	if len(files) == 1 && strings.Contains(files[0], "+") && !isURL(files[0]) {
+		if _, err := os.Stat(files[0]); err != nil {
+			var missing []string
+			parts := strings.Split(files[0], "+")
+			for _, p := range parts {
+				if _, err := os.Stat(p); err != nil {
+					missing = append(missing, fmt.Sprintf("%q", p))
+				}
+			}
+			if len(missing) < len(parts) {
+				return &VarError{File: files[0], Problem: fmt.Sprintf("no such file; read as files of one scene joined with +, %s does not exist", strings.Join(missing, " and ")), Err: os.ErrNotExist}
+			}
+		}
+	}
 	seen := map[string]bool{}
 	for _, p := range files {
 		if seen[p] {
