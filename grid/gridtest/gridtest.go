@@ -96,8 +96,21 @@ func HDF4Decode(stored []float64, scale, offset, fill, lo, hi float64) []float64
 // the file gets.
 func NCGenHDF(t testing.TB, dir, cdl string, rename map[string]string) string {
 	t.Helper()
-	_, err := exec.LookPath("ncgen-hdf")
-	Need(t, "ncgen-hdf (Debian hdf4-tools)", err == nil)
+	if len(rename) == 0 {
+		_, err := exec.LookPath("ncgen-hdf")
+		Need(t, "ncgen-hdf (Debian hdf4-tools)", err == nil)
+		src, name := writeCDL(t, dir, cdl)
+		out := filepath.Join(dir, name+".hdf")
+		if b, err := exec.Command("ncgen-hdf", "-o", out, src).CombinedOutput(); err != nil {
+			t.Fatalf("ncgen-hdf: %v\n%s", err, b)
+		}
+		return out
+	}
+	return NCGenC(t, dir, cdl, rename, "", false)
+}
+
+func writeCDL(t testing.TB, dir, cdl string) (path, name string) {
+	t.Helper()
 	m := regexp.MustCompile(`netcdf\s+(\w+)\s*\{`).FindStringSubmatch(cdl)
 	if m == nil {
 		t.Fatal("CDL has no netcdf NAME { line")
@@ -106,32 +119,58 @@ func NCGenHDF(t testing.TB, dir, cdl string, rename map[string]string) string {
 	if err := os.WriteFile(src, []byte(cdl), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	out := filepath.Join(dir, m[1]+".hdf")
-	if len(rename) == 0 {
-		if b, err := exec.Command("ncgen-hdf", "-o", out, src).CombinedOutput(); err != nil {
-			t.Fatalf("ncgen-hdf: %v\n%s", err, b)
-		}
-		return out
+	return src, m[1]
+}
+
+// NCGenC compiles cdl to C with ncgen-hdf -c, renames names (string literals),
+// adds body (C statements using the generated ncid and NAME_id variables)
+// before the file is closed, builds the program and runs it. Built against
+// libmfhdf it writes an HDF4 file (NAME.hdf); with netcdf3 it is built against
+// libnetcdf's netCDF-2 interface instead and writes the same contents as a
+// netCDF-3 classic file (NAME.nc), for side-by-side comparisons.
+func NCGenC(t testing.TB, dir, cdl string, rename map[string]string, body string, netcdf3 bool) string {
+	t.Helper()
+	_, err := exec.LookPath("ncgen-hdf")
+	Need(t, "ncgen-hdf (Debian hdf4-tools)", err == nil)
+	src, name := writeCDL(t, dir, cdl)
+	out := filepath.Join(dir, name+".hdf")
+	if netcdf3 {
+		out = filepath.Join(dir, name+".nc")
 	}
 	code, err := exec.Command("ncgen-hdf", "-c", src).Output()
 	if err != nil {
 		t.Fatalf("ncgen-hdf -c: %v", err)
 	}
-	c := strings.Replace(string(code), `nccreate("`+m[1]+`"`, `nccreate("`+out+`"`, 1)
+	c := strings.Replace(string(code), `nccreate("`+name+`"`, `nccreate("`+out+`"`, 1)
 	for from, to := range rename {
 		if !strings.Contains(c, `"`+from+`"`) {
 			t.Fatalf("generated C does not name %q", from)
 		}
 		c = strings.ReplaceAll(c, `"`+from+`"`, `"`+to+`"`)
 	}
-	csrc := filepath.Join(dir, m[1]+".c")
+	if body != "" {
+		i := strings.LastIndex(c, "ncclose (ncid);")
+		if i < 0 {
+			t.Fatal("generated C has no ncclose")
+		}
+		c = c[:i] + "{\n" + body + "\n}\n   " + c[i:]
+	}
+	if netcdf3 { // libnetcdf's netcdf.h declares the same netCDF-2 interface
+		if i := strings.Index(c, "\nint\nmain"); i >= 0 {
+			c = "#include <netcdf.h>\n" + c[i:]
+		}
+	}
+	csrc := filepath.Join(dir, name+"-gen.c")
 	if err := os.WriteFile(csrc, []byte(c), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	exe := filepath.Join(dir, m[1]+"-gen")
-	cc := exec.Command("cc", "-I/usr/include/hdf", "-o", exe, csrc, "-L/usr/lib", "-lmfhdf", "-ldf", "-ltirpc")
-	if b, err := cc.CombinedOutput(); err != nil {
-		Need(t, "a C compiler and libhdf4-dev to build the generated writer ("+strings.TrimSpace(string(b))+")", false)
+	exe := filepath.Join(dir, name+"-gen")
+	args := []string{"-O1", "-I/usr/include/hdf", "-o", exe, csrc, "-L/usr/lib", "-lmfhdf", "-ldf", "-ltirpc"}
+	if netcdf3 {
+		args = []string{"-O1", "-o", exe, csrc, "-lnetcdf"}
+	}
+	if b, err := exec.Command("cc", args...).CombinedOutput(); err != nil {
+		Need(t, "a C compiler with libhdf4-dev and libnetcdf-dev to build the generated writer ("+strings.TrimSpace(string(b))+")", false)
 	}
 	run := exec.Command(exe)
 	run.Dir = dir
