@@ -36,6 +36,8 @@ static wr_intn (*p_SDattrinfo)(wr_int32, wr_int32, char *, wr_int32 *, wr_int32 
 static wr_intn (*p_SDreadattr)(wr_int32, wr_int32, void *);
 static wr_intn (*p_SDreaddata)(wr_int32, wr_int32 *, wr_int32 *, wr_int32 *, void *);
 static wr_intn (*p_SDiscoordvar)(wr_int32);
+static wr_intn (*p_SDgetchunkinfo)(wr_int32, void *, wr_int32 *);
+static wr_intn (*p_SDgetcompinfo)(wr_int32, int *, void *);
 static short (*p_HEvalue)(wr_int32);
 static const char *(*p_HEstring)(int);
 
@@ -56,6 +58,7 @@ static const char *wr_hdf4_load(void) {
 	WR_LOAD(wr_mf, SDselect); WR_LOAD(wr_mf, SDendaccess); WR_LOAD(wr_mf, SDgetinfo);
 	WR_LOAD(wr_mf, SDgetdimid); WR_LOAD(wr_mf, SDdiminfo); WR_LOAD(wr_mf, SDattrinfo);
 	WR_LOAD(wr_mf, SDreadattr); WR_LOAD(wr_mf, SDreaddata); WR_LOAD(wr_mf, SDiscoordvar);
+	WR_LOAD(wr_mf, SDgetchunkinfo); WR_LOAD(wr_mf, SDgetcompinfo);
 	WR_LOAD(wr_df, HEvalue); WR_LOAD(wr_df, HEstring);
 	return NULL;
 }
@@ -80,6 +83,23 @@ static wr_intn wr_SDreaddata(wr_int32 id, wr_int32 *start, wr_int32 *edge, void 
 	return p_SDreaddata(id, start, NULL, edge, buf);
 }
 static wr_intn wr_SDiscoordvar(wr_int32 id) { return p_SDiscoordvar(id); }
+// wr_SDstorage reports the chunk lengths (flags & 1: chunked; HDF_CHUNK_DEF
+// starts with them) and the compression (4 = deflate, with its level first in
+// comp_info) of a data set. The unions are read through buffers larger than
+// either (HDF_CHUNK_DEF and comp_info of HDF 4.2 are a few hundred bytes).
+static int wr_SDstorage(wr_int32 id, wr_int32 *chunks, int *comp, int *level) {
+	union { wr_int32 lengths[32]; char pad[4096]; } def;
+	union { int level; char pad[4096]; } info;
+	wr_int32 flags = 0;
+	*comp = 0; *level = 0;
+	memset(&def, 0, sizeof def);
+	if (p_SDgetchunkinfo(id, &def, &flags) < 0) return -1;
+	for (int i = 0; i < 32; i++) chunks[i] = (flags & 1) ? def.lengths[i] : 0;
+	memset(&info, 0, sizeof info);
+	if (p_SDgetcompinfo(id, comp, &info) < 0) { *comp = 0; return 0; }
+	if (*comp == 4) *level = info.level;
+	return 0;
+}
 static const char *wr_HElast(void) {
 	short c = p_HEvalue(1);
 	return c ? p_HEstring(c) : "no HDF4 error code";
@@ -285,6 +305,18 @@ func (h *sdsFile) describe() (*FileInfo, error) {
 		}
 		if v.Attrs, err = h.attrs(s, int(natts), vname); err != nil {
 			return nil, err
+		}
+		var chunks [h4MaxDims]C.wr_int32
+		var comp, level C.int
+		if C.wr_SDstorage(s, &chunks[0], &comp, &level) == 0 {
+			if chunks[0] > 0 {
+				for j := 0; j < int(rank); j++ {
+					v.Chunks = append(v.Chunks, int(chunks[j]))
+				}
+			}
+			if comp == 4 { // COMP_CODE_DEFLATE
+				v.Deflate = max(1, int(level))
+			}
 		}
 		fi.Vars = append(fi.Vars, v)
 	}

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -100,6 +101,59 @@ func TestHDF4SwathValues(t *testing.T) {
 	for _, s := range st {
 		if s.Role == RoleRe && (math.Abs(s.Min-lo) > 1e-15 || math.Abs(s.Max-hi) > 1e-15 || s.Valid != int64(n)) {
 			t.Fatalf("r_e stats %v; want min %g max %g valid %d", s, lo, hi, n)
+		}
+	}
+}
+
+// TestHDF4Repacked: the swath compressed and chunked by hrepack (hdf4-tools)
+// reads the same, slab by slab along its chunks, and inspect sees the storage.
+func TestHDF4Repacked(t *testing.T) {
+	dir := t.TempDir()
+	path := gridtest.HDF4Swath(t, dir)
+	_, err := exec.LookPath("hrepack")
+	gridtest.Need(t, "hrepack (Debian hdf4-tools)", err == nil)
+	packed := filepath.Join(dir, "swath_gzip.hdf")
+	if b, err := exec.Command("hrepack", "-i", path, "-o", packed, "-t", "*:GZIP 5", "-c", "*:2x3").CombinedOutput(); err != nil {
+		t.Fatalf("hrepack: %v\n%s", err, b)
+	}
+	for _, name := range []string{"Cloud_Water_Path", "Cloud Effective Radius", "Latitude"} {
+		a, _, err := ReadVariable(path, name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, _, err := ReadVariable(packed, name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		sameValues(t, name, b, a, 0)
+	}
+	var ovs []Override
+	for _, s := range []string{"lwp=Cloud_Water_Path", "re=Cloud Effective Radius"} {
+		o, _ := ParseOverride(s)
+		ovs = append(ovs, o)
+	}
+	stats := func(p string) []VarStats {
+		in, err := Open(p, OpenOptions{Overrides: ovs, SlabBytes: 1}) // the smallest slabs: one chunk at a time
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer in.Close()
+		if p == packed {
+			b, _ := in.Binding(RoleLWP)
+			if len(b.Chunks) != 2 || b.Chunks[0] != 2 || b.Chunks[1] != 3 || b.Deflate != 5 {
+				t.Fatalf("storage of the repacked LWP: chunks %v deflate %d", b.Chunks, b.Deflate)
+			}
+		}
+		st, err := in.Stats()
+		if err != nil {
+			t.Fatal(err)
+		}
+		return st
+	}
+	a, b := stats(path), stats(packed)
+	for i := range a {
+		if a[i].Valid != b[i].Valid || a[i].Mean != b[i].Mean || a[i].Min != b[i].Min || a[i].Max != b[i].Max {
+			t.Fatalf("%s: %v (contiguous) vs %v (chunked, deflated)", a[i].Role, a[i], b[i])
 		}
 	}
 }
