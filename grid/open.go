@@ -481,12 +481,12 @@ func (in *Input) layoutIO() error {
 
 func isLat(v *VarInfo) bool {
 	return v.Text("standard_name") == "latitude" || strings.HasPrefix(v.Text("units"), "degree_n") ||
-		strings.HasPrefix(v.Text("units"), "degrees_n") || strings.EqualFold(v.Name, "lat") || strings.EqualFold(v.Name, "latitude")
+		strings.HasPrefix(v.Text("units"), "degrees_n") || strings.EqualFold(v.Base(), "lat") || strings.EqualFold(v.Base(), "latitude")
 }
 
 func isLon(v *VarInfo) bool {
 	return v.Text("standard_name") == "longitude" || strings.HasPrefix(v.Text("units"), "degree_e") ||
-		strings.HasPrefix(v.Text("units"), "degrees_e") || strings.EqualFold(v.Name, "lon") || strings.EqualFold(v.Name, "longitude")
+		strings.HasPrefix(v.Text("units"), "degrees_e") || strings.EqualFold(v.Base(), "lon") || strings.EqualFold(v.Base(), "longitude")
 }
 
 // readAllIO reads a small variable whole as float64 (stored values, no decoding).

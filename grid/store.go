@@ -435,12 +435,10 @@ func findLatLon2D(fi *FileInfo, L *Layout) {
 		if len(v.Dims) != 2 || v.Dims[0] != L.Y.Name || v.Dims[1] != L.X.Name || !v.Type.Numeric() {
 			continue
 		}
-		tmp := *v
-		tmp.Name = v.Base()
 		switch {
-		case isLat(&tmp):
+		case isLat(v):
 			lats = append(lats, v.Name)
-		case isLon(&tmp):
+		case isLon(v):
 			lons = append(lons, v.Name)
 		}
 	}
