@@ -89,8 +89,17 @@ func summarizeProduct(t *testing.T, out string) {
 	if code != 0 || !strings.Contains(stdout, "valid") {
 		t.Fatalf("summary: exit %d\n%s\n%s", code, stdout, stderr)
 	}
-	if _, err := os.Stat(sum); err != nil {
+	fi, err := grid.Describe(sum)
+	if err != nil {
 		t.Fatal(err)
+	}
+	if fi.Var("droplet_number_time_mean") == nil {
+		t.Fatalf("summary has no map of droplet_number: %v", fi.Vars)
+	}
+	for _, v := range fi.Vars { // a swath's 2-D coordinates are not diagnostics to map
+		if strings.HasPrefix(strings.ToLower(v.Name), "lat") && strings.HasSuffix(v.Name, "_time_mean") {
+			t.Fatalf("summary maps the coordinate %s", v.Name)
+		}
 	}
 }
 
