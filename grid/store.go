@@ -354,12 +354,15 @@ func mergeInfos(infos []*FileInfo) (*FileInfo, error) {
 	return out, nil
 }
 
-// checkSharedCoordsIO requires the coordinate variables (1-D, named like their
-// dimension) that several files of a scene repeat to hold the same values: the
-// files must describe one grid.
+// checkSharedCoordsIO requires the coordinates that several files of a scene
+// repeat (coordinate variables: 1-D, named like their dimension; and 1-D or 2-D
+// latitudes and longitudes, as split level-2 granules carry) to hold the same
+// values: the files must describe one grid.
 func checkSharedCoordsIO(scene *FileInfo, infos []*FileInfo) error {
 	for _, first := range scene.Vars {
-		if len(first.Dims) != 1 || first.Dims[0] != first.Name || !first.Type.Numeric() || first.Len() > 1<<24 {
+		coord := len(first.Dims) == 1 && first.Dims[0] == first.Name
+		latlon := len(first.Dims) <= 2 && (isLat(&first) || isLon(&first))
+		if !(coord || latlon) || !first.Type.Numeric() || first.Len() > 1<<24 {
 			continue
 		}
 		a, err := readStoredIO(&first)
@@ -374,7 +377,7 @@ func checkSharedCoordsIO(scene *FileInfo, infos []*FileInfo) error {
 			if other == nil {
 				continue
 			}
-			if len(other.Dims) != 1 || other.Shape[0] != first.Shape[0] {
+			if !slices.Equal(other.Shape, first.Shape) {
 				return &VarError{File: other.File, Var: other.Name, Problem: fmt.Sprintf(
 					"has dimensions %s in this file but %s in %s; files joined with + must share one grid", dimsString(other), dimsString(&first), first.File), Err: ErrLayout}
 			}

@@ -320,3 +320,30 @@ print(json.dumps({"lwp": f(sys.argv[1], "lwp"), "re": f(sys.argv[2], "reffclwtop
 		t.Fatalf("missing part: %v", err)
 	}
 }
+
+// TestJoinedSplitGranules: a split level-2 product (LWP, particle size and
+// optical depth granules, each with its own 2-D latitude and longitude) is one
+// scene; a granule of another place is refused, naming both files.
+func TestJoinedSplitGranules(t *testing.T) {
+	dir := t.TempDir()
+	lwp := gridtest.SplitGranule(t, dir, "lwp", 0)
+	cps := gridtest.SplitGranule(t, dir, "cps", 0)
+	cod := gridtest.SplitGranule(t, dir, "cod", 0)
+	in, err := Open(lwp+"+"+cps+"+"+cod, OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer in.Close()
+	if b, ok := in.Binding(RoleTau); !ok || b.File != cod || b.Var != "COD" {
+		t.Fatalf("tau from the third granule: %+v", b)
+	}
+	if in.Layout.Lat != "latitude" || !in.Layout.LatLon2D {
+		t.Fatalf("layout %+v", in.Layout)
+	}
+	moved := filepath.Join(t.TempDir())
+	far := gridtest.SplitGranule(t, moved, "cps", 0.5)
+	_, err = Open(lwp+"+"+far, OpenOptions{})
+	if !errors.Is(err, ErrLayout) || !strings.Contains(err.Error(), lwp) || !strings.Contains(err.Error(), far) || !strings.Contains(err.Error(), `"latitude"`) {
+		t.Fatalf("granules of two places: %v", err)
+	}
+}

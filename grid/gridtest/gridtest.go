@@ -441,3 +441,35 @@ func reValues(n int) string {
 	v[2] = "1e20"
 	return strings.Join(v, ", ")
 }
+
+// pySplit writes one granule of a split level-2 product (the geostationary
+// layout: particle size and optical depth in separate files) with its own 2-D
+// latitude and longitude, shifted by argv[3] degrees. Invented values.
+const pySplit = `
+import sys, numpy as np, netCDF4
+kind, shift = sys.argv[2], float(sys.argv[3])
+ny, nx = 5, 6
+yy, xx = np.meshgrid(np.arange(ny), np.arange(nx), indexing="ij")
+ds = netCDF4.Dataset(sys.argv[1], "w")
+ds.createDimension("y", ny); ds.createDimension("x", nx)
+lat = ds.createVariable("latitude", "f4", ("y", "x")); lat.standard_name = "latitude"; lat.units = "degrees_north"
+lat[:] = 10 + 0.05 * yy + shift
+lon = ds.createVariable("longitude", "f4", ("y", "x")); lon.standard_name = "longitude"; lon.units = "degrees_east"
+lon[:] = -120 + 0.05 * xx
+spec = {"lwp": ("LWP", "atmosphere_mass_content_of_cloud_liquid_water", "g m-2", 40 + 10 * xx + yy),
+        "cps": ("PSD", "effective_radius_of_cloud_liquid_water_particles_at_liquid_water_cloud_top", "um", 8 + xx + 0.5 * yy),
+        "cod": ("COD", "atmosphere_optical_thickness_due_to_cloud", "1", 5 + 2 * xx + yy)}[kind]
+v = ds.createVariable(spec[0], "f4", ("y", "x"), fill_value=np.float32(-999))
+v.standard_name = spec[1]; v.units = spec[2]; v.coordinates = "latitude longitude"
+v[:] = spec[3]
+ds.close()
+`
+
+// SplitGranule writes one file of a split level-2 product (kind lwp, cps or
+// cod) into dir, its latitudes shifted by shift degrees.
+func SplitGranule(t testing.TB, dir, kind string, shift float64) string {
+	t.Helper()
+	path := filepath.Join(dir, "L2-"+strings.ToUpper(kind)+"_s20260801.nc")
+	Python(t, pySplit, path, kind, strconv.FormatFloat(shift, 'g', -1, 64))
+	return path
+}
