@@ -123,6 +123,8 @@ func TestParseOverride(t *testing.T) {
 		{"re=cer:um", Override{RoleRe, "cer", "um"}},
 		{"LWP_SD = lwp_std : g m-2", Override{RoleLWPSD, "lwp_std", "g m-2"}},
 		{"ctp=p:hPa", Override{RoleCTP, "p", "hPa"}},
+		{"re=Effective Radius:um", Override{RoleRe, "Effective Radius", "um"}}, // HDF4 names may have blanks
+		{"lwp=/geophysical_data/cwp", Override{RoleLWP, "/geophysical_data/cwp", ""}},
 	}
 	for _, c := range ok {
 		got, err := ParseOverride(c.in)
@@ -137,7 +139,7 @@ func TestParseOverride(t *testing.T) {
 		in       string
 		sentinel error
 	}{
-		{"lwp", ErrOverride}, {"foo=x", ErrOverride}, {"lwp=", ErrOverride}, {"lwp=a b", ErrOverride},
+		{"lwp", ErrOverride}, {"foo=x", ErrOverride}, {"lwp=", ErrOverride}, {"lwp=a\tb", ErrOverride},
 		{"lwp=x:", ErrOverride}, {"ctp=p:mb", ErrUnits}, {"lwp=x:K", ErrUnits},
 	}
 	for _, c := range bad {
