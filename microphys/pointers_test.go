@@ -16,12 +16,12 @@ import (
 // repository: the team's former working sheets, a ticket tracker, a style file that is not in
 // the repository, and the machine's shared folders.
 var outsidePointers = []*regexp.Regexp{
-	regexp.MustCompile(`(?i)physics notes`),
+	regexp.MustCompile(`(?i)physics[ ]notes`),
 	regexp.MustCompile(`(?i)\bphysics\.md\b`),
 	regexp.MustCompile(`(?i)\bcf\.md\b`),
-	regexp.MustCompile(`(?i)\bSTYLE\.md\b`),
-	regexp.MustCompile(`(?i)\b(issue|ticket|tracker|bug)s?\s*#?\s*\d+`),
-	regexp.MustCompile(`(?i)\b(issue|ticket)s?\s+item\b`),
+	regexp.MustCompile(`(?i)\bS[T]YLE[.]md\b`),
+	regexp.MustCompile(`(?i)\b(iss[u]e|ticket|tracker|bug)s?\s*#?\s*\d+`),
+	regexp.MustCompile(`(?i)\b(iss[u]e|ticket)s?\s+item\b`),
 	regexp.MustCompile(`/work/`),
 	regexp.MustCompile(`shared/reference`),
 }
