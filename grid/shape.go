@@ -138,7 +138,7 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 	h := Horizontal{Time: -1}
 	coordOf := func(d string) *VarInfo {
 		c := fi.Var(d)
-		if c == nil || len(c.Dims) != 1 || c.Dims[0] != d {
+		if c == nil || len(c.Dims) != 1 || c.Dims[0] != d || c.Base() != baseName(d) {
 			return nil
 		}
 		return c
@@ -176,13 +176,13 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 	// 2 and 3. Auxiliary coordinates (named, then found).
 	aux := []*VarInfo{}
 	for _, n := range strings.Fields(v.Text("coordinates")) {
-		if c := fi.Var(n); c != nil {
+		if c := fi.Resolve(v, n); c != nil {
 			aux = append(aux, c)
 		}
 	}
 	for i := range fi.Vars {
 		c := &fi.Vars[i]
-		if c == v || slices.Contains(aux, c) || (len(c.Dims) == 1 && c.Dims[0] == c.Name) || len(c.Dims) < 1 || len(c.Dims) > 2 {
+		if c == v || slices.Contains(aux, c) || (len(c.Dims) == 1 && baseName(c.Dims[0]) == c.Base()) || len(c.Dims) < 1 || len(c.Dims) > 2 {
 			continue
 		}
 		onV := true
@@ -207,9 +207,9 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 			if !inV {
 				continue
 			}
-			if (isLat(c) || isLatName(c.Name)) && lat == nil {
+			if (isLat(c) || isLatName(c.Base())) && lat == nil {
 				lat = c
-			} else if (isLon(c) || isLonName(c.Name)) && lon == nil {
+			} else if (isLon(c) || isLonName(c.Base())) && lon == nil {
 				lon = c
 			}
 		}
@@ -258,12 +258,12 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 	lat, lon = nil, nil
 	var scalars []*VarInfo
 	for _, n := range strings.Fields(v.Text("coordinates")) {
-		if c := fi.Var(n); c != nil {
+		if c := fi.Resolve(v, n); c != nil {
 			scalars = append(scalars, c)
 		}
 	}
 	for i := range fi.Vars {
-		if c := &fi.Vars[i]; isLatName(c.Name) || isLonName(c.Name) {
+		if c := &fi.Vars[i]; isLatName(c.Base()) || isLonName(c.Base()) {
 			scalars = append(scalars, c)
 		}
 	}
@@ -271,9 +271,9 @@ func HorizontalOf(fi *FileInfo, v *VarInfo) Horizontal {
 		if len(c.Dims) != 0 || !c.Type.Numeric() {
 			continue
 		}
-		if (isLat(c) || isLatName(c.Name)) && lat == nil {
+		if (isLat(c) || isLatName(c.Base())) && lat == nil {
 			lat = c
-		} else if (isLon(c) || isLonName(c.Name)) && lon == nil {
+		} else if (isLon(c) || isLonName(c.Base())) && lon == nil {
 			lon = c
 		}
 	}
