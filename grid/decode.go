@@ -18,7 +18,15 @@ import (
 //  3. unpack: x*scale_factor + add_offset (either may be absent);
 //  4. convert the units once: y = Factor*x + Offset.
 //
-// Steps 3 and 4 are folded into one multiply-add. Comparisons are made on the
+// Steps 3 and 4 are folded into one multiply-add. A packed value that lands within
+// a millionth of a packing step of zero is the packed zero, made exactly 0 (a
+// stored value whose scale_factor and add_offset cancel leaves a rounding residue
+// such as -1e-9, which is not a negative LWP).
+//
+// A data variable whose flag_values mark codes (CF §3.5; rain, sea ice, land, no
+// retrieval), when the decoder screens flags (Binding decoders of quantities do),
+// has those stored values decoded as the flag's NaN (FlagNaN), before any other
+// test: they are never values, and FlagIndex tells which meaning the column had. Comparisons are made on the
 // stored values converted to float64, exact for every integer up to 2^53.
 // Infinite stored values are kept (physics screens them).
 //
@@ -40,8 +48,53 @@ type Decoder struct {
 	Packed        bool
 	Scale, Offset float64
 	Conv          Converter
+	// FlagCodes are the stored codes of the variable's flag_values screened as
+	// FlagNaN(k), k their index; FlagMeanings the words of flag_meanings.
+	FlagCodes    []float64
+	FlagMeanings []string
 
-	a, b float64 // folded Scale/Offset and Conv
+	a, b    float64 // folded Scale/Offset and Conv
+	zeroTol float64 // |unpacked| below it is the packed zero (0 when not packed with an offset)
+}
+
+// flagNaNBase is the bit pattern of the NaNs that carry a flag index in their low
+// 16 bits (a quiet NaN with a marker no arithmetic produces).
+const flagNaNBase = 0x7ff8_f1a6_0000_0000
+
+// FlagNaN returns the NaN that marks flag code k (0 <= k < 65536) of a variable.
+// It is a NaN like any missing value; copying keeps its bits.
+func FlagNaN(k int) float64 { return math.Float64frombits(flagNaNBase | uint64(k&0xffff)) }
+
+// FlagIndex reports whether x is a FlagNaN and which index it carries.
+func FlagIndex(x float64) (k int, ok bool) {
+	b := math.Float64bits(x)
+	if b&^0xffff != flagNaNBase {
+		return 0, false
+	}
+	return int(b & 0xffff), true
+}
+
+// screenFlags makes d decode the codes of v's flag_values as FlagNaN (see
+// Decoder). It needs flag_meanings with one word per code; otherwise it leaves d
+// as it is and says why in note.
+func (d *Decoder) screenFlags(file string, v *VarInfo) (note string, err error) {
+	fv, ok := v.Attr("flag_values")
+	if !ok {
+		return "", nil
+	}
+	if !fv.Type.Numeric() {
+		return "", varErr(ErrDecode, file, v.Name, "flag_values has type %s; expected numbers of the variable's type %s (CF 3.5)", fv.Type, v.Type)
+	}
+	codes := fv.Float64s()
+	if d.Unsigned && fv.Type.Integer() && fv.Type.Size() == v.Type.Size() {
+		codes = toFloat64s(reinterpretUnsigned(fv.Value))
+	}
+	words := strings.Fields(v.Text("flag_meanings"))
+	if len(words) != len(codes) {
+		return fmt.Sprintf("flag_values %v not screened: flag_meanings has %d words for %d codes", codes, len(words), len(codes)), nil
+	}
+	d.FlagCodes, d.FlagMeanings = codes, words
+	return "", nil
 }
 
 // NewDecoder builds the decoder of variable v of file from its attributes, with
@@ -164,6 +217,9 @@ func NewDecoder(file string, v *VarInfo, conv Converter) (*Decoder, error) {
 	}
 	d.a = d.Scale * conv.Factor
 	d.b = d.Offset*conv.Factor + conv.Offset
+	if d.Packed && d.Offset != 0 {
+		d.zeroTol = 1e-6 * math.Abs(d.Scale)
+	}
 	return d, nil
 }
 
@@ -243,6 +299,16 @@ func (d *Decoder) Describe() string {
 	if d.Packed {
 		parts = append(parts, fmt.Sprintf("unpacked as x*%g%+g", d.Scale, d.Offset))
 	}
+	if d.zeroTol > 0 {
+		parts = append(parts, "the packed zero decodes to exactly 0")
+	}
+	if len(d.FlagCodes) > 0 {
+		f := make([]string, len(d.FlagCodes))
+		for i, c := range d.FlagCodes {
+			f[i] = fmt.Sprintf("%g=%s", c, d.FlagMeanings[i])
+		}
+		parts = append(parts, "flag codes screened (not values): "+strings.Join(f, ", "))
+	}
 	return strings.Join(parts, "; ")
 }
 
@@ -299,6 +365,10 @@ func decodeT[T number](d *Decoder, dst []float64, src []T) {
 	if d.HasMax {
 		hi = d.Max
 	}
+	if len(d.FlagCodes) > 0 || d.zeroTol > 0 {
+		decodeSlow(d, dst, src, lo, hi)
+		return
+	}
 	if !packedRange {
 		// Test after unpacking (before the unit conversion).
 		for i, x := range src {
@@ -331,6 +401,41 @@ func decodeT[T number](d *Decoder, dst []float64, src []T) {
 		v := float64(x)
 		if v != v || (hasFill && v == fill) || v < lo || v > hi || isMissing(v, d.Missing) {
 			dst[i] = nan
+			continue
+		}
+		dst[i] = v*a + b
+	}
+}
+
+// decodeSlow is decodeT with flag codes and the packed zero: every test in one
+// loop (the common variables without them take the loops above).
+func decodeSlow[T number](d *Decoder, dst []float64, src []T, lo, hi float64) {
+	nan := math.NaN()
+	a, b := d.a, d.b
+next:
+	for i, x := range src {
+		v := float64(x)
+		for k, c := range d.FlagCodes {
+			if v == c {
+				dst[i] = FlagNaN(k)
+				continue next
+			}
+		}
+		if v != v || (d.HasFill && v == d.Fill) || isMissing(v, d.Missing) {
+			dst[i] = nan
+			continue
+		}
+		u := v*d.Scale + d.Offset
+		t := v
+		if d.ValidUnpacked {
+			t = u
+		}
+		if t < lo || t > hi {
+			dst[i] = nan
+			continue
+		}
+		if d.zeroTol > 0 && math.Abs(u) < d.zeroTol {
+			dst[i] = d.Conv.Offset // the unit conversion of 0
 			continue
 		}
 		dst[i] = v*a + b
