@@ -123,6 +123,21 @@ Data go to stdout or files; messages go to stderr.
 	                                      (default "10,1000")
 	      --max-thickness float           screen columns with adiabatic thickness above this, m
 	                                      (default 1500)
+	      --mask stringArray              screen columns by a quality variable:
+	                                      'VAR:MEANING[,MEANING...]' (a CF flag variable has any
+	                                      of the flag_meanings words) or 'VAR<N' (also <=, >, >=,
+	                                      ==, !=; in VAR's own units); repeatable
+	      --droplet-number float          assume this droplet number concentration, cm-3, where
+	                                      the input has LWP but no effective radius (r_e then
+	                                      follows from the adiabatic cloud); 0: none
+	      --lwp-profile string            vertical profile for LWP from optical thickness and r_e
+	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
+	                                      or uniform (2/3 rho_w tau r_e) (default "adiabatic")
+	      --lwp-kind string               what the LWP averages: auto (from cell_methods, the
+	                                      variable name and model attributes), in-cloud, or
+	                                      grid-mean (divided by the cloud fraction) (default "auto")
+	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
+	                                      fraction is below this (0-1) (default 0.05)
 
 # warmrain inspect
 
@@ -138,16 +153,36 @@ Data go to stdout or files; messages go to stderr.
 	computed, which of them use defaults for absent inputs, and what is missing
 	for the others. It reads every value of the bound variables once.
 
-	Roles: lwp, re (required), tau, ctt, ctp, cth, cloud_fraction, lwp_sd.
+	Roles: lwp, re (required unless the run can derive them: LWP from tau and
+	r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
+	lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
+	screen non-liquid and multi-layer columns). With --mask, it counts the
+	columns each mask removes; flag codes held inside a data variable (sea ice,
+	land) are counted by meaning.
 
 	Example:
 	  warmrain inspect samples/data/stratocumulus_demo.nc
 	  warmrain inspect scene.nc --bind lwp=LWP_liquid:g/m2 --bind re=CER --json
 
 	Options:
-	      --bind stringArray    take input ROLE from variable VAR, optionally declaring its units:
-	                            ROLE=VAR[:UNITS] (repeatable)
-	      --json[=true|false]   print one JSON object instead of the text report
+	      --bind stringArray           take input ROLE from variable VAR, optionally declaring its
+	                                   units: ROLE=VAR[:UNITS] (repeatable)
+	      --json[=true|false]          print one JSON object instead of the text report
+	      --mask stringArray           screen columns by a quality variable:
+	                                   'VAR:MEANING[,MEANING...]' (a CF flag variable has any of
+	                                   the flag_meanings words) or 'VAR<N' (also <=, >, >=, ==,
+	                                   !=; in VAR's own units); repeatable
+	      --droplet-number float       assume this droplet number concentration, cm-3, where the
+	                                   input has LWP but no effective radius (r_e then follows
+	                                   from the adiabatic cloud); 0: none
+	      --lwp-profile string         vertical profile for LWP from optical thickness and r_e
+	                                   when the input has no LWP: adiabatic (5/9 rho_w tau r_e) or
+	                                   uniform (2/3 rho_w tau r_e) (default "adiabatic")
+	      --lwp-kind string            what the LWP averages: auto (from cell_methods, the
+	                                   variable name and model attributes), in-cloud, or grid-mean
+	                                   (divided by the cloud fraction) (default "auto")
+	      --min-cloud-fraction float   with a grid-box-mean LWP, screen columns whose cloud
+	                                   fraction is below this (0-1) (default 0.05)
 
 # warmrain column
 

@@ -277,6 +277,9 @@ type Record struct {
 	Seconds          float64 `json:"seconds"`
 	Shard            string  `json:"shard,omitempty"`
 	Error            string  `json:"error,omitempty"`
+	// ScreenedBy counts the columns each of the product's quality masks and flag
+	// codes removed, in words ("sea_ice (flag code of r_e cer): 40").
+	ScreenedBy []string `json:"screened_by,omitempty"`
 }
 
 // Manifest appends records to a JSON-lines file, one write per record so
