@@ -19,9 +19,10 @@ import (
 //  4. convert the units once: y = Factor*x + Offset.
 //
 // Steps 3 and 4 are folded into one multiply-add. A packed value that lands within
-// a millionth of a packing step of zero is the packed zero, made exactly 0 (a
-// stored value whose scale_factor and add_offset cancel leaves a rounding residue
-// such as -1e-9, which is not a negative LWP).
+// 1e-4 of a packing step (plus 1e-6 of add_offset) of zero is the packed zero,
+// made exactly 0: a stored value whose scale_factor and add_offset cancel leaves a
+// rounding residue (about 1e-9 with float32 attributes), which is not a negative
+// LWP.
 //
 // A data variable whose flag_values mark codes (CF §3.5; rain, sea ice, land, no
 // retrieval), when the decoder screens flags (Binding decoders of quantities do),
@@ -218,7 +219,9 @@ func NewDecoder(file string, v *VarInfo, conv Converter) (*Decoder, error) {
 	d.a = d.Scale * conv.Factor
 	d.b = d.Offset*conv.Factor + conv.Offset
 	if d.Packed && d.Offset != 0 {
-		d.zeroTol = 1e-6 * math.Abs(d.Scale)
+		// Well below a packing step, above the rounding of float32 attributes
+		// (2^-24 relative to the offset) and of the float64 multiply-add.
+		d.zeroTol = 1e-4*math.Abs(d.Scale) + 1e-6*math.Abs(d.Offset)
 	}
 	return d, nil
 }
