@@ -285,7 +285,6 @@ DUMP = ["lwp", "cer", "ctt", "qa", "sza", "cloud_phase", "cloud_multi_layer_flag
 	}
 }
 
-
 // TestProductMicrowaveLWPOnly: a microwave-like LWP-only file, CF-packed with float32
 // scale_factor/add_offset whose packed zero decodes to about 1e-9 (netCDF4-python keeps
 // it), negative values in the valid range (clear-sky noise). With --droplet-number r_e
