@@ -264,6 +264,17 @@ DUMP = ["lwp", "cer", "ctt", "qa", "sza", "cloud_phase", "cloud_multi_layer_flag
 				g["cloud_base_drizzle_rate"][i], qcNames32(q), o.Nd*1e-6, o.DrizzleRate*86400)
 		}
 	}
+	// summary leaves every screened column out (QC-masked), by the bits' meanings.
+	screened := 0
+	for i := range raw {
+		if qcOf(g, i)&(microphys.QCInputScreenMask|uint32(microphys.QCScreenMask)) != 0 {
+			screened++
+		}
+	}
+	code, stdout, stderr = runCmd("summary", out)
+	if code != ExitOK || !strings.Contains(stdout, strconv.Itoa(screened)+" QC-masked") {
+		t.Errorf("summary: exit %d, want %d QC-masked:\n%s%s", code, screened, stdout, stderr)
+	}
 	// The QC variable declares the new bits.
 	fi, err := grid.Describe(out)
 	if err != nil {
@@ -286,8 +297,8 @@ DUMP = ["lwp", "cer", "ctt", "qa", "sza", "cloud_phase", "cloud_multi_layer_flag
 }
 
 // TestProductMicrowaveLWPOnly: a microwave-like LWP-only file, CF-packed with float32
-// scale_factor/add_offset whose packed zero decodes to about 1e-9 (netCDF4-python keeps
-// it), negative values in the valid range (clear-sky noise). With --droplet-number r_e
+// scale_factor/add_offset whose packed zero leaves about 1e-9 when unpacked in float64
+// (netCDF4-python unpacks in float32 and gets 0), negative values in the valid range (clear-sky noise). With --droplet-number r_e
 // follows from N_d; the assumption is stated in every output's comment.
 func TestProductMicrowaveLWPOnly(t *testing.T) {
 	dir := t.TempDir()
@@ -478,13 +489,24 @@ DUMP = ["lwp", "clt"]
 			}
 		}
 	}
+	screened := 0
+	for i := range ref["lwp"] {
+		if qcOf(g, i)&(microphys.QCInputScreenMask|uint32(microphys.QCScreenMask)) != 0 {
+			screened++
+		}
+	}
+	code, stdout, stderr := runCmd("summary", out)
+	if code != ExitOK || !strings.Contains(stdout, strconv.Itoa(screened)+" QC-masked") {
+		t.Errorf("summary: exit %d, want %d QC-masked:\n%s%s", code, screened, stdout, stderr)
+	}
 	// Without the cloud fraction: one warning, the grid_mean_lwp_used flag.
 	in2 := filepath.Join(dir, "lwp_only_model.nc")
 	if b, err := exec.Command(py3, "-c", `import sys, xarray as xr
 xr.open_dataset(sys.argv[1]).drop_vars("clt").to_netcdf(sys.argv[2])`, in, in2).CombinedOutput(); err != nil {
 		t.Fatalf("%v\n%s", err, b)
 	}
-	out2, stderr := processOK(t, in2, "--no-collector")
+	out2, stderr2 := processOK(t, in2, "--no-collector")
+	stderr = stderr2
 	if n := strings.Count(stderr, "warning:"); n != 1 || !strings.Contains(stderr, "grid-box mean") {
 		t.Errorf("want one warning about the grid-box mean, got:\n%s", stderr)
 	}
