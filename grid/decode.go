@@ -368,9 +368,12 @@ func decodeT[T number](d *Decoder, dst []float64, src []T) {
 	if d.HasMax {
 		hi = d.Max
 	}
-	if len(d.FlagCodes) > 0 || d.zeroTol > 0 {
+	if len(d.FlagCodes) > 0 {
 		decodeSlow(d, dst, src, lo, hi)
 		return
+	}
+	if d.zeroTol > 0 {
+		defer d.packedZero(dst)
 	}
 	if !packedRange {
 		// Test after unpacking (before the unit conversion).
@@ -410,8 +413,20 @@ func decodeT[T number](d *Decoder, dst []float64, src []T) {
 	}
 }
 
-// decodeSlow is decodeT with flag codes and the packed zero: every test in one
-// loop (the common variables without them take the loops above).
+// packedZero makes the decoded packed zero exactly the conversion of 0: a value
+// within zeroTol of zero before the conversion is within zeroTol*|Factor| of
+// Conv.Offset after it.
+func (d *Decoder) packedZero(dst []float64) {
+	z, tol := d.Conv.Offset, d.zeroTol*math.Abs(d.Conv.Factor)
+	for i, x := range dst {
+		if math.Abs(x-z) < tol {
+			dst[i] = z
+		}
+	}
+}
+
+// decodeSlow is decodeT with flag codes (and the packed zero): every test in one
+// loop (the common variables without codes take the loops above).
 func decodeSlow[T number](d *Decoder, dst []float64, src []T, lo, hi float64) {
 	nan := math.NaN()
 	a, b := d.a, d.b

@@ -136,8 +136,9 @@ func TestOpenPackedUnsigned(t *testing.T) {
 		in.Close()
 		// lwp = -32768 fill, -32767 missing_value, -501 below valid_min, -500 ok, 0 ok, 1001 above valid_max;
 		// unpacked = x*0.001f + 0.5 (CF 8.1); compare against float32 scale.
-		sc := float64(float32(0.001))
-		wl := []float64{math.NaN(), math.NaN(), math.NaN(), -500*sc + 0.5, 0.5, math.NaN()}
+		// -500 is the packed zero: -500*0.001f + 0.5 leaves -2.37e-8 in float64, decoded as
+		// exactly 0 (see Decoder).
+		wl := []float64{math.NaN(), math.NaN(), math.NaN(), 0, 0.5, math.NaN()}
 		// re: bytes -1 (fill, as 255), 0, 1, 127, -128 -> 128, -2 -> 254; x*0.25 um.
 		wr := []float64{math.NaN(), 0, 0.25e-6, 31.75e-6, 32e-6, 63.5e-6}
 		for i := range wl {
