@@ -158,3 +158,47 @@ func TestComplete(t *testing.T) {
 		t.Errorf("input QC bits overlap Outputs.QC")
 	}
 }
+
+// benchComplete runs Complete then Column on copies of in (Complete changes its input), as
+// the process kernel does, with the bulk diagnostics only (no collector), so that the cost
+// of the completion shows against the column's.
+func benchComplete(b *testing.B, in []Inputs, a *Assumptions, complete bool) {
+	p := DefaultParams()
+	p.EnableCollector, p.EnableEvaporation = false, false
+	m, err := NewModel(p)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	var out Outputs
+	nan := math.NaN()
+	for i := 0; i < b.N; i++ {
+		c := in[i&4095]
+		if complete {
+			m.Complete(&c, nan, nan, a)
+		}
+		m.Column(&c, &out)
+	}
+	benchSink = out
+}
+
+// BenchmarkBulkColumn and BenchmarkBulkCompleteColumn measure side by side what Complete
+// adds to a column that needs no completion (typical inputs, all present).
+func BenchmarkBulkColumn(b *testing.B) {
+	benchComplete(b, typicalScSample(4096, 11), &Assumptions{}, false)
+}
+
+func BenchmarkBulkCompleteColumn(b *testing.B) {
+	benchComplete(b, typicalScSample(4096, 11), &Assumptions{}, true)
+}
+
+// BenchmarkBulkCompleteLWPOnly completes r_e from an assumed N_d and the air state from the
+// standard atmosphere at CTP on every column (the microwave-product path).
+func BenchmarkBulkCompleteLWPOnly(b *testing.B) {
+	in := typicalScSample(4096, 11)
+	for i := range in {
+		in[i].Re, in[i].CTT = math.NaN(), math.NaN()
+	}
+	benchComplete(b, in, &Assumptions{DropletNumber: 100e6}, true)
+}

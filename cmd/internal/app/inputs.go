@@ -38,6 +38,11 @@ func addInputFlags(fs *pflag.FlagSet) *inputFlags {
 	return f
 }
 
+// defaultInputFlags are the options' defaults (for jobs built without flags).
+func defaultInputFlags() *inputFlags {
+	return &inputFlags{lwpProfile: "adiabatic", lwpKind: "auto", minCF: defaultMinCloudFraction}
+}
+
 // check validates the options and returns the masks and the open options they set.
 func (f *inputFlags) check() ([]grid.MaskSpec, error) {
 	var specs []grid.MaskSpec

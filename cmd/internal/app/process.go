@@ -296,6 +296,13 @@ type processJob struct {
 	modelOnce sync.Once
 }
 
+func (j *processJob) inputs() *inputFlags {
+	if j.o.inp == nil {
+		j.o.inp = defaultInputFlags()
+	}
+	return j.o.inp
+}
+
 func (j *processJob) getModel() (*microphys.Model, error) {
 	j.modelOnce.Do(func() { j.model, j.modelErr = newModel(j.params) })
 	return j.model, j.modelErr
@@ -316,7 +323,7 @@ func (j *processJob) paramDigest() string {
 		[2]string{"io_only", strconv.FormatBool(j.o.ioOnly)},
 		[2]string{"binds", strings.Join(j.o.binds, ";")},
 		[2]string{"version", Version()})
-	pairs = append(pairs, j.o.inp.settings()...)
+	pairs = append(pairs, j.inputs().settings()...)
 	return batch.Digest(pairs)
 }
 
@@ -399,7 +406,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		force = true
 	}
 	opt := grid.OpenOptions{Overrides: j.overrides, OverrideHint: "--bind ROLE=VAR[:UNITS]", SlabBytes: j.o.slabMB << 20}
-	j.o.inp.openOptions(&opt, j.masks)
+	j.inputs().openOptions(&opt, j.masks)
 	in, err := grid.Open(input, opt)
 	if err != nil {
 		return finish("failed", err)
@@ -408,7 +415,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	for _, w := range in.Warnings {
 		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
 	}
-	assumed := j.o.inp.assumed(in)
+	assumed := j.inputs().assumed(in)
 	var used []string
 	for _, b := range in.Bindings() {
 		used = append(used, fmt.Sprintf("%s=%s", b.Role, b.Var))
@@ -428,8 +435,8 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if len(assumed) > 0 {
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_assumptions", Value: strings.Join(assumed, " ")})
 	}
-	if len(j.o.inp.masks) > 0 {
-		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.o.inp.masks, "; ")})
+	if len(j.inputs().masks) > 0 {
+		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
 	}
 	vars := gridVars(j.defs, strings.Join(used, " "), j.o.pack)
 	if len(assumed) > 0 { // a constant assumption is stated in every output's comment
@@ -512,7 +519,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
 	iCTT, iCTP, iCTH, iSD := grid.RoleCTT.Index(), grid.RoleCTP.Index(), grid.RoleCTH.Index(), grid.RoleLWPSD.Index()
 	iNd, iCF := grid.RoleNd.Index(), grid.RoleCloudFraction.Index()
-	assume := j.o.inp.assumptions(gin)
+	assume := j.inputs().assumptions(gin)
 	masks := gin.Masks
 	bits := make([]uint32, len(masks))
 	for k, mk := range masks {
