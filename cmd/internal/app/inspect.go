@@ -299,7 +299,7 @@ func searchedFor(rule grid.RoleRule) *searched {
 		s.StandardNames = []string{}
 	}
 	if rule.Role == grid.RoleLWPSD {
-		s.Note = "an LWP standard_name with cell_methods standard_deviation, or a variable named in the LWP's ancillary_variables with a standard_error modifier"
+		s.Note = "an LWP standard_name with cell_methods standard_deviation, or a variable named in the LWP's ancillary_variables with a standard_deviation modifier (never a retrieval uncertainty: standard_error, *_unc, *_uncertainty)"
 	}
 	return s
 }
@@ -518,7 +518,11 @@ func (r *inspectReport) writeText(w io.Writer) error {
 		}
 		fmt.Fprintf(tw, "    variable:\t%s\n", rr.Variable)
 		fmt.Fprintf(tw, "    why:\t%s\n", rr.Reason)
-		fmt.Fprintf(tw, "    units:\t%q (%s) -> %s, conversion %s\n", rr.UnitsGiven, rr.UnitsFrom, rr.Canonical, rr.Conversion)
+		if rr.Canonical == "" {
+			fmt.Fprintf(tw, "    units:\tnone (flag codes, read as they are)\n")
+		} else {
+			fmt.Fprintf(tw, "    units:\t%q (%s) -> %s, conversion %s\n", rr.UnitsGiven, rr.UnitsFrom, rr.Canonical, rr.Conversion)
+		}
 		fmt.Fprintf(tw, "    decoding:\t%s\n", rr.Packing)
 		storage := "contiguous"
 		if rr.Chunks != nil {
@@ -551,7 +555,7 @@ func (r *inspectReport) writeText(w io.Writer) error {
 		fmt.Fprintln(w, "\nquality:")
 		fmt.Fprintf(w, "  LWP kind: %s\n", q.LWPKind)
 		for _, m := range q.Masks {
-			fmt.Fprintf(w, "  mask %s: screens %s; %d columns\n", m.Mask, m.Screens, m.Columns)
+			fmt.Fprintf(w, "  mask %s: screens %s; columns: %d\n", m.Mask, m.Screens, m.Columns)
 		}
 		fmt.Fprintf(w, "  columns screened by masks and flag codes: %d\n", q.Screened)
 		for _, a := range q.Assumptions {
