@@ -418,6 +418,10 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	assumed := j.inputs().assumed(in)
 	var used []string
 	for _, b := range in.Bindings() {
+		if b.Role.Rule().Internal {
+			used = append(used, "masked="+b.Var)
+			continue
+		}
 		used = append(used, fmt.Sprintf("%s=%s", b.Role, b.Var))
 	}
 	wopt := grid.DefaultWriteOptions()
