@@ -22,7 +22,7 @@ const (
 	// Informational bits (the diagnostics rest on an assumption).
 	QCDropletNumberAssumed uint32 = 1 << 23 // r_e from LWP and the assumed constant droplet number
 	QCDropletNumberInput   uint32 = 1 << 24 // r_e from LWP and the input droplet number
-	QCLWPFromOptics        uint32 = 1 << 25 // LWP from optical thickness and r_e (Assumptions.Uniform says which profile)
+	QCLWPFromOptics        uint32 = 1 << 25 // LWP from optical thickness and r_e (Params.UniformLWP says which profile)
 	QCInCloudLWP           uint32 = 1 << 26 // LWP = grid-box mean / cloud fraction
 	QCGridMeanLWPUsed      uint32 = 1 << 27 // grid-box-mean LWP used as in-cloud: no cloud fraction
 	QCStandardAtmosphere   uint32 = 1 << 28 // cloud-top temperature (and pressure) from the standard atmosphere
@@ -56,21 +56,6 @@ var InputQCFlags = []InputQCFlag{
 	{QCStandardAtmosphere, "air_state_standard_atmosphere", "cloud-top temperature (and pressure) from the standard atmosphere at the cloud-top pressure or height", false},
 }
 
-// Assumptions say how Complete fills a column's missing inputs (one set per run).
-type Assumptions struct {
-	// DropletNumber is the constant droplet number concentration (m-3) assumed when a
-	// column has LWP but neither r_e nor an input droplet number; 0 or NaN: none.
-	DropletNumber float64
-	// Uniform derives LWP from tau and r_e for a vertically uniform cloud, LWP = (2/3)
-	// rho_w tau r_e, instead of the adiabatic (5/9) rho_w tau r_e (the default, consistent
-	// with the adiabatic model of Column).
-	Uniform bool
-	// GridMean says the LWP is a grid-box mean; MinCloudFraction (0-1) is the smallest
-	// cloud fraction it is divided by.
-	GridMean         bool
-	MinCloudFraction float64
-}
-
 // Complete fills what a column's inputs lack, in this order, and returns the input QC bits
 // of what it assumed (and, for bad completing inputs, QCInputInvalid):
 //
@@ -78,14 +63,15 @@ type Assumptions struct {
 //     and CTP absent and CTH present: (CTT, CTP) = StandardAtmosphere(CTH) (QCStandardAtmosphere).
 //     A real cloud-top pressure is thus never paired with Params.DefaultCTT.
 //  2. LWP absent, tau and r_e present: LWP = (5/9) rho_w tau r_e (2/Q_ext), the inverse of
-//     TauAdiabatic, or (2/3) rho_w tau r_e (2/Q_ext) with a.Uniform (QCLWPFromOptics).
-//  3. Grid-box-mean LWP (a.GridMean): in-cloud LWP = LWP/f for cloud fraction f >=
-//     a.MinCloudFraction (QCInCloudLWP); f below it screens (QCCloudFractionLow); f absent
-//     leaves the LWP as it is (QCGridMeanLWPUsed).
+//     TauAdiabatic, or (2/3) rho_w tau r_e (2/Q_ext) with Params.UniformLWP
+//     (QCLWPFromOptics).
+//  3. Grid-box-mean LWP (gridMean): in-cloud LWP = LWP/f for cloud fraction f >=
+//     Params.MinCloudFraction (QCInCloudLWP); f below it screens (QCCloudFractionLow); f
+//     absent leaves the LWP as it is (QCGridMeanLWPUsed).
 //  4. LWP <= 0 (and >= -10 kg m-2): clear sky or a cloud below the retrieval noise, screened
 //     (QCClearSky) instead of an invalid input.
 //  5. r_e absent, LWP present: with the droplet number nd (m-3, the input's; NaN: absent) or
-//     else a.DropletNumber, r_e = EffectiveRadius(Thickness(LWP, f_ad, c_w), N_d, k, f_ad,
+//     else Params.DropletNumber, r_e = EffectiveRadius(Thickness(LWP, f_ad, c_w), N_d, k, f_ad,
 //     c_w), the cloud-top r_e of the adiabatic cloud holding LWP with that N_d, at the
 //     column's air state (QCDropletNumberInput or QCDropletNumberAssumed). An input tau is
 //     then dropped: N_d is the assumption, and Column derives it back from LWP and r_e.
@@ -98,7 +84,7 @@ type Assumptions struct {
 // cloud), [USSA1976] (air state); LWP/f for the in-cloud mean is common practice.
 // Valid: any inputs; NaN or out-of-range completing inputs leave the column to Column's
 // screening or set QCInputInvalid.
-func (m *Model) Complete(in *Inputs, nd, cf float64, a *Assumptions) uint32 {
+func (m *Model) Complete(in *Inputs, nd, cf float64, gridMean bool) uint32 {
 	var qc uint32
 	p := &m.p
 	nan := math.NaN()
@@ -118,7 +104,7 @@ func (m *Model) Complete(in *Inputs, nd, cf float64, a *Assumptions) uint32 {
 	}
 	if math.IsNaN(in.LWP) && !math.IsNaN(in.Tau) && !math.IsNaN(in.Re) {
 		var lwp float64
-		if a.Uniform {
+		if p.UniformLWP {
 			lwp = LWPHomogeneous(in.Tau, in.Re)
 		} else {
 			lwp = LWPAdiabatic(in.Tau, in.Re)
@@ -131,13 +117,13 @@ func (m *Model) Complete(in *Inputs, nd, cf float64, a *Assumptions) uint32 {
 		qc |= QCLWPFromOptics
 	}
 	lwp := in.LWP
-	if a.GridMean && colFinite(lwp) && lwp > 0 {
+	if gridMean && colFinite(lwp) && lwp > 0 {
 		switch {
 		case math.IsNaN(cf):
 			qc |= QCGridMeanLWPUsed
 		case !(cf >= 0 && cf <= 1):
 			return qc | uint32(QCInputInvalid)
-		case cf < a.MinCloudFraction || cf == 0:
+		case cf < p.MinCloudFraction || cf == 0:
 			return qc | QCCloudFractionLow
 		default:
 			in.LWP = lwp / cf
@@ -150,10 +136,10 @@ func (m *Model) Complete(in *Inputs, nd, cf float64, a *Assumptions) uint32 {
 	if math.IsNaN(in.Re) && colFinite(in.LWP) && in.LWP > 0 {
 		n, bit := nd, QCDropletNumberInput
 		if math.IsNaN(n) {
-			if !(a.DropletNumber > 0) {
+			if !(p.DropletNumber > 0) {
 				return qc
 			}
-			n, bit = a.DropletNumber, QCDropletNumberAssumed
+			n, bit = p.DropletNumber, QCDropletNumberAssumed
 		}
 		if !(n > 0 && colFinite(n)) {
 			return qc | uint32(QCInputInvalid)

@@ -22,11 +22,13 @@ func ExampleStandardAtmosphereTemperature() {
 }
 
 func ExampleModel_Complete() {
-	m, _ := microphys.NewModel(microphys.DefaultParams())
-	nan := math.NaN()
 	// A microwave LWP of 100 g m-2 with no r_e, and an assumed 100 cm-3.
+	p := microphys.DefaultParams()
+	p.DropletNumber = 100e6
+	m, _ := microphys.NewModel(p)
+	nan := math.NaN()
 	in := microphys.Inputs{LWP: 0.1, Re: nan, Tau: nan, CTT: nan, CTP: nan, CTH: nan, LWPStd: nan, SurfaceRH: nan}
-	qc := m.Complete(&in, nan, nan, &microphys.Assumptions{DropletNumber: 100e6})
+	qc := m.Complete(&in, nan, nan, false)
 	var out microphys.Outputs
 	m.Column(&in, &out)
 	fmt.Printf("r_e = %.2f um, N_d back = %.1f cm-3, %v\n", in.Re*1e6, out.Nd*1e-6, microphys.InputQCNames(qc))

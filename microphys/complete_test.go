@@ -50,10 +50,18 @@ func nanIn() Inputs {
 
 // TestComplete checks each completion against the exported functions it composes.
 func TestComplete(t *testing.T) {
-	m, err := NewModel(func() Params { p := DefaultParams(); p.EnableCollector, p.EnableEvaporation = false, false; return p }())
-	if err != nil {
-		t.Fatal(err)
+	base := DefaultParams()
+	base.EnableCollector, base.EnableEvaporation = false, false
+	model := func(f func(p *Params)) *Model {
+		p := base
+		f(&p)
+		m, err := NewModel(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return m
 	}
+	m := model(func(*Params) {})
 	p := m.Params()
 	nan := math.NaN()
 	var out Outputs
@@ -61,10 +69,11 @@ func TestComplete(t *testing.T) {
 	// N_d assumed: Column derives the same N_d back (derived: r_e(H) of EffectiveRadius and
 	// DropletNumber of TauAdiabatic invert each other, [Brenguier2000]).
 	for _, nd := range []float64{30e6, 100e6, 400e6} {
+		m := model(func(p *Params) { p.DropletNumber = nd })
 		for _, lwp := range []float64{0.02, 0.1, 0.4} {
 			in := nanIn()
 			in.LWP, in.CTP = lwp, 90000
-			qc := m.Complete(&in, nan, nan, &Assumptions{DropletNumber: nd})
+			qc := m.Complete(&in, nan, nan, false)
 			if qc != QCDropletNumberAssumed|QCStandardAtmosphere {
 				t.Fatalf("qc %v", InputQCNames(qc))
 			}
@@ -80,7 +89,7 @@ func TestComplete(t *testing.T) {
 	// An input N_d wins over the assumption.
 	in := nanIn()
 	in.LWP = 0.1
-	if qc := m.Complete(&in, 50e6, nan, &Assumptions{DropletNumber: 100e6}); qc != QCDropletNumberInput {
+	if qc := model(func(p *Params) { p.DropletNumber = 100e6 }).Complete(&in, 50e6, nan, false); qc != QCDropletNumberInput {
 		t.Errorf("qc %v", InputQCNames(qc))
 	}
 	cw := CondensationRate(p.DefaultCTT, p.DefaultCTP)
@@ -91,7 +100,7 @@ func TestComplete(t *testing.T) {
 	for _, uniform := range []bool{false, true} {
 		in = nanIn()
 		in.Tau, in.Re = 12, 10e-6
-		qc := m.Complete(&in, nan, nan, &Assumptions{Uniform: uniform})
+		qc := model(func(p *Params) { p.UniformLWP = uniform }).Complete(&in, nan, nan, false)
 		want := 5.0 / 9 * 1000 * 12 * 10e-6
 		if uniform {
 			want = 2.0 / 3 * 1000 * 12 * 10e-6
@@ -101,21 +110,21 @@ func TestComplete(t *testing.T) {
 		}
 	}
 	// Grid-box mean: LWP/f (common practice), screened below the minimum, flagged without f.
-	a := &Assumptions{GridMean: true, MinCloudFraction: 0.1}
+	m = model(func(p *Params) { p.MinCloudFraction = 0.1 })
 	in = nanIn()
 	in.LWP, in.Re = 0.03, 10e-6
-	if qc := m.Complete(&in, nan, 0.5, a); qc != QCInCloudLWP || in.LWP != 0.06 {
+	if qc := m.Complete(&in, nan, 0.5, true); qc != QCInCloudLWP || in.LWP != 0.06 {
 		t.Errorf("in-cloud: LWP %g qc %v", in.LWP, InputQCNames(qc))
 	}
 	in.LWP = 0.03
-	if qc := m.Complete(&in, nan, 0.05, a); qc != QCCloudFractionLow {
+	if qc := m.Complete(&in, nan, 0.05, true); qc != QCCloudFractionLow {
 		t.Errorf("low fraction: qc %v", InputQCNames(qc))
 	}
 	in.LWP = 0.03
-	if qc := m.Complete(&in, nan, nan, a); qc != QCGridMeanLWPUsed || in.LWP != 0.03 {
+	if qc := m.Complete(&in, nan, nan, true); qc != QCGridMeanLWPUsed || in.LWP != 0.03 {
 		t.Errorf("no fraction: LWP %g qc %v", in.LWP, InputQCNames(qc))
 	}
-	if qc := m.Complete(&in, nan, 1.5, a); qc != uint32(QCInputInvalid) {
+	if qc := m.Complete(&in, nan, 1.5, true); qc != uint32(QCInputInvalid) {
 		t.Errorf("fraction 1.5: qc %v", qc)
 	}
 	// LWP <= 0 is clear sky, not invalid (common practice: microwave retrievals scatter
@@ -123,27 +132,27 @@ func TestComplete(t *testing.T) {
 	for _, lwp := range []float64{0, -1e-9, -0.02} {
 		in = nanIn()
 		in.LWP, in.Re = lwp, 10e-6
-		if qc := m.Complete(&in, nan, nan, &Assumptions{}); qc != QCClearSky {
+		if qc := m.Complete(&in, nan, nan, false); qc != QCClearSky {
 			t.Errorf("LWP %g: qc %v", lwp, InputQCNames(qc))
 		}
 	}
 	// CTH only: temperature and pressure from the standard atmosphere at that altitude.
 	in = nanIn()
 	in.LWP, in.Re, in.CTH = 0.1, 10e-6, 1500
-	m.Complete(&in, nan, nan, &Assumptions{})
+	m.Complete(&in, nan, nan, false)
 	if T, pr := StandardAtmosphere(1500); in.CTT != T || in.CTP != pr {
 		t.Errorf("CTH only: %g %g", in.CTT, in.CTP)
 	}
 	// A real CTT is kept.
 	in = nanIn()
 	in.LWP, in.Re, in.CTT, in.CTP = 0.1, 10e-6, 280, 30000
-	if qc := m.Complete(&in, nan, nan, &Assumptions{}); qc != 0 || in.CTT != 280 {
+	if qc := m.Complete(&in, nan, nan, false); qc != 0 || in.CTT != 280 {
 		t.Errorf("CTT given: %g qc %v", in.CTT, qc)
 	}
 	// A high (300 hPa) top gets a cold temperature, so Column screens possible ice.
 	in = nanIn()
 	in.LWP, in.Re, in.CTP = 0.1, 10e-6, 30000
-	m.Complete(&in, nan, nan, &Assumptions{})
+	m.Complete(&in, nan, nan, false)
 	m.Column(&in, &out)
 	if out.QC&QCPossibleIce == 0 {
 		t.Errorf("300 hPa top not screened as possible ice: CTT %g QC %v", in.CTT, QCNames(out.QC))
@@ -151,7 +160,7 @@ func TestComplete(t *testing.T) {
 	// Bad completing inputs.
 	in = nanIn()
 	in.LWP = 0.1
-	if qc := m.Complete(&in, -5, nan, &Assumptions{}); qc != uint32(QCInputInvalid) {
+	if qc := m.Complete(&in, -5, nan, false); qc != uint32(QCInputInvalid) {
 		t.Errorf("negative N_d: qc %v", qc)
 	}
 	if QCInputScreenMask&0xffff != 0 {
@@ -162,9 +171,10 @@ func TestComplete(t *testing.T) {
 // benchComplete runs Complete then Column on copies of in (Complete changes its input), as
 // the process kernel does, with the bulk diagnostics only (no collector), so that the cost
 // of the completion shows against the column's.
-func benchComplete(b *testing.B, in []Inputs, a *Assumptions, complete bool) {
+func benchComplete(b *testing.B, in []Inputs, nd float64, complete bool) {
 	p := DefaultParams()
 	p.EnableCollector, p.EnableEvaporation = false, false
+	p.DropletNumber = nd
 	m, err := NewModel(p)
 	if err != nil {
 		b.Fatal(err)
@@ -176,7 +186,7 @@ func benchComplete(b *testing.B, in []Inputs, a *Assumptions, complete bool) {
 	for i := 0; i < b.N; i++ {
 		c := in[i&4095]
 		if complete {
-			m.Complete(&c, nan, nan, a)
+			m.Complete(&c, nan, nan, false)
 		}
 		m.Column(&c, &out)
 	}
@@ -186,11 +196,11 @@ func benchComplete(b *testing.B, in []Inputs, a *Assumptions, complete bool) {
 // BenchmarkBulkColumn and BenchmarkBulkCompleteColumn measure side by side what Complete
 // adds to a column that needs no completion (typical inputs, all present).
 func BenchmarkBulkColumn(b *testing.B) {
-	benchComplete(b, typicalScSample(4096, 11), &Assumptions{}, false)
+	benchComplete(b, typicalScSample(4096, 11), 0, false)
 }
 
 func BenchmarkBulkCompleteColumn(b *testing.B) {
-	benchComplete(b, typicalScSample(4096, 11), &Assumptions{}, true)
+	benchComplete(b, typicalScSample(4096, 11), 0, true)
 }
 
 // BenchmarkBulkCompleteLWPOnly completes r_e from an assumed N_d and the air state from the
@@ -200,5 +210,5 @@ func BenchmarkBulkCompleteLWPOnly(b *testing.B) {
 	for i := range in {
 		in[i].Re, in[i].CTT = math.NaN(), math.NaN()
 	}
-	benchComplete(b, in, &Assumptions{DropletNumber: 100e6}, true)
+	benchComplete(b, in, 100e6, true)
 }

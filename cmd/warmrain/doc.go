@@ -125,21 +125,22 @@ Data go to stdout or files; messages go to stderr.
 	                                      "10,1000")
 	      --max-thickness float           screen columns with adiabatic thickness above this, m
 	                                      (default 1500)
+	      --droplet-number float          droplet number concentration assumed where the input has
+	                                      LWP but no effective radius (r_e follows from the
+	                                      adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
+	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
+	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
+	                                      (default "adiabatic")
+	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
+	                                      fraction is below this (default 0.05)
 	      --mask stringArray              screen columns by a quality variable:
 	                                      'VAR:MEANING[,MEANING...]' (a CF flag variable has any
 	                                      of the flag_meanings words) or 'VAR<N' (also <=, >, >=,
 	                                      ==, !=; in VAR's own units); repeatable
-	      --droplet-number float          assume this droplet number concentration, cm-3, where
-	                                      the input has LWP but no effective radius (r_e then
-	                                      follows from the adiabatic cloud); 0: none
-	      --lwp-profile string            vertical profile for LWP from optical thickness and r_e
-	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
-	                                      or uniform (2/3 rho_w tau r_e) (default "adiabatic")
 	      --lwp-kind string               what the LWP averages: auto (from cell_methods, the
 	                                      variable name and model attributes), in-cloud, or
 	                                      grid-mean (divided by the cloud fraction) (default "auto")
-	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
-	                                      fraction is below this (0-1) (default 0.05)
 
 # warmrain inspect
 
@@ -167,24 +168,18 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain inspect scene.nc --bind lwp=LWP_liquid:g/m2 --bind re=CER --json
 
 	Options:
-	      --bind stringArray           take input ROLE from variable VAR, optionally declaring its
-	                                   units: ROLE=VAR[:UNITS] (repeatable)
-	      --json[=true|false]          print one JSON object instead of the text report
-	      --mask stringArray           screen columns by a quality variable:
-	                                   'VAR:MEANING[,MEANING...]' (a CF flag variable has any of
-	                                   the flag_meanings words) or 'VAR<N' (also <=, >, >=, ==,
-	                                   !=; in VAR's own units); repeatable
-	      --droplet-number float       assume this droplet number concentration, cm-3, where the
-	                                   input has LWP but no effective radius (r_e then follows
-	                                   from the adiabatic cloud); 0: none
-	      --lwp-profile string         vertical profile for LWP from optical thickness and r_e
-	                                   when the input has no LWP: adiabatic (5/9 rho_w tau r_e) or
-	                                   uniform (2/3 rho_w tau r_e) (default "adiabatic")
-	      --lwp-kind string            what the LWP averages: auto (from cell_methods, the
-	                                   variable name and model attributes), in-cloud, or grid-mean
-	                                   (divided by the cloud fraction) (default "auto")
-	      --min-cloud-fraction float   with a grid-box-mean LWP, screen columns whose cloud
-	                                   fraction is below this (0-1) (default 0.05)
+	      --bind stringArray       take input ROLE from variable VAR, optionally declaring its
+	                               units: ROLE=VAR[:UNITS] (repeatable)
+	      --json[=true|false]      print one JSON object instead of the text report
+	      --mask stringArray       screen columns by a quality variable:
+	                               'VAR:MEANING[,MEANING...]' (a CF flag variable has any of the
+	                               flag_meanings words) or 'VAR<N' (also <=, >, >=, ==, !=; in
+	                               VAR's own units); repeatable
+	      --lwp-kind string        what the LWP averages: auto (from cell_methods, the variable
+	                               name and model attributes), in-cloud, or grid-mean (divided by
+	                               the cloud fraction) (default "auto")
+	      --droplet-number float   as for process: the droplet number concentration, cm-3, assumed
+	                               where the input has LWP but no effective radius (0: none)
 
 # warmrain column
 
@@ -274,6 +269,15 @@ Data go to stdout or files; messages go to stderr.
 	                                      "10,1000")
 	      --max-thickness float           screen columns with adiabatic thickness above this, m
 	                                      (default 1500)
+	      --droplet-number float          droplet number concentration assumed where the input has
+	                                      LWP but no effective radius (r_e follows from the
+	                                      adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
+	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
+	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
+	                                      (default "adiabatic")
+	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
+	                                      fraction is below this (default 0.05)
 	      --json[=true|false]             print one JSON object instead of the tables
 
 # warmrain summary

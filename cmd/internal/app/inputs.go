@@ -2,8 +2,6 @@ package app
 
 import (
 	"fmt"
-	"math"
-	"strconv"
 	"strings"
 	"sync"
 
@@ -12,38 +10,28 @@ import (
 	"github.com/warmrain/warmrain/microphys"
 )
 
-// inputFlags are the options about what the input holds and how to complete it,
-// shared by process and inspect: masks on the product's quality information, the
-// assumptions that stand in for missing inputs, and what the LWP averages.
+// inputFlags are the options about what the input holds, shared by process and
+// inspect: masks on the product's quality information and what the LWP averages.
+// The physics assumptions that complete missing inputs (--droplet-number,
+// --lwp-profile, --min-cloud-fraction) are parameters (microphys.ParamDecls).
 type inputFlags struct {
-	masks         []string
-	dropletNumber float64 // cm-3, 0 = none
-	lwpProfile    string
-	lwpKind       string
-	minCF         float64
+	masks   []string
+	lwpKind string
 }
 
-const (
-	defaultMinCloudFraction = 0.05
-	dropletNumberHint       = "--droplet-number N (cm-3), or --bind nd=VAR"
-)
+const dropletNumberHint = "--droplet-number N (cm-3), or --bind nd=VAR"
 
 func addInputFlags(fs *pflag.FlagSet) *inputFlags {
 	f := &inputFlags{}
 	fs.StringArrayVar(&f.masks, "mask", nil, "screen columns by a quality variable: 'VAR:MEANING[,MEANING...]' (a CF flag variable has any of the flag_meanings words) or 'VAR<N' (also <=, >, >=, ==, !=; in VAR's own units); repeatable")
-	fs.Float64Var(&f.dropletNumber, "droplet-number", 0, "assume this droplet number concentration, cm-3, where the input has LWP but no effective radius (r_e then follows from the adiabatic cloud); 0: none")
-	fs.StringVar(&f.lwpProfile, "lwp-profile", "adiabatic", "vertical profile for LWP from optical thickness and r_e when the input has no LWP: adiabatic (5/9 rho_w tau r_e) or uniform (2/3 rho_w tau r_e)")
 	fs.StringVar(&f.lwpKind, "lwp-kind", "auto", "what the LWP averages: auto (from cell_methods, the variable name and model attributes), in-cloud, or grid-mean (divided by the cloud fraction)")
-	fs.Float64Var(&f.minCF, "min-cloud-fraction", defaultMinCloudFraction, "with a grid-box-mean LWP, screen columns whose cloud fraction is below this (0-1)")
 	return f
 }
 
 // defaultInputFlags are the options' defaults (for jobs built without flags).
-func defaultInputFlags() *inputFlags {
-	return &inputFlags{lwpProfile: "adiabatic", lwpKind: "auto", minCF: defaultMinCloudFraction}
-}
+func defaultInputFlags() *inputFlags { return &inputFlags{lwpKind: "auto"} }
 
-// check validates the options and returns the masks and the open options they set.
+// check validates the options and returns the masks.
 func (f *inputFlags) check() ([]grid.MaskSpec, error) {
 	var specs []grid.MaskSpec
 	for _, s := range f.masks {
@@ -53,59 +41,38 @@ func (f *inputFlags) check() ([]grid.MaskSpec, error) {
 		}
 		specs = append(specs, m)
 	}
-	if !(f.dropletNumber >= 0) || math.IsInf(f.dropletNumber, 0) {
-		return nil, usagef("--droplet-number %g: want a droplet number concentration >= 0, cm-3", f.dropletNumber)
-	}
-	if f.lwpProfile != "adiabatic" && f.lwpProfile != "uniform" {
-		return nil, usagef("--lwp-profile %q: want adiabatic or uniform", f.lwpProfile)
-	}
 	switch f.lwpKind {
 	case "auto", grid.LWPInCloud, grid.LWPGridMean:
 	default:
 		return nil, usagef("--lwp-kind %q: want auto, in-cloud or grid-mean", f.lwpKind)
 	}
-	if !(f.minCF >= 0 && f.minCF <= 1) {
-		return nil, usagef("--min-cloud-fraction %g: want a fraction in [0, 1]", f.minCF)
-	}
 	return specs, nil
 }
 
 // openOptions fills the input-related fields of grid.OpenOptions.
-func (f *inputFlags) openOptions(o *grid.OpenOptions, specs []grid.MaskSpec) {
+func (f *inputFlags) openOptions(o *grid.OpenOptions, specs []grid.MaskSpec, p microphys.Params) {
 	o.Masks = specs
-	o.DropletNumber = f.dropletNumber > 0
+	o.DropletNumber = p.DropletNumber > 0
 	o.DropletNumberHint = dropletNumberHint
 	if f.lwpKind != "auto" {
 		o.LWPKind = f.lwpKind
 	}
 }
 
-// assumptions are the physics assumptions of one input.
-func (f *inputFlags) assumptions(in *grid.Input) microphys.Assumptions {
-	return microphys.Assumptions{DropletNumber: f.dropletNumber * 1e6, Uniform: f.lwpProfile == "uniform",
-		GridMean: in.GridMean, MinCloudFraction: f.minCF}
-}
-
 // settings are the options as name/value pairs for the resume digest.
 func (f *inputFlags) settings() [][2]string {
-	return [][2]string{
-		{"masks", strings.Join(f.masks, ";")},
-		{"droplet_number", strconv.FormatFloat(f.dropletNumber, 'g', -1, 64)},
-		{"lwp_profile", f.lwpProfile},
-		{"lwp_kind", f.lwpKind},
-		{"min_cloud_fraction", strconv.FormatFloat(f.minCF, 'g', -1, 64)},
-	}
+	return [][2]string{{"masks", strings.Join(f.masks, ";")}, {"lwp_kind", f.lwpKind}}
 }
 
 // assumed describes, in sentences, what the run assumes for this input: the text
 // appended to every output's comment and written as a global attribute. Empty
 // when the input needs no assumption of this kind.
-func (f *inputFlags) assumed(in *grid.Input) []string {
+func assumed(in *grid.Input, p microphys.Params) []string {
 	var s []string
 	has := in.Has
 	if !has(grid.RoleLWP) {
 		c := "5/9 (adiabatic cloud)"
-		if f.lwpProfile == "uniform" {
+		if p.UniformLWP {
 			c = "2/3 (vertically uniform cloud)"
 		}
 		s = append(s, fmt.Sprintf("Liquid water path derived from optical thickness and effective radius: LWP = %s rho_w tau r_e (QC bit lwp_from_optical_thickness).", c))
@@ -115,18 +82,18 @@ func (f *inputFlags) assumed(in *grid.Input) []string {
 			b, _ := in.Binding(grid.RoleNd)
 			s = append(s, fmt.Sprintf("Effective radius derived from LWP and the input droplet number %s for an adiabatic cloud (QC bit droplet_number_from_input).", b.Var))
 		}
-		if f.dropletNumber > 0 {
+		if p.DropletNumber > 0 {
 			where := "in every column"
 			if has(grid.RoleNd) {
 				where = "where the input droplet number is missing"
 			}
-			s = append(s, fmt.Sprintf("Assumed constant droplet number concentration %g cm-3 %s: effective radius derived from LWP for an adiabatic cloud (QC bit droplet_number_assumed).", f.dropletNumber, where))
+			s = append(s, fmt.Sprintf("Assumed constant droplet number concentration %g cm-3 %s: effective radius derived from LWP for an adiabatic cloud (QC bit droplet_number_assumed).", p.DropletNumber*1e-6, where))
 		}
 	}
 	if in.GridMean {
 		if has(grid.RoleCloudFraction) {
 			b, _ := in.Binding(grid.RoleCloudFraction)
-			s = append(s, fmt.Sprintf("The input LWP is a grid-box mean (%s): in-cloud LWP = LWP / %s, columns with cloud fraction below %g screened (QC bits in_cloud_lwp_from_grid_mean, cloud_fraction_below_minimum).", in.GridMeanWhy, b.Var, f.minCF))
+			s = append(s, fmt.Sprintf("The input LWP is a grid-box mean (%s): in-cloud LWP = LWP / %s, columns with cloud fraction below %g screened (QC bits in_cloud_lwp_from_grid_mean, cloud_fraction_below_minimum).", in.GridMeanWhy, b.Var, p.MinCloudFraction))
 		} else {
 			s = append(s, fmt.Sprintf("The input LWP is a grid-box mean (%s) and no cloud fraction was found: it is used as in-cloud LWP, an underestimate (QC bit grid_mean_lwp_used).", in.GridMeanWhy))
 		}

@@ -164,8 +164,14 @@ func runInspect(e *env, args []string) error {
 	binds := fs.StringArray("bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable)")
 	asJSON := fs.Bool("json", false, "print one JSON object instead of the text report")
 	inp := addInputFlags(fs)
+	nd := fs.Float64("droplet-number", 0, "as for process: the droplet number concentration, cm-3, assumed where the input has LWP but no effective radius (0: none)")
 	if err := parseFlags(e, fs, inspectUsage, args); err != nil {
 		return err
+	}
+	p := microphys.DefaultParams()
+	p.DropletNumber = *nd * 1e6
+	if err := p.Validate(); err != nil {
+		return usagef("--droplet-number: %v", err)
 	}
 	masks, err := inp.check()
 	if err != nil {
@@ -186,7 +192,7 @@ func runInspect(e *env, args []string) error {
 		}
 		ovs = append(ovs, o)
 	}
-	rep, err := inspectFile(fs.Arg(0), ovs, inp, masks)
+	rep, err := inspectFile(fs.Arg(0), ovs, inp, masks, p)
 	if rep == nil {
 		return err
 	}
@@ -206,9 +212,9 @@ func runInspect(e *env, args []string) error {
 // inspectFile builds the report of one file. When the file opens but a
 // required role is missing (or a binding is ambiguous), it returns a partial
 // report and the error.
-func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid.MaskSpec) (*inspectReport, error) {
+func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid.MaskSpec, p microphys.Params) (*inspectReport, error) {
 	opt := grid.OpenOptions{Overrides: ovs, OverrideHint: "--bind ROLE=VAR[:UNITS]"}
-	inp.openOptions(&opt, masks)
+	inp.openOptions(&opt, masks, p)
 	in, err := grid.Open(path, opt)
 	if err != nil {
 		if !errors.Is(err, grid.ErrNoVariable) && !errors.Is(err, grid.ErrAmbiguous) && !errors.Is(err, grid.ErrUnits) && !errors.Is(err, grid.ErrLayout) {
@@ -275,13 +281,13 @@ func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid
 		}
 		rep.Roles = append(rep.Roles, rr)
 	}
-	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return in.Has(r) }, inp.dropletNumber > 0)
+	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return in.Has(r) }, p.DropletNumber > 0)
 	rep.summarise()
 	kind := "in-cloud: " + in.GridMeanWhy
 	if in.GridMean {
 		kind = "grid-box mean: " + in.GridMeanWhy
 	}
-	q := &qualityReport{LWPKind: kind, Masks: []maskReport{}, Screened: qc.Screened, Assumptions: inp.assumed(in)}
+	q := &qualityReport{LWPKind: kind, Masks: []maskReport{}, Screened: qc.Screened, Assumptions: assumed(in, p)}
 	if q.Assumptions == nil {
 		q.Assumptions = []string{}
 	}

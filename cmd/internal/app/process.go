@@ -406,7 +406,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		force = true
 	}
 	opt := grid.OpenOptions{Overrides: j.overrides, OverrideHint: "--bind ROLE=VAR[:UNITS]", SlabBytes: j.o.slabMB << 20}
-	j.inputs().openOptions(&opt, j.masks)
+	j.inputs().openOptions(&opt, j.masks, j.params)
 	in, err := grid.Open(input, opt)
 	if err != nil {
 		return finish("failed", err)
@@ -415,7 +415,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	for _, w := range in.Warnings {
 		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
 	}
-	assumed := j.inputs().assumed(in)
+	assumed := assumed(in, j.params)
 	var used []string
 	for _, b := range in.Bindings() {
 		if b.Role.Rule().Internal {
@@ -523,7 +523,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
 	iCTT, iCTP, iCTH, iSD := grid.RoleCTT.Index(), grid.RoleCTP.Index(), grid.RoleCTH.Index(), grid.RoleLWPSD.Index()
 	iNd, iCF := grid.RoleNd.Index(), grid.RoleCloudFraction.Index()
-	assume := j.inputs().assumptions(gin)
+	gridMean := gin.GridMean
 	masks := gin.Masks
 	bits := make([]uint32, len(masks))
 	for k, mk := range masks {
@@ -584,7 +584,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
 				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
 			if qin == 0 {
-				qin = m.Complete(&in, at(iNd, i), at(iCF, i), &assume)
+				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
 			}
 			if qin&screen != 0 {
 				for k := range defs {

@@ -103,10 +103,10 @@ func qcNames32(q uint32) []string {
 }
 
 // column computes one column with microphys directly (completion, then Column).
-func column(t *testing.T, m *microphys.Model, in microphys.Inputs, nd, cf float64, a microphys.Assumptions) (microphys.Outputs, uint32, microphys.Inputs) {
+func column(t *testing.T, m *microphys.Model, in microphys.Inputs, nd, cf float64, gridMean bool) (microphys.Outputs, uint32, microphys.Inputs) {
 	t.Helper()
 	var o microphys.Outputs
-	q := m.Complete(&in, nd, cf, &a)
+	q := m.Complete(&in, nd, cf, gridMean)
 	if q&(microphys.QCInputScreenMask|uint32(microphys.QCScreenMask)) != 0 {
 		return o, q, in
 	}
@@ -252,7 +252,7 @@ DUMP = ["lwp", "cer", "ctt", "qa", "sza", "cloud_phase", "cloud_multi_layer_flag
 		}
 		in := nanInputs()
 		in.LWP, in.Re, in.CTT = lwp, ref["cer"][i]*1e-6, ref["ctt"][i]
-		o, q, _ := column(t, m, in, math.NaN(), math.NaN(), microphys.Assumptions{})
+		o, q, _ := column(t, m, in, math.NaN(), math.NaN(), false)
 		if math.IsNaN(lwp) {
 			if got&uint32(microphys.QCInputMissing) == 0 {
 				t.Errorf("column %d: fill LWP, QC %v", i, qcNames32(got))
@@ -327,8 +327,8 @@ DUMP = ["cloud_liquid_water_path"]
 	g := productGrids(t, out)
 	p := microphys.DefaultParams()
 	p.EnableCollector, p.EnableEvaporation = false, false
+	p.DropletNumber = 100e6 // --droplet-number 100 (cm-3)
 	m, _ := microphys.NewModel(p)
-	a := microphys.Assumptions{DropletNumber: 100e6}
 	raw, dec := ref["cloud_liquid_water_path.raw"], ref["cloud_liquid_water_path"]
 	sawZero := false
 	for i := range raw {
@@ -359,7 +359,7 @@ DUMP = ["cloud_liquid_water_path"]
 		}
 		in := nanInputs()
 		in.LWP = dec[i]
-		o, q, _ := column(t, m, in, math.NaN(), math.NaN(), a)
+		o, q, _ := column(t, m, in, math.NaN(), math.NaN(), false)
 		if got != q || got&microphys.QCDropletNumberAssumed == 0 {
 			t.Errorf("column %d: QC %v, microphys %v", i, qcNames32(got), qcNames32(q))
 		}
@@ -479,7 +479,7 @@ DUMP = ["lwp", "clt"]
 			if got&microphys.QCClearSky == 0 {
 				t.Errorf("column %d: QC %v, want clear_sky", i, qcNames32(got))
 			}
-		case f < defaultMinCloudFraction:
+		case f < microphys.DefaultParams().MinCloudFraction:
 			if got&microphys.QCCloudFractionLow == 0 {
 				t.Errorf("column %d (fraction %g): QC %v, want cloud_fraction_below_minimum", i, f, qcNames32(got))
 			}
@@ -563,7 +563,7 @@ data:
 		}
 		in := nanInputs()
 		in.LWP, in.Re, in.CTP = lwp[i]*1e-3, re[i]*1e-6, ctp[i]*100
-		o, q, _ := column(t, m, in, math.NaN(), math.NaN(), microphys.Assumptions{})
+		o, q, _ := column(t, m, in, math.NaN(), math.NaN(), false)
 		if got != q || !close32(g["condensation_rate"][i], o.Cw*1e6) {
 			t.Errorf("column %d: QC %v c_w %g, microphys %v %g", i, qcNames32(got), g["condensation_rate"][i], qcNames32(q), o.Cw*1e6)
 		}
