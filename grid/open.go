@@ -337,6 +337,11 @@ func (in *Input) bind() error {
 				return err
 			}
 			if mask == nil {
+				if _, byOverride := over[rule.Role]; byOverride { // asked for: an error, not a warning
+					w := in.Warnings[len(in.Warnings)-1]
+					in.Warnings = in.Warnings[:len(in.Warnings)-1]
+					return varErr(ErrLayout, in.Path, v.Name, "bound as %s by %s: %s", rule.Role, over[rule.Role], strings.TrimPrefix(w, in.Path+": "))
+				}
 				continue
 			}
 			dec, err := NewDecoder(in.Path, v, Converter{Factor: 1})

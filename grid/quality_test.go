@@ -246,3 +246,26 @@ data: y = 0, 1 ;`, OpenOptions{})
 		t.Errorf("mask on another grid: %v", err)
 	}
 }
+
+// TestPhaseRoleWithoutMeanings: a phase variable without flag_meanings found by name is
+// left out with a warning; bound by an override it is an error naming it.
+func TestPhaseRoleWithoutMeanings(t *testing.T) {
+	cdl := `netcdf p {
+dimensions: y = 1 ; x = 2 ;
+variables:
+	float lwp(y,x) ; lwp:units = "g m-2" ; float re(y,x) ; re:units = "um" ; byte cph(y,x) ;
+}`
+	path := ncgenText(t, cdl, "nc4")
+	in, err := Open(path, OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if in.Has(RolePhase) || len(in.Masks) != 0 || len(in.Warnings) != 1 || !strings.Contains(in.Warnings[0], "cph") {
+		t.Errorf("phase bound %v, masks %d, warnings %q", in.Has(RolePhase), len(in.Masks), in.Warnings)
+	}
+	in.Close()
+	_, err = Open(path, OpenOptions{Overrides: []Override{{Role: RolePhase, Var: "cph"}}})
+	if !errors.Is(err, ErrLayout) || !strings.Contains(err.Error(), `"cph"`) || !strings.Contains(err.Error(), "flag_meanings") {
+		t.Errorf("override: %v", err)
+	}
+}
