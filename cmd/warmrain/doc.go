@@ -185,6 +185,7 @@ Data go to stdout or files; messages go to stderr.
 
 	Usage:
 	  warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
+	  (without --re: --droplet-number N; without --lwp: --tau and --re)
 	                  [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
 
 	Runs the physics of one column given on the command line and prints the

@@ -648,3 +648,37 @@ data:
 		t.Errorf("exit %d, stderr %s", code, stderr)
 	}
 }
+
+// TestColumnCompletes: the column command completes missing inputs as process does (the
+// same Model.Complete): r_e from LWP and --droplet-number gives back N_d (derived), and
+// LWP from tau and r_e is (5/9) rho_w tau r_e [Brenguier2000].
+func TestColumnCompletes(t *testing.T) {
+	code, stdout, stderr := runCmd("column", "--lwp", "100", "--droplet-number", "100", "--no-collector", "--json")
+	if code != ExitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var r struct {
+		Diagnostics map[string]float64       `json:"diagnostics"`
+		Inputs      map[string]float64       `json:"inputs"`
+		QC          struct{ Flags []string } `json:"qc"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &r); err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(r.Diagnostics["droplet_number"]-100) > 1e-6 || !strings.Contains(strings.Join(r.QC.Flags, " "), "droplet_number_assumed") {
+		t.Errorf("N_d %g, flags %v", r.Diagnostics["droplet_number"], r.QC.Flags)
+	}
+	code, stdout, stderr = runCmd("column", "--tau", "12", "--re", "10", "--no-collector", "--json")
+	if code != ExitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if err := json.Unmarshal([]byte(stdout), &r); err != nil {
+		t.Fatal(err)
+	}
+	if want := 5.0 / 9 * 1000 * 12 * 10e-6 * 1e3; math.Abs(r.Inputs["lwp"]/want-1) > 1e-9 {
+		t.Errorf("LWP %g g m-2, want %g", r.Inputs["lwp"], want)
+	}
+	if code, _, stderr = runCmd("column", "--lwp", "100"); code != ExitUsage || !strings.Contains(stderr, "--droplet-number") {
+		t.Errorf("no r_e: exit %d, %s", code, stderr)
+	}
+}
