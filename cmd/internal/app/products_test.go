@@ -55,7 +55,7 @@ func checkOutputsAgainstMicrophys(t *testing.T, out string, in productInputs) {
 	for i := range in.lwp {
 		x := microphys.Inputs{LWP: in.lwp[i], Re: in.re[i], Tau: in.at(in.tau, i), CTT: in.at(in.ctt, i),
 			CTP: math.NaN(), CTH: math.NaN(), LWPStd: math.NaN(), SurfaceRH: math.NaN()}
-		o, q, _ := column(t, m, x, math.NaN(), math.NaN(), false) // completion, then Column, as process does
+		o, q, _ := column(t, m, x, math.NaN(), math.NaN(), false)                // completion, then Column, as process does
 		if q&(microphys.QCInputScreenMask|uint32(microphys.QCScreenMask)) != 0 { // screened: fill values in the file
 			nan := math.NaN()
 			o.Nd, o.H, o.POP, o.DrizzleRate, o.CollectorRadius = nan, nan, nan, nan, nan
