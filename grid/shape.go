@@ -303,16 +303,16 @@ func highestRank(c []cand) []cand {
 	return out
 }
 
-// fitRank drops 1-D candidates for the other roles when LWP has two or more
-// dimensions: they are series beside the field (a domain mean, a profile), never
+// fitRank drops 1-D candidates for the other roles when LWP (or the role whose
+// grid stands for it) has two or more dimensions: they are series beside the field (a domain mean, a profile), never
 // on LWP's grid, and were not candidates before 1-D inputs were.
 func (in *Input) fitRank(r Role, c []cand) []cand {
-	lb := in.bindings[RoleLWP.Index()]
-	if r == RoleLWP || lb == nil {
+	ref := in.ref() // LWP, or the role whose grid stands for it
+	if ref == nil || r == ref.Role {
 		return c
 	}
-	lv := in.Info.Var(lb.Var)
-	if lv == nil || len(lv.Dims) < 2 {
+	rv := in.Info.Var(ref.Var)
+	if rv == nil || len(rv.Dims) < 2 {
 		return c
 	}
 	out := c[:0:0]

@@ -72,7 +72,7 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 		perCol += 8 + t.Size()
 	}
 	cols := max(1, budget/perCol) // columns per slab at most
-	lb := in.bindings[RoleLWP.Index()]
+	lb := in.ref()
 	if lb.Chunks != nil {
 		c := planChunks(lb.Chunks)
 		p.cy, p.cx = c[len(c)-2], c[len(c)-1]
