@@ -114,6 +114,7 @@ type Output struct {
 	chunks  []int
 	deflate int
 	shuffle bool
+	replace bool // Force: the final rename may replace a file
 }
 
 // Vars returns the output variables.
@@ -151,7 +152,7 @@ func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output
 	if err != nil {
 		return nil, err
 	}
-	o := &Output{Path: path, Tmp: tmp, in: in, vars: vars}
+	o := &Output{Path: path, Tmp: tmp, in: in, vars: vars, replace: opt.Force}
 	o.deflate = opt.Deflate
 	if o.deflate == 0 {
 		o.deflate = 1
@@ -760,8 +761,12 @@ func (o *Output) Commit() error {
 		o.Abort()
 		return err
 	}
-	if err := os.Rename(o.Tmp, o.Path); err != nil {
+	if err := placeFile(o.Tmp, o.Path, o.replace); err != nil {
 		o.Abort()
+		var ve *VarError
+		if errors.As(err, &ve) {
+			return err
+		}
 		return &VarError{File: o.Path, Problem: "cannot rename the temporary file into place: " + err.Error(), Err: err}
 	}
 	o.done = true

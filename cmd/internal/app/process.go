@@ -213,6 +213,14 @@ func runProcess(e *env, args []string) error {
 	if o.slot != "" {
 		return job.runChild(ctx, inputs, outputs, mine)
 	}
+	if why := job.refusals(inputs, outputs, mine); len(why) == 1 && len(mine) == 1 {
+		return errors.New(why[0])
+	} else if len(why) > 0 {
+		for _, w := range why {
+			fmt.Fprintf(e.stderr, "warmrain: %s\n", w)
+		}
+		return fmt.Errorf("%d of %d outputs are in the way (see above); nothing was done", len(why), len(mine))
+	}
 
 	var man *batch.Manifest
 	manPath := o.manifest
@@ -294,7 +302,9 @@ func (j *processJob) getModel() (*microphys.Model, error) {
 	return j.model, j.modelErr
 }
 
-// paramDigest covers everything that changes an output's contents.
+// paramDigest covers every parameter that changes an output's contents; the
+// build is recorded and compared apart (attrBuild), so that a rebuild redoes
+// outputs while a change of parameters is refused without --redo.
 func (j *processJob) paramDigest() string {
 	var pairs [][2]string
 	for _, s := range j.params.Settings() {
@@ -307,8 +317,7 @@ func (j *processJob) paramDigest() string {
 		[2]string{"significant_digits", strconv.Itoa(j.o.quantize)},
 		[2]string{"pack", strconv.FormatBool(j.o.pack)},
 		[2]string{"io_only", strconv.FormatBool(j.o.ioOnly)},
-		[2]string{"binds", strings.Join(j.o.binds, ";")},
-		[2]string{"version", Version()})
+		[2]string{"binds", strings.Join(j.o.binds, ";")})
 	return batch.Digest(pairs)
 }
 
@@ -336,17 +345,35 @@ const (
 	attrVersion  = "warmrain_version"
 	attrIdentity = "warmrain_input_identity"
 	attrDigest   = "warmrain_parameters_digest"
+	attrBuild    = "warmrain_build"
 )
 
-// complete reports whether out is a complete output of this input and these
-// parameters, and whether the file (if any) was written by warmrain.
-func (j *processJob) complete(out string, id batch.Identity) (complete, ours bool) {
-	if _, err := os.Stat(out); err != nil {
-		return false, false
+// buildID identifies the build: the SHA-256 of the executable's bytes (as the
+// table cache does), so that any change of the physics, stamped or not, makes
+// earlier outputs incomplete.
+func buildID() string {
+	if h := exeHash(); h != "" {
+		return "sha256:" + h
+	}
+	return ""
+}
+
+// existing reads what output path out already holds (nil: nothing). A file
+// that is not a regular file, or has no warmrain provenance, is not ours.
+func existing(out string) (*batch.Existing, error) {
+	st, err := os.Lstat(out)
+	if errors.Is(err, os.ErrNotExist) {
+		return nil, nil
+	} else if err != nil {
+		return nil, err
+	}
+	ex := &batch.Existing{}
+	if !st.Mode().IsRegular() {
+		return ex, nil // never opened: a FIFO would block, a folder is no output
 	}
 	info, err := grid.Describe(out)
 	if err != nil {
-		return false, false
+		return ex, nil
 	}
 	text := func(name string) string {
 		a, ok := info.Global(name)
@@ -357,15 +384,45 @@ func (j *processJob) complete(out string, id batch.Identity) (complete, ours boo
 		return s
 	}
 	if text(attrVersion) == "" {
-		return false, false
+		return ex, nil
 	}
-	return id.Matches(text(attrIdentity)) && text(attrDigest) == j.digest && text(attrVersion) == Version(), true
+	ex.Ours = true
+	ex.Identity, ex.Digest, ex.Build, ex.Version = text(attrIdentity), text(attrDigest), text(attrBuild), text(attrVersion)
+	if h := text("history"); len(h) >= 20 {
+		ex.Time = h[:20]
+	}
+	return ex, nil
+}
+
+// decide is the resume check of one output (batch.Decide on what is there).
+func (j *processJob) decide(output string, id batch.Identity) (batch.Decision, error) {
+	ex, err := existing(output)
+	if err != nil {
+		return batch.Decision{}, fmt.Errorf("%s: %w", output, err)
+	}
+	return batch.Decide(output, ex, id, j.digest, buildID(), j.o.redo, j.o.force), nil
+}
+
+// refusals checks, before any work, every planned output that exists, and
+// returns the reasons of those that would be refused.
+func (j *processJob) refusals(inputs, outputs []string, mine []int) []string {
+	var out []string
+	for _, i := range mine {
+		id, err := batch.InputIdentity(inputs[i], false)
+		if err != nil {
+			continue // the file's own run reports it
+		}
+		if d, err := j.decide(outputs[i], id); err == nil && d.Action == batch.Refuse {
+			out = append(out, d.Why)
+		}
+	}
+	return out
 }
 
 // one processes one input into one output and returns its manifest record.
 func (j *processJob) one(ctx context.Context, input, output string, progress bool) batch.Record {
 	t0 := time.Now()
-	rec := batch.Record{Input: input, Output: output, Shard: j.shardName}
+	rec := batch.Record{Input: input, Output: output, Shard: j.shardName, Task: taskID(), Digest: j.digest, Build: buildID()}
 	finish := func(status string, err error) batch.Record {
 		rec.Status = status
 		rec.Time = time.Now().UTC().Format(time.RFC3339)
@@ -379,13 +436,19 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if err != nil {
 		return finish("failed", fmt.Errorf("%s: %w", input, err))
 	}
-	force := j.o.force
-	if done, ours := j.complete(output, id); done && !j.o.redo && !force {
+	d, err := j.decide(output, id)
+	if err != nil {
+		return finish("failed", err)
+	}
+	force := false
+	switch d.Action {
+	case batch.Skip:
 		return finish("skipped", nil)
-	} else if ours && !done {
-		force = true // a stale or foreign-parameter output of ours: redo it
-	} else if ours && j.o.redo {
+	case batch.Refuse:
+		return finish("failed", errors.New(d.Why))
+	case batch.Replace:
 		force = true
+		rec.Note = d.Why
 	}
 	opt := grid.OpenOptions{Overrides: j.overrides, OverrideHint: "--bind ROLE=VAR[:UNITS]", SlabBytes: j.o.slabMB << 20}
 	in, err := grid.Open(input, opt)
@@ -463,6 +526,16 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	return finish("done", nil)
 }
 
+// taskID names the batch task a record comes from: the Slurm job (and array
+// task) id, or "" outside Slurm.
+func taskID() string {
+	job := os.Getenv("SLURM_ARRAY_JOB_ID")
+	if job != "" {
+		return job + "_" + os.Getenv("SLURM_ARRAY_TASK_ID")
+	}
+	return os.Getenv("SLURM_JOB_ID")
+}
+
 func (j *processJob) workers() int {
 	if j.o.threads > 0 {
 		return j.o.threads
@@ -531,6 +604,7 @@ func (j *processJob) globals(id batch.Identity) []grid.Global {
 		{Name: attrVersion, Value: Version()},
 		{Name: attrIdentity, Value: id.String()},
 		{Name: attrDigest, Value: j.digest},
+		{Name: attrBuild, Value: buildID()},
 	}
 	for _, s := range j.params.Settings() {
 		g = append(g, grid.Global{Name: "warmrain_parameter_" + s.Name, Value: s.Value})

@@ -367,7 +367,7 @@ func TestBadInputOutputFolder(t *testing.T) {
 		dir := t.TempDir()
 		out := writeBytes(t, dir, "out.nc", []byte("the user's own file\n"))
 		code, stderr := run(t, out)
-		expect(t, code, stderr, out, "already exists")
+		expect(t, code, stderr, out, "exists and was not written by warmrain", "--force")
 		if b, _ := os.ReadFile(out); string(b) != "the user's own file\n" {
 			t.Errorf("an existing file was overwritten without --force")
 		}

@@ -19,8 +19,10 @@ import (
 )
 
 // ExpandInputs turns command-line arguments into the list of inputs:
-// a plain path or URL is taken as is, an argument with glob characters is
-// expanded (sorted; no match is an error), and "@FILE" reads one input per
+// a plain path or URL is taken as is, an argument with glob characters that
+// is not itself an existing path is expanded (sorted; no match is an error;
+// the shell has already expanded unquoted patterns, so a file named
+// "day[1].nc" given by the shell is taken as that file, never globbed again), and "@FILE" reads one input per
 // line from FILE (blank lines and lines starting with # are skipped; relative
 // paths are relative to the list file's folder). Duplicates are removed, the
 // first occurrence kept. The order is the order given.
@@ -49,7 +51,7 @@ func ExpandInputs(args []string) ([]string, error) {
 			for _, p := range list {
 				add(p)
 			}
-		case !isURL(a) && strings.ContainsAny(a, "*?["):
+		case !isURL(a) && strings.ContainsAny(a, "*?[") && !exists(a):
 			m, err := filepath.Glob(a)
 			if err != nil {
 				return nil, fmt.Errorf("input pattern %q: %v", a, err)
@@ -96,6 +98,8 @@ func readList(path string) ([]string, error) {
 
 func isURL(s string) bool { return strings.Contains(s, "://") }
 
+func exists(p string) bool { _, err := os.Lstat(p); return err == nil }
+
 // LocalPath returns the file-system path behind an input: the path itself, or
 // the path of a file:// URL without its fragment (NCZarr stores).
 func LocalPath(in string) string {
@@ -112,12 +116,32 @@ func LocalPath(in string) string {
 	return ""
 }
 
+// relPath is the {relpath} placeholder's value for local path p.
+func relPath(p string) string {
+	p = filepath.Clean(p)
+	if abs, err := filepath.Abs(p); err == nil {
+		p = abs
+		if wd, err := os.Getwd(); err == nil {
+			if r, err := filepath.Rel(wd, abs); err == nil && r != ".." && !strings.HasPrefix(r, ".."+string(filepath.Separator)) {
+				p = r
+			}
+		}
+	}
+	p = strings.TrimSuffix(p, filepath.Ext(p))
+	parts := strings.FieldsFunc(p, func(r rune) bool { return r == filepath.Separator })
+	return strings.Join(parts, "_")
+}
+
 // DefaultPattern is the default output name pattern.
 const DefaultPattern = "{stem}_warmrain.nc"
 
 // OutputName applies a name pattern to an input. Placeholders: {stem} (file
 // name without its last extension), {name} (file name), {parent} (name of the
-// input's folder), {index} (position in the full input list, from 0).
+// input's folder), {index} (position in the full input list, from 0),
+// {relpath} (the input's path relative to the working directory, or its
+// absolute path outside it, without the last extension, folders joined by
+// '_': 2019/jan.nc gives 2019_jan, so that inputs of the same name in
+// different folders never share an output).
 func OutputName(pattern, input string, index int) (string, error) {
 	p := LocalPath(input)
 	if p == "" {
@@ -127,10 +151,10 @@ func OutputName(pattern, input string, index int) (string, error) {
 	name := filepath.Base(p)
 	stem := strings.TrimSuffix(name, filepath.Ext(name))
 	parent := filepath.Base(filepath.Dir(p))
-	r := strings.NewReplacer("{stem}", stem, "{name}", name, "{parent}", parent, "{index}", strconv.Itoa(index))
+	r := strings.NewReplacer("{stem}", stem, "{name}", name, "{parent}", parent, "{index}", strconv.Itoa(index), "{relpath}", relPath(p))
 	out := r.Replace(pattern)
 	if strings.ContainsAny(out, "{}") {
-		return "", fmt.Errorf("output name pattern %q: unknown placeholder (known: {stem} {name} {parent} {index})", pattern)
+		return "", fmt.Errorf("output name pattern %q: unknown placeholder (known: {stem} {name} {parent} {relpath} {index})", pattern)
 	}
 	if out == "" || strings.Contains(out, "/") || out == "." || out == ".." {
 		return "", fmt.Errorf("output name pattern %q gives %q for %s: a name must be a plain file name", pattern, out, input)
@@ -160,7 +184,7 @@ func PlanOutputs(inputs []string, dir, pattern string) ([]string, error) {
 		o := filepath.Join(dir, n)
 		a, _ := filepath.Abs(o)
 		if j, dup := byOut[a]; dup {
-			return nil, fmt.Errorf("inputs %s and %s would both be written to %s; use a name pattern with {parent} or {index}", inputs[j], in, o)
+			return nil, fmt.Errorf("inputs %s and %s would both be written to %s; use a name pattern with {relpath}, {parent} or {index}", inputs[j], in, o)
 		}
 		if ins[a] {
 			return nil, fmt.Errorf("output %s for input %s is itself an input; choose another folder or name pattern", o, in)
@@ -276,6 +300,11 @@ type Record struct {
 	ScreenedFraction float64 `json:"screened_fraction"`
 	Seconds          float64 `json:"seconds"`
 	Shard            string  `json:"shard,omitempty"`
+	Task             string  `json:"task,omitempty"` // batch task: Slurm job and array task id
+	Digest           string  `json:"parameters_digest,omitempty"`
+	Build            string  `json:"build,omitempty"`
+	Note             string  `json:"note,omitempty"` // why an existing output was replaced
+	Signal           string  `json:"signal,omitempty"`
 	Error            string  `json:"error,omitempty"`
 }
 
@@ -415,14 +444,17 @@ func (id Identity) String() string {
 }
 
 // Matches reports whether a stored identity (from an output's provenance)
-// describes the same input as id. With checksums on both sides only the
-// checksum counts; otherwise path, size and modification time must agree.
+// describes the same input as id. When id carries a checksum only the
+// checksum counts (a stored identity without one does not match); otherwise
+// path, size and modification time must agree.
 func (id Identity) Matches(stored string) bool {
 	var s Identity
 	if json.Unmarshal([]byte(stored), &s) != nil {
 		return false
 	}
-	if id.SHA256 != "" && s.SHA256 != "" {
+	if id.SHA256 != "" {
+		// Checksums asked for: an output recorded without one is not known to
+		// be of these bytes.
 		return id.SHA256 == s.SHA256
 	}
 	return s.Path == id.Path && s.Size == id.Size && s.ModTime == id.ModTime
