@@ -1,7 +1,6 @@
 package app
 
 import (
-	"bufio"
 	"context"
 	"encoding/json"
 	"errors"
@@ -136,6 +135,17 @@ func runProcess(e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	if o.slot != "" {
+		// A worker process of a batch: its tasks come on stdin (runChild).
+		job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, args: args}
+		job.digest = job.paramDigest()
+		ctx, stop := signalContext(job)
+		defer stop()
+		return job.runChild(ctx)
+	}
+	if os.Getenv(childEnv) != "" {
+		return errors.New("a worker process of warmrain process was started without its --child-slot; not starting more processes")
+	}
 	inputs, err := batch.ExpandInputs(fs.Args())
 	if err != nil {
 		return usagef("%v", err)
@@ -189,10 +199,11 @@ func runProcess(e *env, args []string) error {
 		shardName = fmt.Sprintf("%d/%d", shard.Index, shard.Count)
 	}
 
-	if o.cpuProfile != "" {
-		f, err := os.Create(o.cpuProfile)
+	if o.cpuProfile != "" && o.slot == "" { // the parent's run only
+		// A new file only: an existing one (an input, anything) is never replaced.
+		f, err := os.OpenFile(o.cpuProfile, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
 		if err != nil {
-			return fmt.Errorf("--cpu-profile: %v", err)
+			return fmt.Errorf("--cpu-profile: %v (the profile is written to a new file only)", err)
 		}
 		if err := pprof.StartCPUProfile(f); err != nil {
 			f.Close()
@@ -206,18 +217,14 @@ func runProcess(e *env, args []string) error {
 
 	job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, args: args, shardName: shardName}
 	job.digest = job.paramDigest()
-
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signalContext(job)
 	defer stop()
 
-	if o.slot != "" {
-		return job.runChild(ctx, inputs, outputs, mine)
-	}
 	if why := job.refusals(inputs, outputs, mine); len(why) == 1 && len(mine) == 1 {
 		return errors.New(why[0])
 	} else if len(why) > 0 {
 		for _, w := range why {
-			fmt.Fprintf(e.stderr, "warmrain: %s\n", w)
+			fmt.Fprintf(job.e.stderr, "warmrain: %s\n", w)
 		}
 		return fmt.Errorf("%d of %d outputs are in the way (see above); nothing was done", len(why), len(mine))
 	}
@@ -228,32 +235,34 @@ func runProcess(e *env, args []string) error {
 		manPath = filepath.Join(o.output, "warmrain-manifest.jsonl")
 	}
 	if manPath != "" {
-		if man, err = batch.OpenManifest(manPath); err != nil {
+		var warn string
+		if man, warn, err = batch.OpenManifest(manPath, inputs); err != nil {
 			return err
+		}
+		if warn != "" {
+			fmt.Fprintf(job.e.stderr, "warmrain: warning: %s\n", warn)
 		}
 		defer man.Close()
 	}
 	job.single = len(mine) == 1
 	if len(mine) == 0 {
-		fmt.Fprintf(e.stderr, "warmrain: shard %s has no files (%d inputs)\n", shardName, len(inputs))
+		fmt.Fprintf(job.e.stderr, "warmrain: shard %s has no files (%d inputs)\n", shardName, len(inputs))
 		return nil
 	}
 	var recs []batch.Record
-	if o.jobs > 1 && len(mine) > 1 {
-		recs, err = job.runChildren(ctx, inputs, outputs, mine, man)
+	unrecorded := 0
+	if len(mine) > 1 {
+		// Several files: each in a supervised worker process (also with --jobs 1),
+		// so that a crash in the C libraries fails that file alone.
+		recs, unrecorded, err = job.runPool(ctx, inputs, outputs, mine, man)
 	} else {
-		for _, i := range mine {
-			if ctx.Err() != nil {
-				break
-			}
-			r := job.one(ctx, inputs[i], outputs[i], true)
-			debug.FreeOSMemory() // the next file starts from the same footprint
-			recs = append(recs, r)
-			job.report(r)
-			if err := man.Add(r); err != nil {
-				fmt.Fprintf(e.stderr, "warmrain: manifest: %v\n", err)
-			}
+		r := job.one(ctx, inputs[mine[0]], outputs[mine[0]], true)
+		recs = append(recs, r)
+		if err := man.Add(r); err != nil {
+			fmt.Fprintf(job.e.stderr, "warmrain: %v\n", err)
+			unrecorded++
 		}
+		job.report(r)
 	}
 	failed := 0
 	for _, r := range recs {
@@ -273,6 +282,9 @@ func runProcess(e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	if unrecorded > 0 {
+		return fmt.Errorf("%d of %d files have no manifest record (see above); the outputs themselves are complete or absent", unrecorded, len(mine))
+	}
 	if failed > 0 {
 		if len(mine) == 1 {
 			return errors.New(recs[0].Error)
@@ -280,6 +292,53 @@ func runProcess(e *env, args []string) error {
 		return failedFiles{failed: failed, total: len(mine)}
 	}
 	return nil
+}
+
+// childEnv marks a worker process of a batch (set by the parent).
+const childEnv = "WARMRAIN_CHILD"
+
+// signalContext returns a context cancelled by SIGINT, SIGTERM and SIGHUP,
+// and by a closed stderr: SIGPIPE is caught (it does not kill the process)
+// and the write that met the closed pipe cancels the run through job's
+// stderr, so that the file in progress is removed and what completed is
+// recorded.
+func signalContext(j *processJob) (context.Context, func()) {
+	ctx, cancel := context.WithCancel(context.Background())
+	sigs := make(chan os.Signal, 4)
+	signal.Notify(sigs, os.Interrupt, syscall.SIGTERM, syscall.SIGHUP, syscall.SIGPIPE)
+	go func() {
+		for {
+			select {
+			case s := <-sigs:
+				if s != syscall.SIGPIPE {
+					cancel()
+				}
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	e := *j.e
+	e.stderr = brokenPipeWriter{w: j.e.stderr, cancel: cancel}
+	j.e = &e
+	return ctx, func() {
+		signal.Stop(sigs)
+		cancel()
+	}
+}
+
+// brokenPipeWriter cancels the run when a write meets a closed pipe.
+type brokenPipeWriter struct {
+	w      io.Writer
+	cancel func()
+}
+
+func (b brokenPipeWriter) Write(p []byte) (int, error) {
+	n, err := b.w.Write(p)
+	if errors.Is(err, syscall.EPIPE) {
+		b.cancel()
+	}
+	return n, err
 }
 
 type processJob struct {
@@ -654,103 +713,146 @@ func progressLine(w io.Writer, name string, t0 time.Time) func(done, total int64
 	}
 }
 
-// runChildren processes the files in --jobs child processes, each a copy of
-// this command with --child-slot k/n; records come back as JSON lines on the
-// child's stdout. Signals reach the children through the process group and
-// are also forwarded.
-func (j *processJob) runChildren(ctx context.Context, inputs, outputs []string, mine []int, man *batch.Manifest) ([]batch.Record, error) {
+// task is what a worker process is given for one file.
+type task struct {
+	Input  string `json:"input"`
+	Output string `json:"output"`
+	Shard  string `json:"shard,omitempty"`
+}
+
+// runPool processes the files in supervised worker processes (batch.Pool),
+// --jobs at a time: each is this command again with --child-slot, given one
+// file at a time on its stdin and answering with the file's record. A worker
+// writes the record to the manifest itself (the manifest's descriptor is
+// passed on), so that the record survives the parent; the parent records the
+// files whose worker died. unrecorded counts records that could not be
+// written.
+func (j *processJob) runPool(ctx context.Context, inputs, outputs []string, mine []int, man *batch.Manifest) (recs []batch.Record, unrecorded int, err error) {
 	exe, err := os.Executable()
 	if err != nil {
-		return nil, fmt.Errorf("--jobs needs the warmrain executable: %w", err)
+		return nil, 0, fmt.Errorf("a batch needs the warmrain executable to start its worker processes: %w", err)
 	}
 	n := min(j.o.jobs, len(mine))
 	if !j.o.ioOnly && tableCachePath(tableCacheDir(), j.params) != "" {
-		// Fill the table cache once here, so that the children load the tables
-		// instead of each integrating them at the same time.
+		// Fill the table cache once here, so that the workers load the tables
+		// instead of each integrating them.
 		if _, err := j.getModel(); err != nil {
-			return nil, err
+			return nil, 0, err
 		}
 	}
-	var mu sync.Mutex
-	var recs []batch.Record
-	var wg sync.WaitGroup
-	errs := make([]error, n)
-	for k := 0; k < n; k++ {
-		args := append([]string{"process"}, j.args...)
-		args = append(args, "--child-slot", fmt.Sprintf("%d/%d", k, n), "--threads", strconv.Itoa(j.workers()))
-		cmd := exec.Command(exe, args...)
-		cmd.Stderr = j.e.stderr
-		cmd.Env = append(os.Environ(), "WARMRAIN_CHILD=1")
-		stdout, err := cmd.StdoutPipe()
-		if err != nil {
-			return nil, err
-		}
-		if err := cmd.Start(); err != nil {
-			return nil, fmt.Errorf("starting a --jobs process: %w", err)
-		}
-		wg.Add(1)
-		go func(k int) {
-			defer wg.Done()
-			sc := bufio.NewScanner(stdout)
-			sc.Buffer(make([]byte, 64<<10), 4<<20)
-			for sc.Scan() {
-				var r batch.Record
-				if json.Unmarshal(sc.Bytes(), &r) != nil {
-					continue
-				}
-				mu.Lock()
-				recs = append(recs, r)
-				j.report(r)
-				if err := man.Add(r); err != nil {
-					fmt.Fprintf(j.e.stderr, "warmrain: manifest: %v\n", err)
-				}
-				mu.Unlock()
-			}
-			if err := cmd.Wait(); err != nil {
-				var ee *exec.ExitError
-				if !errors.As(err, &ee) || ee.ExitCode() != ExitFailure {
-					errs[k] = fmt.Errorf("--jobs process %d: %v", k, err)
-				}
-			}
-		}(k)
-		go func() {
-			<-ctx.Done()
-			if cmd.Process != nil {
-				_ = cmd.Process.Signal(syscall.SIGTERM)
-			}
-		}()
+	tasks := make([]string, len(mine))
+	for k, i := range mine {
+		b, _ := json.Marshal(task{Input: inputs[i], Output: outputs[i], Shard: j.shardName})
+		tasks[k] = string(b)
 	}
-	wg.Wait()
-	if ctx.Err() != nil {
-		return recs, nil
+	pool := batch.Pool{
+		Jobs:      n,
+		Stderr:    j.e.stderr,
+		MaxAnswer: 64 << 10,
+		Grace:     20 * time.Second,
+		Command: func() *exec.Cmd {
+			// The worker's own options come first: after a "--" in the user's
+			// arguments they would be taken as inputs.
+			args := append([]string{"process", "--child-slot", "1/1", "--threads", strconv.Itoa(j.workers())}, j.args...)
+			cmd := exec.Command(exe, args...)
+			cmd.Env = append(os.Environ(), childEnv+"=1")
+			if man != nil {
+				cmd.ExtraFiles = []*os.File{man.File()}
+				cmd.Env = append(cmd.Env, childManifestEnv+"=3")
+			}
+			return cmd
+		},
 	}
-	return recs, errors.Join(errs...)
+	err = pool.Run(ctx, tasks, func(k int, a batch.Answer) {
+		i := mine[k]
+		var r batch.Record
+		written := false
+		switch {
+		case a.Death != nil:
+			r = batch.Record{Input: inputs[i], Output: outputs[i], Status: "failed", Shard: j.shardName, Task: taskID(),
+				Digest: j.digest, Build: buildID(), Signal: a.Death.Signal, Error: a.Death.Message,
+				Time: time.Now().UTC().Format(time.RFC3339)}
+			if ctx.Err() != nil && (a.Death.Signal == "SIGTERM" || a.Death.Signal == "SIGKILL" || a.Death.Signal == "SIGINT") {
+				r.Status, r.Error = "interrupted", "stopped by a signal"
+			}
+		case a.TooLong > 0:
+			r = batch.Record{Input: inputs[i], Output: outputs[i], Status: "failed", Shard: j.shardName, Task: taskID(),
+				Digest: j.digest, Build: buildID(), Error: fmt.Sprintf("the worker's record of this file was %d bytes long and was dropped", a.TooLong),
+				Time: time.Now().UTC().Format(time.RFC3339)}
+		default:
+			var ans childAnswer
+			if json.Unmarshal(a.Line, &ans) != nil {
+				r = batch.Record{Input: inputs[i], Output: outputs[i], Status: "failed", Error: "the worker's record of this file was unreadable"}
+			} else {
+				r, written = ans.Record, ans.Recorded
+				if ans.ManifestError != "" {
+					fmt.Fprintf(j.e.stderr, "warmrain: %s\n", ans.ManifestError)
+					unrecorded++
+					written = true // tried; a second try would fail the same way
+				}
+			}
+		}
+		if !written {
+			if err := man.Add(r); err != nil {
+				fmt.Fprintf(j.e.stderr, "warmrain: %v\n", err)
+				unrecorded++
+			}
+		}
+		recs = append(recs, r)
+		j.report(r)
+	})
+	return recs, unrecorded, err
 }
 
-// runChild is the body of a --jobs child process: files whose position in
-// this shard's list is k mod n; one JSON record per line on stdout.
-func (j *processJob) runChild(ctx context.Context, inputs, outputs []string, mine []int) error {
-	k, n, err := parseSlot(j.o.slot)
-	if err != nil {
-		return usagef("--child-slot: %v", err)
+// childManifestEnv names the descriptor of the manifest in a worker process.
+const childManifestEnv = "WARMRAIN_CHILD_MANIFEST"
+
+// childAnswer is a worker's answer for one file: its record, and whether the
+// worker wrote it to the manifest.
+type childAnswer struct {
+	Record        batch.Record `json:"record"`
+	Recorded      bool         `json:"recorded"`
+	ManifestError string       `json:"manifest_error,omitempty"`
+}
+
+// runChild is the body of a worker process: one task per line on stdin, one
+// answer per line on stdout, until stdin ends or the run is cancelled.
+func (j *processJob) runChild(ctx context.Context) error {
+	var man *batch.Manifest
+	if os.Getenv(childManifestEnv) == "3" {
+		man = batch.ManifestOn(os.NewFile(3, "manifest"), "the manifest")
 	}
-	enc := json.NewEncoder(j.e.stdout)
 	j.o.quiet = true
-	var failed int
-	for pos, i := range mine {
-		if pos%n != k {
-			continue
+	enc := json.NewEncoder(j.e.stdout)
+	sc := batch.ChildTasks(os.Stdin)
+	failed := 0
+	for ctx.Err() == nil && sc.Scan() {
+		var t task
+		if err := json.Unmarshal(sc.Bytes(), &t); err != nil {
+			return fmt.Errorf("worker process: bad task %q", sc.Text())
 		}
-		if ctx.Err() != nil {
-			break
+		if crash := os.Getenv(testCrashEnv); crash != "" && strings.Contains(t.Input, crash) {
+			testCrash()
 		}
-		r := j.one(ctx, inputs[i], outputs[i], false)
-		debug.FreeOSMemory()
+		j.shardName = t.Shard
+		r := j.one(ctx, t.Input, t.Output, false)
+		debug.FreeOSMemory() // the next file starts from the same footprint
 		if r.Status == "failed" || r.Status == "interrupted" {
 			failed++
 		}
-		if err := enc.Encode(r); err != nil {
-			return err
+		if len(r.Error) > batch.MaxErrorText {
+			fmt.Fprintf(j.e.stderr, "warmrain: %s: failed: %s\n", r.Input, r.Error)
+			r.Error = batch.Truncated(r.Error, batch.MaxErrorText)
+		}
+		ans := childAnswer{Record: r}
+		if man != nil {
+			if err := man.Add(r); err != nil {
+				ans.ManifestError = err.Error()
+			}
+			ans.Recorded = true
+		}
+		if err := enc.Encode(ans); err != nil {
+			return silentFailure{} // the parent is gone; the record is in the manifest
 		}
 	}
 	if failed > 0 || ctx.Err() != nil {
@@ -767,4 +869,14 @@ func parseSlot(s string) (k, n int, err error) {
 		return 0, 0, fmt.Errorf("want k/n, got %q", s)
 	}
 	return k, n, nil
+}
+
+// testCrashEnv: in a worker process, a file whose input path contains this
+// variable's value makes the worker crash with a segmentation fault, as a
+// crash inside libnetcdf/HDF5 would (tests of the crash isolation only).
+const testCrashEnv = "WARMRAIN_TEST_CRASH"
+
+func testCrash() {
+	var p *int
+	*p = 1 // a nil dereference: SIGSEGV
 }

@@ -303,7 +303,7 @@ func TestProcessBatchResume(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	recs, err := batch.ReadManifest(f)
+	recs, _, err := batch.ReadManifest(f)
 	if err != nil || len(recs) != 12 {
 		t.Fatalf("manifest: %d records, %v", len(recs), err)
 	}

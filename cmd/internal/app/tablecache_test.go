@@ -16,6 +16,11 @@ import (
 // TestMain keeps the table cache of the tests in a temporary folder (never the user's
 // cache), shared by the tests of this package.
 func TestMain(m *testing.M) {
+	if os.Getenv(childEnv) != "" {
+		// This test binary started as a worker process of a batch run in a test
+		// (os.Executable is the test binary): be warmrain.
+		os.Exit(Run(os.Args[1:], os.Stdout, os.Stderr))
+	}
 	dir, err := os.MkdirTemp("", "warmrain-tables-")
 	if err != nil {
 		fmt.Fprintln(os.Stderr, err)

@@ -8,7 +8,6 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -306,60 +305,6 @@ type Record struct {
 	Note             string  `json:"note,omitempty"` // why an existing output was replaced
 	Signal           string  `json:"signal,omitempty"`
 	Error            string  `json:"error,omitempty"`
-}
-
-// Manifest appends records to a JSON-lines file, one write per record so
-// that concurrent tasks appending to the same file never interleave lines.
-type Manifest struct {
-	f *os.File
-}
-
-// OpenManifest opens (creating if needed) a manifest for appending.
-func OpenManifest(path string) (*Manifest, error) {
-	f, err := os.OpenFile(path, os.O_WRONLY|os.O_APPEND|os.O_CREATE, 0o644)
-	if err != nil {
-		return nil, fmt.Errorf("manifest: %w", err)
-	}
-	return &Manifest{f: f}, nil
-}
-
-// Add writes one record.
-func (m *Manifest) Add(r Record) error {
-	if m == nil {
-		return nil
-	}
-	b, err := json.Marshal(r)
-	if err != nil {
-		return err
-	}
-	b = append(b, '\n')
-	_, err = m.f.Write(b)
-	return err
-}
-
-// Close closes the manifest file.
-func (m *Manifest) Close() error {
-	if m == nil {
-		return nil
-	}
-	return m.f.Close()
-}
-
-// ReadManifest reads every record of a manifest.
-func ReadManifest(r io.Reader) ([]Record, error) {
-	var out []Record
-	dec := json.NewDecoder(r)
-	for {
-		var rec Record
-		err := dec.Decode(&rec)
-		if errors.Is(err, io.EOF) {
-			return out, nil
-		}
-		if err != nil {
-			return out, err
-		}
-		out = append(out, rec)
-	}
 }
 
 // Identity describes an input for the resume check.
