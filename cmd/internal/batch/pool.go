@@ -323,4 +323,3 @@ func ChildTasks(r io.Reader) *bufio.Scanner {
 	sc.Buffer(make([]byte, 64<<10), 1<<20)
 	return sc
 }
-
