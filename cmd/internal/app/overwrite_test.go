@@ -177,3 +177,41 @@ with netCDF4.Dataset(sys.argv[1], "a") as d:
 		t.Errorf("manifest record without build or digest: %v", last)
 	}
 }
+
+// TestProcessInputsNeverWritten: no option opens an input for writing
+// (--manifest, --cpu-profile naming the input), and arguments the shell gave
+// are taken literally (a file named day[1].nc is not globbed a second time).
+func TestProcessInputsNeverWritten(t *testing.T) {
+	src := samplePath(t)
+	dir := t.TempDir()
+	in := filepath.Join(dir, "a.nc")
+	copyFile(t, src, in)
+	sum := fileSHA256(t, in)
+	out := filepath.Join(dir, "out.nc")
+	for _, opt := range [][]string{{"--manifest", in}, {"--cpu-profile", in}} {
+		code, _, stderr := runProc(t, append([]string{"process", in, "-o", out, "--no-collector"}, opt...)...)
+		if code == 0 || fileSHA256(t, in) != sum {
+			t.Fatalf("%v: exit %d, input changed: %v; %s", opt, code, fileSHA256(t, in) != sum, stderr)
+		}
+		t.Logf("%v: %s", opt, strings.TrimSpace(stderr))
+	}
+	// Case 8: names with glob characters, as the shell passes them.
+	lit := filepath.Join(dir, "lit")
+	mkdirs(t, lit)
+	var ins []string
+	for _, n := range []string{"day1.nc", "day[1].nc", "only[2].nc"} {
+		copyFile(t, src, filepath.Join(lit, n))
+		ins = append(ins, filepath.Join(lit, n))
+	}
+	o := filepath.Join(dir, "o")
+	mkdirs(t, o)
+	code, _, stderr := runProc(t, append(append([]string{"process"}, ins...), "-o", o, "--no-collector")...)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	for _, n := range []string{"day1_warmrain.nc", "day[1]_warmrain.nc", "only[2]_warmrain.nc"} {
+		if !fileExists(filepath.Join(o, n)) {
+			t.Errorf("%s missing: %s", n, stderr)
+		}
+	}
+}

@@ -74,3 +74,54 @@ func TestRelPathAndLiteralArguments(t *testing.T) {
 		t.Fatal("planning created a folder")
 	}
 }
+
+// TestManifestWhole: a partial last line (an interrupted or short write) is
+// ended with a warning and skipped by readers; an input or a file that is not
+// a manifest is never appended to; a failed write is an error.
+func TestManifestWhole(t *testing.T) {
+	d := t.TempDir()
+	p := filepath.Join(d, "m.jsonl")
+	touch(t, p, `{"input":"a.nc","status":"done"}`+"\n"+`{"input":"b.nc","sta`)
+	m, warn, err := OpenManifest(p, nil)
+	if err != nil || !strings.Contains(warn, "partial record") {
+		t.Fatalf("partial line: %v, warning %q", err, warn)
+	}
+	if err := m.Add(Record{Input: "c.nc", Status: "done"}); err != nil {
+		t.Fatal(err)
+	}
+	m.Close()
+	f, _ := os.Open(p)
+	recs, skipped, err := ReadManifest(f)
+	f.Close()
+	if err != nil || len(recs) != 2 || recs[1].Input != "c.nc" || skipped != 1 {
+		t.Fatalf("read back: %+v, %d skipped, %v", recs, skipped, err)
+	}
+	in := filepath.Join(d, "a.nc")
+	touch(t, in, "CDF\x01 an input")
+	link := filepath.Join(d, "link.nc")
+	os.Symlink(in, link)
+	for _, path := range []string{in, link} {
+		if _, _, err := OpenManifest(path, []string{in}); err == nil || !strings.Contains(err.Error(), "is the input") {
+			t.Errorf("manifest onto the input %s: %v", path, err)
+		}
+	}
+	other := filepath.Join(d, "notes.txt")
+	touch(t, other, "my notes\n")
+	if _, _, err := OpenManifest(other, nil); err == nil || !strings.Contains(err.Error(), "not a warmrain manifest") {
+		t.Errorf("manifest onto a text file: %v", err)
+	}
+	if b, _ := os.ReadFile(in); string(b) != "CDF\x01 an input" {
+		t.Fatal("the input changed")
+	}
+	full, err := os.OpenFile("/dev/full", os.O_WRONLY, 0)
+	if err != nil {
+		t.Skip("no /dev/full")
+	}
+	defer full.Close()
+	if err := ManifestOn(full, "full").Add(Record{Input: "x.nc", Status: "done"}); err == nil || !strings.Contains(err.Error(), "x.nc") {
+		t.Errorf("write to a full device: %v", err)
+	}
+	if s := Truncated(strings.Repeat("é", 5000), MaxErrorText); len(s) > MaxErrorText || !strings.HasSuffix(s, "full text on stderr]") {
+		t.Errorf("Truncated: %d bytes", len(s))
+	}
+}
