@@ -9,6 +9,7 @@ package app
 
 import (
 	"bufio"
+	"errors"
 	"context"
 	"crypto/sha256"
 	"encoding/binary"
@@ -344,7 +345,7 @@ func TestFaults(t *testing.T) {
 		}
 	})
 
-	for _, sig := range []syscall.Signal{syscall.SIGTERM, syscall.SIGINT} {
+	for _, sig := range []syscall.Signal{syscall.SIGTERM, syscall.SIGINT, syscall.SIGHUP} {
 		t.Run(strings.ToLower(sig.String()), func(t *testing.T) {
 			dir := filepath.Join(work, "sig"+fmt.Sprint(int(sig)))
 			if err := os.Mkdir(dir, 0o755); err != nil {
@@ -500,6 +501,118 @@ func TestFaults(t *testing.T) {
 		inputUnchanged(t)
 		if fileSHA256(t, small) != smallSum {
 			t.Errorf("input %s changed", small)
+		}
+	})
+
+	t.Run("kill9_parent_jobs2", func(t *testing.T) {
+		// The parent of a --jobs 2 batch is killed with kill -9 while its workers
+		// write: the workers stop cleanly, remove their temporary files and record
+		// their files as interrupted in the manifest themselves.
+		inDir := filepath.Join(work, "orphans")
+		outDir := filepath.Join(work, "orphans_out")
+		for _, d := range []string{inDir, outDir} {
+			if err := os.Mkdir(d, 0o755); err != nil {
+				t.Fatal(err)
+			}
+		}
+		ins := linkInputs(t, in, inDir, "a.nc", "b.nc")
+		batch := append(append([]string{"process"}, ins...), "-o", outDir+"/", "--jobs", "2", "--no-collector", "-q")
+		s := start(t, exe, batch...)
+		if _, ok := waitWriting(t, s, outDir, []string{"warmrain-manifest.jsonl"}); !ok {
+			t.Fatalf("finished before the kill:\n%s", s.stderr)
+		}
+		time.Sleep(writing / 4)
+		_ = s.cmd.Process.Kill()
+		s.wait(t)
+		mp := filepath.Join(outDir, "warmrain-manifest.jsonl")
+		deadline := time.Now().Add(60 * time.Second)
+		for (len(tmpFiles(t, outDir)) > 0 || len(manifest(t, mp)) < 2) && time.Now().Before(deadline) {
+			time.Sleep(20 * time.Millisecond)
+		}
+		if n := tmpFiles(t, outDir); len(n) != 0 {
+			t.Errorf("temporary files left by the orphaned workers: %v", n)
+		}
+		recs := manifest(t, mp)
+		if len(recs) != 2 {
+			t.Fatalf("%d records after the parent's kill -9, want 2: %v", len(recs), recs)
+		}
+		for _, r := range recs {
+			if r["status"] != "interrupted" && r["status"] != "done" {
+				t.Errorf("record %v", r)
+			}
+		}
+		if code, _, stderr := runTool(t, exe, batch...); code != 0 {
+			t.Fatalf("rerun: exit %d\n%s", code, stderr)
+		}
+	})
+
+	t.Run("closed_stderr", func(t *testing.T) {
+		// stderr is a pipe nobody reads (its reader closed): the first message
+		// ends the run cleanly; every file that completed has its record.
+		inDir := filepath.Join(work, "pipe")
+		outDir := filepath.Join(work, "pipe_out")
+		for _, d := range []string{inDir, outDir} {
+			if err := os.Mkdir(d, 0o755); err != nil {
+				t.Fatal(err)
+			}
+		}
+		ins := linkInputs(t, in, inDir, "a.nc", "b.nc", "c.nc")
+		r, w, err := os.Pipe()
+		if err != nil {
+			t.Fatal(err)
+		}
+		r.Close()
+		cmd := exec.Command(exe, append(append([]string{"process"}, ins...), "-o", outDir, "--no-collector")...)
+		cmd.Stderr = w
+		err = cmd.Run()
+		w.Close()
+		t.Logf("closed stderr: %v", err)
+		var ee *exec.ExitError
+		if !errors.As(err, &ee) || ee.ExitCode() != ExitFailure {
+			t.Errorf("exit: %v, want exit %d", err, ExitFailure)
+		}
+		recs := manifest(t, filepath.Join(outDir, "warmrain-manifest.jsonl"))
+		done := 0
+		for _, r := range recs {
+			if r["status"] == "done" {
+				done++
+				if !fileExists(r["output"].(string)) {
+					t.Errorf("record without output: %v", r)
+				}
+			}
+		}
+		outs := 0
+		for _, n := range dirNames(t, outDir) {
+			if strings.HasSuffix(n, "_warmrain.nc") {
+				outs++
+			}
+		}
+		if done == 0 || outs != done {
+			t.Errorf("%d outputs, %d done records: %v", outs, done, recs)
+		}
+		if n := tmpFiles(t, outDir); len(n) != 0 {
+			t.Errorf("temporary files left: %v", n)
+		}
+	})
+
+	t.Run("manifest_full_disk", func(t *testing.T) {
+		// The manifest's file system is full: the output is written, but the run
+		// must not say that all went well.
+		dir := filepath.Join(work, "manfull")
+		if err := os.Mkdir(dir, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		mountOrSkip(t, "tmpfs", "tmpfs", dir, "-o", "size=64k")
+		mp := filepath.Join(dir, "m.jsonl")
+		os.WriteFile(mp, nil, 0o644)
+		filler, _ := os.Create(filepath.Join(dir, "filler"))
+		filler.Write(make([]byte, 1<<20)) // fails when the 64 KiB are used up
+		filler.Close()
+		out := filepath.Join(work, "manfull.nc")
+		code, _, stderr := runTool(t, exe, "process", sampleFile, "-o", out, "--no-collector", "--manifest", mp)
+		t.Logf("manifest on a full disk: exit %d: %s", code, strings.TrimSpace(stderr))
+		if code != ExitFailure || !strings.Contains(stderr, "manifest") || !strings.Contains(stderr, "no space left") {
+			t.Errorf("exit %d; want %d naming the manifest and the full disk", code, ExitFailure)
 		}
 	})
 }

@@ -323,6 +323,9 @@ func signalContext(j *processJob) (context.Context, func()) {
 	j.e = &e
 	return ctx, func() {
 		signal.Stop(sigs)
+		// The last message (the command's error) may still meet a closed stderr:
+		// the write fails instead of killing the process.
+		signal.Ignore(syscall.SIGPIPE)
 		cancel()
 	}
 }
