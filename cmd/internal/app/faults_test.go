@@ -9,12 +9,12 @@ package app
 
 import (
 	"bufio"
-	"errors"
 	"context"
 	"crypto/sha256"
 	"encoding/binary"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
