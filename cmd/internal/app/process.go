@@ -152,14 +152,20 @@ func runProcess(e *env, args []string) error {
 	}
 
 	// Where the outputs go.
-	folder := false
+	folder, mkFolder := false, false
 	if st, err := os.Stat(o.output); err == nil && st.IsDir() {
 		folder = true
 	} else if strings.HasSuffix(o.output, "/") || len(inputs) > 1 {
-		if err != nil {
-			return fmt.Errorf("output folder %s does not exist; create it first (several inputs, or an output ending in /, need a folder)", o.output)
+		if err == nil {
+			return fmt.Errorf("output %s is not a folder (several inputs need an output folder)", o.output)
 		}
-		return fmt.Errorf("output %s is not a folder (several inputs need an output folder)", o.output)
+		// A missing output folder is made, once its parent exists (a typing
+		// error in a parent folder should not grow a tree of folders).
+		parent := filepath.Dir(filepath.Clean(o.output))
+		if st, err := os.Stat(parent); err != nil || !st.IsDir() {
+			return fmt.Errorf("output folder %s does not exist, nor does its parent folder %s; create them first (several inputs, or an output ending in /, need a folder)", o.output, parent)
+		}
+		folder, mkFolder = true, true
 	}
 	var outputs []string
 	if folder {
@@ -213,6 +219,13 @@ func runProcess(e *env, args []string) error {
 			pprof.StopCPUProfile()
 			f.Close()
 		}()
+	}
+
+	if mkFolder {
+		// Many tasks of an array may make it at the same time.
+		if err := os.Mkdir(o.output, 0o755); err != nil && !errors.Is(err, os.ErrExist) {
+			return fmt.Errorf("output folder %s: %w", o.output, err)
+		}
 	}
 
 	job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, args: args, shardName: shardName}
