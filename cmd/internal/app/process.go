@@ -39,9 +39,13 @@ output is named by --name. Outputs appear whole or not at all: each is written
 to a temporary file in the target folder and renamed when complete.
 
 A rerun skips inputs whose output is complete (same input identity, parameters
-and version recorded in its provenance) and redoes the others. Batch runs
-write a JSON-lines manifest. SIGINT/SIGTERM stop cleanly: the file in progress
-is removed, what completed is recorded, the exit code is 1.
+and build recorded in its provenance) and redoes warmrain's own outputs of the
+same input that are not. An existing file is never replaced otherwise: other
+parameters need --redo, another input's output or any other file --force; the
+refusal comes before any work. With several inputs each file runs in a worker
+process, so a crash in the C libraries fails that file alone. Batch runs write
+a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
+progress is removed, what completed is recorded, the exit code is 1.
 
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
@@ -72,7 +76,7 @@ func runProcess(e *env, args []string) error {
 	fs := newFlagSet(e, "process", processUsage)
 	var o processOptions
 	fs.StringVarP(&o.output, "output", "o", "", "output file (one input) or folder (several inputs)")
-	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {index}")
+	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {relpath} {index}")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
 	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd)")
@@ -81,8 +85,8 @@ func runProcess(e *env, args []string) error {
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
 	fs.BoolVar(&o.pack, "pack", false, "store the bounded outputs as CF-packed 16-bit integers (smaller, faster; precision in README)")
 	fs.IntVar(&o.quantize, "significant-digits", 0, "lossy: keep this many significant decimal digits in float outputs (CF quantization metadata; 0: off)")
-	fs.BoolVarP(&o.force, "force", "f", false, "overwrite existing outputs (inputs are never overwritten)")
-	fs.BoolVar(&o.redo, "redo", false, "process again even when a complete output exists (replaces outputs written by warmrain)")
+	fs.BoolVarP(&o.force, "force", "f", false, "replace any existing file at an output path (inputs are never overwritten)")
+	fs.BoolVar(&o.redo, "redo", false, "process again and replace warmrain's outputs of the same input (also those of other parameters)")
 	fs.StringVar(&o.shard, "shard", "", "process only shard I of N (I/N, 0 <= I < N) of the sorted input list")
 	fs.IntVar(&o.shardCount, "shard-count", 0, "shard count for a Slurm array whose ids are not a plain range")
 	fs.BoolVar(&o.ignoreSlurm, "ignore-slurm", false, "do not shard by the Slurm array variables")
