@@ -63,6 +63,7 @@ type processOptions struct {
 	manifest                   string
 	checksum, quiet, noProgess bool
 	slabMB                     int
+	memoryMB                   int
 	ioOnly                     bool
 	cpuProfile                 string
 	stats                      bool
@@ -95,6 +96,7 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no summary line per file")
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no progress line (it is shown only when stderr is a terminal)")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
+	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")
 	fs.BoolVar(&o.ioOnly, "io-only", false, "benchmark: read inputs and write outputs without the physics")
 	fs.StringVar(&o.cpuProfile, "cpu-profile", "", "developers: write a Go CPU profile of the run to this file (see DEVELOPERS.md)")
 	_ = fs.MarkHidden("cpu-profile")
@@ -113,8 +115,8 @@ func runProcess(e *env, args []string) error {
 	if o.output == "" {
 		return usagef("no output given: use -o FILE or -o FOLDER")
 	}
-	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.quantize < 0 || o.quantize > 7 {
-		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1 and --significant-digits 0-7 are required")
+	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.memoryMB < 64 || o.quantize < 0 || o.quantize > 7 {
+		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1, --memory-mb >= 64 and --significant-digits 0-7 are required")
 	}
 	if o.shard != "" && o.shardCount > 0 {
 		return usagef("--shard and --shard-count cannot be combined (--shard-count is for Slurm arrays)")
@@ -534,6 +536,19 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if err != nil {
 		return finish("failed", err)
 	}
+	vars := gridVars(j.defs, "", j.o.pack)
+	if sb, err := j.memoryPlan(in, vars); err != nil {
+		in.Close()
+		return finish("failed", err)
+	} else if sb != opt.SlabBytes {
+		// A chunking that needs smaller slabs to stay in the bound: read it again
+		// with them (the plan is made when the input is opened).
+		in.Close()
+		opt.SlabBytes = sb
+		if in, err = grid.Open(input, opt); err != nil {
+			return finish("failed", err)
+		}
+	}
 	defer in.Close()
 	var used []string
 	for _, b := range in.Bindings() {
@@ -551,7 +566,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	wopt.HistoryLine = fmt.Sprintf("%s: warmrain %s process %s", time.Now().UTC().Format("2006-01-02T15:04:05Z"), Version(), joinArgs(j.args))
 	wopt.Globals = j.globals(id)
-	vars := gridVars(j.defs, strings.Join(used, " "), j.o.pack)
+	vars = gridVars(j.defs, strings.Join(used, " "), j.o.pack)
 	if j.o.quantize > 0 {
 		for k := range vars {
 			if vars[k].Type == grid.Float32 {
@@ -603,6 +618,42 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		rec.ScreenedFraction = math.Round(float64(screened.Load())/float64(rec.Columns)*1e4) / 1e4
 	}
 	return finish("done", nil)
+}
+
+// defaultMemoryMB is the default memory bound of one process (README: Speed and memory).
+const defaultMemoryMB = 256
+
+// memoryPlan estimates the memory of processing in (grid.EstimateMemory, from
+// its chunking) and returns the slab budget to read it with: the chosen one
+// when it fits in --memory-mb, a smaller one when that brings it under the
+// bound (inputs of many small chunks), or an error with the estimate and the
+// fix when no slab size can (a chunk too large to hold).
+func (j *processJob) memoryPlan(in *grid.Input, vars []grid.OutputVar) (int, error) {
+	bound := int64(j.o.memoryMB) << 20
+	sb := j.o.slabMB << 20
+	est := in.EstimateMemory(vars, sb)
+	if est.Total() <= bound {
+		return sb, nil
+	}
+	for s := sb / 2; s >= 1<<20; s /= 2 {
+		if e := in.EstimateMemory(vars, s); e.Total() <= bound {
+			return s, nil
+		}
+	}
+	var dims []string
+	for _, d := range in.Layout.Dims {
+		n := min(d.Len, 512)
+		if len(dims) < len(in.Layout.Dims)-2 {
+			n = 1
+		}
+		dims = append(dims, fmt.Sprintf("%s/%d", d.Name, n))
+	}
+	why := "its chunks are too small (each cached chunk costs bookkeeping)"
+	if est.MaxChunk > bound/4 {
+		why = fmt.Sprintf("one chunk of %s holds %d MB decompressed", est.MaxChunkVar, est.MaxChunk>>20)
+	}
+	return 0, fmt.Errorf("%s: reading it needs about %s, more than --memory-mb %d: %s. Rechunk it first, e.g. nccopy -c '%s' %s rechunked.nc, or raise --memory-mb",
+		in.Path, est, j.o.memoryMB, why, strings.Join(dims, ","), in.Path)
 }
 
 // taskID names the batch task a record comes from: the Slurm job (and array
