@@ -277,11 +277,6 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			mode = modeNetCDF4
 		}
 	}
-	ncid, err := ncCreate(o.Tmp, mode)
-	if err != nil {
-		return werr("", err, "cannot create")
-	}
-	o.ncid, o.open = ncid, true
 	// Which variables to copy.
 	var copyVars []*VarInfo
 	if opt.Mode == CopyInput {
@@ -293,6 +288,20 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			copyVars = append(copyVars, in.Info.Var(c))
 		}
 	}
+	// Copies are exact: a variable of a type the classic model lacks (an int64
+	// time coordinate, unsigned ids) makes the output a netCDF-4 file that
+	// keeps the type, instead of a conversion to double.
+	exact := false
+	for _, v := range copyVars {
+		if t, ok := classicType(v.Type); ok && t != v.Type {
+			exact, mode = true, modeNetCDF4
+		}
+	}
+	ncid, err := ncCreate(o.Tmp, mode)
+	if err != nil {
+		return werr("", err, "cannot create")
+	}
+	o.ncid, o.open = ncid, true
 	// Dimensions, in the input's order.
 	need := map[int]bool{}
 	for _, d := range in.Layout.Dims {
@@ -330,6 +339,9 @@ func (o *Output) defineIO(opt WriteOptions) error {
 	var jobs []copyJob
 	for _, v := range copyVars {
 		t, ok := classicType(v.Type)
+		if exact && ok {
+			t = v.Type
+		}
 		if !ok {
 			return &VarError{File: in.Path, Var: v.Name, Problem: "has type string, which a netCDF-4 classic model output cannot hold; use the new-file mode", Err: ErrLayout}
 		}

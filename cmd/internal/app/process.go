@@ -14,6 +14,7 @@ import (
 	"runtime"
 	"runtime/debug"
 	"runtime/pprof"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -566,6 +567,9 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	wopt.HistoryLine = fmt.Sprintf("%s: warmrain %s process %s", time.Now().UTC().Format("2006-01-02T15:04:05Z"), Version(), joinArgs(j.args))
 	wopt.Globals = j.globals(id)
+	if j.o.augment {
+		wopt.Globals = keepInputGlobals(wopt.Globals, in.Info)
+	}
 	vars = gridVars(j.defs, strings.Join(used, " "), j.o.pack)
 	if j.o.quantize > 0 {
 		for k := range vars {
@@ -752,6 +756,28 @@ func autoconvRole(p microphys.Params) string {
 		return " (autoconversion, default)"
 	}
 	return " (autoconversion, --autoconversion " + p.Autoconv.String() + ")"
+}
+
+// keepInputGlobals: in a copy of the input (--augment) the input's own
+// descriptive attributes are kept and warmrain's are added after them, not
+// substituted (a "not for science" comment of the data provider must stay).
+func keepInputGlobals(ours []grid.Global, info *grid.FileInfo) []grid.Global {
+	out := slices.Clone(ours)
+	for k, g := range out {
+		switch g.Name {
+		case "title", "summary", "comment", "source", "references":
+		default:
+			continue
+		}
+		a, ok := info.Global(g.Name)
+		if !ok {
+			continue
+		}
+		if old, _ := a.Text(); strings.TrimSpace(old) != "" {
+			out[k].Value = old + "\nwarmrain: " + g.Value
+		}
+	}
+	return out
 }
 
 func referencesText(p microphys.Params) string {
