@@ -103,7 +103,7 @@ func runProcess(e *env, args []string) error {
 	_ = fs.MarkHidden("cpu-profile")
 	fs.BoolVar(&o.stats, "pipeline-stats", false, "developers: print the busy time of each pipeline stage per file on stderr")
 	_ = fs.MarkHidden("pipeline-stats")
-	fs.StringVar(&o.slot, "child-slot", "", "internal")
+	fs.StringVar(&o.slot, "child-slot", "", "internal: run as a worker process of a batch")
 	_ = fs.MarkHidden("child-slot")
 	_ = fs.MarkHidden("io-only")
 	o.phys = addPhysicsFlags(fs)
@@ -278,7 +278,9 @@ func runProcess(e *env, args []string) error {
 	} else {
 		r := job.one(ctx, inputs[mine[0]], outputs[mine[0]], true)
 		recs = append(recs, r)
-		if err := man.Add(r); err != nil {
+		mr := r
+		mr.Error = batch.Truncated(r.Error, batch.MaxErrorText) // the whole text is the command's error
+		if err := man.Add(mr); err != nil {
 			fmt.Fprintf(job.e.stderr, "warmrain: %v\n", err)
 			unrecorded++
 		}
@@ -965,16 +967,6 @@ func (j *processJob) runChild(ctx context.Context) error {
 		return silentFailure{} // the parent reports
 	}
 	return nil
-}
-
-func parseSlot(s string) (k, n int, err error) {
-	a, b, ok := strings.Cut(s, "/")
-	k, e1 := strconv.Atoi(a)
-	n, e2 := strconv.Atoi(b)
-	if !ok || e1 != nil || e2 != nil || n < 1 || k < 0 || k >= n {
-		return 0, 0, fmt.Errorf("want k/n, got %q", s)
-	}
-	return k, n, nil
 }
 
 // testCrashEnv: in a worker process, a file whose input path contains this
