@@ -2,7 +2,7 @@
 GO ?= go
 BIN := bin/warmrain
 
-.PHONY: all deps build demo test check bench fuzz clean
+.PHONY: all deps build demo test faults check bench fuzz clean
 
 all: build
 
@@ -19,6 +19,10 @@ test: deps
 	$(GO) test ./...
 	@test -z "$$(gofmt -l $$(git ls-files '*.go'))" || { echo "gofmt needed:"; gofmt -l $$(git ls-files '*.go'); exit 1; }
 	$(GO) vet ./...
+
+# The fault storms of process (kill -9, signals, full disks), left out of make test.
+faults: deps
+	$(GO) test -tags faults -run TestFaults -timeout 20m ./cmd/internal/app
 
 bench: build
 	bash bench/run.sh

@@ -166,8 +166,12 @@ func runProcess(e *env, args []string) error {
 		if err == nil {
 			return fmt.Errorf("output %s is not a folder (several inputs need an output folder)", o.output)
 		}
-		// A missing output folder is made, once its parent exists (a typing
-		// error in a parent folder should not grow a tree of folders).
+		if !strings.HasSuffix(o.output, "/") {
+			return fmt.Errorf("output folder %s does not exist; several inputs need a folder: end the output with / to have it made", o.output)
+		}
+		// A missing output folder (named with a final /) is made, once its
+		// parent exists (a typing error in a parent folder should not grow a
+		// tree of folders).
 		parent := filepath.Dir(filepath.Clean(o.output))
 		if st, err := os.Stat(parent); err != nil || !st.IsDir() {
 			return fmt.Errorf("output folder %s does not exist, nor does its parent folder %s; create them first (several inputs, or an output ending in /, need a folder)", o.output, parent)
