@@ -406,4 +406,3 @@ func TestFaults(t *testing.T) {
 		}
 	})
 }
-
