@@ -111,7 +111,11 @@ func ends(path string) (first, last byte, err error) {
 func sameAsInput(path string, inputs []string) (string, bool) {
 	abs, _ := filepath.Abs(path)
 	st, statErr := os.Stat(path)
+	var files []string
 	for _, in := range inputs {
+		files = append(files, SceneParts(in)...)
+	}
+	for _, in := range files {
 		lp := LocalPath(in)
 		if lp == "" {
 			continue
