@@ -66,44 +66,6 @@ func runTool(t *testing.T, name string, args ...string) (code int, stdout, stder
 	return code, o.String(), e.String()
 }
 
-// started is a warmrain child process and its stderr.
-type started struct {
-	cmd    *exec.Cmd
-	stderr *strings.Builder
-	done   chan struct{}
-	err    error
-}
-
-func start(t *testing.T, exe string, args ...string) *started {
-	t.Helper()
-	s := &started{cmd: exec.Command(exe, args...), stderr: &strings.Builder{}, done: make(chan struct{})}
-	s.cmd.Stderr = s.stderr
-	if err := s.cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	go func() { s.err = s.cmd.Wait(); close(s.done) }()
-	t.Cleanup(func() {
-		select {
-		case <-s.done:
-		default:
-			_ = s.cmd.Process.Kill()
-			<-s.done
-		}
-	})
-	return s
-}
-
-// wait waits for the process (at most two minutes) and returns its exit code (-1 for a signal).
-func (s *started) wait(t *testing.T) int {
-	t.Helper()
-	select {
-	case <-s.done:
-	case <-time.After(2 * time.Minute):
-		t.Fatalf("process still running after two minutes; stderr:\n%s", s.stderr)
-	}
-	return s.cmd.ProcessState.ExitCode()
-}
-
 // tmpFiles lists the temporary outputs (".NAME.tmp-XXXX") in dir.
 func tmpFiles(t *testing.T, dir string) []string {
 	t.Helper()
@@ -114,28 +76,6 @@ func tmpFiles(t *testing.T, dir string) []string {
 		}
 	}
 	return out
-}
-
-// waitWriting waits until a new entry appears in dir (a temporary output, or
-// the output itself if it were written in place: the process is writing) and
-// returns; ok is false if the process ended first.
-func waitWriting(t *testing.T, s *started, dir string, before []string) (time.Time, bool) {
-	t.Helper()
-	deadline := time.Now().Add(2 * time.Minute)
-	for time.Now().Before(deadline) {
-		for _, n := range dirNames(t, dir) {
-			if !slices.Contains(before, n) {
-				return time.Now(), true
-			}
-		}
-		select {
-		case <-s.done:
-			return time.Now(), false
-		case <-time.After(2 * time.Millisecond):
-		}
-	}
-	t.Fatalf("nothing written in %s after two minutes; stderr:\n%s", dir, s.stderr)
-	return time.Time{}, false
 }
 
 // dataDigest is the SHA-256 of every variable's decoded values (NaN as one bit
@@ -225,18 +165,6 @@ func lintClean(t *testing.T, path string) {
 // without the collector drop (--no-collector) so that one file takes seconds:
 // what is tested is the writing.
 func fileExists(p string) bool { _, err := os.Stat(p); return err == nil }
-
-// copyBytes copies a file's bytes.
-func copyBytes(t *testing.T, src, dst string) {
-	t.Helper()
-	b, err := os.ReadFile(src)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(dst, b, 0o644); err != nil {
-		t.Fatal(err)
-	}
-}
 
 // manifest reads a JSON-lines manifest (absent: no records).
 func manifest(t *testing.T, path string) []map[string]any {
@@ -330,18 +258,4 @@ func TestDeterminism(t *testing.T) {
 			t.Errorf("a rerun without --redo rewrote %s", n)
 		}
 	}
-}
-
-// linkInputs hard-links file under each name in dir and returns the new paths.
-func linkInputs(t *testing.T, file, dir string, names ...string) []string {
-	t.Helper()
-	var paths []string
-	for _, n := range names {
-		p := filepath.Join(dir, n)
-		if err := os.Link(file, p); err != nil {
-			t.Fatal(err)
-		}
-		paths = append(paths, p)
-	}
-	return paths
 }
