@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
 	"os/exec"
 	"regexp"
 	"strings"
@@ -121,8 +122,7 @@ func (p *Pool) Run(ctx context.Context, tasks []string, answer func(task int, a 
 				}
 				var a Answer
 				if _, err := io.WriteString(c.stdin, tasks[t]+"\n"); err == nil {
-					m, ok := <-c.lines
-					if ok {
+					if m, ok := c.answer(); ok {
 						a = Answer{Line: m.line, TooLong: m.tooLong}
 					}
 				}
@@ -150,12 +150,32 @@ type line struct {
 }
 
 type child struct {
-	cmd     *exec.Cmd
-	stdin   io.WriteCloser
-	lines   chan line
-	errDone chan struct{}
-	crash   strings.Builder // the start of a Go crash report on the child's stderr
-	mu      sync.Mutex
+	cmd            *exec.Cmd
+	stdin          io.WriteCloser
+	stdout, stderr io.Closer
+	lines          chan line
+	errDone        chan struct{}
+	exited         chan struct{} // closed when the process has ended (state is set)
+	state          *os.ProcessState
+	crash          strings.Builder // the start of a Go crash report on the child's stderr
+	mu             sync.Mutex
+}
+
+// answer waits for the child's next answer line; ok is false when the child
+// ended without one. A process that ended is not waited on through its pipes
+// (a process it started may still hold them).
+func (c *child) answer() (line, bool) {
+	select {
+	case m, ok := <-c.lines:
+		return m, ok
+	case <-c.exited:
+		select { // an answer written just before the end
+		case m, ok := <-c.lines:
+			return m, ok
+		case <-time.After(time.Second):
+			return line{}, false
+		}
+	}
 }
 
 func (p *Pool) start() (*child, error) {
@@ -165,7 +185,7 @@ func (p *Pool) start() (*child, error) {
 	}
 	// A child whose parent dies (kill -9) is told to stop cleanly.
 	cmd.SysProcAttr.Pdeathsig = syscall.SIGTERM
-	c := &child{cmd: cmd, lines: make(chan line, 4), errDone: make(chan struct{})}
+	c := &child{cmd: cmd, lines: make(chan line, 4), errDone: make(chan struct{}), exited: make(chan struct{})}
 	var err error
 	if c.stdin, err = cmd.StdinPipe(); err != nil {
 		return nil, err
@@ -181,6 +201,13 @@ func (p *Pool) start() (*child, error) {
 	if err := cmd.Start(); err != nil {
 		return nil, err
 	}
+	c.stdout, c.stderr = stdout, stderr
+	// The process is waited on directly, not through cmd.Wait, which would
+	// also wait for the pipes to be closed by every process holding them.
+	go func() {
+		c.state, _ = cmd.Process.Wait()
+		close(c.exited)
+	}()
 	go readLines(stdout, p.MaxAnswer, c.lines)
 	go c.copyStderr(stderr, p.Stderr)
 	return c, nil
@@ -254,13 +281,38 @@ func (c *child) signal(s syscall.Signal) {
 	}
 }
 
-// finish tells the child that no task comes (it exits) and waits for it.
+// finish tells the child that no task comes (it exits) and waits for it
+// (SIGKILL after 30 s).
 func (c *child) finish() {
 	c.stdin.Close()
-	for range c.lines {
+	select {
+	case <-c.exited:
+	case <-time.After(30 * time.Second):
+		c.signal(syscall.SIGKILL)
+		<-c.exited
 	}
-	<-c.errDone
-	_ = c.cmd.Wait()
+	c.release()
+}
+
+// release closes the parent's ends of the pipes once the readers are done, or
+// after a second (a process the child started may keep them open).
+func (c *child) release() {
+	done := make(chan struct{})
+	go func() {
+		for range c.lines {
+		}
+		<-c.errDone
+		close(done)
+	}()
+	select {
+	case <-done:
+	case <-time.After(time.Second):
+		c.stdout.Close()
+		c.stderr.Close()
+		<-done
+	}
+	c.stdout.Close()
+	c.stderr.Close()
 }
 
 var signalName = regexp.MustCompile(`\b(SIG[A-Z]+)\b`)
@@ -268,25 +320,27 @@ var signalName = regexp.MustCompile(`\b(SIG[A-Z]+)\b`)
 // death waits for a child that stopped answering and says how it ended.
 func (c *child) death() *Death {
 	c.stdin.Close()
-	go func() { // should it still run (it closed its stdout): stop it
-		select {
-		case <-c.errDone:
-		case <-time.After(10 * time.Second):
-			c.signal(syscall.SIGKILL)
-		}
-	}()
-	for range c.lines {
+	select { // should it still run (it closed its stdout): stop it
+	case <-c.exited:
+	case <-time.After(10 * time.Second):
+		c.signal(syscall.SIGKILL)
+		<-c.exited
 	}
-	<-c.errDone
-	err := c.cmd.Wait()
-	d := &Death{ExitCode: c.cmd.ProcessState.ExitCode()}
+	c.release()
+	d := &Death{ExitCode: -1}
+	if c.state != nil {
+		d.ExitCode = c.state.ExitCode()
+	}
 	c.mu.Lock()
 	crash := c.crash.String()
 	c.mu.Unlock()
 	first, _, _ := strings.Cut(strings.TrimSpace(crash), "\n")
-	if ws, ok := c.cmd.ProcessState.Sys().(syscall.WaitStatus); ok && ws.Signaled() {
-		d.Signal = sigName(ws.Signal())
-	} else if m := signalName.FindStringSubmatch(crash); m != nil {
+	if c.state != nil {
+		if ws, ok := c.state.Sys().(syscall.WaitStatus); ok && ws.Signaled() {
+			d.Signal = sigName(ws.Signal())
+		}
+	}
+	if m := signalName.FindStringSubmatch(crash); d.Signal == "" && m != nil {
 		d.Signal = m[1]
 	}
 	switch {
@@ -301,7 +355,7 @@ func (c *child) death() *Death {
 	case first != "":
 		d.Message = fmt.Sprintf("the worker process crashed while working on this file (%s); the other files were not affected", first)
 	default:
-		d.Message = fmt.Sprintf("the worker process ended without a result (%v)", err)
+		d.Message = fmt.Sprintf("the worker process ended without a result (%v)", c.state)
 	}
 	return d
 }
