@@ -144,20 +144,6 @@ func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output
 	if err := checkVars(path, in, vars, opt); err != nil {
 		return nil, err
 	}
-	if opt.Mode == CopyInput {
-		// A copy holds the root group: refuse rather than drop sub-groups.
-		var groups []string
-		var err error
-		if e := onIO(func() { groups, err = ncSubGroupNames(in.ncid) }); e != nil {
-			err = e
-		}
-		if err == nil && len(groups) > 0 {
-			err = &VarError{File: in.Path, Problem: fmt.Sprintf("has sub-groups (%s) that a copy of the input would lose; copies hold the root group only: use the new-file mode", strings.Join(groups, ", ")), Err: ErrLayout}
-		}
-		if err != nil {
-			return nil, err
-		}
-	}
 	dir := filepath.Dir(path)
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return nil, &VarError{File: path, Problem: fmt.Sprintf("output folder %q does not exist", dir), Err: os.ErrNotExist}
