@@ -152,11 +152,14 @@ func isURL(path string) bool { return strings.Contains(path, "://") }
 // libnetcdf sees them.
 func checkReadable(path string) error {
 	if isURL(path) {
-		return nil
+		return checkZarrStore(path)
 	}
 	st, err := os.Stat(path)
 	if err != nil {
 		return err
+	}
+	if st.IsDir() && isZarrDir(path) {
+		return zarrDirError(path)
 	}
 	if st.IsDir() {
 		return &VarError{File: path, Problem: "is a directory, not a netCDF file (an NCZarr store is opened as file:///abs/path#mode=nczarr,file)", Err: ErrNotNetCDF}

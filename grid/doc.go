@@ -88,24 +88,34 @@
 // # Layout
 //
 // All bound inputs must have exactly LWP's dimensions (else ErrLayout, "LWP and
-// r_e are on different grids ..."). The last two are the spatial dimensions (y,
-// x); the others are leading dimensions (time, ...), possibly unlimited. 1-D
-// coordinate variables must be strictly monotonic (descending latitude is fine)
-// and without missing values; 2-D latitude/longitude are found through LWP's
-// coordinates attribute. Zero-length dimensions are an error. Layout.Coords lists
-// what an output keeps: coordinate variables, auxiliary coordinates, their bounds
-// and the grid_mapping variable.
+// r_e are on different grids ..."). A column is one horizontal location at one
+// index of every other dimension. HorizontalOf finds LWP's horizontal dimensions
+// from the metadata: two (a grid with 1-D latitude/longitude coordinate
+// variables, a swath with 2-D ones named by the coordinates attribute, or a grid
+// without coordinates), one (cells: an unstructured mesh or a list of sites, with
+// 1-D auxiliary latitude/longitude in degrees or radians, or none) or none (a time
+// series at one site). Layout.Shape says which; the other dimensions (time,
+// ensemble member, ...) are leading dimensions, possibly unlimited, in any order.
+// 1-D coordinate variables must be strictly monotonic (descending latitude is
+// fine) and without missing values. Zero-length dimensions are an error.
+// Layout.Coords lists what an output keeps: coordinate variables, auxiliary
+// coordinates, their bounds and the grid_mapping variable. The time coordinate of
+// one of LWP's dimensions is read at Open (ParseTimeAxis: CF units, CDO's "day as
+// %Y%m%d.%f", "<unit> since midnight" with the day in a global attribute; anything
+// else is an ErrUnits error), and outputs hold it in CF units.
 //
 // # Slabs and memory
 //
-// The grid is processed in slabs: one index of each leading dimension and a tile
+// The grid is processed in slabs, cut along LWP's last two dimensions whatever
+// their meaning (a 1-D LWP is one row): one index of each other dimension and a tile
 // of rows and columns aligned with LWP's chunks, within the budget
 // OpenOptions.SlabBytes (default 32 MiB) counting the float64 and raw buffers of
 // all inputs and outputs of one slab. A chunk that fits the budget is read whole
 // (tiles of whole chunks, as many across as fit, or blocks of whole chunk rows); a
 // larger chunk is read in pieces of its column (cx wide, a divisor of its height
 // high when a good one exists), each column band from top to bottom before the
-// next one. Contiguous and netCDF-3 inputs are read in blocks of whole rows. Each
+// next one. Contiguous and netCDF-3 inputs are read in blocks of whole rows, or in
+// pieces of one row when a row exceeds the budget (a long mesh or series). Each
 // input variable's chunk cache is set to hold every chunk one slab (or one row of
 // slabs across a band) touches, about one chunk per variable, so each chunk is
 // decompressed once and memory does not grow with the grid. Process keeps three
@@ -145,8 +155,11 @@
 // The memory bound holds for any number of rows, columns, leading indices and
 // files. Inputs chunked unlike LWP may have a chunk decompressed twice (by
 // neighbouring bands), and blocks of whole rows of a contiguous LWP read chunked
-// inputs through caches that hold a chunk row. libnetcdf 4.9.0 cannot hold unlimited dimensions in NCZarr stores and crashes
-// opening an NCZarr store that holds a scalar variable (ncdump too).
+// inputs through caches that hold a chunk row. libnetcdf 4.9.0 cannot hold unlimited dimensions in NCZarr stores, crashes
+// opening an NCZarr store that holds a scalar variable (ncdump too) and reads
+// compressed Zarr chunks as raw bytes: Open, Describe and OpenReader read the
+// metadata of a local store first and refuse those stores (ErrZarr), and stores
+// in zip or S3 storage, whose metadata cannot be checked.
 //
 // # Generic reading
 //

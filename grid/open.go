@@ -66,22 +66,36 @@ type Binding struct {
 	vi    *VarInfo // the variable, with its source
 }
 
-// Layout is the grid shared by every bound input (LWP's dimensions).
+// Layout is the set of columns shared by every bound input (LWP's dimensions).
+// A column is one horizontal location at one index of every other dimension.
 type Layout struct {
-	Dims    []DimInfo // LWP's dimensions, slowest first
-	Leading []DimInfo // all but the last two
-	Y, X    DimInfo   // the spatial dimensions (the last two)
+	Dims []DimInfo // LWP's dimensions, slowest first
+	// Shape is grid (two horizontal dimensions), cells (one: a mesh or a list of
+	// sites) or series (none: a time series at one site); see HorizontalOf.
+	Shape Shape
+	// Horizontal are the horizontal dimensions and Leading all the others (time,
+	// ensemble member, ...), each in file order.
+	Horizontal, Leading []DimInfo
+	// Y and X are a grid's horizontal dimensions; cells have X only; both are
+	// zero for a series.
+	Y, X DimInfo
 	// Lat and Lon name the latitude and longitude variables: 1-D coordinate
-	// variables of Y and X, or 2-D (Y, X) auxiliary coordinates named by LWP's
-	// coordinates attribute. Empty when none was found.
+	// variables of Y and X, 2-D (Y, X) auxiliary coordinates of a swath, 1-D
+	// auxiliary coordinates of cells, or a site's scalars. Empty when none was
+	// found. LatLonRank is their rank, LatLonRadians whether they are in radians.
 	Lat, Lon      string
 	LatLon2D      bool
+	LatLonRank    int
+	LatLonRadians bool
 	LatDescending bool
-	GridMapping   string // grid_mapping container variable, or ""
+	// Time is the time axis of one of LWP's dimensions (nil when none); an
+	// output keeps it in CF units (TimeAxis.CFUnits).
+	Time        *TimeAxis
+	GridMapping string // grid_mapping container variable, or ""
 	// Coords lists every variable an output keeps: coordinate variables of the
 	// dimensions, auxiliary coordinates, their bounds, the grid_mapping variable.
 	Coords []string
-	// Columns is the number of grid columns (product of all dimension lengths).
+	// Columns is the number of columns (product of all dimension lengths).
 	Columns int64
 }
 
@@ -208,8 +222,9 @@ func isSDMethod(cm string) bool {
 	return strings.Contains(cm, "standard_deviation") || strings.Contains(cm, "variance")
 }
 
-// candidate variables: numeric, at least 2-D, not a coordinate, auxiliary
-// coordinate, bounds or climatology variable.
+// candidate variables: numeric, at least 1-D (a time series or a list of cells
+// has 1-D data), not a coordinate, auxiliary coordinate, bounds or climatology
+// variable, and, when 1-D, not a latitude or longitude.
 func (in *Input) dataVars() []*VarInfo {
 	skip := map[string]bool{}
 	for i := range in.Info.Vars {
@@ -223,7 +238,11 @@ func (in *Input) dataVars() []*VarInfo {
 	var out []*VarInfo
 	for i := range in.Info.Vars {
 		v := &in.Info.Vars[i]
-		if !v.Type.Numeric() || len(v.Dims) < 2 || skip[v.Name] {
+		if !v.Type.Numeric() || len(v.Dims) < 1 || skip[v.Name] {
+			continue
+		}
+		if len(v.Dims) == 1 && (skip[v.Base()] || baseName(v.Dims[0]) == v.Base() || isLatName(v.Base()) || isLonName(v.Base()) ||
+			v.Text("standard_name") == "latitude" || v.Text("standard_name") == "longitude") {
 			continue
 		}
 		out = append(out, v)
@@ -316,7 +335,7 @@ func (in *Input) bind() error {
 				units, unitsFrom = o.Units, "override"
 			}
 		} else {
-			cands := in.candidates(rule, bound)
+			cands := in.fitRank(rule.Role, highestRank(in.candidates(rule, bound)))
 			if len(cands) > 1 {
 				vs := make([]*VarInfo, len(cands))
 				for k, c := range cands {
@@ -711,8 +730,8 @@ var roleLabel = map[Role]string{RoleLWP: "LWP", RoleRe: "r_e", RoleTau: "tau", R
 func (in *Input) layoutIO() error {
 	lb := in.ref()
 	lv := in.Info.Var(lb.Var)
-	if len(lv.Dims) < 2 {
-		return varErr(ErrLayout, in.Path, lv.Name, "has dimensions %s; expected at least two (..., y, x)", dimsString(lv))
+	if len(lv.Dims) < 1 {
+		return varErr(ErrLayout, in.Path, lv.Name, "is a scalar; expected at least one dimension (time, cells, or y and x)")
 	}
 	for _, b := range in.bindings {
 		if b == nil || b == lb {
@@ -743,8 +762,23 @@ func (in *Input) layoutIO() error {
 		L.Dims = append(L.Dims, d)
 		L.Columns *= int64(d.Len)
 	}
-	n := len(L.Dims)
-	L.Leading, L.Y, L.X = L.Dims[:n-2], L.Dims[n-2], L.Dims[n-1]
+	h := HorizontalOf(in.Info, lv)
+	L.Shape = h.Shape
+	for i, d := range L.Dims {
+		if slices.Contains(h.Dims, i) {
+			L.Horizontal = append(L.Horizontal, d)
+		} else {
+			L.Leading = append(L.Leading, d)
+		}
+	}
+	switch len(L.Horizontal) {
+	case 2:
+		L.Y, L.X = L.Horizontal[0], L.Horizontal[1]
+	case 1:
+		L.X = L.Horizontal[0]
+	}
+	L.Lat, L.Lon, L.LatLonRank, L.LatLonRadians = h.Lat, h.Lon, h.LatLonRank, h.Radians
+	L.LatLon2D = h.LatLonRank == 2
 	add := func(name string) {
 		if name != "" && in.Info.Var(name) != nil && !slices.Contains(L.Coords, name) {
 			L.Coords = append(L.Coords, name)
@@ -756,19 +790,35 @@ func (in *Input) layoutIO() error {
 		if v == nil || len(v.Dims) != 1 || v.Dims[0] != d.Name {
 			continue
 		}
-		desc, err := in.checkMonotonicIO(v)
-		if err != nil {
-			return err
+		if v.Type.Numeric() {
+			desc, err := in.checkMonotonicIO(v)
+			if err != nil {
+				return err
+			}
+			if v.Name == L.Lat {
+				L.LatDescending = desc
+			}
 		}
 		add(v.Name)
-		if d.Name == L.Y.Name && isLat(v) {
-			L.Lat, L.LatDescending = v.Name, desc
-		}
-		if d.Name == L.X.Name && isLon(v) {
-			L.Lon = v.Name
+		if h.Time >= 0 && d.Name == L.Dims[h.Time].Name {
+			ta, err := ParseTimeAxis(in.Info, v)
+			if err != nil {
+				return err
+			}
+			if ta.Absolute {
+				x, err := in.readAllIO(v)
+				if err != nil {
+					return err
+				}
+				if err := ta.CheckTimeValues(in.Path, x); err != nil {
+					return err
+				}
+			}
+			L.Time = ta
 		}
 	}
-	// Auxiliary coordinates named by LWP's coordinates attribute.
+	// Auxiliary coordinates named by LWP's coordinates attribute, and the
+	// latitude and longitude found without it.
 	for _, ref := range strings.Fields(lv.Text("coordinates")) {
 		v := in.Info.Resolve(lv, ref)
 		if v == nil {
@@ -776,14 +826,9 @@ func (in *Input) layoutIO() error {
 		}
 		name := v.Name
 		add(name)
-		if len(v.Dims) == 2 && v.Dims[0] == L.Y.Name && v.Dims[1] == L.X.Name {
-			if isLat(v) && L.Lat == "" {
-				L.Lat, L.LatLon2D = name, true
-			} else if isLon(v) && L.Lon == "" {
-				L.Lon, L.LatLon2D = name, true
-			}
-		}
 	}
+	add(L.Lat)
+	add(L.Lon)
 	findLatLon2D(in.Info, L)
 	// Bounds of every coordinate kept, and the grid mapping.
 	for _, c := range slices.Clone(L.Coords) {

@@ -343,10 +343,15 @@ func (o *Output) defineIO(opt WriteOptions) error {
 		t     Type
 	}
 	var jobs []copyJob
+	ta := in.Layout.Time
 	for _, v := range copyVars {
 		t, ok := classicType(v.Type)
 		if exact && ok {
 			t = v.Type
+		}
+		retime := ta != nil && v.Name == ta.Var && ta.CFUnits != ta.Units
+		if retime && ta.Absolute {
+			t = Double
 		}
 		if !ok {
 			return &VarError{File: in.Path, Var: v.Name, Problem: "has type string, which a netCDF-4 classic model output cannot hold; use the new-file mode", Err: ErrLayout}
@@ -360,7 +365,7 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			return werr(v.Name, err, "cannot define")
 		}
 		if len(dims) > 0 {
-			onGrid := len(v.Dims) >= 2 && slices.Equal(v.DimIDs[len(v.DimIDs)-2:], []int{in.Layout.Y.ID, in.Layout.X.ID})
+			onGrid := o.plan.trailing(v, in.Layout)
 			var chunks []int
 			switch {
 			case onGrid:
@@ -368,7 +373,8 @@ func (o *Output) defineIO(opt WriteOptions) error {
 				for i := range chunks {
 					chunks[i] = 1
 				}
-				chunks[len(dims)-2], chunks[len(dims)-1] = o.chunks[nd-2], o.chunks[nd-1]
+				k := min(2, nd)
+				copy(chunks[len(dims)-k:], o.chunks[nd-k:])
 				for i := range chunks {
 					chunks[i] = min(chunks[i], max(1, v.Shape[i]))
 				}
@@ -386,7 +392,11 @@ func (o *Output) defineIO(opt WriteOptions) error {
 				}
 			}
 		}
-		for _, a := range v.Attrs {
+		attrs := v.Attrs
+		if retime {
+			attrs = retimeAttrs(v.Attrs, ta)
+		}
+		for _, a := range attrs {
 			if strings.HasPrefix(a.Name, "_Quantize") || (a.Name == "_Unsigned" && t != v.Type) {
 				continue
 			}
@@ -475,6 +485,12 @@ func (o *Output) defineIO(opt WriteOptions) error {
 		return werr("", err, "cannot end define mode")
 	}
 	for _, j := range jobs {
+		if ta != nil && j.v.Name == ta.Var && ta.Absolute {
+			if err := copyTimeIO(in, j.v, ta, ncid, j.outID); err != nil {
+				return err
+			}
+			continue
+		}
 		if err := copyDataIO(in, j.v, ncid, j.outID, j.t); err != nil {
 			return err
 		}
@@ -494,6 +510,9 @@ func (o *Output) defineIO(opt WriteOptions) error {
 // along rows, or else columns. For blocks of whole rows (1, ..., ry, cx): the slab
 // height and the widest column count keeping a chunk at most 4 MiB.
 func outputChunks(p *slabPlan, nd int, types []Type) []int {
+	if nd == 1 {
+		return outputChunks(p, 2, types)[1:]
+	}
 	const limit = 4 << 20
 	size := 4
 	for _, t := range types {
@@ -532,6 +551,7 @@ func outputChunks(p *slabPlan, nd int, types []Type) []int {
 // chunk, written whole by one slab, is compressed once, when the next slab's
 // chunks push it out.
 func outputCache(p *slabPlan, chunks []int, size int) (bytes, slots int) {
+	chunks = planChunks(chunks)
 	nd := len(chunks)
 	chunkBytes := size
 	for _, c := range chunks {
@@ -696,6 +716,66 @@ func copyDataIO(in *Input, v *VarInfo, outNC, outID int, t Type) error {
 		return nil
 	}
 	return rec(0)
+}
+
+// retimeAttrs gives a time coordinate's attributes with CF units in place of the
+// ones it was read from, saying so in its comment; the calendar of an absolute
+// axis becomes proleptic_gregorian (the calendar its dates are in).
+func retimeAttrs(attrs []Attr, ta *TimeAxis) []Attr {
+	out := make([]Attr, 0, len(attrs)+1)
+	note := fmt.Sprintf("units converted by warmrain from %q: %s", ta.Units, ta.Note)
+	hasComment, hasCal := false, false
+	for _, a := range attrs {
+		switch a.Name {
+		case "units":
+			a = Attr{Name: "units", Type: Char, Value: ta.CFUnits}
+		case "comment":
+			if s, ok := a.Text(); ok {
+				a = Attr{Name: "comment", Type: Char, Value: s + "\n" + note}
+				hasComment = true
+			}
+		case "calendar":
+			hasCal = true
+			if ta.Absolute {
+				a = Attr{Name: "calendar", Type: Char, Value: "proleptic_gregorian"}
+			}
+		case "_FillValue", "missing_value", "valid_min", "valid_max", "valid_range":
+			if ta.Absolute {
+				continue // in the old units
+			}
+		}
+		out = append(out, a)
+	}
+	if ta.Absolute && !hasCal {
+		out = append(out, Attr{Name: "calendar", Type: Char, Value: "proleptic_gregorian"})
+	}
+	if !hasComment {
+		out = append(out, Attr{Name: "comment", Type: Char, Value: note})
+	}
+	return out
+}
+
+// copyTimeIO writes an absolute time axis converted to its CF units (I/O thread).
+func copyTimeIO(in *Input, v *VarInfo, ta *TimeAxis, outNC, outID int) error {
+	x, err := in.readAllIO(v)
+	if err != nil {
+		return err
+	}
+	for i := range x {
+		x[i] = ta.CFValue(x[i])
+	}
+	if len(x) == 0 {
+		return nil
+	}
+	start := make([]uint64, len(v.Shape))
+	count := make([]uint64, len(v.Shape))
+	for i, n := range v.Shape {
+		count[i] = uint64(n)
+	}
+	if err := ncPutVara(outNC, outID, start, count, unsafe.Pointer(&x[0])); err != nil {
+		return varErr(err, in.Path, v.Name, "write failed while copying the time axis: %v", err)
+	}
+	return nil
 }
 
 // encode converts columns [lo, hi) of an output slab to the stored type.

@@ -45,15 +45,22 @@ type slabPlan struct {
 	straddle bool // slabs may cross a chunk row of LWP
 	b        int  // leading block (see above)
 	maxN     int
+	oneD     bool  // LWP has one dimension: one virtual row of X columns
 	total    int64 // columns
 	count    int   // slabs
 }
 
 func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 	L := in.Layout
-	p := &slabPlan{Y: L.Y.Len, X: L.X.Len, b: 1, total: L.Columns}
-	for _, d := range L.Leading {
-		p.lead = append(p.lead, d.Len)
+	nd := len(L.Dims)
+	p := &slabPlan{b: 1, total: L.Columns, oneD: nd == 1}
+	if p.oneD {
+		p.Y, p.X = 1, L.Dims[0].Len
+	} else {
+		p.Y, p.X = L.Dims[nd-2].Len, L.Dims[nd-1].Len
+		for _, d := range L.Dims[:nd-2] {
+			p.lead = append(p.lead, d.Len)
+		}
 	}
 	perCol := 0
 	for _, b := range in.bindings {
@@ -66,9 +73,9 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 	}
 	cols := max(1, budget/perCol) // columns per slab at most
 	lb := in.ref()
-	nd := len(L.Dims)
 	if lb.Chunks != nil {
-		p.cy, p.cx = lb.Chunks[nd-2], lb.Chunks[nd-1]
+		c := planChunks(lb.Chunks)
+		p.cy, p.cx = c[len(c)-2], c[len(c)-1]
 		if nd > 2 {
 			p.b = lb.Chunks[nd-3]
 			for _, c := range lb.Chunks[:nd-3] {
@@ -81,6 +88,9 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 	p.band, p.rx = p.X, p.X
 	if p.cy == 0 {
 		p.ry = max(1, cols/p.X)
+		if cols < p.X { // rows longer than the budget (a mesh, a long series): pieces of a row
+			p.rx = cols
+		}
 	} else {
 		cy, cx := min(p.cy, p.Y), min(p.cx, p.X)
 		switch {
@@ -109,6 +119,30 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 	p.count = 0
 	p.each(func(int, int, int, int, int) error { p.count++; return nil })
 	return p
+}
+
+// planChunks gives chunk sizes with at least two entries: a 1-D variable's
+// chunks get a leading 1 for the plan's single row.
+func planChunks(c []int) []int {
+	if len(c) == 1 {
+		return []int{1, c[0]}
+	}
+	return c
+}
+
+// trailing reports whether a variable's last dimensions are the ones the plan
+// cuts (LWP's last two, or its only one), so that it can be chunked like a slab.
+func (p *slabPlan) trailing(v *VarInfo, L Layout) bool {
+	k := min(2, len(L.Dims))
+	if len(v.DimIDs) < k {
+		return false
+	}
+	for i := 0; i < k; i++ {
+		if v.DimIDs[len(v.DimIDs)-k+i] != L.Dims[len(L.Dims)-k+i].ID {
+			return false
+		}
+	}
+	return true
 }
 
 // pieceRows picks the height of the pieces of a chunk of cy rows when at most r <
@@ -156,6 +190,10 @@ func (p *slabPlan) each(fn func(lead, y0, ny, x0, nx int) error) error {
 
 // setStart fills start/count (libnetcdf order) for a slab.
 func (p *slabPlan) setStart(start, count []uint64, lead, y0, ny, x0, nx int) {
+	if p.oneD {
+		start[0], count[0] = uint64(x0), uint64(nx)
+		return
+	}
 	k := len(p.lead)
 	for i := k - 1; i >= 0; i-- {
 		start[i] = uint64(lead % p.lead[i])
@@ -175,6 +213,7 @@ func (p *slabPlan) setStart(start, count []uint64, lead, y0, ny, x0, nx int) {
 // aligned with LWP's. Chunks shared by consecutive slabs were touched last, so
 // they are still cached when the next slab reads them.
 func (p *slabPlan) cacheFor(chunks []int, size int) (bytes, slots int) {
+	chunks = planChunks(chunks)
 	nd := len(chunks)
 	cy, cx := chunks[nd-2], chunks[nd-1]
 	chunkBytes := size

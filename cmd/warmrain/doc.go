@@ -315,6 +315,12 @@ Data go to stdout or files; messages go to stderr.
 	several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
 	(susceptibility_vs_lwp.png). Existing files are only replaced with --force.
 
+	Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
+	horizontal dimension), time series at one site, with any leading dimensions (time,
+	ensemble member). Maps need a grid or swath with latitude and longitude; for other
+	files the statistics use every column and stderr says why there are no maps.
+	--region needs latitude and longitude (in degrees or radians) in every file.
+
 	Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 	thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
 	thickness_implausible, and those of the input's quality: input_flag_code,

@@ -78,6 +78,11 @@ type dimReport struct {
 
 type layoutReport struct {
 	Dimensions    []dimReport `json:"dimensions"`
+	Shape         string      `json:"shape"`
+	Time          string      `json:"time,omitempty"`
+	TimeNote      string      `json:"time_note,omitempty"`
+	LatLonRank    int         `json:"latlon_rank"`
+	Radians       bool        `json:"latlon_radians"`
 	Y             string      `json:"y"`
 	X             string      `json:"x"`
 	Leading       []string    `json:"leading"`
@@ -238,7 +243,11 @@ func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid
 	}
 	L := in.Layout
 	lr := &layoutReport{Y: L.Y.Name, X: L.X.Name, Leading: []string{}, Columns: L.Columns, Lat: L.Lat, Lon: L.Lon,
-		LatLon2D: L.LatLon2D, LatDescending: L.LatDescending, GridMapping: L.GridMapping, Coords: L.Coords}
+		LatLon2D: L.LatLon2D, LatDescending: L.LatDescending, GridMapping: L.GridMapping, Coords: L.Coords,
+		Shape: string(L.Shape), LatLonRank: L.LatLonRank, Radians: L.LatLonRadians}
+	if L.Time != nil {
+		lr.Time, lr.TimeNote = L.Time.Var, L.Time.Note
+	}
 	for _, d := range L.Dims {
 		lr.Dimensions = append(lr.Dimensions, dimReport{d.Name, d.Len, d.Unlimited})
 	}
@@ -485,17 +494,32 @@ func (r *inspectReport) writeText(w io.Writer) error {
 		fmt.Fprintln(w, "\nlayout:")
 		tw = tabwriter.NewWriter(w, 0, 0, 1, ' ', 0)
 		fmt.Fprintf(tw, "  dimensions:\t%s\n", dimsText(L.Dimensions))
-		fmt.Fprintf(tw, "  spatial:\ty = %s, x = %s\n", L.Y, L.X)
+		switch L.Shape {
+		case string(grid.ShapeCells):
+			fmt.Fprintf(tw, "  spatial:\tcells along %s (one horizontal dimension: a mesh or a list of sites)\n", L.X)
+		case string(grid.ShapeSeries):
+			fmt.Fprintf(tw, "  spatial:\tnone (a time series at one site)\n")
+		default:
+			fmt.Fprintf(tw, "  spatial:\ty = %s, x = %s\n", L.Y, L.X)
+		}
 		lead := strings.Join(L.Leading, ", ")
 		fmt.Fprintf(tw, "  leading:\t%s\n", orNone(lead))
 		fmt.Fprintf(tw, "  columns:\t%d\n", L.Columns)
 		kind := "1-D"
-		if L.LatLon2D {
+		switch {
+		case L.LatLon2D:
 			kind = "2-D"
+		case L.LatLonRank == 0:
+			kind = "scalar"
+		case L.Shape == string(grid.ShapeCells):
+			kind = "1-D, one per cell"
+		}
+		if L.Radians {
+			kind += ", radians"
 		}
 		if L.Lat != "" {
 			desc := ""
-			if !L.LatLon2D {
+			if !L.LatLon2D && L.Shape == string(grid.ShapeGrid) {
 				desc = ", ascending"
 				if L.LatDescending {
 					desc = ", descending"
@@ -509,6 +533,9 @@ func (r *inspectReport) writeText(w io.Writer) error {
 			fmt.Fprintf(tw, "  longitude:\t%s (%s)\n", L.Lon, kind)
 		} else {
 			fmt.Fprintf(tw, "  longitude:\tnone found\n")
+		}
+		if L.TimeNote != "" {
+			fmt.Fprintf(tw, "  time:\t%s: %s\n", L.Time, L.TimeNote)
 		}
 		fmt.Fprintf(tw, "  grid_mapping:\t%s\n", orNone(L.GridMapping))
 		fmt.Fprintf(tw, "  kept in outputs:\t%s\n", orNone(strings.Join(L.Coords, ", ")))

@@ -38,6 +38,12 @@ valid time steps each cell averaged (map_valid_count.png), POP against LWP for
 several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
 (susceptibility_vs_lwp.png). Existing files are only replaced with --force.
 
+Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
+horizontal dimension), time series at one site, with any leading dimensions (time,
+ensemble member). Maps need a grid or swath with latitude and longitude; for other
+files the statistics use every column and stderr says why there are no maps.
+--region needs latitude and longitude (in degrees or radians) in every file.
+
 Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
 thickness_implausible, and those of the input's quality: input_flag_code,
@@ -303,7 +309,14 @@ type procFile struct {
 	path     string
 	r        *grid.Reader
 	info     *grid.FileInfo
-	dims     []string // of the diagnostics: [time,] y, x
+	dims     []string // of the diagnostics, any of them horizontal (see grid.HorizontalOf)
+	hz       grid.Horizontal
+	shape    []int // the lengths of dims
+	steps    []int // indices of the dimensions that are not horizontal, file order
+	times    *grid.TimeAxis
+	timeVals []float64 // seconds since 1970 along dims[hz.Time]
+	noMaps   string    // why this file gives no maps ("" when it does)
+	window   summary.Window
 	scene    summary.Scene
 	lwp      string
 	rate     string // "" when absent
@@ -319,12 +332,12 @@ type varIn struct {
 	conv                   grid.Converter
 }
 
-func openProcessed(path string) (*procFile, error) {
+func openProcessed(path string, window summary.Window) (*procFile, error) {
 	r, err := grid.OpenReader(path)
 	if err != nil {
 		return nil, err
 	}
-	p := &procFile{path: path, r: r, info: r.Info(), vars: map[string]varIn{}}
+	p := &procFile{path: path, r: r, info: r.Info(), vars: map[string]varIn{}, window: window}
 	if err := p.bind(); err != nil {
 		r.Close()
 		return nil, err
@@ -344,8 +357,8 @@ func (p *procFile) bind() error {
 		return &grid.VarError{File: p.path, Problem: fmt.Sprintf("has no %s or no %s; expected a file written by 'warmrain process'", ndVarName, popVarName), Err: grid.ErrNoVariable}
 	}
 	p.dims = nd.Dims
-	if len(p.dims) < 2 || len(p.dims) > 3 {
-		return p.errf(ndVarName, "has dimensions %v; expected (time, y, x) or (y, x)", nd.Dims)
+	if len(p.dims) < 1 {
+		return p.errf(ndVarName, "is a scalar; expected the dimensions of the processed input")
 	}
 	// LWP: liquid_water_path, else the one variable with the LWP standard name.
 	if fi.Var(lwpVarName) != nil {
@@ -450,76 +463,97 @@ func equalStrings(a, b []string) bool {
 	return true
 }
 
-// scan reads the coordinates and the time axis.
+// scan finds the horizontal dimensions, reads the coordinates (if any) and the
+// time axis (if any). A grid with latitude and longitude gives maps; cells (a mesh
+// or a list of sites), a series, and a grid without coordinates give the binned
+// statistics only, and p.noMaps says why.
 func (p *procFile) scan() error {
 	fi := p.info
-	n := len(p.dims)
-	yd, _ := fi.Dim(p.dims[n-2])
-	xd, _ := fi.Dim(p.dims[n-1])
-	s := summary.Scene{NY: yd.Len, NX: xd.Len, NT: 1}
-	isLat := func(v *grid.VarInfo) bool {
-		return v.Text("standard_name") == "latitude" || strings.HasPrefix(v.Text("units"), "degrees_n") || strings.HasPrefix(v.Text("units"), "degree_n")
+	v := fi.Var(ndVarName)
+	p.hz = grid.HorizontalOf(fi, v)
+	h := p.hz
+	p.shape = append([]int(nil), v.Shape...)
+	s := summary.Scene{NY: 1, NX: 1, NT: 1}
+	switch len(h.Dims) {
+	case 2:
+		s.NY, s.NX = p.shape[h.Dims[0]], p.shape[h.Dims[1]]
+	case 1:
+		s.NX = p.shape[h.Dims[0]]
 	}
-	isLon := func(v *grid.VarInfo) bool {
-		return v.Text("standard_name") == "longitude" || strings.HasPrefix(v.Text("units"), "degrees_e") || strings.HasPrefix(v.Text("units"), "degree_e")
+	for i := range p.dims {
+		if !containsInt(h.Dims, i) {
+			p.steps = append(p.steps, i)
+		}
 	}
 	read := func(name string) ([]float64, error) {
 		d, _, err := p.r.Read(name, nil, nil)
 		return d, err
 	}
-	ylat, xlon := fi.Var(yd.Name), fi.Var(xd.Name)
-	var err error
-	if ylat != nil && xlon != nil && isLat(ylat) && isLon(xlon) && len(ylat.Dims) == 1 && len(xlon.Dims) == 1 {
-		if s.Lat, err = read(ylat.Name); err != nil {
+	if h.Lat != "" {
+		lat, err := read(h.Lat)
+		if err != nil {
 			return err
 		}
-		if s.Lon, err = read(xlon.Name); err != nil {
+		lon, err := read(h.Lon)
+		if err != nil {
 			return err
 		}
-	} else {
-		for _, c := range strings.Fields(fi.Var(ndVarName).Text("coordinates")) {
-			v := fi.Var(c)
-			if v == nil || !equalStrings(v.Dims, p.dims[n-2:]) {
-				continue
+		if h.Radians {
+			for i := range lat {
+				lat[i] *= 180 / math.Pi
 			}
-			switch {
-			case isLat(v):
-				s.Lat, err = read(c)
-			case isLon(v):
-				s.Lon, err = read(c)
-			}
-			if err != nil {
-				return err
+			for i := range lon {
+				lon[i] *= 180 / math.Pi
 			}
 		}
-		if s.Lat == nil || s.Lon == nil {
-			return p.errf(ndVarName, "no latitude/longitude found: expected 1-D coordinate variables %s and %s, or 2-D ones named in the coordinates attribute", yd.Name, xd.Name)
+		lv, lo := fi.Var(h.Lat), fi.Var(h.Lon)
+		switch {
+		case h.LatLonRank == 1 && h.Shape == grid.ShapeGrid && lv.Dims[0] == p.dims[h.Dims[0]]:
+			s.Lat, s.Lon = lat, lon
+		case h.LatLonRank == 1 && h.Shape == grid.ShapeGrid: // (lon, lat) order: per-cell coordinates
+			s.Lat, s.Lon = make([]float64, s.NY*s.NX), make([]float64, s.NY*s.NX)
+			for y := 0; y < s.NY; y++ {
+				for x := 0; x < s.NX; x++ {
+					s.Lat[y*s.NX+x], s.Lon[y*s.NX+x] = lat[x], lon[y]
+				}
+			}
+		case h.LatLonRank == 2 && !equalStrings(lv.Dims, []string{p.dims[h.Dims[0]], p.dims[h.Dims[1]]}) || !equalStrings(lv.Dims, lo.Dims):
+			p.noMaps = fmt.Sprintf("its latitude %s has dimensions %v, not those of the diagnostics' horizontal grid", h.Lat, lv.Dims)
+		default: // 2-D swath, 1-D per cell, scalars of a site
+			s.Lat, s.Lon = lat, lon
 		}
 	}
-	if n == 3 {
-		td, _ := fi.Dim(p.dims[0])
-		s.NT = td.Len
-		tv := fi.Var(td.Name)
-		if tv == nil {
-			return p.errf(td.Name, "is missing: the leading dimension %s needs a time coordinate variable", td.Name)
-		}
-		switch cal := strings.ToLower(tv.Text("calendar")); cal {
-		case "", "standard", "gregorian", "proleptic_gregorian":
-		default:
-			return p.errf(td.Name, "calendar %q: only the standard (Gregorian) calendar is supported", cal)
-		}
-		c, err := grid.NewConverter(tv.Text("units"), "seconds since 1970-01-01 00:00:00 UTC")
+	switch {
+	case p.noMaps != "":
+	case h.Shape == grid.ShapeCells:
+		p.noMaps = fmt.Sprintf("its columns lie along the single horizontal dimension %s (an unstructured mesh or a list of sites), which has no (y, x) grid to map", p.dims[h.Dims[0]])
+	case h.Shape == grid.ShapeSeries:
+		p.noMaps = "it is a time series at one site (no horizontal dimension)"
+	case s.Lat == nil:
+		p.noMaps = "it has no latitude and longitude (no coordinate variables of its horizontal dimensions, none named by the coordinates attribute)"
+	}
+	if h.Time >= 0 {
+		td := p.dims[h.Time]
+		tv := fi.Var(td)
+		ta, err := grid.ParseTimeAxis(fi, tv)
 		if err != nil {
-			return p.errf(td.Name, "units %q: expected \"<unit> since <date>\" (%v)", tv.Text("units"), err)
+			return err
 		}
-		t, err := read(td.Name)
+		if !ta.Standard {
+			if !p.window.IsZero() {
+				return p.errf(td, "calendar %q: --from and --to need the standard (Gregorian) calendar", ta.Calendar)
+			}
+			p.scene = s
+			return s.Check()
+		}
+		t, err := read(td)
 		if err != nil {
 			return err
 		}
 		for i := range t {
-			t[i] = c.Convert(t[i])
+			t[i] = ta.Seconds(t[i])
 		}
-		s.Time = t
+		p.times, p.timeVals = ta, t
 	}
 	if err := s.Check(); err != nil {
 		return p.errf(ndVarName, "%v", err)
@@ -528,19 +562,134 @@ func (p *procFile) scan() error {
 	return nil
 }
 
-// step reads time step t of the named diagnostics, in SI, with screened columns set to
-// NaN. It returns the fields and the per-column QC (1 = screened).
-func (p *procFile) step(t int, names []string) (map[string][]float64, []uint16, error) {
-	cells := p.scene.Cells()
-	start := make([]int, len(p.dims))
-	count := make([]int, len(p.dims))
-	count[len(count)-2], count[len(count)-1] = p.scene.NY, p.scene.NX
-	if len(p.dims) == 3 {
-		start[0], count[0] = t, 1
+func containsInt(a []int, x int) bool {
+	for _, e := range a {
+		if e == x {
+			return true
+		}
 	}
-	qc := make([]uint16, cells)
+	return false
+}
+
+// block is a run of steps: one index on every non-horizontal dimension but the
+// innermost, where it covers [lo, lo+n).
+type block struct {
+	index  []int // per dimension (horizontal ones unused)
+	lo, n  int
+	inner  int // the dimension of the run (-1: no step dimensions)
+	number int
+}
+
+// blocks calls fn for runs of steps of at most 64 Ki values each (or one step),
+// so that a long series is read in a few blocks with bounded memory.
+func (p *procFile) blocks(fn func(b block) error) error {
+	cells := p.scene.Cells()
+	if len(p.steps) == 0 {
+		return fn(block{index: make([]int, len(p.dims)), n: 1, inner: -1})
+	}
+	inner := p.steps[len(p.steps)-1]
+	run := max(1, (1<<16)/cells)
+	outer := p.steps[:len(p.steps)-1]
+	idx := make([]int, len(p.dims))
+	k := 0
+	var rec func(j int) error
+	rec = func(j int) error {
+		if j == len(outer) {
+			for lo := 0; lo < p.shape[inner]; lo += run {
+				b := block{index: append([]int(nil), idx...), lo: lo, n: min(run, p.shape[inner]-lo), inner: inner, number: k}
+				k++
+				if err := fn(b); err != nil {
+					return err
+				}
+			}
+			return nil
+		}
+		for i := 0; i < p.shape[outer[j]]; i++ {
+			idx[outer[j]] = i
+			if err := rec(j + 1); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+	return rec(0)
+}
+
+// blockTimes gives the time of each step of b (nil without a time axis).
+func (p *procFile) blockTimes(b block) []float64 {
+	if p.timeVals == nil {
+		return nil
+	}
+	t := make([]float64, b.n)
+	for i := range t {
+		if b.inner == p.hz.Time {
+			t[i] = p.timeVals[b.lo+i]
+		} else {
+			t[i] = p.timeVals[b.index[p.hz.Time]]
+		}
+	}
+	return t
+}
+
+// readBlock reads variable name over block b, in (step, cell) order.
+func (p *procFile) readBlock(name string, b block) ([]float64, error) {
+	nd := len(p.dims)
+	start := make([]int, nd)
+	count := make([]int, nd)
+	for i := range p.dims {
+		switch {
+		case containsInt(p.hz.Dims, i):
+			count[i] = p.shape[i]
+		case i == b.inner:
+			start[i], count[i] = b.lo, b.n
+		default:
+			start[i], count[i] = b.index[i], 1
+		}
+	}
+	d, _, err := p.r.Read(name, start, count)
+	if err != nil {
+		return nil, err
+	}
+	// Already in (step, cell) order when the horizontal dimensions come after the
+	// run's dimension; otherwise reorder.
+	ordered := true
+	for _, hd := range p.hz.Dims {
+		if b.inner > hd {
+			ordered = false
+		}
+	}
+	if ordered {
+		return d, nil
+	}
+	out := make([]float64, len(d))
+	cells := p.scene.Cells()
+	m := make([]int, nd) // multi-index within the hyperslab, file order
+	for k := range d {
+		step, cell := 0, 0
+		if b.inner >= 0 {
+			step = m[b.inner]
+		}
+		for _, hd := range p.hz.Dims {
+			cell = cell*p.shape[hd] + m[hd]
+		}
+		out[step*cells+cell] = d[k]
+		for i := nd - 1; i >= 0; i-- {
+			if m[i]++; m[i] < count[i] {
+				break
+			}
+			m[i] = 0
+		}
+	}
+	return out, nil
+}
+
+// step reads block b of the named diagnostics, in SI, with screened columns set
+// to NaN. It returns the fields and the per-column QC (1 = screened).
+func (p *procFile) step(b block, names []string) (map[string][]float64, []uint16, error) {
+	n := b.n * p.scene.Cells()
+	qc := make([]uint16, n)
 	if p.qc != "" {
-		q, _, err := p.r.Read(p.qc, start, count)
+		q, err := p.readBlock(p.qc, b)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -552,15 +701,15 @@ func (p *procFile) step(t int, names []string) (map[string][]float64, []uint16, 
 		}
 	}
 	out := map[string][]float64{}
-	for _, n := range names {
-		if _, done := out[n]; done || n == "" {
+	for _, nm := range names {
+		if _, done := out[nm]; done || nm == "" {
 			continue
 		}
-		vi, ok := p.vars[n]
+		vi, ok := p.vars[nm]
 		if !ok {
-			return nil, nil, p.errf(n, "is missing; the first file has it (all files need the same diagnostics)")
+			return nil, nil, p.errf(nm, "is missing; the first file has it (all files need the same diagnostics)")
 		}
-		d, _, err := p.r.Read(n, start, count)
+		d, err := p.readBlock(nm, b)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -571,7 +720,7 @@ func (p *procFile) step(t int, names []string) (map[string][]float64, []uint16, 
 				d[i] = vi.conv.Convert(d[i])
 			}
 		}
-		out[n] = d
+		out[nm] = d
 	}
 	return out, qc, nil
 }
@@ -590,6 +739,20 @@ type summaryState struct {
 	mixed     bool              // parameters differ between files
 	history   string            // of the only input
 	files     int
+	// steps, tmin and tmax count the selected time steps (leading indices) and
+	// their time range over every file, maps or not.
+	steps      int
+	tmin, tmax float64
+}
+
+// stepSpan is ms with the step count and time range of every selected step, for
+// the titles of the curves (which also cover files without maps).
+func (st *summaryState) stepSpan(ms summary.MapSet) summary.MapSet {
+	ms.Steps, ms.TimeMin, ms.TimeMax = st.steps, st.tmin, st.tmax
+	if math.IsInf(st.tmin, 1) {
+		ms.TimeMin, ms.TimeMax = math.NaN(), math.NaN()
+	}
+	return ms
 }
 
 func summarise(e *env, f summaryFlags, inputs, args []string) error {
@@ -601,7 +764,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 	if err != nil {
 		return usagef("%v", err)
 	}
-	st := &summaryState{acc: acc, maps: maps, mapsOK: true, firstTime: math.NaN()}
+	st := &summaryState{acc: acc, maps: maps, mapsOK: true, firstTime: math.NaN(), tmin: math.Inf(1), tmax: math.Inf(-1)}
 	for k, in := range inputs {
 		if err := st.addFile(e, f, in, k == 0); err != nil {
 			return err
@@ -631,7 +794,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 }
 
 func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool) error {
-	p, err := openProcessed(path)
+	p, err := openProcessed(path, f.window)
 	if err != nil {
 		return err
 	}
@@ -665,22 +828,40 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	}
 	needs := append([]string{p.lwp, ndVarName, popVarName, p.rate, p.surf}, st.mapNames...)
 	s := p.scene
-	for t := 0; t < s.NT; t++ {
-		if s.Time != nil && !f.window.Contains(s.Time[t]) {
-			continue
+	if f.region != nil && s.Lat == nil {
+		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
+	}
+	if p.noMaps != "" && st.mapsOK {
+		st.mapsOK = false
+		fmt.Fprintf(e.stderr, "warmrain summary: no maps: %s: %s; the binned statistics use every column\n", path, p.noMaps)
+	}
+	if p.timeVals == nil && !f.window.IsZero() {
+		fmt.Fprintf(e.stderr, "warmrain summary: %s has no time axis; the time window cannot select it, skipped\n", path)
+		return nil
+	}
+	cells := s.Cells()
+	return p.blocks(func(b block) error {
+		times := p.blockTimes(b)
+		sel := times == nil
+		for _, t := range times {
+			sel = sel || f.window.Contains(t)
 		}
-		if s.Time == nil && !f.window.IsZero() {
-			fmt.Fprintf(e.stderr, "warmrain summary: %s has no time axis; the time window cannot select it, skipped\n", path)
-			break
+		if !sel {
+			return nil
 		}
-		d, qc, err := p.step(t, needs)
+		d, qc, err := p.step(b, needs)
 		if err != nil {
 			return err
 		}
-		one := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: 1}
-		if s.Time != nil {
-			one.Time = s.Time[t : t+1]
+		for k := 0; k < b.n; k++ {
+			if times == nil {
+				st.steps++
+			} else if f.window.Contains(times[k]) {
+				st.steps++
+				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
+			}
 		}
+		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.n, Time: times}
 		cols := summary.Columns{
 			LWP: summary.Field{Name: p.lwp, Units: mustOutput(lwpVarName).SIUnits, Data: d[p.lwp]},
 			Nd:  summary.Field{Name: ndVarName, Units: mustOutput(ndVarName).SIUnits, Data: d[ndVarName]},
@@ -693,41 +874,50 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		if p.surf != "" {
 			cols.SurfaceRadius = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.surf]}
 		}
-		if err := st.acc.Add(one, &cols); err != nil {
-			return fmt.Errorf("%s: time step %d: %w", path, t, err)
+		if err := st.acc.Add(sc, &cols); err != nil {
+			return fmt.Errorf("%s: block %d of time steps: %w", path, b.number, err)
+		}
+		if !st.mapsOK {
+			return nil
 		}
 		fields := make([]summary.Field, 0, len(st.mapNames))
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
 			fields = append(fields, summary.Field{Name: n, Units: vi.units, LongName: vi.long, Data: d[n]})
 		}
-		if st.mapsOK {
-			if err := st.maps.Accumulate(one, fields...); err != nil {
-				if !errors.Is(err, summary.ErrGrid) {
-					return fmt.Errorf("%s: time step %d: %w", path, t, err)
-				}
-				st.mapsOK = false
-				fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
+		if err := st.maps.Accumulate(sc, fields...); err != nil {
+			if !errors.Is(err, summary.ErrGrid) {
+				return fmt.Errorf("%s: block %d of time steps: %w", path, b.number, err)
 			}
+			st.mapsOK = false
+			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
+			return nil
 		}
 		if st.first == nil {
-			st.first = map[string][]float64{}
-			for _, fl := range fields {
-				dd := append([]float64(nil), fl.Data...)
-				for c := range dd {
-					if la, lo := one.LatLon(c/one.NX, c%one.NX); !f.region.Contains(la, lo) {
-						dd[c] = math.NaN()
-					}
+			for k := 0; k < b.n; k++ {
+				if times != nil && !f.window.Contains(times[k]) {
+					continue
 				}
-				st.first[fl.Name] = dd
-			}
-			st.firstGrid = summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: 1}
-			if s.Time != nil {
-				st.firstTime = s.Time[t]
+				st.first = map[string][]float64{}
+				one := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: 1}
+				for _, fl := range fields {
+					dd := append([]float64(nil), fl.Data[k*cells:(k+1)*cells]...)
+					for c := range dd {
+						if la, lo := one.LatLon(c/one.NX, c%one.NX); !f.region.Contains(la, lo) {
+							dd[c] = math.NaN()
+						}
+					}
+					st.first[fl.Name] = dd
+				}
+				st.firstGrid = one
+				if times != nil {
+					st.firstTime = times[k]
+				}
+				break
 			}
 		}
-	}
-	return nil
+		return nil
+	})
 }
 
 // ---- the NetCDF summary file ----
@@ -1129,7 +1319,7 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 	}
 	// Curves: the plots add their own last title line (error bars) to the subtitle.
 	chars := max(30, int(float64(f.width-8-200)/7.5))
-	span := spanText(ms, st.files)
+	span := spanText(st.stepSpan(ms), st.files)
 	pt := wrapLines(chars, "Drizzle probability against liquid water path, by droplet number", span, region, params)
 	if err := put("pop_vs_lwp.png", "POP against LWP", func(w io.Writer) error {
 		return plots.POPCurves(w, res, plots.CurveOptions{Width: f.width, Height: f.height, Title: pt})

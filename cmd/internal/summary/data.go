@@ -25,7 +25,15 @@ type Field struct {
 // Lat and Lon are in degrees (north, east). They are either 1-D (len(Lat) == NY,
 // len(Lon) == NX, a rectilinear grid) or 2-D (len(Lat) == len(Lon) == NY*NX, row-major,
 // for swaths). Time is in seconds since 1970-01-01T00:00:00Z with len(Time) == NT; it may
-// be nil when NT == 1 (a scene without a time axis, which no time window can select).
+// be nil (steps without times: a scene without a time axis, or one in a calendar whose
+// dates are not Gregorian, which no time window can select).
+// Lat and Lon may both be nil: columns without coordinates (a mesh or a site list
+// without latitude and longitude, or a time series), which the statistics use and no
+// Region can select; such scenes have no maps.
+//
+// A list of cells (a mesh or sites) is a scene with NY = 1 and NX cells, whose per-cell
+// coordinates are 2-D in this sense (len(Lat) == NX); a time series at one site has
+// NY = NX = 1 and NT steps.
 type Scene struct {
 	Lat, Lon   []float64
 	Time       []float64
@@ -34,6 +42,9 @@ type Scene struct {
 
 // Cells returns NY*NX, the number of columns in one time step.
 func (s Scene) Cells() int { return s.NY * s.NX }
+
+// HasCoords reports whether the scene has latitude and longitude.
+func (s Scene) HasCoords() bool { return s.Lat != nil || s.Lon != nil }
 
 // TwoD reports whether the coordinates are 2-D (swath) coordinates.
 func (s Scene) TwoD() bool {
@@ -60,11 +71,11 @@ func (s Scene) Check() error {
 	n := s.NY * s.NX
 	oneD := len(s.Lat) == s.NY && len(s.Lon) == s.NX
 	twoD := len(s.Lat) == n && len(s.Lon) == n
-	if !oneD && !twoD {
+	if !oneD && !twoD && s.HasCoords() {
 		return fmt.Errorf("%w: lat has %d and lon %d values, want (NY=%d, NX=%d) for 1-D or %d each for 2-D coordinates",
 			ErrShape, len(s.Lat), len(s.Lon), s.NY, s.NX, n)
 	}
-	if len(s.Time) != s.NT && !(s.Time == nil && s.NT == 1) {
+	if s.Time != nil && len(s.Time) != s.NT {
 		return fmt.Errorf("%w: time has %d values, want NT=%d", ErrShape, len(s.Time), s.NT)
 	}
 	return nil

@@ -161,9 +161,17 @@ func (a *Accumulator) poisson1() float64 {
 }
 
 // regionMask returns, per cell, whether it lies in the region (nil when every cell does).
+// A scene without coordinates is wholly selected by a nil region and not at all by
+// any other.
 func regionMask(s Scene, r *Region) []bool {
 	n := s.Cells()
 	m := make([]bool, n)
+	if !s.HasCoords() {
+		for i := range m {
+			m[i] = r == nil
+		}
+		return m
+	}
 	for y := 0; y < s.NY; y++ {
 		for x := 0; x < s.NX; x++ {
 			lat, lon := s.LatLon(y, x)
@@ -178,6 +186,9 @@ func regionMask(s Scene, r *Region) []bool {
 func (a *Accumulator) Add(s Scene, c *Columns) error {
 	if err := c.check(s); err != nil {
 		return err
+	}
+	if a.opt.Region != nil && !s.HasCoords() {
+		return fmt.Errorf("%w: a region is selected but the scene has no latitude and longitude", ErrShape)
 	}
 	in := regionMask(s, a.opt.Region)
 	cells := s.Cells()
