@@ -671,11 +671,16 @@ const colHalf = 0.5
 // CloudBase returns the temperature tb (K) and pressure pb (Pa) at the base of an adiabatic
 // cloud of thickness h (m) whose top is at temperature T (K) and pressure p (Pa), by one
 // midpoint step down the moist adiabat and the hydrostatic equation with the layer-mean
-// temperature (virtual correction neglected, < 0.5 % in p_b - p):
+// virtual temperature of the saturated air:
 //
-//	T_m = T + G_m(T, p) H/2,  T_b = T + G_m(T_m, p_m) H,  p_b = p exp(g H/(R_d (T + T_b)/2))
+//	T_m = T + G_m(T, p) H/2,  p_m = p exp(g H/2/(R_d (T + T_m)/2)),  T_b = T + G_m(T_m, p_m) H
+//	v_m = T_v/T at (T_m, p_m) = p_m/(R_d rho_a T_m),  rho_a = AirDensity(p_m, T_m, r_s)
+//	p_b = p exp(g H/(R_d v_m (T + T_b)/2))
 //
-// Reference: [Glickman2000] moist-adiabatic lapse rate; hydrostatic balance (common practice).
+// (v_m = (1 + r_s/eps)/(1 + r_s), 1.002-1.006 in warm clouds; the half step p_m, which only
+// places the midpoint, keeps the dry temperature; liquid-water loading is neglected.)
+// Reference: [Glickman2000] moist-adiabatic lapse rate; [RogersYau1989] eq. 1.11 (virtual
+// temperature); hydrostatic balance (common practice).
 // Valid: as CondensationRate at top and base; 0 <= h <= 5000 m; NaN otherwise.
 func CloudBase(T, p, h float64) (tb, pb float64) {
 	if !(h >= 0 && h <= 5000) {
@@ -688,13 +693,23 @@ func CloudBase(T, p, h float64) (tb, pb float64) {
 func cloudBase(T, p, h, g1 float64) (tb, pb float64) {
 	tm := T + g1*h*colHalf
 	pm := p * math.Exp(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf))
-	g2 := adiabaticState(tm, pm).gm
+	st2 := adiabaticState(tm, pm)
+	g2 := st2.gm
 	if math.IsNaN(g2) {
 		g2 = g1
 	}
 	tb = T + g2*h
-	pb = p * math.Exp(Gravity*h/(GasConstantDry*(T+tb)*colHalf))
+	pb = p * math.Exp(Gravity*h/(GasConstantDry*(T+tb)*colHalf*virtualFactor(tm, pm, st2.rho)))
 	return tb, pb
+}
+
+// virtualFactor is T_v/T = p/(R_d rho T) of saturated air of density rho (kg m-3) at (T K,
+// p Pa), or 1 (dry air) when rho is NaN (outside adiabaticState's range).
+func virtualFactor(T, p, rho float64) float64 {
+	if !(rho > 0) {
+		return 1
+	}
+	return p / (GasConstantDry * rho * T)
 }
 
 // DryBaseHeight returns the height (m) of a cloud base at (tb K, pb Pa) above a surface at
@@ -744,7 +759,7 @@ func (m *Model) subCloud(T, pr, h, cth, rhs float64, l *SubCloudLayer) bool {
 // rate g1 (K m-1): the formulas of cloudBase, DryBaseHeight and subCloudFrom with colExp,
 // colLog and airStateFast's lapse rate (within adStateTol of adiabaticState), so the layer
 // equals subCloud's to rounding (derived). Without a CTH, ln(p_s/p_b) is formed as
-// ln(p_s/p) - g H/(R_d (T + T_b)/2), p_b's own exponent, so the logarithm does not wait for
+// ln(p_s/p) - g H/(R_d v_m (T + T_b)/2), p_b's own exponent, so the logarithm does not wait for
 // the cloud base.
 func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bool {
 	if !(h <= 5000) {
@@ -757,12 +772,13 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	}
 	tm := T + g1*h*colHalf
 	pm := p * colExp(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf))
-	g2 := airStateFast(tm, pm).gm
+	st2 := airStateFast(tm, pm)
+	g2 := st2.gm
 	if math.IsNaN(g2) {
 		g2 = g1
 	}
 	tb := T + g2*h
-	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf)
+	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf * virtualFactor(tm, pm, st2.rho))
 	pb := p * colExp(x)
 	zb := cth - h
 	if noCTH {

@@ -91,7 +91,7 @@ func ExampleCloudBase() {
 	tb, pb := microphys.CloudBase(283, 90000, 300)
 	fmt.Printf("T_b = %.4g K, p_b = %.4g Pa\n", tb, pb)
 	// Output:
-	// T_b = 284.5 K, p_b = 9.331e+04 Pa
+	// T_b = 284.5 K, p_b = 9.329e+04 Pa
 }
 
 func ExampleDryBaseHeight() {
