@@ -30,8 +30,13 @@ type Outputs struct {
 	CollectorRadius float64 // collector drop radius on leaving the cloud, m
 	CollectorTime   float64 // collector drop time in cloud, s
 	SurfaceRadius   float64 // collector drop radius at the surface, m (0 when it evaporated)
-	EvapHeight      float64 // height above the surface where it evaporated, m (NaN when it reached the surface)
-	QC              uint16  // QC bits, see QCFlags
+	EvapHeight      float64 // height above the surface where the collector drop evaporated, m (NaN when it reached the surface)
+	// SurfaceDrizzleFraction is the fraction of the cloud-base drizzle flux that reaches the
+	// surface (SurfaceDrizzleFraction of Params.Drizzle), 1, and SurfaceDrizzleRate is
+	// that fraction of DrizzleRate, kg m-2 s-1.
+	SurfaceDrizzleFraction float64
+	SurfaceDrizzleRate     float64
+	QC                     uint16 // QC bits, see QCFlags
 }
 
 // Model is a validated parameter set with its precomputed tables. A Model is safe for
@@ -43,8 +48,10 @@ type Model struct {
 	cbrtK float64    // K^(1/3)
 	tab   *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
 	pop   *popTable  // drizzle-probability table (pop.go)
-	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table.
+	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table
+	// (evMixedU for well-mixed layers).
 	lnDryRH float64
+	mixed   bool // Params.SubCloudHumidity == HumidityWellMixed
 	bulk    bulkConsts // constants of Column's bulk diagnostics (column.go)
 }
 
@@ -68,6 +75,9 @@ func NewModel(p Params) (*Model, error) {
 // newModelBase is the Model of valid parameters p without its collector tables.
 func newModelBase(p Params) *Model {
 	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
+	if p.SubCloudHumidity == HumidityWellMixed {
+		m.mixed, m.lnDryRH = true, evMixedU
+	}
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
 	m.pop = newPopTable()
@@ -387,7 +397,7 @@ const (
 // Valid: marine warm stratocumulus; the screening thresholds in Params.
 func (m *Model) Column(in *Inputs, out *Outputs) {
 	nan := math.NaN()
-	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
+	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
 	p := &m.p
 	var qc uint16
 
@@ -431,7 +441,9 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	rhs := in.SurfaceRH
 	if math.IsNaN(rhs) {
 		rhs = p.SurfaceRH
-		qc |= QCSurfaceRHAssumed
+		if !m.mixed { // a well-mixed layer takes its humidity from cloud base
+			qc |= QCSurfaceRHAssumed
+		}
 	} else if !(rhs >= 0 && rhs <= 1) {
 		qc |= QCInputInvalid
 	}
@@ -533,6 +545,43 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc
 		return
 	}
+	// The sub-cloud layer (placed in the fast arithmetic for the tables, subCloudFast: table
+	// coordinates, equal to rounding; a direct integration gets the layer of the exported
+	// functions' arithmetic) and the drizzle that reaches the surface from the cloud-base
+	// size distribution.
+	var l SubCloudLayer
+	fastL := m.tab != nil && m.tab.evap != nil
+	okL := false
+	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
+	if p.EnableEvaporation {
+		if fastL {
+			okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
+		} else {
+			tb, pb := math.NaN(), math.NaN()
+			if h <= 5000 {
+				tb, pb = cloudBase(T, pr, h, st.gm)
+			}
+			okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
+		}
+		if !math.IsNaN(in.SurfaceRH) && !m.mixed {
+			u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
+		}
+		if okL {
+			f := nan
+			if fastL {
+				f = m.tab.evap.fraction(u, &l, m.surfacePressureFast(cth, &l))
+			}
+			if math.IsNaN(f) {
+				if m.tab != nil {
+					qc |= QCIntegratedDirectly
+				}
+				f = m.directFraction(lwp, re, in.Tau, T, pr, cth, rhs)
+			}
+			if f >= 0 && f <= 1 {
+				out.SurfaceDrizzleFraction, out.SurfaceDrizzleRate = f, f*out.DrizzleRate
+			}
+		}
+	}
 	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
 	lnLWP, lnRv := colLog(lwp), colLog(m.cbrtK*reTop)
 	var res colResult
@@ -558,28 +607,9 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc | QCEvaporationSkipped
 		return
 	}
-	// The layer of the evaporation table is placed in the fast arithmetic (subCloudFast: table
-	// coordinates, equal to rounding); a direct integration gets the layer of the exported
-	// functions' arithmetic below.
-	var l SubCloudLayer
-	fastL := m.tab != nil && m.tab.evap != nil
-	var okL bool
-	if fastL {
-		okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
-	} else {
-		tb, pb := math.NaN(), math.NaN()
-		if h <= 5000 {
-			tb, pb = cloudBase(T, pr, h, st.gm)
-		}
-		okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
-	}
 	if !okL {
 		out.QC = qc | QCEvaporationSkipped
 		return
-	}
-	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default
-	if !math.IsNaN(in.SurfaceRH) {
-		u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
 	}
 	if !fastL || !m.tab.evaporate(res.r, res.lnR, u, &l, m.surfacePressureFast(cth, &l), &res) {
 		if m.tab != nil {
@@ -644,6 +674,22 @@ func (m *Model) exactColumn(lwp, re, tau, T, pr float64) exactCol {
 	}
 	return exactCol{h: Thickness(lwp, p.Fad, cw), gamma: p.Fad * cw,
 		nd: DropletNumber(tau, re, p.K, p.Qext, p.Fad, cw), gm: st.gm, ok: true}
+}
+
+// directFraction is SurfaceDrizzleFraction for a column that passed Column's screening, with
+// the layer in the arithmetic of the exported functions (exactColumn, cloudBase,
+// subCloudFrom); NaN when the layer is undefined.
+func (m *Model) directFraction(lwp, re, tau, T, pr, cth, rhs float64) float64 {
+	ex := m.exactColumn(lwp, re, tau, T, pr)
+	tb, pb := math.NaN(), math.NaN()
+	if ex.h <= 5000 {
+		tb, pb = cloudBase(T, pr, ex.h, ex.gm)
+	}
+	var l SubCloudLayer
+	if !m.subCloudFrom(tb, pb, ex.h, cth, rhs, &l) {
+		return math.NaN()
+	}
+	return SurfaceDrizzleFraction(m.p.Drizzle, l)
 }
 
 // colResult is the collector and evaporation result of one column.
@@ -791,7 +837,7 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	if !(zb > 0) || !colFinite(tb) || !colFinite(pb) {
 		return false
 	}
-	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs}
+	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs, WellMixed: m.mixed}
 	return true
 }
 
@@ -806,6 +852,6 @@ func (m *Model) subCloudFrom(tb, pb, h, cth, rhs float64, l *SubCloudLayer) bool
 	if !(zb > 0) || !colFinite(tb) || !colFinite(pb) {
 		return false
 	}
-	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs}
+	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs, WellMixed: m.mixed}
 	return true
 }

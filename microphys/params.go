@@ -47,6 +47,45 @@ func ParseCollectorMethod(s string) (CollectorMethod, error) {
 	return 0, fmt.Errorf("microphys: unknown collector method %q (want table or direct)", s)
 }
 
+// HumidityProfile chooses the relative humidity of the sub-cloud layer (SubCloudLayer).
+type HumidityProfile int
+
+const (
+	// HumidityWellMixed conserves the vapour mixing ratio of cloud base down to the surface
+	// (a layer mixed with the cloud, as its dry-adiabatic temperature assumes). The default.
+	HumidityWellMixed HumidityProfile = iota
+	// HumiditySurfaceRH takes the column's surface relative humidity (or Params.SurfaceRH)
+	// and rises linearly to saturation at cloud base: for layers decoupled from the cloud.
+	HumiditySurfaceRH
+)
+
+var humidityProfileNames = [...]string{"well-mixed", "surface-rh"}
+
+// String returns the profile's name: "well-mixed" or "surface-rh".
+//
+// Reference: none (software interface).
+// Valid: always.
+func (h HumidityProfile) String() string {
+	if h < 0 || int(h) >= len(humidityProfileNames) {
+		return "HumidityProfile(" + strconv.Itoa(int(h)) + ")"
+	}
+	return humidityProfileNames[h]
+}
+
+// ParseHumidityProfile returns the profile named s ("well-mixed" or "surface-rh"), or an
+// error listing the valid names.
+//
+// Reference: none (software interface).
+// Valid: any string; unknown names give an error.
+func ParseHumidityProfile(s string) (HumidityProfile, error) {
+	for i, n := range humidityProfileNames {
+		if s == n {
+			return HumidityProfile(i), nil
+		}
+	}
+	return 0, fmt.Errorf("microphys: unknown sub-cloud humidity %q (want well-mixed or surface-rh)", s)
+}
+
 // Params holds every parameter of the column model. Start from DefaultParams and change
 // fields; NewModel validates them. All values are SI base units.
 type Params struct {
@@ -97,9 +136,20 @@ type Params struct {
 	// evaporation on (default both true). Evaporation needs the collector.
 	EnableCollector   bool
 	EnableEvaporation bool
-	// SurfaceRH is the surface relative humidity used when a column gives none, 1.
-	// Default 0.8 (a common marine value, from memory).
+	// SubCloudHumidity chooses the sub-cloud humidity profile. Default HumidityWellMixed
+	// (the vapour mixing ratio of cloud base conserved down to the surface, consistent
+	// with the dry-adiabatic temperature of the layer [Wood2012]); HumiditySurfaceRH uses
+	// the surface relative humidity (for decoupled layers).
+	SubCloudHumidity HumidityProfile
+	// SurfaceRH is the surface relative humidity used when a column gives none, 1
+	// (HumiditySurfaceRH only). Default 0.8 (a common marine value, from memory).
 	SurfaceRH float64
+	// Drizzle is the size distribution of the drizzle drops leaving cloud base, whose
+	// number is closed by the cloud-base drizzle rate (SurfaceDrizzleFraction). Default
+	// DefaultDrizzleDSD: exponential above 20 µm [Wood2005] with mean radius 50 µm (from
+	// memory); its size and shape are fixed because drizzling and non-drizzling regions
+	// differ mainly in drizzle drop number, not size [VanZanten2005].
+	Drizzle DrizzleDSD
 	// SurfacePressure is the surface pressure used to place cloud base when the column
 	// gives no cloud-top height, Pa. Default 101325 (standard atmosphere, common practice).
 	SurfacePressure float64
@@ -151,7 +201,9 @@ func DefaultParams() Params {
 		CollectorMethod:   CollectorTable,
 		EnableCollector:   true,
 		EnableEvaporation: true,
+		SubCloudHumidity:  HumidityWellMixed,
 		SurfaceRH:         0.8,
+		Drizzle:           DefaultDrizzleDSD(),
 		SurfacePressure:   101325,
 		DefaultCTT:        285,
 		DefaultCTP:        90000,
@@ -225,6 +277,9 @@ func (p Params) Validate() error {
 		{"Collector.Updraft", p.Collector.Updraft, 0, 20, false, "0 <= Collector.Updraft <= 20 m s-1"},
 		{"Collector.DrizzleRadius", p.Collector.DrizzleRadius, 1e-6, 5e-3, false, "1e-6 <= Collector.DrizzleRadius <= 5e-3 m"},
 		{"Collector.RelTol", p.Collector.RelTol, 0, 0.1, true, "0 < Collector.RelTol <= 0.1"},
+		{"Drizzle.MinRadius", p.Drizzle.MinRadius, 0, 100e-6, false, "0 <= Drizzle.MinRadius <= 1e-4 m"},
+		{"Drizzle.MeanRadius", p.Drizzle.MeanRadius, p.Drizzle.MinRadius + 1e-6, 200e-6, false, "Drizzle.MinRadius + 1e-6 <= Drizzle.MeanRadius <= 2e-4 m"},
+		{"Drizzle.Shape", p.Drizzle.Shape, 0, 20, false, "0 <= Drizzle.Shape <= 20"},
 	}
 	for _, c := range checks {
 		ok := c.v <= c.hi && (c.v > c.lo || (!c.loOpen && c.v == c.lo))
@@ -246,6 +301,9 @@ func (p Params) Validate() error {
 	}
 	if _, err := ParseCoalescenceKind(p.Coalescence.String()); err != nil {
 		return &ParamError{"Coalescence", float64(p.Coalescence), "a CoalescenceKind"}
+	}
+	if p.SubCloudHumidity != HumidityWellMixed && p.SubCloudHumidity != HumiditySurfaceRH {
+		return &ParamError{"SubCloudHumidity", float64(p.SubCloudHumidity), "well-mixed or surface-rh"}
 	}
 	if p.EnableEvaporation && !p.EnableCollector {
 		return &ParamError{"EnableEvaporation", 1, "false when EnableCollector is false (evaporation follows the collector drop)"}
@@ -287,7 +345,11 @@ func (p Params) Settings() []Setting {
 		{"collector_method", p.CollectorMethod.String()},
 		{"enable_collector", b(p.EnableCollector)},
 		{"enable_evaporation", b(p.EnableEvaporation)},
+		{"subcloud_humidity", p.SubCloudHumidity.String()},
 		{"surface_relative_humidity", f(p.SurfaceRH)},
+		{"drizzle_mean_radius", f(p.Drizzle.MeanRadius)},
+		{"drizzle_min_radius", f(p.Drizzle.MinRadius)},
+		{"drizzle_shape", f(p.Drizzle.Shape)},
 		{"surface_pressure", f(p.SurfacePressure)},
 		{"default_cloud_top_temperature", f(p.DefaultCTT)},
 		{"default_cloud_top_pressure", f(p.DefaultCTP)},

@@ -306,7 +306,7 @@ func newTableShells(p Params) *collTable {
 	cg := collGrid
 	t.coll = newTabGrid(cg.lo, cg.hi, cg.n, [tabDims]bool{true, true, false, false})
 	if p.EnableEvaporation {
-		t.evap = newEvapTable(p.SurfacePressure)
+		t.evap = newEvapTable(p)
 	}
 	return t
 }
@@ -673,7 +673,46 @@ func (g *nGrid) valueAt(x *[nDims]float64) float64 {
 // outside that span (cloud-top pressure and height inconsistent) is integrated directly.
 type evapTable struct {
 	thr, reach, evap *nGrid
+	// flux holds ln F, F = SurfaceDrizzleFraction of the model's drizzle distribution, on
+	// (p_s, u, T_b, ln z_b) (fluxAxes).
+	flux  *nGrid
+	mixed bool       // well-mixed layers (HumidityWellMixed): the u axes are placeholders
+	dsd   DrizzleDSD // the drizzle distribution of flux
 }
+
+// Well-mixed layers (Params.SubCloudHumidity HumidityWellMixed) have no surface-humidity
+// coordinate: their humidity follows from the base state. Their tables keep the layout of
+// the surface-RH ones with the u axis reduced to placeholder nodes that all hold the same
+// layer (3 nodes on [-1, 1] for the strict, curved threshold axis, 2 on [0, 1] for the
+// linear axes of the value and flux tables), and are looked up at u = evMixedU, which falls
+// on a node of each, so that one node is used with weight 1 (derived from quadTaps and
+// linTaps) and the placeholders cost no accuracy.
+const evMixedU = 0.0
+
+// Axes of the surface drizzle fraction table (evapTable.flux): p_s (Pa, offset from
+// Params.SurfacePressure, linear), u = ln(1 - RH_s) (quadratic; linear placeholders for
+// well-mixed layers), T_b (K, quadratic) and z_b^(1/2) (m^(1/2), quadratic: F = 1 - c z_b
+// near the surface is then a quadratic, and ln F, which falls about as the threshold radius
+// r* ∝ z_b^(1/3), stays smooth; ln z_b needed twice the nodes for the same error). ln F is
+// tabulated, floored at fluxLnMin. Base heights 0-3000 m, base temperatures 270-306 K,
+// surface humidities 0.5-0.99 and surface pressures within 10 kPa of
+// Params.SurfacePressure; columns outside are integrated directly (QCIntegratedDirectly).
+// Error bound: |F_table - F| <= 0.5 % of max(F, 0.01) for well-mixed layers (the default)
+// and 1 % of max(F, 0.01) with a surface humidity, over the whole table domain
+// (TestFluxTableAgainstDirect: largest errors 0.15 % and 0.7 %); below F = 0.01 that is
+// 5e-5 (1e-4) of the cloud-base rate.
+var fluxAxes = struct {
+	lo, hi [4]float64 // p_s offset, u, T_b, ln z_b
+	n      [4]int
+}{
+	lo: [4]float64{-10000, math.Log(0.01), 270, 0},
+	hi: [4]float64{10000, math.Log(0.5), 306, math.Sqrt(3000)},
+	n:  [4]int{3, 9, 7, 33},
+}
+
+// fluxLnMin is the floor of the tabulated ln F: below e^-40 (4e-18) the surface rate is zero
+// for every purpose (derived: cloud-base rates are below 1e3 mm day-1).
+const fluxLnMin = -40.0
 
 // Axes of the evaporation tables: ln z_b (m), T_b (K), u = ln(1 - RH_s), p_s (Pa, offset from
 // Params.SurfacePressure), and s = |xi|^(1/2) for the value tables. The threshold table is
@@ -704,51 +743,123 @@ const (
 	evMinFall = 1e-3 // m, floor of the tabulated fall distance
 )
 
-// newEvapTable lays out the (unfilled) threshold and value tables for a surface pressure
-// ps0 (Pa) of the columns without CTH. Axis order (last axis contiguous): threshold (p_s,
-// T_b, u, ln z_b), values (p_s, u, T_b, ln z_b, s).
-func newEvapTable(ps0 float64) *evapTable {
+// newEvapTable lays out the (unfilled) threshold, value and flux tables of the parameters p
+// (Params.SurfacePressure ps0 of the columns without CTH, Params.SubCloudHumidity,
+// Params.Drizzle). Axis order (last axis contiguous): threshold (p_s, T_b, u, ln z_b), values
+// (p_s, u, T_b, ln z_b, s), flux (p_s, u, T_b, ln z_b).
+func newEvapTable(p Params) *evapTable {
+	ps0 := p.SurfacePressure
 	a := evapAxes
-	t := &evapTable{}
-	t.thr = newNGrid([]float64{ps0 + a.thrLo[3], a.thrLo[1], a.thrLo[2], a.thrLo[0]},
-		[]float64{ps0 + a.thrHi[3], a.thrHi[1], a.thrHi[2], a.thrHi[0]},
-		[]int{a.thrN[3], a.thrN[1], a.thrN[2], a.thrN[0]}, []bool{false, true, true, true}, true)
-	vlo := []float64{ps0 + a.valLo[3], a.valLo[2], a.valLo[1], a.valLo[0], 0}
-	vhi := []float64{ps0 + a.valHi[3], a.valHi[2], a.valHi[1], a.valHi[0], a.sReach}
+	t := &evapTable{mixed: p.SubCloudHumidity == HumidityWellMixed, dsd: p.Drizzle}
+	thrU := [3]float64{a.thrLo[2], a.thrHi[2], float64(a.thrN[2])}
+	valU := [3]float64{a.valLo[2], a.valHi[2], float64(a.valN[2])}
+	fa := fluxAxes
+	fluxU := [3]float64{fa.lo[1], fa.hi[1], float64(fa.n[1])}
+	if t.mixed {
+		thrU = [3]float64{evMixedU - 1, evMixedU + 1, 3}
+		valU = [3]float64{evMixedU, evMixedU + 1, 2}
+		fluxU = valU
+	}
+	t.thr = newNGrid([]float64{ps0 + a.thrLo[3], a.thrLo[1], thrU[0], a.thrLo[0]},
+		[]float64{ps0 + a.thrHi[3], a.thrHi[1], thrU[1], a.thrHi[0]},
+		[]int{a.thrN[3], a.thrN[1], int(thrU[2]), a.thrN[0]}, []bool{false, true, true, true}, true)
+	vlo := []float64{ps0 + a.valLo[3], valU[0], a.valLo[1], a.valLo[0], 0}
+	vhi := []float64{ps0 + a.valHi[3], valU[1], a.valHi[1], a.valHi[0], a.sReach}
 	cub := []bool{false, false, false, true, true}
-	t.reach = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nReach}, cub, false)
+	t.reach = newNGrid(vlo, vhi, []int{a.valN[3], int(valU[2]), a.valN[1], a.valN[0], a.nReach}, cub, false)
 	vhi[4] = a.sEvap
-	t.evap = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nEvap}, cub, false)
+	t.evap = newNGrid(vlo, vhi, []int{a.valN[3], int(valU[2]), a.valN[1], a.valN[0], a.nEvap}, cub, false)
+	t.flux = newNGrid([]float64{ps0 + fa.lo[0], fluxU[0], fa.lo[2], fa.lo[3]},
+		[]float64{ps0 + fa.hi[0], fluxU[1], fa.hi[2], fa.hi[3]},
+		[]int{fa.n[0], int(fluxU[2]), fa.n[2], fa.n[3]}, []bool{false, !t.mixed, true, true}, false)
 	return t
 }
 
 // buildEvapTable is newEvapTable filled.
-func buildEvapTable(ps0 float64) *evapTable {
-	t := newEvapTable(ps0)
+func buildEvapTable(p Params) *evapTable {
+	t := newEvapTable(p)
 	t.fill()
 	return t
 }
 
-// fill integrates the threshold and both value tables (in parallel): every node of the
-// threshold table, and every layer (s-line) of the value tables.
+// layer is the sub-cloud layer of table coordinates (ln z_b, T_b, u, p_s): evLayer, well
+// mixed when t.mixed.
+func (t *evapTable) layer(lz, tb, u, ps float64) SubCloudLayer {
+	l := evLayer(lz, tb, u, ps)
+	if t.mixed {
+		l.SurfaceRH, l.WellMixed = 0, true
+	}
+	return l
+}
+
+// fill integrates the threshold, value and flux tables (in parallel): every node of the
+// threshold table, every layer (s-line) of the value tables and every node of the flux
+// table. With well-mixed layers, only the first node along each u axis is integrated and the
+// placeholders copy it.
 func (t *evapTable) fill() {
 	nThr := len(t.thr.vals)
 	nLay := len(t.reach.vals) / evapAxes.nReach
-	parallelFor(nThr+nLay, func(i int) {
-		if i < nThr {
-			x := t.thr.node(i)
-			t.thr.vals[i] = float32(math.Log(evapThreshold(evLayer(x[3], x[1], x[2], x[0]))))
-			return
+	nFlux := len(t.flux.vals)
+	parallelFor(nThr+nLay+nFlux, func(i int) {
+		switch {
+		case i < nThr:
+			if t.mixed && t.thr.index(2, i) != 0 {
+				return
+			}
+			t.thr.vals[i] = t.thrNode(i)
+		case i < nThr+nLay:
+			if t.mixed && t.reach.index(1, (i-nThr)*evapAxes.nReach) != 0 {
+				return
+			}
+			fillEvapLayer(t, i-nThr)
+		default:
+			if t.mixed && t.flux.index(1, i-nThr-nLay) != 0 {
+				return
+			}
+			t.flux.vals[i-nThr-nLay] = t.fluxNode(i - nThr - nLay)
 		}
-		fillEvapLayer(t, i-nThr)
 	})
+	if t.mixed {
+		t.thr.copyPlaceholders(2)
+		t.reach.copyPlaceholders(1)
+		t.evap.copyPlaceholders(1)
+		t.flux.copyPlaceholders(1)
+	}
+}
+
+// index returns node i's index along axis d.
+func (g *nGrid) index(d, i int) int { return i / g.stride[d] % g.n[d] }
+
+// copyPlaceholders copies every node with index 0 along axis d to the other nodes along d.
+func (g *nGrid) copyPlaceholders(d int) {
+	for i := range g.vals {
+		if k := g.index(d, i); k != 0 {
+			g.vals[i] = g.vals[i-k*g.stride[d]]
+		}
+	}
+}
+
+// thrNode integrates node i of the threshold table: ln r*.
+func (t *evapTable) thrNode(i int) float32 {
+	x := t.thr.node(i)
+	return float32(math.Log(evapThreshold(t.layer(x[3], x[1], x[2], x[0]))))
+}
+
+// fluxNode integrates node i of the flux table: max(ln F, fluxLnMin), NaN on failure.
+func (t *evapTable) fluxNode(i int) float32 {
+	x := t.flux.node(i)
+	if x[3] == 0 { // no layer: all of the flux arrives
+		return 0
+	}
+	f := surfaceFraction(t.dsd, t.layer(math.Log(x[3]*x[3]), x[2], x[1], x[0]), evTabRelTol)
+	return float32(math.Max(math.Log(f), fluxLnMin))
 }
 
 // fillEvapLayer integrates layer i (the s-line of node i*nReach) of both value tables.
 func fillEvapLayer(t *evapTable, i int) {
 	a := evapAxes
 	x := t.reach.node(i * a.nReach) // s = 0
-	l := evLayer(x[3], x[2], x[1], x[0])
+	l := t.layer(x[3], x[2], x[1], x[0])
 	rs := evapThreshold(l)
 	if !(rs > 0) {
 		return
@@ -835,7 +946,7 @@ func (s reverseEvap) deriv(y [2]float64) [2]float64 {
 // z = 0 up to z = BaseHeight, with the same integrator (relative tolerance evThrRelTol). NaN
 // on failure.
 func evapThreshold(l SubCloudLayer) float64 {
-	if !(l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight && l.SurfaceRH >= 0 && l.SurfaceRH < 1 &&
+	if !(l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight && l.humidityOK(math.Nextafter(1, 0)) &&
 		validT(l.BaseT) && validP(l.BaseP)) {
 		return math.NaN()
 	}
@@ -900,6 +1011,17 @@ func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (k
 		return evEvaporated, math.Max(-zb*colExpm1(xi*lv), 0)
 	}
 	return evOutside, 0
+}
+
+// fraction interpolates the surface drizzle fraction F of the layer l above a surface at
+// pressure ps (Pa), u = ln(1 - RH_s) (evMixedU for well-mixed layers); NaN outside the table.
+func (t *evapTable) fraction(u float64, l *SubCloudLayer, ps float64) float64 {
+	x := [nDims]float64{ps, u, l.BaseT, math.Sqrt(l.BaseHeight)}
+	lf := t.flux.at(&x)
+	if math.IsNaN(lf) {
+		return lf
+	}
+	return colExp(math.Min(lf, 0))
 }
 
 // colExpm1 returns e^x - 1: colExp(x) - 1 for x < -1/2, where |e^x - 1| > 0.39 keeps it

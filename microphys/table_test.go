@@ -221,7 +221,9 @@ func TestEvapThreshold(t *testing.T) {
 	if e := thrTol * (1 - evMinQ) / math.Pow(evMinQ, 0.75); e > tableTol {
 		t.Errorf("threshold bound %g allows a surface-radius error %.3g > %g at Q = evMinQ", thrTol, e, tableTol)
 	}
-	et := buildEvapTable(101325)
+	pl := DefaultParams()
+	pl.SubCloudHumidity = HumiditySurfaceRH // the layers below have a surface humidity
+	et := buildEvapTable(pl)
 	rng := rand.New(rand.NewPCG(17, 3))
 	worst := 0.0
 	for i := 0; i < 1500; i++ {
