@@ -280,7 +280,7 @@ func ExampleDrizzleFluxMoment() {
 	a := microphys.NewAir(95000, 286)
 	fmt.Printf("M = %.4g m4/s\n", microphys.DrizzleFluxMoment(microphys.DefaultDrizzleDSD(), a))
 	// Output:
-	// M = 0
+	// M = 2.814e-13 m4/s
 }
 
 func ExampleDrizzleNumber() {
