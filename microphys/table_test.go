@@ -108,7 +108,11 @@ func compareTable(t *testing.T, p Params, in []Inputs) tableErrors {
 		}
 		// The evaporation table alone, from the same (direct) exit radius.
 		var res colResult
-		if !mt.tab.evaporate(od.CollectorRadius, math.Log(od.CollectorRadius), math.Log1p(-l.SurfaceRH), &l, mt.surfacePressure(in[i].CTH, &l), &res) {
+		u := math.Log1p(-l.SurfaceRH)
+		if l.WellMixed {
+			u = evMixedU
+		}
+		if !mt.tab.evaporate(od.CollectorRadius, math.Log(od.CollectorRadius), u, &l, mt.surfacePressure(in[i].CTH, &l), &res) {
 			continue
 		}
 		e.nEvap++
@@ -189,7 +193,7 @@ var benchEvapSink float64
 // tables), without and with a CTH (surface pressure off the Params.SurfacePressure plane).
 func BenchmarkEvapLookup(b *testing.B) {
 	m := defaultModel(b)
-	l := SubCloudLayer{BaseHeight: 420, BaseT: 286, BaseP: dryBasePressure(286, 420, 101325), SurfaceRH: 0.8}
+	l := SubCloudLayer{BaseHeight: 420, BaseT: 286, BaseP: dryBasePressure(286, 420, 101325), WellMixed: true}
 	for _, c := range []struct {
 		name string
 		ps   float64
@@ -199,7 +203,7 @@ func BenchmarkEvapLookup(b *testing.B) {
 			s := 0.0
 			for i := 0; i < b.N; i++ {
 				r0 := 60e-6 + float64(i&255)*1e-7
-				_, v := m.tab.evap.lookup(r0, math.Log(r0), math.Log1p(-l.SurfaceRH), &l, c.ps)
+				_, v := m.tab.evap.lookup(r0, math.Log(r0), m.lnDryRH, &l, c.ps)
 				s += v
 			}
 			benchEvapSink = s
@@ -354,6 +358,79 @@ func TestTableFastPaths(t *testing.T) {
 			if math.Abs(c[0]-c[1]) > tol*c[2] {
 				t.Fatalf("column %d: layer %+v, want %+v", i, lf, lw)
 			}
+		}
+	}
+}
+
+// collDomainPoint is a uniformly drawn point of the collector table's whole domain
+// (collGrid: ln LWP, ln r_v, T, p). Invented points: a test sample.
+func collDomainPoint(rng *rand.Rand) [tabDims]float64 {
+	var x [tabDims]float64
+	for d := range x {
+		x[d] = collGrid.lo[d] + (collGrid.hi[d]-collGrid.lo[d])*rng.Float64()
+	}
+	return x
+}
+
+// TestCollectorTableWholeDomain checks the collector table against direct integration over
+// its whole domain (LWP 5-1000 g m-2, r_v 3-30 µm, T 273-305 K, p 600-1050 hPa), not only
+// over marine stratocumulus, and around the kink where the cloud-top mean-volume radius
+// equals the collector's start radius (derived: the table holds CollectDirect at its nodes,
+// so this bounds the interpolation error; every column the table answers must be within
+// tableTol, the others are integrated directly and flagged).
+func TestCollectorTableWholeDomain(t *testing.T) {
+	if testing.Short() {
+		t.Skip("direct integration of 3000 collectors")
+	}
+	for _, r0 := range []float64{DefaultCollectorR0, 25e-6} {
+		p := DefaultParams()
+		p.Collector.R0 = r0
+		p.EnableEvaporation = false
+		m, err := NewModel(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rng := rand.New(rand.NewPCG(41, uint64(r0*1e6)))
+		var worstR, worstT float64
+		var atR, atT [tabDims]float64
+		used, n := 0, 0
+		for i := 0; i < 1500; i++ {
+			x := collDomainPoint(rng)
+			if i%3 == 0 { // a third within 6 % of the kink r_v = R0
+				x[1] = math.Log(r0) + 0.06*(2*rng.Float64()-1)
+			}
+			lwp, rv, T, pr := math.Exp(x[0]), math.Exp(x[1]), x[2], x[3]
+			cw := adiabaticState(T, pr).cw
+			h := math.Sqrt(2 * lwp / cw)
+			nd := three * cw * h / (four * math.Pi * WaterDensity * rv * rv * rv)
+			var tab, dir colResult
+			m.collectDirect(h, cw, nd, T, pr, &dir)
+			if !dir.ok {
+				continue
+			}
+			n++
+			if !m.tab.collect(x[0], x[1], h, T, pr, &tab) {
+				continue
+			}
+			used++
+			if tab.exitBase != dir.exitBase {
+				t.Errorf("R0 %g, point %v: table exits base %v, direct %v", r0, x, tab.exitBase, dir.exitBase)
+				continue
+			}
+			if e := math.Abs(tab.r-dir.r) / dir.r; e > worstR {
+				worstR, atR = e, x
+			}
+			if e := math.Abs(tab.t-dir.t) / dir.t; e > worstT {
+				worstT, atT = e, x
+			}
+		}
+		t.Logf("R0 %g µm: %d columns, %d through the table; largest errors: exit radius %.3g (LWP %.3g kg m-2, r_v %.3g µm), exit time %.3g (LWP %.3g, r_v %.3g µm)",
+			r0*1e6, n, used, worstR, math.Exp(atR[0]), math.Exp(atR[1])*1e6, worstT, math.Exp(atT[0]), math.Exp(atT[1])*1e6)
+		if worstR > tableTol || worstT > tableTol {
+			t.Errorf("R0 %g: collector table errors %.3g (radius), %.3g (time) > %g", r0, worstR, worstT, tableTol)
+		}
+		if used < n*3/4 {
+			t.Errorf("R0 %g: table used for %d of %d columns", r0, used, n)
 		}
 	}
 }
