@@ -373,14 +373,14 @@ func collDomainPoint(rng *rand.Rand) [tabDims]float64 {
 }
 
 // TestCollectorTableWholeDomain checks the collector table against direct integration over
-// its whole domain (LWP 5-1000 g m-2, r_v 3-30 µm, T 273-305 K, p 600-1050 hPa), not only
+// its whole domain (LWP 5-400 g m-2, r_v 3-30 µm, T 273-305 K, p 600-1050 hPa), not only
 // over marine stratocumulus, and around the kink where the cloud-top mean-volume radius
 // equals the collector's start radius (derived: the table holds CollectDirect at its nodes,
 // so this bounds the interpolation error; every column the table answers must be within
 // tableTol, the others are integrated directly and flagged).
 func TestCollectorTableWholeDomain(t *testing.T) {
 	if testing.Short() {
-		t.Skip("direct integration of 3000 collectors")
+		t.Skip("direct integration of 6000 collectors")
 	}
 	for _, r0 := range []float64{DefaultCollectorR0, 25e-6} {
 		p := DefaultParams()
@@ -394,9 +394,10 @@ func TestCollectorTableWholeDomain(t *testing.T) {
 		var worstR, worstT float64
 		var atR, atT [tabDims]float64
 		used, n := 0, 0
-		for i := 0; i < 1500; i++ {
+		for i := 0; i < 3000; i++ {
 			x := collDomainPoint(rng)
-			if i%3 == 0 { // a third within 6 % of the kink r_v = R0
+			nearKink := i%3 == 0
+			if nearKink { // a third within 6 % of the kink r_v = R0
 				x[1] = math.Log(r0) + 0.06*(2*rng.Float64()-1)
 			}
 			lwp, rv, T, pr := math.Exp(x[0]), math.Exp(x[1]), x[2], x[3]
@@ -408,11 +409,15 @@ func TestCollectorTableWholeDomain(t *testing.T) {
 			if !dir.ok {
 				continue
 			}
-			n++
+			if !nearKink {
+				n++
+			}
 			if !m.tab.collect(x[0], x[1], h, T, pr, &tab) {
 				continue
 			}
-			used++
+			if !nearKink {
+				used++
+			}
 			if tab.exitBase != dir.exitBase {
 				t.Errorf("R0 %g, point %v: table exits base %v, direct %v", r0, x, tab.exitBase, dir.exitBase)
 				continue
@@ -424,13 +429,78 @@ func TestCollectorTableWholeDomain(t *testing.T) {
 				worstT, atT = e, x
 			}
 		}
-		t.Logf("R0 %g µm: %d columns, %d through the table; largest errors: exit radius %.3g (LWP %.3g kg m-2, r_v %.3g µm), exit time %.3g (LWP %.3g, r_v %.3g µm)",
+		t.Logf("R0 %g µm: %d columns away from the kink, %d of them through the table; largest errors: exit radius %.3g (LWP %.3g kg m-2, r_v %.3g µm), exit time %.3g (LWP %.3g, r_v %.3g µm)",
 			r0*1e6, n, used, worstR, math.Exp(atR[0]), math.Exp(atR[1])*1e6, worstT, math.Exp(atT[0]), math.Exp(atT[1])*1e6)
 		if worstR > tableTol || worstT > tableTol {
 			t.Errorf("R0 %g: collector table errors %.3g (radius), %.3g (time) > %g", r0, worstR, worstT, tableTol)
 		}
-		if used < n*3/4 {
+		if used < n*9/10 {
 			t.Errorf("R0 %g: table used for %d of %d columns", r0, used, n)
+		}
+	}
+}
+
+// TestEvapTableWholeDomain checks the single-drop evaporation tables (threshold, reach and
+// evaporate) against EvaporateDirect over their whole domain (base height 1-3000 m, base
+// temperature 270-306 K, surface pressure within 10 kPa of 1013.25 hPa, surface humidity
+// 0.5-0.99 or well mixed, and drops from a tenth to ten times the threshold radius), with the
+// errors of compareTable: surface radius relative to the cloud-base radius, evaporation
+// height relative to the base height (derived: the tables hold EvaporateDirect at their
+// nodes, so this bounds the interpolation error).
+func TestEvapTableWholeDomain(t *testing.T) {
+	if testing.Short() {
+		t.Skip("direct integration of 3000 drops")
+	}
+	for _, mixed := range []bool{true, false} {
+		p := DefaultParams()
+		if !mixed {
+			p.SubCloudHumidity = HumiditySurfaceRH
+		}
+		et := buildEvapTable(p)
+		rng := rand.New(rand.NewPCG(47, 5))
+		var worstS, worstZ float64
+		n, used := 0, 0
+		for n < 1500 {
+			a := evapAxes
+			lz := a.valLo[0] + (a.valHi[0]-a.valLo[0])*rng.Float64()
+			tb := a.valLo[1] + (a.valHi[1]-a.valLo[1])*rng.Float64()
+			u := a.valLo[2] + (a.valHi[2]-a.valLo[2])*rng.Float64()
+			ps := 101325 + a.valLo[3] + (a.valHi[3]-a.valLo[3])*rng.Float64()
+			l := evLayer(lz, tb, u, ps)
+			if mixed {
+				l.SurfaceRH, l.WellMixed, u = 0, true, evMixedU
+			}
+			if Ts, _, _ := l.State(0); Ts > 320 {
+				continue
+			}
+			rs := evapThreshold(l)
+			r0 := rs * math.Exp(math.Log(10)*(2*rng.Float64()-1))
+			if !(r0 < BeardDMax/2) {
+				continue
+			}
+			n++
+			kind, v := et.lookup(r0, math.Log(r0), u, &l, ps)
+			if kind == evOutside {
+				continue
+			}
+			used++
+			d := EvaporateDirect(r0, l)
+			if d.Reached != (kind == evReached) {
+				t.Errorf("layer %+v, r0 %g: table reached %v, direct %v", l, r0, kind == evReached, d.Reached)
+				continue
+			}
+			if d.Reached {
+				worstS = math.Max(worstS, math.Abs(v-d.SurfaceRadius)/r0)
+			} else {
+				worstZ = math.Max(worstZ, math.Abs(v-d.EvapHeight)/l.BaseHeight)
+			}
+		}
+		t.Logf("well mixed %v: %d drops, %d through the table; largest errors: surface radius/r0 %.3g, evaporation height/z_b %.3g", mixed, n, used, worstS, worstZ)
+		if worstS > tableTol || worstZ > tableTol {
+			t.Errorf("well mixed %v: evaporation table errors %.3g, %.3g > %g", mixed, worstS, worstZ, tableTol)
+		}
+		if used < n*9/10 {
+			t.Errorf("well mixed %v: table used for %d of %d drops", mixed, used, n)
 		}
 	}
 }
