@@ -18,6 +18,8 @@ type physicsFlags struct {
 	reStar, gamma                            float64
 	r0, drizzleR, updraft                    float64
 	surfaceRH, surfaceP                      float64
+	humidity                                 string
+	dsdMean, dsdMin, dsdShape                float64
 	defCTT, defCTP                           float64
 	drizzleLaw                               string
 	kesslerRate, kesslerThr                  float64
@@ -41,7 +43,11 @@ func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 	fs.Float64Var(&f.r0, "collector-radius", d.Collector.R0*1e6, "start radius of the collector drop, µm")
 	fs.Float64Var(&f.drizzleR, "drizzle-radius", d.Collector.DrizzleRadius*1e6, "radius at which the collector counts as a drizzle drop, µm")
 	fs.Float64Var(&f.updraft, "updraft", d.Collector.Updraft, "updraft speed, m s-1 (0: collector released at cloud top; >0: enters at cloud base)")
-	fs.Float64Var(&f.surfaceRH, "surface-rh", d.SurfaceRH, "surface relative humidity (0-1) when the input has none")
+	fs.StringVar(&f.humidity, "subcloud-humidity", d.SubCloudHumidity.String(), "sub-cloud humidity: well-mixed (cloud-base vapour mixing ratio conserved to the surface) or surface-rh (linear from the surface relative humidity to saturation at cloud base, for decoupled layers)")
+	fs.Float64Var(&f.surfaceRH, "surface-rh", d.SurfaceRH, "surface relative humidity (0-1) when the input has none (with --subcloud-humidity surface-rh)")
+	fs.Float64Var(&f.dsdMean, "drizzle-mean-radius", d.Drizzle.MeanRadius*1e6, "mean radius of the drizzle drops leaving cloud base, µm")
+	fs.Float64Var(&f.dsdMin, "drizzle-min-radius", d.Drizzle.MinRadius*1e6, "smallest drizzle drop radius of the cloud-base size distribution, µm")
+	fs.Float64Var(&f.dsdShape, "drizzle-shape", d.Drizzle.Shape, "gamma shape of the cloud-base drizzle size distribution (0: exponential)")
 	fs.Float64Var(&f.surfaceP, "surface-pressure", d.SurfacePressure/100, "surface pressure, hPa, to place cloud base when the input has no cloud-top height")
 	fs.Float64Var(&f.defCTT, "default-ctt", d.DefaultCTT, "cloud-top temperature, K, when the input has none")
 	fs.Float64Var(&f.defCTP, "default-ctp", d.DefaultCTP/100, "cloud-top pressure, hPa, when the input has none")
@@ -50,8 +56,8 @@ func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 	fs.Float64Var(&f.kesslerRate, "kessler-rate", d.KesslerRate, "Kessler rate constant, s-1")
 	fs.Float64Var(&f.kesslerThr, "kessler-threshold", d.KesslerThreshold*1e3, "Kessler threshold cloud-water mixing ratio, g kg-1")
 	fs.StringVar(&f.method, "collector-method", d.CollectorMethod.String(), "collector and evaporation results: table (interpolated, tested to 0.5 %) or direct (integrated per column, slow)")
-	fs.BoolVar(&f.noCollector, "no-collector", false, "skip the collector drop and its evaporation")
-	fs.BoolVar(&f.noEvaporation, "no-evaporation", false, "skip the sub-cloud evaporation of the collector drop")
+	fs.BoolVar(&f.noCollector, "no-collector", false, "skip the collector drop and the sub-cloud evaporation")
+	fs.BoolVar(&f.noEvaporation, "no-evaporation", false, "skip the sub-cloud evaporation (the surface drizzle and the collector drop's fall)")
 	fs.Float64Var(&f.minLWP, "min-lwp", d.MinLWP*1e3, "screen columns with LWP below this, g m-2")
 	fs.Float64Var(&f.minTau, "min-tau", d.MinTau, "screen columns with optical thickness below this")
 	fs.StringVar(&f.reRange, "re-range", fmt.Sprintf("%g,%g", d.ReMin*1e6, d.ReMax*1e6), "valid effective-radius range, µm, as min,max")
@@ -95,7 +101,11 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 	p.Collector.R0 = f.r0 / 1e6
 	p.Collector.DrizzleRadius = f.drizzleR / 1e6
 	p.Collector.Updraft = f.updraft
+	if p.SubCloudHumidity, err = microphys.ParseHumidityProfile(f.humidity); err != nil {
+		return p, usagef("--subcloud-humidity: %v", err)
+	}
 	p.SurfaceRH = f.surfaceRH
+	p.Drizzle = microphys.DrizzleDSD{MeanRadius: f.dsdMean / 1e6, MinRadius: f.dsdMin / 1e6, Shape: f.dsdShape}
 	p.SurfacePressure = f.surfaceP * 100
 	p.DefaultCTT, p.DefaultCTP = f.defCTT, f.defCTP*100
 	parts := strings.Split(f.drizzleLaw, ",")
