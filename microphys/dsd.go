@@ -54,8 +54,8 @@ func DefaultDrizzleDSD() DrizzleDSD {
 
 // ok reports whether d is a valid distribution (the ranges of Params.Validate).
 func (d DrizzleDSD) ok() bool {
-	return d.MinRadius >= 0 && d.MinRadius <= 100e-6 && d.MeanRadius >= d.MinRadius+1e-6 &&
-		d.MeanRadius <= 200e-6 && d.Shape >= 0 && d.Shape <= 20
+	return d.MinRadius >= 0 && d.MinRadius <= 100e-6 && d.MeanRadius > d.MinRadius &&
+		d.MeanRadius >= 2e-6 && d.MeanRadius <= 200e-6 && d.Shape >= 0 && d.Shape <= 20
 }
 
 func (d DrizzleDSD) lambda() float64 { return (d.Shape + 1) / (d.MeanRadius - d.MinRadius) }
