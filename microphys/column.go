@@ -51,7 +51,7 @@ type Model struct {
 	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table
 	// (evMixedU for well-mixed layers).
 	lnDryRH float64
-	mixed   bool // Params.SubCloudHumidity == HumidityWellMixed
+	mixed   bool       // Params.SubCloudHumidity == HumidityWellMixed
 	bulk    bulkConsts // constants of Column's bulk diagnostics (column.go)
 }
 
