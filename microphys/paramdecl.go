@@ -197,7 +197,7 @@ var ParamDecls = []ParamDecl{
 		Help: "surface relative humidity (0-1) when the input has none (with --subcloud-humidity surface-rh)", Source: "a common marine value (from memory)",
 		Get: func(p *Params) float64 { return p.SurfaceRH }, Set: func(p *Params, v float64) { p.SurfaceRH = v }},
 	{Name: "drizzle_mean_radius", Option: "drizzle-mean-radius", Unit: "um", Scale: 1e6, Min: 2, Max: 200,
-		Help: "mean radius of the drizzle drops leaving cloud base (size distribution of the surface drizzle)", Source: "Wood (2005, Part I; from memory); size fixed after [VanZanten2005]",
+		Help: "mean radius of the drizzle drops leaving cloud base (size distribution of the surface drizzle)", Source: "Wood (2005, Part I; from memory); size fixed after vanZanten et al. (2005)",
 		Get: func(p *Params) float64 { return p.Drizzle.MeanRadius }, Set: func(p *Params, v float64) { p.Drizzle.MeanRadius = v }},
 	{Name: "drizzle_min_radius", Option: "drizzle-min-radius", Unit: "um", Scale: 1e6, Min: 0, Max: 100,
 		Help: "smallest drizzle drop radius of the cloud-base size distribution", Source: "[Wood2005] (drizzle: r > 20 um)",
