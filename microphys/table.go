@@ -35,8 +35,13 @@ import "math"
 // random marine-stratocumulus samples with and without CTH (TestTableAgainstDirect). The
 // surface-radius error is relative to the exit radius and the evaporation-height error
 // relative to the cloud-base height, because both pass through zero at the boundary. Every
-// result that does not come from these tested domains is a direct integration, so flagged. Build cost: 24320 collector nodes; 6561 threshold nodes and 864 layers of
-// 21 value nodes (about 25600 evaporation integrations); see BenchmarkNewModel.
+// result that does not come from these tested domains is a direct integration, so flagged.
+//
+// Build cost: 24320 collector nodes; with well-mixed layers (the default) 729 threshold
+// nodes, 144 layers of 21 value nodes and 693 flux nodes of 49 integrations each (about
+// 37000 evaporation integrations); with a surface humidity 6561 threshold nodes, 864 layers
+// and 6237 flux nodes (about 330000); see BenchmarkNewModel. The table cache
+// (cmd/internal/app/tablecache.go) keeps them.
 
 // tabGrid is a regular 4-D grid with, per node, tabVals values (float32, to keep the tables
 // small enough for the processor caches: about 0.5 MB for both) and one state byte (0 =
