@@ -344,3 +344,19 @@ func TestFluxTableAgainstDirect(t *testing.T) {
 		}
 	}
 }
+
+var benchFluxSink float64
+
+// BenchmarkFluxLookup is the surface drizzle fraction lookup of one column (Column's
+// evapTable.fraction), beside BenchmarkEvapLookup, the single-drop evaporation lookup.
+func BenchmarkFluxLookup(b *testing.B) {
+	m := defaultModel(b)
+	b.ReportAllocs()
+	s := 0.0
+	for i := 0; i < b.N; i++ {
+		zb := 300 + float64(i&255)
+		l := SubCloudLayer{BaseHeight: zb, BaseT: 286, BaseP: 95000, WellMixed: true}
+		s += m.tab.evap.fraction(m.lnDryRH, &l, 101325)
+	}
+	benchFluxSink = s
+}

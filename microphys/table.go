@@ -677,6 +677,44 @@ func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
 	return acc
 }
 
+// isLLQQ reports whether g has the flux table's layout: four axes, two linear and then two
+// curved (at2L2Q).
+func (g *nGrid) isLLQQ() bool {
+	return g.dims == 4 && !g.cubic[0] && !g.cubic[1] && g.cubic[2] && g.cubic[3]
+}
+
+// at2L2Q is at for a grid with isLLQQ (the flux table of well-mixed layers): the same taps
+// and weights, unrolled and contracted along the two curved axes first (as at3L2Q); equal to
+// at to rounding (TestTableFastPaths).
+func (g *nGrid) at2L2Q(x *[nDims]float64) float64 {
+	o0, n0, a0, a1 := g.linTaps(0, x[0])
+	o1, n1, b0, b1 := g.linTaps(1, x[1])
+	if n0 == 0 || n1 == 0 {
+		return math.NaN()
+	}
+	var wc, wd [3]float64
+	oc, okc := g.quadTaps(2, x[2], &wc)
+	od, okd := g.quadTaps(3, x[3], &wd)
+	if !okc || !okd {
+		return math.NaN()
+	}
+	wa, wb := [2]float64{a0, a1}, [2]float64{b0, b1}
+	s0, s1, s2 := g.stride[0], g.stride[1], g.stride[2]
+	v := g.vals
+	acc := 0.0
+	for a := 0; a < n0; a++ {
+		for b := 0; b < n1; b++ {
+			o := o0 + a*s0 + o1 + b*s1 + oc + od
+			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
+			r0 := wd[0]*float64(p0[0]) + wd[1]*float64(p0[1]) + wd[2]*float64(p0[2])
+			r1 := wd[0]*float64(p1[0]) + wd[1]*float64(p1[1]) + wd[2]*float64(p1[2])
+			r2 := wd[0]*float64(p2[0]) + wd[1]*float64(p2[1]) + wd[2]*float64(p2[2])
+			acc += wa[a] * wb[b] * (wc[0]*r0 + wc[1]*r1 + wc[2]*r2)
+		}
+	}
+	return acc
+}
+
 // valueAt is at, through at3L2Q for the value tables' layout.
 func (g *nGrid) valueAt(x *[nDims]float64) float64 {
 	if g.isLLLQQ() {
@@ -1058,7 +1096,12 @@ func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (k
 // pressure ps (Pa), u = ln(1 - RH_s) (evMixedU for well-mixed layers); NaN outside the table.
 func (t *evapTable) fraction(u float64, l *SubCloudLayer, ps float64) float64 {
 	x := [nDims]float64{ps, u, l.BaseT, math.Sqrt(l.BaseHeight)}
-	lf := t.flux.at(&x)
+	var lf float64
+	if t.flux.isLLQQ() {
+		lf = t.flux.at2L2Q(&x)
+	} else {
+		lf = t.flux.at(&x)
+	}
 	if math.IsNaN(lf) {
 		return lf
 	}

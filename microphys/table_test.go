@@ -300,7 +300,10 @@ func TestTableFastPaths(t *testing.T) {
 			}
 		}
 	}
-	for _, g := range []*nGrid{m.tab.evap.thr, m.tab.evap.reach, m.tab.evap.evap} {
+	if !m.tab.evap.flux.isLLQQ() {
+		t.Fatal("the flux table of well-mixed layers does not have the layout of at2L2Q")
+	}
+	for _, g := range []*nGrid{m.tab.evap.thr, m.tab.evap.reach, m.tab.evap.evap, m.tab.evap.flux} {
 		for i := 0; i < 20000; i++ {
 			var x [nDims]float64
 			for d := 0; d < g.dims; d++ {
@@ -312,9 +315,12 @@ func TestTableFastPaths(t *testing.T) {
 			}
 			want := g.at(&x)
 			var got float64
-			if g.dims == 4 {
+			switch {
+			case g.isLLQQ():
+				got = g.at2L2Q(&x)
+			case g.dims == 4:
 				got = g.at1L3Q(&x)
-			} else {
+			default:
 				got = g.at3L2Q(&x)
 			}
 			if math.IsNaN(got) != math.IsNaN(want) || math.Abs(got-want) > tol {
@@ -325,8 +331,8 @@ func TestTableFastPaths(t *testing.T) {
 			}
 		}
 	}
-	if inside < 20000 { // a quarter: enough to exercise every table inside
-		t.Errorf("only %d of 80000 points inside the tables", inside)
+	if inside < 25000 { // a quarter: enough to exercise every table inside
+		t.Errorf("only %d of 100000 points inside the tables", inside)
 	}
 	for i := 0; i < 20000; i++ {
 		x := -40 * rng.Float64() * rng.Float64()
