@@ -38,9 +38,9 @@ import "math"
 // result that does not come from these tested domains is a direct integration, so flagged.
 //
 // Build cost: 24320 collector nodes; with well-mixed layers (the default) 729 threshold
-// nodes, 144 layers of 21 value nodes and 693 flux nodes of 49 integrations each (about
-// 37000 evaporation integrations); with a surface humidity 6561 threshold nodes, 864 layers
-// and 6237 flux nodes (about 330000); see BenchmarkNewModel. The table cache
+// nodes, 144 layers of 21 value nodes and 693 flux nodes of 25 integrations each (about
+// 21000 evaporation integrations); with a surface humidity 6561 threshold nodes, 864 layers
+// and 6237 flux nodes (about 180000); see BenchmarkNewModel. The table cache
 // (cmd/internal/app/tablecache.go) keeps them.
 
 // tabGrid is a regular 4-D grid with, per node, tabVals values (float32, to keep the tables

@@ -156,7 +156,7 @@ func TestTableAgainstDirectCTH(t *testing.T) {
 
 // checkTableErrors logs the errors of compareTable and checks them against the bounds of
 // TestTableAgainstDirect (derived: the table is built from the same integrators): at least
-// minN columns, 9/10 of them through the table and 1/evapDiv of them evaporating; every
+// minN columns, 7/8 of them through the table and 1/evapDiv of them evaporating; every
 // table error within tableTol; no column classed differently.
 func checkTableErrors(t *testing.T, e tableErrors, minN, evapDiv int) {
 	t.Helper()
@@ -164,7 +164,10 @@ func checkTableErrors(t *testing.T, e tableErrors, minN, evapDiv int) {
 		"evaporation table (%d columns, same exit radius) surface radius/exit radius %.3g evap height/base height %.3g; "+
 		"end to end surface radius/exit radius %.3g evap height/base height %.3g; class mismatches %d",
 		e.n, e.used, e.radius, e.time, e.nEvap, e.evSurf, e.evZ, e.surf, e.evapZ, e.classMismatch)
-	if e.n < minN || e.used < e.n*9/10 || e.nEvap < e.n/evapDiv {
+	// Columns whose cloud-top mean-volume radius is within the collector-kink band of the
+	// start radius (collTable.kink: r_e 19.6-23 µm for R0 = 20 µm, 3 % of the sample) are
+	// integrated directly too, so 7/8 rather than 9/10 come from the table.
+	if e.n < minN || e.used < e.n*7/8 || e.nEvap < e.n/evapDiv {
 		t.Errorf("sample too small or table rarely used: %d columns, %d via table, %d evaporations", e.n, e.used, e.nEvap)
 	}
 	for _, c := range []struct {

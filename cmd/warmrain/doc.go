@@ -105,7 +105,8 @@ Data go to stdout or files; messages go to stderr.
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
 	                                      (with --subcloud-humidity surface-rh) (default 0.8)
 	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
-	                                      (size distribution of the surface drizzle), µm (default 50)
+	                                      (size distribution of the surface drizzle; above
+	                                      --drizzle-min-radius), µm (default 50)
 	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
 	                                      distribution, µm (default 20)
 	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
@@ -232,7 +233,8 @@ Data go to stdout or files; messages go to stderr.
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
 	                                      (with --subcloud-humidity surface-rh) (default 0.8)
 	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
-	                                      (size distribution of the surface drizzle), µm (default 50)
+	                                      (size distribution of the surface drizzle; above
+	                                      --drizzle-min-radius), µm (default 50)
 	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
 	                                      distribution, µm (default 20)
 	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
