@@ -48,8 +48,8 @@ func TestDrizzleDSDMoments(t *testing.T) {
 
 // linearFraction is F of an exponential distribution (r_min = 0, slope lambda) for drops
 // falling at V = k r through still air of constant state without ventilation: r^2 falls at
-// 2A per second and z at k r, so r_s^3 = r0^3 - r*^3 (derived from physics notes §10, closed
-// form of EvaporateConstant), and with x = lambda r* and the upper incomplete gamma function
+// 2A per second and z at k r, so r_s^3 = r0^3 - r*^3 (derived: the closed form of
+// EvaporateConstant), and with x = lambda r* and the upper incomplete gamma function
 // Gamma(n, x) = (n-1)! e^-x sum_{k<n} x^k/k! for integer n,
 //
 //	F = int_{r*} (r^3 - r*^3) r f dr / int r^4 f dr = (Gamma(5, x) - x^3 Gamma(2, x))/4!

@@ -102,7 +102,7 @@ type Params struct {
 	FixedCw float64
 	// ReStar is the drizzle-onset cloud-top effective radius r_e*, m. Default 14 µm
 	// [RosenfeldGutman1994] (from memory); 13 µm and 15 µm are published alternatives
-	// (physics notes §9.1).
+	// (doc/science.md#drizzle-onset).
 	ReStar float64
 	// GammaShape is the shape nu of the sub-grid gamma distribution of LWP used when a
 	// column has no LWP standard deviation, 1. Default 4: between the broken-cloud (1-3)

@@ -40,7 +40,7 @@
 //
 //	S_X = -d ln X / d ln N_d
 //
-// computed over a region, not per pixel (physics.md §9.2, recommended practice [from
+// computed over a region, not per pixel (doc/science.md#probability-and-susceptibility, recommended practice [from
 // memory]). For each LWP bin i we take the N_d bins j with at least Options.MinCount
 // columns and a positive mean, and fit by weighted least squares
 //
