@@ -37,7 +37,9 @@ func TestDrizzleDSDMoments(t *testing.T) {
 		one := d.dsdIntegral(r0, func(float64) float64 { return 1 })
 		mean := d.dsdIntegral(r0, func(r float64) float64 { return r })
 		m4 := d.dsdIntegral(r0, func(r float64) float64 { return r * r * r * r })
-		if !scalar.EqualWithinRel(one, 1, 1e-9) || !scalar.EqualWithinRel(mean, d.MeanRadius, 1e-9) || !scalar.EqualWithinRel(m4, want4, 1e-9) {
+		// 24 Gauss-Legendre nodes (dsdPanels): within 1e-6 even for the narrow, peaked shape 5.5
+		// (2e-7 measured), far below the 0.5 % table bound.
+		if !scalar.EqualWithinRel(one, 1, 1e-6) || !scalar.EqualWithinRel(mean, d.MeanRadius, 1e-6) || !scalar.EqualWithinRel(m4, want4, 1e-6) {
 			t.Errorf("%+v: integral of f %.12g (want 1), mean %.12g (want %g), E[r^4] %.12g (want %.12g)", d, one, mean, d.MeanRadius, m4, want4)
 		}
 	}
