@@ -30,8 +30,13 @@ type Outputs struct {
 	CollectorRadius float64 // collector drop radius on leaving the cloud, m
 	CollectorTime   float64 // collector drop time in cloud, s
 	SurfaceRadius   float64 // collector drop radius at the surface, m (0 when it evaporated)
-	EvapHeight      float64 // height above the surface where it evaporated, m (NaN when it reached the surface)
-	QC              uint16  // QC bits, see QCFlags
+	EvapHeight      float64 // height above the surface where the collector drop evaporated, m (NaN when it reached the surface)
+	// SurfaceDrizzleFraction is the fraction of the cloud-base drizzle flux that reaches the
+	// surface (SurfaceDrizzleFraction of Params.Drizzle), 1, and SurfaceDrizzleRate is
+	// that fraction of DrizzleRate, kg m-2 s-1.
+	SurfaceDrizzleFraction float64
+	SurfaceDrizzleRate     float64
+	QC                     uint16 // QC bits, see QCFlags
 }
 
 // Model is a validated parameter set with its precomputed tables. A Model is safe for
@@ -43,8 +48,10 @@ type Model struct {
 	cbrtK float64    // K^(1/3)
 	tab   *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
 	pop   *popTable  // drizzle-probability table (pop.go)
-	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table.
+	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table
+	// (evMixedU for well-mixed layers).
 	lnDryRH float64
+	mixed   bool       // Params.SubCloudHumidity == HumidityWellMixed
 	bulk    bulkConsts // constants of Column's bulk diagnostics (column.go)
 }
 
@@ -68,6 +75,9 @@ func NewModel(p Params) (*Model, error) {
 // newModelBase is the Model of valid parameters p without its collector tables.
 func newModelBase(p Params) *Model {
 	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
+	if p.SubCloudHumidity == HumidityWellMixed {
+		m.mixed, m.lnDryRH = true, evMixedU
+	}
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
 	m.pop = newPopTable()
@@ -387,7 +397,7 @@ const (
 // Valid: marine warm stratocumulus; the screening thresholds in Params.
 func (m *Model) Column(in *Inputs, out *Outputs) {
 	nan := math.NaN()
-	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
+	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
 	p := &m.p
 	var qc uint16
 
@@ -431,7 +441,9 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	rhs := in.SurfaceRH
 	if math.IsNaN(rhs) {
 		rhs = p.SurfaceRH
-		qc |= QCSurfaceRHAssumed
+		if !m.mixed { // a well-mixed layer takes its humidity from cloud base
+			qc |= QCSurfaceRHAssumed
+		}
 	} else if !(rhs >= 0 && rhs <= 1) {
 		qc |= QCInputInvalid
 	}
@@ -533,6 +545,43 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc
 		return
 	}
+	// The sub-cloud layer (placed in the fast arithmetic for the tables, subCloudFast: table
+	// coordinates, equal to rounding; a direct integration gets the layer of the exported
+	// functions' arithmetic) and the drizzle that reaches the surface from the cloud-base
+	// size distribution.
+	var l SubCloudLayer
+	fastL := m.tab != nil && m.tab.evap != nil
+	okL := false
+	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
+	if p.EnableEvaporation {
+		if fastL {
+			okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
+		} else {
+			tb, pb := math.NaN(), math.NaN()
+			if h <= 5000 {
+				tb, pb = cloudBase(T, pr, h, st.gm)
+			}
+			okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
+		}
+		if !math.IsNaN(in.SurfaceRH) && !m.mixed {
+			u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
+		}
+		if okL {
+			f := nan
+			if fastL {
+				f = m.tab.evap.fraction(u, &l, m.surfacePressureFast(cth, &l))
+			}
+			if math.IsNaN(f) {
+				if m.tab != nil {
+					qc |= QCIntegratedDirectly
+				}
+				f = m.directFraction(lwp, re, in.Tau, T, pr, cth, rhs)
+			}
+			if f >= 0 && f <= 1 {
+				out.SurfaceDrizzleFraction, out.SurfaceDrizzleRate = f, f*out.DrizzleRate
+			}
+		}
+	}
 	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
 	lnLWP, lnRv := colLog(lwp), colLog(m.cbrtK*reTop)
 	var res colResult
@@ -558,28 +607,9 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc | QCEvaporationSkipped
 		return
 	}
-	// The layer of the evaporation table is placed in the fast arithmetic (subCloudFast: table
-	// coordinates, equal to rounding); a direct integration gets the layer of the exported
-	// functions' arithmetic below.
-	var l SubCloudLayer
-	fastL := m.tab != nil && m.tab.evap != nil
-	var okL bool
-	if fastL {
-		okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
-	} else {
-		tb, pb := math.NaN(), math.NaN()
-		if h <= 5000 {
-			tb, pb = cloudBase(T, pr, h, st.gm)
-		}
-		okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
-	}
 	if !okL {
 		out.QC = qc | QCEvaporationSkipped
 		return
-	}
-	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default
-	if !math.IsNaN(in.SurfaceRH) {
-		u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
 	}
 	if !fastL || !m.tab.evaporate(res.r, res.lnR, u, &l, m.surfacePressureFast(cth, &l), &res) {
 		if m.tab != nil {
@@ -646,6 +676,22 @@ func (m *Model) exactColumn(lwp, re, tau, T, pr float64) exactCol {
 		nd: DropletNumber(tau, re, p.K, p.Qext, p.Fad, cw), gm: st.gm, ok: true}
 }
 
+// directFraction is SurfaceDrizzleFraction for a column that passed Column's screening, with
+// the layer in the arithmetic of the exported functions (exactColumn, cloudBase,
+// subCloudFrom); NaN when the layer is undefined.
+func (m *Model) directFraction(lwp, re, tau, T, pr, cth, rhs float64) float64 {
+	ex := m.exactColumn(lwp, re, tau, T, pr)
+	tb, pb := math.NaN(), math.NaN()
+	if ex.h <= 5000 {
+		tb, pb = cloudBase(T, pr, ex.h, ex.gm)
+	}
+	var l SubCloudLayer
+	if !m.subCloudFrom(tb, pb, ex.h, cth, rhs, &l) {
+		return math.NaN()
+	}
+	return SurfaceDrizzleFraction(m.p.Drizzle, l)
+}
+
 // colResult is the collector and evaporation result of one column.
 type colResult struct {
 	r, t     float64 // exit radius (m) and time (s)
@@ -671,11 +717,16 @@ const colHalf = 0.5
 // CloudBase returns the temperature tb (K) and pressure pb (Pa) at the base of an adiabatic
 // cloud of thickness h (m) whose top is at temperature T (K) and pressure p (Pa), by one
 // midpoint step down the moist adiabat and the hydrostatic equation with the layer-mean
-// temperature (virtual correction neglected, < 0.5 % in p_b - p):
+// virtual temperature of the saturated air:
 //
-//	T_m = T + G_m(T, p) H/2,  T_b = T + G_m(T_m, p_m) H,  p_b = p exp(g H/(R_d (T + T_b)/2))
+//	T_m = T + G_m(T, p) H/2,  p_m = p exp(g H/2/(R_d (T + T_m)/2)),  T_b = T + G_m(T_m, p_m) H
+//	v_m = T_v/T at (T_m, p_m) = p_m/(R_d rho_a T_m),  rho_a = AirDensity(p_m, T_m, r_s)
+//	p_b = p exp(g H/(R_d v_m (T + T_b)/2))
 //
-// Reference: [Glickman2000] moist-adiabatic lapse rate; hydrostatic balance (common practice).
+// (v_m = (1 + r_s/eps)/(1 + r_s), 1.002-1.006 in warm clouds; the half step p_m, which only
+// places the midpoint, keeps the dry temperature; liquid-water loading is neglected.)
+// Reference: [Glickman2000] moist-adiabatic lapse rate; [RogersYau1989] eq. 1.11 (virtual
+// temperature); hydrostatic balance (common practice).
 // Valid: as CondensationRate at top and base; 0 <= h <= 5000 m; NaN otherwise.
 func CloudBase(T, p, h float64) (tb, pb float64) {
 	if !(h >= 0 && h <= 5000) {
@@ -688,13 +739,23 @@ func CloudBase(T, p, h float64) (tb, pb float64) {
 func cloudBase(T, p, h, g1 float64) (tb, pb float64) {
 	tm := T + g1*h*colHalf
 	pm := p * math.Exp(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf))
-	g2 := adiabaticState(tm, pm).gm
+	st2 := adiabaticState(tm, pm)
+	g2 := st2.gm
 	if math.IsNaN(g2) {
 		g2 = g1
 	}
 	tb = T + g2*h
-	pb = p * math.Exp(Gravity*h/(GasConstantDry*(T+tb)*colHalf))
+	pb = p * math.Exp(Gravity*h/(GasConstantDry*(T+tb)*colHalf*virtualFactor(tm, pm, st2.rho)))
 	return tb, pb
+}
+
+// virtualFactor is T_v/T = p/(R_d rho T) of saturated air of density rho (kg m-3) at (T K,
+// p Pa), or 1 (dry air) when rho is NaN (outside adiabaticState's range).
+func virtualFactor(T, p, rho float64) float64 {
+	if !(rho > 0) {
+		return 1
+	}
+	return p / (GasConstantDry * rho * T)
 }
 
 // DryBaseHeight returns the height (m) of a cloud base at (tb K, pb Pa) above a surface at
@@ -744,7 +805,7 @@ func (m *Model) subCloud(T, pr, h, cth, rhs float64, l *SubCloudLayer) bool {
 // rate g1 (K m-1): the formulas of cloudBase, DryBaseHeight and subCloudFrom with colExp,
 // colLog and airStateFast's lapse rate (within adStateTol of adiabaticState), so the layer
 // equals subCloud's to rounding (derived). Without a CTH, ln(p_s/p_b) is formed as
-// ln(p_s/p) - g H/(R_d (T + T_b)/2), p_b's own exponent, so the logarithm does not wait for
+// ln(p_s/p) - g H/(R_d v_m (T + T_b)/2), p_b's own exponent, so the logarithm does not wait for
 // the cloud base.
 func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bool {
 	if !(h <= 5000) {
@@ -757,12 +818,13 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	}
 	tm := T + g1*h*colHalf
 	pm := p * colExp(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf))
-	g2 := airStateFast(tm, pm).gm
+	st2 := airStateFast(tm, pm)
+	g2 := st2.gm
 	if math.IsNaN(g2) {
 		g2 = g1
 	}
 	tb := T + g2*h
-	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf)
+	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf * virtualFactor(tm, pm, st2.rho))
 	pb := p * colExp(x)
 	zb := cth - h
 	if noCTH {
@@ -775,7 +837,7 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	if !(zb > 0) || !colFinite(tb) || !colFinite(pb) {
 		return false
 	}
-	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs}
+	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs, WellMixed: m.mixed}
 	return true
 }
 
@@ -790,6 +852,6 @@ func (m *Model) subCloudFrom(tb, pb, h, cth, rhs float64, l *SubCloudLayer) bool
 	if !(zb > 0) || !colFinite(tb) || !colFinite(pb) {
 		return false
 	}
-	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs}
+	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs, WellMixed: m.mixed}
 	return true
 }

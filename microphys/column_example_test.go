@@ -91,7 +91,7 @@ func ExampleCloudBase() {
 	tb, pb := microphys.CloudBase(283, 90000, 300)
 	fmt.Printf("T_b = %.4g K, p_b = %.4g Pa\n", tb, pb)
 	// Output:
-	// T_b = 284.5 K, p_b = 9.331e+04 Pa
+	// T_b = 284.5 K, p_b = 9.329e+04 Pa
 }
 
 func ExampleDryBaseHeight() {
@@ -197,11 +197,26 @@ func ExampleModel_Column() {
 	m.Column(&in, &out)
 	fmt.Printf("N_d %.4g cm-3, H %.4g m, drizzle %.4g mm/day, POP %.4g\n", out.Nd*1e-6, out.H, out.DrizzleRate*86400, out.POP)
 	fmt.Printf("collector %.3g µm after %.3g s\n", out.CollectorRadius*1e6, out.CollectorTime)
+	fmt.Printf("surface drizzle %.3g of the cloud-base rate: %.3g mm/day\n", out.SurfaceDrizzleFraction, out.SurfaceDrizzleRate*86400)
 	fmt.Println(microphys.QCNames(out.QC))
 	// Output:
 	// N_d 124.4 cm-3, H 333.2 m, drizzle 0.3475 mm/day, POP 0.002989
 	// collector 26.9 µm after 4.71e+03 s
-	// [surface_humidity_assumed cloud_base_height_assumed]
+	// surface drizzle 0.0517 of the cloud-base rate: 0.018 mm/day
+	// [cloud_base_height_assumed]
+}
+
+func ExampleParseHumidityProfile() {
+	h, err := microphys.ParseHumidityProfile("surface-rh")
+	fmt.Println(h, err)
+	// Output:
+	// surface-rh <nil>
+}
+
+func ExampleHumidityProfile_String() {
+	fmt.Println(microphys.DefaultParams().SubCloudHumidity)
+	// Output:
+	// well-mixed
 }
 
 func ExampleParams_Validate() {

@@ -49,7 +49,7 @@ func TestColumnTypical(t *testing.T) {
 	if out.QC&QCScreenMask != 0 {
 		t.Fatalf("screened: %v", QCNames(out.QC))
 	}
-	want := QCCloudBaseAssumed | QCSurfaceRHAssumed
+	want := QCCloudBaseAssumed // well mixed (the default): no surface humidity is needed
 	if out.QC != want {
 		t.Errorf("QC = %v, want %v", QCNames(out.QC), QCNames(want))
 	}
@@ -88,8 +88,13 @@ func TestColumnTypical(t *testing.T) {
 		t.Errorf("collector did not grow: %g", out.CollectorRadius)
 	}
 	var l SubCloudLayer
-	if !m.subCloud(285, 90000, h, math.NaN(), 0.8, &l) {
-		t.Fatal("no sub-cloud layer")
+	if !m.subCloud(285, 90000, h, math.NaN(), 0.8, &l) || !l.WellMixed {
+		t.Fatalf("no well-mixed sub-cloud layer: %+v", l)
+	}
+	// Surface drizzle from the flux table within its bound (TestFluxTableAgainstDirect).
+	if f := SurfaceDrizzleFraction(p.Drizzle, l); !(math.Abs(out.SurfaceDrizzleFraction-f) <= fluxTol*math.Max(f, fluxFloor)) ||
+		out.SurfaceDrizzleRate != out.SurfaceDrizzleFraction*out.DrizzleRate {
+		t.Errorf("surface fraction %g (direct %g), rate %g for R_CB %g", out.SurfaceDrizzleFraction, f, out.SurfaceDrizzleRate, out.DrizzleRate)
 	}
 	e := EvaporateDirect(res.r, l)
 	if e.Reached {

@@ -77,9 +77,11 @@ func EvaporationRate(r, S float64, a *Air) float64 {
 // maxSaturation is the largest saturation ratio EvaporationRate accepts (common practice).
 const maxSaturation = 1.1
 
-// SubCloudLayer is a well-mixed layer between the surface and cloud base: temperature along
-// the dry adiabat, hydrostatic pressure, relative humidity linear in height from SurfaceRH at
-// the surface to 1 at cloud base.
+// SubCloudLayer is a layer between the surface and cloud base with temperature along the dry
+// adiabat and hydrostatic pressure. Its humidity is either that of a well-mixed layer
+// (WellMixed: the vapour mixing ratio of cloud base, conserved down to the surface) or, for a
+// layer decoupled from the cloud, relative humidity linear in height from SurfaceRH at the
+// surface to 1 at cloud base.
 type SubCloudLayer struct {
 	// BaseHeight is the cloud-base height above the surface, m.
 	BaseHeight float64
@@ -87,8 +89,12 @@ type SubCloudLayer struct {
 	BaseT float64
 	// BaseP is the pressure at cloud base, Pa.
 	BaseP float64
-	// SurfaceRH is the relative humidity at the surface (1, i.e. a fraction).
+	// SurfaceRH is the relative humidity at the surface (1, i.e. a fraction); not used when
+	// WellMixed is true.
 	SurfaceRH float64
+	// WellMixed selects the humidity of a well-mixed layer: the saturation mixing ratio of
+	// cloud base, conserved below it (false: linear in height from SurfaceRH).
+	WellMixed bool
 }
 
 // State returns temperature T (K), pressure p (Pa) and saturation ratio S (1) at height z (m
@@ -96,15 +102,31 @@ type SubCloudLayer struct {
 //
 //	T = BaseT + (g/c_pd)(BaseHeight - z)
 //	p = BaseP (T/BaseT)^(c_pd/R_d)            (hydrostatic dry adiabat)
-//	S = SurfaceRH + (1 - SurfaceRH) z/BaseHeight
+//	S = r_s(BaseT, BaseP)/r_s(T, p),  r_s = eps e_s/(p - e_s)   (WellMixed)
+//	S = SurfaceRH + (1 - SurfaceRH) z/BaseHeight                (otherwise)
 //
-// Reference: [RogersYau1989] eqs. 2.8 and 3.2 (dry adiabat, hydrostatic balance).
-// Valid: 0 <= z <= BaseHeight (extrapolated outside); NaN for NaN input.
+// with e_s = SatVapourPressure. In the well-mixed layer the total-water mixing ratio is
+// conserved below cloud base, where the air is just saturated.
+// Reference: [RogersYau1989] eqs. 2.8 and 3.2 (dry adiabat, hydrostatic balance), sec. 2.2
+// (mixing ratio); [Wood2012] (well-mixed boundary layer).
+// Valid: 0 <= z <= BaseHeight (extrapolated outside); NaN for NaN input or an air state
+// outside [AirTMin, AirTMax] (WellMixed).
 func (l SubCloudLayer) State(z float64) (T, p, S float64) {
 	T = l.BaseT + Gravity/SpecificHeatDryAir*(l.BaseHeight-z)
 	p = l.BaseP * math.Exp(SpecificHeatDryAir/GasConstantDry*math.Log(T/l.BaseT))
+	if l.WellMixed {
+		eb, es := SatVapourPressure(l.BaseT), SatVapourPressure(T)
+		S = eb * (p - es) / (es * (l.BaseP - eb))
+		return T, p, S
+	}
 	S = l.SurfaceRH + (1-l.SurfaceRH)*z/l.BaseHeight
 	return T, p, S
+}
+
+// humidityOK reports whether l's humidity description is valid: WellMixed, or SurfaceRH in
+// [0, 1] (hi: the largest SurfaceRH accepted).
+func (l *SubCloudLayer) humidityOK(hi float64) bool {
+	return l.WellMixed || l.SurfaceRH >= 0 && l.SurfaceRH <= hi
 }
 
 // EvapPath is the result of EvaporateDirect. Floats are NaN on invalid input or failure.
@@ -182,7 +204,7 @@ func (e evapSys) deriv(y [2]float64) [2]float64 {
 // (r = 0) or the surface (z = 0) by re-stepping.
 // Reference: [RogersYau1989] eq. 7.18; [PruppacherKlett1997] eqs. 13-28, 13-60, 13-61;
 // [BeardPruppacher1971]; [Beard1976]; [DormandPrince1980].
-// Valid: r0 in (0, 3.5 mm], BaseHeight in (0, 5 km], SurfaceRH in [0, 1], the air at base and
+// Valid: r0 in (0, 3.5 mm], BaseHeight in (0, 5 km], SurfaceRH in [0, 1] (or WellMixed), the air at base and
 // at the surface inside [AirTMin, AirTMax] x [AirPMin, AirPMax]; NaN fields otherwise, or
 // when EvapMaxSteps or EvapMaxTime is exceeded.
 func EvaporateDirect(r0 float64, l SubCloudLayer) EvapPath { return evaporateTol(r0, l, EvapRelTol) }
@@ -192,7 +214,7 @@ func EvaporateDirect(r0 float64, l SubCloudLayer) EvapPath { return evaporateTol
 func evaporateTol(r0 float64, l SubCloudLayer, rtol float64) EvapPath {
 	bad := EvapPath{SurfaceRadius: math.NaN(), EvapHeight: math.NaN(), Time: math.NaN()}
 	if !(r0 > 0 && r0 <= BeardDMax/2 && l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight &&
-		l.SurfaceRH >= 0 && l.SurfaceRH <= 1 && validT(l.BaseT) && validP(l.BaseP)) {
+		l.humidityOK(1) && validT(l.BaseT) && validP(l.BaseP)) {
 		return bad
 	}
 	if Ts, ps, _ := l.State(0); !validT(Ts) || !validP(ps) {

@@ -261,3 +261,43 @@ func ExampleEvaporateConstant() {
 	// Output:
 	// lifetime 5.292 s, fall 0.03297 m
 }
+
+func ExampleDefaultDrizzleDSD() {
+	d := microphys.DefaultDrizzleDSD()
+	fmt.Printf("mean %g m, above %g m, shape %g\n", d.MeanRadius, d.MinRadius, d.Shape)
+	// Output:
+	// mean 5e-05 m, above 2e-05 m, shape 0
+}
+
+func ExampleDrizzleDSD_PDF() {
+	d := microphys.DefaultDrizzleDSD()
+	fmt.Printf("f(20 µm) %.4g, f(100 µm) %.4g per m\n", d.PDF(20e-6), d.PDF(100e-6))
+	// Output:
+	// f(20 µm) 3.333e+04, f(100 µm) 2316 per m
+}
+
+func ExampleDrizzleFluxMoment() {
+	a := microphys.NewAir(95000, 286)
+	fmt.Printf("M = %.4g m4/s\n", microphys.DrizzleFluxMoment(microphys.DefaultDrizzleDSD(), a))
+	// Output:
+	// M = 2.814e-13 m4/s
+}
+
+func ExampleDrizzleNumber() {
+	a := microphys.NewAir(95000, 286)
+	n := microphys.DrizzleNumber(1.0/86400, microphys.DefaultDrizzleDSD(), a) // 1 mm/day
+	fmt.Printf("%.4g drops per litre\n", n*1e-3)
+	// Output:
+	// 9.819 drops per litre
+}
+
+func ExampleSurfaceDrizzleFraction() {
+	d := microphys.DefaultDrizzleDSD()
+	for _, zb := range []float64{300, 600} {
+		l := microphys.SubCloudLayer{BaseHeight: zb, BaseT: 286, BaseP: 101325 - 11.6*zb, WellMixed: true}
+		fmt.Printf("base %g m: %.3g of the cloud-base flux reaches the surface\n", zb, microphys.SurfaceDrizzleFraction(d, l))
+	}
+	// Output:
+	// base 300 m: 0.396 of the cloud-base flux reaches the surface
+	// base 600 m: 0.0797 of the cloud-base flux reaches the surface
+}

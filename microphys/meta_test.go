@@ -189,7 +189,7 @@ func TestBibliography(t *testing.T) {
 
 // dropPhysicsFiles are the files of the drop-physics part whose every exported function must
 // have an Example (DEVELOPERS.md, conventions).
-var dropPhysicsFiles = []string{"air.go", "terminal.go", "collision.go", "coalescence.go", "collector.go", "evaporation.go"}
+var dropPhysicsFiles = []string{"air.go", "terminal.go", "collision.go", "coalescence.go", "collector.go", "evaporation.go", "dsd.go"}
 
 func TestExamplesExist(t *testing.T) {
 	t.Parallel()

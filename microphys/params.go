@@ -46,6 +46,45 @@ func ParseCollectorMethod(s string) (CollectorMethod, error) {
 	return 0, fmt.Errorf("microphys: unknown collector method %q (want table or direct)", s)
 }
 
+// HumidityProfile chooses the relative humidity of the sub-cloud layer (SubCloudLayer).
+type HumidityProfile int
+
+const (
+	// HumidityWellMixed conserves the vapour mixing ratio of cloud base down to the surface
+	// (a layer mixed with the cloud, as its dry-adiabatic temperature assumes). The default.
+	HumidityWellMixed HumidityProfile = iota
+	// HumiditySurfaceRH takes the column's surface relative humidity (or Params.SurfaceRH)
+	// and rises linearly to saturation at cloud base: for layers decoupled from the cloud.
+	HumiditySurfaceRH
+)
+
+var humidityProfileNames = [...]string{"well-mixed", "surface-rh"}
+
+// String returns the profile's name: "well-mixed" or "surface-rh".
+//
+// Reference: none (software interface).
+// Valid: always.
+func (h HumidityProfile) String() string {
+	if h < 0 || int(h) >= len(humidityProfileNames) {
+		return "HumidityProfile(" + strconv.Itoa(int(h)) + ")"
+	}
+	return humidityProfileNames[h]
+}
+
+// ParseHumidityProfile returns the profile named s ("well-mixed" or "surface-rh"), or an
+// error listing the valid names.
+//
+// Reference: none (software interface).
+// Valid: any string; unknown names give an error.
+func ParseHumidityProfile(s string) (HumidityProfile, error) {
+	for i, n := range humidityProfileNames {
+		if s == n {
+			return HumidityProfile(i), nil
+		}
+	}
+	return 0, fmt.Errorf("microphys: unknown sub-cloud humidity %q (want well-mixed or surface-rh)", s)
+}
+
 // Params holds every parameter of the column model. Start from DefaultParams and change
 // fields; NewModel validates them. All values are SI base units.
 type Params struct {
@@ -96,9 +135,20 @@ type Params struct {
 	// evaporation on (default both true). Evaporation needs the collector.
 	EnableCollector   bool
 	EnableEvaporation bool
-	// SurfaceRH is the surface relative humidity used when a column gives none, 1.
-	// Default 0.8 (a common marine value, from memory).
+	// SubCloudHumidity chooses the sub-cloud humidity profile. Default HumidityWellMixed
+	// (the vapour mixing ratio of cloud base conserved down to the surface, consistent
+	// with the dry-adiabatic temperature of the layer [Wood2012]); HumiditySurfaceRH uses
+	// the surface relative humidity (for decoupled layers).
+	SubCloudHumidity HumidityProfile
+	// SurfaceRH is the surface relative humidity used when a column gives none, 1
+	// (HumiditySurfaceRH only). Default 0.8 (a common marine value, from memory).
 	SurfaceRH float64
+	// Drizzle is the size distribution of the drizzle drops leaving cloud base, whose
+	// number is closed by the cloud-base drizzle rate (SurfaceDrizzleFraction). Default
+	// DefaultDrizzleDSD: exponential above 20 µm [Wood2005] with mean radius 50 µm (from
+	// memory); its size and shape are fixed because drizzling and non-drizzling regions
+	// differ mainly in drizzle drop number, not size [VanZanten2005].
+	Drizzle DrizzleDSD
 	// SurfacePressure is the surface pressure used to place cloud base when the column
 	// gives no cloud-top height, Pa. Default 101325 (standard atmosphere, common practice).
 	SurfacePressure float64
@@ -159,7 +209,9 @@ func DefaultParams() Params {
 		CollectorMethod:   CollectorTable,
 		EnableCollector:   true,
 		EnableEvaporation: true,
+		SubCloudHumidity:  HumidityWellMixed,
 		SurfaceRH:         0.8,
+		Drizzle:           DefaultDrizzleDSD(),
 		SurfacePressure:   101325,
 		DefaultCTT:        285,
 		DefaultCTP:        90000,
@@ -217,7 +269,7 @@ func (p Params) Validate() error {
 		}
 		panic("microphys: no parameter " + name)
 	}
-	for _, c := range [][2]string{{"re_range_min", "re_range_max"}, {"nd_range_min", "nd_range_max"}} {
+	for _, c := range [][2]string{{"re_range_min", "re_range_max"}, {"nd_range_min", "nd_range_max"}, {"drizzle_min_radius", "drizzle_mean_radius"}} {
 		lo, hi := byName(c[0]), byName(c[1])
 		if !(hi.Get(&p) > lo.Get(&p)) {
 			return &ParamError{Field: hi.Name, Option: hi.Option, Value: hi.FromSI(hi.Get(&p)),

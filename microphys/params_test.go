@@ -84,8 +84,9 @@ func TestSettings(t *testing.T) {
 		seen[kv.Name] = true
 	}
 	// One setting per Params field, the Collector expanded to R0, Updraft, DrizzleRadius and
-	// RelTol (its Collision/Coalescence are overridden by Params.Collision/Coalescence).
-	if want := reflect.TypeOf(Params{}).NumField() - 1 + 4; len(s) != want {
+	// RelTol (its Collision/Coalescence are overridden by Params.Collision/Coalescence) and
+	// the Drizzle distribution to its three fields.
+	if want := reflect.TypeOf(Params{}).NumField() - 2 + 4 + 3; len(s) != want {
 		t.Errorf("%d settings, want %d (a Params field is missing from Settings)", len(s), want)
 	}
 	for _, want := range []string{"autoconversion=kk2000", "collector_method=table", "k_ratio=0.8", "collision=hall1980"} {

@@ -16,12 +16,12 @@ const (
 	// Informational bits.
 	QCAirStateAssumed    uint16 = 1 << 8  // CTT and/or CTP absent: Params.DefaultCTT/DefaultCTP (or Params.FixedCw) used
 	QCGammaShapeAssumed  uint16 = 1 << 9  // LWPStd absent: Params.GammaShape used for the drizzle probability
-	QCSurfaceRHAssumed   uint16 = 1 << 10 // SurfaceRH absent: Params.SurfaceRH used
+	QCSurfaceRHAssumed   uint16 = 1 << 10 // SurfaceRH absent: Params.SurfaceRH used (HumiditySurfaceRH only)
 	QCCloudBaseAssumed   uint16 = 1 << 11 // CTH absent: cloud-base height from the dry adiabat down to Params.SurfacePressure
 	QCCollectorFailed    uint16 = 1 << 12 // collector integration gave no result: collector and evaporation outputs NaN
 	QCCollectorExitTop   uint16 = 1 << 13 // collector drop carried out through cloud top: exit radius/time refer to the top, no evaporation
 	QCEvaporationSkipped uint16 = 1 << 14 // sub-cloud layer undefined (cloud base at or below the surface) or evaporation off
-	QCIntegratedDirectly uint16 = 1 << 15 // collector or evaporation integrated directly: outside the tables or near a regime boundary
+	QCIntegratedDirectly uint16 = 1 << 15 // collector, evaporation or surface fraction integrated directly: outside the tested tables, near a regime boundary or the collector kink
 	QCScreenMask         uint16 = QCInputMissing | QCInputInvalid | QCThinCloud | QCEffectiveRadiusOutOfRange | QCPossibleIce | QCDropletNumberImplausible | QCThicknessImplausible
 )
 
@@ -46,12 +46,12 @@ var QCFlags = []QCFlag{
 	{QCThicknessImplausible, "thickness_implausible", "adiabatic cloud thickness above the plausible maximum", true},
 	{QCAirStateAssumed, "air_state_assumed", "cloud-top temperature or pressure absent; default air state used", false},
 	{QCGammaShapeAssumed, "gamma_shape_assumed", "no liquid water path standard deviation; default gamma shape used", false},
-	{QCSurfaceRHAssumed, "surface_humidity_assumed", "surface relative humidity absent; default used", false},
+	{QCSurfaceRHAssumed, "surface_humidity_assumed", "surface relative humidity absent; default used (sub-cloud humidity surface-rh only)", false},
 	{QCCloudBaseAssumed, "cloud_base_height_assumed", "cloud-top height absent; cloud-base height from the dry adiabat to the surface pressure", false},
 	{QCCollectorFailed, "collector_failed", "collector-drop integration gave no result", false},
 	{QCCollectorExitTop, "collector_exit_top", "collector drop carried out through cloud top", false},
 	{QCEvaporationSkipped, "evaporation_skipped", "sub-cloud evaporation not computed", false},
-	{QCIntegratedDirectly, "integrated_directly", "collector or evaporation integrated directly (outside the precomputed tables or near a regime boundary)", false},
+	{QCIntegratedDirectly, "integrated_directly", "collector, evaporation or surface drizzle fraction integrated directly (outside the tested tables, near a regime boundary or where the cloud-top mean-volume radius is near the collector start radius)", false},
 }
 
 // QCNames returns the names of the bits set in qc, in bit order (for messages and tables;

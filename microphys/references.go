@@ -141,6 +141,9 @@ package microphys
 // [Wood2005] Wood, R., 2005: Drizzle in stratiform boundary layer clouds. Part II:
 // Microphysical aspects. J. Atmos. Sci., 62, 3034–3050. doi:10.1175/JAS3530.1
 //
+// [Wood2005a] Wood, R., 2005: Drizzle in stratiform boundary layer clouds. Part I:
+// Vertical and horizontal structure. J. Atmos. Sci., 62, 3011–3033. doi:10.1175/JAS3529.1
+//
 // [Wood2012] Wood, R., 2012: Stratocumulus clouds. Mon. Wea. Rev., 140, 2373–2423.
 // doi:10.1175/MWR-D-11-00121.1
 //

@@ -26,13 +26,22 @@ import "math"
 // is the plane xi = 0, so no interpolation cell straddles it and only columns within a
 // narrow band of it are integrated directly.
 //
-// Columns integrated directly (outside a grid or near a boundary) carry
-// QCIntegratedDirectly. The grids below keep the interpolation within 0.5 % of direct
-// integration over random marine-stratocumulus samples with and without CTH (table_test.go
-// reports the largest errors; the surface-radius error is relative to the exit radius and the
-// evaporation-height error relative to the cloud-base height, because both pass through zero
-// at the boundary). Build cost: 24320 collector nodes; 6561 threshold nodes and 864 layers of
-// 21 value nodes (about 25600 evaporation integrations); see BenchmarkNewModel.
+// Columns integrated directly (outside a grid, near a boundary, or near the collector kink
+// at r_v = R0, see collTable.kink) carry QCIntegratedDirectly. The grids below keep the
+// interpolation within 0.5 % of direct integration over the whole domain of each table
+// (TestCollectorTableWholeDomain: LWP 5-400 g m-2, r_v 3-30 µm, T 273-305 K, p 600-1050 hPa,
+// largest errors 0.3 %; TestEvapTableWholeDomain: base 1-3000 m, 270-306 K, surface RH
+// 0.5-0.99 or well mixed, drops from r*/10 to 10 r*, largest 0.25 %), and end to end over
+// random marine-stratocumulus samples with and without CTH (TestTableAgainstDirect). The
+// surface-radius error is relative to the exit radius and the evaporation-height error
+// relative to the cloud-base height, because both pass through zero at the boundary. Every
+// result that does not come from these tested domains is a direct integration, so flagged.
+//
+// Build cost: 24320 collector nodes; with well-mixed layers (the default) 729 threshold
+// nodes, 144 layers of 21 value nodes and 693 flux nodes of 25 integrations each (about
+// 21000 evaporation integrations); with a surface humidity 6561 threshold nodes, 864 layers
+// and 6237 flux nodes (about 180000); see BenchmarkNewModel. The table cache
+// (cmd/internal/app/tablecache.go) keeps them.
 
 // tabGrid is a regular 4-D grid with, per node, tabVals values (float32, to keep the tables
 // small enough for the processor caches: about 0.5 MB for both) and one state byte (0 =
@@ -274,7 +283,7 @@ var collGrid = struct {
 	n      [tabDims]int
 }{
 	lo: [tabDims]float64{math.Log(5e-3), math.Log(3e-6), 273.15, 60000},
-	hi: [tabDims]float64{math.Log(1), math.Log(30e-6), 305, 105000},
+	hi: [tabDims]float64{math.Log(0.4), math.Log(30e-6), 305, 105000},
 	n:  [tabDims]int{80, 76, 2, 2},
 }
 
@@ -288,7 +297,32 @@ const (
 type collTable struct {
 	coll *tabGrid
 	evap *evapTable // nil when the evaporation is off
+	// kink is the ln r_v axis coordinate (in node steps) of r_v = Params.Collector.R0:
+	// where the cloud-top droplets are as large as the collector, |V(R) - v(r)| vanishes
+	// at the start and the exit radius and time have a kink in r_v that a cubic stencil
+	// spanning it misses by up to 1.6 % and 6 % (TestCollectorTableWholeDomain). Columns
+	// whose stencil spans it, or comes within kinkMargin of it, are integrated directly
+	// (QCIntegratedDirectly): a band of five cells, about ±7.5 % in r_v.
+	kink float64
 }
+
+// straddlesKink reports whether the ln r_v stencil of lnRv spans the kink strictly inside.
+func (t *collTable) straddlesKink(lnRv float64) bool {
+	g := t.coll
+	u := (lnRv - g.lo[1]) * g.inv[1]
+	top := g.n[1] - 1
+	k := min(int(u), top-1)
+	lo, hi := float64(k), float64(k+1)
+	if k >= 1 && k <= top-2 {
+		lo, hi = lo-1, hi+1
+	}
+	return t.kink > lo-kinkMargin && t.kink < hi+kinkMargin
+}
+
+// kinkMargin is the distance (node steps) beyond a stencil at which the kink still sends a
+// column to direct integration: next to the kink the exit time curves too fast for the
+// cubic (0.52 % error 1.5 steps from it with no margin, TestCollectorTableWholeDomain).
+const kinkMargin = 1.0
 
 // buildCollTable integrates every node of both tables for model m (in parallel).
 func buildCollTable(m *Model) *collTable {
@@ -305,8 +339,9 @@ func newTableShells(p Params) *collTable {
 	t := &collTable{}
 	cg := collGrid
 	t.coll = newTabGrid(cg.lo, cg.hi, cg.n, [tabDims]bool{true, true, false, false})
+	t.kink = (math.Log(p.Collector.R0) - t.coll.lo[1]) * t.coll.inv[1]
 	if p.EnableEvaporation {
-		t.evap = newEvapTable(p.SurfacePressure)
+		t.evap = newEvapTable(p)
 	}
 	return t
 }
@@ -354,6 +389,9 @@ func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool 
 	if !g.isCC22() {
 		return t.collectRef(lnLWP, lnRv, h, T, pr, res)
 	}
+	if t.straddlesKink(lnRv) {
+		return false
+	}
 	var acc [tabVals]float64
 	st := g.interpCC22(lnLWP, lnRv, T, pr, &acc)
 	if st == 0 {
@@ -369,6 +407,9 @@ func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool 
 // given to a direct evaporation integration (Column), whose adaptive steps answer a last-bit
 // change of r0 by up to their tolerance, so it gets the inputs it always had.
 func (t *collTable) collectRef(lnLWP, lnRv, h, T, pr float64, res *colResult) bool {
+	if t.straddlesKink(lnRv) {
+		return false
+	}
 	var s tabStencil
 	if !t.coll.stencil([tabDims]float64{lnLWP, lnRv, T, pr}, &s) {
 		return false
@@ -636,6 +677,44 @@ func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
 	return acc
 }
 
+// isLLQQ reports whether g has the flux table's layout: four axes, two linear and then two
+// curved (at2L2Q).
+func (g *nGrid) isLLQQ() bool {
+	return g.dims == 4 && !g.cubic[0] && !g.cubic[1] && g.cubic[2] && g.cubic[3]
+}
+
+// at2L2Q is at for a grid with isLLQQ (the flux table of well-mixed layers): the same taps
+// and weights, unrolled and contracted along the two curved axes first (as at3L2Q); equal to
+// at to rounding (TestTableFastPaths).
+func (g *nGrid) at2L2Q(x *[nDims]float64) float64 {
+	o0, n0, a0, a1 := g.linTaps(0, x[0])
+	o1, n1, b0, b1 := g.linTaps(1, x[1])
+	if n0 == 0 || n1 == 0 {
+		return math.NaN()
+	}
+	var wc, wd [3]float64
+	oc, okc := g.quadTaps(2, x[2], &wc)
+	od, okd := g.quadTaps(3, x[3], &wd)
+	if !okc || !okd {
+		return math.NaN()
+	}
+	wa, wb := [2]float64{a0, a1}, [2]float64{b0, b1}
+	s0, s1, s2 := g.stride[0], g.stride[1], g.stride[2]
+	v := g.vals
+	acc := 0.0
+	for a := 0; a < n0; a++ {
+		for b := 0; b < n1; b++ {
+			o := o0 + a*s0 + o1 + b*s1 + oc + od
+			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
+			r0 := wd[0]*float64(p0[0]) + wd[1]*float64(p0[1]) + wd[2]*float64(p0[2])
+			r1 := wd[0]*float64(p1[0]) + wd[1]*float64(p1[1]) + wd[2]*float64(p1[2])
+			r2 := wd[0]*float64(p2[0]) + wd[1]*float64(p2[1]) + wd[2]*float64(p2[2])
+			acc += wa[a] * wb[b] * (wc[0]*r0 + wc[1]*r1 + wc[2]*r2)
+		}
+	}
+	return acc
+}
+
 // valueAt is at, through at3L2Q for the value tables' layout.
 func (g *nGrid) valueAt(x *[nDims]float64) float64 {
 	if g.isLLLQQ() {
@@ -673,7 +752,46 @@ func (g *nGrid) valueAt(x *[nDims]float64) float64 {
 // outside that span (cloud-top pressure and height inconsistent) is integrated directly.
 type evapTable struct {
 	thr, reach, evap *nGrid
+	// flux holds ln F, F = SurfaceDrizzleFraction of the model's drizzle distribution, on
+	// (p_s, u, T_b, ln z_b) (fluxAxes).
+	flux  *nGrid
+	mixed bool       // well-mixed layers (HumidityWellMixed): the u axes are placeholders
+	dsd   DrizzleDSD // the drizzle distribution of flux
 }
+
+// Well-mixed layers (Params.SubCloudHumidity HumidityWellMixed) have no surface-humidity
+// coordinate: their humidity follows from the base state. Their tables keep the layout of
+// the surface-RH ones with the u axis reduced to placeholder nodes that all hold the same
+// layer (3 nodes on [-1, 1] for the strict, curved threshold axis, 2 on [0, 1] for the
+// linear axes of the value and flux tables), and are looked up at u = evMixedU, which falls
+// on a node of each, so that one node is used with weight 1 (derived from quadTaps and
+// linTaps) and the placeholders cost no accuracy.
+const evMixedU = 0.0
+
+// Axes of the surface drizzle fraction table (evapTable.flux): p_s (Pa, offset from
+// Params.SurfacePressure, linear), u = ln(1 - RH_s) (quadratic; linear placeholders for
+// well-mixed layers), T_b (K, quadratic) and z_b^(1/2) (m^(1/2), quadratic: F = 1 - c z_b
+// near the surface is then a quadratic, and ln F, which falls about as the threshold radius
+// r* ∝ z_b^(1/3), stays smooth; ln z_b needed twice the nodes for the same error). ln F is
+// tabulated, floored at fluxLnMin. Base heights 0-3000 m, base temperatures 270-306 K,
+// surface humidities 0.5-0.99 and surface pressures within 10 kPa of
+// Params.SurfacePressure; columns outside are integrated directly (QCIntegratedDirectly).
+// Error bound: |F_table - F| <= 0.5 % of max(F, 0.01) for well-mixed layers (the default)
+// and 1 % of max(F, 0.01) with a surface humidity, over the whole table domain
+// (TestFluxTableAgainstDirect: largest errors 0.15 % and 0.7 %); below F = 0.01 that is
+// 5e-5 (1e-4) of the cloud-base rate.
+var fluxAxes = struct {
+	lo, hi [4]float64 // p_s offset, u, T_b, ln z_b
+	n      [4]int
+}{
+	lo: [4]float64{-10000, math.Log(0.01), 270, 0},
+	hi: [4]float64{10000, math.Log(0.5), 306, math.Sqrt(3000)},
+	n:  [4]int{3, 9, 7, 33},
+}
+
+// fluxLnMin is the floor of the tabulated ln F: below e^-40 (4e-18) the surface rate is zero
+// for every purpose (derived: cloud-base rates are below 1e3 mm day-1).
+const fluxLnMin = -40.0
 
 // Axes of the evaporation tables: ln z_b (m), T_b (K), u = ln(1 - RH_s), p_s (Pa, offset from
 // Params.SurfacePressure), and s = |xi|^(1/2) for the value tables. The threshold table is
@@ -704,51 +822,123 @@ const (
 	evMinFall = 1e-3 // m, floor of the tabulated fall distance
 )
 
-// newEvapTable lays out the (unfilled) threshold and value tables for a surface pressure
-// ps0 (Pa) of the columns without CTH. Axis order (last axis contiguous): threshold (p_s,
-// T_b, u, ln z_b), values (p_s, u, T_b, ln z_b, s).
-func newEvapTable(ps0 float64) *evapTable {
+// newEvapTable lays out the (unfilled) threshold, value and flux tables of the parameters p
+// (Params.SurfacePressure ps0 of the columns without CTH, Params.SubCloudHumidity,
+// Params.Drizzle). Axis order (last axis contiguous): threshold (p_s, T_b, u, ln z_b), values
+// (p_s, u, T_b, ln z_b, s), flux (p_s, u, T_b, ln z_b).
+func newEvapTable(p Params) *evapTable {
+	ps0 := p.SurfacePressure
 	a := evapAxes
-	t := &evapTable{}
-	t.thr = newNGrid([]float64{ps0 + a.thrLo[3], a.thrLo[1], a.thrLo[2], a.thrLo[0]},
-		[]float64{ps0 + a.thrHi[3], a.thrHi[1], a.thrHi[2], a.thrHi[0]},
-		[]int{a.thrN[3], a.thrN[1], a.thrN[2], a.thrN[0]}, []bool{false, true, true, true}, true)
-	vlo := []float64{ps0 + a.valLo[3], a.valLo[2], a.valLo[1], a.valLo[0], 0}
-	vhi := []float64{ps0 + a.valHi[3], a.valHi[2], a.valHi[1], a.valHi[0], a.sReach}
+	t := &evapTable{mixed: p.SubCloudHumidity == HumidityWellMixed, dsd: p.Drizzle}
+	thrU := [3]float64{a.thrLo[2], a.thrHi[2], float64(a.thrN[2])}
+	valU := [3]float64{a.valLo[2], a.valHi[2], float64(a.valN[2])}
+	fa := fluxAxes
+	fluxU := [3]float64{fa.lo[1], fa.hi[1], float64(fa.n[1])}
+	if t.mixed {
+		thrU = [3]float64{evMixedU - 1, evMixedU + 1, 3}
+		valU = [3]float64{evMixedU, evMixedU + 1, 2}
+		fluxU = valU
+	}
+	t.thr = newNGrid([]float64{ps0 + a.thrLo[3], a.thrLo[1], thrU[0], a.thrLo[0]},
+		[]float64{ps0 + a.thrHi[3], a.thrHi[1], thrU[1], a.thrHi[0]},
+		[]int{a.thrN[3], a.thrN[1], int(thrU[2]), a.thrN[0]}, []bool{false, true, true, true}, true)
+	vlo := []float64{ps0 + a.valLo[3], valU[0], a.valLo[1], a.valLo[0], 0}
+	vhi := []float64{ps0 + a.valHi[3], valU[1], a.valHi[1], a.valHi[0], a.sReach}
 	cub := []bool{false, false, false, true, true}
-	t.reach = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nReach}, cub, false)
+	t.reach = newNGrid(vlo, vhi, []int{a.valN[3], int(valU[2]), a.valN[1], a.valN[0], a.nReach}, cub, false)
 	vhi[4] = a.sEvap
-	t.evap = newNGrid(vlo, vhi, []int{a.valN[3], a.valN[2], a.valN[1], a.valN[0], a.nEvap}, cub, false)
+	t.evap = newNGrid(vlo, vhi, []int{a.valN[3], int(valU[2]), a.valN[1], a.valN[0], a.nEvap}, cub, false)
+	t.flux = newNGrid([]float64{ps0 + fa.lo[0], fluxU[0], fa.lo[2], fa.lo[3]},
+		[]float64{ps0 + fa.hi[0], fluxU[1], fa.hi[2], fa.hi[3]},
+		[]int{fa.n[0], int(fluxU[2]), fa.n[2], fa.n[3]}, []bool{false, !t.mixed, true, true}, false)
 	return t
 }
 
 // buildEvapTable is newEvapTable filled.
-func buildEvapTable(ps0 float64) *evapTable {
-	t := newEvapTable(ps0)
+func buildEvapTable(p Params) *evapTable {
+	t := newEvapTable(p)
 	t.fill()
 	return t
 }
 
-// fill integrates the threshold and both value tables (in parallel): every node of the
-// threshold table, and every layer (s-line) of the value tables.
+// layer is the sub-cloud layer of table coordinates (ln z_b, T_b, u, p_s): evLayer, well
+// mixed when t.mixed.
+func (t *evapTable) layer(lz, tb, u, ps float64) SubCloudLayer {
+	l := evLayer(lz, tb, u, ps)
+	if t.mixed {
+		l.SurfaceRH, l.WellMixed = 0, true
+	}
+	return l
+}
+
+// fill integrates the threshold, value and flux tables (in parallel): every node of the
+// threshold table, every layer (s-line) of the value tables and every node of the flux
+// table. With well-mixed layers, only the first node along each u axis is integrated and the
+// placeholders copy it.
 func (t *evapTable) fill() {
 	nThr := len(t.thr.vals)
 	nLay := len(t.reach.vals) / evapAxes.nReach
-	parallelFor(nThr+nLay, func(i int) {
-		if i < nThr {
-			x := t.thr.node(i)
-			t.thr.vals[i] = float32(math.Log(evapThreshold(evLayer(x[3], x[1], x[2], x[0]))))
-			return
+	nFlux := len(t.flux.vals)
+	parallelFor(nThr+nLay+nFlux, func(i int) {
+		switch {
+		case i < nThr:
+			if t.mixed && t.thr.index(2, i) != 0 {
+				return
+			}
+			t.thr.vals[i] = t.thrNode(i)
+		case i < nThr+nLay:
+			if t.mixed && t.reach.index(1, (i-nThr)*evapAxes.nReach) != 0 {
+				return
+			}
+			fillEvapLayer(t, i-nThr)
+		default:
+			if t.mixed && t.flux.index(1, i-nThr-nLay) != 0 {
+				return
+			}
+			t.flux.vals[i-nThr-nLay] = t.fluxNode(i - nThr - nLay)
 		}
-		fillEvapLayer(t, i-nThr)
 	})
+	if t.mixed {
+		t.thr.copyPlaceholders(2)
+		t.reach.copyPlaceholders(1)
+		t.evap.copyPlaceholders(1)
+		t.flux.copyPlaceholders(1)
+	}
+}
+
+// index returns node i's index along axis d.
+func (g *nGrid) index(d, i int) int { return i / g.stride[d] % g.n[d] }
+
+// copyPlaceholders copies every node with index 0 along axis d to the other nodes along d.
+func (g *nGrid) copyPlaceholders(d int) {
+	for i := range g.vals {
+		if k := g.index(d, i); k != 0 {
+			g.vals[i] = g.vals[i-k*g.stride[d]]
+		}
+	}
+}
+
+// thrNode integrates node i of the threshold table: ln r*.
+func (t *evapTable) thrNode(i int) float32 {
+	x := t.thr.node(i)
+	return float32(math.Log(evapThreshold(t.layer(x[3], x[1], x[2], x[0]))))
+}
+
+// fluxNode integrates node i of the flux table: max(ln F, fluxLnMin), NaN on failure.
+func (t *evapTable) fluxNode(i int) float32 {
+	x := t.flux.node(i)
+	if x[3] == 0 { // no layer: all of the flux arrives
+		return 0
+	}
+	f := surfaceFraction(t.dsd, t.layer(math.Log(x[3]*x[3]), x[2], x[1], x[0]), evTabRelTol)
+	return float32(math.Max(math.Log(f), fluxLnMin))
 }
 
 // fillEvapLayer integrates layer i (the s-line of node i*nReach) of both value tables.
 func fillEvapLayer(t *evapTable, i int) {
 	a := evapAxes
 	x := t.reach.node(i * a.nReach) // s = 0
-	l := evLayer(x[3], x[2], x[1], x[0])
+	l := t.layer(x[3], x[2], x[1], x[0])
 	rs := evapThreshold(l)
 	if !(rs > 0) {
 		return
@@ -835,7 +1025,7 @@ func (s reverseEvap) deriv(y [2]float64) [2]float64 {
 // z = 0 up to z = BaseHeight, with the same integrator (relative tolerance evThrRelTol). NaN
 // on failure.
 func evapThreshold(l SubCloudLayer) float64 {
-	if !(l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight && l.SurfaceRH >= 0 && l.SurfaceRH < 1 &&
+	if !(l.BaseHeight > 0 && l.BaseHeight <= maxBaseHeight && l.humidityOK(math.Nextafter(1, 0)) &&
 		validT(l.BaseT) && validP(l.BaseP)) {
 		return math.NaN()
 	}
@@ -900,6 +1090,22 @@ func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (k
 		return evEvaporated, math.Max(-zb*colExpm1(xi*lv), 0)
 	}
 	return evOutside, 0
+}
+
+// fraction interpolates the surface drizzle fraction F of the layer l above a surface at
+// pressure ps (Pa), u = ln(1 - RH_s) (evMixedU for well-mixed layers); NaN outside the table.
+func (t *evapTable) fraction(u float64, l *SubCloudLayer, ps float64) float64 {
+	x := [nDims]float64{ps, u, l.BaseT, math.Sqrt(l.BaseHeight)}
+	var lf float64
+	if t.flux.isLLQQ() {
+		lf = t.flux.at2L2Q(&x)
+	} else {
+		lf = t.flux.at(&x)
+	}
+	if math.IsNaN(lf) {
+		return lf
+	}
+	return colExp(math.Min(lf, 0))
 }
 
 // colExpm1 returns e^x - 1: colExp(x) - 1 for x < -1/2, where |e^x - 1| > 0.39 keeps it

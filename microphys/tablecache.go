@@ -26,10 +26,11 @@ const tableMagic = "warmrain tables 1\n"
 // tableLayout names the layout of the tables (axes, node counts and what a node holds); it
 // changes whenever table.go changes what the nodes mean, so that saved tables of an older
 // layout are refused.
-var tableLayout = fmt.Sprintf("coll %v %v %v; thr %v %v %v; val %v %v %v %g %d %g %d",
+var tableLayout = fmt.Sprintf("coll %v %v %v; thr %v %v %v; val %v %v %v %g %d %g %d; flux %v %v %v %g; mixed u %g",
 	collGrid.lo, collGrid.hi, collGrid.n,
 	evapAxes.thrLo, evapAxes.thrHi, evapAxes.thrN,
-	evapAxes.valLo, evapAxes.valHi, evapAxes.valN, evapAxes.sReach, evapAxes.nReach, evapAxes.sEvap, evapAxes.nEvap)
+	evapAxes.valLo, evapAxes.valHi, evapAxes.valN, evapAxes.sReach, evapAxes.nReach, evapAxes.sEvap, evapAxes.nEvap,
+	fluxAxes.lo, fluxAxes.hi, fluxAxes.n, fluxLnMin, evMixedU)
 
 // tableVerifyNodes is how many nodes of each table NewModelTables integrates again to check
 // saved values (a few milliseconds in all).
@@ -73,6 +74,7 @@ func (m *Model) Tables() []byte {
 		w.grid(e.thr.vals, nil)
 		w.grid(e.reach.vals, nil)
 		w.grid(e.evap.vals, nil)
+		w.grid(e.flux.vals, nil)
 	}
 	w.u64(fnv64(w.b))
 	return w.b
@@ -127,7 +129,7 @@ func readTables(m *Model, data []byte) (*collTable, error) {
 		return nil, errors.New("collector table has the wrong size")
 	}
 	if e := t.evap; e != nil {
-		if !r.grid(e.thr.vals, nil) || !r.grid(e.reach.vals, nil) || !r.grid(e.evap.vals, nil) {
+		if !r.grid(e.thr.vals, nil) || !r.grid(e.reach.vals, nil) || !r.grid(e.evap.vals, nil) || !r.grid(e.flux.vals, nil) {
 			return nil, errors.New("evaporation tables have the wrong size")
 		}
 	}
@@ -161,14 +163,19 @@ func verifyTables(m *Model, t *collTable) error {
 	thr := t.evap.thr
 	for k := 0; k < tableVerifyNodes; k++ {
 		i := spreadIndex(k, len(thr.vals))
-		x := thr.node(i)
-		got := float32(math.Log(evapThreshold(evLayer(x[3], x[1], x[2], x[0]))))
-		if !sameF32(got, thr.vals[i]) {
+		if got := t.evap.thrNode(i); !sameF32(got, thr.vals[i]) {
 			return fmt.Errorf("threshold node %d: value %g, saved %g", i, got, thr.vals[i])
 		}
 	}
+	// Flux table: two nodes (about 2 ms each).
+	for k := 0; k < 2; k++ {
+		i := spreadIndex(k, len(t.evap.flux.vals))
+		if got := t.evap.fluxNode(i); !sameF32(got, t.evap.flux.vals[i]) {
+			return fmt.Errorf("flux node %d: value %g, saved %g", i, got, t.evap.flux.vals[i])
+		}
+	}
 	// Value tables: one whole layer (s-line) of each, rebuilt into scratch copies.
-	ref := newEvapTable(m.p.SurfacePressure)
+	ref := newEvapTable(m.p)
 	ns := evapAxes.nReach
 	nLay := len(ref.reach.vals) / ns
 	for k := 0; k < 2; k++ {

@@ -110,8 +110,20 @@ Data go to stdout or files; messages go to stderr.
 	                                      enters at cloud base), m s-1
 	      --collector-tolerance float     relative tolerance per step of the collector-drop
 	                                      integrator (default 1e-06)
+	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
+	                                      mixing ratio conserved down to the surface; surface-rh:
+	                                      linear from the surface relative humidity to saturation
+	                                      at cloud base, for decoupled layers): well-mixed,
+	                                      surface-rh (default "well-mixed")
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
-	                                      (default 0.8)
+	                                      (with --subcloud-humidity surface-rh) (default 0.8)
+	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
+	                                      (size distribution of the surface drizzle; above
+	                                      --drizzle-min-radius), µm (default 50)
+	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
+	                                      distribution, µm (default 20)
+	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
+	                                      (0: exponential)
 	      --surface-pressure float        surface pressure to place cloud base when the input has
 	                                      no cloud-top height, hPa (default 1013.25)
 	      --default-ctt float             cloud-top temperature when the input has none, K
@@ -127,8 +139,10 @@ Data go to stdout or files; messages go to stderr.
 	      --collector-method string       collector and evaporation results (table: interpolated,
 	                                      tested to 0.5 %; direct: integrated per column, slow):
 	                                      table, direct (default "table")
-	      --no-collector[=true|false]     skip the collector drop and its evaporation
-	      --no-evaporation[=true|false]   skip the sub-cloud evaporation of the collector drop
+	      --no-collector[=true|false]     skip the collector drop and the sub-cloud evaporation
+	                                      (surface drizzle)
+	      --no-evaporation[=true|false]   skip the sub-cloud evaporation (the surface drizzle and
+	                                      the collector drop's fall)
 	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
 	      --min-tau float                 screen columns with optical thickness below this (default 3)
 	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
@@ -232,8 +246,8 @@ Data go to stdout or files; messages go to stderr.
 	                                      base from the dry adiabat to --surface-pressure)
 	      --lwp-sd float                  sub-grid standard deviation of LWP, g m-2 (absent:
 	                                      --gamma-shape)
-	      --rh-surface float              surface relative humidity of this column, 0-1 (absent:
-	                                      --surface-rh)
+	      --rh-surface float              surface relative humidity of this column, 0-1, used with
+	                                      --subcloud-humidity surface-rh (absent: --surface-rh)
 	      --autoconversion string         autoconversion scheme: kk2000, kessler1969,
 	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
 	      --collision string              collision efficiency of the collector drop: hall1980,
@@ -258,8 +272,20 @@ Data go to stdout or files; messages go to stderr.
 	                                      enters at cloud base), m s-1
 	      --collector-tolerance float     relative tolerance per step of the collector-drop
 	                                      integrator (default 1e-06)
+	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
+	                                      mixing ratio conserved down to the surface; surface-rh:
+	                                      linear from the surface relative humidity to saturation
+	                                      at cloud base, for decoupled layers): well-mixed,
+	                                      surface-rh (default "well-mixed")
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
-	                                      (default 0.8)
+	                                      (with --subcloud-humidity surface-rh) (default 0.8)
+	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
+	                                      (size distribution of the surface drizzle; above
+	                                      --drizzle-min-radius), µm (default 50)
+	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
+	                                      distribution, µm (default 20)
+	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
+	                                      (0: exponential)
 	      --surface-pressure float        surface pressure to place cloud base when the input has
 	                                      no cloud-top height, hPa (default 1013.25)
 	      --default-ctt float             cloud-top temperature when the input has none, K
@@ -275,8 +301,10 @@ Data go to stdout or files; messages go to stderr.
 	      --collector-method string       collector and evaporation results (table: interpolated,
 	                                      tested to 0.5 %; direct: integrated per column, slow):
 	                                      table, direct (default "table")
-	      --no-collector[=true|false]     skip the collector drop and its evaporation
-	      --no-evaporation[=true|false]   skip the sub-cloud evaporation of the collector drop
+	      --no-collector[=true|false]     skip the collector drop and the sub-cloud evaporation
+	                                      (surface drizzle)
+	      --no-evaporation[=true|false]   skip the sub-cloud evaporation (the surface drizzle and
+	                                      the collector drop's fall)
 	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
 	      --min-tau float                 screen columns with optical thickness below this (default 3)
 	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")

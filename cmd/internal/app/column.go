@@ -48,7 +48,7 @@ var columnInputs = []struct {
 	{"ctp", "hPa", 100, "cloud-top pressure, hPa (absent: --default-ctp)"},
 	{"cth", "m", 1, "cloud-top height above the surface, m (absent: cloud base from the dry adiabat to --surface-pressure)"},
 	{"lwp-sd", "g m-2", 1e-3, "sub-grid standard deviation of LWP, g m-2 (absent: --gamma-shape)"},
-	{"rh-surface", "1", 1, "surface relative humidity of this column, 0-1 (absent: --surface-rh)"},
+	{"rh-surface", "1", 1, "surface relative humidity of this column, 0-1, used with --subcloud-humidity surface-rh (absent: --surface-rh)"},
 }
 
 // columnResult is everything column prints; the JSON form is this struct.
@@ -64,8 +64,22 @@ type columnResult struct {
 	Profile     []profileLevel       `json:"adiabatic_profile"`
 	Collector   *collectorPathReport `json:"collector_path"`
 	Evaporation *evapPathReport      `json:"evaporation_path"`
+	Drizzle     *drizzleReport       `json:"surface_drizzle"`
 
 	order []string // diagnostic names in table order (text output)
+}
+
+// drizzleReport is the cloud-base drizzle size distribution of a column and the part of its
+// flux that reaches the surface.
+type drizzleReport struct {
+	MeanRadius jnum   `json:"mean_radius_um"`
+	MinRadius  jnum   `json:"min_radius_um"`
+	Shape      jnum   `json:"gamma_shape"`
+	Number     jnum   `json:"cloud_base_number_per_litre"`
+	Humidity   string `json:"subcloud_humidity"`
+	Fraction   jnum   `json:"surface_fraction"`
+	BaseRate   jnum   `json:"cloud_base_rate_mm_day"`
+	Rate       jnum   `json:"surface_rate_mm_day"`
 }
 
 type paramJSON struct{ Name, Option, Value, Unit string }
@@ -251,7 +265,7 @@ func computeColumn(m *microphys.Model, in *microphys.Inputs) *columnResult {
 	setup.Collision, setup.Coalescence = p.Collision, p.Coalescence
 	cloud := microphys.CloudColumn{H: h, Gamma: p.Fad * cw, Nd: nd, Air: microphys.NewAir(pr, T)}
 	r.Collector = collectorPath(cloud, setup, 12)
-	if !p.EnableEvaporation || r.Collector.ExitThrough != "base" {
+	if !p.EnableEvaporation {
 		return r
 	}
 	rhs := in.SurfaceRH
@@ -263,7 +277,16 @@ func computeColumn(m *microphys.Model, in *microphys.Inputs) *columnResult {
 	if math.IsNaN(in.CTH) {
 		zb = microphys.DryBaseHeight(tb, pb, p.SurfacePressure)
 	}
-	l := microphys.SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs}
+	l := microphys.SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs,
+		WellMixed: p.SubCloudHumidity == microphys.HumidityWellMixed}
+	d := p.Drizzle
+	r.Drizzle = &drizzleReport{MeanRadius: jnum(d.MeanRadius * 1e6), MinRadius: jnum(d.MinRadius * 1e6), Shape: jnum(d.Shape),
+		Number:   jnum(microphys.DrizzleNumber(out.DrizzleRate, d, microphys.NewAir(pb, tb)) * 1e-3),
+		Humidity: p.SubCloudHumidity.String(), Fraction: jnum(out.SurfaceDrizzleFraction),
+		BaseRate: jnum(out.DrizzleRate * 86400), Rate: jnum(out.SurfaceDrizzleRate * 86400)}
+	if r.Collector.ExitThrough != "base" {
+		return r
+	}
 	r.Evaporation = evaporationPath(float64(r.Collector.ExitRadius)*1e-6, l, 10)
 	return r
 }
@@ -291,7 +314,10 @@ func assumptions(in *microphys.Inputs, p microphys.Params) []string {
 	if math.IsNaN(in.LWPStd) {
 		a = append(a, fmt.Sprintf("drizzle probability: gamma shape %g (QC bit gamma_shape_assumed)", p.GammaShape))
 	}
-	if math.IsNaN(in.SurfaceRH) {
+	switch {
+	case p.SubCloudHumidity == microphys.HumidityWellMixed:
+		a = append(a, "sub-cloud humidity: well mixed, the cloud-base vapour mixing ratio conserved down to the surface")
+	case math.IsNaN(in.SurfaceRH):
 		a = append(a, fmt.Sprintf("surface relative humidity %g (QC bit surface_humidity_assumed)", p.SurfaceRH))
 	}
 	return a
@@ -407,8 +433,9 @@ func collectorPath(c microphys.CloudColumn, s microphys.CollectorSetup, n int) *
 // the time to reach it.
 func evaporationPath(r0 float64, l microphys.SubCloudLayer, n int) *evapPathReport {
 	e := microphys.EvaporateDirect(r0, l)
+	_, _, s0 := l.State(0)
 	rep := &evapPathReport{
-		BaseHeight: jnum(l.BaseHeight), BaseT: jnum(l.BaseT), BaseP: jnum(l.BaseP / 100), SurfaceRH: jnum(l.SurfaceRH),
+		BaseHeight: jnum(l.BaseHeight), BaseT: jnum(l.BaseT), BaseP: jnum(l.BaseP / 100), SurfaceRH: jnum(s0),
 		StartRadius: jnum(r0 * 1e6), Reached: e.Reached, SurfaceRadius: jnum(e.SurfaceRadius * 1e6),
 		EvapHeight: jnum(e.EvapHeight), Time: jnum(e.Time), Points: []evapPoint{},
 	}
@@ -430,7 +457,7 @@ func evaporationPath(r0 float64, l microphys.SubCloudLayer, n int) *evapPathRepo
 		case k == n:
 			pt.Time, pt.Radius = jnum(e.Time), jnum(e.SurfaceRadius*1e6)
 		default:
-			cut := microphys.SubCloudLayer{BaseHeight: l.BaseHeight - z0, BaseT: l.BaseT, BaseP: l.BaseP, SurfaceRH: S}
+			cut := microphys.SubCloudLayer{BaseHeight: l.BaseHeight - z0, BaseT: l.BaseT, BaseP: l.BaseP, SurfaceRH: S, WellMixed: l.WellMixed}
 			c := microphys.EvaporateDirect(r0, cut)
 			if !c.Reached {
 				continue
@@ -517,8 +544,14 @@ func (r *columnResult) writeText(w io.Writer) error {
 			fmt.Fprintf(w, "  heights integrated from the sampled path (error at exit %.2g m)\n", float64(c.HeightClosure))
 		}
 	}
+	if dz := r.Drizzle; dz != nil {
+		fmt.Fprintf(w, "\nsurface drizzle (SurfaceDrizzleFraction): drizzle drops above %s um, mean radius %s um, gamma shape %s; %s per litre at cloud base carry %s mm day-1;\n",
+			num(dz.MinRadius), num(dz.MeanRadius), num(dz.Shape), num(dz.Number), num(dz.BaseRate))
+		fmt.Fprintf(w, "  through the %s sub-cloud layer a fraction %s of that flux, %s mm day-1, reaches the surface\n",
+			dz.Humidity, num(dz.Fraction), num(dz.Rate))
+	}
 	if ev := r.Evaporation; ev != nil {
-		fmt.Fprintf(w, "\nsub-cloud fall (EvaporateDirect): cloud base %s m above the surface, %s K, %s hPa; surface RH %s\n",
+		fmt.Fprintf(w, "\nsub-cloud fall of the single collector drop (EvaporateDirect): cloud base %s m above the surface, %s K, %s hPa; surface RH %s\n",
 			num(ev.BaseHeight), num(ev.BaseT), num(ev.BaseP), num(ev.SurfaceRH))
 		if ev.Note != "" {
 			fmt.Fprintf(w, "  %s\n", ev.Note)

@@ -286,7 +286,8 @@ func TestColumnText(t *testing.T) {
 			t.Errorf("no line for %s", d.name)
 		}
 	}
-	for _, want := range []string{"adiabatic profile:", "collector drop (CollectDirect)", "sub-cloud fall (EvaporateDirect)",
+	for _, want := range []string{"adiabatic profile:", "collector drop (CollectDirect)", "sub-cloud fall of the single collector drop (EvaporateDirect)",
+		"surface drizzle (SurfaceDrizzleFraction)",
 		"parameters (as options):", "air_state_assumed", "QC bit air_state_assumed", "height above base (m)"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q", want)

@@ -432,7 +432,9 @@ func diagnosticsFor(has func(grid.Role) bool, dropletNumber bool) []diagReport {
 			if !has(grid.RoleCTH) {
 				dr.Defaults = append(dr.Defaults, fmt.Sprintf("cloud base from the dry adiabat to %g hPa (QC bit cloud_base_height_assumed)", d.SurfacePressure/100))
 			}
-			dr.Defaults = append(dr.Defaults, fmt.Sprintf("surface relative humidity %g, --surface-rh (QC bit surface_humidity_assumed; inputs have no such role)", d.SurfaceRH))
+			if d.SubCloudHumidity == microphys.HumiditySurfaceRH {
+				dr.Defaults = append(dr.Defaults, fmt.Sprintf("surface relative humidity %g, --surface-rh (QC bit surface_humidity_assumed; inputs have no such role)", d.SurfaceRH))
+			}
 		}
 		out = append(out, dr)
 	}

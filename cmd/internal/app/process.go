@@ -913,7 +913,8 @@ func referencesText(p microphys.Params) string {
 			"Beard and Ochs (1995) J. Atmos. Sci. 52, 3977-3996; Low and List (1982) J. Atmos. Sci. 39, 1591-1606; Seifert et al. (2005) J. Atmos. Sci. 62, 1917-1931 (coalescence efficiency)")
 	}
 	if p.EnableEvaporation {
-		refs = append(refs, "Beard and Pruppacher (1971) J. Atmos. Sci. 28, 1455-1464; Pruppacher and Klett (1997) (ventilation, evaporation)")
+		refs = append(refs, "Beard and Pruppacher (1971) J. Atmos. Sci. 28, 1455-1464; Pruppacher and Klett (1997) (ventilation, evaporation)",
+			"Wood (2005) J. Atmos. Sci. 62, 3011-3033 and 3034-3050; vanZanten et al. (2005) J. Atmos. Sci. 62, 88-106 (drizzle size distribution, surface drizzle)")
 	}
 	return strings.Join(refs, "; ")
 }

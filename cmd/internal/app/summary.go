@@ -437,7 +437,7 @@ func (p *procFile) siVar(v *grid.VarInfo) (varIn, error) {
 		return vi, nil
 	}
 	c, err := grid.NewConverter(units, want)
-	if err != nil && v.Name == rateVarName {
+	if err != nil && want == "kg m-2 s-1" { // the cloud-base and surface drizzle rates
 		// A depth rate of liquid water: 1 mm of water is 1 kg m-2 (rho_w = 1000 kg m-3, derived).
 		if c2, err2 := grid.NewConverter(units, "mm s-1"); err2 == nil {
 			c, err = c2, nil
@@ -1206,7 +1206,7 @@ func mapStyle(name, siUnit string, o *plots.MapOptions) {
 	switch name {
 	case popVarName:
 		o.Min, o.Max = 0, 1
-	case rateVarName, "column_autoconversion_rate", "warm_rain_efficiency":
+	case rateVarName, "surface_drizzle_rate", "column_autoconversion_rate", "warm_rain_efficiency":
 		o.Log = true
 		o.ColorMap = plots.Cividis()
 	}
