@@ -66,6 +66,12 @@ type Params struct {
 	// [RosenfeldGutman1994] (from memory); 13 µm and 15 µm are published alternatives
 	// (physics notes §9.1).
 	ReStar float64
+	// OnsetWidth is the full width of the r_e range over which the drizzle-onset probability
+	// of a sub-grid column rises linearly from 0 to 1, centred on ReStar, m (Onset). Default
+	// 4 µm: published onset radii span 12-16 µm (13 µm [Braga2021], 14 µm
+	// [RosenfeldGutman1994] from memory, 15 µm Ba & Gruber 2001 and 16 µm Gerber 1996 from
+	// memory). 0 is the knife-edge step at ReStar.
+	OnsetWidth float64
 	// GammaShape is the shape nu of the sub-grid gamma distribution of LWP used when a
 	// column has no LWP standard deviation, 1. Default 4: between the broken-cloud (1-3)
 	// and overcast-stratocumulus (5-10) values, which are from memory; the gamma
@@ -140,6 +146,7 @@ func DefaultParams() Params {
 		Fad:               1,
 		FixedCw:           0,
 		ReStar:            14e-6,
+		OnsetWidth:        4e-6,
 		GammaShape:        4,
 		Autoconv:          AutoconvKK2000,
 		KesslerRate:       1e-3,
@@ -202,6 +209,7 @@ func (p Params) Validate() error {
 		{"Qext", p.Qext, 0, 10, true, "0 < Qext <= 10"},
 		{"Fad", p.Fad, 0, 1, true, "0 < Fad <= 1"},
 		{"ReStar", p.ReStar, 1e-6, 100e-6, false, "1e-6 <= ReStar <= 1e-4 m"},
+		{"OnsetWidth", p.OnsetWidth, 0, 20e-6, false, "0 <= OnsetWidth <= 2e-5 m"},
 		{"GammaShape", p.GammaShape, 0, 1e6, true, "0 < GammaShape <= 1e6"},
 		{"KesslerRate", p.KesslerRate, 0, 1, true, "0 < KesslerRate <= 1 s-1"},
 		{"KesslerThreshold", p.KesslerThreshold, 0, 1e-2, false, "0 <= KesslerThreshold <= 1e-2 kg kg-1"},
@@ -241,6 +249,9 @@ func (p Params) Validate() error {
 	if p.CollectorMethod != CollectorTable && p.CollectorMethod != CollectorDirect {
 		return &ParamError{"CollectorMethod", float64(p.CollectorMethod), "table or direct"}
 	}
+	if !(p.OnsetWidth < 2*p.ReStar) {
+		return &ParamError{"OnsetWidth", p.OnsetWidth, "OnsetWidth < 2 ReStar (the onset range starts above 0)"}
+	}
 	if _, err := ParseCollisionKind(p.Collision.String()); err != nil {
 		return &ParamError{"Collision", float64(p.Collision), "a CollisionKind"}
 	}
@@ -273,6 +284,7 @@ func (p Params) Settings() []Setting {
 		{"adiabatic_fraction", f(p.Fad)},
 		{"fixed_condensation_rate", f(p.FixedCw)},
 		{"onset_effective_radius", f(p.ReStar)},
+		{"onset_width", f(p.OnsetWidth)},
 		{"gamma_shape", f(p.GammaShape)},
 		{"autoconversion", p.Autoconv.String()},
 		{"kessler_rate", f(p.KesslerRate)},
