@@ -18,23 +18,23 @@ type Inputs struct {
 // Outputs is every diagnostic of one column, SI units. A screened column (QC&QCScreenMask
 // != 0) has every field NaN. Diagnostics that are switched off are NaN.
 type Outputs struct {
-	Nd              float64 // droplet number concentration, m-3
-	H               float64 // adiabatic geometric thickness, m
-	Cw              float64 // condensation rate c_w used (before f_ad), kg m-4
-	ReTop           float64 // cloud-top effective radius of the adiabatic model, m
-	Autoconv        float64 // column autoconversion rate, kg m-2 s-1
-	Efficiency      float64 // warm-rain efficiency Autoconv/LWP, s-1
-	DrizzleRate     float64 // cell-mean cloud-base drizzle rate R̄, kg m-2 s-1 (= mm s-1)
-	POP             float64 // drizzle probability, 1
+	Nd          float64 // droplet number concentration, m-3
+	H           float64 // adiabatic geometric thickness, m
+	Cw          float64 // condensation rate c_w used (before f_ad), kg m-4
+	ReTop       float64 // cloud-top effective radius of the adiabatic model, m
+	Autoconv    float64 // column autoconversion rate, kg m-2 s-1
+	Efficiency  float64 // warm-rain efficiency Autoconv/LWP, s-1
+	DrizzleRate float64 // cell-mean cloud-base drizzle rate R̄, kg m-2 s-1 (= mm s-1)
+	POP         float64 // drizzle probability, 1
 	// DrizzleIntensity is the mean cloud-base rate of the drizzling part of the cell,
 	// I = R̄/POP, kg m-2 s-1 (NaN when POP = 0); R̄ = POP × I (SubgridDrizzleModel).
 	DrizzleIntensity float64
-	LWPCrit         float64 // critical LWP of drizzle onset, kg m-2
-	CollectorRadius float64 // collector drop radius on leaving the cloud, m
-	CollectorTime   float64 // collector drop time in cloud, s
-	SurfaceRadius   float64 // collector drop radius at the surface, m (0 when it evaporated)
-	EvapHeight      float64 // height above the surface where it evaporated, m (NaN when it reached the surface)
-	QC              uint16  // QC bits, see QCFlags
+	LWPCrit          float64 // critical LWP of drizzle onset, kg m-2
+	CollectorRadius  float64 // collector drop radius on leaving the cloud, m
+	CollectorTime    float64 // collector drop time in cloud, s
+	SurfaceRadius    float64 // collector drop radius at the surface, m (0 when it evaporated)
+	EvapHeight       float64 // height above the surface where it evaporated, m (NaN when it reached the surface)
+	QC               uint16  // QC bits, see QCFlags
 }
 
 // Model is a validated parameter set with its precomputed tables. A Model is safe for
@@ -47,6 +47,7 @@ type Model struct {
 	cbrtK float64    // K^(1/3)
 	tab   *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
 	pop   *popTable  // drizzle-probability table (pop.go)
+	ramp  *rampTable // ramp-onset table of the sub-grid drizzle model (ramptable.go); nil for the step
 	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table.
 	lnDryRH float64
 	bulk    bulkConsts // constants of Column's bulk diagnostics (column.go)
@@ -76,6 +77,9 @@ func newModelBase(p Params) *Model {
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
 	m.pop = newPopTable()
+	if p.OnsetWidth > 0 {
+		m.ramp = newRampTable(p.DrizzleLWPExp)
+	}
 	m.bulk = newBulkConsts(&p, m.pop)
 	return m
 }
@@ -120,7 +124,9 @@ type bulkConsts struct {
 	popLnNu float64 // ln Params.GammaShape, as popTable.prob forms it
 	popFast bool    // the POP grid has the layout popAt2 assumes
 	subE    float64 // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
-	defAir  adState // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
+	ramp0   rampShape
+	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b
+	defAir  adState   // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
 }
 
 // Forms of drizzleRate.
@@ -169,6 +175,8 @@ func newBulkConsts(p *Params, pt *popTable) bulkConsts {
 	}
 	c.defAir = airStateFast(p.DefaultCTT, p.DefaultCTP)
 	c.subE = SubgridEnhancement(p.GammaShape, p.DrizzleLWPExp)
+	c.ramp0, c.rampB = newRampShape(p.GammaShape, 0), newRampShape(p.GammaShape, p.DrizzleLWPExp)
+	c.ramp0.t0, c.rampB.t0 = rampTail0(p.GammaShape, 0), rampTail0(p.GammaShape, p.DrizzleLWPExp)
 	return c
 }
 
@@ -250,7 +258,9 @@ func (m *Model) popColumn(lwp, crit, s, nu, sn, lnNu float64) float64 {
 // from the column's LWP standard deviation) and r0 = DrizzleRate at the cell mean: the
 // quantities of SubgridDrizzleModel. The step onset takes Q(nu, x) and Q(nu + b, x) from the
 // POP table (popColumn, popTable.prob: within popTabTol of GammaIncRegComp, tested); the ramp
-// evaluates the closed form (subgridMoment).
+// takes them from its table (rampTable.moments, within rampTabTol of subgridMoment, tested)
+// for 1 <= nu <= 1e4 and r_1 >= 0.3 r_μ, and evaluates the closed form (subgridMoment)
+// otherwise.
 func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, ownNu bool, out *Outputs) {
 	b := m.p.DrizzleLWPExp
 	var pop, mb float64
@@ -267,8 +277,26 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 		// Q(nu + b, nu LWP*/μ) = prob(μ, LWP* nu/(nu + b), nu + b)
 		mb = e * m.pop.prob(lwp, crit*nu/(nu+b), nu+b)
 	default:
-		pop = subgridMoment(nu, reTop, m.onset, 0)
-		mb = subgridMoment(nu, reTop, m.onset, b)
+		ok := false
+		if m.ramp != nil && nu >= popNuMin && nu <= popNuMax {
+			c0, cb := m.bulk.ramp0, m.bulk.rampB
+			e := m.bulk.subE
+			if ownNu {
+				c0, cb = newRampShape(nu, 0), newRampShape(nu, b)
+				c0.sa = sn // sqrt(nu), known
+				e = SubgridEnhancement(nu, b)
+			}
+			if math.IsNaN(lnNu) {
+				lnNu = 2 * colLog(sn)
+			}
+			var mbe float64
+			pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb)
+			mb = e * mbe
+		}
+		if !ok {
+			pop = subgridMoment(nu, reTop, m.onset, 0)
+			mb = subgridMoment(nu, reTop, m.onset, b)
+		}
 	}
 	out.POP, out.DrizzleRate = pop, r0*mb
 	if pop > 0 {

@@ -95,7 +95,7 @@ func fastParams() []Params {
 	d.EnableCollector, d.EnableEvaporation = false, false
 	a := d
 	a.K, a.Qext, a.Fad, a.ReStar, a.GammaShape = 0.67, 2.1, 0.7, 12e-6, 3.5
-	a.OnsetWidth = 0 // the step onset (POP table path)
+	a.OnsetWidth = 0                                               // the step onset (POP table path)
 	a.DrizzleCoef, a.DrizzleLWPExp, a.DrizzleNdExp = 0.5, 1.5, 1.5 // b = c, not 7/4
 	b := a
 	b.DrizzleLWPExp, b.DrizzleNdExp = 1.75, 1.2 // b != c
@@ -295,11 +295,15 @@ func TestColumnBulkExact(t *testing.T) {
 					tol = quadTol
 				}
 				if k == 6 || k == 7 {
-					// POP and R̄ far in the tail: the last-bit difference of the top radius
-					// (r_e itself in Column, EffectiveRadius here) is amplified by
-					// d ln Q/d ln r = 6x, x up to 1e5 (derived); below 1e-30 (POP, or
-					// kg m-2 s-1) nothing is observable
-					tol, abs = subgridTol, 1e-30
+					// POP and R̄: the ramp onset's table (rampTabTol, TestRampTableBound);
+					// the step's POP table composition: the last-bit difference of the top
+					// radius (r_e itself in Column, EffectiveRadius here) is amplified by
+					// d ln Q/d ln r = 6x, x up to 1e5 (derived). Below 1e-12 (POP, or
+					// kg m-2 s-1) nothing is observable.
+					tol, abs = subgridTol, 1e-12
+					if p.OnsetWidth > 0 {
+						tol = rampTabTol
+					}
 				}
 				if !scalar.EqualWithinAbsOrRel(g[k], w[k], abs, tol) {
 					t.Fatalf("params %d, output %d = %.15g, want %.15g for %+v", pi, k, g[k], w[k], in)
