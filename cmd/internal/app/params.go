@@ -15,7 +15,7 @@ import (
 type physicsFlags struct {
 	autoconv, collision, coalescence, method string
 	k, qext, fad, cw                         float64
-	reStar, gamma                            float64
+	reStar, onsetWidth, gamma                float64
 	r0, drizzleR, updraft                    float64
 	surfaceRH, surfaceP                      float64
 	defCTT, defCTP                           float64
@@ -37,10 +37,11 @@ func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 	fs.Float64Var(&f.fad, "adiabatic-fraction", d.Fad, "adiabatic fraction f_ad in (0, 1]")
 	fs.Float64Var(&f.cw, "condensation-rate", 0, "fixed condensation rate c_w in g m-3 km-1 (0: from cloud-top temperature and pressure)")
 	fs.Float64Var(&f.reStar, "onset-radius", d.ReStar*1e6, "drizzle-onset cloud-top effective radius r_e*, µm")
+	fs.Float64Var(&f.onsetWidth, "onset-width", d.OnsetWidth*1e6, "width of the r_e range, µm, centred on --onset-radius, over which the drizzle-onset probability rises from 0 to 1 (0: a step at --onset-radius)")
 	fs.Float64Var(&f.gamma, "gamma-shape", d.GammaShape, "gamma shape of sub-grid LWP when the input has no LWP standard deviation")
 	fs.Float64Var(&f.r0, "collector-radius", d.Collector.R0*1e6, "start radius of the collector drop, µm")
 	fs.Float64Var(&f.drizzleR, "drizzle-radius", d.Collector.DrizzleRadius*1e6, "radius at which the collector counts as a drizzle drop, µm")
-	fs.Float64Var(&f.updraft, "updraft", d.Collector.Updraft, "updraft speed, m s-1 (0: collector released at cloud top; >0: enters at cloud base)")
+	fs.Float64Var(&f.updraft, "updraft", d.Collector.Updraft, "updraft speed, m s-1 (0: collector released at cloud top, the stratocumulus picture; >0: enters at cloud base and is carried up first, a cumulus picture)")
 	fs.Float64Var(&f.surfaceRH, "surface-rh", d.SurfaceRH, "surface relative humidity (0-1) when the input has none")
 	fs.Float64Var(&f.surfaceP, "surface-pressure", d.SurfacePressure/100, "surface pressure, hPa, to place cloud base when the input has no cloud-top height")
 	fs.Float64Var(&f.defCTT, "default-ctt", d.DefaultCTT, "cloud-top temperature, K, when the input has none")
@@ -91,6 +92,7 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 	p.K, p.Qext, p.Fad = f.k, f.qext, f.fad
 	p.FixedCw = f.cw / 1e6
 	p.ReStar = f.reStar / 1e6
+	p.OnsetWidth = f.onsetWidth / 1e6
 	p.GammaShape = f.gamma
 	p.Collector.R0 = f.r0 / 1e6
 	p.Collector.DrizzleRadius = f.drizzleR / 1e6
@@ -127,4 +129,15 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 		return p, usagef("%v (the option is given in the units its help shows)", err)
 	}
 	return p, nil
+}
+
+// physicsWarnings returns the messages that parameters p deserve on stderr: a steady
+// updraft that carries the collector up through the cloud first is a cumulus picture, and in
+// stratocumulus columns 0.5 m s-1 or more carries it out through cloud top.
+func physicsWarnings(p microphys.Params) []string {
+	var w []string
+	if p.EnableCollector && p.Collector.Updraft > 0 {
+		w = append(w, fmt.Sprintf("--updraft %g m s-1: a steady updraft is a cumulus picture; in stratocumulus columns an updraft of 0.5 m s-1 or more carries the collector out through cloud top (flag collector_exit_top). Use 0 (the default) for stratocumulus", p.Collector.Updraft))
+	}
+	return w
 }

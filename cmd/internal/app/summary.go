@@ -58,15 +58,16 @@ Examples:
 
 // Names in processed files.
 const (
-	lwpVarName     = "liquid_water_path"
-	lwpStdName     = "atmosphere_mass_content_of_cloud_liquid_water"
-	ndVarName      = "droplet_number"
-	popVarName     = "drizzle_probability"
-	rateVarName    = "cloud_base_drizzle_rate"
-	surfVarName    = "surface_drizzle_radius"
-	paramAttrStart = "warmrain_parameter_"
-	mapSuffix      = "_time_mean" // of the map variables in the summary file
-	summaryCaution = "Research diagnostics: not for operational forecasting or flight-safety decisions. Statistics of modelled per-column diagnostics; they inherit every assumption of the adiabatic cloud model and of the retrievals behind the inputs."
+	lwpVarName       = "liquid_water_path"
+	lwpStdName       = "atmosphere_mass_content_of_cloud_liquid_water"
+	ndVarName        = "droplet_number"
+	popVarName       = "drizzle_probability"
+	rateVarName      = "cloud_base_drizzle_rate"
+	intensityVarName = "cloud_base_drizzle_intensity"
+	surfVarName      = "surface_drizzle_radius"
+	paramAttrStart   = "warmrain_parameter_"
+	mapSuffix        = "_time_mean" // of the map variables in the summary file
+	summaryCaution   = "Research diagnostics: not for operational forecasting or flight-safety decisions. Statistics of modelled per-column diagnostics; they inherit every assumption of the adiabatic cloud model and of the retrievals behind the inputs."
 )
 
 // screenWords are the flag_meanings words of warm_rain_qc whose columns are left out.
@@ -76,8 +77,8 @@ var screenWords = []string{"input_missing", "input_invalid", "thin_cloud", "effe
 // siUnits gives the SI units the statistics use for the known diagnostics.
 var siUnits = map[string]string{
 	lwpVarName: "kg m-2", ndVarName: "m-3", "cloud_thickness": "m", "condensation_rate": "kg m-4",
-	"adiabatic_top_effective_radius": "m", "column_autoconversion_rate": "kg m-2 s-1", "warm_rain_efficiency": "s-1",
-	rateVarName: "kg m-2 s-1", popVarName: "1", "critical_lwp": "kg m-2", "collector_exit_radius": "m",
+	"adiabatic_top_effective_radius": "m", "column_autoconversion_rate": "kg m-2 s-1", "autoconversion_efficiency": "s-1",
+	rateVarName: "kg m-2 s-1", intensityVarName: "kg m-2 s-1", popVarName: "1", "critical_lwp": "kg m-2", "collector_exit_radius": "m",
 	"collector_exit_time": "s", surfVarName: "m", "drizzle_evaporation_height": "m",
 }
 
@@ -102,6 +103,7 @@ func runSummary(e *env, args []string) error {
 	boot := fs.Int("bootstrap", 0, "number `N` of Poisson-bootstrap replicates for the susceptibility errors (0 = off)")
 	seed := fs.Uint64("seed", 1, "seed `S` of the bootstrap random numbers")
 	minCount := fs.Int("min-count", 50, "least columns `N` an (LWP, N_d) bin needs to enter a fit or a curve")
+	minDrz := fs.Float64("min-drizzling", 10, "least drizzling columns `N` (the sum of the columns' POP) an (LWP, N_d) bin needs to enter a fit and show a conditional rate")
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
 	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
 	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
@@ -147,6 +149,10 @@ func runSummary(e *env, args []string) error {
 	if *minCount < 1 {
 		return usagef("--min-count %d: expected at least 1", *minCount)
 	}
+	if !(*minDrz > 0) || math.IsInf(*minDrz, 0) {
+		return usagef("--min-drizzling %g: expected a number above 0", *minDrz)
+	}
+	f.opt.MinDrizzling = *minDrz
 	if _, err := fmt.Sscanf(*size, "%dx%d", &f.width, &f.height); err != nil || f.width < 200 || f.height < 150 || f.width > 10000 || f.height > 10000 {
 		return usagef("--plot-size %q: expected WxH with W in 200..10000 and H in 150..10000 pixels", *size)
 	}
@@ -390,7 +396,7 @@ func (p *procFile) siVar(v *grid.VarInfo) (varIn, error) {
 		return vi, nil
 	}
 	c, err := grid.NewConverter(units, want)
-	if err != nil && v.Name == rateVarName {
+	if err != nil && (v.Name == rateVarName || v.Name == intensityVarName) {
 		// A depth rate of liquid water: 1 mm of water is 1 kg m-2 (rho_w = 1000 kg m-3, derived).
 		if c2, err2 := grid.NewConverter(units, "mm s-1"); err2 == nil {
 			c, err = c2, nil
@@ -574,6 +580,9 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 		}
 	}
 	res := acc.Result()
+	if c, err := strconv.ParseFloat(st.params["drizzle_nd_exponent"], 64); err == nil && !st.mixed {
+		res.Options.LawNdExponent = c // what sets S_R and S_I (summary.LawNote)
+	}
 	if err := summary.WriteTable(e.stdout, res); err != nil {
 		return err
 	}
@@ -854,8 +863,9 @@ var shortNames = map[string]string{
 	lwpVarName: "Liquid water path", ndVarName: "Droplet number concentration N_d",
 	"cloud_thickness": "Adiabatic cloud thickness", "condensation_rate": "Adiabatic condensation rate",
 	"adiabatic_top_effective_radius": "Adiabatic cloud-top effective radius",
-	"column_autoconversion_rate":     "Column autoconversion rate", "warm_rain_efficiency": "Warm-rain efficiency",
-	rateVarName: "Cloud-base drizzle rate", popVarName: "Drizzle probability (POP)",
+	"column_autoconversion_rate":     "Column autoconversion rate", "autoconversion_efficiency": "Autoconversion efficiency",
+	rateVarName: "Cloud-base drizzle rate (cell mean)", intensityVarName: "Cloud-base drizzle intensity (drizzling part)",
+	popVarName:     "Drizzle probability (POP)",
 	"critical_lwp": "Critical LWP for drizzle onset", "collector_exit_radius": "Collector drop radius at cloud exit",
 	"collector_exit_time": "Collector drop time in cloud", surfVarName: "Drizzle drop radius at the surface (0 = evaporated)",
 	"drizzle_evaporation_height": "Height where drizzle evaporated",
@@ -881,7 +891,12 @@ func (st *summaryState) paramText() string {
 		parts = append(parts, a+" autoconversion")
 	}
 	if r, err := strconv.ParseFloat(st.params["onset_effective_radius"], 64); err == nil {
-		parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r*1e6))
+		w, err := strconv.ParseFloat(st.params["onset_width"], 64)
+		if err == nil && w > 0 {
+			parts = append(parts, fmt.Sprintf("onset r_e %.3g-%.3g µm", (r-w/2)*1e6, (r+w/2)*1e6))
+		} else {
+			parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r*1e6))
+		}
 	}
 	if g := st.params["gamma_shape"]; g != "" {
 		parts = append(parts, "gamma shape "+g)
@@ -991,7 +1006,7 @@ func mapStyle(name, siUnit string, o *plots.MapOptions) {
 	switch name {
 	case popVarName:
 		o.Min, o.Max = 0, 1
-	case rateVarName, "column_autoconversion_rate", "warm_rain_efficiency":
+	case rateVarName, "column_autoconversion_rate", "autoconversion_efficiency", intensityVarName:
 		o.Log = true
 		o.ColorMap = plots.Cividis()
 	}

@@ -276,5 +276,9 @@ func SusceptibilityCurves(w io.Writer, r *summary.Result, opt CurveOptions) erro
 	}
 	pad := 0.06 * (p.Y.Max - p.Y.Min)
 	p.Y.Min, p.Y.Max = p.Y.Min-pad, p.Y.Max+pad
-	return writeWithLegend(w, width, height, p, 190, "quantity X", "S_R = S_POP + S_I")
+	note := "S_R = S_POP + S_I; S_R, S_I set by the law's N_d exponent c"
+	if c := r.Options.LawNdExponent; c > 0 {
+		note = fmt.Sprintf("S_R = S_POP + S_I; S_R, S_I set by the law's N_d exponent c = %g", c)
+	}
+	return writeWithLegend(w, width, height, p, 190, "quantity X", note)
 }
