@@ -88,13 +88,17 @@ Data go to stdout or files; messages go to stderr.
 	                                      cloud-top temperature and pressure)
 	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
 	                                      (default 14)
+	      --onset-width float             width of the r_e range, µm, centred on --onset-radius,
+	                                      over which the drizzle-onset probability rises from 0 to
+	                                      1 (0: a step at --onset-radius) (default 4)
 	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
 	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 20)
+	      --collector-radius float        start radius of the collector drop, µm (default 25)
 	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
 	                                      µm (default 100)
 	      --updraft float                 updraft speed, m s-1 (0: collector released at cloud
-	                                      top; >0: enters at cloud base)
+	                                      top, the stratocumulus picture; >0: enters at cloud base
+	                                      and is carried up first, a cumulus picture)
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
 	                                      (default 0.8)
 	      --surface-pressure float        surface pressure, hPa, to place cloud base when the
@@ -200,13 +204,17 @@ Data go to stdout or files; messages go to stderr.
 	                                      cloud-top temperature and pressure)
 	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
 	                                      (default 14)
+	      --onset-width float             width of the r_e range, µm, centred on --onset-radius,
+	                                      over which the drizzle-onset probability rises from 0 to
+	                                      1 (0: a step at --onset-radius) (default 4)
 	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
 	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 20)
+	      --collector-radius float        start radius of the collector drop, µm (default 25)
 	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
 	                                      µm (default 100)
 	      --updraft float                 updraft speed, m s-1 (0: collector released at cloud
-	                                      top; >0: enters at cloud base)
+	                                      top, the stratocumulus picture; >0: enters at cloud base
+	                                      and is carried up first, a cumulus picture)
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
 	                                      (default 0.8)
 	      --surface-pressure float        surface pressure, hPa, to place cloud base when the
@@ -291,6 +299,9 @@ Data go to stdout or files; messages go to stderr.
 	      --seed S                               seed S of the bootstrap random numbers (default 1)
 	      --min-count N                          least columns N an (LWP, N_d) bin needs to enter
 	                                             a fit or a curve (default 50)
+	      --min-drizzling N                      least drizzling columns N (the sum of the
+	                                             columns' POP) an (LWP, N_d) bin needs to enter a
+	                                             fit and show a conditional rate (default 10)
 	      --plot-size WxH                        picture size WxH in pixels (default "900x600")
 	      --map-of mean                          what the maps show: mean (time mean) or first
 	                                             (first selected time step) (default "mean")

@@ -93,7 +93,7 @@ func (a *Accumulator) Result() *Result {
 		}
 		if st.nR > 0 {
 			jt.MeanRate[b] = st.meanR
-			if st.sumPR >= a.opt.MinDrizzling {
+			if float64(st.n)*st.meanP >= a.opt.MinDrizzling && st.sumPR > 0 {
 				jt.MeanCond[b] = st.meanR * float64(st.nR) / st.sumPR
 			}
 		}
@@ -117,7 +117,7 @@ func (a *Accumulator) Result() *Result {
 		for j := 0; j < nn; j++ {
 			n[j] = float64(jt.Count[row+j])
 			nR[j] = float64(jt.CountRate[row+j])
-			drz[j] = a.bins[row+j].sumPR
+			drz[j] = float64(jt.Count[row+j]) * a.bins[row+j].meanP // Σ POP
 		}
 		r.SPOP[i] = f.slope(n, drz, jt.MeanPOP[row:row+nn])
 		r.SRate[i] = f.slope(nR, drz, jt.MeanRate[row:row+nn])
@@ -134,7 +134,7 @@ func (a *Accumulator) Result() *Result {
 			for i := 0; i < nl; i++ {
 				for j := 0; j < nn; j++ {
 					bb := a.boot[rep*nb+i*nn+j]
-					w[j], wR[j], wd[j] = bb.w, bb.wR, bb.wpr
+					w[j], wR[j], wd[j] = bb.w, bb.wR, bb.wp
 					mp[j], mr[j], mc[j] = nan, nan, nan
 					if bb.w > 0 {
 						mp[j] = bb.wp / bb.w
