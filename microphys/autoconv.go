@@ -39,6 +39,26 @@ func (s AutoconvScheme) String() string {
 	return autoconvNames[s]
 }
 
+// autoconvCitations cite each scheme (by index), for output metadata.
+var autoconvCitations = [...]string{
+	"Khairoutdinov and Kogan (2000) Mon. Wea. Rev. 128, 229-243",
+	"Kessler (1969) Meteor. Monogr. No. 32, Amer. Meteor. Soc.",
+	"Liu and Daum (2004) J. Atmos. Sci. 61, 1539-1548",
+	"Seifert and Beheng (2001) Atmos. Res. 59-60, 265-281",
+}
+
+// Citation returns the short citation of the scheme's paper (authors, year, journal,
+// volume, pages), for the references attribute of outputs that depend on it.
+//
+// Reference: [KhairoutdinovKogan2000], [Kessler1969], [LiuDaum2004], [SeifertBeheng2001].
+// Valid: the schemes of AutoconvScheme; others give "".
+func (s AutoconvScheme) Citation() string {
+	if s < 0 || int(s) >= len(autoconvCitations) {
+		return ""
+	}
+	return autoconvCitations[s]
+}
+
 // ParseAutoconvScheme returns the scheme named name (see AutoconvScheme.String), or an
 // error listing the valid names.
 //

@@ -211,5 +211,20 @@ func ExampleParams_Validate() {
 	p.Fad = 1.5
 	fmt.Println(p.Validate())
 	// Output:
-	// microphys: parameter Fad = 1.5 out of range (want 0 < Fad <= 1)
+	// microphys: parameter adiabatic_fraction = 1.5 out of range (want above 0 and at most 1)
+}
+
+func ExampleAutoconvScheme_Citation() {
+	fmt.Println(microphys.AutoconvKessler1969.Citation())
+	// Output: Kessler (1969) Meteor. Monogr. No. 32, Amer. Meteor. Soc.
+}
+
+func ExampleParamDecl_FromSI() {
+	for _, d := range microphys.ParamDecls {
+		if d.Option == "onset-radius" {
+			p := microphys.DefaultParams()
+			fmt.Println(d.FromSI(d.Get(&p)), d.Unit, d.ToSI(14) == p.ReStar, d.RangeText())
+		}
+	}
+	// Output: 14 um true between 1 and 100 um
 }

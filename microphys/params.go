@@ -2,7 +2,6 @@ package microphys
 
 import (
 	"fmt"
-	"math"
 	"strconv"
 )
 
@@ -176,14 +175,17 @@ func DefaultParams() Params {
 	}
 }
 
-// ParamError reports a parameter outside its allowed range.
+// ParamError reports a parameter outside its allowed range, in the terms of its
+// declaration (ParamDecls): the provenance name, the option, the value and range in the
+// unit users type.
 type ParamError struct {
-	Field string  // Params field name, e.g. "Fad" or "Collector.R0"
-	Value float64 // the rejected value
-	Want  string  // the allowed range
+	Field  string  // ParamDecl.Name, e.g. "adiabatic_fraction" or "re_range_max"
+	Option string  // ParamDecl.Option, e.g. "adiabatic-fraction"
+	Value  float64 // the rejected value, in the unit users type
+	Want   string  // the allowed range, e.g. "between 1 and 100 um"
 }
 
-// Error describes the bad field, its value and the allowed range.
+// Error describes the bad parameter, its value and the allowed range.
 //
 // Reference: none (software interface).
 // Valid: always.
@@ -191,128 +193,61 @@ func (e *ParamError) Error() string {
 	return fmt.Sprintf("microphys: parameter %s = %g out of range (want %s)", e.Field, e.Value, e.Want)
 }
 
-// Validate checks every parameter and returns a *ParamError naming the first bad field
-// and its allowed range, or nil.
+// Validate checks every parameter against its row of ParamDecls, then the relations
+// between them, and returns a *ParamError naming the first bad one and its allowed range,
+// or nil.
 //
-// Reference: the ranges are physical limits or common practice (see Params).
+// Reference: the ranges are physical limits or common practice (see ParamDecls).
 // Valid: always.
 func (p Params) Validate() error {
-	type rng struct {
-		name   string
-		v      float64
-		lo, hi float64
-		loOpen bool
-		want   string
-	}
-	checks := []rng{
-		{"K", p.K, 0, 1, true, "0 < K <= 1"},
-		{"Qext", p.Qext, 0, 10, true, "0 < Qext <= 10"},
-		{"Fad", p.Fad, 0, 1, true, "0 < Fad <= 1"},
-		{"ReStar", p.ReStar, 1e-6, 100e-6, false, "1e-6 <= ReStar <= 1e-4 m"},
-		{"OnsetWidth", p.OnsetWidth, 0, 20e-6, false, "0 <= OnsetWidth <= 2e-5 m"},
-		{"GammaShape", p.GammaShape, 0, 1e6, true, "0 < GammaShape <= 1e6"},
-		{"KesslerRate", p.KesslerRate, 0, 1, true, "0 < KesslerRate <= 1 s-1"},
-		{"KesslerThreshold", p.KesslerThreshold, 0, 1e-2, false, "0 <= KesslerThreshold <= 1e-2 kg kg-1"},
-		{"SBShape", p.SBShape, 0, 100, false, "0 <= SBShape <= 100"},
-		{"SurfaceRH", p.SurfaceRH, 0, 1, false, "0 <= SurfaceRH <= 1"},
-		{"SurfacePressure", p.SurfacePressure, 50000, 110000, false, "5e4 <= SurfacePressure <= 1.1e5 Pa"},
-		{"DefaultCTT", p.DefaultCTT, 230, 320, false, "230 <= DefaultCTT <= 320 K"},
-		{"DefaultCTP", p.DefaultCTP, 20000, 110000, false, "2e4 <= DefaultCTP <= 1.1e5 Pa"},
-		{"DrizzleCoef", p.DrizzleCoef, 0, 1e6, true, "0 < DrizzleCoef <= 1e6"},
-		{"DrizzleLWPExp", p.DrizzleLWPExp, 0, 10, false, "0 <= DrizzleLWPExp <= 10"},
-		{"DrizzleNdExp", p.DrizzleNdExp, 0, 10, false, "0 <= DrizzleNdExp <= 10"},
-		{"MinLWP", p.MinLWP, 0, 1, false, "0 <= MinLWP <= 1 kg m-2"},
-		{"MinTau", p.MinTau, 0, 100, false, "0 <= MinTau <= 100"},
-		{"ReMin", p.ReMin, 0, 100e-6, true, "0 < ReMin <= 1e-4 m"},
-		{"ReMax", p.ReMax, p.ReMin, 100e-6, true, "ReMin < ReMax <= 1e-4 m"},
-		{"MinCTT", p.MinCTT, 200, 320, false, "200 <= MinCTT <= 320 K"},
-		{"NdMin", p.NdMin, 0, 1e10, true, "0 < NdMin <= 1e10 m-3"},
-		{"NdMax", p.NdMax, p.NdMin, 1e11, true, "NdMin < NdMax <= 1e11 m-3"},
-		{"HMax", p.HMax, 0, 2e4, true, "0 < HMax <= 2e4 m"},
-		{"Collector.R0", p.Collector.R0, 1e-6, 500e-6, false, "1e-6 <= Collector.R0 <= 5e-4 m"},
-		{"Collector.Updraft", p.Collector.Updraft, 0, 20, false, "0 <= Collector.Updraft <= 20 m s-1"},
-		{"Collector.DrizzleRadius", p.Collector.DrizzleRadius, 1e-6, 5e-3, false, "1e-6 <= Collector.DrizzleRadius <= 5e-3 m"},
-		{"Collector.RelTol", p.Collector.RelTol, 0, 0.1, true, "0 < Collector.RelTol <= 0.1"},
-	}
-	for _, c := range checks {
-		ok := c.v <= c.hi && (c.v > c.lo || (!c.loOpen && c.v == c.lo))
-		if !ok { // also catches NaN
-			return &ParamError{Field: c.name, Value: c.v, Want: c.want}
+	for i := range ParamDecls {
+		d := &ParamDecls[i]
+		if u := d.FromSI(d.Get(&p)); !d.inRange(u) { // also catches NaN
+			return &ParamError{Field: d.Name, Option: d.Option, Value: u, Want: d.RangeText()}
 		}
 	}
-	if !(p.FixedCw == 0 || math.IsNaN(p.FixedCw) || (p.FixedCw >= 1e-7 && p.FixedCw <= 1e-5)) {
-		return &ParamError{"FixedCw", p.FixedCw, "0 or NaN (c_w from the air state), or 1e-7 <= FixedCw <= 1e-5 kg m-4"}
+	byName := func(name string) *ParamDecl {
+		for i := range ParamDecls {
+			if ParamDecls[i].Name == name {
+				return &ParamDecls[i]
+			}
+		}
+		panic("microphys: no parameter " + name)
 	}
-	if p.Autoconv < 0 || int(p.Autoconv) >= len(autoconvNames) {
-		return &ParamError{"Autoconv", float64(p.Autoconv), "one of " + autoconvNameList()}
+	for _, c := range [][2]string{{"re_range_min", "re_range_max"}, {"nd_range_min", "nd_range_max"}} {
+		lo, hi := byName(c[0]), byName(c[1])
+		if !(hi.Get(&p) > lo.Get(&p)) {
+			return &ParamError{Field: hi.Name, Option: hi.Option, Value: hi.FromSI(hi.Get(&p)),
+				Want: "max above min " + lo.Text(lo.FromSI(lo.Get(&p)))}
+		}
 	}
-	if p.CollectorMethod != CollectorTable && p.CollectorMethod != CollectorDirect {
-		return &ParamError{"CollectorMethod", float64(p.CollectorMethod), "table or direct"}
-	}
-	if !(p.OnsetWidth < 2*p.ReStar) {
-		return &ParamError{"OnsetWidth", p.OnsetWidth, "OnsetWidth < 2 ReStar (the onset range starts above 0)"}
-	}
-	if _, err := ParseCollisionKind(p.Collision.String()); err != nil {
-		return &ParamError{"Collision", float64(p.Collision), "a CollisionKind"}
-	}
-	if _, err := ParseCoalescenceKind(p.Coalescence.String()); err != nil {
-		return &ParamError{"Coalescence", float64(p.Coalescence), "a CoalescenceKind"}
+	if w := byName("onset_width"); !(p.OnsetWidth < 2*p.ReStar) {
+		return &ParamError{Field: w.Name, Option: w.Option, Value: w.FromSI(p.OnsetWidth),
+			Want: "below twice the onset radius (the onset range starts above 0)"}
 	}
 	if p.EnableEvaporation && !p.EnableCollector {
-		return &ParamError{"EnableEvaporation", 1, "false when EnableCollector is false (evaporation follows the collector drop)"}
+		return &ParamError{"no_evaporation", "no-evaporation", 0, "given when no-collector is (evaporation follows the collector drop)"}
 	}
 	return nil
 }
 
 // Setting is one parameter as text, for provenance attributes.
 type Setting struct {
-	Name  string // lowercase words joined with _
-	Value string
+	Name  string // ParamDecl.Name: the option's words joined with _
+	Value string // in the unit users type (Unit), a choice's name, or true/false
+	Unit  string // ParamDecl.Unit ("1" for a pure number, "" for choices and switches)
 }
 
-// Settings lists every parameter as (name, value) text pairs in a fixed order, for the
-// global attributes of an output file. It allocates.
+// Settings lists every parameter of ParamDecls as text in the units users type, in table
+// order, for the global attributes of an output file. It allocates.
 //
 // Reference: none (software interface).
 // Valid: always.
 func (p Params) Settings() []Setting {
-	f := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
-	b := strconv.FormatBool
-	return []Setting{
-		{"k_ratio", f(p.K)},
-		{"extinction_efficiency", f(p.Qext)},
-		{"adiabatic_fraction", f(p.Fad)},
-		{"fixed_condensation_rate", f(p.FixedCw)},
-		{"onset_effective_radius", f(p.ReStar)},
-		{"onset_width", f(p.OnsetWidth)},
-		{"gamma_shape", f(p.GammaShape)},
-		{"autoconversion", p.Autoconv.String()},
-		{"kessler_rate", f(p.KesslerRate)},
-		{"kessler_threshold", f(p.KesslerThreshold)},
-		{"seifert_beheng_shape", f(p.SBShape)},
-		{"collision_efficiency", p.Collision.String()},
-		{"coalescence_efficiency", p.Coalescence.String()},
-		{"collector_start_radius", f(p.Collector.R0)},
-		{"collector_updraft", f(p.Collector.Updraft)},
-		{"collector_drizzle_radius", f(p.Collector.DrizzleRadius)},
-		{"collector_rel_tol", f(p.Collector.RelTol)},
-		{"collector_method", p.CollectorMethod.String()},
-		{"enable_collector", b(p.EnableCollector)},
-		{"enable_evaporation", b(p.EnableEvaporation)},
-		{"surface_relative_humidity", f(p.SurfaceRH)},
-		{"surface_pressure", f(p.SurfacePressure)},
-		{"default_cloud_top_temperature", f(p.DefaultCTT)},
-		{"default_cloud_top_pressure", f(p.DefaultCTP)},
-		{"drizzle_coefficient", f(p.DrizzleCoef)},
-		{"drizzle_lwp_exponent", f(p.DrizzleLWPExp)},
-		{"drizzle_nd_exponent", f(p.DrizzleNdExp)},
-		{"min_lwp", f(p.MinLWP)},
-		{"min_tau", f(p.MinTau)},
-		{"min_effective_radius", f(p.ReMin)},
-		{"max_effective_radius", f(p.ReMax)},
-		{"min_cloud_top_temperature", f(p.MinCTT)},
-		{"min_droplet_number", f(p.NdMin)},
-		{"max_droplet_number", f(p.NdMax)},
-		{"max_thickness", f(p.HMax)},
+	s := make([]Setting, len(ParamDecls))
+	for i := range ParamDecls {
+		d := &ParamDecls[i]
+		s[i] = Setting{d.Name, d.Text(d.FromSI(d.Get(&p))), d.Unit}
 	}
+	return s
 }

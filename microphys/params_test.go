@@ -21,10 +21,10 @@ func TestDefaultParams(t *testing.T) {
 		name      string
 		got, want float64
 	}{
-		{"K", p.K, 0.8}, {"Qext", p.Qext, 2}, {"Fad", p.Fad, 1}, {"ReStar", p.ReStar, 14e-6},
-		{"SurfaceRH", p.SurfaceRH, 0.8}, {"SurfacePressure", p.SurfacePressure, 101325},
+		{"K", p.K, 0.8}, {"extinction_efficiency", p.Qext, 2}, {"adiabatic_fraction", p.Fad, 1}, {"onset_radius", p.ReStar, 14e-6},
+		{"surface_rh", p.SurfaceRH, 0.8}, {"SurfacePressure", p.SurfacePressure, 101325},
 		{"MinCTT", p.MinCTT, 273.15}, {"DrizzleCoef", p.DrizzleCoef, 0.37}, {"DrizzleLWPExp", p.DrizzleLWPExp, 1.75},
-		{"Collector.R0", p.Collector.R0, 25e-6}, {"OnsetWidth", p.OnsetWidth, 4e-6}, {"NdMin", p.NdMin, 10e6}, {"NdMax", p.NdMax, 1000e6}, {"HMax", p.HMax, 1500},
+		{"collector_radius", p.Collector.R0, 25e-6}, {"onset_width", p.OnsetWidth, 4e-6}, {"NdMin", p.NdMin, 10e6}, {"nd_range_max", p.NdMax, 1000e6}, {"HMax", p.HMax, 1500},
 	} {
 		if c.got != c.want {
 			t.Errorf("default %s = %g, want %g", c.name, c.got, c.want)
@@ -42,21 +42,21 @@ func TestValidateNamesField(t *testing.T) {
 		field string
 		mod   func(p *Params)
 	}{
-		{"K", func(p *Params) { p.K = 0 }},
-		{"K", func(p *Params) { p.K = math.NaN() }},
-		{"Fad", func(p *Params) { p.Fad = 1.2 }},
-		{"Qext", func(p *Params) { p.Qext = -1 }},
-		{"ReStar", func(p *Params) { p.ReStar = 1 }},
-		{"GammaShape", func(p *Params) { p.GammaShape = 0 }},
-		{"SurfaceRH", func(p *Params) { p.SurfaceRH = 1.5 }},
-		{"ReMax", func(p *Params) { p.ReMax = p.ReMin / 2 }},
-		{"NdMax", func(p *Params) { p.NdMax = p.NdMin }},
-		{"FixedCw", func(p *Params) { p.FixedCw = 1 }},
-		{"Autoconv", func(p *Params) { p.Autoconv = 99 }},
-		{"Collector.R0", func(p *Params) { p.Collector.R0 = 0 }},
-		{"Collector.Updraft", func(p *Params) { p.Collector.Updraft = math.Inf(1) }},
-		{"EnableEvaporation", func(p *Params) { p.EnableCollector = false }},
-		{"CollectorMethod", func(p *Params) { p.CollectorMethod = 7 }},
+		{"k_ratio", func(p *Params) { p.K = 0 }},
+		{"k_ratio", func(p *Params) { p.K = math.NaN() }},
+		{"adiabatic_fraction", func(p *Params) { p.Fad = 1.2 }},
+		{"extinction_efficiency", func(p *Params) { p.Qext = -1 }},
+		{"onset_radius", func(p *Params) { p.ReStar = 1 }},
+		{"gamma_shape", func(p *Params) { p.GammaShape = 0 }},
+		{"surface_rh", func(p *Params) { p.SurfaceRH = 1.5 }},
+		{"re_range_max", func(p *Params) { p.ReMax = p.ReMin / 2 }},
+		{"nd_range_max", func(p *Params) { p.NdMax = p.NdMin }},
+		{"condensation_rate", func(p *Params) { p.FixedCw = 1 }},
+		{"autoconversion", func(p *Params) { p.Autoconv = 99 }},
+		{"collector_radius", func(p *Params) { p.Collector.R0 = 0 }},
+		{"updraft", func(p *Params) { p.Collector.Updraft = math.Inf(1) }},
+		{"no_evaporation", func(p *Params) { p.EnableCollector = false }},
+		{"collector_method", func(p *Params) { p.CollectorMethod = 7 }},
 	}
 	for _, c := range cases {
 		p := DefaultParams()
@@ -88,7 +88,7 @@ func TestSettings(t *testing.T) {
 	if want := reflect.TypeOf(Params{}).NumField() - 1 + 4; len(s) != want {
 		t.Errorf("%d settings, want %d (a Params field is missing from Settings)", len(s), want)
 	}
-	for _, want := range []string{"autoconversion=kk2000", "collector_method=table", "k_ratio=0.8", "collision_efficiency=hall1980"} {
+	for _, want := range []string{"autoconversion=kk2000", "collector_method=table", "k_ratio=0.8", "collision=hall1980"} {
 		found := false
 		for _, kv := range s {
 			if kv.Name+"="+kv.Value == want {

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 )
 
@@ -34,7 +35,7 @@ var tableLayout = fmt.Sprintf("coll %v %v %v; thr %v %v %v; val %v %v %v %g %d %
 const tableVerifyNodes = 6
 
 // TableKey identifies the tables NewModel builds for p: the table layout and every
-// parameter (Settings), so that two Params with the same key build the same tables. It is
+// parameter (ParamDecls, SI values), so that two Params with the same key build the same tables. It is
 // empty when p builds no tables (collector off, or CollectorMethod direct).
 //
 // Reference: none (software interface).
@@ -45,11 +46,11 @@ func (p Params) TableKey() string {
 	}
 	var b strings.Builder
 	b.WriteString(tableLayout)
-	for _, s := range p.Settings() {
+	for i := range ParamDecls { // SI values, exactly: Settings rounds through the users' units
 		b.WriteString("; ")
-		b.WriteString(s.Name)
+		b.WriteString(ParamDecls[i].Name)
 		b.WriteString("=")
-		b.WriteString(s.Value)
+		b.WriteString(strconv.FormatFloat(ParamDecls[i].Get(&p), 'g', -1, 64))
 	}
 	return b.String()
 }

@@ -77,54 +77,57 @@ Data go to stdout or files; messages go to stderr.
 	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
 	      --collision string              collision efficiency of the collector drop: hall1980,
 	                                      long1974 (default "hall1980")
-	      --coalescence string            coalescence efficiency: seifert2005 (Beard-Ochs/Low-List
-	                                      blend), beard-ochs1995, low-list1982, unity (default
-	                                      "seifert2005")
+	      --coalescence string            coalescence efficiency (seifert2005 is the
+	                                      Beard-Ochs/Low-List blend): seifert2005, beard-ochs1995,
+	                                      low-list1982, unity (default "seifert2005")
 	      --k-ratio float                 k = (r_v/r_e)^3, ratio of mean-volume to effective
 	                                      radius cubed (default 0.8)
 	      --extinction-efficiency float   extinction efficiency Q_ext (default 2)
-	      --adiabatic-fraction float      adiabatic fraction f_ad in (0, 1] (default 1)
-	      --condensation-rate float       fixed condensation rate c_w in g m-3 km-1 (0: from
-	                                      cloud-top temperature and pressure)
+	      --adiabatic-fraction float      adiabatic fraction f_ad (default 1)
+	      --condensation-rate float       fixed condensation rate c_w (0: from cloud-top
+	                                      temperature and pressure), g m-3 km-1
 	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
 	                                      (default 14)
-	      --onset-width float             width of the r_e range, µm, centred on --onset-radius,
-	                                      over which the drizzle-onset probability rises from 0 to
-	                                      1 (0: a step at --onset-radius) (default 4)
+	      --onset-width float             width of the r_e range, centred on the onset radius,
+	                                      over which the drizzle-onset probability of a sub-grid
+	                                      column rises from 0 to 1 (0: a step at the onset
+	                                      radius), µm (default 4)
 	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
 	                                      standard deviation (default 4)
 	      --collector-radius float        start radius of the collector drop, µm (default 25)
 	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
 	                                      µm (default 100)
-	      --updraft float                 updraft speed, m s-1 (0: collector released at cloud
-	                                      top, the stratocumulus picture; >0: enters at cloud base
-	                                      and is carried up first, a cumulus picture)
+	      --updraft float                 updraft speed (0: collector released at cloud top, the
+	                                      stratocumulus picture; >0: enters at cloud base and is
+	                                      carried up first, a cumulus picture), m s-1
+	      --collector-tolerance float     relative tolerance per step of the collector-drop
+	                                      integrator (default 1e-06)
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
 	                                      (default 0.8)
-	      --surface-pressure float        surface pressure, hPa, to place cloud base when the
-	                                      input has no cloud-top height (default 1013.25)
-	      --default-ctt float             cloud-top temperature, K, when the input has none
+	      --surface-pressure float        surface pressure to place cloud base when the input has
+	                                      no cloud-top height, hPa (default 1013.25)
+	      --default-ctt float             cloud-top temperature when the input has none, K
 	                                      (default 285)
-	      --default-ctp float             cloud-top pressure, hPa, when the input has none
-	                                      (default 900)
+	      --default-ctp float             cloud-top pressure when the input has none, hPa (default 900)
 	      --drizzle-law string            cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R
 	                                      mm day-1, LWP g m-2, N_d cm-3) (default "0.37,1.75,1.75")
 	      --kessler-rate float            Kessler rate constant, s-1 (default 0.001)
 	      --kessler-threshold float       Kessler threshold cloud-water mixing ratio, g kg-1
 	                                      (default 0.5)
-	      --collector-method string       collector and evaporation results: table (interpolated,
-	                                      tested to 0.5 %) or direct (integrated per column, slow)
-	                                      (default "table")
+	      --seifert-beheng-shape float    cloud-droplet gamma shape nu (in mass) of the
+	                                      seifert-beheng2001 scheme (default 1)
+	      --collector-method string       collector and evaporation results (table: interpolated,
+	                                      tested to 0.5 %; direct: integrated per column, slow):
+	                                      table, direct (default "table")
 	      --no-collector[=true|false]     skip the collector drop and its evaporation
 	      --no-evaporation[=true|false]   skip the sub-cloud evaporation of the collector drop
 	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
 	      --min-tau float                 screen columns with optical thickness below this (default 3)
-	      --re-range string               valid effective-radius range, µm, as min,max (default
-	                                      "4,30")
+	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
 	      --min-ctt float                 screen columns with cloud-top temperature below this
 	                                      (possible ice), K (default 273.15)
-	      --nd-range string               plausible droplet-number range, cm-3, as min,max
-	                                      (default "10,1000")
+	      --nd-range string               plausible droplet-number range as min,max, cm-3 (default
+	                                      "10,1000")
 	      --max-thickness float           screen columns with adiabatic thickness above this, m
 	                                      (default 1500)
 
@@ -193,54 +196,57 @@ Data go to stdout or files; messages go to stderr.
 	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
 	      --collision string              collision efficiency of the collector drop: hall1980,
 	                                      long1974 (default "hall1980")
-	      --coalescence string            coalescence efficiency: seifert2005 (Beard-Ochs/Low-List
-	                                      blend), beard-ochs1995, low-list1982, unity (default
-	                                      "seifert2005")
+	      --coalescence string            coalescence efficiency (seifert2005 is the
+	                                      Beard-Ochs/Low-List blend): seifert2005, beard-ochs1995,
+	                                      low-list1982, unity (default "seifert2005")
 	      --k-ratio float                 k = (r_v/r_e)^3, ratio of mean-volume to effective
 	                                      radius cubed (default 0.8)
 	      --extinction-efficiency float   extinction efficiency Q_ext (default 2)
-	      --adiabatic-fraction float      adiabatic fraction f_ad in (0, 1] (default 1)
-	      --condensation-rate float       fixed condensation rate c_w in g m-3 km-1 (0: from
-	                                      cloud-top temperature and pressure)
+	      --adiabatic-fraction float      adiabatic fraction f_ad (default 1)
+	      --condensation-rate float       fixed condensation rate c_w (0: from cloud-top
+	                                      temperature and pressure), g m-3 km-1
 	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
 	                                      (default 14)
-	      --onset-width float             width of the r_e range, µm, centred on --onset-radius,
-	                                      over which the drizzle-onset probability rises from 0 to
-	                                      1 (0: a step at --onset-radius) (default 4)
+	      --onset-width float             width of the r_e range, centred on the onset radius,
+	                                      over which the drizzle-onset probability of a sub-grid
+	                                      column rises from 0 to 1 (0: a step at the onset
+	                                      radius), µm (default 4)
 	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
 	                                      standard deviation (default 4)
 	      --collector-radius float        start radius of the collector drop, µm (default 25)
 	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
 	                                      µm (default 100)
-	      --updraft float                 updraft speed, m s-1 (0: collector released at cloud
-	                                      top, the stratocumulus picture; >0: enters at cloud base
-	                                      and is carried up first, a cumulus picture)
+	      --updraft float                 updraft speed (0: collector released at cloud top, the
+	                                      stratocumulus picture; >0: enters at cloud base and is
+	                                      carried up first, a cumulus picture), m s-1
+	      --collector-tolerance float     relative tolerance per step of the collector-drop
+	                                      integrator (default 1e-06)
 	      --surface-rh float              surface relative humidity (0-1) when the input has none
 	                                      (default 0.8)
-	      --surface-pressure float        surface pressure, hPa, to place cloud base when the
-	                                      input has no cloud-top height (default 1013.25)
-	      --default-ctt float             cloud-top temperature, K, when the input has none
+	      --surface-pressure float        surface pressure to place cloud base when the input has
+	                                      no cloud-top height, hPa (default 1013.25)
+	      --default-ctt float             cloud-top temperature when the input has none, K
 	                                      (default 285)
-	      --default-ctp float             cloud-top pressure, hPa, when the input has none
-	                                      (default 900)
+	      --default-ctp float             cloud-top pressure when the input has none, hPa (default 900)
 	      --drizzle-law string            cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R
 	                                      mm day-1, LWP g m-2, N_d cm-3) (default "0.37,1.75,1.75")
 	      --kessler-rate float            Kessler rate constant, s-1 (default 0.001)
 	      --kessler-threshold float       Kessler threshold cloud-water mixing ratio, g kg-1
 	                                      (default 0.5)
-	      --collector-method string       collector and evaporation results: table (interpolated,
-	                                      tested to 0.5 %) or direct (integrated per column, slow)
-	                                      (default "table")
+	      --seifert-beheng-shape float    cloud-droplet gamma shape nu (in mass) of the
+	                                      seifert-beheng2001 scheme (default 1)
+	      --collector-method string       collector and evaporation results (table: interpolated,
+	                                      tested to 0.5 %; direct: integrated per column, slow):
+	                                      table, direct (default "table")
 	      --no-collector[=true|false]     skip the collector drop and its evaporation
 	      --no-evaporation[=true|false]   skip the sub-cloud evaporation of the collector drop
 	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
 	      --min-tau float                 screen columns with optical thickness below this (default 3)
-	      --re-range string               valid effective-radius range, µm, as min,max (default
-	                                      "4,30")
+	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
 	      --min-ctt float                 screen columns with cloud-top temperature below this
 	                                      (possible ice), K (default 273.15)
-	      --nd-range string               plausible droplet-number range, cm-3, as min,max
-	                                      (default "10,1000")
+	      --nd-range string               plausible droplet-number range as min,max, cm-3 (default
+	                                      "10,1000")
 	      --max-thickness float           screen columns with adiabatic thickness above this, m
 	                                      (default 1500)
 	      --json[=true|false]             print one JSON object instead of the tables

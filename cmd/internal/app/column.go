@@ -59,7 +59,7 @@ var columnInputs = []struct {
 // columnResult is everything column prints; the JSON form is this struct.
 type columnResult struct {
 	Parameters  []paramJSON          `json:"-"`
-	ParamMap    map[string]any       `json:"parameters"` // SI base units; numbers or names
+	ParamMap    map[string]any       `json:"parameters"` // as the options take them (units of the help); numbers, names or booleans
 	Inputs      map[string]jnum      `json:"inputs"`
 	InputUnits  map[string]string    `json:"input_units"`
 	Assumed     []string             `json:"assumed"`
@@ -73,7 +73,7 @@ type columnResult struct {
 	order []string // diagnostic names in table order (text output)
 }
 
-type paramJSON struct{ Name, Value string }
+type paramJSON struct{ Name, Option, Value, Unit string }
 
 type qcJSON struct {
 	Value    uint16   `json:"value"`
@@ -200,8 +200,8 @@ func computeColumn(m *microphys.Model, in *microphys.Inputs) *columnResult {
 	m.Column(in, &out)
 	r := &columnResult{Inputs: map[string]jnum{}, InputUnits: map[string]string{}, Diagnostics: map[string]jnum{}, Units: map[string]string{}}
 	r.ParamMap = map[string]any{}
-	for _, s := range p.Settings() {
-		r.Parameters = append(r.Parameters, paramJSON{s.Name, s.Value})
+	for i, s := range p.Settings() {
+		r.Parameters = append(r.Parameters, paramJSON{s.Name, microphys.ParamDecls[i].Option, s.Value, s.Unit})
 		if f, err := strconv.ParseFloat(s.Value, 64); err == nil {
 			r.ParamMap[s.Name] = f
 		} else if b, err := strconv.ParseBool(s.Value); err == nil {
@@ -535,14 +535,19 @@ func (r *columnResult) writeText(w io.Writer) error {
 		}
 	}
 
-	fmt.Fprintln(w, "\nparameters (SI units):")
+	fmt.Fprintln(w, "\nparameters (as options):")
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	for _, s := range r.Parameters {
-		v := s.Value
-		if f, err := strconv.ParseFloat(v, 64); err == nil {
-			v = strconv.FormatFloat(f, 'g', 6, 64)
+	for i := 0; i < len(r.Parameters); {
+		s := r.Parameters[i]
+		var vals []string
+		for ; i < len(r.Parameters) && r.Parameters[i].Option == s.Option; i++ {
+			v := r.Parameters[i].Value
+			if f, err := strconv.ParseFloat(v, 64); err == nil {
+				v = strconv.FormatFloat(f, 'g', 6, 64)
+			}
+			vals = append(vals, v)
 		}
-		fmt.Fprintf(tw, "  %s\t%s\n", s.Name, v)
+		fmt.Fprintf(tw, "  --%s\t%s\n", s.Option, paramAttr(microphys.Setting{Value: strings.Join(vals, ","), Unit: s.Unit}))
 	}
 	return tw.Flush()
 }

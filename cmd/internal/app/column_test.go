@@ -123,7 +123,7 @@ func TestColumnMatchesMicrophys(t *testing.T) {
 			if got.QC.Value != want.QC || strings.Join(got.QC.Flags, " ") != strings.Join(microphys.QCNames(want.QC), " ") {
 				t.Errorf("qc %d %v, want %d %v", got.QC.Value, got.QC.Flags, want.QC, microphys.QCNames(want.QC))
 			}
-			if got.Parameters["collector_method"] != "direct" || got.Parameters["collector_updraft"] != c.upd {
+			if got.Parameters["collector_method"] != "direct" || got.Parameters["updraft"] != c.upd {
 				t.Errorf("parameters %v", got.Parameters)
 			}
 			if want.QC&microphys.QCScreenMask != 0 {
@@ -294,7 +294,7 @@ func TestColumnText(t *testing.T) {
 		}
 	}
 	for _, want := range []string{"adiabatic profile:", "collector drop (CollectDirect)", "sub-cloud fall (EvaporateDirect)",
-		"parameters (SI units):", "air_state_assumed", "QC bit air_state_assumed", "height above base (m)"} {
+		"parameters (as options):", "air_state_assumed", "QC bit air_state_assumed", "height above base (m)"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q", want)
 		}
@@ -319,7 +319,7 @@ func TestColumnUsage(t *testing.T) {
 		{[]string{"--lwp", "120", "--re", "14", "--nosuch"}, "unknown flag"},
 		{[]string{"--lwp", "120", "--re", "14", "extra"}, "unexpected argument"},
 		{[]string{"--lwp", "120", "--re", "14", "--autoconversion", "nosuch"}, "--autoconversion"},
-		{[]string{"--lwp", "120", "--re", "14", "--adiabatic-fraction", "2"}, "Fad"},
+		{[]string{"--lwp", "120", "--re", "14", "--adiabatic-fraction", "2"}, "--adiabatic-fraction must be above 0 and at most 1"},
 	} {
 		code, out, errs := runCmd(append([]string{"column"}, c.args...)...)
 		if code != ExitUsage || out != "" || !strings.Contains(strings.ToLower(errs), strings.ToLower(c.msg)) {

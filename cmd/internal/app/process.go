@@ -538,7 +538,7 @@ func (j *processJob) globals(id batch.Identity) []grid.Global {
 		{Name: attrDigest, Value: j.digest},
 	}
 	for _, s := range j.params.Settings() {
-		g = append(g, grid.Global{Name: "warmrain_parameter_" + s.Name, Value: s.Value})
+		g = append(g, grid.Global{Name: "warmrain_parameter_" + s.Name, Value: paramAttr(s)})
 	}
 	if len(j.o.binds) > 0 {
 		g = append(g, grid.Global{Name: "warmrain_bindings", Value: strings.Join(j.o.binds, "; ")})
@@ -546,11 +546,20 @@ func (j *processJob) globals(id batch.Identity) []grid.Global {
 	return g
 }
 
+// autoconvRole says in the references which scheme was used ("default" for the default,
+// as earlier versions wrote).
+func autoconvRole(p microphys.Params) string {
+	if p.Autoconv == microphys.DefaultParams().Autoconv {
+		return " (autoconversion, default)"
+	}
+	return " (autoconversion, --autoconversion " + p.Autoconv.String() + ")"
+}
+
 func referencesText(p microphys.Params) string {
 	refs := []string{
 		"Brenguier et al. (2000) J. Atmos. Sci. 57, 803-821 (adiabatic droplet number and thickness)",
 		"Bolton (1980) Mon. Wea. Rev. 108, 1046-1053 (saturation vapour pressure, latent heat)",
-		"Khairoutdinov and Kogan (2000) Mon. Wea. Rev. 128, 229-243 (autoconversion, default)",
+		p.Autoconv.Citation() + autoconvRole(p),
 		"Comstock et al. (2004) Q. J. R. Meteorol. Soc. 130, 2891-2918 (cloud-base drizzle rate)",
 		"Barker (1996) J. Atmos. Sci. 53, 2289-2303 (gamma-distributed sub-grid variability)",
 	}

@@ -208,7 +208,7 @@ func TestProcessUsageErrors(t *testing.T) {
 		{"no output", []string{"process", in}, 2, "no output given"},
 		{"unknown flag", []string{"process", in, "-o", dir, "--bogus"}, 2, "unknown flag: --bogus"},
 		{"bad scheme", []string{"process", in, "-o", dir, "--autoconversion", "magic"}, 2, "--autoconversion"},
-		{"bad fad", []string{"process", in, "-o", dir, "--adiabatic-fraction", "1.5"}, 2, "Fad"},
+		{"bad fad", []string{"process", in, "-o", dir, "--adiabatic-fraction", "1.5"}, 2, "--adiabatic-fraction must be above 0 and at most 1 (got 1.5)"},
 		{"bad range", []string{"process", in, "-o", dir, "--re-range", "4"}, 2, "--re-range"},
 		{"force and redo", []string{"process", in, "-o", dir, "--force", "--redo"}, 2, "cannot be combined"},
 		{"bad shard", []string{"process", in, "-o", dir, "--shard", "3/3"}, 2, "shard"},

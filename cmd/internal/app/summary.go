@@ -18,6 +18,7 @@ import (
 	"github.com/warmrain/warmrain/cmd/internal/plots"
 	"github.com/warmrain/warmrain/cmd/internal/summary"
 	"github.com/warmrain/warmrain/grid"
+	"github.com/warmrain/warmrain/microphys"
 )
 
 const summaryUsage = `Usage: warmrain summary PROCESSED.nc... [-o SUMMARY.nc] [--plots DIR] [options]
@@ -56,30 +57,53 @@ Examples:
   warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
 `
 
-// Names in processed files.
-const (
-	lwpVarName       = "liquid_water_path"
-	lwpStdName       = "atmosphere_mass_content_of_cloud_liquid_water"
-	ndVarName        = "droplet_number"
-	popVarName       = "drizzle_probability"
-	rateVarName      = "cloud_base_drizzle_rate"
-	intensityVarName = "cloud_base_drizzle_intensity"
-	surfVarName      = "surface_drizzle_radius"
-	paramAttrStart   = "warmrain_parameter_"
-	mapSuffix        = "_time_mean" // of the map variables in the summary file
-	summaryCaution   = "Research diagnostics: not for operational forecasting or flight-safety decisions. Statistics of modelled per-column diagnostics; they inherit every assumption of the adiabatic cloud model and of the retrievals behind the inputs."
+// Names in processed files: rows of microphys.OutputDecls (mustOutput fails at start
+// when the declaration no longer has them).
+var (
+	lwpVarName       = mustOutput("liquid_water_path").Name
+	lwpStdName       = mustOutput("liquid_water_path").StandardName
+	ndVarName        = mustOutput("droplet_number").Name
+	popVarName       = mustOutput("drizzle_probability").Name
+	rateVarName      = mustOutput("cloud_base_drizzle_rate").Name
+	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
+	surfVarName      = mustOutput("surface_drizzle_radius").Name
 )
 
-// screenWords are the flag_meanings words of warm_rain_qc whose columns are left out.
-var screenWords = []string{"input_missing", "input_invalid", "thin_cloud", "effective_radius_out_of_range",
-	"possible_ice", "droplet_number_implausible", "thickness_implausible"}
+const (
+	paramAttrStart = "warmrain_parameter_"
+	mapSuffix      = "_time_mean" // of the map variables in the summary file
+	summaryCaution = "Research diagnostics: not for operational forecasting or flight-safety decisions. Statistics of modelled per-column diagnostics; they inherit every assumption of the adiabatic cloud model and of the retrievals behind the inputs."
+)
 
-// siUnits gives the SI units the statistics use for the known diagnostics.
-var siUnits = map[string]string{
-	lwpVarName: "kg m-2", ndVarName: "m-3", "cloud_thickness": "m", "condensation_rate": "kg m-4",
-	"adiabatic_top_effective_radius": "m", "column_autoconversion_rate": "kg m-2 s-1", "autoconversion_efficiency": "s-1",
-	rateVarName: "kg m-2 s-1", intensityVarName: "kg m-2 s-1", popVarName: "1", "critical_lwp": "kg m-2", "collector_exit_radius": "m",
-	"collector_exit_time": "s", surfVarName: "m", "drizzle_evaporation_height": "m",
+// mustOutput returns the declaration of a processed file's variable; it panics (a
+// programming error) when microphys.OutputDecls has no such output.
+func mustOutput(name string) *microphys.OutputDecl {
+	d := microphys.OutputByName(name)
+	if d == nil {
+		panic("app: microphys.OutputDecls has no output " + name)
+	}
+	return d
+}
+
+// screenWords are the flag_meanings words of warm_rain_qc whose columns are left out:
+// the screening bits of microphys.QCFlags.
+var screenWords = func() []string {
+	var w []string
+	for _, f := range microphys.QCFlags {
+		if f.Screen {
+			w = append(w, f.Name)
+		}
+	}
+	return w
+}()
+
+// siUnitsOf gives the SI units the statistics use for a known diagnostic
+// (microphys.OutputDecls), or false.
+func siUnitsOf(name string) (string, bool) {
+	if d := microphys.OutputByName(name); d != nil {
+		return d.SIUnits, true
+	}
+	return "", false
 }
 
 type summaryFlags struct {
@@ -388,9 +412,9 @@ func (p *procFile) bind() error {
 func (p *procFile) siVar(v *grid.VarInfo) (varIn, error) {
 	units := v.Text("units")
 	vi := varIn{name: v.Name, units: units, long: v.Text("long_name"), std: v.Text("standard_name"), conv: grid.Converter{From: units, To: units, Factor: 1}}
-	want, known := siUnits[v.Name]
+	want, known := siUnitsOf(v.Name)
 	if v.Name == p.lwp {
-		want, known = "kg m-2", true
+		want, known = siUnitsOf(lwpVarName)
 	}
 	if !known {
 		return vi, nil
@@ -580,8 +604,10 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 		}
 	}
 	res := acc.Result()
-	if c, err := strconv.ParseFloat(st.params["drizzle_nd_exponent"], 64); err == nil && !st.mixed {
-		res.Options.LawNdExponent = c // what sets S_R and S_I (summary.LawNote)
+	if !st.mixed { // what sets S_R and S_I (summary.LawNote)
+		if c, err := strconv.ParseFloat(strings.Fields(st.params["drizzle_law_c"] + " x")[0], 64); err == nil {
+			res.Options.LawNdExponent = c
+		}
 	}
 	if err := summary.WriteTable(e.stdout, res); err != nil {
 		return err
@@ -657,16 +683,16 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			one.Time = s.Time[t : t+1]
 		}
 		cols := summary.Columns{
-			LWP: summary.Field{Name: p.lwp, Units: "kg m-2", Data: d[p.lwp]},
-			Nd:  summary.Field{Name: ndVarName, Units: "m-3", Data: d[ndVarName]},
-			POP: summary.Field{Name: popVarName, Units: "1", Data: d[popVarName]},
+			LWP: summary.Field{Name: p.lwp, Units: mustOutput(lwpVarName).SIUnits, Data: d[p.lwp]},
+			Nd:  summary.Field{Name: ndVarName, Units: mustOutput(ndVarName).SIUnits, Data: d[ndVarName]},
+			POP: summary.Field{Name: popVarName, Units: mustOutput(popVarName).SIUnits, Data: d[popVarName]},
 			QC:  qc,
 		}
 		if p.rate != "" {
-			cols.Rate = summary.Field{Name: rateVarName, Units: "kg m-2 s-1", Data: d[p.rate]}
+			cols.Rate = summary.Field{Name: rateVarName, Units: mustOutput(rateVarName).SIUnits, Data: d[p.rate]}
 		}
 		if p.surf != "" {
-			cols.SurfaceRadius = summary.Field{Name: surfVarName, Units: "m", Data: d[p.surf]}
+			cols.SurfaceRadius = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.surf]}
 		}
 		if err := st.acc.Add(one, &cols); err != nil {
 			return fmt.Errorf("%s: time step %d: %w", path, t, err)
@@ -857,23 +883,9 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 
 // ---- pictures ----
 
-// shortNames are the picture titles of the known diagnostics (the long_name of a file
-// is a sentence, too long for a title).
-var shortNames = map[string]string{
-	lwpVarName: "Liquid water path", ndVarName: "Droplet number concentration N_d",
-	"cloud_thickness": "Adiabatic cloud thickness", "condensation_rate": "Adiabatic condensation rate",
-	"adiabatic_top_effective_radius": "Adiabatic cloud-top effective radius",
-	"column_autoconversion_rate":     "Column autoconversion rate", "autoconversion_efficiency": "Autoconversion efficiency",
-	rateVarName: "Cloud-base drizzle rate (cell mean)", intensityVarName: "Cloud-base drizzle intensity (drizzling part)",
-	popVarName:     "Drizzle probability (POP)",
-	"critical_lwp": "Critical LWP for drizzle onset", "collector_exit_radius": "Collector drop radius at cloud exit",
-	"collector_exit_time": "Collector drop time in cloud", surfVarName: "Drizzle drop radius at the surface (0 = evaporated)",
-	"drizzle_evaporation_height": "Height where drizzle evaporated",
-}
-
 func shortName(name, long string) string {
-	if s, ok := shortNames[name]; ok {
-		return s
+	if d := microphys.OutputByName(name); d != nil && d.Title != "" {
+		return d.Title // the long_name of a file is a sentence, too long for a title
 	}
 	if long != "" {
 		return upperFirst(long)
@@ -890,13 +902,17 @@ func (st *summaryState) paramText() string {
 	if a := st.params["autoconversion"]; a != "" {
 		parts = append(parts, a+" autoconversion")
 	}
-	if r, err := strconv.ParseFloat(st.params["onset_effective_radius"], 64); err == nil {
-		w, err := strconv.ParseFloat(st.params["onset_width"], 64)
-		if err == nil && w > 0 {
-			parts = append(parts, fmt.Sprintf("onset r_e %.3g-%.3g µm", (r-w/2)*1e6, (r+w/2)*1e6))
-		} else {
-			parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r*1e6))
+	if v, unit, _ := strings.Cut(st.params["onset_radius"], " "); unit == "um" { // as --onset-radius
+		if r, err := strconv.ParseFloat(v, 64); err == nil {
+			wv, _, _ := strings.Cut(st.params["onset_width"], " ")
+			if w, err := strconv.ParseFloat(wv, 64); err == nil && w > 0 {
+				parts = append(parts, fmt.Sprintf("onset r_e %.3g-%.3g µm", r-w/2, r+w/2))
+			} else {
+				parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r))
+			}
 		}
+	} else if r, err := strconv.ParseFloat(st.params["onset_effective_radius"], 64); err == nil { // files of earlier versions, in m
+		parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r*1e6))
 	}
 	if g := st.params["gamma_shape"]; g != "" {
 		parts = append(parts, "gamma shape "+g)
@@ -1006,7 +1022,7 @@ func mapStyle(name, siUnit string, o *plots.MapOptions) {
 	switch name {
 	case popVarName:
 		o.Min, o.Max = 0, 1
-	case rateVarName, "column_autoconversion_rate", "autoconversion_efficiency", intensityVarName:
+	case rateVarName, intensityVarName, "column_autoconversion_rate", "autoconversion_efficiency":
 		o.Log = true
 		o.ColorMap = plots.Cividis()
 	}

@@ -7,13 +7,16 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"github.com/warmrain/warmrain/microphys"
 )
 
-// Display scales from SI to the units of the text table.
-const (
-	lwpToGm2       = 1e3     // kg m-2 -> g m-2
-	ndToPerCm3     = 1e-6    // m-3 -> cm-3
-	rateToMmPerDay = 86400.0 // kg m-2 s-1 (= mm s-1 of water) -> mm day-1
+// Display scales from SI to the units of the text table: those of the processed files
+// (microphys.OutputDecls).
+var (
+	lwpToGm2       = microphys.OutputByName("liquid_water_path").Scale       // kg m-2 -> g m-2
+	ndToPerCm3     = microphys.OutputByName("droplet_number").Scale          // m-3 -> cm-3
+	rateToMmPerDay = microphys.OutputByName("cloud_base_drizzle_rate").Scale // kg m-2 s-1 (= mm s-1 of water) -> mm day-1
 )
 
 // num3 formats v with 3 significant digits and never an exponent for the bin edges

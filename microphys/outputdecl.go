@@ -1,0 +1,132 @@
+package microphys
+
+// QCOutputName is the name of the output variable that holds Outputs.QC (its bits are
+// declared in QCFlags).
+const QCOutputName = "warm_rain_qc"
+
+// OutputDecl declares one output variable: where its value comes from, its units in memory
+// and in files, and its CF metadata. OutputDecls lists them all; process (the files and
+// their attributes), column, inspect, summary and the pictures, the README table and the
+// manual all take names, units and scales from that one table.
+type OutputDecl struct {
+	Name    string  // variable name in output files
+	SIUnits string  // units of the value in memory (SI base units, UDUNITS spelling)
+	Units   string  // units in files: file value = SI value × Scale
+	Scale   float64 // from SIUnits to Units (tested against udunits by cmd/internal/app)
+	// StandardName is a name of the CF standard-name table v83, or "" (checked by the CF
+	// lint test).
+	StandardName string
+	LongName     string // the long_name attribute: one sentence
+	Title        string // a short title for pictures and tables
+	// ValidMin and ValidMax are the valid range in Units (also the packing range).
+	ValidMin, ValidMax float64
+	Comment            string
+	// References is the references attribute; when SchemeReference is set the chosen
+	// autoconversion scheme's citation (AutoconvScheme.Citation) is added to it.
+	References      string
+	SchemeReference bool
+	Content         string // coverage_content_type (ISO 19115-1): modelResult, physicalMeasurement, ...
+	Packable        bool   // bounded: stored as CF-packed int16 over the valid range with --pack
+	// Collector and Evaporation: the output needs the collector drop (its evaporation).
+	Collector, Evaporation bool
+	// Input names the input role the output copies (in SI) instead of Get, e.g. "lwp".
+	Input string
+	// Get returns the SI value from a column's outputs (nil when Input is set).
+	Get func(o *Outputs) float64
+}
+
+// ReferencesFor returns the references attribute of the output for the given scheme.
+//
+// Reference: none (metadata).
+// Valid: always.
+func (d *OutputDecl) ReferencesFor(s AutoconvScheme) string {
+	if !d.SchemeReference {
+		return d.References
+	}
+	c := s.Citation()
+	if d.References == "" {
+		return c
+	}
+	return c + "; " + d.References
+}
+
+// OutputDecls declares every output variable except the QC flags, in file order. Adding an
+// output is one row here plus its field in Outputs and its physics in Model.Column.
+var OutputDecls = []OutputDecl{
+	{Name: "liquid_water_path", Input: "lwp", SIUnits: "kg m-2", Units: "g m-2", Scale: 1e3,
+		StandardName: "atmosphere_mass_content_of_cloud_liquid_water",
+		LongName:     "liquid water path used for the diagnostics (copied from the input)", Title: "Liquid water path",
+		ValidMin: 0, ValidMax: 1e4,
+		Comment: "the input LWP in the units of this file; kept so that summaries can bin by LWP", Content: "physicalMeasurement"},
+	{Name: "droplet_number", Get: func(o *Outputs) float64 { return o.Nd }, SIUnits: "m-3", Units: "cm-3", Scale: 1e-6,
+		StandardName: "number_concentration_of_cloud_liquid_water_particles_in_air_at_liquid_water_cloud_top",
+		LongName:     "cloud droplet number concentration of the adiabatic cloud model", Title: "Droplet number concentration N_d",
+		ValidMin: 0, ValidMax: 1e4,
+		Comment:    "N_d from cloud-top effective radius and optical thickness for an adiabatic cloud; constant with height in the model",
+		References: "Brenguier et al. (2000); Grosvenor et al. (2018)", Content: "modelResult"},
+	{Name: "cloud_thickness", Get: func(o *Outputs) float64 { return o.H }, SIUnits: "m", Units: "m", Scale: 1,
+		StandardName: "thickness_of_liquid_water_cloud",
+		LongName:     "geometric thickness of the adiabatic liquid cloud layer", Title: "Adiabatic cloud thickness",
+		ValidMin: 0, ValidMax: 2e4,
+		Comment:    "H = sqrt(2 LWP / (f_ad c_w))",
+		References: "Brenguier et al. (2000)", Content: "modelResult", Packable: true},
+	{Name: "condensation_rate", Get: func(o *Outputs) float64 { return o.Cw }, SIUnits: "kg m-4", Units: "g m-3 km-1", Scale: 1e6,
+		LongName: "adiabatic condensation rate (increase of liquid water content with height along the moist adiabat)", Title: "Adiabatic condensation rate",
+		ValidMin: 0, ValidMax: 10,
+		Comment:    "c_w at cloud-top temperature and pressure, before the adiabatic fraction is applied",
+		References: "Brenguier et al. (2000); Bolton (1980)", Content: "modelResult", Packable: true},
+	{Name: "adiabatic_top_effective_radius", Get: func(o *Outputs) float64 { return o.ReTop }, SIUnits: "m", Units: "um", Scale: 1e6,
+		LongName: "cloud-top effective radius of the adiabatic cloud model", Title: "Adiabatic cloud-top effective radius",
+		ValidMin: 0, ValidMax: 100,
+		Comment: "r_e at the top of the adiabatic column with the derived N_d and H", Content: "modelResult", Packable: true},
+	{Name: "column_autoconversion_rate", Get: func(o *Outputs) float64 { return o.Autoconv }, SIUnits: "kg m-2 s-1", Units: "kg m-2 s-1", Scale: 1,
+		LongName: "column-integrated autoconversion rate of cloud water to drizzle over the adiabatic profile", Title: "Column autoconversion rate",
+		ValidMin: 0, ValidMax: 1,
+		Comment: "local autoconversion rate integrated over the adiabatic liquid-water profile", SchemeReference: true, Content: "modelResult"},
+	{Name: "autoconversion_efficiency", Get: func(o *Outputs) float64 { return o.Efficiency }, SIUnits: "s-1", Units: "s-1", Scale: 1,
+		LongName: "autoconversion efficiency: column autoconversion rate divided by liquid water path", Title: "Autoconversion efficiency",
+		ValidMin: 0, ValidMax: 1,
+		Comment: "fraction of the column's cloud water converted to drizzle per unit time by autoconversion alone; accretion of cloud water by drizzle, which dominates drizzle production in stratocumulus, is not included", SchemeReference: true, Content: "modelResult"},
+	{Name: "cloud_base_drizzle_rate", Get: func(o *Outputs) float64 { return o.DrizzleRate }, SIUnits: "kg m-2 s-1", Units: "mm day-1", Scale: 86400,
+		LongName: "cell-mean drizzle rate at cloud base (liquid water equivalent) from the sub-grid drizzle model", Title: "Cloud-base drizzle rate (cell mean)",
+		ValidMin: 0, ValidMax: 1000,
+		Comment: "R = a N_d^-c x integral of P_on(r_e(L)) L^b over the gamma-distributed sub-grid LWP L (local law a LWP^b N_d^-c with LWP in g m-2, N_d in cm-3, R in mm day-1); R = drizzle_probability x cloud_base_drizzle_intensity", References: "Comstock et al. (2004); Barker (1996)", Content: "modelResult"},
+	{Name: "cloud_base_drizzle_intensity", Get: func(o *Outputs) float64 { return o.DrizzleIntensity }, SIUnits: "kg m-2 s-1", Units: "mm day-1", Scale: 86400,
+		LongName: "mean drizzle rate at cloud base of the drizzling part of the cell (liquid water equivalent)", Title: "Cloud-base drizzle intensity (drizzling part)",
+		ValidMin: 0, ValidMax: 1000,
+		Comment: "I = cloud_base_drizzle_rate / drizzle_probability from the same sub-grid model; missing where the drizzle probability is 0", References: "Comstock et al. (2004); Barker (1996)", Content: "modelResult"},
+	{Name: "drizzle_probability", Get: func(o *Outputs) float64 { return o.POP }, SIUnits: "1", Units: "1", Scale: 1,
+		LongName: "probability that the column drizzles: the drizzling fraction of the cell in the sub-grid drizzle model", Title: "Drizzle probability (POP)",
+		ValidMin: 0, ValidMax: 1,
+		Comment: "POP = integral of P_on(r_e(L)) over the gamma-distributed sub-grid LWP L; P_on rises linearly over the onset range of cloud-top effective radius (a step at the onset radius for onset width 0, then POP = Q(nu, nu LWP*/LWP))", References: "Barker (1996)", Content: "modelResult", Packable: true},
+	{Name: "critical_lwp", Get: func(o *Outputs) float64 { return o.LWPCrit }, SIUnits: "kg m-2", Units: "g m-2", Scale: 1e3,
+		LongName: "liquid water path at which the adiabatic cloud-top effective radius reaches the drizzle-onset radius (centre of the onset range)", Title: "Critical LWP for drizzle onset",
+		ValidMin: 0, ValidMax: 1e5, Content: "modelResult"},
+	{Name: "collector_exit_radius", Get: func(o *Outputs) float64 { return o.CollectorRadius }, SIUnits: "m", Units: "um", Scale: 1e6,
+		LongName: "radius of the collector drop when it leaves the cloud", Title: "Collector drop radius at cloud exit",
+		ValidMin: 0, ValidMax: 1e4, Collector: true,
+		Comment: "continuous-collection growth with Beard (1976) fall speeds and the chosen collision and coalescence efficiencies", Content: "modelResult"},
+	{Name: "collector_exit_time", Get: func(o *Outputs) float64 { return o.CollectorTime }, SIUnits: "s", Units: "s", Scale: 1,
+		LongName: "time the collector drop spends in the cloud before it leaves", Title: "Collector drop time in cloud",
+		ValidMin: 0, ValidMax: 1e7, Collector: true, Content: "modelResult"},
+	{Name: "surface_drizzle_radius", Get: func(o *Outputs) float64 { return o.SurfaceRadius }, SIUnits: "m", Units: "um", Scale: 1e6,
+		LongName: "radius of the collector drop on reaching the surface after sub-cloud evaporation (0 if it evaporated)", Title: "Drizzle drop radius at the surface (0 = evaporated)",
+		ValidMin: 0, ValidMax: 1e4, Collector: true, Evaporation: true,
+		Comment: "diffusional evaporation with ventilation through a well-mixed sub-cloud layer", Content: "modelResult"},
+	{Name: "drizzle_evaporation_height", Get: func(o *Outputs) float64 { return o.EvapHeight }, SIUnits: "m", Units: "m", Scale: 1,
+		LongName: "height above the surface at which the collector drop evaporated completely (missing if it reached the surface)", Title: "Height where drizzle evaporated",
+		ValidMin: 0, ValidMax: 2e4, Collector: true, Evaporation: true, Content: "modelResult", Packable: true},
+}
+
+// OutputByName returns the declaration of the output named name, or nil.
+//
+// Reference: none (metadata).
+// Valid: always.
+func OutputByName(name string) *OutputDecl {
+	for i := range OutputDecls {
+		if OutputDecls[i].Name == name {
+			return &OutputDecls[i]
+		}
+	}
+	return nil
+}
