@@ -281,17 +281,22 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 		if m.ramp != nil && nu >= popNuMin && nu <= popNuMax {
 			c0, cb := m.bulk.ramp0, m.bulk.rampB
 			e := m.bulk.subE
-			if ownNu {
-				c0, cb = newRampShape(nu, 0), newRampShape(nu, b)
-				c0.sa = sn // sqrt(nu), known
-				e = SubgridEnhancement(nu, b)
-			}
 			if math.IsNaN(lnNu) {
 				lnNu = 2 * colLog(sn)
 			}
-			var mbe float64
-			pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb)
-			mb = e * mbe
+			if ownNu {
+				// the per-shape factors from their table (rampNuTable, within rampNuTol)
+				var t00, t0b, kc float64
+				e, t00, t0b, kc, ok = m.ramp.nu.at(lnNu)
+				a := nu + b
+				c0 = rampShape{s: 0, sa: sn, ia: 1 / (9 * nu), kc: 1, t0: t00}
+				cb = rampShape{s: b, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: kc, t0: t0b}
+			}
+			if ok || !ownNu {
+				var mbe float64
+				pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb)
+				mb = e * mbe
+			}
 		}
 		if !ok {
 			pop = subgridMoment(nu, reTop, m.onset, 0)

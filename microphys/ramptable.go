@@ -33,8 +33,9 @@ import (
 // unlike the closed form of subgridMoment evaluated with approximate Q. The largest error
 // against subgridMoment is below rampTabTol (ramptable_test.go).
 type rampTable struct {
-	lo, hi [2]*nGrid // U_s (z < 0) and ln T_s (z >= 0), s = 0 and s = b
-	b      float64   // Params.DrizzleLWPExp
+	lo, hi [2]*nGrid    // U_s (z < 0) and ln T_s (z >= 0), s = 0 and s = b
+	b      float64      // Params.DrizzleLWPExp
+	nu     *rampNuTable // per-shape factors
 }
 
 const (
@@ -87,7 +88,7 @@ func rampU(nu, s, w float64) float64 {
 
 // newRampTable evaluates the nodes of the ramp tables for the rate exponent b.
 func newRampTable(b float64) *rampTable {
-	t := &rampTable{b: b}
+	t := &rampTable{b: b, nu: newRampNuTable(b)}
 	lnHi := math.Log(popNuMax)
 	nl := int(math.Ceil(lnHi/popLnStep)) + 1
 	nzLo := int(math.Round((rampZLo+rampZPad)/rampZStep)) + 1
@@ -171,4 +172,47 @@ func (t *rampTable) moments(o Onset, nu, lnNu, rmu float64, c0, cb *rampShape) (
 	pop = f * (t.tail(0, nu, lnNu, c0, w1) - t.tail(0, nu, lnNu, c0, w2))
 	mbe = f * (t.tail(1, nu, lnNu, cb, w1) - t.tail(1, nu, lnNu, cb, w2))
 	return min(max(pop, 0), 1), max(mbe, 0), true
+}
+
+// rampNuTable tabulates the per-shape factors of the sub-grid drizzle model on ln ν in
+// [0, ln popNuMax] (nodes every 1/64, 3-point quadratic interpolation about the nearest
+// node), for columns whose own LWP standard deviation gives ν: ln E(ν, b), ln T_0(0),
+// ln T_b(0) (rampTail0) and (ν/(ν + b))^(1/3). These are smooth in ln ν; the largest
+// relative error against the functions is below rampNuTol (ramptable_test.go).
+type rampNuTable struct {
+	inv  float64 // nodes per unit ln ν
+	vals [][4]float64
+}
+
+const (
+	rampNuStep = 1.0 / 64
+	rampNuTol  = 1e-7
+)
+
+// newRampNuTable evaluates the nodes for the rate exponent b.
+func newRampNuTable(b float64) *rampNuTable {
+	n := int(math.Ceil(math.Log(popNuMax)/rampNuStep)) + 1
+	t := &rampNuTable{inv: 1 / rampNuStep, vals: make([][4]float64, n)}
+	for i := range t.vals {
+		nu := math.Exp(float64(i) * rampNuStep)
+		t.vals[i] = [4]float64{math.Log(SubgridEnhancement(nu, b)), math.Log(rampTail0(nu, 0)),
+			math.Log(rampTail0(nu, b)), math.Cbrt(nu / (nu + b))}
+	}
+	return t
+}
+
+// at returns E(ν, b), T_0(0), T_b(0) and (ν/(ν + b))^(1/3) for lnNu = ln ν in
+// [0, ln popNuMax]; ok is false outside.
+func (t *rampNuTable) at(lnNu float64) (e, t00, t0b, kc float64, ok bool) {
+	u := lnNu * t.inv
+	n := len(t.vals)
+	if !(u >= 0 && u <= float64(n-1)) {
+		return 0, 0, 0, 0, false
+	}
+	k := max(1, min(int(u+colHalf), n-2))
+	x := u - float64(k)
+	a0, a1, a2 := x*(x-1)/2, 1-x*x, x*(x+1)/2
+	v0, v1, v2 := &t.vals[k-1], &t.vals[k], &t.vals[k+1]
+	f := func(j int) float64 { return a0*v0[j] + a1*v1[j] + a2*v2[j] }
+	return colExp(f(0)), colExp(f(1)), colExp(f(2)), f(3), true
 }

@@ -90,3 +90,39 @@ func TestRampTableBound(t *testing.T) {
 		t.Logf("onset %+v b %g: %d columns, largest relative error POP %.3g, M(b) %.3g", c.o, c.b, n, worstP, worstR)
 	}
 }
+
+// TestRampNuTable checks the per-shape factors' table against the functions it replaces
+// (SubgridEnhancement, rampTail0, the cube root) over its whole domain, ln nu in
+// [0, ln 1e4], within rampNuTol relative (derived: the same functions; bound measured here).
+func TestRampNuTable(t *testing.T) {
+	t.Parallel()
+	rng := rand.New(rand.NewPCG(31, 32))
+	for _, b := range []float64{1.75, 1.5, 0, 3} {
+		tab := newRampNuTable(b)
+		worst := 0.0
+		for i := 0; i < 200000; i++ {
+			lnNu := rng.Float64() * math.Log(popNuMax)
+			if i == 0 {
+				lnNu = math.Log(popNuMax)
+			}
+			nu := math.Exp(lnNu)
+			e, t00, t0b, kc, ok := tab.at(lnNu)
+			if !ok {
+				t.Fatalf("ln nu %g outside the table", lnNu)
+			}
+			for _, c := range [][2]float64{{e, SubgridEnhancement(nu, b)}, {t00, rampTail0(nu, 0)}, {t0b, rampTail0(nu, b)}, {kc, math.Cbrt(nu / (nu + b))}} {
+				d := math.Abs(c[0]-c[1]) / c[1]
+				worst = max(worst, d)
+				if d > rampNuTol {
+					t.Fatalf("b %g nu %g: %.15g, want %.15g", b, nu, c[0], c[1])
+				}
+			}
+		}
+		t.Logf("b %g: largest relative error %.3g", b, worst)
+		for _, x := range []float64{-1e-9, math.Log(popNuMax) + 0.1, math.NaN()} {
+			if _, _, _, _, ok := tab.at(x); ok {
+				t.Errorf("ln nu %g accepted", x)
+			}
+		}
+	}
+}
