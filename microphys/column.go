@@ -303,6 +303,9 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 			mb = subgridMoment(nu, reTop, m.onset, b)
 		}
 	}
+	if !(pop > 0) {
+		mb = 0 // no drizzling part (POP below about 1e-90 in the tables' tails): no drizzle
+	}
 	out.POP, out.DrizzleRate = pop, r0*mb
 	if pop > 0 {
 		out.DrizzleIntensity = out.DrizzleRate / pop

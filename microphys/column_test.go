@@ -246,6 +246,11 @@ func FuzzColumn(f *testing.F) {
 		if !(out.Nd > 0 && out.H > 0 && out.Cw > 0) || out.POP > 1 {
 			t.Fatalf("bad outputs %+v for %+v", out, in)
 		}
+		// one sub-grid model: R̄ = POP × I, I defined where POP > 0 (derived)
+		if out.POP > 0 && !(math.Abs(out.DrizzleRate-out.POP*out.DrizzleIntensity) <= 1e-12*out.DrizzleRate) ||
+			out.POP == 0 && (out.DrizzleRate != 0 || !math.IsNaN(out.DrizzleIntensity)) {
+			t.Fatalf("R̄ %g, POP %g, I %g for %+v", out.DrizzleRate, out.POP, out.DrizzleIntensity, in)
+		}
 		for i, v := range vals[9:] {
 			if v < 0 || math.IsInf(v, 0) {
 				t.Fatalf("collector output %d = %g for %+v", 9+i, v, in)

@@ -175,6 +175,9 @@ func SubgridDrizzleModel(lwp, nd, reTop, nu float64, o Onset, a, b, c float64) S
 		pop = subgridMoment(nu, reTop, o, 0)
 		mb = subgridMoment(nu, reTop, o, b)
 	}
+	if !(pop > 0) {
+		mb = 0 // an empty drizzling part (POP underflows before M(b) can): no drizzle
+	}
 	d := SubgridDrizzle{POP: pop, Rate: r0 * mb, Intensity: nan}
 	if pop > 0 {
 		d.Intensity = d.Rate / pop
