@@ -1,8 +1,9 @@
-# warmrain: make demo (run the main job on the bundled sample), make test (the test suite).
+# warmrain: make demo (run the main job on the bundled sample), make test (the test suite),
+# make check (test plus static checks, race detector and a short fuzz run).
 GO ?= go
 BIN := bin/warmrain
 
-.PHONY: all deps build demo test check bench fuzz clean
+.PHONY: all deps build demo test check lint race bench fuzz clean
 
 all: build
 
@@ -16,9 +17,19 @@ demo: build
 	./$(BIN) demo --dir demo-output
 
 test: deps
-	$(GO) test ./...
+	$(GO) test -timeout 25m ./...
 	@test -z "$$(gofmt -l $$(git ls-files '*.go'))" || { echo "gofmt needed:"; gofmt -l $$(git ls-files '*.go'); exit 1; }
 	$(GO) vet ./...
+
+# lint: go.mod tidy, go vet, pinned staticcheck (staticcheck.conf).
+lint: deps
+	GO=$(GO) bash .ci/lint.sh
+
+# race: the race detector on grid and cmd/internal/batch (.ci/race.sh).
+race: deps
+	GO=$(GO) bash .ci/race.sh
+
+check: test lint race fuzz
 
 bench: build
 	bash bench/run.sh

@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# bench/run.sh: the benchmark suite of warmrain (issue 5), run by `make bench`.
+# bench/run.sh: the benchmark suite of warmrain, run by `make bench`.
 #
 # Builds warmrain and bench/mkinput, writes synthetic inputs (N x N columns of float32
 # LWP, LWP standard deviation, r_e, cloud-top T and p; deflate 1 + shuffle, chunks
@@ -18,7 +18,7 @@
 #   (b)/(c) again on the int16-packed and the contiguous inputs
 #   the archive case: 8 files of 2000² with --jobs 1 and --jobs 2 (outputs compared)
 # and prints one table (wall s, columns/s, peak RSS, ratios to (b) and (e), CPU s,
-# output MB) with the ratios of issue 5; the table is also written to
+# output MB) with the ratios side by side; the table is also written to
 # BENCH_DIR/results.txt, with a check that the script's values equal warmrain's.
 # (b) writes the same output variables as (c), filled with the decoded inputs. The per-column kernel figures come from
 # `go test -bench 'BenchmarkColumn(All|Bulk)$' ./microphys` (one core).

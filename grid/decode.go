@@ -42,6 +42,14 @@ type Decoder struct {
 	Conv          Converter
 
 	a, b float64 // folded Scale/Offset and Conv
+
+	// HDF4Cal: the variable is an HDF4 SD data set whose scale_factor and
+	// add_offset were written by SDsetcal, meaning value = scale_factor *
+	// (stored - add_offset) (HDF4 User's Guide, SDsetcal), not CF's stored *
+	// scale_factor + add_offset. CalOffset keeps the add_offset attribute; Offset
+	// is then -scale_factor * add_offset, so that x*Scale + Offset still holds.
+	HDF4Cal   bool
+	CalOffset float64
 }
 
 // NewDecoder builds the decoder of variable v of file from its attributes, with
@@ -114,6 +122,10 @@ func NewDecoder(file string, v *VarInfo, conv Converter) (*Decoder, error) {
 			return nil, bad("add_offset = %v; expected one finite number", f)
 		}
 		d.Packed, d.Offset = true, f[0]
+	}
+	if v.HDF4 && d.Packed {
+		d.HDF4Cal, d.CalOffset = true, d.Offset
+		d.Offset = -d.Scale * d.CalOffset
 	}
 	unpackedType := Type(0)
 	if a, ok := v.Attr("scale_factor"); ok {
@@ -240,7 +252,12 @@ func (d *Decoder) Describe() string {
 		}
 		parts = append(parts, fmt.Sprintf("valid [%s, %s] (%s values)", lo, hi, dom))
 	}
-	if d.Packed {
+	switch {
+	case d.HDF4Cal && d.CalOffset == 0:
+		parts = append(parts, fmt.Sprintf("unpacked the HDF4 way (SDsetcal): scale_factor*(x - add_offset) = %g*x, not CF's x*scale_factor + add_offset (the same here, add_offset being 0)", d.Scale))
+	case d.HDF4Cal:
+		parts = append(parts, fmt.Sprintf("unpacked the HDF4 way (SDsetcal): scale_factor*(x - add_offset) = %g*(x%+g), not CF's x*scale_factor + add_offset", d.Scale, -d.CalOffset))
+	case d.Packed:
 		parts = append(parts, fmt.Sprintf("unpacked as x*%g%+g", d.Scale, d.Offset))
 	}
 	return strings.Join(parts, "; ")

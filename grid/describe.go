@@ -29,7 +29,10 @@ type DimInfo struct {
 	Unlimited bool
 }
 
-// VarInfo describes one variable.
+// VarInfo describes one variable. ID is its libnetcdf id within its group (or
+// its HDF4 SDS index). Name is its name in the root group, or its full group
+// path ("/geophysical_data/cloud_water_path") in a netCDF-4 subgroup; HDF4 SD
+// names may contain blanks.
 type VarInfo struct {
 	ID      int
 	Name    string
@@ -41,6 +44,15 @@ type VarInfo struct {
 	Chunks  []int // nil when contiguous
 	Shuffle bool
 	Deflate int // deflate level, 0 = none
+	// File is the file that holds the variable (one of FileInfo.Files), Group
+	// its group's full path ("/" for the root group and for HDF4).
+	File  string
+	Group string
+	// HDF4 marks an HDF4 SD data set: its scale_factor and add_offset, written
+	// by SDsetcal, mean value = scale_factor * (stored - add_offset).
+	HDF4 bool
+
+	src *varSource // where its values are read from; nil once the file is closed
 }
 
 // Attr returns the named attribute.
@@ -65,23 +77,26 @@ func (v *VarInfo) Len() int {
 	return n
 }
 
-// FileInfo is a generic description of a netCDF file (root group only).
+// FileInfo describes an input: one file, every group of it included, or a
+// scene of several files joined with "+" seen as one (see store.go).
+// Path is the first (or only) file, Files every file of the scene in the order
+// given.
 type FileInfo struct {
 	Path    string
 	Format  Format
 	Dims    []DimInfo
 	Vars    []VarInfo
 	Globals []Attr
+
+	Files []string
 }
 
-// Var returns the named variable or nil.
+// Var returns the named variable or nil. name is a root-group name, a full
+// group path ("/group/name"; "/name" for the root group), or the plain name of
+// a variable in a subgroup when no other variable has that name.
 func (f *FileInfo) Var(name string) *VarInfo {
-	for i := range f.Vars {
-		if f.Vars[i].Name == name {
-			return &f.Vars[i]
-		}
-	}
-	return nil
+	v, _ := f.lookup(name)
+	return v
 }
 
 // Dim returns the named dimension.
@@ -106,22 +121,24 @@ func findAttr(as []Attr, name string) (Attr, bool) {
 	return Attr{}, false
 }
 
-// Describe opens path (a file or an NCZarr URL), reads its metadata and closes it.
+// Describe opens path (a file, an NCZarr URL, an HDF4 file, or several files of
+// one scene joined with "+"), reads its metadata and closes it.
 func Describe(path string) (*FileInfo, error) {
-	if err := checkReadable(path); err != nil {
+	files := SceneFiles(path)
+	if err := checkScene(files); err != nil {
 		return nil, err
 	}
 	var fi *FileInfo
 	var err error
 	if e := onIO(func() {
-		var ncid int
-		ncid, err = ncOpen(path)
-		if err != nil {
-			err = openError(path, err)
-			return
+		var open []*storeFile
+		fi, open, err = openSceneIO(files)
+		for _, f := range open {
+			f.closeIO()
 		}
-		defer ncClose(ncid)
-		fi, err = describeIO(ncid, path)
+		if fi != nil {
+			fi.detach()
+		}
 	}); e != nil {
 		return nil, e
 	}
@@ -164,66 +181,121 @@ func openError(path string, err error) error {
 	return fmt.Errorf("%s: %w", path, err)
 }
 
-// describeIO runs on the I/O thread.
+// describeIO runs on the I/O thread. It describes every group of the file:
+// variables and dimensions of subgroups are named by their full path
+// ("/geophysical_data/lwp"), those of the root group by their name.
 func describeIO(ncid int, path string) (*FileInfo, error) {
-	fi := &FileInfo{Path: path}
+	fi := &FileInfo{Path: path, Files: []string{path}}
 	var err error
 	if fi.Format, err = ncFormat(ncid); err != nil {
 		return nil, &VarError{File: path, Problem: "cannot read format: " + err.Error(), Err: err}
 	}
-	_, nvars, ngatts, _, err := ncInq(ncid)
+	_, _, ngatts, _, err := ncInq(ncid)
 	if err != nil {
 		return nil, &VarError{File: path, Problem: err.Error(), Err: err}
 	}
-	unl, err := ncUnlimDims(ncid)
-	if err != nil {
-		return nil, &VarError{File: path, Problem: err.Error(), Err: err}
-	}
-	dimids, err := ncDimIDs(ncid)
-	if err != nil {
+	if fi.Globals, err = readAttrsIO(ncid, globalID, ngatts); err != nil {
 		return nil, &VarError{File: path, Problem: err.Error(), Err: err}
 	}
 	byID := map[int]DimInfo{}
+	if err := describeGroupIO(fi, ncid, "/", byID); err != nil {
+		return nil, err
+	}
+	return fi, nil
+}
+
+// groupPath joins a group path and a name: "/" + "x" is "x" (root names stay
+// plain), "/g" + "x" is "/g/x".
+func groupPath(group, name string) string {
+	if group == "/" || group == "" {
+		return name
+	}
+	return group + "/" + name
+}
+
+// describeGroupIO adds the dimensions and variables of one group and of its
+// subgroups to fi (I/O thread). byID maps the file's dimension ids, which
+// netCDF-4 numbers across the whole file.
+func describeGroupIO(fi *FileInfo, gid int, group string, byID map[int]DimInfo) error {
+	path := fi.Path
+	_, nvars, _, _, err := ncInq(gid)
+	if err != nil {
+		return &VarError{File: path, Problem: err.Error(), Err: err}
+	}
+	unl, err := ncUnlimDims(gid)
+	if err != nil {
+		return &VarError{File: path, Problem: err.Error(), Err: err}
+	}
+	dimids, err := ncDimIDs(gid)
+	if err != nil {
+		return &VarError{File: path, Problem: err.Error(), Err: err}
+	}
 	for _, id := range dimids {
-		name, n, err := ncDim(ncid, id)
+		name, n, err := ncDim(gid, id)
 		if err != nil {
-			return nil, &VarError{File: path, Problem: err.Error(), Err: err}
+			return &VarError{File: path, Problem: err.Error(), Err: err}
 		}
-		d := DimInfo{ID: id, Name: name, Len: n}
+		d := DimInfo{ID: id, Name: groupPath(group, name), Len: n}
 		for _, u := range unl {
 			d.Unlimited = d.Unlimited || u == id
 		}
 		byID[id] = d
 		fi.Dims = append(fi.Dims, d)
 	}
-	if fi.Globals, err = readAttrsIO(ncid, globalID, ngatts); err != nil {
-		return nil, &VarError{File: path, Problem: err.Error(), Err: err}
-	}
+	src := &varSource{grp: gid}
 	for id := 0; id < nvars; id++ {
-		name, t, vd, natts, err := ncVar(ncid, id)
+		name, t, vd, natts, err := ncVar(gid, id)
 		if err != nil {
-			return nil, &VarError{File: path, Problem: err.Error(), Err: err}
+			return &VarError{File: path, Problem: err.Error(), Err: err}
 		}
-		v := VarInfo{ID: id, Name: name, Type: t, DimIDs: vd}
+		full := groupPath(group, name)
+		v := VarInfo{ID: id, Name: full, Type: t, DimIDs: vd, File: path, Group: group, src: src}
 		for _, d := range vd {
-			di := byID[d]
+			di, ok := byID[d]
+			if !ok { // a dimension of a parent group not seen yet cannot happen; be safe
+				var n int
+				if name, n, err = ncDim(gid, d); err != nil {
+					return &VarError{File: path, Var: full, Problem: err.Error(), Err: err}
+				}
+				di = DimInfo{ID: d, Name: name, Len: n}
+			}
 			v.Dims = append(v.Dims, di.Name)
 			v.Shape = append(v.Shape, di.Len)
 		}
-		if v.Attrs, err = readAttrsIO(ncid, id, natts); err != nil {
-			return nil, &VarError{File: path, Var: name, Problem: err.Error(), Err: err}
+		if v.Attrs, err = readAttrsIO(gid, id, natts); err != nil {
+			return &VarError{File: path, Var: full, Problem: err.Error(), Err: err}
 		}
 		if fi.Format == FormatNetCDF4 || fi.Format == FormatNetCDF4Classic || fi.Format == FormatNCZarr {
-			if v.Chunks, err = ncInqChunking(ncid, id, len(vd)); err != nil {
-				return nil, &VarError{File: path, Var: name, Problem: err.Error(), Err: err}
+			if v.Chunks, err = ncInqChunking(gid, id, len(vd)); err != nil {
+				return &VarError{File: path, Var: full, Problem: err.Error(), Err: err}
 			}
-			if sh, lev, err := ncInqDeflate(ncid, id); err == nil {
+			if sh, lev, err := ncInqDeflate(gid, id); err == nil {
 				v.Shuffle, v.Deflate = sh, lev
 			}
 		}
 		fi.Vars = append(fi.Vars, v)
 	}
-	return fi, nil
+	if fi.Format != FormatNetCDF4 && fi.Format != FormatNCZarr {
+		return nil
+	}
+	kids, err := ncInqGrps(gid)
+	if err != nil {
+		return &VarError{File: path, Problem: "cannot list the groups of " + group + ": " + err.Error(), Err: err}
+	}
+	for _, k := range kids {
+		name, err := ncGrpName(k)
+		if err != nil {
+			return &VarError{File: path, Problem: err.Error(), Err: err}
+		}
+		sub := "/" + name
+		if group != "/" {
+			sub = group + "/" + name
+		}
+		if err := describeGroupIO(fi, k, sub, byID); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 func readAttrsIO(ncid, varid, n int) ([]Attr, error) {

@@ -15,6 +15,19 @@
 // github.com/fhs/go-netcdf calls are only ever made from that thread. UDUNITS-2
 // calls (units.go) are serialised by a mutex.
 //
+// # Storage
+//
+// An input is a scene (store.go): one netCDF file with every group of it, an
+// HDF4 file read through the SD interface of libmfhdf (hdf4.go; loaded with
+// dlopen apart from libnetcdf, whose symbols it shares, and called on the same
+// I/O thread), or several files of one scene joined with "+" (SceneFiles), whose
+// descriptions are merged into one FileInfo: dimensions of the same name and
+// length are one, coordinate variables repeated by several files must hold the
+// same values. Each VarInfo carries its source (file, group or SDS) and its
+// group path as its name ("/geophysical_data/cwp"); CF references between
+// variables are resolved with FileInfo.Resolve (CF 1.8 §2.7). HDF4 data sets
+// are unpacked the SDsetcal way, value = scale_factor * (stored - add_offset).
+//
 // # Inputs and roles
 //
 // Open(path, OpenOptions) opens a netCDF-3, netCDF-4/HDF5 file or an NCZarr store

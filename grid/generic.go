@@ -16,31 +16,24 @@ import (
 // Reader is an open netCDF file for reading variables by name. Every call runs
 // on the I/O thread; a Reader may be used from one goroutine at a time.
 type Reader struct {
-	path string
-	ncid int
-	info *FileInfo
-	open bool
+	path  string
+	files []*storeFile
+	info  *FileInfo
+	open  bool
 }
 
-// OpenReader opens path (a file or an NCZarr URL) and reads its metadata.
+// OpenReader opens path (a file, an NCZarr URL, an HDF4 file or a scene of
+// files joined with "+") and reads its metadata.
 func OpenReader(path string) (*Reader, error) {
-	if err := checkReadable(path); err != nil {
+	files := SceneFiles(path)
+	if err := checkScene(files); err != nil {
 		return nil, err
 	}
 	r := &Reader{path: path}
 	var err error
 	if e := onIO(func() {
-		r.ncid, err = ncOpen(path)
-		if err != nil {
-			err = openError(path, err)
-			return
-		}
-		r.open = true
-		r.info, err = describeIO(r.ncid, path)
-		if err != nil {
-			ncClose(r.ncid)
-			r.open = false
-		}
+		r.info, r.files, err = openSceneIO(files)
+		r.open = err == nil
 	}); e != nil {
 		return nil, e
 	}
@@ -60,7 +53,14 @@ func (r *Reader) Close() error {
 	}
 	r.open = false
 	var err error
-	if e := onIO(func() { err = ncClose(r.ncid) }); e != nil {
+	if e := onIO(func() {
+		for _, f := range r.files {
+			if cerr := f.closeIO(); cerr != nil && err == nil {
+				err = cerr
+			}
+		}
+		r.info.detach()
+	}); e != nil {
 		return e
 	}
 	if err != nil {
@@ -123,7 +123,7 @@ func (r *Reader) Read(name string, start, count []int) (data []float64, dims []D
 	}
 	raw := newTyped(v.Type, n)
 	var rerr error
-	if e := onIO(func() { rerr = ncGetVara(r.ncid, v.ID, st, ct, typedPtr(raw)) }); e != nil {
+	if e := onIO(func() { rerr = v.readIO(st, ct, typedPtr(raw)) }); e != nil {
 		return nil, nil, e
 	}
 	if rerr != nil {

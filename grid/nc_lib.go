@@ -407,3 +407,30 @@ const (
 
 // LibraryVersion is the libnetcdf version string (for provenance).
 func LibraryVersion() string { return netcdf.Version() }
+
+// ncInqGrps lists the child groups of a group (netCDF-4; none for netCDF-3).
+func ncInqGrps(ncid int) ([]int, error) {
+	var n C.int
+	if err := ncErr(C.nc_inq_grps(C.int(ncid), &n, nil)); err != nil {
+		return nil, err
+	}
+	if n == 0 {
+		return nil, nil
+	}
+	ids := make([]C.int, n)
+	if err := ncErr(C.nc_inq_grps(C.int(ncid), &n, &ids[0])); err != nil {
+		return nil, err
+	}
+	out := make([]int, n)
+	for i := range ids {
+		out[i] = int(ids[i])
+	}
+	return out, nil
+}
+
+// ncGrpName is the name of a group ("/" for the root group).
+func ncGrpName(ncid int) (string, error) {
+	var name [C.NC_MAX_NAME + 1]C.char
+	err := ncErr(C.nc_inq_grpname(C.int(ncid), &name[0]))
+	return C.GoString(&name[0]), err
+}

@@ -39,8 +39,10 @@ type Binding struct {
 	Chunks       []int  // nil when contiguous
 	Deflate      int
 	Decoder      *Decoder
+	File         string // the file holding Var (one of Info.Files)
 
 	varID int
+	vi    *VarInfo // the variable, with its source
 }
 
 // Layout is the grid shared by every bound input (LWP's dimensions).
@@ -72,7 +74,8 @@ type Input struct {
 
 	opt      OpenOptions
 	bindings [NumRoles]*Binding
-	ncid     int
+	ncid     int // root ncid of the first file when it is netCDF (see store.go for the others)
+	files    []*storeFile
 	open     bool
 }
 
@@ -105,7 +108,16 @@ func (in *Input) Close() error {
 	}
 	in.open = false
 	var err error
-	if e := onIO(func() { err = ncClose(in.ncid) }); e != nil {
+	if e := onIO(func() {
+		for _, f := range in.files {
+			if cerr := f.closeIO(); cerr != nil && err == nil {
+				err = cerr
+			}
+		}
+		if in.Info != nil {
+			in.Info.detach()
+		}
+	}); e != nil {
 		return e
 	}
 	if err != nil {
@@ -124,22 +136,19 @@ func Open(path string, opt OpenOptions) (*Input, error) {
 	if opt.SlabBytes <= 0 {
 		opt.SlabBytes = DefaultSlabBytes
 	}
-	if err := checkReadable(path); err != nil {
+	files := SceneFiles(path)
+	if err := checkScene(files); err != nil {
 		return nil, err
 	}
-	in := &Input{Path: path, opt: opt}
+	in := &Input{Path: path, opt: opt, ncid: -1}
 	var err error
 	if e := onIO(func() {
-		in.ncid, err = ncOpen(path)
+		in.Info, in.files, err = openSceneIO(files)
 		if err != nil {
-			err = openError(path, err)
 			return
 		}
 		in.open = true
-		in.Info, err = describeIO(in.ncid, path)
-		if err != nil {
-			return
-		}
+		in.ncid = in.files[0].nc
 		in.Format = in.Info.Format
 		if err = in.bind(); err != nil {
 			return
@@ -210,9 +219,13 @@ func (in *Input) bind() error {
 		var chosen cand
 		units, unitsFrom := "", "attribute"
 		if o, ok := over[rule.Role]; ok {
-			v := in.Info.Var(o.Var)
+			v, many := in.Info.lookup(o.Var)
+			if len(many) > 1 {
+				return varErr(ErrAmbiguous, in.Path, o.Var, "named by override %s is in several groups (%s); expected one: give its group path, e.g. %s=%s",
+					o, strings.Join(many, ", "), o.Role, many[0])
+			}
 			if v == nil {
-				return varErr(ErrNoVariable, in.Path, o.Var, "named by override %s does not exist in the file", o)
+				return varErr(ErrNoVariable, in.Path, o.Var, "named by override %s does not exist in the file; the file has %s", o, varNames(in.Info))
 			}
 			chosen = cand{v, "explicit override " + o.String()}
 			if o.Units != "" {
@@ -269,7 +282,7 @@ func (in *Input) bind() error {
 		}
 		in.bindings[i] = &Binding{Role: rule.Role, Var: v.Name, StandardName: v.Text("standard_name"), UnitsGiven: units,
 			UnitsFrom: unitsFrom, Canonical: rule.Units, Conv: conv, Reason: chosen.reason, Type: v.Type,
-			Packing: dec.Describe(), Chunks: v.Chunks, Deflate: v.Deflate, Decoder: dec, varID: v.ID}
+			Packing: dec.Describe(), Chunks: v.Chunks, Deflate: v.Deflate, Decoder: dec, varID: v.ID, vi: v, File: v.File}
 		bound[v.Name] = rule.Role
 	}
 	return nil
@@ -308,8 +321,8 @@ func (in *Input) byStandardName(rule RoleRule, bound map[string]Role) []cand {
 		if lb := in.bindings[RoleLWP.Index()]; lb != nil {
 			lv := in.Info.Var(lb.Var)
 			for _, anc := range strings.Fields(lv.Text("ancillary_variables")) {
-				v := in.Info.Var(anc)
-				if v == nil || seen[anc] || !v.Type.Numeric() {
+				v := in.Info.Resolve(lv, anc)
+				if v == nil || seen[v.Name] || !v.Type.Numeric() {
 					continue
 				}
 				name, mods := splitStandardName(v.Text("standard_name"))
@@ -343,7 +356,7 @@ func (in *Input) byCommonName(rule RoleRule, bound map[string]Role) []cand {
 			continue
 		}
 		for _, n := range rule.CommonNames {
-			if strings.EqualFold(v.Name, n) {
+			if strings.EqualFold(v.Base(), n) {
 				r := fmt.Sprintf("variable name %q is a common name of the %s", v.Name, rule.Description)
 				if sn := v.Text("standard_name"); sn != "" {
 					r += fmt.Sprintf(" (its standard_name %q is not one the table maps to %s)", sn, rule.Role)
@@ -380,6 +393,10 @@ func (in *Input) layoutIO() error {
 		}
 		v := in.Info.Var(b.Var)
 		if !slices.Equal(v.DimIDs, lv.DimIDs) {
+			if v.File != lv.File {
+				return varErr(ErrLayout, v.File, v.Name, "is on another grid than the LWP: LWP %s in %s has dimensions %s but %s in %s has %s; files joined with + must share one grid (the same dimensions in the same order)",
+					lv.Name, lv.File, dimsString(lv), v.Name, v.File, dimsString(v))
+			}
 			return varErr(ErrLayout, in.Path, v.Name, "LWP and %s are on different grids: LWP %s has dimensions %s but %s has %s; expected the same dimensions in the same order",
 				roleLabel[b.Role], lv.Name, dimsString(lv), v.Name, dimsString(v))
 		}
@@ -425,11 +442,12 @@ func (in *Input) layoutIO() error {
 		}
 	}
 	// Auxiliary coordinates named by LWP's coordinates attribute.
-	for _, name := range strings.Fields(lv.Text("coordinates")) {
-		v := in.Info.Var(name)
+	for _, ref := range strings.Fields(lv.Text("coordinates")) {
+		v := in.Info.Resolve(lv, ref)
 		if v == nil {
-			return varErr(ErrLayout, in.Path, lv.Name, "coordinates attribute names %q, which does not exist in the file", name)
+			return varErr(ErrLayout, in.Path, lv.Name, "coordinates attribute names %q, which does not exist in the file (searched from group %s as CF 2.7 says)", ref, lv.Group)
 		}
+		name := v.Name
 		add(name)
 		if len(v.Dims) == 2 && v.Dims[0] == L.Y.Name && v.Dims[1] == L.X.Name {
 			if isLat(v) && L.Lat == "" {
@@ -439,29 +457,36 @@ func (in *Input) layoutIO() error {
 			}
 		}
 	}
+	findLatLon2D(in.Info, L)
 	// Bounds of every coordinate kept, and the grid mapping.
 	for _, c := range slices.Clone(L.Coords) {
-		add(in.Info.Var(c).Text("bounds"))
+		cv := in.Info.Var(c)
+		if b := cv.Text("bounds"); b != "" {
+			if bv := in.Info.Resolve(cv, b); bv != nil {
+				add(bv.Name)
+			}
+		}
 	}
 	if gm := strings.TrimSpace(lv.Text("grid_mapping")); gm != "" {
 		name, _, _ := strings.Cut(strings.Fields(gm)[0], ":")
-		if in.Info.Var(name) == nil {
+		gv := in.Info.Resolve(lv, name)
+		if gv == nil {
 			return varErr(ErrLayout, in.Path, lv.Name, "grid_mapping names %q, which does not exist in the file", name)
 		}
-		L.GridMapping = name
-		add(name)
+		L.GridMapping = gv.Name
+		add(gv.Name)
 	}
 	return nil
 }
 
 func isLat(v *VarInfo) bool {
 	return v.Text("standard_name") == "latitude" || strings.HasPrefix(v.Text("units"), "degree_n") ||
-		strings.HasPrefix(v.Text("units"), "degrees_n") || strings.EqualFold(v.Name, "lat") || strings.EqualFold(v.Name, "latitude")
+		strings.HasPrefix(v.Text("units"), "degrees_n") || strings.EqualFold(v.Base(), "lat") || strings.EqualFold(v.Base(), "latitude")
 }
 
 func isLon(v *VarInfo) bool {
 	return v.Text("standard_name") == "longitude" || strings.HasPrefix(v.Text("units"), "degree_e") ||
-		strings.HasPrefix(v.Text("units"), "degrees_e") || strings.EqualFold(v.Name, "lon") || strings.EqualFold(v.Name, "longitude")
+		strings.HasPrefix(v.Text("units"), "degrees_e") || strings.EqualFold(v.Base(), "lon") || strings.EqualFold(v.Base(), "longitude")
 }
 
 // readAllIO reads a small variable whole as float64 (stored values, no decoding).
@@ -476,8 +501,8 @@ func (in *Input) readAllIO(v *VarInfo) ([]float64, error) {
 	for i, s := range v.Shape {
 		count[i] = uint64(s)
 	}
-	if err := ncGetVara(in.ncid, v.ID, start, count, unsafe.Pointer(&buf[0])); err != nil {
-		return nil, varErr(err, in.Path, v.Name, "read failed: %v", err)
+	if err := v.readIO(start, count, unsafe.Pointer(&buf[0])); err != nil {
+		return nil, varErr(err, v.File, v.Name, "read failed: %v", err)
 	}
 	raw := newTyped(v.Type, n)
 	copyRawTo(raw, unsafe.Pointer(&buf[0]), n*v.Type.Size())

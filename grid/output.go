@@ -198,14 +198,20 @@ func noSpace(e *VarError, dir string) error {
 }
 
 func checkNotInput(path string, in *Input) error {
-	abs, _ := filepath.Abs(path)
-	inAbs, _ := filepath.Abs(in.Path)
-	if !isURL(in.Path) && abs == inAbs {
-		return &VarError{File: path, Problem: "is the input file; refusing to write into an input", Err: ErrInputOverwrite}
+	files := []string{in.Path}
+	if in.Info != nil && len(in.Info.Files) > 0 {
+		files = in.Info.Files // every file of a scene joined with +
 	}
-	if st, err := os.Stat(path); err == nil && !isURL(in.Path) {
-		if ist, err := os.Stat(in.Path); err == nil && os.SameFile(st, ist) {
-			return &VarError{File: path, Problem: fmt.Sprintf("is the same file as the input %s; refusing to write into an input", in.Path), Err: ErrInputOverwrite}
+	abs, _ := filepath.Abs(path)
+	for _, f := range files {
+		inAbs, _ := filepath.Abs(f)
+		if !isURL(f) && abs == inAbs {
+			return &VarError{File: path, Problem: "is the input file; refusing to write into an input", Err: ErrInputOverwrite}
+		}
+		if st, err := os.Stat(path); err == nil && !isURL(f) {
+			if ist, err := os.Stat(f); err == nil && os.SameFile(st, ist) {
+				return &VarError{File: path, Problem: fmt.Sprintf("is the same file as the input %s; refusing to write into an input", f), Err: ErrInputOverwrite}
+			}
 		}
 	}
 	return nil
@@ -214,11 +220,11 @@ func checkNotInput(path string, in *Input) error {
 func checkVars(path string, in *Input, vars []OutputVar, opt WriteOptions) error {
 	seen := map[string]bool{}
 	for _, c := range in.Layout.Coords {
-		seen[c] = true
+		seen[baseName(c)] = true
 	}
 	if opt.Mode == CopyInput {
 		for _, v := range in.Info.Vars {
-			seen[v.Name] = true
+			seen[v.Base()] = true
 		}
 	}
 	for _, v := range vars {
@@ -312,7 +318,7 @@ func (o *Output) defineIO(opt WriteOptions) error {
 		if d.Unlimited && !unlimUsed {
 			n, unlimUsed = 0, true
 		}
-		id, err := ncDefDim(ncid, d.Name, n)
+		id, err := ncDefDim(ncid, baseName(d.Name), n)
 		if err != nil {
 			return werr("", err, "cannot define dimension "+d.Name)
 		}
@@ -336,7 +342,7 @@ func (o *Output) defineIO(opt WriteOptions) error {
 		for i, id := range v.DimIDs {
 			dims[i] = outDim[id]
 		}
-		id, err := ncDefVar(ncid, v.Name, t, dims)
+		id, err := ncDefVar(ncid, baseName(v.Name), t, dims)
 		if err != nil {
 			return werr(v.Name, err, "cannot define")
 		}
@@ -371,7 +377,7 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			if strings.HasPrefix(a.Name, "_Quantize") || (a.Name == "_Unsigned" && t != v.Type) {
 				continue
 			}
-			if err := putAttrConverted(ncid, id, a, t); err != nil {
+			if err := putAttrConverted(ncid, id, flattenRefs(hdf4ToCF(v, a)), t); err != nil {
 				return werr(v.Name, err, "cannot copy attribute "+a.Name)
 			}
 		}
@@ -562,8 +568,11 @@ func (o *Output) putVarAttrs(id int, v OutputVar, t Type, lwp *VarInfo) error {
 			return err
 		}
 	}
-	coords := lwp.Text("coordinates")
-	more := [][2]string{{"flag_meanings", v.FlagMeanings}, {"coordinates", coords}, {"grid_mapping", lwp.Text("grid_mapping")},
+	coords := flattenPaths(lwp.Text("coordinates"))
+	if L := o.in.Layout; coords == "" && L.LatLon2D && L.Lat != "" && L.Lon != "" {
+		coords = baseName(L.Lon) + " " + baseName(L.Lat) // found without a coordinates attribute (findLatLon2D)
+	}
+	more := [][2]string{{"flag_meanings", v.FlagMeanings}, {"coordinates", coords}, {"grid_mapping", flattenPaths(lwp.Text("grid_mapping"))},
 		{"ancillary_variables", v.AncillaryVariables}, {"cell_methods", v.CellMethods}, {"comment", v.Comment},
 		{"references", v.References}, {"coverage_content_type", v.CoverageContentType}}
 	if v.Quantize > 0 {
@@ -646,8 +655,8 @@ func copyDataIO(in *Input, v *VarInfo, outNC, outID int, t Type) error {
 					m *= int(c)
 				}
 				p := unsafe.Pointer(&buf[0])
-				if err := ncGetVara(in.ncid, v.ID, start, count, p); err != nil {
-					return varErr(err, in.Path, v.Name, "read failed while copying: %v", err)
+				if err := v.readIO(start, count, p); err != nil {
+					return varErr(err, v.File, v.Name, "read failed while copying: %v", err)
 				}
 				if t != v.Type {
 					raw := newTyped(v.Type, m)
@@ -796,4 +805,29 @@ func (o *Output) Abort() error {
 		return err
 	}
 	return nil
+}
+
+// flattenPaths drops the group paths of the names in a CF attribute listing
+// variables: outputs are flat netCDF-4 classic files holding the variables of
+// an input's groups by their plain names.
+func flattenPaths(s string) string {
+	if !strings.Contains(s, "/") {
+		return s
+	}
+	f := strings.Fields(s)
+	for i, x := range f {
+		f[i] = baseName(x)
+	}
+	return strings.Join(f, " ")
+}
+
+// flattenRefs applies flattenPaths to the attributes that name variables.
+func flattenRefs(a Attr) Attr {
+	switch a.Name {
+	case "coordinates", "bounds", "ancillary_variables", "grid_mapping", "cell_measures", "climatology":
+		if s, ok := a.Text(); ok && strings.Contains(s, "/") {
+			a.Value, a.Type = flattenPaths(s), Char
+		}
+	}
+	return a
 }

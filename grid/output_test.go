@@ -328,7 +328,7 @@ func TestProcessNoAllocationPerSlab(t *testing.T) {
 }
 
 // TestQuantizedOutput: Granular BitRound keeping 3 significant digits (libnetcdf
-// nc_def_var_quantize) with the CF 1.12 quantization metadata (cf.md 3.3).
+// nc_def_var_quantize) with the CF 1.12 quantization metadata (doc/netcdf.md#chunking).
 func TestQuantizedOutput(t *testing.T) {
 	inPath := ncgen(t, "grid3d.cdl", "nc4")
 	in, err := Open(inPath, OpenOptions{})

@@ -86,7 +86,7 @@ func checkExpected(t *testing.T, in *Input, jsonText string) {
 		t.Fatalf("%v: %s", err, jsonText)
 	}
 	got := readAll(t, in)
-	// Absolute tolerances: xarray decodes int16 into float32 (cf.md 2.4), whose
+	// Absolute tolerances: xarray decodes int16 into float32 (doc/netcdf.md#packing), whose
 	// rounding near the 150 g m-2 offset is about 1e-5 g m-2 (derived); r_e values
 	// are float32 near 1e-5 m.
 	abs := map[string]float64{"lwp": 1e-7, "re": 1e-12}

@@ -135,7 +135,9 @@ func (o Override) String() string {
 	return fmt.Sprintf("%s=%s", o.Role, o.Var)
 }
 
-// ParseOverride reads "ROLE=VARNAME" or "ROLE=VARNAME:UNITS". UNITS declares the
+// ParseOverride reads "ROLE=VARNAME" or "ROLE=VARNAME:UNITS". VARNAME may be a
+// group path ("/geophysical_data/cwp") and may contain blanks (HDF4 names such
+// as "Cloud Water Path"; quote the argument in the shell). UNITS declares the
 // units of a variable whose units attribute is missing or wrong; it must parse as
 // UDUNITS-2 and convert to the role's canonical units. Errors wrap ErrOverride
 // (or ErrUnits for bad units).
@@ -154,8 +156,8 @@ func ParseOverride(s string) (Override, error) {
 	if name == "" {
 		return Override{}, fmt.Errorf("%w: %q: empty variable name; expected ROLE=VARNAME or ROLE=VARNAME:UNITS", ErrOverride, s)
 	}
-	if strings.ContainsAny(name, " \t\n") {
-		return Override{}, fmt.Errorf("%w: %q: variable name %q contains blanks", ErrOverride, s, name)
+	if strings.ContainsAny(name, "\t\n") {
+		return Override{}, fmt.Errorf("%w: %q: variable name %q contains a tab or a newline", ErrOverride, s, name)
 	}
 	if strings.Contains(rest, ":") && units == "" {
 		return Override{}, fmt.Errorf("%w: %q: empty units after ':'", ErrOverride, s)

@@ -167,7 +167,7 @@ func (p *slabPlan) setStart(start, count []uint64, lead, y0, ny, x0, nx int) {
 }
 
 // cacheFor sizes an input's chunk cache for a variable with the given chunk sizes
-// (cf.md 3.3: the cache holds every chunk one read touches). It counts the chunks
+// (doc/netcdf.md#chunking: the cache holds every chunk one read touches). It counts the chunks
 // of the variable that one slab (in a column band: one row of slabs across the
 // band, which are all read before the band moves down) can touch, over the actual
 // slab grid: one chunk for a variable chunked like LWP and slabs that are pieces
@@ -206,7 +206,7 @@ func (in *Input) setInputCachesIO(p *slabPlan) error {
 			continue
 		}
 		bytes, slots := p.cacheFor(b.Chunks, b.Type.Size())
-		if err := ncSetVarChunkCache(in.ncid, b.varID, bytes, slots, 0.75); err != nil {
+		if err := b.vi.setCacheIO(bytes, slots, 0.75); err != nil {
 			return varErr(err, in.Path, b.Var, "cannot set the chunk cache: %v", err)
 		}
 	}
@@ -273,8 +273,8 @@ func (in *Input) readIO(s *inBuf) error {
 		if b == nil {
 			continue
 		}
-		if err := ncGetVara(in.ncid, b.varID, s.start, s.count, unsafe.Pointer(&s.raw[i][0])); err != nil {
-			return varErr(err, in.Path, b.Var, "read of rows %d-%d, columns %d-%d (slab %d) failed: %v; expected readable data (the file may be damaged or truncated)", s.y0, s.y0+s.ny-1, s.x0, s.x0+s.nx-1, s.slab.Index, err)
+		if err := b.vi.readIO(s.start, s.count, unsafe.Pointer(&s.raw[i][0])); err != nil {
+			return varErr(err, b.File, b.Var, "read of rows %d-%d, columns %d-%d (slab %d) failed: %v; expected readable data (the file may be damaged or truncated)", s.y0, s.y0+s.ny-1, s.x0, s.x0+s.nx-1, s.slab.Index, err)
 		}
 	}
 	return nil

@@ -73,11 +73,11 @@ func checkCover(t *testing.T, name string, in *Input, p *slabPlan) {
 
 // TestTilePlan: slabs follow LWP's chunks and the chunk caches hold about one
 // chunk per input whatever the grid width, so memory is flat in the grid size
-// (cf.md 3.3: the cache holds every chunk one read touches).
+// (doc/netcdf.md#chunking: the cache holds every chunk one read touches).
 func TestTilePlan(t *testing.T) {
 	const MiB = 1 << 20
 	// 5 float32 inputs, chunks 1000 x 1000 (4 MB), 15 float32 outputs: the
-	// benchmark's layout (issue 5).
+	// benchmark's layout (bench/run.sh).
 	var caches []int
 	for _, n := range []int{2000, 4000, 8000} {
 		in := planInput(nil, n, n, []int{1000, 1000}, 5)

@@ -38,9 +38,17 @@ func unitSystem() (*C.ut_system, error) {
 	return unitsSys, unitsErr
 }
 
-// parseUnit must be called with unitsMu held. The caller frees the result.
+// parseUnit must be called with unitsMu held. The caller frees the result. The
+// words HDF4 and HDF-EOS products write for a dimensionless quantity ("none",
+// "unitless", "dimensionless"; common practice in level-2 imager products) mean
+// "1".
 func parseUnit(sys *C.ut_system, s string) *C.ut_unit {
-	cs := C.CString(strings.TrimSpace(s))
+	s = strings.TrimSpace(s)
+	switch strings.ToLower(s) {
+	case "none", "unitless", "dimensionless":
+		s = "1"
+	}
+	cs := C.CString(s)
 	defer C.free(unsafe.Pointer(cs))
 	return C.ut_parse(sys, cs, C.UT_ASCII)
 }

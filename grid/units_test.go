@@ -57,7 +57,7 @@ func TestConverterAgainstUDUNITSCLI(t *testing.T) {
 
 func TestConverterExactFactors(t *testing.T) {
 	// Exact by definition of the SI prefixes (common practice); UDUNITS gives
-	// 999999.9999999999 for cm-3 (see cf.md §6).
+	// 999999.9999999999 for cm-3 (see doc/netcdf.md#udunits).
 	cases := []struct {
 		from, to string
 		factor   float64
@@ -87,7 +87,7 @@ func TestConverterErrors(t *testing.T) {
 	}{
 		{"mb", "Pa", []string{`"mb"`, "millibarn", "hPa", "mbar"}},
 		{"K", "kg m-2", []string{`"K"`, `"kg m-2"`, "not convertible"}},
-		{"kg m-2 s-1", "mm h-1", []string{"not convertible"}}, // physics, not units (cf.md 2.9)
+		{"kg m-2 s-1", "mm h-1", []string{"not convertible"}}, // physics, not units (doc/netcdf.md#units)
 		{"bogon s-1", "m s-1", []string{"cannot parse"}},      // ("furlongs per fortnight" does parse)
 		{"", "m", []string{"empty"}},
 	}
@@ -123,6 +123,8 @@ func TestParseOverride(t *testing.T) {
 		{"re=cer:um", Override{RoleRe, "cer", "um"}},
 		{"LWP_SD = lwp_std : g m-2", Override{RoleLWPSD, "lwp_std", "g m-2"}},
 		{"ctp=p:hPa", Override{RoleCTP, "p", "hPa"}},
+		{"re=Effective Radius:um", Override{RoleRe, "Effective Radius", "um"}}, // HDF4 names may have blanks
+		{"lwp=/geophysical_data/cwp", Override{RoleLWP, "/geophysical_data/cwp", ""}},
 	}
 	for _, c := range ok {
 		got, err := ParseOverride(c.in)
@@ -137,7 +139,7 @@ func TestParseOverride(t *testing.T) {
 		in       string
 		sentinel error
 	}{
-		{"lwp", ErrOverride}, {"foo=x", ErrOverride}, {"lwp=", ErrOverride}, {"lwp=a b", ErrOverride},
+		{"lwp", ErrOverride}, {"foo=x", ErrOverride}, {"lwp=", ErrOverride}, {"lwp=a\tb", ErrOverride},
 		{"lwp=x:", ErrOverride}, {"ctp=p:mb", ErrUnits}, {"lwp=x:K", ErrUnits},
 	}
 	for _, c := range bad {

@@ -45,7 +45,7 @@ func MoistLapseRate(T, p float64) float64 { return adiabaticState(T, p).gm }
 //
 //	LWP = (5/9) rho_w tau r_e
 //
-// Reference: [Brenguier2000]; [WoodHartmann2006] (derived again in physics notes §6.2).
+// Reference: [Brenguier2000]; [WoodHartmann2006] (derived again in doc/science.md#adiabatic-cloud).
 // Valid: tau >= 0, re > 0; NaN otherwise.
 func LWPAdiabatic(tau, re float64) float64 {
 	if !(tau >= 0 && re > 0) || math.IsInf(tau, 1) || math.IsInf(re, 1) {
@@ -108,7 +108,7 @@ func DropletNumber(tau, re, k, qext, fad, cw float64) float64 {
 //	N_d = 3 f_ad c_w H/(4 pi rho_w k r_e^3),   H = [2 LWP/(f_ad c_w)]^(1/2)
 //
 // It equals DropletNumber(TauAdiabatic(lwp, re, 2), re, k, 2, fad, cw).
-// Reference: [Brenguier2000] (derived in physics notes §6.3).
+// Reference: [Brenguier2000] (derived in doc/science.md#droplet-number-and-thickness).
 // Valid: lwp >= 0, re > 0, 0 < k <= 1, 0 < fad <= 1, cw > 0; NaN otherwise.
 func DropletNumberLWP(lwp, re, k, fad, cw float64) float64 {
 	return DropletNumberH(Thickness(lwp, fad, cw), re, k, fad, cw)
@@ -119,7 +119,7 @@ func DropletNumberLWP(lwp, re, k, fad, cw float64) float64 {
 //
 //	N_d = 3 f_ad c_w H/(4 pi rho_w k r_e^3)
 //
-// Reference: [Brenguier2000] (adiabatic consistency, derived in physics notes §6.3).
+// Reference: [Brenguier2000] (adiabatic consistency, derived in doc/science.md#droplet-number-and-thickness).
 // Valid: h >= 0, re > 0, 0 < k <= 1, 0 < fad <= 1, cw > 0; NaN otherwise.
 func DropletNumberH(h, re, k, fad, cw float64) float64 {
 	if !(h >= 0 && re > 0 && k > 0 && k <= 1 && fad > 0 && fad <= 1 && cw > 0) ||
@@ -192,7 +192,7 @@ func EffectiveRadius(z, nd, k, fad, cw float64) float64 {
 //
 //	LWP* = 8 pi^2 rho_w^2 k^2 N_d^2 r_e*^6/(9 f_ad c_w),   H* = (2 LWP*/(f_ad c_w))^(1/2)
 //
-// Reference: [Brenguier2000] adiabatic model with r_e(H) = r_e* (derived, physics notes §9.1);
+// Reference: [Brenguier2000] adiabatic model with r_e(H) = r_e* (derived, doc/science.md#drizzle-onset);
 // onset radius [RosenfeldGutman1994].
 // Valid: nd > 0, reStar > 0, 0 < k <= 1, 0 < fad <= 1, cw > 0; NaN otherwise.
 func CriticalLWP(nd, reStar, k, fad, cw float64) float64 {

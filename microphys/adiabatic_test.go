@@ -7,8 +7,8 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 )
 
-// TestCondensationRateTable checks c_w and Gamma_m against the check table of physics notes
-// §6.1 (derived from the Bolton (1980) e_s and L_v and the [Glickman2000] lapse rate with this
+// TestCondensationRateTable checks c_w and Gamma_m against the check table of
+// doc/science.md#condensation-rate (derived from the Bolton (1980) e_s and L_v and the [Glickman2000] lapse rate with this
 // package's constants), tolerance 1 %.
 func TestCondensationRateTable(t *testing.T) {
 	t.Parallel()
@@ -29,21 +29,21 @@ func TestCondensationRateTable(t *testing.T) {
 		for i, T := range temps {
 			cw := CondensationRate(T, row.p) * 1e6
 			if !scalar.EqualWithinRel(cw, row.cw[i], tol) {
-				t.Errorf("c_w(%g K, %g Pa) = %.4g g m-3 km-1, want %.4g (physics notes §6.1, derived)", T, row.p, cw, row.cw[i])
+				t.Errorf("c_w(%g K, %g Pa) = %.4g g m-3 km-1, want %.4g (doc/science.md#condensation-rate, derived)", T, row.p, cw, row.cw[i])
 			}
 			gm := MoistLapseRate(T, row.p) * 1e3
 			if !scalar.EqualWithinRel(gm, row.gm[i], tol) {
-				t.Errorf("Gamma_m(%g K, %g Pa) = %.4g K km-1, want %.4g (physics notes §6.1, derived)", T, row.p, gm, row.gm[i])
+				t.Errorf("Gamma_m(%g K, %g Pa) = %.4g K km-1, want %.4g (doc/science.md#condensation-rate, derived)", T, row.p, gm, row.gm[i])
 			}
 		}
 	}
-	// Published cross-check: Gamma_m about 4.7 K km-1 at 1000 hPa, 288 K (physics notes §6.1,
+	// Published cross-check: Gamma_m about 4.7 K km-1 at 1000 hPa, 288 K (doc/science.md#condensation-rate,
 	// found on a course page); 3 % tolerance for other e_s/L_v choices.
 	if gm := MoistLapseRate(288, 100000) * 1e3; math.Abs(gm-4.7)/4.7 > 0.03 {
 		t.Errorf("Gamma_m(288 K, 1000 hPa) = %.3g K km-1, want about 4.7", gm)
 	}
 	// [Brenguier2000] default c_w = 1.9e-6 kg m-4 lies in the 278-282 K band at 900-1000 hPa
-	// (physics notes §6.1).
+	// (doc/science.md#condensation-rate).
 	lo, hi := CondensationRate(278, 90000), CondensationRate(282, 100000)
 	if !(lo < 1.9e-6*1.03 && hi > 1.9e-6*0.97) {
 		t.Errorf("Brenguier default 1.9e-6 not within c_w(278 K, 900 hPa) = %.4g .. c_w(282 K, 1000 hPa) = %.4g", lo, hi)
@@ -87,7 +87,7 @@ func TestCondensationRateBadInput(t *testing.T) {
 	}
 }
 
-// TestLWPTau checks the LWP-tau-r_e relations against physics notes §6.2 (derived; the 5/9
+// TestLWPTau checks the LWP-tau-r_e relations against doc/science.md#adiabatic-cloud (derived; the 5/9
 // form is [Brenguier2000], the 2/3 form [Stephens1978]).
 func TestLWPTau(t *testing.T) {
 	t.Parallel()
@@ -116,7 +116,7 @@ func TestLWPTau(t *testing.T) {
 	}
 }
 
-// TestDropletNumber checks N_d and H against physics notes §6.3 (derived from the
+// TestDropletNumber checks N_d and H against doc/science.md#droplet-number-and-thickness (derived from the
 // [Brenguier2000] formula with k = 0.8, Q_ext = 2, f_ad = 1, c_w = 1.9e-6; alpha = 1.37e-5 is
 // quoted by [Quaas2006] eq. 1), tolerance 1e-4.
 func TestDropletNumber(t *testing.T) {
@@ -143,7 +143,7 @@ func TestDropletNumber(t *testing.T) {
 			t.Errorf("Thickness(%g) = %.5g, want %.5g", c[0], v, c[1])
 		}
 	}
-	// Consistency (derived, physics notes §6.3): N_d from (tau, r_e) equals N_d from (H, r_e)
+	// Consistency (derived, doc/science.md#droplet-number-and-thickness): N_d from (tau, r_e) equals N_d from (H, r_e)
 	// with H from the adiabatic LWP = (5/9) rho_w tau r_e, for any k, f_ad, c_w.
 	for _, c := range []struct{ tau, re, k, fad, cw float64 }{
 		{10, 10e-6, 0.8, 1, 1.9e-6}, {4, 14e-6, 0.7, 0.6, 2.3e-6}, {30, 7e-6, 0.9, 0.85, 1.5e-6},
@@ -161,7 +161,7 @@ func TestDropletNumber(t *testing.T) {
 			t.Errorf("r_e(H) = %.8g, want %.8g", re, c.re)
 		}
 	}
-	// Check from physics notes §6.3: tau = 10, r_e = 10 µm gives H = 241.8 m and N_d = 137.1.
+	// Check from doc/science.md#droplet-number-and-thickness: tau = 10, r_e = 10 µm gives H = 241.8 m and N_d = 137.1.
 	h := Thickness(LWPAdiabatic(10, 10e-6), 1, cw)
 	if !scalar.EqualWithinRel(h, 241.8, 3e-4) || !scalar.EqualWithinRel(DropletNumberH(h, 10e-6, 0.8, 1, cw), 137.1e6, 3e-4) {
 		t.Errorf("H = %.5g, N_d(H) = %.5g, want 241.8 m and 137.1e6", h, DropletNumberH(h, 10e-6, 0.8, 1, cw))
@@ -210,7 +210,7 @@ func TestProfiles(t *testing.T) {
 	}
 }
 
-// TestCriticalLWP checks LWP* and H* against physics notes §9.1 (derived, k = 0.8).
+// TestCriticalLWP checks LWP* and H* against doc/science.md#drizzle-onset (derived, k = 0.8).
 func TestCriticalLWP(t *testing.T) {
 	t.Parallel()
 	cases := []struct{ nd, re, cw, lwp float64 }{
@@ -230,7 +230,7 @@ func TestCriticalLWP(t *testing.T) {
 		}
 	}
 	if h := Thickness(CriticalLWP(100e6, 14e-6, 0.8, 1, 2e-6), 1, 2e-6); !scalar.EqualWithinRel(h, 460, 1e-3) {
-		t.Errorf("H* = %.4g, want 460 m (physics notes §9.1, derived)", h)
+		t.Errorf("H* = %.4g, want 460 m (doc/science.md#drizzle-onset, derived)", h)
 	}
 	if v := CriticalLWP(0, 14e-6, 0.8, 1, 2e-6); !math.IsNaN(v) {
 		t.Errorf("CriticalLWP(N=0) = %g, want NaN", v)

@@ -20,7 +20,7 @@ func TestAirProperties(t *testing.T) {
 	const (
 		relTight = 1e-9 // formula reproduced exactly
 		rel4     = 5e-4 // check value printed with 4 significant figures
-		absVisc  = 1e-9 // Pa s, physics.md §2.1 tolerance for the viscosity formulas
+		absVisc  = 1e-9 // Pa s, doc/science.md#air-properties tolerance for the viscosity formulas
 	)
 	cases := []struct {
 		name      string
@@ -29,39 +29,39 @@ func TestAirProperties(t *testing.T) {
 		source    string
 	}{
 		{"SatVapourPressure(273.15)", SatVapourPressure(273.15), 611.2, 0, relTight, "Bolton (1980) eq. 10 at T_c = 0: exactly the prefactor (derived)"},
-		{"SatVapourPressure(293.15)", SatVapourPressure(293.15), 2337, 1, 0, "Bolton (1980) eq. 10, physics.md §0 (derived, ±1 Pa)"},
+		{"SatVapourPressure(293.15)", SatVapourPressure(293.15), 2337, 1, 0, "Bolton (1980) eq. 10, doc/science.md#constants (derived, ±1 Pa)"},
 		{"LatentHeat(273.15)", LatentHeat(273.15), 2.501e6, 0, relTight, "Bolton (1980) eq. 2 (derived)"},
-		{"LatentHeat(293.15)", LatentHeat(293.15), 2.4536e6, 0, 1e-5, "Bolton (1980) eq. 2, physics.md §0 (derived)"},
-		{"SurfaceTension(273.15)", SurfaceTension(273.15), 0.07610, 0, relTight, "Pruppacher & Klett fit, physics.md §0 (derived)"},
-		{"SurfaceTension(293.15)", SurfaceTension(293.15), 0.07300, 0, relTight, "Pruppacher & Klett fit, physics.md §0 (derived)"},
-		{"ViscosityPK(273.15)", ViscosityPK(273.15), 1.7180e-5, absVisc, 0, "P&K eq. 10-107a, physics.md §2.1 (derived)"},
-		{"ViscosityPK(288.15)", ViscosityPK(288.15), 1.7915e-5, absVisc, 0, "P&K eq. 10-107a, physics.md §2.1 (derived)"},
-		{"ViscosityPK(293.15)", ViscosityPK(293.15), 1.8160e-5, absVisc, 0, "P&K eq. 10-107a, physics.md §2.1 (derived)"},
+		{"LatentHeat(293.15)", LatentHeat(293.15), 2.4536e6, 0, 1e-5, "Bolton (1980) eq. 2, doc/science.md#constants (derived)"},
+		{"SurfaceTension(273.15)", SurfaceTension(273.15), 0.07610, 0, relTight, "Pruppacher & Klett fit, doc/science.md#constants (derived)"},
+		{"SurfaceTension(293.15)", SurfaceTension(293.15), 0.07300, 0, relTight, "Pruppacher & Klett fit, doc/science.md#constants (derived)"},
+		{"ViscosityPK(273.15)", ViscosityPK(273.15), 1.7180e-5, absVisc, 0, "P&K eq. 10-107a, doc/science.md#air-properties (derived)"},
+		{"ViscosityPK(288.15)", ViscosityPK(288.15), 1.7915e-5, absVisc, 0, "P&K eq. 10-107a, doc/science.md#air-properties (derived)"},
+		{"ViscosityPK(293.15)", ViscosityPK(293.15), 1.8160e-5, absVisc, 0, "P&K eq. 10-107a, doc/science.md#air-properties (derived)"},
 		{"ViscosityPK(263.15)", ViscosityPK(263.15), 1.718e-5 - 4.9e-7 - 1.2e-8, absVisc, 0, "P&K eq. 10-107a, T_c < 0 branch (derived)"},
-		{"ViscositySutherland(273.15)", ViscositySutherland(273.15), 1.7161e-5, absVisc, 0, "US Std Atm 1976 eq. 51, physics.md §2.1 (derived)"},
+		{"ViscositySutherland(273.15)", ViscositySutherland(273.15), 1.7161e-5, absVisc, 0, "US Std Atm 1976 eq. 51, doc/science.md#air-properties (derived)"},
 		{"ViscositySutherland(288.15)", ViscositySutherland(288.15), 1.7894e-5, absVisc, 0, "US Std Atm 1976 sea-level value 1.7894e-5 Pa s"},
-		{"ViscositySutherland(293.15)", ViscositySutherland(293.15), 1.8134e-5, absVisc, 0, "US Std Atm 1976 eq. 51, physics.md §2.1 (derived)"},
-		{"MeanFreePath(101325, 293.15)", MeanFreePath(101325, 293.15), 6.613e-8, 0, rel4, "Beard (1976) scaling, physics.md §2.2 (derived)"},
-		{"MeanFreePath(85000, 283.15)", MeanFreePath(85000, 283.15), 7.538e-8, 0, rel4, "Beard (1976) scaling, physics.md §2.2 (derived)"},
-		{"MeanFreePath(70000, 273.15)", MeanFreePath(70000, 273.15), 8.741e-8, 0, rel4, "Beard (1976) scaling, physics.md §2.2 (derived)"},
-		{"ThermalConductivity(273.15)", ThermalConductivity(273.15), 0.023823, 0, rel4, "P&K eq. 13-18a, physics.md §2.3 (derived)"},
-		{"ThermalConductivity(283.15)", ThermalConductivity(283.15), 0.024535, 0, rel4, "P&K eq. 13-18a, physics.md §2.3 (derived)"},
+		{"ViscositySutherland(293.15)", ViscositySutherland(293.15), 1.8134e-5, absVisc, 0, "US Std Atm 1976 eq. 51, doc/science.md#air-properties (derived)"},
+		{"MeanFreePath(101325, 293.15)", MeanFreePath(101325, 293.15), 6.613e-8, 0, rel4, "Beard (1976) scaling, doc/science.md#air-properties (derived)"},
+		{"MeanFreePath(85000, 283.15)", MeanFreePath(85000, 283.15), 7.538e-8, 0, rel4, "Beard (1976) scaling, doc/science.md#air-properties (derived)"},
+		{"MeanFreePath(70000, 273.15)", MeanFreePath(70000, 273.15), 8.741e-8, 0, rel4, "Beard (1976) scaling, doc/science.md#air-properties (derived)"},
+		{"ThermalConductivity(273.15)", ThermalConductivity(273.15), 0.023823, 0, rel4, "P&K eq. 13-18a, doc/science.md#air-properties (derived)"},
+		{"ThermalConductivity(283.15)", ThermalConductivity(283.15), 0.024535, 0, rel4, "P&K eq. 13-18a, doc/science.md#air-properties (derived)"},
 		{"ThermalConductivity(273.15) R&Y", ThermalConductivity(273.15), 2.40e-2, 0, 0.01, "Rogers & Yau (1989) table 7.1, about 2.40e-2 (from memory)"},
-		{"VapourDiffusivity(1e5, 273.15)", VapourDiffusivity(1e5, 273.15), 2.138e-5, 0, rel4, "P&K eq. 13-3, physics.md §2.3 (derived)"},
-		{"VapourDiffusivity(9e4, 283.15)", VapourDiffusivity(9e4, 283.15), 2.547e-5, 0, rel4, "P&K eq. 13-3, physics.md §2.3 (derived)"},
+		{"VapourDiffusivity(1e5, 273.15)", VapourDiffusivity(1e5, 273.15), 2.138e-5, 0, rel4, "P&K eq. 13-3, doc/science.md#air-properties (derived)"},
+		{"VapourDiffusivity(9e4, 283.15)", VapourDiffusivity(9e4, 283.15), 2.547e-5, 0, rel4, "P&K eq. 13-3, doc/science.md#air-properties (derived)"},
 		{"VapourDiffusivity(1e5, 273.15) R&Y", VapourDiffusivity(1e5, 273.15), 2.21e-5, 0, 0.05, "Rogers & Yau (1989) table 7.1, about 2.21e-5 (from memory)"},
-		// physics.md §2.4 uses R_d = 287.05; ours is 287.04 (3.5e-5 relative), hence 2e-4.
+		// doc/science.md#air-properties uses R_d = 287.05; ours is 287.04 (3.5e-5 relative), hence 2e-4.
 		{"AirDensity(101325, 288.15, 0)", AirDensity(101325, 288.15, 0), 1.2250, 0, 2e-4, "US Std Atm 1976 sea-level density 1.2250 kg m-3"},
-		{"AirDensity(101325, 293.15, 0)", AirDensity(101325, 293.15, 0), 1.2041, 0, 2e-4, "ideal gas, physics.md §2.4 (derived)"},
-		{"AirDensity(85000, 283.15, 0)", AirDensity(85000, 283.15, 0), 1.0458, 0, 2e-4, "ideal gas, physics.md §2.4 (derived)"},
+		{"AirDensity(101325, 293.15, 0)", AirDensity(101325, 293.15, 0), 1.2041, 0, 2e-4, "ideal gas, doc/science.md#air-properties (derived)"},
+		{"AirDensity(85000, 283.15, 0)", AirDensity(85000, 283.15, 0), 1.0458, 0, 2e-4, "ideal gas, doc/science.md#air-properties (derived)"},
 		{"AirDensity(1e5, 290, 0.01)", AirDensity(1e5, 290, 0.01), 1e5 / (GasConstantDry * 290 * (1 + 0.608*0.01)), 0, 1e-4, "virtual temperature T(1+0.608 q), Rogers & Yau (1989) eq. 1.11 (common practice)"},
-		{"Epsilon", Epsilon, 0.622, 0, 1e-3, "R_d/R_v, physics.md §0 (from memory)"},
+		{"Epsilon", Epsilon, 0.622, 0, 1e-3, "R_d/R_v, doc/science.md#constants (from memory)"},
 	}
 	for _, c := range cases {
 		check(t, c.name, c.got, c.want, c.abs, c.rel, c.source)
 	}
 	// Sutherland cross-check: the two viscosity laws agree within 0.4 % from -10 to 40 degC
-	// (physics.md §2.1 table, derived).
+	// (doc/science.md#air-properties table, derived).
 	for T := 263.15; T <= 313.15; T += 5 {
 		check(t, "ViscosityPK vs Sutherland", ViscosityPK(T), ViscositySutherland(T), 0, 4e-3, "P&K 10-107a vs US Std Atm 1976 (derived)")
 	}

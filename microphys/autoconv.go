@@ -198,7 +198,7 @@ func (p Params) AutoconvConfig() AutoconvConfig {
 //
 // (N in cm-3 inside the fit).
 // Reference: [KhairoutdinovKogan2000] eq. 29 integrated over the [Brenguier2000] adiabatic
-// profile (derived, physics notes §7.1).
+// profile (derived, doc/science.md#autoconversion).
 // Valid: h >= 0, gamma > 0, nd > 0, rhoa > 0, finite; NaN otherwise.
 func ColumnAutoconvKK2000(h, gamma, nd, rhoa float64) float64 {
 	if !(h >= 0 && gamma > 0 && nd > 0 && rhoa > 0) || math.IsInf(h, 1) || math.IsInf(gamma, 1) || math.IsInf(nd, 1) || math.IsInf(rhoa, 1) {

@@ -7,8 +7,8 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 )
 
-// TestKK2000Local checks the [KhairoutdinovKogan2000] eq. 29 local rate against physics
-// notes §7.1 (derived from the formula), tolerance 1e-4.
+// TestKK2000Local checks the [KhairoutdinovKogan2000] eq. 29 local rate against
+// doc/science.md#autoconversion (derived from the formula), tolerance 1e-4.
 func TestKK2000Local(t *testing.T) {
 	t.Parallel()
 	for _, c := range []struct{ qc, n, want float64 }{
@@ -23,7 +23,7 @@ func TestKK2000Local(t *testing.T) {
 	}
 }
 
-// TestKK2000Column checks the closed-form column integral against physics notes §7.1
+// TestKK2000Column checks the closed-form column integral against doc/science.md#autoconversion
 // (derived, rho_a = 1.2, c_w = 1.9e-6, f_ad = 1) and against the quadrature.
 func TestKK2000Column(t *testing.T) {
 	t.Parallel()
@@ -41,7 +41,7 @@ func TestKK2000Column(t *testing.T) {
 			t.Errorf("quadrature %.8g vs closed form %.8g (derived)", q, v)
 		}
 	}
-	// 0.0258 mm/day for LWP = 0.1, N = 100 cm-3 (physics notes §7.1).
+	// 0.0258 mm/day for LWP = 0.1, N = 100 cm-3 (doc/science.md#autoconversion).
 	if v := ColumnAutoconvKK2000(Thickness(0.1, 1, cw), cw, 100e6, rho) * 86400; !scalar.EqualWithinRel(v, 0.0258, 2e-3) {
 		t.Errorf("P_col = %.4g mm/day, want 0.0258", v)
 	}
@@ -50,22 +50,22 @@ func TestKK2000Column(t *testing.T) {
 	}
 }
 
-// TestOtherSchemes checks the local rates of the other schemes against physics notes §7 and
+// TestOtherSchemes checks the local rates of the other schemes against doc/science.md#autoconversion and
 // their quadrature column integrals against closed forms (derived).
 func TestOtherSchemes(t *testing.T) {
 	t.Parallel()
-	// Kessler: q_c = 1 g/kg, q_c0 = 0.5 g/kg, k1 = 1e-3 -> 5e-7 s-1 (physics notes §7.2, derived).
+	// Kessler: q_c = 1 g/kg, q_c0 = 0.5 g/kg, k1 = 1e-3 -> 5e-7 s-1 (doc/science.md#autoconversion, derived).
 	if v := AutoconvKesslerRate(1e-3, 1e-3, 5e-4); !scalar.EqualWithinRel(v, 5e-7, 1e-12) {
 		t.Errorf("Kessler = %g, want 5e-7", v)
 	}
 	if v := AutoconvKesslerRate(4e-4, 1e-3, 5e-4); v != 0 {
 		t.Errorf("Kessler below threshold = %g, want 0", v)
 	}
-	// SB2001: L_c = 0.5e-3, N_c = 1e8, nu = 1 -> 4.25e-11 kg m-3 s-1 (physics notes §7.5, derived).
+	// SB2001: L_c = 0.5e-3, N_c = 1e8, nu = 1 -> 4.25e-11 kg m-3 s-1 (doc/science.md#autoconversion, derived).
 	if v := AutoconvSeifertBehengRate(0.5e-3, 1e8, 1); !scalar.EqualWithinRel(v, 4.25e-11, 2e-3) {
 		t.Errorf("SB2001 = %.5g, want 4.25e-11", v)
 	}
-	// Liu-Daum: kappa2 = 1.9e11 (3/(4 pi))^2 = 1.083e10 (physics notes §7.4, derived), so at
+	// Liu-Daum: kappa2 = 1.9e11 (3/(4 pi))^2 = 1.083e10 (doc/science.md#autoconversion, derived), so at
 	// L = 1e-3 kg m-3, N = 5e7 (above threshold) P = kappa2 beta6^6 L^3/N with
 	// beta6 = ((r_v+3)/r_v)^(1/3) [Wood2005].
 	L, N := 1e-3, 5e7

@@ -7,9 +7,9 @@ import (
 
 func TestBeardOchsCheckValues(t *testing.T) {
 	t.Parallel()
-	const tol = 0.01 // physics.md §4.1 tolerance
+	const tol = 0.01 // doc/science.md#coalescence-efficiency tolerance
 	a := NewAir(90000, 283.15)
-	// physics.md §4.1 (derived from the Beard & Ochs 1995 formulas, Beard 1976 speeds at
+	// doc/science.md#coalescence-efficiency (derived from the Beard & Ochs 1995 formulas, Beard 1976 speeds at
 	// 283.15 K and 900 hPa).
 	for _, c := range []struct{ rl, rs, we, e1, e2, e float64 }{
 		{100e-6, 20e-6, 0.120, 0.766, 0.791, 0.791},
@@ -17,13 +17,13 @@ func TestBeardOchsCheckValues(t *testing.T) {
 	} {
 		dv := a.FallSpeed(2*c.rl) - a.FallSpeed(2*c.rs)
 		we := a.RhoW * c.rs * dv * dv / a.Sigma
-		check(t, "We", we, c.we, 0.001, 0, "Beard & Ochs (1995), physics.md §4.1 (derived)")
+		check(t, "We", we, c.we, 0.001, 0, "Beard & Ochs (1995), doc/science.md#coalescence-efficiency (derived)")
 		p := c.rs / c.rl
 		g := 2 * math.Sqrt2 / (6 * math.Pi) * math.Pow(p, 4) * (1 + p) / ((1 + p*p) * (1 + p*p*p))
-		check(t, "E1", 0.767-10.14*g*math.Sqrt(we), c.e1, tol, 0, "Beard & Ochs (1995) formula 1, physics.md §4.1 (derived)")
+		check(t, "E1", 0.767-10.14*g*math.Sqrt(we), c.e1, tol, 0, "Beard & Ochs (1995) formula 1, doc/science.md#coalescence-efficiency (derived)")
 		e2 := solveBeardOchs2(math.Log(c.rs*1e6) + math.Log(c.rl*1e6/200))
-		check(t, "E2", e2, c.e2, tol, 0, "Beard & Ochs (1995) formula 2, physics.md §4.1 (derived)")
-		check(t, "E_coal", CoalescenceBeardOchs1995(c.rl, c.rs, &a), c.e, tol, 0, "Beard & Ochs (1995), physics.md §4.1 (derived)")
+		check(t, "E2", e2, c.e2, tol, 0, "Beard & Ochs (1995) formula 2, doc/science.md#coalescence-efficiency (derived)")
+		check(t, "E_coal", CoalescenceBeardOchs1995(c.rl, c.rs, &a), c.e, tol, 0, "Beard & Ochs (1995), doc/science.md#coalescence-efficiency (derived)")
 		check(t, "E_coal swapped", CoalescenceBeardOchs1995(c.rs, c.rl, &a), c.e, tol, 0, "argument order does not matter")
 	}
 }
@@ -55,8 +55,8 @@ func TestLowListCheckValue(t *testing.T) {
 	dv := a.FallSpeed(dl) - a.FallSpeed(ds)
 	cke := math.Pi * a.RhoW / 12 * dv * dv * math.Pow(dl, 3) * math.Pow(ds, 3) / (math.Pow(dl, 3) + math.Pow(ds, 3))
 	et := cke + math.Pi*a.Sigma*(dl*dl+ds*ds) - math.Pi*a.Sigma*math.Pow(math.Pow(dl, 3)+math.Pow(ds, 3), 2.0/3)
-	check(t, "E_T", et, 7.57e-7, 0, 0.01, "Low & List (1982), physics.md §4.2 (derived)")
-	check(t, "E_LL", CoalescenceLowList1982(dl/2, ds/2, &a), 0.443, 0.01, 0, "Low & List (1982), physics.md §4.2 (derived)")
+	check(t, "E_T", et, 7.57e-7, 0, 0.01, "Low & List (1982), doc/science.md#coalescence-efficiency (derived)")
+	check(t, "E_LL", CoalescenceLowList1982(dl/2, ds/2, &a), 0.443, 0.01, 0, "Low & List (1982), doc/science.md#coalescence-efficiency (derived)")
 	// E_T at or above 50 erg = 5e-6 J gives 0 (Low & List 1982): d_L = 6 mm, d_s = 3 mm.
 	dl, ds = 6e-3, 3e-3
 	dv = a.FallSpeed(dl) - a.FallSpeed(ds)

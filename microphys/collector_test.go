@@ -5,14 +5,14 @@ import (
 	"testing"
 )
 
-// Closed-form test problem of physics.md §5: E = 1, M = 1 g m-3, rho_w = 1000.
+// Closed-form test problem of doc/science.md#collector-drop: E = 1, M = 1 g m-3, rho_w = 1000.
 const (
 	bowenE  = 1.0
 	bowenM  = 1e-3
 	bowenK1 = 1.19e8 // m-1 s-1, Rogers & Yau (1989) eq. 8.5
 	bowenK3 = 8e3    // s-1, Rogers & Yau (1989) eq. 8.6
 	bowenK2 = 201.0  // m^1/2 s-1, Rogers & Yau (1989) eq. 8.8 (rho_a = rho_0)
-	// closedRel is the required agreement with the closed forms (issue 2 item 6).
+	// closedRel is the required agreement with the closed forms (doc/science.md#collector-drop).
 	closedRel = 1e-6
 )
 
@@ -27,55 +27,55 @@ func TestCollectConstantTimeLaws(t *testing.T) {
 	const R0 = 20e-6
 	c := 4 * WaterDensity / (bowenE * bowenM)
 	for _, tt := range []float64{300, 600, 1200} {
-		// V = k1 R^2: R(t) = R0/(1 - E M k1 R0 t/(4 rho_w)) (physics.md §5, derived).
+		// V = k1 R^2: R(t) = R0/(1 - E M k1 R0 t/(4 rho_w)) (doc/science.md#collector-drop, derived).
 		p := CollectConstant(ConstantCollector{R0: R0, LWC: bowenM, Efficiency: bowenE, Fall: lawK1, StopTime: tt})
-		check(t, "k1 R(t)", p.R, R0/(1-bowenK1*R0*tt/c), 0, closedRel, "physics.md §5 closed form (derived)")
+		check(t, "k1 R(t)", p.R, R0/(1-bowenK1*R0*tt/c), 0, closedRel, "doc/science.md#collector-drop closed form (derived)")
 		check(t, "k1 t", p.Time, tt, 0, 1e-12, "stop time")
 		// V = k3 R: R(t) = R0 exp(E M k3 t/(4 rho_w)) (derived).
 		p = CollectConstant(ConstantCollector{R0: R0, LWC: bowenM, Efficiency: bowenE, Fall: lawK3, StopTime: tt})
-		check(t, "k3 R(t)", p.R, R0*math.Exp(bowenK3*tt/c), 0, closedRel, "physics.md §5 closed form (derived)")
+		check(t, "k3 R(t)", p.R, R0*math.Exp(bowenK3*tt/c), 0, closedRel, "doc/science.md#collector-drop closed form (derived)")
 		// V = k2 R^1/2: R^1/2 = R0^1/2 + E M k2 t/(8 rho_w) (derived).
 		p = CollectConstant(ConstantCollector{R0: R0, LWC: bowenM, Efficiency: bowenE, Fall: lawK2, StopTime: tt})
 		sq := math.Sqrt(R0) + bowenE*bowenM*bowenK2*tt/(8*WaterDensity)
-		check(t, "k2 R(t)", p.R, sq*sq, 0, closedRel, "physics.md §5 closed form (derived)")
+		check(t, "k2 R(t)", p.R, sq*sq, 0, closedRel, "doc/science.md#collector-drop closed form (derived)")
 	}
-	// Printed check values of physics.md §5 (derived, 4 significant figures).
+	// Printed check values of doc/science.md#collector-drop (derived, 4 significant figures).
 	for _, c := range []struct{ t, r float64 }{{300, 24.35e-6}, {600, 31.10e-6}, {1200, 69.93e-6}} {
 		p := CollectConstant(ConstantCollector{R0: R0, LWC: bowenM, Efficiency: bowenE, Fall: lawK1, StopTime: c.t})
-		check(t, "k1 R(t) table", p.R, c.r, 0, 5e-4, "physics.md §5 table (derived)")
+		check(t, "k1 R(t) table", p.R, c.r, 0, 5e-4, "doc/science.md#collector-drop table (derived)")
 	}
-	check(t, "t*", 4*WaterDensity/(bowenE*bowenM*bowenK1*R0), 1680.7, 0, 1e-4, "physics.md §5: blow-up time (derived)")
+	check(t, "t*", 4*WaterDensity/(bowenE*bowenM*bowenK1*R0), 1680.7, 0, 1e-4, "doc/science.md#collector-drop: blow-up time (derived)")
 }
 
 func TestCollectConstantDistance(t *testing.T) {
 	t.Parallel()
-	// U = 0: fall distance to grow R0 -> R is 4 rho_w (R - R0)/(E M), whatever V (physics.md §5,
+	// U = 0: fall distance to grow R0 -> R is 4 rho_w (R - R0)/(E M), whatever V (doc/science.md#collector-drop,
 	// derived); 320.0 m for 20 -> 100 µm.
 	for name, law := range map[string]func(float64) float64{"k1": lawK1, "k3": lawK3, "k2": lawK2} {
 		p := CollectConstant(ConstantCollector{R0: 20e-6, LWC: bowenM, Efficiency: bowenE, Fall: law, StopRadius: 100e-6})
-		check(t, name+" U=0 distance", -p.Z, 320.0, 0, closedRel, "physics.md §5 (derived)")
+		check(t, name+" U=0 distance", -p.Z, 320.0, 0, closedRel, "doc/science.md#collector-drop (derived)")
 		check(t, name+" U=0 radius", p.R, 100e-6, 0, 1e-12, "stop radius")
 	}
 	// With an updraft U, z(R) - z0 = (4 rho_w/(E M)) [(U/k1)(1/R0 - 1/R) - (R - R0)] (k1) and
-	// (4 rho_w/(E M)) [(U/k3) ln(R/R0) - (R - R0)] (k3) (physics.md §5, derived).
+	// (4 rho_w/(E M)) [(U/k3) ln(R/R0) - (R - R0)] (k3) (doc/science.md#collector-drop, derived).
 	const U, R0, R1 = 0.5, 20e-6, 60e-6
 	c := 4 * WaterDensity / (bowenE * bowenM)
 	p := CollectConstant(ConstantCollector{R0: R0, Updraft: U, LWC: bowenM, Efficiency: bowenE, Fall: lawK1, StopRadius: R1})
-	check(t, "k1 z(R)", p.Z, c*((U/bowenK1)*(1/R0-1/R1)-(R1-R0)), 0, closedRel, "physics.md §5 (derived)")
+	check(t, "k1 z(R)", p.Z, c*((U/bowenK1)*(1/R0-1/R1)-(R1-R0)), 0, closedRel, "doc/science.md#collector-drop (derived)")
 	p = CollectConstant(ConstantCollector{R0: R0, Updraft: U, LWC: bowenM, Efficiency: bowenE, Fall: lawK3, StopRadius: R1})
-	check(t, "k3 z(R)", p.Z, c*((U/bowenK3)*math.Log(R1/R0)-(R1-R0)), 0, closedRel, "physics.md §5 (derived)")
+	check(t, "k3 z(R)", p.Z, c*((U/bowenK3)*math.Log(R1/R0)-(R1-R0)), 0, closedRel, "doc/science.md#collector-drop (derived)")
 }
 
 func TestCollectConstantBowenReturn(t *testing.T) {
 	t.Parallel()
 	// Bowen's result: with V = k1 R^2 the drop returns to its start level with R_f = U/(k1 R0)
-	// (Bowen 1950; physics.md §5, derived).
+	// (Bowen 1950; doc/science.md#collector-drop, derived).
 	for _, c := range []struct{ U, R0 float64 }{{0.5, 20e-6}, {1, 20e-6}, {2, 30e-6}} {
 		p := CollectConstant(ConstantCollector{R0: c.R0, Updraft: c.U, LWC: bowenM, Efficiency: bowenE, Fall: lawK1, StopReturn: true})
-		check(t, "Bowen R_f", p.R, c.U/(bowenK1*c.R0), 0, closedRel, "Bowen (1950), physics.md §5 (derived)")
+		check(t, "Bowen R_f", p.R, c.U/(bowenK1*c.R0), 0, closedRel, "Bowen (1950), doc/science.md#collector-drop (derived)")
 		check(t, "return level", p.Z, 0, 1e-9, 0, "event located on the start level")
 	}
-	// V = k3 R: the return radius solves (U/k3) ln(R/R0) = R - R0 (derived from physics.md §5).
+	// V = k3 R: the return radius solves (U/k3) ln(R/R0) = R - R0 (derived from doc/science.md#collector-drop).
 	const U, R0 = 1.0, 20e-6
 	f := func(R float64) float64 { return (U/bowenK3)*math.Log(R/R0) - (R - R0) }
 	lo, hi := U/bowenK3, 10*U/bowenK3 // f > 0 at the top radius U/k3, < 0 far beyond
@@ -88,7 +88,7 @@ func TestCollectConstantBowenReturn(t *testing.T) {
 		}
 	}
 	p := CollectConstant(ConstantCollector{R0: R0, Updraft: U, LWC: bowenM, Efficiency: bowenE, Fall: lawK3, StopReturn: true})
-	check(t, "k3 return radius", p.R, (lo+hi)/2, 0, closedRel, "physics.md §5 closed form, root by bisection (derived)")
+	check(t, "k3 return radius", p.R, (lo+hi)/2, 0, closedRel, "doc/science.md#collector-drop closed form, root by bisection (derived)")
 }
 
 func TestCollectConstantBadInput(t *testing.T) {
@@ -129,7 +129,7 @@ func TestCollectDirectNoWater(t *testing.T) {
 
 func TestCollectDirectMonotoneLWC(t *testing.T) {
 	t.Parallel()
-	// Growth is monotone in LWC (issue 2 item 6): more water, larger exit radius.
+	// Growth is monotone in LWC (doc/science.md#collector-drop): more water, larger exit radius.
 	for _, w := range []float64{0, 0.3, 1} {
 		s := DefaultCollectorSetup()
 		s.Updraft, s.R0 = w, 20e-6 // the 20 µm collector these updrafts were chosen for

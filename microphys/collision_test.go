@@ -7,7 +7,7 @@ import (
 
 func TestHallNodesExact(t *testing.T) {
 	t.Parallel()
-	// Every node of Hall (1980) table 1 is returned exactly (issue 2 item 3), with the
+	// Every node of Hall (1980) table 1 is returned exactly (doc/science.md#collision-efficiency), with the
 	// collected radius formed as ratio*R (not exact in binary).
 	R, ratio, E := HallTable()
 	for i, rr := range R {
@@ -17,7 +17,7 @@ func TestHallNodesExact(t *testing.T) {
 			}
 		}
 	}
-	// Spot values of the table as transcribed in physics.md §3.1 (Hall 1980 table 1).
+	// Spot values of the table as transcribed in doc/science.md#collision-efficiency (Hall 1980 table 1).
 	for _, c := range []struct{ R, r, e float64 }{
 		{100e-6, 5e-6, 0.50}, {60e-6, 60e-6, 3.0}, {30e-6, 1.5e-6, 1e-4}, {40e-6, 2e-6, 0.001},
 		{20e-6, 10e-6, 0.072}, {300e-6, 15e-6, 0.97},
@@ -31,16 +31,16 @@ func TestHallNodesExact(t *testing.T) {
 func TestHallBilinear(t *testing.T) {
 	t.Parallel()
 	const tol = 1e-12
-	// physics.md §3.1 interpolation checks (derived).
-	check(t, "E(25 µm, 0.50)", HallEfficiency(25e-6, 12.5e-6), 0.311, tol, 0, "physics.md §3.1 (derived)")
-	check(t, "E(45 µm, 0.125)", HallEfficiency(45e-6, 0.125*45e-6), 0.3375, tol, 0, "physics.md §3.1 (derived)")
+	// doc/science.md#collision-efficiency interpolation checks (derived).
+	check(t, "E(25 µm, 0.50)", HallEfficiency(25e-6, 12.5e-6), 0.311, tol, 0, "doc/science.md#collision-efficiency (derived)")
+	check(t, "E(45 µm, 0.125)", HallEfficiency(45e-6, 0.125*45e-6), 0.3375, tol, 0, "doc/science.md#collision-efficiency (derived)")
 	// Linear along a table edge: midway between R = 100 and 150 µm at r/R = 0.05 (derived).
 	check(t, "E(125 µm, 0.05)", HallEfficiency(125e-6, 0.05*125e-6), (0.50+0.77)/2, tol, 0, "bilinear, Hall 1980 table 1 (derived)")
 	// Symmetric in its arguments (the larger is the collector).
 	if a, b := HallEfficiency(37e-6, 11e-6), HallEfficiency(11e-6, 37e-6); a != b {
 		t.Errorf("HallEfficiency not symmetric: %g vs %g", a, b)
 	}
-	// Clamping outside the table (our documented choice; physics.md §3.1 suggests clamping
+	// Clamping outside the table (our documented choice; doc/science.md#collision-efficiency suggests clamping
 	// or E = 1 above 300 µm from memory): R < 10 µm uses the 10 µm row, R > 300 µm the 300 µm
 	// row, r/R < 0.05 the 0.05 column.
 	check(t, "E(5 µm, 0.5)", HallEfficiency(5e-6, 2.5e-6), 0.033, tol, 0, "clamped to Hall 1980 row R = 10 µm")
@@ -60,11 +60,11 @@ func TestHallBilinear(t *testing.T) {
 func TestLongEfficiency(t *testing.T) {
 	t.Parallel()
 	const tol = 1e-12
-	// physics.md §3.2 check values (derived from Long 1974 as quoted by Simmel et al. 2002 eq. 13).
-	check(t, "E(20, 10)", LongEfficiency(20e-6, 10e-6), 0.126, tol, 0, "physics.md §3.2 (derived)")
-	check(t, "E(40, 10)", LongEfficiency(40e-6, 10e-6), 0.504, tol, 0, "physics.md §3.2 (derived)")
-	check(t, "E(10, 5)", LongEfficiency(10e-6, 5e-6), 0.018, tol, 0, "physics.md §3.2 (derived)")
-	check(t, "E(20, 2)", LongEfficiency(20e-6, 2e-6), 1e-3, tol, 0, "physics.md §3.2: clipped to 1e-3 (derived)")
+	// doc/science.md#collision-efficiency check values (derived from Long 1974 as quoted by Simmel et al. 2002 eq. 13).
+	check(t, "E(20, 10)", LongEfficiency(20e-6, 10e-6), 0.126, tol, 0, "doc/science.md#collision-efficiency (derived)")
+	check(t, "E(40, 10)", LongEfficiency(40e-6, 10e-6), 0.504, tol, 0, "doc/science.md#collision-efficiency (derived)")
+	check(t, "E(10, 5)", LongEfficiency(10e-6, 5e-6), 0.018, tol, 0, "doc/science.md#collision-efficiency (derived)")
+	check(t, "E(20, 2)", LongEfficiency(20e-6, 2e-6), 1e-3, tol, 0, "doc/science.md#collision-efficiency: clipped to 1e-3 (derived)")
 	check(t, "E(60, 10)", LongEfficiency(60e-6, 10e-6), 1, tol, 0, "Long (1974): E = 1 for R > 50 µm")
 	check(t, "E(50, 45)", LongEfficiency(50e-6, 45e-6), 1, tol, 0, "upper clip at 1 (our documented deviation)")
 	for R := 1e-6; R < 1e-3; R *= 1.1 {

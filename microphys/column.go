@@ -431,7 +431,7 @@ const (
 //  1. Screening of the inputs (QC bits): missing or invalid LWP/Re, any present optional
 //     input that is ±Inf or unphysical, thin cloud, r_e out of range, possible ice.
 //  2. c_w = CondensationRate(T, p) at cloud top (the level of the inputs; mid-cloud differs by
-//     <= 3 % for 300 m clouds, physics notes §6.1), or Params.FixedCw; gamma = f_ad c_w.
+//     <= 3 % for 300 m clouds, doc/science.md#condensation-rate), or Params.FixedCw; gamma = f_ad c_w.
 //  3. tau: the input Tau when present, else TauAdiabatic(LWP, Re, Qext) (5/9 relation).
 //     N_d = DropletNumber(tau, Re, ...), H = Thickness(LWP, ...), ReTop = r_e(H).
 //  4. Autoconv = ColumnAutoconversion (air density at cloud top), Efficiency, DrizzleRate,

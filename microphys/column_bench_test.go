@@ -9,7 +9,7 @@ import (
 var benchSink Outputs
 
 // typicalScSample draws n columns within the typical marine-stratocumulus ranges of
-// [Wood2012] (from memory, physics notes §6.4): LWP 40-200 g m-2, r_e 9-15 µm, T_top
+// [Wood2012] (from memory, doc/science.md#typical-stratocumulus): LWP 40-200 g m-2, r_e 9-15 µm, T_top
 // 280-290 K, p_top 850-950 hPa, with an LWP standard deviation of 40 % (gamma shape 6.25).
 // Invented data for benchmarks.
 func typicalScSample(n int, seed uint64) []Inputs {

@@ -10,7 +10,7 @@ import (
 
 // Tolerances of Column's fast bulk helpers (column.go) against the exported functions they
 // replace. The helpers are the same formulas in another arithmetic order, so they agree to
-// rounding (derived); bulkTol is far inside the 1e-6 relative that Column promises (issue 5).
+// rounding (derived); bulkTol is far inside the 1e-6 relative that Column promises (doc/science.md#tables).
 const (
 	bulkTol = 1e-12 // relative, helpers and Column's bulk outputs
 	// quadTol is the relative tolerance of Column's autoconversion with the threshold schemes

@@ -131,13 +131,13 @@ func TestColumnTauGiven(t *testing.T) {
 	if !math.IsNaN(out.CollectorRadius) || !math.IsNaN(out.SurfaceRadius) {
 		t.Error("collector off but collector outputs set")
 	}
-	// Fixed c_w option ([Brenguier2000] 1.9e-6): the N_d check value of physics notes §6.3.
+	// Fixed c_w option ([Brenguier2000] 1.9e-6): the N_d check value of doc/science.md#droplet-number-and-thickness.
 	p.FixedCw = 1.9e-6
 	m, _ = NewModel(p)
 	in.LWP, in.Tau = LWPAdiabatic(10, 10e-6), 10
 	m.Column(&in, &out)
 	if !scalar.EqualWithinRel(out.Nd, 137.11e6, 1e-4) || out.Cw != 1.9e-6 {
-		t.Errorf("fixed c_w: N_d = %.5g, want 137.11e6 (physics notes §6.3)", out.Nd)
+		t.Errorf("fixed c_w: N_d = %.5g, want 137.11e6 (doc/science.md#droplet-number-and-thickness)", out.Nd)
 	}
 }
 
@@ -190,7 +190,7 @@ func TestColumnScreening(t *testing.T) {
 	}
 }
 
-// TestColumnNoAlloc checks that Column does not allocate (issue 2 item 10).
+// TestColumnNoAlloc checks that Column does not allocate (DEVELOPERS.md, the column API).
 func TestColumnNoAlloc(t *testing.T) {
 	m := defaultModel(t)
 	in := marineScSample(64, 5, true)
@@ -210,7 +210,7 @@ func invalidInput(in *Inputs) bool {
 		bad(in.CTP, 2e4, 1.1e5) || bad(in.CTH, 0, 2e4) || bad(in.LWPStd, 0, math.MaxFloat64) || bad(in.SurfaceRH, 0, 1)
 }
 
-// FuzzColumn checks Column's invariants for any float input (STYLE.md item 10): no panic;
+// FuzzColumn checks Column's invariants for any float input (microphys/doc.go, Bad input): no panic;
 // invalid input is screened with every diagnostic NaN; an unscreened column has finite,
 // positive N_d, H and c_w, rates >= 0 and POP in [0, 1]. Seeds: the screening table above
 // and typical columns; corpus in testdata/fuzz/FuzzColumn.
@@ -218,7 +218,7 @@ func FuzzColumn(f *testing.F) {
 	n := math.NaN()
 	f.Add(0.1, 12e-6, n, 285.0, 90000.0, n, n, n)
 	f.Add(0.05, 9e-6, 8.0, 290.0, 95000.0, 900.0, 0.02, 0.7)
-	f.Add(-1.0, math.Inf(1), math.Inf(-1), 1e300, -1e300, 0.0, -0.0, 2.0)
+	f.Add(-1.0, math.Inf(1), math.Inf(-1), 1e300, -1e300, 0.0, math.Copysign(0, -1), 2.0)
 	f.Add(1e-300, 1e-300, 1e-300, 200.0, 2e4, 2e4, 1e300, 1.0)
 	f.Add(0.3, 29e-6, n, 273.15, 110000.0, 100.0, 0.0, 0.0)
 	m := defaultModel(f) // build the tables once per process, before any input is timed

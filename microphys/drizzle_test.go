@@ -8,7 +8,7 @@ import (
 )
 
 // TestDrizzleRateComstock checks R_CB = 0.37 (LWP/N_d)^1.75 mm/day [Comstock2004] against
-// physics notes §8 (the coefficient and exponent are FROM MEMORY there; values derived from
+// doc/science.md#drizzle-rate (the coefficient and exponent are FROM MEMORY there; values derived from
 // them), tolerance 1e-3.
 func TestDrizzleRateComstock(t *testing.T) {
 	t.Parallel()
@@ -21,7 +21,7 @@ func TestDrizzleRateComstock(t *testing.T) {
 			t.Errorf("R_CB(%g, %g) = %.4g mm/day, want %.4g (from memory)", c.lwp, c.n, v, c.mmday)
 		}
 	}
-	// The mm/h form 0.0156 (LWP/N)^1.75 agrees within 1 % (physics notes §8, from memory).
+	// The mm/h form 0.0156 (LWP/N)^1.75 agrees within 1 % (doc/science.md#drizzle-rate, from memory).
 	if v := DrizzleRate(0.1, 100e6, 0.37, 1.75, 1.75) * 3600; !scalar.EqualWithinRel(v, 0.0156, 0.02) {
 		t.Errorf("R_CB = %.4g mm/h, want about 0.0156", v)
 	}

@@ -8,18 +8,18 @@ import (
 func TestDiffusionTerms(t *testing.T) {
 	t.Parallel()
 	const rel = 5e-4 // check values printed with 4-5 significant figures
-	// physics.md §10 (derived from Rogers & Yau 1989 eq. 7.17 with the §2.3 properties).
+	// doc/science.md#sub-cloud-evaporation (derived from Rogers & Yau 1989 eq. 7.17 with the doc/science.md#air-properties).
 	for _, c := range []struct{ p, T, fk, fd float64 }{
 		{90000, 283.15, 6.4038e9, 4.1805e9},
 		{100000, 273.15, 7.241e9, 9.647e9},
 		{100000, 293.15, 5.681e9, 2.361e9},
 	} {
 		fk, fd := DiffusionTerms(c.p, c.T)
-		check(t, "F_k", fk, c.fk, 0, rel, "physics.md §10 (derived)")
-		check(t, "F_d", fd, c.fd, 0, rel, "physics.md §10 (derived)")
+		check(t, "F_k", fk, c.fk, 0, rel, "doc/science.md#sub-cloud-evaporation (derived)")
+		check(t, "F_d", fd, c.fd, 0, rel, "doc/science.md#sub-cloud-evaporation (derived)")
 	}
 	fk, fd := DiffusionTerms(90000, 283.15)
-	check(t, "1/(F_k+F_d)", 1/(fk+fd), 9.448e-11, 0, rel, "physics.md §10 (derived)")
+	check(t, "1/(F_k+F_d)", 1/(fk+fd), 9.448e-11, 0, rel, "doc/science.md#sub-cloud-evaporation (derived)")
 	if fk, fd := DiffusionTerms(math.NaN(), 280); !math.IsNaN(fk) || !math.IsNaN(fd) {
 		t.Error("DiffusionTerms(NaN, 280) not NaN")
 	}
@@ -27,11 +27,11 @@ func TestDiffusionTerms(t *testing.T) {
 
 func TestVentilationTable(t *testing.T) {
 	t.Parallel()
-	// physics.md §10 ventilation check (derived; Pruppacher & Klett eqs. 13-60, 13-61 with
+	// doc/science.md#sub-cloud-evaporation ventilation check (derived; Pruppacher & Klett eqs. 13-60, 13-61 with
 	// Beard 1976 speeds) at 283.15 K, 900 hPa.
 	a := NewAir(90000, 283.15)
 	dv := VapourDiffusivity(a.P, a.T)
-	check(t, "N_Sc", a.Eta/(a.Rho*dv), 0.626, 0.001, 0, "physics.md §10 (derived)")
+	check(t, "N_Sc", a.Eta/(a.Rho*dv), 0.626, 0.001, 0, "doc/science.md#sub-cloud-evaporation (derived)")
 	for _, c := range []struct{ r, v, re, x, fv float64 }{
 		{10e-6, 0.012, 0.02, 0.107, 1.001},
 		{50e-6, 0.257, 1.61, 1.087, 1.128},
@@ -43,10 +43,10 @@ func TestVentilationTable(t *testing.T) {
 		x := math.Cbrt(a.Eta/(a.Rho*dv)) * math.Sqrt(re)
 		// The sheet prints 3-4 figures and its speeds differ from ours by up to 0.3 % (its
 		// constants are not stated exactly), hence 0.5 % and 0.002.
-		check(t, "V", v, c.v, 0.0005, 0.005, "physics.md §10 (derived)")
-		check(t, "N_Re", re, c.re, 0.005, 0.005, "physics.md §10 (derived)")
-		check(t, "X", x, c.x, 0.001, 0.003, "physics.md §10 (derived)")
-		check(t, "f_v", VentilationCoefficient(c.r, &a), c.fv, 0.002, 0, "physics.md §10 (derived)")
+		check(t, "V", v, c.v, 0.0005, 0.005, "doc/science.md#sub-cloud-evaporation (derived)")
+		check(t, "N_Re", re, c.re, 0.005, 0.005, "doc/science.md#sub-cloud-evaporation (derived)")
+		check(t, "X", x, c.x, 0.001, 0.003, "doc/science.md#sub-cloud-evaporation (derived)")
+		check(t, "f_v", VentilationCoefficient(c.r, &a), c.fv, 0.002, 0, "doc/science.md#sub-cloud-evaporation (derived)")
 	}
 	// The two branches meet at X = 1.4 within 5e-4 (Pruppacher & Klett 13-60/61; derived).
 	if d := math.Abs((1 + 0.108*1.4*1.4) - (0.78 + 0.308*1.4)); d > 5e-4 {
@@ -64,7 +64,7 @@ func TestVentilationTable(t *testing.T) {
 
 func TestEvaporateConstantClosedForms(t *testing.T) {
 	t.Parallel()
-	// Without ventilation, constant T, p, S (physics.md §10, derived): t = r0^2/(2A),
+	// Without ventilation, constant T, p, S (doc/science.md#sub-cloud-evaporation, derived): t = r0^2/(2A),
 	// z = k1 r0^4/(4A) for V = k1 r^2, z = k3 r0^3/(3A) for V = k3 r, A = (1-S)/(F_k+F_d).
 	const T, p, S = 283.15, 90000.0, 0.9
 	a := NewAir(p, T)
@@ -72,18 +72,18 @@ func TestEvaporateConstantClosedForms(t *testing.T) {
 	A := (1 - S) / (fk + fd)
 	for _, r0 := range []float64{10e-6, 25e-6, 50e-6} {
 		e := EvaporateConstant(r0, S, a, lawK1, false, 0)
-		check(t, "lifetime", e.Time, r0*r0/(2*A), 0, closedRel, "physics.md §10 (derived)")
-		check(t, "k1 distance", -e.Z, bowenK1*math.Pow(r0, 4)/(4*A), 0, closedRel, "physics.md §10 (derived)")
+		check(t, "lifetime", e.Time, r0*r0/(2*A), 0, closedRel, "doc/science.md#sub-cloud-evaporation (derived)")
+		check(t, "k1 distance", -e.Z, bowenK1*math.Pow(r0, 4)/(4*A), 0, closedRel, "doc/science.md#sub-cloud-evaporation (derived)")
 		// With V = k3 r the speed has a square-root dependence on the integrated r^2, which the
 		// error estimate underrates near r = 0; RelTol 1e-9 keeps the result within 1e-6.
 		e = EvaporateConstant(r0, S, a, lawK3, false, 1e-9)
-		check(t, "k3 distance", -e.Z, bowenK3*math.Pow(r0, 3)/(3*A), 0, closedRel, "physics.md §10 (derived)")
+		check(t, "k3 distance", -e.Z, bowenK3*math.Pow(r0, 3)/(3*A), 0, closedRel, "doc/science.md#sub-cloud-evaporation (derived)")
 	}
-	// physics.md §10 table (derived): 10 µm: 5.29 s, 3.15 cm; 25 µm: 33.1 s, 1.23 m (k1).
+	// doc/science.md#sub-cloud-evaporation table (derived): 10 µm: 5.29 s, 3.15 cm; 25 µm: 33.1 s, 1.23 m (k1).
 	for _, c := range []struct{ r0, t, z float64 }{{10e-6, 5.29, 0.0315}, {25e-6, 33.1, 1.23}} {
 		e := EvaporateConstant(c.r0, S, a, lawK1, false, 0)
-		check(t, "t_ev table", e.Time, c.t, 0, 3e-3, "physics.md §10 table (derived)")
-		check(t, "z_ev table", -e.Z, c.z, 0, 5e-3, "physics.md §10 table (derived)")
+		check(t, "t_ev table", e.Time, c.t, 0, 3e-3, "doc/science.md#sub-cloud-evaporation table (derived)")
+		check(t, "z_ev table", -e.Z, c.z, 0, 5e-3, "doc/science.md#sub-cloud-evaporation table (derived)")
 	}
 	// Ventilation shortens the life of a drop (f_v >= 1; Pruppacher & Klett 13-60).
 	if v, nv := EvaporateConstant(100e-6, S, a, nil, true, 0), EvaporateConstant(100e-6, S, a, nil, false, 0); !(v.Time < nv.Time) {

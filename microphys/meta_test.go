@@ -14,7 +14,7 @@ import (
 	"testing"
 )
 
-// TestImportRules enforces the rule of direction (DEVELOPERS.md, STYLE.md item 1): microphys
+// TestImportRules enforces the rule of direction (DEVELOPERS.md, layout and the rule of direction): microphys
 // imports no I/O, NetCDF or flags, and depends only on the standard library and gonum.
 func TestImportRules(t *testing.T) {
 	t.Parallel()
@@ -115,7 +115,7 @@ func recvType(fd *ast.FuncDecl) string {
 	return ""
 }
 
-// TestDocCommentLayout checks STYLE.md item 3: every exported function and method has
+// TestDocCommentLayout checks the doc-comment layout of DEVELOPERS.md (conventions): every exported function and method has
 // "Reference:" and "Valid:" in its doc comment.
 func TestDocCommentLayout(t *testing.T) {
 	t.Parallel()
@@ -137,7 +137,7 @@ var (
 	listKey = regexp.MustCompile(`(?m)^\[([A-Z][A-Za-z]*[0-9]{4}[a-z]?)\] \S`)
 )
 
-// TestBibliography checks STYLE.md item 4: references.go holds only comments; every key cited
+// TestBibliography checks the bibliography rule of DEVELOPERS.md (conventions): references.go holds only comments; every key cited
 // in a comment of the package is listed there, and every listed key is cited.
 func TestBibliography(t *testing.T) {
 	t.Parallel()
@@ -188,7 +188,7 @@ func TestBibliography(t *testing.T) {
 }
 
 // dropPhysicsFiles are the files of the drop-physics part whose every exported function must
-// have an Example (STYLE.md item 8).
+// have an Example (DEVELOPERS.md, conventions).
 var dropPhysicsFiles = []string{"air.go", "terminal.go", "collision.go", "coalescence.go", "collector.go", "evaporation.go"}
 
 func TestExamplesExist(t *testing.T) {

@@ -63,7 +63,7 @@ type Params struct {
 	FixedCw float64
 	// ReStar is the drizzle-onset cloud-top effective radius r_e*, m. Default 14 µm
 	// [RosenfeldGutman1994] (from memory); 13 µm and 15 µm are published alternatives
-	// (physics notes §9.1).
+	// (doc/science.md#drizzle-onset).
 	ReStar float64
 	// OnsetWidth is the full width of the r_e range over which the drizzle-onset probability
 	// of a sub-grid column rises linearly from 0 to 1, centred on ReStar, m (Onset). Default

@@ -17,7 +17,7 @@ import (
 // nu = +Inf is the homogeneous cell (a step: 1 if lwp > lwpCrit, else 0); lwp = 0 gives 0.
 //
 // Reference: [Barker1996] (gamma from mean and variance); threshold after
-// [RosenfeldGutman1994] (derived, physics notes §9.3).
+// [RosenfeldGutman1994] (derived, doc/science.md#subgrid-gamma).
 // Valid: lwp >= 0, lwpCrit >= 0, nu > 0 (all not NaN); NaN otherwise.
 func DrizzleProbability(lwp, lwpCrit, nu float64) float64 {
 	if !(lwp >= 0 && lwpCrit >= 0 && nu > 0) || math.IsInf(lwp, 1) {
@@ -86,7 +86,7 @@ const (
 	popZMax   = 6.5   // |z| beyond which Q is 0 or 1 to < 1e-6 for nu >= 1 (measured)
 	popLnStep = 0.125 // node spacing in ln nu
 	popZStep  = 0.05  // node spacing in z
-	popTabTol = 1e-4  // bound on the table's absolute error (issue 2 speed paragraph; tested)
+	popTabTol = 1e-4  // bound on the table's absolute error (doc/science.md#tables; tested)
 )
 
 // newPopTable evaluates the nodes of the drizzle-probability table.

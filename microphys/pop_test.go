@@ -13,7 +13,7 @@ import (
 )
 
 // TestDrizzleProbabilityExact checks POP = Q(nu, nu LWP*/LWP) against the exact values of
-// physics notes §9.3 (derived: Q(1, x) = e^-x, Q(2, x) = (1 + x) e^-x, ...), tolerance 1e-6.
+// doc/science.md#subgrid-gamma (derived: Q(1, x) = e^-x, Q(2, x) = (1 + x) e^-x, ...), tolerance 1e-6.
 func TestDrizzleProbabilityExact(t *testing.T) {
 	t.Parallel()
 	const tol = 1e-6
@@ -67,7 +67,7 @@ func TestDrizzleProbabilityLimits(t *testing.T) {
 			t.Errorf("DrizzleProbability(%v) = %g, want NaN", c, v)
 		}
 	}
-	// Monotone: increasing in LWP; decreasing in N_d through LWP* ∝ N_d^2 (derived, §9.1).
+	// Monotone: increasing in LWP; decreasing in N_d through LWP* ∝ N_d^2 (derived, doc/science.md#drizzle-onset).
 	prev := -1.0
 	for lwp := 0.01; lwp < 0.5; lwp *= 1.2 {
 		v := DrizzleProbability(lwp, crit, 4)

@@ -5,7 +5,7 @@ import "math"
 // Collector/evaporation fast path (CollectorMethod table).
 //
 // Collector table. Along the collector's path, with s = z/H, LWC dz = 2 LWP s ds and
-// r(z) = r_v s^(1/3), so dR/ds = 2 LWP s E(R, r) V/(4 rho_w (V - w)) (physics notes §5) and
+// r(z) = r_v s^(1/3), so dR/ds = 2 LWP s E(R, r) V/(4 rho_w (V - w)) (doc/science.md#collector-drop) and
 // dt = H ds/(w - V): for a fixed updraft w the exit radius and t_exit/H depend on the column
 // only through LWP = Gamma H^2/2, the cloud-top mean-volume radius r_v and the air (fall
 // speeds, coalescence). NewModel integrates CollectDirect once at every node of a regular
@@ -660,7 +660,7 @@ func (g *nGrid) valueAt(x *[nDims]float64) float64 {
 //
 // Both quotients are finite at the boundary and smooth in s (the end of a drop's life is in
 // the Stokes regime, where d(r^4)/dz is finite and has a term in r^2 = (r^4)^(1/2), which
-// makes the dependence on xi analytic in |xi|^(1/2); derived from physics notes §10); the
+// makes the dependence on xi analytic in |xi|^(1/2); derived from doc/science.md#sub-cloud-evaporation); the
 // node at s = 0 is their linear extrapolation from the first two nodes. The threshold table
 // holds ln r* on (ln z_b, T_b, ln(1 - RH_s), p_s); ln(1 - RH_s) keeps ln r* nearly linear as
 // RH_s -> 1 (r*^4 ∝ 1 - RH_s for Stokes drops, derived). Within evXiBand of the boundary, and

@@ -7,11 +7,11 @@ import (
 )
 
 // tableTol is the largest error allowed for any table result against direct integration:
-// 0.5 % (issue 2 speed requirement; common practice for a tabulated fast path).
+// 0.5 % (doc/science.md#tables; common practice for a tabulated fast path).
 const tableTol = 5e-3
 
 // marineScSample draws n columns typical of marine stratocumulus [Wood2012] (ranges from
-// memory, physics notes §6.4: LWP 40-200 g m-2, r_e 9-15 µm, T_top 280-290 K, p_top 850-950
+// memory, doc/science.md#typical-stratocumulus: LWP 40-200 g m-2, r_e 9-15 µm, T_top 280-290 K, p_top 850-950
 // hPa; widened here): LWP 20-400 g m-2, r_e 6-20 µm, CTT 276-295 K, CTP 840-980 hPa. withCTH adds a cloud-top height and a surface humidity to half the columns.
 // Invented data: a test sample, not observations.
 func marineScSample(n int, seed uint64, withCTH bool) []Inputs {
@@ -174,7 +174,7 @@ func checkTableErrors(t *testing.T, e tableErrors, minN, evapDiv int) {
 	}
 	// End to end, the surface radius also carries the collector table's error, amplified near
 	// the reach/evaporate boundary by d r_s/d r0 = (r0/r_s)^3 (r_s^4 = r0^4 - const for a
-	// Stokes drop, derived from physics notes §10); bound it at 4 x tableTol.
+	// Stokes drop, derived from doc/science.md#sub-cloud-evaporation); bound it at 4 x tableTol.
 	if e.surf > 4*tableTol {
 		t.Errorf("end-to-end surface radius error %.3g > %.3g", e.surf, 4*tableTol)
 	}

@@ -22,7 +22,7 @@ func impliedNd(tau, reUm float64) float64 {
 type regionStats struct {
 	cells, cloudy     int
 	lwp, lwp2, re, nd float64
-	cf, ctt, minTau   float64
+	cf, minTau        float64
 	minCTT, maxCTT    float64
 	reMin, reMax      float64
 	lwpMin, lwpMax    float64

@@ -108,7 +108,7 @@ func (w *ncw) gattrs(kv ...string) {
 // floatVar is one float32 data variable of the file.
 type floatVar struct {
 	name, stdName, longName, units, comment string
-	cellMethods, ancillary, coords          string
+	cellMethods, coords                     string
 	vmin, vmax                              float32
 	data                                    []float64
 	extra                                   []string // more name, value pairs

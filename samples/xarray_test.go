@@ -67,7 +67,7 @@ json.dump(out, sys.stdout)
 		t.Fatal(err)
 	}
 	if got.LWPDtype != "float32" || got.Units != "g m-2" {
-		t.Errorf("lwp decoded as %s in %q, want float32 in g m-2 (cf.md §2.4)", got.LWPDtype, got.Units)
+		t.Errorf("lwp decoded as %s in %q, want float32 in g m-2 (doc/netcdf.md#packing)", got.LWPDtype, got.Units)
 	}
 	wantTimes := []string{"2026-09-21T12:00:00", "2026-09-22T12:00:00", "2026-09-23T12:00:00"}
 	for i, w := range wantTimes {

@@ -21,7 +21,11 @@ Data go to stdout or files; messages go to stderr.
 	file:///data/day1.zarr#mode=nczarr,file) and writes them as CF variables.
 
 	INPUT may be a file, a glob pattern ('data/*.nc', quoted) or @LIST, a file
-	holding one input per line. With one input, OUTPUT is the output file; with
+	holding one input per line. Several files of one scene joined with +
+	(lwp.nc+reff.nc, one variable per file) are one input: roles are searched
+	across them, their grids must match, and the output is named by the first.
+	HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
+	variable in a group by its path (--bind lwp=/geophysical_data/NAME). With one input, OUTPUT is the output file; with
 	several (or when OUTPUT is an existing folder) OUTPUT is a folder and each
 	output is named by --name. Outputs appear whole or not at all: each is written
 	to a temporary file in the target folder and renamed when complete.
@@ -136,7 +140,8 @@ Data go to stdout or files; messages go to stderr.
 	Usage:
 	  warmrain inspect FILE [--bind ROLE=VAR[:UNITS]]... [--json]
 
-	Shows what warmrain finds in an input file (a netCDF file or an NCZarr URL):
+	Shows what warmrain finds in an input file (a netCDF file, an HDF4 file, an
+	NCZarr URL, or several files of one scene joined with +, as in lwp.nc+reff.nc):
 	its format and layout (dimensions, spatial and leading dimensions, latitude
 	and longitude, grid mapping, chunking and compression); for each input role
 	the variable taken and why, its units and the conversion to the units used in
@@ -146,6 +151,8 @@ Data go to stdout or files; messages go to stderr.
 	for the others. It reads every value of the bound variables once.
 
 	Roles: lwp, re (required), tau, ctt, ctp, cth, cloud_fraction, lwp_sd.
+	Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
+	HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
 	Example:
 	  warmrain inspect samples/data/stratocumulus_demo.nc

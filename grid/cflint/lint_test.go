@@ -82,7 +82,7 @@ func TestTable(t *testing.T) {
 	if tab.Version != "83" {
 		t.Errorf("table version %q, want 83", tab.Version)
 	}
-	// Values from the v83 table itself (cf.md §1 lists them).
+	// Values from the v83 table itself (doc/netcdf.md#standard-names lists them).
 	for name, want := range map[string]string{
 		"atmosphere_mass_content_of_cloud_liquid_water": "kg m-2",
 		"atmosphere_cloud_liquid_water_content":         "kg m-2", // alias
@@ -95,7 +95,7 @@ func TestTable(t *testing.T) {
 		}
 	}
 	if _, ok := tab.Lookup("cloud_base_height"); ok {
-		t.Error("cloud_base_height should not be in v83 (cf.md §1)")
+		t.Error("cloud_base_height should not be in v83 (doc/netcdf.md#standard-names)")
 	}
 }
 

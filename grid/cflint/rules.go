@@ -64,7 +64,7 @@ var Rules = []Rule{
 	{RuleModifier, Error, "CF §3.3, Appendix C", `a second word of standard_name is one of the modifiers standard_error, detection_minimum, number_of_observations, status_flag; no further words`},
 	{RuleCanonical, Error, "CF §3.1, §3.3", `units convert to the standard name's canonical units (missing units count as "1"); standard_error and detection_minimum keep the parent's units`},
 	{RuleUnitsParse, Error, "CF §3.1, UDUNITS-2", `every "units" attribute is text that UDUNITS-2 parses`},
-	{RuleUnitsMb, Error, "cf.md §2.9 (UDUNITS reads mb as millibarn)", `"mb" is not used as a unit (write hPa or mbar)`},
+	{RuleUnitsMb, Error, "doc/netcdf.md#units (UDUNITS reads mb as millibarn)", `"mb" is not used as a unit (write hPa or mbar)`},
 	{RuleTimeUnits, Error, "CF §4.4", `a time variable (standard_name time, axis T, or units with "since") has units "<unit> since <date>[ <time>[ <zone>]]" with a unit of time`},
 	{RuleAttrType, Error, "CF §2.5.1, §3.5, §8.1; NUG", `_FillValue, missing_value, valid_min, valid_max, valid_range, flag_values and flag_masks are numeric, of the variable's type; _FillValue has one value`},
 	{RuleTextAttr, Error, "CF §2.5.2, §3", `units, standard_name, long_name, coordinates, ancillary_variables, bounds, grid_mapping, cell_methods and flag_meanings are text`},

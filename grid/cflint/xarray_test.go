@@ -25,7 +25,7 @@ func pythonXarray(t *testing.T) string {
 }
 
 // xarrayScript writes a small file with xarray's h5netcdf engine, which
-// stores every text attribute as NC_STRING (cf.md §4).
+// stores every text attribute as NC_STRING (doc/netcdf.md#go-netcdf).
 const xarrayScript = `
 import sys, warnings
 warnings.simplefilter("ignore")

@@ -34,12 +34,6 @@ Example:
   warmrain column --lwp 120 --re 14 --ctt 284 --ctp 880 --cth 1200 --updraft 0.5 --json
 `
 
-// columnFlags are the inputs of one column, in the units people use.
-type columnFlags struct {
-	lwp, re, tau, ctt, ctp, cth, lwpSD, rhs float64
-	json                                    bool
-}
-
 // columnInputNames are the input flags: name, units on the command line, scale to SI.
 var columnInputs = []struct {
 	flag, units string

@@ -16,7 +16,8 @@ import (
 const inspectUsage = `Usage:
   warmrain inspect FILE [--bind ROLE=VAR[:UNITS]]... [--json]
 
-Shows what warmrain finds in an input file (a netCDF file or an NCZarr URL):
+Shows what warmrain finds in an input file (a netCDF file, an HDF4 file, an
+NCZarr URL, or several files of one scene joined with +, as in lwp.nc+reff.nc):
 its format and layout (dimensions, spatial and leading dimensions, latitude
 and longitude, grid mapping, chunking and compression); for each input role
 the variable taken and why, its units and the conversion to the units used in
@@ -26,6 +27,8 @@ computed, which of them use defaults for absent inputs, and what is missing
 for the others. It reads every value of the bound variables once.
 
 Roles: lwp, re (required), tau, ctt, ctp, cth, cloud_fraction, lwp_sd.
+Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
+HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
 Example:
   warmrain inspect samples/data/stratocumulus_demo.nc
@@ -35,6 +38,7 @@ Example:
 // inspectReport is what inspect prints; the JSON form is this struct.
 type inspectReport struct {
 	File        string         `json:"file"`
+	Files       []string       `json:"files,omitempty"` // the files of a scene joined with +
 	Format      string         `json:"format"`
 	Layout      *layoutReport  `json:"layout,omitempty"`
 	Roles       []roleReport   `json:"roles"`
@@ -81,6 +85,7 @@ type roleReport struct {
 	Required     bool         `json:"required"`
 	Found        bool         `json:"found"`
 	Variable     string       `json:"variable,omitempty"`
+	InFile       string       `json:"in_file,omitempty"` // which file of a scene joined with + holds it
 	StandardName string       `json:"standard_name,omitempty"`
 	Reason       string       `json:"reason,omitempty"`
 	UnitsGiven   string       `json:"units_given,omitempty"`
@@ -188,6 +193,9 @@ func inspectFile(path string, ovs []grid.Override) (*inspectReport, error) {
 	}
 	defer in.Close()
 	rep := &inspectReport{File: path, Format: string(in.Format)}
+	if len(in.Info.Files) > 1 {
+		rep.Files = in.Info.Files
+	}
 	L := in.Layout
 	lr := &layoutReport{Y: L.Y.Name, X: L.X.Name, Leading: []string{}, Columns: L.Columns, Lat: L.Lat, Lon: L.Lon,
 		LatLon2D: L.LatLon2D, LatDescending: L.LatDescending, GridMapping: L.GridMapping, Coords: L.Coords}
@@ -219,6 +227,9 @@ func inspectFile(path string, ovs []grid.Override) (*inspectReport, error) {
 		}
 		rr.Found = true
 		rr.Variable, rr.StandardName, rr.Reason = b.Var, b.StandardName, b.Reason
+		if len(rep.Files) > 1 {
+			rr.InFile = b.File
+		}
 		rr.UnitsGiven, rr.UnitsFrom, rr.Conversion = b.UnitsGiven, b.UnitsFrom, b.Conv.String()
 		rr.Type, rr.Packing, rr.Chunks, rr.Deflate = b.Type.String(), b.Packing, b.Chunks, b.Deflate
 		if s, ok := byRole[rule.Role]; ok {
@@ -375,6 +386,9 @@ func orNone(s string) string {
 func (r *inspectReport) writeText(w io.Writer) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 1, ' ', 0)
 	fmt.Fprintf(tw, "file:\t%s\n", r.File)
+	if len(r.Files) > 1 {
+		fmt.Fprintf(tw, "files:\t%s (one scene)\n", strings.Join(r.Files, ", "))
+	}
 	fmt.Fprintf(tw, "format:\t%s\n", r.Format)
 	if r.Problem != "" {
 		fmt.Fprintf(tw, "problem:\t%s\n", r.Problem)
@@ -438,6 +452,9 @@ func (r *inspectReport) writeText(w io.Writer) error {
 			continue
 		}
 		fmt.Fprintf(tw, "    variable:\t%s\n", rr.Variable)
+		if rr.InFile != "" {
+			fmt.Fprintf(tw, "    in file:\t%s\n", rr.InFile)
+		}
 		fmt.Fprintf(tw, "    why:\t%s\n", rr.Reason)
 		fmt.Fprintf(tw, "    units:\t%q (%s) -> %s, conversion %s\n", rr.UnitsGiven, rr.UnitsFrom, rr.Canonical, rr.Conversion)
 		fmt.Fprintf(tw, "    decoding:\t%s\n", rr.Packing)

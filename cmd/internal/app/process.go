@@ -34,7 +34,11 @@ netCDF-3 or netCDF-4 file, or an NCZarr store URL such as
 file:///data/day1.zarr#mode=nczarr,file) and writes them as CF variables.
 
 INPUT may be a file, a glob pattern ('data/*.nc', quoted) or @LIST, a file
-holding one input per line. With one input, OUTPUT is the output file; with
+holding one input per line. Several files of one scene joined with +
+(lwp.nc+reff.nc, one variable per file) are one input: roles are searched
+across them, their grids must match, and the output is named by the first.
+HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
+variable in a group by its path (--bind lwp=/geophysical_data/NAME). With one input, OUTPUT is the output file; with
 several (or when OUTPUT is an existing folder) OUTPUT is a folder and each
 output is named by --name. Outputs appear whole or not at all: each is written
 to a temporary file in the target folder and renamed when complete.
@@ -321,6 +325,9 @@ func (j *processJob) report(r batch.Record) {
 	if j.o.quiet {
 		return
 	}
+	if len(r.Inputs) > 1 {
+		r.Input = strings.Join(r.Inputs, "+")
+	}
 	switch r.Status {
 	case "done":
 		fmt.Fprintf(j.e.stderr, "warmrain: %s -> %s: %d columns, %.1f %% screened, %.2f s\n",
@@ -371,6 +378,9 @@ func (j *processJob) complete(out string, id batch.Identity) (complete, ours boo
 func (j *processJob) one(ctx context.Context, input, output string, progress bool) batch.Record {
 	t0 := time.Now()
 	rec := batch.Record{Input: input, Output: output, Shard: j.shardName}
+	if parts := batch.SceneParts(input); len(parts) > 1 { // a scene joined with +: its first file, and all
+		rec.Input, rec.Inputs = parts[0], parts
+	}
 	finish := func(status string, err error) batch.Record {
 		rec.Status = status
 		rec.Time = time.Now().UTC().Format(time.RFC3339)

@@ -103,7 +103,7 @@ func TestProcessSampleEqualsMicrophys(t *testing.T) {
 			t.Fatalf("column %d: QC %d in file, %d direct (%v)", i, int(qcFile[i]), o.QC, microphys.QCNames(o.QC))
 		}
 		for _, d := range defs {
-			want := math.NaN()
+			var want float64
 			if d.get != nil {
 				want = d.get(&o) * d.scale
 			} else {

@@ -1,6 +1,6 @@
 package app
 
-// Reliability of `warmrain process` against bad inputs (issue 8): every bad
+// Reliability of `warmrain process` against bad inputs: every bad
 // file gives exit code 1 and one message naming the file, the variable and what
 // was expected, never a panic, never an output or a temporary file; bad values
 // give an output whose affected columns are fill with the right QC bits.

@@ -10,6 +10,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -370,9 +371,10 @@ func (p *procFile) bind() error {
 	if fi.Var(surfVarName) != nil {
 		p.surf = surfVarName
 	}
-	// Every float diagnostic on the grid is mapped.
+	// Every float diagnostic on the grid is mapped (not the 2-D coordinates of a swath).
+	coords := strings.Fields(nd.Text("coordinates"))
 	for _, v := range fi.Vars {
-		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.dims) {
+		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.dims) || slices.Contains(coords, v.Name) {
 			continue
 		}
 		vi, err := p.siVar(&v)

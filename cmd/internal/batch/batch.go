@@ -23,7 +23,9 @@ import (
 // expanded (sorted; no match is an error), and "@FILE" reads one input per
 // line from FILE (blank lines and lines starting with # are skipped; relative
 // paths are relative to the list file's folder). Duplicates are removed, the
-// first occurrence kept. The order is the order given.
+// first occurrence kept. The order is the order given. An input may be a
+// scene of several files joined with "+" (see SceneParts), in arguments and
+// in list lines alike.
 func ExpandInputs(args []string) ([]string, error) {
 	var out []string
 	seen := map[string]bool{}
@@ -83,10 +85,16 @@ func readList(path string) ([]string, error) {
 		if line == "" || strings.HasPrefix(line, "#") {
 			continue
 		}
-		if !isURL(line) && !filepath.IsAbs(line) {
-			line = filepath.Join(dir, line)
+		parts := []string{line}
+		if strings.Contains(line, "+") && !exists(filepath.Join(dir, line)) && !exists(line) {
+			parts = strings.Split(line, "+")
 		}
-		out = append(out, line)
+		for i, p := range parts {
+			if !isURL(p) && !filepath.IsAbs(p) {
+				parts[i] = filepath.Join(dir, p)
+			}
+		}
+		out = append(out, strings.Join(parts, "+"))
 	}
 	if err := sc.Err(); err != nil {
 		return nil, fmt.Errorf("input list %s: %w", path, err)
@@ -95,6 +103,26 @@ func readList(path string) ([]string, error) {
 }
 
 func isURL(s string) bool { return strings.Contains(s, "://") }
+
+func exists(p string) bool { _, err := os.Stat(p); return err == nil }
+
+// SceneParts splits an input into the files of its scene: an input that
+// exists (or a URL) is one file; otherwise, when every part of it split at
+// "+" exists, those parts ("lwp.nc+re.nc": one scene, one variable per file,
+// as CMIP/CFMIP model output and some level-2 products are written). The
+// first part names the scene's output; every part counts in its identity.
+func SceneParts(input string) []string {
+	if isURL(input) || !strings.Contains(input, "+") || exists(input) {
+		return []string{input}
+	}
+	parts := strings.Split(input, "+")
+	for _, p := range parts {
+		if p == "" || (!isURL(p) && !exists(p)) {
+			return []string{input}
+		}
+	}
+	return parts
+}
 
 // LocalPath returns the file-system path behind an input: the path itself, or
 // the path of a file:// URL without its fragment (NCZarr stores).
@@ -119,6 +147,7 @@ const DefaultPattern = "{stem}_warmrain.nc"
 // name without its last extension), {name} (file name), {parent} (name of the
 // input's folder), {index} (position in the full input list, from 0).
 func OutputName(pattern, input string, index int) (string, error) {
+	input = SceneParts(input)[0] // a scene is named by its first file
 	p := LocalPath(input)
 	if p == "" {
 		p = input
@@ -145,10 +174,12 @@ func PlanOutputs(inputs []string, dir, pattern string) ([]string, error) {
 	outs := make([]string, len(inputs))
 	byOut := map[string]int{}
 	ins := map[string]bool{}
-	for _, in := range inputs {
-		if lp := LocalPath(in); lp != "" {
-			if a, err := filepath.Abs(lp); err == nil {
-				ins[a] = true
+	for _, scene := range inputs {
+		for _, in := range SceneParts(scene) {
+			if lp := LocalPath(in); lp != "" {
+				if a, err := filepath.Abs(lp); err == nil {
+					ins[a] = true
+				}
 			}
 		}
 	}
@@ -277,6 +308,10 @@ type Record struct {
 	Seconds          float64 `json:"seconds"`
 	Shard            string  `json:"shard,omitempty"`
 	Error            string  `json:"error,omitempty"`
+
+	// Inputs lists every file of a scene joined with + (Input is then the
+	// first of them); absent for a single file.
+	Inputs []string `json:"inputs,omitempty"`
 }
 
 // Manifest appends records to a JSON-lines file, one write per record so
@@ -339,12 +374,34 @@ type Identity struct {
 	Size    int64  `json:"size"`
 	ModTime string `json:"mtime"`
 	SHA256  string `json:"sha256,omitempty"`
+	// Files holds the identity of every file of a scene joined with + (the
+	// fields above are then the first file's).
+	Files []Identity `json:"files,omitempty"`
 }
 
 // InputIdentity returns the identity of an input: its absolute path, size and
 // modification time (for a directory store: the sum of its files' sizes and
-// their latest time), plus the SHA-256 of its bytes when checksum is set.
+// their latest time), plus the SHA-256 of its bytes when checksum is set. A
+// scene joined with + has the identity of its first file and records the
+// identity of every file in Files.
 func InputIdentity(input string, checksum bool) (Identity, error) {
+	parts := SceneParts(input)
+	if len(parts) == 1 {
+		return fileIdentity(input, checksum)
+	}
+	var id Identity
+	for _, p := range parts {
+		f, err := fileIdentity(p, checksum)
+		if err != nil {
+			return Identity{}, err
+		}
+		id.Files = append(id.Files, f)
+	}
+	id.Path, id.Size, id.ModTime, id.SHA256 = id.Files[0].Path, id.Files[0].Size, id.Files[0].ModTime, id.Files[0].SHA256
+	return id, nil
+}
+
+func fileIdentity(input string, checksum bool) (Identity, error) {
 	p := LocalPath(input)
 	if p == "" {
 		return Identity{Path: input}, nil
@@ -421,6 +478,18 @@ func (id Identity) Matches(stored string) bool {
 	var s Identity
 	if json.Unmarshal([]byte(stored), &s) != nil {
 		return false
+	}
+	return id.matches(s)
+}
+
+func (id Identity) matches(s Identity) bool {
+	if len(id.Files) != len(s.Files) {
+		return false
+	}
+	for i := range id.Files {
+		if !id.Files[i].matches(s.Files[i]) {
+			return false
+		}
 	}
 	if id.SHA256 != "" && s.SHA256 != "" {
 		return id.SHA256 == s.SHA256

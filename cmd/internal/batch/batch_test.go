@@ -199,3 +199,51 @@ func TestIdentity(t *testing.T) {
 		t.Fatal("digest ignores values")
 	}
 }
+
+// TestScenes: an input of several files joined with + (one variable per file)
+// is one input in arguments and list files, is named by its first file, may
+// not be written over by any of its files, and is identified by all of them.
+func TestScenes(t *testing.T) {
+	d := t.TempDir()
+	for _, n := range []string{"lwp_201901.nc", "reff_201901.nc", "odd+name.nc"} {
+		touch(t, filepath.Join(d, n), "x")
+	}
+	lwp, re := filepath.Join(d, "lwp_201901.nc"), filepath.Join(d, "reff_201901.nc")
+	if got := SceneParts(lwp + "+" + re); fmt.Sprint(got) != fmt.Sprint([]string{lwp, re}) {
+		t.Fatalf("SceneParts = %q", got)
+	}
+	odd := filepath.Join(d, "odd+name.nc") // an existing file with + in its name is one file
+	if got := SceneParts(odd); len(got) != 1 {
+		t.Fatalf("SceneParts(%s) = %q", odd, got)
+	}
+	if got := SceneParts(lwp + "+" + filepath.Join(d, "nope.nc")); len(got) != 1 {
+		t.Fatalf("a scene with a missing part split: %q", got)
+	}
+	list := filepath.Join(d, "scenes.txt")
+	touch(t, list, "lwp_201901.nc+reff_201901.nc\nodd+name.nc\n")
+	got, err := ExpandInputs([]string{"@" + list, lwp + "+" + re})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := []string{lwp + "+" + re, odd}; fmt.Sprint(got) != fmt.Sprint(want) {
+		t.Fatalf("got %q\nwant %q", got, want)
+	}
+	if n, err := OutputName(DefaultPattern, lwp+"+"+re, 0); err != nil || n != "lwp_201901_warmrain.nc" {
+		t.Fatalf("scene output name %q, %v", n, err)
+	}
+	if _, err := PlanOutputs([]string{lwp + "+" + re}, d, "reff_201901.nc"); err == nil || !strings.Contains(err.Error(), "itself an input") {
+		t.Fatalf("output over the second file of a scene: %v", err)
+	}
+	id, err := InputIdentity(lwp+"+"+re, false)
+	if err != nil || len(id.Files) != 2 || id.Path != lwp || !id.Matches(id.String()) {
+		t.Fatalf("identity %+v, %v", id, err)
+	}
+	later := time.Now().Add(time.Hour)
+	os.Chtimes(re, later, later)
+	if id2, _ := InputIdentity(lwp+"+"+re, false); id2.Matches(id.String()) {
+		t.Fatal("a changed second file still matches")
+	}
+	if one, _ := InputIdentity(lwp, false); one.Matches(id.String()) || id.Matches(one.String()) {
+		t.Fatal("the first file alone matches the scene")
+	}
+}

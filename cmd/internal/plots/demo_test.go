@@ -119,7 +119,7 @@ func TestDemoPictures(t *testing.T) {
 
 // demoResult summarises invented columns: LWP and N_d log-uniform, a column drizzles
 // with probability POP = min(1, 0.1 (LWP/100 g m-2)^1.2 (N_d/100 cm-3)^-0.6), and then
-// has the Comstock et al. (2004) rate (physics.md §8, from memory).
+// has the Comstock et al. (2004) rate (doc/science.md#drizzle-rate, from memory).
 func demoResult(t *testing.T, boot int) *summary.Result {
 	t.Helper()
 	const n = 200000

@@ -83,7 +83,8 @@ func LogEdges(lo, hi float64, n int) []float64 {
 }
 
 // DefaultLWPEdges returns the default LWP bins: 10 logarithmic bins from 20 to 500 g m-2
-// (in kg m-2), the range of marine stratocumulus and drizzle onset (physics.md §6.4, §9.1).
+// (in kg m-2), the range of marine stratocumulus and drizzle onset (doc/science.md#typical-stratocumulus,
+// doc/science.md#drizzle-onset).
 func DefaultLWPEdges() []float64 { return LogEdges(0.020, 0.500, 10) }
 
 // DefaultNdEdges returns the default N_d bins: 10 logarithmic bins from 10 to 1000 cm-3

@@ -40,11 +40,11 @@
 //
 //	S_X = -d ln X / d ln N_d
 //
-// computed over a region, not per pixel (recommended practice [from memory]). For each
-// LWP bin i we take the N_d bins j with at least Options.MinCount columns, at least
-// Options.MinDrizzling drizzling columns expected (the sum of the columns' POP; a bin of
-// model columns can have a POP of 1e-40, which no sample could observe) and a positive
-// mean, and fit by weighted least squares
+// computed over a region, not per pixel (doc/science.md#probability-and-susceptibility,
+// recommended practice [from memory]). For each LWP bin i we take the N_d bins j with at
+// least Options.MinCount columns, at least Options.MinDrizzling drizzling columns expected
+// (the sum of the columns' POP; a bin of model columns can have a POP of 1e-40, which no
+// sample could observe) and a positive mean, and fit by weighted least squares
 //
 //	ln X̄_ij = a_i - S_i ln N_c,j ,   weights w_j = n_ij
 //

@@ -30,7 +30,7 @@ func flatScene(n int) Scene {
 // the answers):
 //
 //	POP = a (LWP / 100 g m-2)^b (N_d / 100 cm-3)^-s
-//	I   = 0.37 (LWP[g m-2] / N_d[cm-3])^1.75 mm day-1   (Comstock et al. 2004 form, physics.md §8 [from memory])
+//	I   = 0.37 (LWP[g m-2] / N_d[cm-3])^1.75 mm day-1   (Comstock et al. 2004 form, doc/science.md#drizzle-rate [from memory])
 //
 // Each column precipitates (POP indicator = 1, rate = I) with probability POP, else
 // POP = 0 and rate = 0. LWP and N_d are drawn independently and log-uniformly, so the bin
