@@ -18,7 +18,16 @@ import (
 //  3. unpack: x*scale_factor + add_offset (either may be absent);
 //  4. convert the units once: y = Factor*x + Offset.
 //
-// Steps 3 and 4 are folded into one multiply-add. Comparisons are made on the
+// Steps 3 and 4 are folded into one multiply-add. A packed value that lands within
+// 1e-4 of a packing step (plus 1e-6 of add_offset) of zero is the packed zero,
+// made exactly 0: a stored value whose scale_factor and add_offset cancel leaves a
+// rounding residue (about 1e-9 with float32 attributes), which is not a negative
+// LWP.
+//
+// A data variable whose flag_values mark codes (CF §3.5; rain, sea ice, land, no
+// retrieval), when the decoder screens flags (Binding decoders of quantities do),
+// has those stored values decoded as the flag's NaN (FlagNaN), before any other
+// test: they are never values, and FlagIndex tells which meaning the column had. Comparisons are made on the
 // stored values converted to float64, exact for every integer up to 2^53.
 // Infinite stored values are kept (physics screens them).
 //
@@ -40,8 +49,13 @@ type Decoder struct {
 	Packed        bool
 	Scale, Offset float64
 	Conv          Converter
+	// FlagCodes are the stored codes of the variable's flag_values screened as
+	// FlagNaN(k), k their index; FlagMeanings the words of flag_meanings.
+	FlagCodes    []float64
+	FlagMeanings []string
 
-	a, b float64 // folded Scale/Offset and Conv
+	a, b    float64 // folded Scale/Offset and Conv
+	zeroTol float64 // |unpacked| below it is the packed zero (0 when not packed with an offset)
 
 	// HDF4Cal: the variable is an HDF4 SD data set whose scale_factor and
 	// add_offset were written by SDsetcal, meaning value = scale_factor *
@@ -50,6 +64,46 @@ type Decoder struct {
 	// is then -scale_factor * add_offset, so that x*Scale + Offset still holds.
 	HDF4Cal   bool
 	CalOffset float64
+}
+
+// flagNaNBase is the bit pattern of the NaNs that carry a flag index in their low
+// 16 bits (a quiet NaN with a marker no arithmetic produces).
+const flagNaNBase = 0x7ff8_f1a6_0000_0000
+
+// FlagNaN returns the NaN that marks flag code k (0 <= k < 65536) of a variable.
+// It is a NaN like any missing value; copying keeps its bits.
+func FlagNaN(k int) float64 { return math.Float64frombits(flagNaNBase | uint64(k&0xffff)) }
+
+// FlagIndex reports whether x is a FlagNaN and which index it carries.
+func FlagIndex(x float64) (k int, ok bool) {
+	b := math.Float64bits(x)
+	if b&^0xffff != flagNaNBase {
+		return 0, false
+	}
+	return int(b & 0xffff), true
+}
+
+// screenFlags makes d decode the codes of v's flag_values as FlagNaN (see
+// Decoder). It needs flag_meanings with one word per code; otherwise it leaves d
+// as it is and says why in note.
+func (d *Decoder) screenFlags(file string, v *VarInfo) (note string, err error) {
+	fv, ok := v.Attr("flag_values")
+	if !ok {
+		return "", nil
+	}
+	if !fv.Type.Numeric() {
+		return "", varErr(ErrDecode, file, v.Name, "flag_values has type %s; expected numbers of the variable's type %s (CF 3.5)", fv.Type, v.Type)
+	}
+	codes := fv.Float64s()
+	if d.Unsigned && fv.Type.Integer() && fv.Type.Size() == v.Type.Size() {
+		codes = toFloat64s(reinterpretUnsigned(fv.Value))
+	}
+	words := strings.Fields(v.Text("flag_meanings"))
+	if len(words) != len(codes) {
+		return fmt.Sprintf("flag_values %v not screened: flag_meanings has %d words for %d codes", codes, len(words), len(codes)), nil
+	}
+	d.FlagCodes, d.FlagMeanings = codes, words
+	return "", nil
 }
 
 // NewDecoder builds the decoder of variable v of file from its attributes, with
@@ -176,6 +230,11 @@ func NewDecoder(file string, v *VarInfo, conv Converter) (*Decoder, error) {
 	}
 	d.a = d.Scale * conv.Factor
 	d.b = d.Offset*conv.Factor + conv.Offset
+	if d.Packed && d.Offset != 0 {
+		// Well below a packing step, above the rounding of float32 attributes
+		// (2^-24 relative to the offset) and of the float64 multiply-add.
+		d.zeroTol = 1e-4*math.Abs(d.Scale) + 1e-6*math.Abs(d.Offset)
+	}
 	return d, nil
 }
 
@@ -260,6 +319,16 @@ func (d *Decoder) Describe() string {
 	case d.Packed:
 		parts = append(parts, fmt.Sprintf("unpacked as x*%g%+g", d.Scale, d.Offset))
 	}
+	if d.zeroTol > 0 {
+		parts = append(parts, "the packed zero decodes to exactly 0")
+	}
+	if len(d.FlagCodes) > 0 {
+		f := make([]string, len(d.FlagCodes))
+		for i, c := range d.FlagCodes {
+			f[i] = fmt.Sprintf("%g=%s", c, d.FlagMeanings[i])
+		}
+		parts = append(parts, "flag codes screened (not values): "+strings.Join(f, ", "))
+	}
 	return strings.Join(parts, "; ")
 }
 
@@ -316,6 +385,13 @@ func decodeT[T number](d *Decoder, dst []float64, src []T) {
 	if d.HasMax {
 		hi = d.Max
 	}
+	if len(d.FlagCodes) > 0 {
+		decodeSlow(d, dst, src, lo, hi)
+		return
+	}
+	if d.zeroTol > 0 {
+		defer d.packedZero(dst)
+	}
 	if !packedRange {
 		// Test after unpacking (before the unit conversion).
 		for i, x := range src {
@@ -348,6 +424,53 @@ func decodeT[T number](d *Decoder, dst []float64, src []T) {
 		v := float64(x)
 		if v != v || (hasFill && v == fill) || v < lo || v > hi || isMissing(v, d.Missing) {
 			dst[i] = nan
+			continue
+		}
+		dst[i] = v*a + b
+	}
+}
+
+// packedZero makes the decoded packed zero exactly the conversion of 0: a value
+// within zeroTol of zero before the conversion is within zeroTol*|Factor| of
+// Conv.Offset after it.
+func (d *Decoder) packedZero(dst []float64) {
+	z, tol := d.Conv.Offset, d.zeroTol*math.Abs(d.Conv.Factor)
+	for i, x := range dst {
+		if math.Abs(x-z) < tol {
+			dst[i] = z
+		}
+	}
+}
+
+// decodeSlow is decodeT with flag codes (and the packed zero): every test in one
+// loop (the common variables without codes take the loops above).
+func decodeSlow[T number](d *Decoder, dst []float64, src []T, lo, hi float64) {
+	nan := math.NaN()
+	a, b := d.a, d.b
+next:
+	for i, x := range src {
+		v := float64(x)
+		for k, c := range d.FlagCodes {
+			if v == c {
+				dst[i] = FlagNaN(k)
+				continue next
+			}
+		}
+		if v != v || (d.HasFill && v == d.Fill) || isMissing(v, d.Missing) {
+			dst[i] = nan
+			continue
+		}
+		u := v*d.Scale + d.Offset
+		t := v
+		if d.ValidUnpacked {
+			t = u
+		}
+		if t < lo || t > hi {
+			dst[i] = nan
+			continue
+		}
+		if d.zeroTol > 0 && math.Abs(u) < d.zeroTol {
+			dst[i] = d.Conv.Offset // the unit conversion of 0
 			continue
 		}
 		dst[i] = v*a + b

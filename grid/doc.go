@@ -31,14 +31,32 @@
 // # Inputs and roles
 //
 // Open(path, OpenOptions) opens a netCDF-3, netCDF-4/HDF5 file or an NCZarr store
-// (file:///abs/store#mode=nczarr,file) and binds each input Role (lwp and re
-// required; tau, ctt, ctp, cth, cloud_fraction, lwp_sd optional) to a variable,
-// using the rule table RoleRules (data, not code), in this order:
+// (file:///abs/store#mode=nczarr,file) and binds each input Role (lwp and re,
+// unless the run can derive them: LWP from tau and r_e, r_e from LWP and a
+// droplet number; tau, ctt, ctp, cth, cloud_fraction, lwp_sd, nd, phase and
+// multilayer optional) to a variable, using the rule table RoleRules (data, not
+// code), in this order:
 //
 //  1. an explicit Override "ROLE=VARNAME" or "ROLE=VARNAME:UNITS" (ParseOverride);
 //  2. the CF standard_name (table v83, aliases included; a standard name with a
 //     modifier such as "standard_error" never binds a main role);
-//  3. a common variable name (case-insensitive).
+//  3. the lower-priority standard names of older tables and of CMIP/CFMIP
+//     (RoleRule.LowerNames), on the reference grid only, with Binding.Note;
+//  4. a common variable name, then a generic one (case-insensitive; the first
+//     name of the list that matches wins).
+//
+// Bounds, climatology and coordinate variables are never candidates, nor are
+// retrieval uncertainties (standard_error modifier, *_unc, *_uncertainty). Two
+// candidates for an optional role the run does not use (a cloud fraction for an
+// in-cloud LWP, a droplet number beside r_e) give a warning (Input.Warnings), not
+// an error. Input.GridMean says whether the LWP is a grid-box mean (cell_methods,
+// model names or attributes, or OpenOptions.LWPKind).
+//
+// Masks (ParseMask, OpenOptions.Masks) bind quality variables to internal slots
+// (RoleQuality1..6); the phase and multilayer roles become masks too. Input.Masks
+// says, per column value, whether a mask screens it (Mask.Screens, CF flag values,
+// masks or both); Input.Count and QualityStats count what masks and flag codes
+// remove.
 //
 // The LWP standard deviation (lwp_sd) is recognised by an LWP standard_name with
 // cell_methods containing standard_deviation, or by being named in the bound LWP
@@ -62,7 +80,9 @@
 // _Unsigned, then _FillValue (or the library default fill for non-byte types),
 // missing_value and valid_min/valid_max/valid_range tested in the packed domain,
 // then scale_factor/add_offset, then the unit conversion; missing values become
-// NaN. A _FillValue of another type than the variable (a string one included) is
+// NaN. The codes of a data variable's flag_values (with flag_meanings) decode to
+// FlagNaN(k), a NaN that carries the code's index (FlagIndex), before any other
+// test; a packed zero left with a rounding residue decodes to 0. A _FillValue of another type than the variable (a string one included) is
 // an ErrDecode error. Text attributes may be NC_CHAR or NC_STRING.
 //
 // # Layout

@@ -1,6 +1,7 @@
 package grid
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -19,7 +20,24 @@ type OpenOptions struct {
 	// SlabBytes is the memory budget of one slab: the float64 buffers of every
 	// bound input and every output of one slab together. Default DefaultSlabBytes.
 	SlabBytes int
+	// Masks screen columns by quality variables (ParseMask).
+	Masks []MaskSpec
+	// DropletNumber says the run assumes a droplet number when the input has no
+	// r_e (and no nd role): r_e is then not required. DropletNumberHint is how a
+	// user gives one, quoted in the error when r_e is missing (default "a
+	// droplet-number concentration (role nd)").
+	DropletNumber     bool
+	DropletNumberHint string
+	// LWPKind declares what the LWP averages: "in-cloud", "grid-mean", or ""
+	// (auto: from cell_methods, the variable name and the global attributes).
+	LWPKind string
 }
+
+// LWP kinds of OpenOptions.LWPKind.
+const (
+	LWPInCloud  = "in-cloud"
+	LWPGridMean = "grid-mean"
+)
 
 // DefaultSlabBytes is the default slab budget (the pipeline keeps three slabs).
 const DefaultSlabBytes = 32 << 20
@@ -40,6 +58,9 @@ type Binding struct {
 	Deflate      int
 	Decoder      *Decoder
 	File         string // the file holding Var (one of Info.Files)
+	// Note is set when the binding needs a word of caution (a lower-priority
+	// standard name, flag codes left unscreened).
+	Note string
 
 	varID int
 	vi    *VarInfo // the variable, with its source
@@ -71,6 +92,17 @@ type Input struct {
 	Format Format
 	Info   *FileInfo
 	Layout Layout
+
+	// Masks screen columns (the user's masks, then the phase and multi-layer
+	// roles when bound); their data is Slab.In[Mask.Role.Index()].
+	Masks []*Mask
+	// GridMean is true when the LWP is a grid-box mean (GridMeanWhy says how this
+	// was decided); the run then divides by the cloud fraction when there is one.
+	GridMean    bool
+	GridMeanWhy string
+	// Warnings are problems that do not stop the run (ambiguous optional roles it
+	// does not use, a grid-mean LWP without cloud fraction), each said once.
+	Warnings []string
 
 	opt      OpenOptions
 	bindings [NumRoles]*Binding
@@ -176,17 +208,39 @@ func isSDMethod(cm string) bool {
 	return strings.Contains(cm, "standard_deviation") || strings.Contains(cm, "variance")
 }
 
-// candidate variables: numeric, at least 2-D, not a coordinate variable.
+// candidate variables: numeric, at least 2-D, not a coordinate, auxiliary
+// coordinate, bounds or climatology variable.
 func (in *Input) dataVars() []*VarInfo {
+	skip := map[string]bool{}
+	for i := range in.Info.Vars {
+		v := &in.Info.Vars[i]
+		for _, a := range []string{"bounds", "climatology", "coordinates"} {
+			for _, n := range strings.Fields(v.Text(a)) {
+				skip[n] = true
+			}
+		}
+	}
 	var out []*VarInfo
 	for i := range in.Info.Vars {
 		v := &in.Info.Vars[i]
-		if !v.Type.Numeric() || len(v.Dims) < 2 {
+		if !v.Type.Numeric() || len(v.Dims) < 2 || skip[v.Name] {
 			continue
 		}
 		out = append(out, v)
 	}
 	return out
+}
+
+// isUncertainty reports whether v is a retrieval uncertainty: a standard_name
+// with the standard_error modifier, or a name ending in _unc, _uncertainty or
+// _error (any case).
+func isUncertainty(v *VarInfo) bool {
+	_, mods := splitStandardName(v.Text("standard_name"))
+	if slices.Contains(mods, "standard_error") {
+		return true
+	}
+	n := strings.ToLower(v.Name)
+	return strings.HasSuffix(n, "_unc") || strings.HasSuffix(n, "_uncertainty") || strings.HasSuffix(n, "_error") || strings.HasSuffix(n, "_err")
 }
 
 func names(vs []*VarInfo) string {
@@ -203,6 +257,29 @@ func names(vs []*VarInfo) string {
 type cand struct {
 	v      *VarInfo
 	reason string
+	note   string
+}
+
+// ref is the binding whose grid is the input's: LWP, else r_e, else tau.
+func (in *Input) ref() *Binding {
+	for _, r := range []Role{RoleLWP, RoleRe, RoleTau} {
+		if b := in.bindings[r.Index()]; b != nil {
+			return b
+		}
+	}
+	return nil
+}
+
+// roleUsed reports whether the diagnostics use an optional role, given what is
+// bound so far (roles are bound in table order).
+func (in *Input) roleUsed(r Role) bool {
+	switch r {
+	case RoleCloudFraction:
+		return in.GridMean
+	case RoleNd:
+		return in.bindings[RoleRe.Index()] == nil
+	}
+	return true
 }
 
 // bind runs on the I/O thread (it reads nothing but metadata already in Info).
@@ -215,7 +292,11 @@ func (in *Input) bind() error {
 		}
 		over[o.Role] = o
 	}
+	var missing []RoleRule
 	for i, rule := range RoleRules {
+		if rule.Internal {
+			continue
+		}
 		var chosen cand
 		units, unitsFrom := "", "attribute"
 		if o, ok := over[rule.Role]; ok {
@@ -227,27 +308,31 @@ func (in *Input) bind() error {
 			if v == nil {
 				return varErr(ErrNoVariable, in.Path, o.Var, "named by override %s does not exist in the file; the file has %s", o, varNames(in.Info))
 			}
-			chosen = cand{v, "explicit override " + o.String()}
+			if rule.Role == RoleLWPSD && isUncertainty(v) {
+				return varErr(ErrOverride, in.Path, o.Var, "is a retrieval uncertainty (standard_error, *_unc, *_uncertainty), not the sub-grid standard deviation of LWP that lwp_sd means; leave lwp_sd unbound to use the gamma shape option")
+			}
+			chosen = cand{v: v, reason: "explicit override " + o.String()}
 			if o.Units != "" {
 				units, unitsFrom = o.Units, "override"
 			}
 		} else {
-			cands := in.byStandardName(rule, bound)
-			if len(cands) == 0 {
-				cands = in.byCommonName(rule, bound)
-			}
+			cands := in.candidates(rule, bound)
 			if len(cands) > 1 {
 				vs := make([]*VarInfo, len(cands))
 				for k, c := range cands {
 					vs[k] = c.v
+				}
+				if !rule.Required && !in.roleUsed(rule.Role) {
+					in.Warnings = append(in.Warnings, fmt.Sprintf("%s: %d variables could be the %s (%s): %s; none is taken, since the diagnostics do not use it here (bind one with %s to have it read)",
+						in.Path, len(cands), rule.Description, rule.Role, names(vs), in.opt.OverrideHint))
+					continue
 				}
 				return &VarError{File: in.Path, Problem: fmt.Sprintf("%d variables could be the %s (%s): %s; choose one with %s, e.g. %s=%s",
 					len(cands), rule.Description, rule.Role, names(vs), in.opt.OverrideHint, rule.Role, cands[0].v.Name), Err: ErrAmbiguous}
 			}
 			if len(cands) == 0 {
 				if rule.Required {
-					return &VarError{File: in.Path, Problem: fmt.Sprintf("no variable for the %s (%s): searched standard_name %s and the names %s (case-insensitive); name it with %s",
-						rule.Description, rule.Role, searchedSN(rule), strings.Join(rule.CommonNames, ", "), in.opt.OverrideHint), Err: ErrNoVariable}
+					missing = append(missing, rule)
 				}
 				continue
 			}
@@ -256,6 +341,32 @@ func (in *Input) bind() error {
 		v := chosen.v
 		if r, dup := bound[v.Name]; dup {
 			return varErr(ErrAmbiguous, in.Path, v.Name, "is bound to both %s and %s; bind each role to its own variable with %s", r, rule.Role, in.opt.OverrideHint)
+		}
+		b := &Binding{Role: rule.Role, Var: v.Name, StandardName: v.Text("standard_name"), Canonical: rule.Units,
+			Reason: chosen.reason, Note: chosen.note, Type: v.Type, Chunks: v.Chunks, Deflate: v.Deflate, varID: v.ID, vi: v, File: v.File}
+		if rule.Codes() {
+			mask, err := in.roleMask(rule, v)
+			if err != nil {
+				return err
+			}
+			if mask == nil {
+				if _, byOverride := over[rule.Role]; byOverride { // asked for: an error, not a warning
+					w := in.Warnings[len(in.Warnings)-1]
+					in.Warnings = in.Warnings[:len(in.Warnings)-1]
+					return varErr(ErrLayout, in.Path, v.Name, "bound as %s by %s: %s", rule.Role, over[rule.Role], strings.TrimPrefix(w, in.Path+": "))
+				}
+				continue
+			}
+			dec, err := NewDecoder(in.Path, v, Converter{Factor: 1})
+			if err != nil {
+				return err
+			}
+			mask.Role = rule.Role
+			in.Masks = append(in.Masks, mask)
+			b.Decoder, b.Packing = dec, dec.Describe()
+			in.bindings[i] = b
+			bound[v.Name] = rule.Role
+			continue
 		}
 		if unitsFrom == "attribute" {
 			a, ok := v.Attr("units")
@@ -280,12 +391,182 @@ func (in *Input) bind() error {
 		if err != nil {
 			return err
 		}
-		in.bindings[i] = &Binding{Role: rule.Role, Var: v.Name, StandardName: v.Text("standard_name"), UnitsGiven: units,
-			UnitsFrom: unitsFrom, Canonical: rule.Units, Conv: conv, Reason: chosen.reason, Type: v.Type,
-			Packing: dec.Describe(), Chunks: v.Chunks, Deflate: v.Deflate, Decoder: dec, varID: v.ID, vi: v, File: v.File}
+		note, err := dec.screenFlags(in.Path, v)
+		if err != nil {
+			return err
+		}
+		if note != "" {
+			b.Note = strings.TrimPrefix(b.Note+"; "+note, "; ")
+			in.Warnings = append(in.Warnings, fmt.Sprintf("%s: variable %q: %s", in.Path, v.Name, note))
+		}
+		b.UnitsGiven, b.UnitsFrom, b.Conv, b.Decoder, b.Packing = units, unitsFrom, conv, dec, dec.Describe()
+		in.bindings[i] = b
 		bound[v.Name] = rule.Role
+		if rule.Role == RoleLWP {
+			in.GridMean, in.GridMeanWhy = in.lwpKind(v)
+		}
+	}
+	if err := in.checkRequired(missing); err != nil {
+		return err
+	}
+	if in.GridMean && in.bindings[RoleCloudFraction.Index()] == nil {
+		in.Warnings = append(in.Warnings, fmt.Sprintf("%s: the LWP %s is a grid-box mean (%s) and the file has no cloud fraction: it is used as an in-cloud LWP, which underestimates the cloud's LWP (QC bit grid_mean_lwp_used); bind one with %s, e.g. cloud_fraction=VAR",
+			in.Path, in.bindings[RoleLWP.Index()].Var, in.GridMeanWhy, in.opt.OverrideHint))
+	}
+	return in.bindMasks(bound)
+}
+
+// checkRequired accepts missing LWP when tau and r_e can give it, and missing r_e
+// when LWP and a droplet number (role nd or OpenOptions.DropletNumber) can give it.
+func (in *Input) checkRequired(missing []RoleRule) error {
+	has := func(r Role) bool { return in.bindings[r.Index()] != nil }
+	for _, rule := range missing {
+		extra := ""
+		switch rule.Role {
+		case RoleLWP:
+			if has(RoleTau) && has(RoleRe) {
+				continue
+			}
+			extra = "; or optical thickness (tau) and r_e, from which the run derives LWP"
+		case RoleRe:
+			if !has(RoleLWP) && !has(RoleTau) {
+				continue // reported with LWP
+			}
+			if has(RoleLWP) && (has(RoleNd) || in.opt.DropletNumber) {
+				continue
+			}
+			hint := in.opt.DropletNumberHint
+			if hint == "" {
+				hint = "a droplet-number concentration (role nd)"
+			}
+			extra = "; or, with an LWP, " + hint + ", from which the run derives r_e"
+		}
+		return &VarError{File: in.Path, Problem: fmt.Sprintf("no variable for the %s (%s): searched standard_name %s and the names %s (case-insensitive); name it with %s%s",
+			rule.Description, rule.Role, searchedSN(rule), strings.Join(append(slices.Clone(rule.CommonNames), rule.GenericNames...), ", "), in.opt.OverrideHint, extra), Err: ErrNoVariable}
 	}
 	return nil
+}
+
+// roleMask builds the mask of the phase or multilayer role on v; nil (with a
+// warning) when v has no usable flags.
+func (in *Input) roleMask(rule RoleRule, v *VarInfo) (*Mask, error) {
+	kind, pick := MaskPhase, liquidPhase
+	if rule.Role == RoleMultilayer {
+		kind, pick = MaskMultilayer, multiLayer
+	}
+	spec := MaskSpec{Text: string(rule.Role), Var: v.Name, Kind: kind}
+	m, err := newFlagMask(in.Path, v, spec, func(w string) bool {
+		if kind == MaskPhase {
+			return !pick(w)
+		}
+		return pick(w)
+	})
+	if err != nil {
+		prob := err.Error()
+		var ve *VarError
+		if errors.As(err, &ve) {
+			prob = ve.Problem
+		}
+		in.Warnings = append(in.Warnings, fmt.Sprintf("%s: the %s %s is not used: it %s; screen with a mask by value instead (e.g. '%s>1')",
+			in.Path, rule.Description, v.Name, prob, v.Name))
+		return nil, nil
+	}
+	return m, nil
+}
+
+// bindMasks binds each user mask's variable to a quality slot (one per variable).
+func (in *Input) bindMasks(bound map[string]Role) error {
+	slot := map[string]Role{}
+	next := 0
+	for _, spec := range in.opt.Masks {
+		v := in.Info.Var(spec.Var)
+		if v == nil {
+			return varErr(ErrNoVariable, in.Path, spec.Var, "named by mask %q does not exist in the file; the file has %s", spec.Text, varNames(in.Info))
+		}
+		if !v.Type.Numeric() {
+			return varErr(ErrLayout, in.Path, spec.Var, "named by mask %q has type %s; expected numbers", spec.Text, v.Type)
+		}
+		var m *Mask
+		if spec.Kind == MaskMeaning {
+			var err error
+			if m, err = newFlagMask(in.Path, v, spec, nil); err != nil {
+				return err
+			}
+		} else {
+			m = &Mask{MaskSpec: spec}
+		}
+		r, ok := slot[v.Name]
+		if !ok {
+			if role, isBound := bound[v.Name]; isBound {
+				r = role
+			} else {
+				if next == NumQualitySlots {
+					return varErr(ErrOverride, in.Path, spec.Var, "mask %q names a %d-th quality variable; at most %d distinct variables can be masked in one run", spec.Text, next+1, NumQualitySlots)
+				}
+				r = RoleQuality1
+				r = Roles[r.Index()+next]
+				next++
+				dec, err := NewDecoder(in.Path, v, Converter{Factor: 1})
+				if err != nil {
+					return err
+				}
+				in.bindings[r.Index()] = &Binding{Role: r, Var: v.Name, StandardName: v.Text("standard_name"), Reason: "named by mask " + spec.Text,
+					Type: v.Type, Chunks: v.Chunks, Deflate: v.Deflate, Decoder: dec, Packing: dec.Describe(), varID: v.ID, vi: v, File: v.File}
+			}
+			slot[v.Name] = r
+		}
+		if b := in.bindings[r.Index()]; spec.Kind == MaskCompare && !r.Rule().Codes() && !b.Conv.Identity() {
+			return varErr(ErrOverride, in.Path, spec.Var, "mask %q compares a variable bound as %s, whose values are converted to %s; mask a quality variable instead", spec.Text, r, b.Canonical)
+		}
+		m.Role = r
+		in.Masks = append(in.Masks, m)
+	}
+	return nil
+}
+
+// lwpKind decides whether the LWP v is a grid-box mean (see OpenOptions.LWPKind).
+func (in *Input) lwpKind(v *VarInfo) (bool, string) {
+	switch in.opt.LWPKind {
+	case LWPInCloud:
+		return false, "declared in-cloud"
+	case LWPGridMean:
+		return true, "declared a grid-box mean"
+	}
+	cm := v.Text("cell_methods")
+	if strings.Contains(cm, "where cloud") || strings.Contains(cm, "where liquid") {
+		return false, fmt.Sprintf("cell_methods %q: a mean over the cloudy part", cm)
+	}
+	if areaMean(cm) {
+		return true, fmt.Sprintf("cell_methods %q: a grid-box mean", cm)
+	}
+	for _, n := range gridMeanNames {
+		if strings.EqualFold(v.Name, n) {
+			return true, fmt.Sprintf("variable name %s: a model or reanalysis grid-box mean", v.Name)
+		}
+	}
+	for _, g := range []string{"source_id", "experiment_id", "mip_era", "model_id", "table_id"} {
+		if a, ok := findAttr(in.Info.Globals, g); ok {
+			return true, fmt.Sprintf("global attribute %s = %s: model output, a grid-box mean", g, a.String())
+		}
+	}
+	return false, "retrieval (no cell_methods area mean, no model attributes): in-cloud"
+}
+
+// gridMeanNames are LWP variable names of models and reanalyses, which average
+// over the grid box (ERA5 tclw, MERRA-2 TQL, CESM/E3SM TGCLDLWP, ICON tqc, CMIP
+// clwvi, Cloud_cci lwp_allsky; from memory of their documentation).
+var gridMeanNames = []string{"tclw", "TQL", "TGCLDLWP", "tqc", "clwvi", "lwp_allsky"}
+
+// areaMean reports whether cell_methods says "area: mean" (possibly with other
+// names before the colon, as in "lat: lon: mean") without a where clause.
+func areaMean(cm string) bool {
+	f := strings.Fields(cm)
+	for i, w := range f {
+		if w == "mean" && i > 0 && (f[i-1] == "area:" || (f[i-1] == "lon:" && i > 1 && f[i-2] == "lat:")) {
+			return i+1 >= len(f) || f[i+1] != "where"
+		}
+	}
+	return false
 }
 
 func exampleUnits(r Role) string {
@@ -302,9 +583,25 @@ func exampleUnits(r Role) string {
 
 func searchedSN(rule RoleRule) string {
 	if rule.Role == RoleLWPSD {
-		return strings.Join(lwpNames, " or ") + " with cell_methods standard_deviation, or named in the LWP's ancillary_variables with a standard_error modifier"
+		return strings.Join(lwpNames, " or ") + " with cell_methods standard_deviation, or named in the LWP's ancillary_variables with a standard_deviation modifier (never a standard_error: an uncertainty is not a sub-grid spread)"
 	}
-	return strings.Join(rule.StandardNames, ", ")
+	return strings.Join(append(slices.Clone(rule.StandardNames), rule.LowerNames...), ", ")
+}
+
+// candidates finds the variables that may play a role, tier by tier: standard
+// names, the lower-priority standard names (on the reference grid), common names,
+// generic names. Retrieval uncertainties are never candidates.
+func (in *Input) candidates(rule RoleRule, bound map[string]Role) []cand {
+	if c := in.byStandardName(rule, bound); len(c) > 0 {
+		return c
+	}
+	if c := in.byLowerName(rule, bound); len(c) > 0 {
+		return c
+	}
+	if c := in.byName(rule, rule.CommonNames, "a common name", bound); len(c) > 0 {
+		return c
+	}
+	return in.byName(rule, rule.GenericNames, "a generic name (it may hold more than the role)", bound)
 }
 
 func (in *Input) byStandardName(rule RoleRule, bound map[string]Role) []cand {
@@ -313,8 +610,8 @@ func (in *Input) byStandardName(rule RoleRule, bound map[string]Role) []cand {
 		seen := map[string]bool{}
 		for _, v := range in.dataVars() {
 			name, mods := splitStandardName(v.Text("standard_name"))
-			if slices.Contains(lwpNames, name) && len(mods) == 0 && isSDMethod(v.Text("cell_methods")) {
-				out = append(out, cand{v, fmt.Sprintf("standard_name %s with cell_methods %q", name, v.Text("cell_methods"))})
+			if slices.Contains(lwpNames, name) && len(mods) == 0 && isSDMethod(v.Text("cell_methods")) && !isUncertainty(v) {
+				out = append(out, cand{v: v, reason: fmt.Sprintf("standard_name %s with cell_methods %q", name, v.Text("cell_methods"))})
 				seen[v.Name] = true
 			}
 		}
@@ -322,12 +619,12 @@ func (in *Input) byStandardName(rule RoleRule, bound map[string]Role) []cand {
 			lv := in.Info.Var(lb.Var)
 			for _, anc := range strings.Fields(lv.Text("ancillary_variables")) {
 				v := in.Info.Resolve(lv, anc)
-				if v == nil || seen[v.Name] || !v.Type.Numeric() {
+				if v == nil || seen[v.Name] || !v.Type.Numeric() || isUncertainty(v) {
 					continue
 				}
 				name, mods := splitStandardName(v.Text("standard_name"))
-				if slices.Contains(lwpNames, name) && (slices.Contains(mods, "standard_error") || slices.Contains(mods, "standard_deviation")) {
-					out = append(out, cand{v, fmt.Sprintf("named in %s's ancillary_variables with standard_name %q", lb.Var, v.Text("standard_name"))})
+				if slices.Contains(lwpNames, name) && slices.Contains(mods, "standard_deviation") {
+					out = append(out, cand{v: v, reason: fmt.Sprintf("named in %s's ancillary_variables with standard_name %q", lb.Var, v.Text("standard_name"))})
 				}
 			}
 		}
@@ -344,29 +641,57 @@ func (in *Input) byStandardName(rule RoleRule, bound map[string]Role) []cand {
 		if rule.Role == RoleLWP && isSDMethod(v.Text("cell_methods")) {
 			continue
 		}
-		out = append(out, cand{v, "standard_name " + name})
+		out = append(out, cand{v: v, reason: "standard_name " + name})
 	}
 	return out
 }
 
-func (in *Input) byCommonName(rule RoleRule, bound map[string]Role) []cand {
+// byLowerName matches the rule's LowerNames, only on the reference grid when one
+// is bound (a 3-D field of the same name is not a top field).
+func (in *Input) byLowerName(rule RoleRule, bound map[string]Role) []cand {
 	var out []cand
+	ref := in.ref()
 	for _, v := range in.dataVars() {
 		if _, b := bound[v.Name]; b {
 			continue
 		}
-		for _, n := range rule.CommonNames {
-			if strings.EqualFold(v.Base(), n) {
-				r := fmt.Sprintf("variable name %q is a common name of the %s", v.Name, rule.Description)
-				if sn := v.Text("standard_name"); sn != "" {
-					r += fmt.Sprintf(" (its standard_name %q is not one the table maps to %s)", sn, rule.Role)
-				}
-				out = append(out, cand{v, r})
-				break
-			}
+		name, mods := splitStandardName(v.Text("standard_name"))
+		if !slices.Contains(rule.LowerNames, name) || len(mods) > 0 || isSDMethod(v.Text("cell_methods")) {
+			continue
 		}
+		if ref != nil && !slices.Equal(in.Info.Var(ref.Var).DimIDs, v.DimIDs) {
+			continue
+		}
+		note := fmt.Sprintf("standard_name %s is an older or CMIP/CFMIP name taken at lower priority than %s", name, strings.Join(rule.StandardNames, ", "))
+		if strings.Contains(name, "condensed") {
+			note += "; condensed water counts ice too, so screen ice-topped columns (phase, cloud-top temperature)"
+		}
+		out = append(out, cand{v: v, reason: "standard_name " + name + " (lower priority)", note: note})
 	}
 	return out
+}
+
+// byName matches variable names (case-insensitive), the first name of the list
+// that matches winning, so that a product's specific name beats a generic one.
+func (in *Input) byName(rule RoleRule, list []string, what string, bound map[string]Role) []cand {
+	vars := in.dataVars()
+	for _, n := range list {
+		var out []cand
+		for _, v := range vars {
+			if _, b := bound[v.Name]; b || isUncertainty(v) || !strings.EqualFold(v.Base(), n) {
+				continue
+			}
+			r := fmt.Sprintf("variable name %q is %s of the %s", v.Name, what, rule.Description)
+			if sn := v.Text("standard_name"); sn != "" {
+				r += fmt.Sprintf(" (its standard_name %q is not one the table maps to %s)", sn, rule.Role)
+			}
+			out = append(out, cand{v: v, reason: r})
+		}
+		if len(out) > 0 {
+			return out
+		}
+	}
+	return nil
 }
 
 func dimsString(v *VarInfo) string {
@@ -378,27 +703,29 @@ func dimsString(v *VarInfo) string {
 }
 
 var roleLabel = map[Role]string{RoleLWP: "LWP", RoleRe: "r_e", RoleTau: "tau", RoleCTT: "CTT", RoleCTP: "CTP", RoleCTH: "CTH",
-	RoleCloudFraction: "cloud fraction", RoleLWPSD: "LWP standard deviation"}
+	RoleCloudFraction: "cloud fraction", RoleLWPSD: "LWP standard deviation", RoleNd: "the droplet number", RolePhase: "the phase flag",
+	RoleMultilayer: "the multi-layer flag", RoleQuality1: "a masked variable", RoleQuality2: "a masked variable",
+	RoleQuality3: "a masked variable", RoleQuality4: "a masked variable", RoleQuality5: "a masked variable", RoleQuality6: "a masked variable"}
 
 // layoutIO runs on the I/O thread.
 func (in *Input) layoutIO() error {
-	lb := in.bindings[RoleLWP.Index()]
+	lb := in.ref()
 	lv := in.Info.Var(lb.Var)
 	if len(lv.Dims) < 2 {
 		return varErr(ErrLayout, in.Path, lv.Name, "has dimensions %s; expected at least two (..., y, x)", dimsString(lv))
 	}
 	for _, b := range in.bindings {
-		if b == nil || b.Role == RoleLWP {
+		if b == nil || b == lb {
 			continue
 		}
 		v := in.Info.Var(b.Var)
 		if !slices.Equal(v.DimIDs, lv.DimIDs) {
 			if v.File != lv.File {
-				return varErr(ErrLayout, v.File, v.Name, "is on another grid than the LWP: LWP %s in %s has dimensions %s but %s in %s has %s; files joined with + must share one grid (the same dimensions in the same order)",
-					lv.Name, lv.File, dimsString(lv), v.Name, v.File, dimsString(v))
+				return varErr(ErrLayout, v.File, v.Name, "is on another grid than the %s: %s %s in %s has dimensions %s but %s in %s has %s; files joined with + must share one grid (the same dimensions in the same order)",
+					roleLabel[lb.Role], roleLabel[lb.Role], lv.Name, lv.File, dimsString(lv), v.Name, v.File, dimsString(v))
 			}
-			return varErr(ErrLayout, in.Path, v.Name, "LWP and %s are on different grids: LWP %s has dimensions %s but %s has %s; expected the same dimensions in the same order",
-				roleLabel[b.Role], lv.Name, dimsString(lv), v.Name, dimsString(v))
+			return varErr(ErrLayout, in.Path, v.Name, "%s and %s are on different grids: %s %s has dimensions %s but %s has %s; expected the same dimensions in the same order",
+				roleLabel[lb.Role], roleLabel[b.Role], roleLabel[lb.Role], lv.Name, dimsString(lv), v.Name, dimsString(v))
 		}
 	}
 	L := &in.Layout

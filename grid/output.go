@@ -384,7 +384,7 @@ func (o *Output) defineIO(opt WriteOptions) error {
 		jobs = append(jobs, copyJob{v, id, t})
 	}
 	// New variables.
-	lv := in.Info.Var(in.bindings[RoleLWP.Index()].Var)
+	lv := in.Info.Var(in.ref().Var)
 	gridDims := make([]int, nd)
 	for i, d := range in.Layout.Dims {
 		gridDims[i] = outDim[d.ID]

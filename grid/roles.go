@@ -8,7 +8,8 @@ import (
 // Role is an input quantity the tool can read.
 type Role string
 
-// The input roles. RoleLWP and RoleRe are required.
+// The input roles. RoleLWP and RoleRe are required unless the run can complete
+// them (see Open): LWP from tau and r_e, r_e from LWP and a droplet number.
 const (
 	RoleLWP           Role = "lwp"
 	RoleRe            Role = "re"
@@ -18,14 +19,29 @@ const (
 	RoleCTH           Role = "cth"
 	RoleCloudFraction Role = "cloud_fraction"
 	RoleLWPSD         Role = "lwp_sd"
+	RoleNd            Role = "nd"         // droplet number concentration (model CDNC, a separate retrieval)
+	RolePhase         Role = "phase"      // cloud-top phase flag (CF flag_values/flag_meanings)
+	RoleMultilayer    Role = "multilayer" // multi-layer cloud flag (CF flag_values/flag_meanings)
+	// RoleQuality1 .. RoleQuality6 are the quality variables named by masks
+	// (OpenOptions.Masks); they are never discovered or bound by an override.
+	RoleQuality1 Role = "quality1"
+	RoleQuality2 Role = "quality2"
+	RoleQuality3 Role = "quality3"
+	RoleQuality4 Role = "quality4"
+	RoleQuality5 Role = "quality5"
+	RoleQuality6 Role = "quality6"
 )
 
 // NumRoles is the number of input roles; Roles lists them in table order, which is
 // also the index order of Slab.In.
-const NumRoles = 8
+const NumRoles = 17
+
+// NumQualitySlots is how many distinct quality variables masks may name in one run.
+const NumQualitySlots = 6
 
 // Roles lists every role in table order.
-var Roles = [NumRoles]Role{RoleLWP, RoleRe, RoleTau, RoleCTT, RoleCTP, RoleCTH, RoleCloudFraction, RoleLWPSD}
+var Roles = [NumRoles]Role{RoleLWP, RoleRe, RoleTau, RoleCTT, RoleCTP, RoleCTH, RoleCloudFraction, RoleLWPSD,
+	RoleNd, RolePhase, RoleMultilayer, RoleQuality1, RoleQuality2, RoleQuality3, RoleQuality4, RoleQuality5, RoleQuality6}
 
 // Index returns the role's index in Roles, or -1.
 func (r Role) Index() int {
@@ -43,9 +59,24 @@ type RoleRule struct {
 	Description   string
 	Required      bool
 	StandardNames []string // CF standard names (table v83), aliases included
-	Units         string   // canonical units in memory
+	Units         string   // canonical units in memory ("" for flag codes: no units, no conversion)
 	CommonNames   []string // variable names tried when no standard_name matches (case-insensitive)
+	// LowerNames are standard names of older CF tables and of the CMIP/CFMIP data
+	// requests that mean nearly the same quantity (condensed water = liquid + ice, a
+	// 3-D name used for a top field). They are tried after StandardNames and
+	// before CommonNames, only on LWP's dimensions, and the binding says so.
+	LowerNames []string
+	// GenericNames are variable names that usually, not always, hold the role (a
+	// product's all-phase cloud water path, a generic effective radius); tried
+	// last.
+	GenericNames []string
+	// Internal roles are bound only by the run (masks), never by discovery or an
+	// override.
+	Internal bool
 }
+
+// Codes reports whether the role holds flag codes rather than a quantity.
+func (r RoleRule) Codes() bool { return r.Units == "" }
 
 // lwpNames are the standard names of a liquid water path (used by RoleLWP and,
 // with a standard-deviation marker, by RoleLWPSD).
@@ -55,44 +86,83 @@ var lwpNames = []string{
 }
 
 // RoleRules is the rule table, in role order. Sources: CF standard name table
-// v83 (canonical units as listed there); the common names are common practice.
+// v83 (canonical units as listed there); the CMIP6/CFMIP variable names (lwp,
+// clwvi, reffclwtop, ccldncl, clt) as published in the CMIP6 data request, from
+// memory; the product variable names (MODIS/VIIRS cloud products, CM SAF CLAAS,
+// ESA Cloud_cci, GOES-R ABI, ERA5, MERRA-2, CESM/E3SM, ICON) from their users'
+// guides, from memory; the short common names are common practice.
 var RoleRules = [NumRoles]RoleRule{
-	{RoleLWP, "liquid water path", true, lwpNames, "kg m-2",
-		[]string{"lwp", "clwp", "liquid_water_path", "cloud_liquid_water_path", "lwp_liquid", "cwp_liquid", "LWP_liquid"}},
-	{RoleRe, "cloud-top effective radius of liquid droplets", true, []string{
+	{Role: RoleLWP, Description: "liquid water path", Required: true, StandardNames: lwpNames, Units: "kg m-2",
+		CommonNames: []string{"lwp", "clwp", "liquid_water_path", "cloud_liquid_water_path", "lwp_liquid", "cwp_liquid", "LWP_liquid",
+			"Cloud_Water_Path_Liquid_Mean", "Cloud_Water_Path_Liquid", "cloud_water_path_liquid", "lwp_allsky",
+			"tclw", "TQL", "TGCLDLWP", "tqc", "cloudlwp"},
+		LowerNames:   []string{"atmosphere_mass_content_of_cloud_condensed_water", "atmosphere_cloud_condensed_water_content"},
+		GenericNames: []string{"Cloud_Water_Path", "cloud_water_path", "cwp", "clwvi"}},
+	{Role: RoleRe, Description: "cloud-top effective radius of liquid droplets", Required: true, StandardNames: []string{
 		"effective_radius_of_cloud_liquid_water_particles_at_liquid_water_cloud_top",
 		"effective_radius_of_cloud_liquid_water_particle_at_liquid_water_cloud_top", // alias
 		"effective_radius_of_convective_cloud_liquid_water_particles_at_convective_liquid_water_cloud_top",
 		"effective_radius_of_stratiform_cloud_liquid_water_particles_at_stratiform_liquid_water_cloud_top",
-	}, "m", []string{"re", "reff", "r_e", "cer", "cer_liquid", "cloud_effective_radius", "cloud_effective_radius_liquid",
-		"effective_radius", "ref", "re_liquid"}},
-	{RoleTau, "cloud optical thickness", false, []string{
+	}, Units: "m", CommonNames: []string{"re", "reff", "r_e", "cer", "cer_liquid", "cer_liq", "cre", "cloud_effective_radius", "cloud_effective_radius_liquid",
+		"ref", "re_liquid", "reffclwtop", "reffclwmodis", "Cloud_Effective_Radius_Liquid_Mean",
+		"Cloud_Effective_Radius_Liquid"},
+		GenericNames: []string{"effective_radius", "Cloud_Effective_Radius", "cloud_effective_radius_all", "PSD"},
+		LowerNames: []string{
+			"effective_radius_of_cloud_liquid_water_particle", // older tables, used for top fields
+			"effective_radius_of_cloud_liquid_water_particles",
+			"effective_radius_of_stratiform_cloud_liquid_water_particle",
+			"effective_radius_of_stratiform_cloud_liquid_water_particles",
+			"effective_radius_of_cloud_condensed_water_particles_at_cloud_top", // liquid + ice
+		}},
+	{Role: RoleTau, Description: "cloud optical thickness", StandardNames: []string{
 		"atmosphere_optical_thickness_due_to_cloud",
 		"atmosphere_optical_thickness_due_to_convective_cloud",
 		"atmosphere_optical_thickness_due_to_stratiform_cloud",
-	}, "1", []string{"tau", "cot", "cod", "cloud_optical_thickness", "cloud_optical_depth", "cot_liquid", "tau_liquid"}},
-	{RoleCTT, "cloud-top temperature", false, []string{
+	}, Units: "1", CommonNames: []string{"tau", "cot", "cod", "cloud_optical_thickness", "cloud_optical_depth", "cot_liquid", "cot_liq", "tau_liquid",
+		"tauwmodis", "Cloud_Optical_Thickness_Liquid_Mean", "Cloud_Optical_Thickness_Liquid"},
+		GenericNames: []string{"Cloud_Optical_Thickness", "COD"}},
+	{Role: RoleCTT, Description: "cloud-top temperature", StandardNames: []string{
 		"air_temperature_at_cloud_top",
 		"air_temperature_at_effective_cloud_top_defined_by_infrared_radiation",
 		"brightness_temperature_at_cloud_top",
-	}, "K", []string{"ctt", "cloud_top_temperature", "cloud_top_temp"}},
-	{RoleCTP, "cloud-top pressure", false, []string{
+	}, Units: "K", CommonNames: []string{"ctt", "cloud_top_temperature", "cloud_top_temp", "Cloud_Top_Temperature", "Cloud_Top_Temperature_Mean"}},
+	{Role: RoleCTP, Description: "cloud-top pressure", StandardNames: []string{
 		"air_pressure_at_cloud_top",
 		"pressure_at_effective_cloud_top_defined_by_infrared_radiation",
-	}, "Pa", []string{"ctp", "cloud_top_pressure"}},
-	{RoleCTH, "cloud-top height", false, []string{
+	}, Units: "Pa", CommonNames: []string{"ctp", "cloud_top_pressure", "Cloud_Top_Pressure", "Cloud_Top_Pressure_Mean", "pctisccp"}},
+	{Role: RoleCTH, Description: "cloud-top height", StandardNames: []string{
 		"height_at_cloud_top",
 		"cloud_top_altitude",
 		"geopotential_height_at_cloud_top",
 		"height_at_effective_cloud_top_defined_by_infrared_radiation",
-	}, "m", []string{"cth", "cloud_top_height", "cloud_top_altitude", "zct"}},
-	{RoleCloudFraction, "cloud fraction", false, []string{
+	}, Units: "m", CommonNames: []string{"cth", "cloud_top_height", "cloud_top_altitude", "zct", "Cloud_Top_Height", "Cloud_Top_Height_Mean"}},
+	{Role: RoleCloudFraction, Description: "cloud fraction", StandardNames: []string{
 		"cloud_area_fraction",
 		"liquid_water_cloud_area_fraction",
-	}, "1", []string{"cf", "cfc", "cloud_fraction", "cloud_area_fraction", "cldfrac", "liquid_cloud_fraction"}},
-	{RoleLWPSD, "standard deviation of the liquid water path", false, nil, "kg m-2",
-		[]string{"lwp_sd", "lwp_std", "lwp_stddev", "lwp_standard_deviation", "clwp_std", "lwp_unc", "lwp_uncertainty",
-			"liquid_water_path_standard_deviation", "lwp_standard_error"}},
+	}, Units: "1", CommonNames: []string{"cf", "cfc", "cloud_fraction", "cloud_area_fraction", "cldfrac", "liquid_cloud_fraction",
+		"clt", "tcc", "CLDTOT", "clct", "Cloud_Fraction_Liquid"},
+		GenericNames: []string{"Cloud_Fraction"}},
+	{Role: RoleLWPSD, Description: "standard deviation of the liquid water path", Units: "kg m-2",
+		CommonNames: []string{"lwp_sd", "lwp_std", "lwp_stddev", "lwp_standard_deviation", "clwp_std",
+			"liquid_water_path_standard_deviation", "Cloud_Water_Path_Liquid_Standard_Deviation"}},
+	{Role: RoleNd, Description: "cloud droplet number concentration", StandardNames: []string{
+		"number_concentration_of_cloud_liquid_water_particles_in_air_at_liquid_water_cloud_top",
+		"number_concentration_of_stratiform_cloud_liquid_water_particles_at_stratiform_liquid_water_cloud_top",
+		"number_concentration_of_convective_cloud_liquid_water_particles_at_convective_liquid_water_cloud_top",
+	}, Units: "m-3", CommonNames: []string{"nd", "n_d", "cdnc", "cdnc_top", "ccldncl", "droplet_number", "droplet_number_concentration"},
+		LowerNames: []string{"number_concentration_of_cloud_liquid_water_particles_in_air"}},
+	{Role: RolePhase, Description: "cloud-top thermodynamic phase flag", StandardNames: []string{
+		"thermodynamic_phase_of_cloud_water_particles_at_cloud_top",
+	}, CommonNames: []string{"phase", "cph", "cloud_phase", "cloud_top_phase", "Cloud_Phase_Optical_Properties",
+		"cloud_phase_optical_properties", "Phase"}},
+	{Role: RoleMultilayer, Description: "multi-layer cloud flag", CommonNames: []string{"multilayer", "multi_layer", "multilayer_flag",
+		"multi_layer_flag", "cloud_multi_layer_flag", "Cloud_Multi_Layer_Flag"}},
+	{Role: RoleQuality1, Description: "quality variable 1 of the masks", Internal: true},
+	{Role: RoleQuality2, Description: "quality variable 2 of the masks", Internal: true},
+	{Role: RoleQuality3, Description: "quality variable 3 of the masks", Internal: true},
+	{Role: RoleQuality4, Description: "quality variable 4 of the masks", Internal: true},
+	{Role: RoleQuality5, Description: "quality variable 5 of the masks", Internal: true},
+	{Role: RoleQuality6, Description: "quality variable 6 of the masks", Internal: true},
 }
 
 // Rule returns the rule of a role.
@@ -106,16 +176,18 @@ func CanonicalUnits(r Role) string {
 	return ""
 }
 
-// ParseRole accepts a role name (case-insensitive).
+// ParseRole accepts a role name (case-insensitive); the internal quality slots
+// are not accepted.
 func ParseRole(s string) (Role, error) {
-	for _, r := range Roles {
+	var names []string
+	for i, r := range Roles {
+		if RoleRules[i].Internal {
+			continue
+		}
 		if strings.EqualFold(s, string(r)) {
 			return r, nil
 		}
-	}
-	names := make([]string, len(Roles))
-	for i, r := range Roles {
-		names[i] = string(r)
+		names = append(names, string(r))
 	}
 	return "", fmt.Errorf("%w: unknown input role %q; expected one of %s", ErrOverride, s, strings.Join(names, ", "))
 }
@@ -161,6 +233,9 @@ func ParseOverride(s string) (Override, error) {
 	}
 	if strings.Contains(rest, ":") && units == "" {
 		return Override{}, fmt.Errorf("%w: %q: empty units after ':'", ErrOverride, s)
+	}
+	if units != "" && r.Rule().Codes() {
+		return Override{}, fmt.Errorf("%w: %q: role %s holds flag codes, which have no units", ErrOverride, s, r)
 	}
 	if units != "" {
 		if _, err := NewConverter(units, CanonicalUnits(r)); err != nil {

@@ -65,7 +65,7 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 		perCol += 8 + t.Size()
 	}
 	cols := max(1, budget/perCol) // columns per slab at most
-	lb := in.bindings[RoleLWP.Index()]
+	lb := in.ref()
 	nd := len(L.Dims)
 	if lb.Chunks != nil {
 		p.cy, p.cx = lb.Chunks[nd-2], lb.Chunks[nd-1]

@@ -55,9 +55,9 @@ func (d *OutputDecl) ReferencesFor(s AutoconvScheme) string {
 var OutputDecls = []OutputDecl{
 	{Name: "liquid_water_path", Input: "lwp", SIUnits: "kg m-2", Units: "g m-2", Scale: 1e3,
 		StandardName: "atmosphere_mass_content_of_cloud_liquid_water",
-		LongName:     "liquid water path used for the diagnostics (copied from the input)", Title: "Liquid water path",
+		LongName:     "liquid water path used for the diagnostics (the input's, or derived from optical thickness and effective radius, or in-cloud from a grid-box mean)", Title: "Liquid water path",
 		ValidMin: 0, ValidMax: 1e4,
-		Comment: "the input LWP in the units of this file; kept so that summaries can bin by LWP", Content: "physicalMeasurement"},
+		Comment: "the LWP the diagnostics used, in the units of this file (the QC bits say whether it was derived); kept so that summaries can bin by LWP", Content: "physicalMeasurement"},
 	{Name: "droplet_number", Get: func(o *Outputs) float64 { return o.Nd }, SIUnits: "m-3", Units: "cm-3", Scale: 1e-6,
 		StandardName: "number_concentration_of_cloud_liquid_water_particles_in_air_at_liquid_water_cloud_top",
 		LongName:     "cloud droplet number concentration of the adiabatic cloud model", Title: "Droplet number concentration N_d",

@@ -257,6 +257,23 @@ var ParamDecls = []ParamDecl{
 	{Name: "max_thickness", Option: "max-thickness", Unit: "m", Scale: 1, Min: 0, Max: 2e4, MinOpen: true,
 		Help: "screen columns with adiabatic thickness above this", Source: "marine Sc [Wood2012] (from memory)",
 		Get: func(p *Params) float64 { return p.HMax }, Set: func(p *Params, v float64) { p.HMax = v }},
+	{Name: "droplet_number", Option: "droplet-number", Unit: "cm-3", Scale: 1e-6, Min: 1, Max: 5000, ZeroOff: true,
+		Help:   "droplet number concentration assumed where the input has LWP but no effective radius (r_e follows from the adiabatic cloud; 0: none)",
+		Source: "an assumption the user states (about 100 marine, 300 continental: common practice)",
+		Get:    func(p *Params) float64 { return p.DropletNumber }, Set: func(p *Params, v float64) { p.DropletNumber = v }},
+	{Name: "lwp_profile", Option: "lwp-profile", Kind: ParamChoice, Choices: []string{"adiabatic", "uniform"},
+		Help:   "cloud profile for LWP from optical thickness and r_e when the input has no LWP: adiabatic (5/9 rho_w tau r_e) or uniform (2/3 rho_w tau r_e)",
+		Source: "[Brenguier2000]; uniform [Stephens1978]",
+		Get: func(p *Params) float64 {
+			if p.UniformLWP {
+				return 1
+			}
+			return 0
+		},
+		Set: func(p *Params, v float64) { p.UniformLWP = v == 1 }},
+	{Name: "min_cloud_fraction", Option: "min-cloud-fraction", Unit: "1", Scale: 1, Min: 0, Max: 1,
+		Help: "with a grid-box-mean LWP, screen columns whose cloud fraction is below this", Source: "common practice",
+		Get: func(p *Params) float64 { return p.MinCloudFraction }, Set: func(p *Params, v float64) { p.MinCloudFraction = v }},
 }
 
 func b2f(b bool) float64 {

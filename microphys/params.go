@@ -132,6 +132,15 @@ type Params struct {
 	NdMin  float64
 	NdMax  float64
 	HMax   float64
+	// Input completion (Model.Complete). DropletNumber is the droplet number concentration
+	// (m-3) assumed where a column has LWP but no r_e (0: none; an assumption the user
+	// states). UniformLWP derives LWP from tau and r_e for a vertically uniform cloud
+	// [Stephens1978] instead of the adiabatic one [Brenguier2000]. MinCloudFraction is the
+	// smallest cloud fraction a grid-box-mean LWP is divided by, default 0.05 (common
+	// practice).
+	DropletNumber    float64
+	UniformLWP       bool
+	MinCloudFraction float64
 }
 
 // DefaultParams returns the documented defaults of every parameter (see Params).
@@ -172,6 +181,7 @@ func DefaultParams() Params {
 		NdMin:             10e6,
 		NdMax:             1000e6,
 		HMax:              1500,
+		MinCloudFraction:  0.05,
 	}
 }
 

@@ -135,6 +135,11 @@ package microphys
 // Parameterization schemes. J. Atmos. Sci., 35, 2123–2132.
 // doi:10.1175/1520-0469(1978)035<2123:RPIEWC>2.0.CO;2
 //
+// [USSA1976] NOAA, NASA and USAF, 1976: U.S. Standard Atmosphere, 1976. U.S. Government
+// Printing Office, Washington, D.C., NOAA-S/T 76-1562, 227 pp. Identical below 32 km to the
+// ICAO Standard Atmosphere (ICAO Doc 7488/3, 1993). No DOI;
+// https://ntrs.nasa.gov/citations/19770009539
+//
 // [VanZanten2005] vanZanten, M. C., B. Stevens, G. Vali, and D. H. Lenschow, 2005:
 // Observations of drizzle in nocturnal marine stratocumulus. J. Atmos. Sci., 62, 88–106.
 // doi:10.1175/JAS-3355.1

@@ -134,6 +134,22 @@ Data go to stdout or files; messages go to stderr.
 	                                      "10,1000")
 	      --max-thickness float           screen columns with adiabatic thickness above this, m
 	                                      (default 1500)
+	      --droplet-number float          droplet number concentration assumed where the input has
+	                                      LWP but no effective radius (r_e follows from the
+	                                      adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
+	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
+	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
+	                                      (default "adiabatic")
+	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
+	                                      fraction is below this (default 0.05)
+	      --mask stringArray              screen columns by a quality variable:
+	                                      'VAR:MEANING[,MEANING...]' (a CF flag variable has any
+	                                      of the flag_meanings words) or 'VAR<N' (also <=, >, >=,
+	                                      ==, !=; in VAR's own units); repeatable
+	      --lwp-kind string               what the LWP averages: auto (from cell_methods, the
+	                                      variable name and model attributes), in-cloud, or
+	                                      grid-mean (divided by the cloud fraction) (default "auto")
 
 # warmrain inspect
 
@@ -150,7 +166,12 @@ Data go to stdout or files; messages go to stderr.
 	computed, which of them use defaults for absent inputs, and what is missing
 	for the others. It reads every value of the bound variables once.
 
-	Roles: lwp, re (required), tau, ctt, ctp, cth, cloud_fraction, lwp_sd.
+	Roles: lwp, re (required unless the run can derive them: LWP from tau and
+	r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
+	lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
+	screen non-liquid and multi-layer columns). With --mask, it counts the
+	columns each mask removes; flag codes held inside a data variable (sea ice,
+	land) are counted by meaning.
 	Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
 	HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
@@ -159,14 +180,24 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain inspect scene.nc --bind lwp=LWP_liquid:g/m2 --bind re=CER --json
 
 	Options:
-	      --bind stringArray    take input ROLE from variable VAR, optionally declaring its units:
-	                            ROLE=VAR[:UNITS] (repeatable)
-	      --json[=true|false]   print one JSON object instead of the text report
+	      --bind stringArray       take input ROLE from variable VAR, optionally declaring its
+	                               units: ROLE=VAR[:UNITS] (repeatable)
+	      --json[=true|false]      print one JSON object instead of the text report
+	      --mask stringArray       screen columns by a quality variable:
+	                               'VAR:MEANING[,MEANING...]' (a CF flag variable has any of the
+	                               flag_meanings words) or 'VAR<N' (also <=, >, >=, ==, !=; in
+	                               VAR's own units); repeatable
+	      --lwp-kind string        what the LWP averages: auto (from cell_methods, the variable
+	                               name and model attributes), in-cloud, or grid-mean (divided by
+	                               the cloud fraction) (default "auto")
+	      --droplet-number float   as for process: the droplet number concentration, cm-3, assumed
+	                               where the input has LWP but no effective radius (0: none)
 
 # warmrain column
 
 	Usage:
 	  warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
+	  (without --re: --droplet-number N; without --lwp: --tau and --re)
 	                  [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
 
 	Runs the physics of one column given on the command line and prints the
@@ -256,6 +287,15 @@ Data go to stdout or files; messages go to stderr.
 	                                      "10,1000")
 	      --max-thickness float           screen columns with adiabatic thickness above this, m
 	                                      (default 1500)
+	      --droplet-number float          droplet number concentration assumed where the input has
+	                                      LWP but no effective radius (r_e follows from the
+	                                      adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
+	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
+	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
+	                                      (default "adiabatic")
+	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
+	                                      fraction is below this (default 0.05)
 	      --json[=true|false]             print one JSON object instead of the tables
 
 # warmrain summary
@@ -278,7 +318,10 @@ Data go to stdout or files; messages go to stderr.
 
 	Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 	thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
-	thickness_implausible, read from the file's flag_masks and flag_meanings) are left out.
+	thickness_implausible, and those of the input's quality: input_flag_code,
+	masked_by_flag_meaning, masked_by_threshold, phase_not_liquid, multi_layer_cloud,
+	clear_sky, cloud_fraction_below_minimum; read from the file's flag_masks and
+	flag_meanings) are left out.
 	LWP is taken from the variable liquid_water_path, or else from the one variable with
 	standard_name atmosphere_mass_content_of_cloud_liquid_water.
 

@@ -80,11 +80,18 @@ func outputTable() string {
 	return b.String()
 }
 
-// qcTable is README's table of QC bits from microphys.QCFlags.
+// qcTable is README's table of QC bits from microphys.QCFlags and microphys.InputQCFlags.
 func qcTable() string {
 	var b strings.Builder
 	b.WriteString("| bit | word in `flag_meanings` | screens the column | meaning |\n|---|---|---|---|\n")
 	for _, f := range microphys.QCFlags {
+		s := "no"
+		if f.Screen {
+			s = "yes"
+		}
+		fmt.Fprintf(&b, "| %d | `%s` | %s | %s |\n", f.Bit, f.Name, s, f.Meaning)
+	}
+	for _, f := range microphys.InputQCFlags { // bits 16 and up: the input's quality and completion
 		s := "no"
 		if f.Screen {
 			s = "yes"

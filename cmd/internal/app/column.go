@@ -14,6 +14,7 @@ import (
 
 const columnUsage = `Usage:
   warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
+  (without --re: --droplet-number N; without --lwp: --tau and --re)
                   [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
 
 Runs the physics of one column given on the command line and prints the
@@ -148,10 +149,15 @@ func runColumn(e *env, args []string) error {
 	if fs.NArg() > 0 {
 		return usagef("unexpected argument %q: column takes its inputs as options (--lwp, --re, ...)", fs.Arg(0))
 	}
-	for _, req := range []string{"lwp", "re"} {
-		if !fs.Changed(req) {
-			return usagef("--%s is required", req)
-		}
+	p, err := pf.toParams()
+	if err != nil {
+		return err
+	}
+	switch {
+	case !fs.Changed("lwp") && !(fs.Changed("tau") && fs.Changed("re")):
+		return usagef("--lwp is required (or --tau and --re, from which LWP follows)")
+	case !fs.Changed("re") && !(fs.Changed("lwp") && p.DropletNumber > 0):
+		return usagef("--re is required (or --lwp with --droplet-number, from which r_e follows)")
 	}
 	var in microphys.Inputs
 	dst := []*float64{&in.LWP, &in.Re, &in.Tau, &in.CTT, &in.CTP, &in.CTH, &in.LWPStd, &in.SurfaceRH}
@@ -165,10 +171,6 @@ func runColumn(e *env, args []string) error {
 		}
 		*dst[i] = vals[i] * c.scale
 	}
-	p, err := pf.toParams()
-	if err != nil {
-		return err
-	}
 	for _, w := range physicsWarnings(p) {
 		fmt.Fprintf(e.stderr, "warmrain: warning: %s\n", w)
 	}
@@ -176,7 +178,17 @@ func runColumn(e *env, args []string) error {
 	if err != nil {
 		return usagef("%v", err)
 	}
+	// Missing inputs completed as process does (Model.Complete): LWP from tau and r_e,
+	// r_e from LWP and --droplet-number, CTT from the standard atmosphere at --ctp/--cth.
+	qin := m.Complete(&in, math.NaN(), math.NaN(), false)
 	res := computeColumn(m, &in)
+	for _, f := range microphys.InputQCFlags {
+		if qin&f.Bit != 0 {
+			res.QC.Flags = append(res.QC.Flags, f.Name)
+			res.Assumed = append(res.Assumed, fmt.Sprintf("%s (QC bit %s)", f.Meaning, f.Name))
+			res.QC.Screened = res.QC.Screened || f.Screen
+		}
+	}
 	if *asJSON {
 		enc := json.NewEncoder(e.stdout)
 		enc.SetIndent("", "  ")

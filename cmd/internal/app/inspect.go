@@ -26,7 +26,12 @@ missing; for roles not found, what was searched; and which diagnostics can be
 computed, which of them use defaults for absent inputs, and what is missing
 for the others. It reads every value of the bound variables once.
 
-Roles: lwp, re (required), tau, ctt, ctp, cth, cloud_fraction, lwp_sd.
+Roles: lwp, re (required unless the run can derive them: LWP from tau and
+r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
+lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
+screen non-liquid and multi-layer columns). With --mask, it counts the
+columns each mask removes; flag codes held inside a data variable (sea ice,
+land) are counted by meaning.
 Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
 HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
@@ -47,6 +52,22 @@ type inspectReport struct {
 	Dimensions  []dimReport    `json:"file_dimensions,omitempty"`
 	Variables   []string       `json:"file_variables,omitempty"`
 	Summary     map[string]int `json:"summary"`
+	Quality     *qualityReport `json:"quality,omitempty"`
+	Warnings    []string       `json:"warnings,omitempty"`
+}
+
+// qualityReport says how the input's own quality information screens columns.
+type qualityReport struct {
+	LWPKind     string       `json:"lwp_kind"`
+	Masks       []maskReport `json:"masks"`
+	Screened    int64        `json:"columns_screened"`
+	Assumptions []string     `json:"assumptions"`
+}
+
+type maskReport struct {
+	Mask    string `json:"mask"`
+	Screens string `json:"screens"`
+	Columns int64  `json:"columns"`
 }
 
 type dimReport struct {
@@ -99,6 +120,8 @@ type roleReport struct {
 	Stats        *statsReport `json:"values,omitempty"`
 	Searched     *searched    `json:"searched,omitempty"`
 	Use          string       `json:"use"`
+	Note         string       `json:"note,omitempty"`
+	FlagCodes    []string     `json:"flag_codes,omitempty"`
 }
 
 type searched struct {
@@ -123,25 +146,40 @@ var displayUnits = map[grid.Role]struct {
 }{
 	grid.RoleLWP: {"g m-2", 1e3}, grid.RoleRe: {"um", 1e6}, grid.RoleTau: {"1", 1}, grid.RoleCTT: {"K", 1},
 	grid.RoleCTP: {"hPa", 1e-2}, grid.RoleCTH: {"m", 1}, grid.RoleCloudFraction: {"1", 1}, grid.RoleLWPSD: {"g m-2", 1e3},
+	grid.RoleNd: {"cm-3", 1e-6}, grid.RolePhase: {"(codes)", 1}, grid.RoleMultilayer: {"(codes)", 1},
 }
 
 // roleUse says what the physics does with each role.
 var roleUse = map[grid.Role]string{
-	grid.RoleLWP:           "required by every diagnostic",
-	grid.RoleRe:            "required by every diagnostic",
+	grid.RoleLWP:           "required by every diagnostic (absent: from tau and r_e, --lwp-profile, QC bit lwp_from_optical_thickness)",
+	grid.RoleRe:            "required by every diagnostic (absent: from LWP and nd or --droplet-number, QC bit droplet_number_assumed)",
 	grid.RoleTau:           "droplet number (absent: tau from LWP and r_e by the adiabatic relation)",
-	grid.RoleCTT:           "condensation rate, air state, ice screening (absent: --default-ctt, QC bit air_state_assumed)",
+	grid.RoleCTT:           "condensation rate, air state, ice screening (absent: standard atmosphere at CTP or CTH, QC bit air_state_standard_atmosphere; else --default-ctt, QC bit air_state_assumed)",
 	grid.RoleCTP:           "condensation rate, air state (absent: --default-ctp, QC bit air_state_assumed)",
 	grid.RoleCTH:           "cloud-base height for the sub-cloud evaporation (absent: dry adiabat to --surface-pressure, QC bit cloud_base_height_assumed)",
-	grid.RoleCloudFraction: "read but not used by the diagnostics",
-	grid.RoleLWPSD:         "gamma shape of the drizzle probability (absent: --gamma-shape, QC bit gamma_shape_assumed)",
+	grid.RoleCloudFraction: "in-cloud LWP = LWP / cloud fraction when the LWP is a grid-box mean (otherwise not used)",
+	grid.RoleLWPSD:         "gamma shape of the drizzle probability (absent: --gamma-shape, QC bit gamma_shape_assumed; never a retrieval uncertainty)",
+	grid.RoleNd:            "r_e from LWP when the input has no r_e (QC bit droplet_number_from_input; otherwise not used)",
+	grid.RolePhase:         "screens columns whose phase is not liquid (QC bit phase_not_liquid)",
+	grid.RoleMultilayer:    "screens columns flagged multi-layer (QC bit multi_layer_cloud)",
 }
 
 func runInspect(e *env, args []string) error {
 	fs := newFlagSet(e, "inspect", inspectUsage)
 	binds := fs.StringArray("bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable)")
 	asJSON := fs.Bool("json", false, "print one JSON object instead of the text report")
+	inp := addInputFlags(fs)
+	nd := fs.Float64("droplet-number", 0, "as for process: the droplet number concentration, cm-3, assumed where the input has LWP but no effective radius (0: none)")
 	if err := parseFlags(e, fs, inspectUsage, args); err != nil {
+		return err
+	}
+	p := microphys.DefaultParams()
+	p.DropletNumber = *nd * 1e6
+	if err := p.Validate(); err != nil {
+		return usagef("--droplet-number: %v", err)
+	}
+	masks, err := inp.check()
+	if err != nil {
 		return err
 	}
 	switch fs.NArg() {
@@ -159,7 +197,7 @@ func runInspect(e *env, args []string) error {
 		}
 		ovs = append(ovs, o)
 	}
-	rep, err := inspectFile(fs.Arg(0), ovs)
+	rep, err := inspectFile(fs.Arg(0), ovs, inp, masks, p)
 	if rep == nil {
 		return err
 	}
@@ -179,8 +217,10 @@ func runInspect(e *env, args []string) error {
 // inspectFile builds the report of one file. When the file opens but a
 // required role is missing (or a binding is ambiguous), it returns a partial
 // report and the error.
-func inspectFile(path string, ovs []grid.Override) (*inspectReport, error) {
-	in, err := grid.Open(path, grid.OpenOptions{Overrides: ovs, OverrideHint: "--bind ROLE=VAR[:UNITS]"})
+func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid.MaskSpec, p microphys.Params) (*inspectReport, error) {
+	opt := grid.OpenOptions{Overrides: ovs, OverrideHint: "--bind ROLE=VAR[:UNITS]"}
+	inp.openOptions(&opt, masks, p)
+	in, err := grid.Open(path, opt)
 	if err != nil {
 		if !errors.Is(err, grid.ErrNoVariable) && !errors.Is(err, grid.ErrAmbiguous) && !errors.Is(err, grid.ErrUnits) && !errors.Is(err, grid.ErrLayout) {
 			return nil, err
@@ -217,7 +257,14 @@ func inspectFile(path string, ovs []grid.Override) (*inspectReport, error) {
 	for _, s := range stats {
 		byRole[s.Role] = s
 	}
+	qc, err := in.QualityStats()
+	if err != nil {
+		return nil, err
+	}
 	for _, rule := range grid.RoleRules {
+		if rule.Internal {
+			continue
+		}
 		rr := roleReport{Role: string(rule.Role), Description: rule.Description, Required: rule.Required, Canonical: rule.Units, Use: roleUse[rule.Role]}
 		b, ok := in.Binding(rule.Role)
 		if !ok {
@@ -232,6 +279,12 @@ func inspectFile(path string, ovs []grid.Override) (*inspectReport, error) {
 		}
 		rr.UnitsGiven, rr.UnitsFrom, rr.Conversion = b.UnitsGiven, b.UnitsFrom, b.Conv.String()
 		rr.Type, rr.Packing, rr.Chunks, rr.Deflate = b.Type.String(), b.Packing, b.Chunks, b.Deflate
+		rr.Note = b.Note
+		if c := qc.Codes[rule.Role.Index()]; c != nil {
+			for k, n := range c {
+				rr.FlagCodes = append(rr.FlagCodes, fmt.Sprintf("%s: %d", b.Decoder.FlagMeanings[k], n))
+			}
+		}
 		if s, ok := byRole[rule.Role]; ok {
 			du := displayUnits[rule.Role]
 			rr.Stats = &statsReport{Units: du.units, Min: jnum(s.Min * du.scale), Max: jnum(s.Max * du.scale), Mean: jnum(s.Mean * du.scale),
@@ -239,18 +292,31 @@ func inspectFile(path string, ovs []grid.Override) (*inspectReport, error) {
 		}
 		rep.Roles = append(rep.Roles, rr)
 	}
-	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return in.Has(r) })
+	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return in.Has(r) }, p.DropletNumber > 0)
 	rep.summarise()
+	kind := "in-cloud: " + in.GridMeanWhy
+	if in.GridMean {
+		kind = "grid-box mean: " + in.GridMeanWhy
+	}
+	q := &qualityReport{LWPKind: kind, Masks: []maskReport{}, Screened: qc.Screened, Assumptions: assumed(in, p)}
+	if q.Assumptions == nil {
+		q.Assumptions = []string{}
+	}
+	for k, m := range in.Masks {
+		q.Masks = append(q.Masks, maskReport{Mask: m.Name(), Screens: m.Describe(), Columns: qc.Masks[k]})
+	}
+	rep.Quality = q
+	rep.Warnings = in.Warnings
 	return rep, nil
 }
 
 func searchedFor(rule grid.RoleRule) *searched {
-	s := &searched{StandardNames: rule.StandardNames, Names: rule.CommonNames}
+	s := &searched{StandardNames: append(slices.Clone(rule.StandardNames), rule.LowerNames...), Names: append(slices.Clone(rule.CommonNames), rule.GenericNames...)}
 	if s.StandardNames == nil {
 		s.StandardNames = []string{}
 	}
 	if rule.Role == grid.RoleLWPSD {
-		s.Note = "an LWP standard_name with cell_methods standard_deviation, or a variable named in the LWP's ancillary_variables with a standard_error modifier"
+		s.Note = "an LWP standard_name with cell_methods standard_deviation, or a variable named in the LWP's ancillary_variables with a standard_deviation modifier (never a retrieval uncertainty: standard_error, *_unc, *_uncertainty)"
 	}
 	return s
 }
@@ -265,10 +331,13 @@ func partialReport(path string, fi *grid.FileInfo, err error) *inspectReport {
 		rep.Variables = append(rep.Variables, v.Name+"("+strings.Join(v.Dims, ", ")+")")
 	}
 	for _, rule := range grid.RoleRules {
+		if rule.Internal {
+			continue
+		}
 		rep.Roles = append(rep.Roles, roleReport{Role: string(rule.Role), Description: rule.Description, Required: rule.Required,
 			Canonical: rule.Units, Use: roleUse[rule.Role], Searched: searchedFor(rule)})
 	}
-	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return looksPresent(fi, r.Rule()) })
+	rep.Diagnostics = diagnosticsFor(func(r grid.Role) bool { return looksPresent(fi, r.Rule()) }, false)
 	for i := range rep.Diagnostics {
 		rep.Diagnostics[i].Computable = false
 	}
@@ -295,16 +364,31 @@ func looksPresent(fi *grid.FileInfo, rule grid.RoleRule) bool {
 
 // diagnosticsFor says, for every output, whether it can be computed with the
 // roles present and which defaults it then uses.
-func diagnosticsFor(has func(grid.Role) bool) []diagReport {
+func diagnosticsFor(has func(grid.Role) bool, dropletNumber bool) []diagReport {
 	d := microphys.DefaultParams()
-	var req []string
-	for _, r := range []grid.Role{grid.RoleLWP, grid.RoleRe} {
-		if !has(r) {
-			req = append(req, fmt.Sprintf("%s (%s)", r, r.Rule().Description))
+	var req, completed []string
+	lwpOK := has(grid.RoleLWP) || (has(grid.RoleTau) && has(grid.RoleRe))
+	if !lwpOK {
+		req = append(req, fmt.Sprintf("%s (%s, or tau and r_e)", grid.RoleLWP, grid.RoleLWP.Rule().Description))
+	} else if !has(grid.RoleLWP) {
+		completed = append(completed, "LWP from tau and r_e (--lwp-profile; QC bit lwp_from_optical_thickness)")
+	}
+	switch {
+	case has(grid.RoleRe) || !lwpOK:
+		if !has(grid.RoleRe) && !has(grid.RoleTau) {
+			req = append(req, fmt.Sprintf("%s (%s, or with LWP a droplet number: nd or --droplet-number)", grid.RoleRe, grid.RoleRe.Rule().Description))
 		}
+	case has(grid.RoleNd):
+		completed = append(completed, "r_e from LWP and the input droplet number (QC bit droplet_number_from_input)")
+	case dropletNumber:
+		completed = append(completed, "r_e from LWP and the --droplet-number assumption (QC bit droplet_number_assumed)")
+	default:
+		req = append(req, fmt.Sprintf("%s (%s, or with LWP a droplet number: nd or --droplet-number)", grid.RoleRe, grid.RoleRe.Rule().Description))
 	}
 	air := ""
 	switch {
+	case !has(grid.RoleCTT) && (has(grid.RoleCTP) || has(grid.RoleCTH)):
+		air = "air state: cloud-top temperature from the U.S. Standard Atmosphere 1976 at the cloud-top pressure or height (QC bit air_state_standard_atmosphere)"
 	case !has(grid.RoleCTT) && !has(grid.RoleCTP):
 		air = fmt.Sprintf("air state: default CTT %g K and CTP %g hPa used (QC bit air_state_assumed)", d.DefaultCTT, d.DefaultCTP/100)
 	case !has(grid.RoleCTT):
@@ -325,6 +409,7 @@ func diagnosticsFor(has func(grid.Role) bool) []diagReport {
 		if dr.Missing == nil {
 			dr.Missing = []string{}
 		}
+		dr.Defaults = append(dr.Defaults, completed...)
 		if air != "" {
 			dr.Defaults = append(dr.Defaults, air)
 		}
@@ -456,7 +541,11 @@ func (r *inspectReport) writeText(w io.Writer) error {
 			fmt.Fprintf(tw, "    in file:\t%s\n", rr.InFile)
 		}
 		fmt.Fprintf(tw, "    why:\t%s\n", rr.Reason)
-		fmt.Fprintf(tw, "    units:\t%q (%s) -> %s, conversion %s\n", rr.UnitsGiven, rr.UnitsFrom, rr.Canonical, rr.Conversion)
+		if rr.Canonical == "" {
+			fmt.Fprintf(tw, "    units:\tnone (flag codes, read as they are)\n")
+		} else {
+			fmt.Fprintf(tw, "    units:\t%q (%s) -> %s, conversion %s\n", rr.UnitsGiven, rr.UnitsFrom, rr.Canonical, rr.Conversion)
+		}
 		fmt.Fprintf(tw, "    decoding:\t%s\n", rr.Packing)
 		storage := "contiguous"
 		if rr.Chunks != nil {
@@ -476,8 +565,28 @@ func (r *inspectReport) writeText(w io.Writer) error {
 			fmt.Fprintf(tw, "    values:\tmin %s, max %s, mean %s %s\n", num(s.Min), num(s.Max), num(s.Mean), s.Units)
 			fmt.Fprintf(tw, "    missing:\t%.2f %% (%d of %d)\n", 100*s.FillFraction, s.Missing, s.Valid+s.Missing)
 		}
+		if len(rr.FlagCodes) > 0 {
+			fmt.Fprintf(tw, "    flag codes:\t%s (columns screened with QC bit input_flag_code, not values)\n", strings.Join(rr.FlagCodes, ", "))
+		}
+		if rr.Note != "" {
+			fmt.Fprintf(tw, "    note:\t%s\n", rr.Note)
+		}
 		fmt.Fprintf(tw, "    use:\t%s\n", rr.Use)
 		tw.Flush()
+	}
+	if q := r.Quality; q != nil {
+		fmt.Fprintln(w, "\nquality:")
+		fmt.Fprintf(w, "  LWP kind: %s\n", q.LWPKind)
+		for _, m := range q.Masks {
+			fmt.Fprintf(w, "  mask %s: screens %s; columns: %d\n", m.Mask, m.Screens, m.Columns)
+		}
+		fmt.Fprintf(w, "  columns screened by masks and flag codes: %d\n", q.Screened)
+		for _, a := range q.Assumptions {
+			fmt.Fprintf(w, "  assumed: %s\n", a)
+		}
+	}
+	for _, x := range r.Warnings {
+		fmt.Fprintf(w, "warning: %s\n", x)
 	}
 	fmt.Fprintln(w, "\ndiagnostics:")
 	var can, cannot []string

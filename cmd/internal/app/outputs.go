@@ -137,6 +137,10 @@ func gridVars(defs []outputDef, inputVars string, pack bool) []grid.OutputVar {
 		masks[i] = int(f.Bit)
 		words[i] = f.Name
 	}
+	for _, f := range microphys.InputQCFlags { // bits 16 and up: the inputs' quality and completion
+		masks = append(masks, int(f.Bit))
+		words = append(words, f.Name)
+	}
 	var maxMask int
 	for _, m := range masks {
 		maxMask |= m

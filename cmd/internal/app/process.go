@@ -71,6 +71,7 @@ type processOptions struct {
 	quantize                   int
 	slot                       string // internal: "k/n" for a child process of --jobs
 	phys                       *physicsFlags
+	inp                        *inputFlags
 }
 
 func runProcess(e *env, args []string) error {
@@ -105,7 +106,12 @@ func runProcess(e *env, args []string) error {
 	_ = fs.MarkHidden("child-slot")
 	_ = fs.MarkHidden("io-only")
 	o.phys = addPhysicsFlags(fs)
+	o.inp = addInputFlags(fs)
 	if err := parseFlags(e, fs, processUsage, args); err != nil {
+		return err
+	}
+	masks, err := o.inp.check()
+	if err != nil {
 		return err
 	}
 	if fs.NArg() == 0 {
@@ -213,7 +219,7 @@ func runProcess(e *env, args []string) error {
 		}()
 	}
 
-	job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, args: args, shardName: shardName}
+	job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, masks: masks, args: args, shardName: shardName}
 	job.digest = job.paramDigest()
 
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
@@ -289,6 +295,7 @@ type processJob struct {
 	params    microphys.Params
 	defs      []outputDef
 	overrides []grid.Override
+	masks     []grid.MaskSpec
 	args      []string
 	shardName string
 	digest    string
@@ -296,6 +303,13 @@ type processJob struct {
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
+}
+
+func (j *processJob) inputs() *inputFlags {
+	if j.o.inp == nil {
+		j.o.inp = defaultInputFlags()
+	}
+	return j.o.inp
 }
 
 func (j *processJob) getModel() (*microphys.Model, error) {
@@ -318,6 +332,7 @@ func (j *processJob) paramDigest() string {
 		[2]string{"io_only", strconv.FormatBool(j.o.ioOnly)},
 		[2]string{"binds", strings.Join(j.o.binds, ";")},
 		[2]string{"version", Version()})
+	pairs = append(pairs, j.inputs().settings()...)
 	return batch.Digest(pairs)
 }
 
@@ -332,6 +347,9 @@ func (j *processJob) report(r batch.Record) {
 	case "done":
 		fmt.Fprintf(j.e.stderr, "warmrain: %s -> %s: %d columns, %.1f %% screened, %.2f s\n",
 			r.Input, r.Output, r.Columns, 100*r.ScreenedFraction, r.Seconds)
+		if len(r.ScreenedBy) > 0 {
+			fmt.Fprintf(j.e.stderr, "warmrain: %s: screened by the product's quality information: %s\n", r.Input, strings.Join(r.ScreenedBy, "; "))
+		}
 	case "skipped":
 		fmt.Fprintf(j.e.stderr, "warmrain: %s: complete output %s exists, skipped (--redo to process again)\n", r.Input, r.Output)
 	case "interrupted":
@@ -403,13 +421,22 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		force = true
 	}
 	opt := grid.OpenOptions{Overrides: j.overrides, OverrideHint: "--bind ROLE=VAR[:UNITS]", SlabBytes: j.o.slabMB << 20}
+	j.inputs().openOptions(&opt, j.masks, j.params)
 	in, err := grid.Open(input, opt)
 	if err != nil {
 		return finish("failed", err)
 	}
 	defer in.Close()
+	for _, w := range in.Warnings {
+		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
+	}
+	assumed := assumed(in, j.params)
 	var used []string
 	for _, b := range in.Bindings() {
+		if b.Role.Rule().Internal {
+			used = append(used, "masked="+b.Var)
+			continue
+		}
 		used = append(used, fmt.Sprintf("%s=%s", b.Role, b.Var))
 	}
 	wopt := grid.DefaultWriteOptions()
@@ -424,7 +451,18 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	wopt.HistoryLine = fmt.Sprintf("%s: warmrain %s process %s", time.Now().UTC().Format("2006-01-02T15:04:05Z"), Version(), joinArgs(j.args))
 	wopt.Globals = j.globals(id)
+	if len(assumed) > 0 {
+		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_assumptions", Value: strings.Join(assumed, " ")})
+	}
+	if len(j.inputs().masks) > 0 {
+		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
+	}
 	vars := gridVars(j.defs, strings.Join(used, " "), j.o.pack)
+	if len(assumed) > 0 { // a constant assumption is stated in every output's comment
+		for k := range vars {
+			vars[k].Comment = appendSentences(vars[k].Comment, assumed)
+		}
+	}
 	if j.o.quantize > 0 {
 		for k := range vars {
 			if vars[k].Type == grid.Float32 {
@@ -443,6 +481,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		}
 	}
 	var screened atomic.Int64
+	var counts tally
 	popt := grid.ProcessOptions{Workers: j.workers(), SkipCompute: j.o.ioOnly, Cancel: ctx.Done()}
 	if progress && isTerminal(j.e.stderr) && !j.o.noProgess {
 		popt.Progress = progressLine(j.e.stderr, input, t0)
@@ -451,7 +490,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if j.o.stats {
 		popt.Stats = &stats
 	}
-	err = grid.Process(in, out, popt, j.compute(&screened))
+	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts))
 	if j.o.stats {
 		busy := stats.Read + stats.Write
 		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s on %d workers; waited for input %.2f s\n",
@@ -472,6 +511,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		return finish("failed", err)
 	}
 	rec.Columns = in.Layout.Columns
+	rec.ScreenedBy = in.Lines(&counts.c)
 	if rec.Columns > 0 {
 		rec.ScreenedFraction = math.Round(float64(screened.Load())/float64(rec.Columns)*1e4) / 1e4
 	}
@@ -489,13 +529,28 @@ func (j *processJob) workers() int {
 }
 
 // compute returns the per-slab kernel: inputs from the slab's canonical
-// slices, one microphys.Model.Column call per column, outputs scaled to the
-// file units. It allocates nothing per column.
-func (j *processJob) compute(screened *atomic.Int64) grid.ComputeFunc {
+// slices, the product's masks and flag codes, the input completion
+// (microphys.Model.Complete) and one microphys.Model.Column call per column,
+// outputs scaled to the file units. It allocates nothing per column.
+func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
 	iCTT, iCTP, iCTH, iSD := grid.RoleCTT.Index(), grid.RoleCTP.Index(), grid.RoleCTH.Index(), grid.RoleLWPSD.Index()
+	iNd, iCF := grid.RoleNd.Index(), grid.RoleCloudFraction.Index()
+	gridMean := gin.GridMean
+	masks := gin.Masks
+	bits := make([]uint32, len(masks))
+	for k, mk := range masks {
+		bits[k] = maskBit(mk)
+	}
+	var codeRoles []int // roles whose decoder screens flag codes
+	for i, r := range grid.Roles {
+		if b, ok := gin.Binding(r); ok && len(b.Decoder.FlagCodes) > 0 {
+			codeRoles = append(codeRoles, i)
+		}
+	}
+	screen := microphys.QCInputScreenMask | uint32(microphys.QCScreenMask)
 	nan := math.NaN()
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
 		at := func(k, i int) float64 {
@@ -507,9 +562,17 @@ func (j *processJob) compute(screened *atomic.Int64) grid.ComputeFunc {
 		var in microphys.Inputs
 		var o microphys.Outputs
 		var n int64
+		var local grid.QualityCounts
+		if len(masks) > 0 || len(codeRoles) > 0 {
+			local.Masks = make([]int64, len(masks))
+			for _, r := range codeRoles {
+				b, _ := gin.Binding(grid.Roles[r])
+				local.Codes[r] = make([]int64, len(b.Decoder.FlagCodes))
+			}
+		}
 		qc := outs[len(defs)]
 		for k, d := range defs {
-			if d.input != "" {
+			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
 				for i := lo; i < hi; i++ {
 					outs[k][i] = src[i] * d.scale
@@ -517,20 +580,59 @@ func (j *processJob) compute(screened *atomic.Int64) grid.ComputeFunc {
 			}
 		}
 		for i := lo; i < hi; i++ {
-			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
-				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
-			m.Column(&in, &o)
-			for k := range defs {
-				if defs[k].get != nil {
-					outs[k][i] = defs[k].get(&o) * defs[k].scale
+			var qin uint32
+			for k, mk := range masks {
+				if mk.Screens(s.In[mk.Role.Index()][i]) {
+					qin |= bits[k]
+					local.Masks[k]++
 				}
 			}
-			qc[i] = float64(o.QC)
+			for _, r := range codeRoles {
+				if c, ok := grid.FlagIndex(s.In[r][i]); ok {
+					qin |= microphys.QCFlagCode
+					local.Codes[r][c]++
+				}
+			}
+			if qin != 0 {
+				local.Screened++
+			}
+			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
+				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
+			if qin == 0 {
+				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
+			}
+			if qin&screen != 0 {
+				for k := range defs {
+					outs[k][i] = nan
+					if defs[k].input == grid.RoleLWP && in.LWP >= 0 {
+						outs[k][i] = in.LWP * defs[k].scale
+					}
+				}
+				qc[i] = float64(qin)
+				n++
+				continue
+			}
+			m.Column(&in, &o)
+			for k := range defs {
+				switch {
+				case defs[k].get != nil:
+					outs[k][i] = defs[k].get(&o) * defs[k].scale
+				case defs[k].input == grid.RoleLWP:
+					outs[k][i] = nan
+					if in.LWP >= 0 {
+						outs[k][i] = in.LWP * defs[k].scale // the LWP used: derived or in-cloud
+					}
+				}
+			}
+			qc[i] = float64(uint32(o.QC) | qin)
 			if o.QC&microphys.QCScreenMask != 0 {
 				n++
 			}
 		}
 		screened.Add(n)
+		if local.Masks != nil {
+			counts.add(&local)
+		}
 	}
 }
 

@@ -55,10 +55,13 @@ func checkOutputsAgainstMicrophys(t *testing.T, out string, in productInputs) {
 	for i := range in.lwp {
 		x := microphys.Inputs{LWP: in.lwp[i], Re: in.re[i], Tau: in.at(in.tau, i), CTT: in.at(in.ctt, i),
 			CTP: math.NaN(), CTH: math.NaN(), LWPStd: math.NaN(), SurfaceRH: math.NaN()}
-		var o microphys.Outputs
-		m.Column(&x, &o)
-		if uint16(qc[i]) != o.QC {
-			t.Fatalf("column %d: QC %v in the file, %v direct", i, microphys.QCNames(uint16(qc[i])), microphys.QCNames(o.QC))
+		o, q, _ := column(t, m, x, math.NaN(), math.NaN(), false)                // completion, then Column, as process does
+		if q&(microphys.QCInputScreenMask|uint32(microphys.QCScreenMask)) != 0 { // screened: fill values in the file
+			nan := math.NaN()
+			o.Nd, o.H, o.POP, o.DrizzleRate, o.CollectorRadius = nan, nan, nan, nan, nan
+		}
+		if uint32(qc[i]) != q {
+			t.Fatalf("column %d: QC %v in the file, %v direct", i, qcNames32(uint32(qc[i])), qcNames32(q))
 		}
 		if !close32(nd[i], o.Nd*1e-6) || !close32(h[i], o.H) || !close32(pop[i], o.POP) ||
 			!close32(rate[i], o.DrizzleRate*86400) || !close32(rad[i], o.CollectorRadius*1e6) {

@@ -290,7 +290,7 @@ func TestBadInputUsage(t *testing.T) {
 		{[]string{"process", in}, "no output given"},
 		{[]string{"process", "-o", out}, "no input given"},
 		{[]string{"process", in, "-o", out, "--bind", "lwp"}, `--bind "lwp"`},
-		{[]string{"process", in, "-o", out, "--bind", "nd=x"}, `--bind "nd=x"`},
+		{[]string{"process", in, "-o", out, "--bind", "nope=x"}, `--bind "nope=x"`},
 		{[]string{"process", in, "-o", out, "--jobs", "0"}, "--jobs >= 1"},
 		{[]string{"process", in, "-o", out, "--force", "--redo"}, "cannot be combined"},
 		{[]string{"process", in, "-o", out, "--no-such-flag"}, "unknown flag: --no-such-flag"},
@@ -463,11 +463,14 @@ func outputGrids(t *testing.T, path string) map[string][]float64 {
 
 // checkScreened checks that column i is screened with exactly the screening
 // bits want and that every diagnostic is fill there.
-func checkScreened(t *testing.T, g map[string][]float64, i int, want uint16, why string) {
+func checkScreened[B uint16 | uint32](t *testing.T, g map[string][]float64, i int, want B, why string) {
 	t.Helper()
-	qc := uint16(g[qcName][i])
-	if got := qc & microphys.QCScreenMask; got != want {
-		t.Errorf("column %d (%s): QC screening bits %v, want %v", i, why, microphys.QCNames(got), microphys.QCNames(want))
+	qc := uint32(g[qcName][i])
+	names := func(q uint32) []string {
+		return append(microphys.QCNames(uint16(q)), microphys.InputQCNames(q)...)
+	}
+	if got := qc & (uint32(microphys.QCScreenMask) | microphys.QCInputScreenMask); got != uint32(want) {
+		t.Errorf("column %d (%s): QC screening bits %v, want %v", i, why, names(got), names(uint32(want)))
 	}
 	if want == 0 {
 		if x := g["droplet_number"][i]; !(x > 0) || math.IsInf(x, 0) {
@@ -495,14 +498,15 @@ func TestBadInputValues(t *testing.T) {
 		in := ncgenBad(t, "bad_values", "nc4", dir)
 		out, _ := processOK(t, in)
 		g := outputGrids(t, out)
+		m, i := microphys.QCInputMissing, microphys.QCInputInvalid
 		cols := []struct {
-			want uint16
+			want uint32
 			why  string
 		}{
-			{0, "good"}, {microphys.QCInputMissing, "LWP NaN"}, {microphys.QCInputInvalid, "LWP +Inf"},
-			{microphys.QCInputInvalid, "LWP -Inf"}, {microphys.QCInputInvalid, "LWP negative"},
-			{microphys.QCInputInvalid, "r_e +Inf"}, {microphys.QCInputMissing, "r_e NaN"},
-			{microphys.QCInputMissing, "LWP _FillValue"}, {microphys.QCInputInvalid, "r_e negative"},
+			{0, "good"}, {uint32(m), "LWP NaN"}, {uint32(i), "LWP +Inf"},
+			{uint32(i), "LWP -Inf"}, {microphys.QCClearSky, "LWP negative: clear sky or retrieval noise, not invalid"},
+			{uint32(i), "r_e +Inf"}, {uint32(m), "r_e NaN"},
+			{uint32(m), "LWP _FillValue"}, {uint32(i), "r_e negative"},
 			{0, "good"}, {0, "good"}, {0, "good"},
 		}
 		for i, c := range cols {
@@ -543,7 +547,7 @@ func TestBadInputValues(t *testing.T) {
 		out, _ := processOK(t, in, "--no-collector")
 		g := outputGrids(t, out)
 		for i := range g[qcName] {
-			checkScreened(t, g, i, 0, "good")
+			checkScreened(t, g, i, uint16(0), "good")
 		}
 	})
 }

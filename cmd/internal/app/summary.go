@@ -40,7 +40,10 @@ several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
 
 Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
-thickness_implausible, read from the file's flag_masks and flag_meanings) are left out.
+thickness_implausible, and those of the input's quality: input_flag_code,
+masked_by_flag_meaning, masked_by_threshold, phase_not_liquid, multi_layer_cloud,
+clear_sky, cloud_fraction_below_minimum; read from the file's flag_masks and
+flag_meanings) are left out.
 LWP is taken from the variable liquid_water_path, or else from the one variable with
 standard_name atmosphere_mass_content_of_cloud_liquid_water.
 
@@ -87,10 +90,15 @@ func mustOutput(name string) *microphys.OutputDecl {
 }
 
 // screenWords are the flag_meanings words of warm_rain_qc whose columns are left out:
-// the screening bits of microphys.QCFlags.
+// the screening bits of microphys.QCFlags and microphys.InputQCFlags.
 var screenWords = func() []string {
 	var w []string
 	for _, f := range microphys.QCFlags {
+		if f.Screen {
+			w = append(w, f.Name)
+		}
+	}
+	for _, f := range microphys.InputQCFlags {
 		if f.Screen {
 			w = append(w, f.Name)
 		}
@@ -307,7 +315,7 @@ type procFile struct {
 	rate     string // "" when absent
 	surf     string
 	qc       string
-	qcScreen uint16 // the file's screening bits
+	qcScreen uint32 // the file's screening bits
 	vars     map[string]varIn
 }
 
@@ -401,7 +409,7 @@ func (p *procFile) bind() error {
 		for i, w := range words {
 			for _, s := range screenWords {
 				if w == s {
-					p.qcScreen |= uint16(int64(m[i]))
+					p.qcScreen |= uint32(int64(m[i]))
 				}
 			}
 		}
@@ -544,7 +552,7 @@ func (p *procFile) step(t int, names []string) (map[string][]float64, []uint16, 
 		}
 		for i, v := range q {
 			// A missing flag (fill) carries no screening information.
-			if !math.IsNaN(v) && uint16(int64(v))&p.qcScreen != 0 {
+			if !math.IsNaN(v) && uint32(int64(v))&p.qcScreen != 0 {
 				qc[i] = 1
 			}
 		}

@@ -312,6 +312,9 @@ type Record struct {
 	// Inputs lists every file of a scene joined with + (Input is then the
 	// first of them); absent for a single file.
 	Inputs []string `json:"inputs,omitempty"`
+	// ScreenedBy counts the columns each of the product's quality masks and flag
+	// codes removed, in words ("sea_ice (flag code of r_e cer): 40").
+	ScreenedBy []string `json:"screened_by,omitempty"`
 }
 
 // Manifest appends records to a JSON-lines file, one write per record so
