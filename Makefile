@@ -3,7 +3,7 @@
 GO ?= go
 BIN := bin/warmrain
 
-.PHONY: all deps build demo test check lint race bench fuzz clean
+.PHONY: all deps build demo test faults check lint race bench fuzz clean
 
 all: build
 
@@ -30,6 +30,10 @@ race: deps
 	GO=$(GO) bash .ci/race.sh
 
 check: test lint race fuzz
+
+# The fault storms of process (kill -9, signals, full disks), left out of make test.
+faults: deps
+	$(GO) test -tags faults -run TestFaults -timeout 20m ./cmd/internal/app
 
 bench: build
 	bash bench/run.sh

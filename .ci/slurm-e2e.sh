@@ -99,6 +99,20 @@ assert all(r["columns"] > 0 for r in recs if r["status"] == "done")
 PY
 [ "$(count_tmp)" = 0 ] && ok "no temporary files after resume" || bad "temporary files after resume"
 
+# 3. The README's job-array script, exactly as printed, in a fresh folder: only the
+#    array size is given on the command line (it overrides the script's #SBATCH line).
+R=$W/readme
+mkdir -p "$R"
+awk '/^A ready job-array script/ {f=1} f && /^```bash$/ {g=1; next} g && /^```$/ {exit} g {print}' README.md > "$R/archive.sbatch"
+if grep -q '^srun warmrain process' "$R/archive.sbatch"; then ok "README job script extracted"; else bad "README job script not found"; fi
+( cd "$R" && ls "$W"/in/*/*.nc > files.txt &&
+  PATH="$REPO/bin:$PATH" sbatch --wait --quiet --array=0-2 archive.sbatch ) \
+  && ok "README job script exited 0" || bad "README job script failed: $(cat "$R"/warmrain_*.out 2>/dev/null | tail -5)"
+got=$(find "$R/results" -maxdepth 1 -name '*_warmrain.nc' 2>/dev/null | wc -l)
+[ "$got" = "$n" ] && ok "README job script wrote all $n outputs into results/" || bad "README job script wrote $got of $n outputs"
+[ "$(grep -c '"status":"done"' "$R/results/manifest.jsonl" 2>/dev/null)" = "$n" ] \
+  && ok "README job script's manifest has $n done records" || bad "README job script's manifest"
+
 trap - EXIT
 bash .ci/slurm/stop-local-slurm.sh >/dev/null 2>&1 || true
 rm -rf "$W"

@@ -114,6 +114,7 @@ type Output struct {
 	chunks  []int
 	deflate int
 	shuffle bool
+	replace bool // Force: the final rename may replace a file
 }
 
 // Vars returns the output variables.
@@ -151,7 +152,7 @@ func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output
 	if err != nil {
 		return nil, err
 	}
-	o := &Output{Path: path, Tmp: tmp, in: in, vars: vars}
+	o := &Output{Path: path, Tmp: tmp, in: in, vars: vars, replace: opt.Force}
 	o.deflate = opt.Deflate
 	if o.deflate == 0 {
 		o.deflate = 1
@@ -282,11 +283,6 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			mode = modeNetCDF4
 		}
 	}
-	ncid, err := ncCreate(o.Tmp, mode)
-	if err != nil {
-		return werr("", err, "cannot create")
-	}
-	o.ncid, o.open = ncid, true
 	// Which variables to copy.
 	var copyVars []*VarInfo
 	if opt.Mode == CopyInput {
@@ -298,6 +294,20 @@ func (o *Output) defineIO(opt WriteOptions) error {
 			copyVars = append(copyVars, in.Info.Var(c))
 		}
 	}
+	// Copies are exact: a variable of a type the classic model lacks (an int64
+	// time coordinate, unsigned ids) makes the output a netCDF-4 file that
+	// keeps the type, instead of a conversion to double.
+	exact := false
+	for _, v := range copyVars {
+		if t, ok := classicType(v.Type); ok && t != v.Type {
+			exact, mode = true, modeNetCDF4
+		}
+	}
+	ncid, err := ncCreate(o.Tmp, mode)
+	if err != nil {
+		return werr("", err, "cannot create")
+	}
+	o.ncid, o.open = ncid, true
 	// Dimensions, in the input's order.
 	need := map[int]bool{}
 	for _, d := range in.Layout.Dims {
@@ -335,6 +345,9 @@ func (o *Output) defineIO(opt WriteOptions) error {
 	var jobs []copyJob
 	for _, v := range copyVars {
 		t, ok := classicType(v.Type)
+		if exact && ok {
+			t = v.Type
+		}
 		if !ok {
 			return &VarError{File: in.Path, Var: v.Name, Problem: "has type string, which a netCDF-4 classic model output cannot hold; use the new-file mode", Err: ErrLayout}
 		}
@@ -769,8 +782,12 @@ func (o *Output) Commit() error {
 		o.Abort()
 		return err
 	}
-	if err := os.Rename(o.Tmp, o.Path); err != nil {
+	if err := placeFile(o.Tmp, o.Path, o.replace); err != nil {
 		o.Abort()
+		var ve *VarError
+		if errors.As(err, &ve) {
+			return err
+		}
 		return &VarError{File: o.Path, Problem: "cannot rename the temporary file into place: " + err.Error(), Err: err}
 	}
 	o.done = true

@@ -466,3 +466,48 @@ func TestProcessStats(t *testing.T) {
 		t.Errorf("compute %v or wait %v longer than possible in %v", st.Compute, st.WaitRead, st.Wall)
 	}
 }
+
+// TestCommitNeverReplacesAFileThatAppeared: a file created at the output path
+// after Create (another run writing the same output) is kept, Commit fails
+// with ErrExists and leaves no temporary file; with Force it is replaced.
+func TestCommitNeverReplacesAFileThatAppeared(t *testing.T) {
+	inPath := ncgen(t, "grid3d.cdl", "nc4")
+	in, err := Open(inPath, OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer in.Close()
+	dir := t.TempDir()
+	path := filepath.Join(dir, "out.nc")
+	run := func(force bool) error {
+		opt := DefaultWriteOptions()
+		opt.Force = force
+		out, err := Create(path, in, testVars(), opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := Process(in, out, ProcessOptions{}, func(s *Slab, outs [][]float64, lo, hi int) {}); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(path, []byte("the other run's output"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return out.Commit()
+	}
+	err = run(false)
+	if !errors.Is(err, ErrExists) || !strings.Contains(err.Error(), "appeared") {
+		t.Fatalf("Commit onto a file that appeared: %v", err)
+	}
+	if b, _ := os.ReadFile(path); string(b) != "the other run's output" {
+		t.Fatal("the file that appeared was replaced")
+	}
+	if ents, _ := os.ReadDir(dir); len(ents) != 1 {
+		t.Fatalf("folder holds %v", ents)
+	}
+	if err := run(true); err != nil {
+		t.Fatalf("with Force: %v", err)
+	}
+	if b, _ := os.ReadFile(path); string(b) == "the other run's output" {
+		t.Fatal("Force did not replace the file")
+	}
+}

@@ -421,9 +421,6 @@ func (fi *FileInfo) detach() {
 	}
 }
 
-// sceneName is how errors and reports name a scene: its files joined with +.
-func sceneName(files []string) string { return strings.Join(files, "+") }
-
 // findLatLon2D takes, when the layout has no latitude and longitude yet, the
 // one 2-D latitude and the one 2-D longitude variable on exactly the grid's
 // (y, x) dimensions, by standard_name, units or name: level-2 swaths of the

@@ -75,3 +75,33 @@ func globEscape(s string) string {
 	}
 	return b.String()
 }
+
+// placeFile moves the complete temporary file tmp to its final name path.
+// Unless replace is set it never replaces a file that is there, even one that
+// appeared after every earlier check (another run writing the same output):
+// the move is a hard link, which fails when the name exists, then the
+// temporary name is removed. On a file system without hard links it falls
+// back to a check and a rename. Errors wrap ErrExists when path was there.
+func placeFile(tmp, path string, replace bool) error {
+	if replace {
+		return os.Rename(tmp, path)
+	}
+	err := os.Link(tmp, path)
+	if err == nil {
+		return os.Remove(tmp)
+	}
+	if errors.Is(err, os.ErrExist) {
+		return errAppeared(path)
+	}
+	if errors.Is(err, syscall.EPERM) || errors.Is(err, syscall.ENOTSUP) || errors.Is(err, syscall.EOPNOTSUPP) || errors.Is(err, syscall.EMLINK) {
+		if _, err := os.Lstat(path); err == nil {
+			return errAppeared(path)
+		}
+		return os.Rename(tmp, path)
+	}
+	return err
+}
+
+func errAppeared(path string) error {
+	return &VarError{File: path, Problem: "appeared while this output was written (another run writing the same output?); the file there is kept and this run's output discarded. Check which run wrote it, then rerun with --redo or --force to replace it", Err: ErrExists}
+}

@@ -3,6 +3,7 @@ package microphys
 import (
 	"errors"
 	"fmt"
+	"hash/maphash"
 	"math"
 	"strconv"
 	"strings"
@@ -186,10 +187,15 @@ func verifyTables(m *Model, t *collTable) error {
 	return nil
 }
 
-// spreadIndex is the k-th of tableVerifyNodes indices spread over [0, n) (a fixed
-// pseudo-random pick, so that every part of a table is sampled over the verifications).
+// verifySalt makes every process check other nodes: a saved table altered at nodes
+// other than a fixed few (and its hash recomputed) is found by some of the loads.
+var verifySalt = maphash.Bytes(maphash.MakeSeed(), nil)
+
+// spreadIndex is the k-th of tableVerifyNodes indices spread over [0, n): a
+// pseudo-random pick that changes with verifySalt from process to process, so that
+// every part of a table is sampled over the verifications.
 func spreadIndex(k, n int) int {
-	h := uint64(k+1) * 0x9e3779b97f4a7c15
+	h := (uint64(k+1) + verifySalt) * 0x9e3779b97f4a7c15
 	h ^= h >> 29
 	return int(h % uint64(n))
 }

@@ -170,3 +170,58 @@ func BenchmarkNewModelTables(b *testing.B) {
 		}
 	}
 }
+
+// TestTablesCheckVaries: a saved table altered at one collector node that this
+// process does not check (its hash recomputed) is found when other processes
+// (other salts) check other nodes: the checked nodes vary (common practice for
+// sampled integrity checks).
+func TestTablesCheckVaries(t *testing.T) {
+	p := DefaultParams()
+	m, err := NewModel(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	data := m.Tables()
+	nColl := len(m.tab.coll.state)
+	saved := verifySalt
+	defer func() { verifySalt = saved }()
+	checked := map[int]bool{}
+	for k := 0; k < tableVerifyNodes; k++ {
+		checked[spreadIndex(k, nColl)] = true
+	}
+	node := -1
+	for i := nColl / 3; i < nColl; i++ { // a node whose value matters (not a NaN one)
+		if !checked[i] && m.tab.coll.vals[i*tabVals] == m.tab.coll.vals[i*tabVals] && m.tab.coll.vals[i*tabVals] != 0 {
+			node = i
+			break
+		}
+	}
+	off := len(tableMagic) + 4 + len(p.TableKey()) + 4 + 4*tabVals*node
+	bad := append([]byte(nil), data...)
+	bad[off+2] ^= 0x10
+	h := fnv64(bad[:len(bad)-8])
+	for i := 0; i < 8; i++ {
+		bad[len(bad)-8+i] = byte(h >> (8 * i))
+	}
+	if _, err := NewModelTables(p, bad); err != nil {
+		t.Fatalf("this process's check found a node it does not sample: %v", err)
+	}
+	picks := map[int]bool{}
+	found := 0
+	for salt := uint64(1); salt <= 4*uint64(nColl)/tableVerifyNodes; salt++ {
+		verifySalt = salt * 0x51ed27
+		for k := 0; k < tableVerifyNodes; k++ {
+			picks[spreadIndex(k, nColl)] = true
+		}
+		if picks[node] {
+			if _, err := NewModelTables(p, bad); !errors.Is(err, ErrTablesMismatch) {
+				t.Fatalf("salt %d checks node %d but accepts the altered table: %v", salt, node, err)
+			}
+			found++
+			break
+		}
+	}
+	if found == 0 {
+		t.Fatalf("no salt checks node %d; %d of %d nodes sampled", node, len(picks), nColl)
+	}
+}

@@ -8,7 +8,8 @@ Results are research diagnostics, not for operational forecasting or
 flight-safety decisions; defer to local codes and licensed practice.
 
 Exit codes: 0 success; 1 a runtime failure (a bad input file, an I/O error,
-a failed file in a batch, an interruption by SIGINT or SIGTERM); 2 bad usage.
+a failed file in a batch, an existing output in the way, an interruption
+by SIGINT, SIGTERM or SIGHUP); 2 bad usage.
 
 Data go to stdout or files; messages go to stderr.
 
@@ -31,9 +32,13 @@ Data go to stdout or files; messages go to stderr.
 	to a temporary file in the target folder and renamed when complete.
 
 	A rerun skips inputs whose output is complete (same input identity, parameters
-	and version recorded in its provenance) and redoes the others. Batch runs
-	write a JSON-lines manifest. SIGINT/SIGTERM stop cleanly: the file in progress
-	is removed, what completed is recorded, the exit code is 1.
+	and build recorded in its provenance) and redoes warmrain's own outputs of the
+	same input that are not. An existing file is never replaced otherwise: other
+	parameters need --redo, another input's output or any other file --force; the
+	refusal comes before any work. With several inputs each file runs in a worker
+	process, so a crash in the C libraries fails that file alone. Batch runs write
+	a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
+	progress is removed, what completed is recorded, the exit code is 1.
 
 	Example:
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
@@ -42,7 +47,7 @@ Data go to stdout or files; messages go to stderr.
 	Options:
 	  -o, --output string                 output file (one input) or folder (several inputs)
 	      --name string                   output name pattern in a folder: {stem} {name} {parent}
-	                                      {index} (default "{stem}_warmrain.nc")
+	                                      {relpath} {index} (default "{stem}_warmrain.nc")
 	      --augment[=true|false]          write a copy of the input with the new variables added
 	                                      (default: a new file with the coordinates and the new
 	                                      variables)
@@ -61,9 +66,10 @@ Data go to stdout or files; messages go to stderr.
 	                                      (smaller, faster; precision in README)
 	      --significant-digits int        lossy: keep this many significant decimal digits in
 	                                      float outputs (CF quantization metadata; 0: off)
-	  -f, --force[=true|false]            overwrite existing outputs (inputs are never overwritten)
-	      --redo[=true|false]             process again even when a complete output exists
-	                                      (replaces outputs written by warmrain)
+	  -f, --force[=true|false]            replace any existing file at an output path (inputs are
+	                                      never overwritten)
+	      --redo[=true|false]             process again and replace warmrain's outputs of the same
+	                                      input (also those of other parameters)
 	      --shard string                  process only shard I of N (I/N, 0 <= I < N) of the
 	                                      sorted input list
 	      --shard-count int               shard count for a Slurm array whose ids are not a plain range
@@ -77,6 +83,9 @@ Data go to stdout or files; messages go to stderr.
 	      --no-progress[=true|false]      no progress line (it is shown only when stderr is a terminal)
 	      --slab-mb int                   memory budget of one slab, MiB (three are in flight)
 	                                      (default 32)
+	      --memory-mb int                 memory bound of one process, MiB: inputs whose chunking
+	                                      needs more are read in smaller slabs, or refused with
+	                                      the estimate (default 256)
 	      --autoconversion string         autoconversion scheme: kk2000, kessler1969,
 	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
 	      --collision string              collision efficiency of the collector drop: hall1980,

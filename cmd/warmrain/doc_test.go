@@ -22,7 +22,7 @@ func manual(t *testing.T) string {
 	b.WriteString("cloud retrievals (liquid water path and cloud-top effective radius).\n\n")
 	b.WriteString("Results are research diagnostics, not for operational forecasting or\nflight-safety decisions; defer to local codes and licensed practice.\n\n")
 	b.WriteString("Exit codes: 0 success; 1 a runtime failure (a bad input file, an I/O error,\n")
-	b.WriteString("a failed file in a batch, an interruption by SIGINT or SIGTERM); 2 bad usage.\n\n")
+	b.WriteString("a failed file in a batch, an existing output in the way, an interruption\nby SIGINT, SIGTERM or SIGHUP); 2 bad usage.\n\n")
 	b.WriteString("Data go to stdout or files; messages go to stderr.\n")
 	for _, c := range []string{"process", "inspect", "column", "summary", "demo", "lint", "version"} {
 		var o, e bytes.Buffer

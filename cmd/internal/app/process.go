@@ -1,7 +1,6 @@
 package app
 
 import (
-	"bufio"
 	"context"
 	"encoding/json"
 	"errors"
@@ -15,6 +14,7 @@ import (
 	"runtime"
 	"runtime/debug"
 	"runtime/pprof"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -44,9 +44,13 @@ output is named by --name. Outputs appear whole or not at all: each is written
 to a temporary file in the target folder and renamed when complete.
 
 A rerun skips inputs whose output is complete (same input identity, parameters
-and version recorded in its provenance) and redoes the others. Batch runs
-write a JSON-lines manifest. SIGINT/SIGTERM stop cleanly: the file in progress
-is removed, what completed is recorded, the exit code is 1.
+and build recorded in its provenance) and redoes warmrain's own outputs of the
+same input that are not. An existing file is never replaced otherwise: other
+parameters need --redo, another input's output or any other file --force; the
+refusal comes before any work. With several inputs each file runs in a worker
+process, so a crash in the C libraries fails that file alone. Batch runs write
+a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
+progress is removed, what completed is recorded, the exit code is 1.
 
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
@@ -64,6 +68,7 @@ type processOptions struct {
 	manifest                   string
 	checksum, quiet, noProgess bool
 	slabMB                     int
+	memoryMB                   int
 	ioOnly                     bool
 	cpuProfile                 string
 	stats                      bool
@@ -78,7 +83,7 @@ func runProcess(e *env, args []string) error {
 	fs := newFlagSet(e, "process", processUsage)
 	var o processOptions
 	fs.StringVarP(&o.output, "output", "o", "", "output file (one input) or folder (several inputs)")
-	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {index}")
+	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {relpath} {index}")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
 	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd)")
@@ -87,8 +92,8 @@ func runProcess(e *env, args []string) error {
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
 	fs.BoolVar(&o.pack, "pack", false, "store the bounded outputs as CF-packed 16-bit integers (smaller, faster; precision in README)")
 	fs.IntVar(&o.quantize, "significant-digits", 0, "lossy: keep this many significant decimal digits in float outputs (CF quantization metadata; 0: off)")
-	fs.BoolVarP(&o.force, "force", "f", false, "overwrite existing outputs (inputs are never overwritten)")
-	fs.BoolVar(&o.redo, "redo", false, "process again even when a complete output exists (replaces outputs written by warmrain)")
+	fs.BoolVarP(&o.force, "force", "f", false, "replace any existing file at an output path (inputs are never overwritten)")
+	fs.BoolVar(&o.redo, "redo", false, "process again and replace warmrain's outputs of the same input (also those of other parameters)")
 	fs.StringVar(&o.shard, "shard", "", "process only shard I of N (I/N, 0 <= I < N) of the sorted input list")
 	fs.IntVar(&o.shardCount, "shard-count", 0, "shard count for a Slurm array whose ids are not a plain range")
 	fs.BoolVar(&o.ignoreSlurm, "ignore-slurm", false, "do not shard by the Slurm array variables")
@@ -97,12 +102,13 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no summary line per file")
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no progress line (it is shown only when stderr is a terminal)")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
+	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")
 	fs.BoolVar(&o.ioOnly, "io-only", false, "benchmark: read inputs and write outputs without the physics")
 	fs.StringVar(&o.cpuProfile, "cpu-profile", "", "developers: write a Go CPU profile of the run to this file (see DEVELOPERS.md)")
 	_ = fs.MarkHidden("cpu-profile")
 	fs.BoolVar(&o.stats, "pipeline-stats", false, "developers: print the busy time of each pipeline stage per file on stderr")
 	_ = fs.MarkHidden("pipeline-stats")
-	fs.StringVar(&o.slot, "child-slot", "", "internal")
+	fs.StringVar(&o.slot, "child-slot", "", "internal: run as a worker process of a batch")
 	_ = fs.MarkHidden("child-slot")
 	_ = fs.MarkHidden("io-only")
 	o.phys = addPhysicsFlags(fs)
@@ -120,8 +126,8 @@ func runProcess(e *env, args []string) error {
 	if o.output == "" {
 		return usagef("no output given: use -o FILE or -o FOLDER")
 	}
-	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.quantize < 0 || o.quantize > 7 {
-		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1 and --significant-digits 0-7 are required")
+	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.memoryMB < 64 || o.quantize < 0 || o.quantize > 7 {
+		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1, --memory-mb >= 64 and --significant-digits 0-7 are required")
 	}
 	if o.shard != "" && o.shardCount > 0 {
 		return usagef("--shard and --shard-count cannot be combined (--shard-count is for Slurm arrays)")
@@ -151,20 +157,41 @@ func runProcess(e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	if o.slot != "" {
+		// A worker process of a batch: its tasks come on stdin (runChild).
+		job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, masks: masks, args: args}
+		job.digest = job.paramDigest()
+		ctx, stop := signalContext(job)
+		defer stop()
+		return job.runChild(ctx)
+	}
+	if os.Getenv(childEnv) != "" {
+		return errors.New("a worker process of warmrain process was started without its --child-slot; not starting more processes")
+	}
 	inputs, err := batch.ExpandInputs(fs.Args())
 	if err != nil {
 		return usagef("%v", err)
 	}
 
 	// Where the outputs go.
-	folder := false
+	folder, mkFolder := false, false
 	if st, err := os.Stat(o.output); err == nil && st.IsDir() {
 		folder = true
 	} else if strings.HasSuffix(o.output, "/") || len(inputs) > 1 {
-		if err != nil {
-			return fmt.Errorf("output folder %s does not exist; create it first (several inputs, or an output ending in /, need a folder)", o.output)
+		if err == nil {
+			return fmt.Errorf("output %s is not a folder (several inputs need an output folder)", o.output)
 		}
-		return fmt.Errorf("output %s is not a folder (several inputs need an output folder)", o.output)
+		if !strings.HasSuffix(o.output, "/") {
+			return fmt.Errorf("output folder %s does not exist; several inputs need a folder: end the output with / to have it made", o.output)
+		}
+		// A missing output folder (named with a final /) is made, once its
+		// parent exists (a typing error in a parent folder should not grow a
+		// tree of folders).
+		parent := filepath.Dir(filepath.Clean(o.output))
+		if st, err := os.Stat(parent); err != nil || !st.IsDir() {
+			return fmt.Errorf("output folder %s does not exist, nor does its parent folder %s; create them first (several inputs, or an output ending in /, need a folder)", o.output, parent)
+		}
+		folder, mkFolder = true, true
 	}
 	var outputs []string
 	if folder {
@@ -204,10 +231,11 @@ func runProcess(e *env, args []string) error {
 		shardName = fmt.Sprintf("%d/%d", shard.Index, shard.Count)
 	}
 
-	if o.cpuProfile != "" {
-		f, err := os.Create(o.cpuProfile)
+	if o.cpuProfile != "" && o.slot == "" { // the parent's run only
+		// A new file only: an existing one (an input, anything) is never replaced.
+		f, err := os.OpenFile(o.cpuProfile, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
 		if err != nil {
-			return fmt.Errorf("--cpu-profile: %v", err)
+			return fmt.Errorf("--cpu-profile: %v (the profile is written to a new file only)", err)
 		}
 		if err := pprof.StartCPUProfile(f); err != nil {
 			f.Close()
@@ -219,14 +247,25 @@ func runProcess(e *env, args []string) error {
 		}()
 	}
 
+	if mkFolder {
+		// Many tasks of an array may make it at the same time.
+		if err := os.Mkdir(o.output, 0o755); err != nil && !errors.Is(err, os.ErrExist) {
+			return fmt.Errorf("output folder %s: %w", o.output, err)
+		}
+	}
+
 	job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, masks: masks, args: args, shardName: shardName}
 	job.digest = job.paramDigest()
-
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signalContext(job)
 	defer stop()
 
-	if o.slot != "" {
-		return job.runChild(ctx, inputs, outputs, mine)
+	if why := job.refusals(inputs, outputs, mine); len(why) == 1 && len(mine) == 1 {
+		return errors.New(why[0])
+	} else if len(why) > 0 {
+		for _, w := range why {
+			fmt.Fprintf(job.e.stderr, "warmrain: %s\n", w)
+		}
+		return fmt.Errorf("%d of %d outputs are in the way (see above); nothing was done", len(why), len(mine))
 	}
 
 	var man *batch.Manifest
@@ -235,32 +274,36 @@ func runProcess(e *env, args []string) error {
 		manPath = filepath.Join(o.output, "warmrain-manifest.jsonl")
 	}
 	if manPath != "" {
-		if man, err = batch.OpenManifest(manPath); err != nil {
+		var warn string
+		if man, warn, err = batch.OpenManifest(manPath, inputs); err != nil {
 			return err
+		}
+		if warn != "" {
+			fmt.Fprintf(job.e.stderr, "warmrain: warning: %s\n", warn)
 		}
 		defer man.Close()
 	}
 	job.single = len(mine) == 1
 	if len(mine) == 0 {
-		fmt.Fprintf(e.stderr, "warmrain: shard %s has no files (%d inputs)\n", shardName, len(inputs))
+		fmt.Fprintf(job.e.stderr, "warmrain: shard %s has no files (%d inputs)\n", shardName, len(inputs))
 		return nil
 	}
 	var recs []batch.Record
-	if o.jobs > 1 && len(mine) > 1 {
-		recs, err = job.runChildren(ctx, inputs, outputs, mine, man)
+	unrecorded := 0
+	if len(mine) > 1 {
+		// Several files: each in a supervised worker process (also with --jobs 1),
+		// so that a crash in the C libraries fails that file alone.
+		recs, unrecorded, err = job.runPool(ctx, inputs, outputs, mine, man)
 	} else {
-		for _, i := range mine {
-			if ctx.Err() != nil {
-				break
-			}
-			r := job.one(ctx, inputs[i], outputs[i], true)
-			debug.FreeOSMemory() // the next file starts from the same footprint
-			recs = append(recs, r)
-			job.report(r)
-			if err := man.Add(r); err != nil {
-				fmt.Fprintf(e.stderr, "warmrain: manifest: %v\n", err)
-			}
+		r := job.one(ctx, inputs[mine[0]], outputs[mine[0]], true)
+		recs = append(recs, r)
+		mr := r
+		mr.Error = batch.Truncated(r.Error, batch.MaxErrorText) // the whole text is the command's error
+		if err := man.Add(mr); err != nil {
+			fmt.Fprintf(job.e.stderr, "warmrain: %v\n", err)
+			unrecorded++
 		}
+		job.report(r)
 	}
 	failed := 0
 	for _, r := range recs {
@@ -280,6 +323,9 @@ func runProcess(e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	if unrecorded > 0 {
+		return fmt.Errorf("%d of %d files have no manifest record (see above); the outputs themselves are complete or absent", unrecorded, len(mine))
+	}
 	if failed > 0 {
 		if len(mine) == 1 {
 			return errors.New(recs[0].Error)
@@ -287,6 +333,56 @@ func runProcess(e *env, args []string) error {
 		return failedFiles{failed: failed, total: len(mine)}
 	}
 	return nil
+}
+
+// childEnv marks a worker process of a batch (set by the parent).
+const childEnv = "WARMRAIN_CHILD"
+
+// signalContext returns a context cancelled by SIGINT, SIGTERM and SIGHUP,
+// and by a closed stderr: SIGPIPE is caught (it does not kill the process)
+// and the write that met the closed pipe cancels the run through job's
+// stderr, so that the file in progress is removed and what completed is
+// recorded.
+func signalContext(j *processJob) (context.Context, func()) {
+	ctx, cancel := context.WithCancel(context.Background())
+	sigs := make(chan os.Signal, 4)
+	signal.Notify(sigs, os.Interrupt, syscall.SIGTERM, syscall.SIGHUP, syscall.SIGPIPE)
+	go func() {
+		for {
+			select {
+			case s := <-sigs:
+				if s != syscall.SIGPIPE {
+					cancel()
+				}
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	e := *j.e
+	e.stderr = brokenPipeWriter{w: j.e.stderr, cancel: cancel}
+	j.e = &e
+	return ctx, func() {
+		signal.Stop(sigs)
+		// The last message (the command's error) may still meet a closed stderr:
+		// the write fails instead of killing the process.
+		signal.Ignore(syscall.SIGPIPE)
+		cancel()
+	}
+}
+
+// brokenPipeWriter cancels the run when a write meets a closed pipe.
+type brokenPipeWriter struct {
+	w      io.Writer
+	cancel func()
+}
+
+func (b brokenPipeWriter) Write(p []byte) (int, error) {
+	n, err := b.w.Write(p)
+	if errors.Is(err, syscall.EPIPE) {
+		b.cancel()
+	}
+	return n, err
 }
 
 type processJob struct {
@@ -317,7 +413,9 @@ func (j *processJob) getModel() (*microphys.Model, error) {
 	return j.model, j.modelErr
 }
 
-// paramDigest covers everything that changes an output's contents.
+// paramDigest covers every parameter that changes an output's contents; the
+// build is recorded and compared apart (attrBuild), so that a rebuild redoes
+// outputs while a change of parameters is refused without --redo.
 func (j *processJob) paramDigest() string {
 	var pairs [][2]string
 	for _, s := range j.params.Settings() {
@@ -330,8 +428,7 @@ func (j *processJob) paramDigest() string {
 		[2]string{"significant_digits", strconv.Itoa(j.o.quantize)},
 		[2]string{"pack", strconv.FormatBool(j.o.pack)},
 		[2]string{"io_only", strconv.FormatBool(j.o.ioOnly)},
-		[2]string{"binds", strings.Join(j.o.binds, ";")},
-		[2]string{"version", Version()})
+		[2]string{"binds", strings.Join(j.o.binds, ";")})
 	pairs = append(pairs, j.inputs().settings()...)
 	return batch.Digest(pairs)
 }
@@ -366,17 +463,35 @@ const (
 	attrVersion  = "warmrain_version"
 	attrIdentity = "warmrain_input_identity"
 	attrDigest   = "warmrain_parameters_digest"
+	attrBuild    = "warmrain_build"
 )
 
-// complete reports whether out is a complete output of this input and these
-// parameters, and whether the file (if any) was written by warmrain.
-func (j *processJob) complete(out string, id batch.Identity) (complete, ours bool) {
-	if _, err := os.Stat(out); err != nil {
-		return false, false
+// buildID identifies the build: the SHA-256 of the executable's bytes (as the
+// table cache does), so that any change of the physics, stamped or not, makes
+// earlier outputs incomplete.
+func buildID() string {
+	if h := exeHash(); h != "" {
+		return "sha256:" + h
+	}
+	return ""
+}
+
+// existing reads what output path out already holds (nil: nothing). A file
+// that is not a regular file, or has no warmrain provenance, is not ours.
+func existing(out string) (*batch.Existing, error) {
+	st, err := os.Lstat(out)
+	if errors.Is(err, os.ErrNotExist) {
+		return nil, nil
+	} else if err != nil {
+		return nil, err
+	}
+	ex := &batch.Existing{}
+	if !st.Mode().IsRegular() {
+		return ex, nil // never opened: a FIFO would block, a folder is no output
 	}
 	info, err := grid.Describe(out)
 	if err != nil {
-		return false, false
+		return ex, nil
 	}
 	text := func(name string) string {
 		a, ok := info.Global(name)
@@ -387,15 +502,45 @@ func (j *processJob) complete(out string, id batch.Identity) (complete, ours boo
 		return s
 	}
 	if text(attrVersion) == "" {
-		return false, false
+		return ex, nil
 	}
-	return id.Matches(text(attrIdentity)) && text(attrDigest) == j.digest && text(attrVersion) == Version(), true
+	ex.Ours = true
+	ex.Identity, ex.Digest, ex.Build, ex.Version = text(attrIdentity), text(attrDigest), text(attrBuild), text(attrVersion)
+	if h := text("history"); len(h) >= 20 {
+		ex.Time = h[:20]
+	}
+	return ex, nil
+}
+
+// decide is the resume check of one output (batch.Decide on what is there).
+func (j *processJob) decide(output string, id batch.Identity) (batch.Decision, error) {
+	ex, err := existing(output)
+	if err != nil {
+		return batch.Decision{}, fmt.Errorf("%s: %w", output, err)
+	}
+	return batch.Decide(output, ex, id, j.digest, buildID(), j.o.redo, j.o.force), nil
+}
+
+// refusals checks, before any work, every planned output that exists, and
+// returns the reasons of those that would be refused.
+func (j *processJob) refusals(inputs, outputs []string, mine []int) []string {
+	var out []string
+	for _, i := range mine {
+		id, err := batch.InputIdentity(inputs[i], false)
+		if err != nil {
+			continue // the file's own run reports it
+		}
+		if d, err := j.decide(outputs[i], id); err == nil && d.Action == batch.Refuse {
+			out = append(out, d.Why)
+		}
+	}
+	return out
 }
 
 // one processes one input into one output and returns its manifest record.
 func (j *processJob) one(ctx context.Context, input, output string, progress bool) batch.Record {
 	t0 := time.Now()
-	rec := batch.Record{Input: input, Output: output, Shard: j.shardName}
+	rec := batch.Record{Input: input, Output: output, Shard: j.shardName, Task: taskID(), Digest: j.digest, Build: buildID()}
 	if parts := batch.SceneParts(input); len(parts) > 1 { // a scene joined with +: its first file, and all
 		rec.Input, rec.Inputs = parts[0], parts
 	}
@@ -412,19 +557,38 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if err != nil {
 		return finish("failed", fmt.Errorf("%s: %w", input, err))
 	}
-	force := j.o.force
-	if done, ours := j.complete(output, id); done && !j.o.redo && !force {
+	d, err := j.decide(output, id)
+	if err != nil {
+		return finish("failed", err)
+	}
+	force := false
+	switch d.Action {
+	case batch.Skip:
 		return finish("skipped", nil)
-	} else if ours && !done {
-		force = true // a stale or foreign-parameter output of ours: redo it
-	} else if ours && j.o.redo {
+	case batch.Refuse:
+		return finish("failed", errors.New(d.Why))
+	case batch.Replace:
 		force = true
+		rec.Note = d.Why
 	}
 	opt := grid.OpenOptions{Overrides: j.overrides, OverrideHint: "--bind ROLE=VAR[:UNITS]", SlabBytes: j.o.slabMB << 20}
 	j.inputs().openOptions(&opt, j.masks, j.params)
 	in, err := grid.Open(input, opt)
 	if err != nil {
 		return finish("failed", err)
+	}
+	vars := gridVars(j.defs, "", j.o.pack)
+	if sb, err := j.memoryPlan(in, vars); err != nil {
+		in.Close()
+		return finish("failed", err)
+	} else if sb != opt.SlabBytes {
+		// A chunking that needs smaller slabs to stay in the bound: read it again
+		// with them (the plan is made when the input is opened).
+		in.Close()
+		opt.SlabBytes = sb
+		if in, err = grid.Open(input, opt); err != nil {
+			return finish("failed", err)
+		}
 	}
 	defer in.Close()
 	for _, w := range in.Warnings {
@@ -451,13 +615,16 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	wopt.HistoryLine = fmt.Sprintf("%s: warmrain %s process %s", time.Now().UTC().Format("2006-01-02T15:04:05Z"), Version(), joinArgs(j.args))
 	wopt.Globals = j.globals(id)
+	if j.o.augment {
+		wopt.Globals = keepInputGlobals(wopt.Globals, in.Info)
+	}
 	if len(assumed) > 0 {
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_assumptions", Value: strings.Join(assumed, " ")})
 	}
 	if len(j.inputs().masks) > 0 {
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
 	}
-	vars := gridVars(j.defs, strings.Join(used, " "), j.o.pack)
+	vars = gridVars(j.defs, strings.Join(used, " "), j.o.pack)
 	if len(assumed) > 0 { // a constant assumption is stated in every output's comment
 		for k := range vars {
 			vars[k].Comment = appendSentences(vars[k].Comment, assumed)
@@ -516,6 +683,52 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		rec.ScreenedFraction = math.Round(float64(screened.Load())/float64(rec.Columns)*1e4) / 1e4
 	}
 	return finish("done", nil)
+}
+
+// defaultMemoryMB is the default memory bound of one process (README: Speed and memory).
+const defaultMemoryMB = 256
+
+// memoryPlan estimates the memory of processing in (grid.EstimateMemory, from
+// its chunking) and returns the slab budget to read it with: the chosen one
+// when it fits in --memory-mb, a smaller one when that brings it under the
+// bound (inputs of many small chunks), or an error with the estimate and the
+// fix when no slab size can (a chunk too large to hold).
+func (j *processJob) memoryPlan(in *grid.Input, vars []grid.OutputVar) (int, error) {
+	bound := int64(j.o.memoryMB) << 20
+	sb := j.o.slabMB << 20
+	est := in.EstimateMemory(vars, sb)
+	if est.Total() <= bound {
+		return sb, nil
+	}
+	for s := sb / 2; s >= 1<<20; s /= 2 {
+		if e := in.EstimateMemory(vars, s); e.Total() <= bound {
+			return s, nil
+		}
+	}
+	var dims []string
+	for _, d := range in.Layout.Dims {
+		n := min(d.Len, 512)
+		if len(dims) < len(in.Layout.Dims)-2 {
+			n = 1
+		}
+		dims = append(dims, fmt.Sprintf("%s/%d", d.Name, n))
+	}
+	why := "its chunks are too small (each cached chunk costs bookkeeping)"
+	if est.MaxChunk > bound/4 {
+		why = fmt.Sprintf("one chunk of %s holds %d MB decompressed", est.MaxChunkVar, est.MaxChunk>>20)
+	}
+	return 0, fmt.Errorf("%s: reading it needs about %s, more than --memory-mb %d: %s. Rechunk it first, e.g. nccopy -c '%s' %s rechunked.nc, or raise --memory-mb",
+		in.Path, est, j.o.memoryMB, why, strings.Join(dims, ","), in.Path)
+}
+
+// taskID names the batch task a record comes from: the Slurm job (and array
+// task) id, or "" outside Slurm.
+func taskID() string {
+	job := os.Getenv("SLURM_ARRAY_JOB_ID")
+	if job != "" {
+		return job + "_" + os.Getenv("SLURM_ARRAY_TASK_ID")
+	}
+	return os.Getenv("SLURM_JOB_ID")
 }
 
 func (j *processJob) workers() int {
@@ -648,6 +861,7 @@ func (j *processJob) globals(id batch.Identity) []grid.Global {
 		{Name: attrVersion, Value: Version()},
 		{Name: attrIdentity, Value: id.String()},
 		{Name: attrDigest, Value: j.digest},
+		{Name: attrBuild, Value: buildID()},
 	}
 	for _, s := range j.params.Settings() {
 		g = append(g, grid.Global{Name: "warmrain_parameter_" + s.Name, Value: paramAttr(s)})
@@ -665,6 +879,28 @@ func autoconvRole(p microphys.Params) string {
 		return " (autoconversion, default)"
 	}
 	return " (autoconversion, --autoconversion " + p.Autoconv.String() + ")"
+}
+
+// keepInputGlobals: in a copy of the input (--augment) the input's own
+// descriptive attributes are kept and warmrain's are added after them, not
+// substituted (a "not for science" comment of the data provider must stay).
+func keepInputGlobals(ours []grid.Global, info *grid.FileInfo) []grid.Global {
+	out := slices.Clone(ours)
+	for k, g := range out {
+		switch g.Name {
+		case "title", "summary", "comment", "source", "references":
+		default:
+			continue
+		}
+		a, ok := info.Global(g.Name)
+		if !ok {
+			continue
+		}
+		if old, _ := a.Text(); strings.TrimSpace(old) != "" {
+			out[k].Value = old + "\nwarmrain: " + g.Value
+		}
+	}
+	return out
 }
 
 func referencesText(p microphys.Params) string {
@@ -706,103 +942,146 @@ func progressLine(w io.Writer, name string, t0 time.Time) func(done, total int64
 	}
 }
 
-// runChildren processes the files in --jobs child processes, each a copy of
-// this command with --child-slot k/n; records come back as JSON lines on the
-// child's stdout. Signals reach the children through the process group and
-// are also forwarded.
-func (j *processJob) runChildren(ctx context.Context, inputs, outputs []string, mine []int, man *batch.Manifest) ([]batch.Record, error) {
+// task is what a worker process is given for one file.
+type task struct {
+	Input  string `json:"input"`
+	Output string `json:"output"`
+	Shard  string `json:"shard,omitempty"`
+}
+
+// runPool processes the files in supervised worker processes (batch.Pool),
+// --jobs at a time: each is this command again with --child-slot, given one
+// file at a time on its stdin and answering with the file's record. A worker
+// writes the record to the manifest itself (the manifest's descriptor is
+// passed on), so that the record survives the parent; the parent records the
+// files whose worker died. unrecorded counts records that could not be
+// written.
+func (j *processJob) runPool(ctx context.Context, inputs, outputs []string, mine []int, man *batch.Manifest) (recs []batch.Record, unrecorded int, err error) {
 	exe, err := os.Executable()
 	if err != nil {
-		return nil, fmt.Errorf("--jobs needs the warmrain executable: %w", err)
+		return nil, 0, fmt.Errorf("a batch needs the warmrain executable to start its worker processes: %w", err)
 	}
 	n := min(j.o.jobs, len(mine))
 	if !j.o.ioOnly && tableCachePath(tableCacheDir(), j.params) != "" {
-		// Fill the table cache once here, so that the children load the tables
-		// instead of each integrating them at the same time.
+		// Fill the table cache once here, so that the workers load the tables
+		// instead of each integrating them.
 		if _, err := j.getModel(); err != nil {
-			return nil, err
+			return nil, 0, err
 		}
 	}
-	var mu sync.Mutex
-	var recs []batch.Record
-	var wg sync.WaitGroup
-	errs := make([]error, n)
-	for k := 0; k < n; k++ {
-		args := append([]string{"process"}, j.args...)
-		args = append(args, "--child-slot", fmt.Sprintf("%d/%d", k, n), "--threads", strconv.Itoa(j.workers()))
-		cmd := exec.Command(exe, args...)
-		cmd.Stderr = j.e.stderr
-		cmd.Env = append(os.Environ(), "WARMRAIN_CHILD=1")
-		stdout, err := cmd.StdoutPipe()
-		if err != nil {
-			return nil, err
-		}
-		if err := cmd.Start(); err != nil {
-			return nil, fmt.Errorf("starting a --jobs process: %w", err)
-		}
-		wg.Add(1)
-		go func(k int) {
-			defer wg.Done()
-			sc := bufio.NewScanner(stdout)
-			sc.Buffer(make([]byte, 64<<10), 4<<20)
-			for sc.Scan() {
-				var r batch.Record
-				if json.Unmarshal(sc.Bytes(), &r) != nil {
-					continue
-				}
-				mu.Lock()
-				recs = append(recs, r)
-				j.report(r)
-				if err := man.Add(r); err != nil {
-					fmt.Fprintf(j.e.stderr, "warmrain: manifest: %v\n", err)
-				}
-				mu.Unlock()
-			}
-			if err := cmd.Wait(); err != nil {
-				var ee *exec.ExitError
-				if !errors.As(err, &ee) || ee.ExitCode() != ExitFailure {
-					errs[k] = fmt.Errorf("--jobs process %d: %v", k, err)
-				}
-			}
-		}(k)
-		go func() {
-			<-ctx.Done()
-			if cmd.Process != nil {
-				_ = cmd.Process.Signal(syscall.SIGTERM)
-			}
-		}()
+	tasks := make([]string, len(mine))
+	for k, i := range mine {
+		b, _ := json.Marshal(task{Input: inputs[i], Output: outputs[i], Shard: j.shardName})
+		tasks[k] = string(b)
 	}
-	wg.Wait()
-	if ctx.Err() != nil {
-		return recs, nil
+	pool := batch.Pool{
+		Jobs:      n,
+		Stderr:    j.e.stderr,
+		MaxAnswer: 64 << 10,
+		Grace:     20 * time.Second,
+		Command: func() *exec.Cmd {
+			// The worker's own options come first: after a "--" in the user's
+			// arguments they would be taken as inputs.
+			args := append([]string{"process", "--child-slot", "1/1", "--threads", strconv.Itoa(j.workers())}, j.args...)
+			cmd := exec.Command(exe, args...)
+			cmd.Env = append(os.Environ(), childEnv+"=1")
+			if man != nil {
+				cmd.ExtraFiles = []*os.File{man.File()}
+				cmd.Env = append(cmd.Env, childManifestEnv+"=3")
+			}
+			return cmd
+		},
 	}
-	return recs, errors.Join(errs...)
+	err = pool.Run(ctx, tasks, func(k int, a batch.Answer) {
+		i := mine[k]
+		var r batch.Record
+		written := false
+		switch {
+		case a.Death != nil:
+			r = batch.Record{Input: inputs[i], Output: outputs[i], Status: "failed", Shard: j.shardName, Task: taskID(),
+				Digest: j.digest, Build: buildID(), Signal: a.Death.Signal, Error: a.Death.Message,
+				Time: time.Now().UTC().Format(time.RFC3339)}
+			if ctx.Err() != nil && (a.Death.Signal == "SIGTERM" || a.Death.Signal == "SIGKILL" || a.Death.Signal == "SIGINT") {
+				r.Status, r.Error = "interrupted", "stopped by a signal"
+			}
+		case a.TooLong > 0:
+			r = batch.Record{Input: inputs[i], Output: outputs[i], Status: "failed", Shard: j.shardName, Task: taskID(),
+				Digest: j.digest, Build: buildID(), Error: fmt.Sprintf("the worker's record of this file was %d bytes long and was dropped", a.TooLong),
+				Time: time.Now().UTC().Format(time.RFC3339)}
+		default:
+			var ans childAnswer
+			if json.Unmarshal(a.Line, &ans) != nil {
+				r = batch.Record{Input: inputs[i], Output: outputs[i], Status: "failed", Error: "the worker's record of this file was unreadable"}
+			} else {
+				r, written = ans.Record, ans.Recorded
+				if ans.ManifestError != "" {
+					fmt.Fprintf(j.e.stderr, "warmrain: %s\n", ans.ManifestError)
+					unrecorded++
+					written = true // tried; a second try would fail the same way
+				}
+			}
+		}
+		if !written {
+			if err := man.Add(r); err != nil {
+				fmt.Fprintf(j.e.stderr, "warmrain: %v\n", err)
+				unrecorded++
+			}
+		}
+		recs = append(recs, r)
+		j.report(r)
+	})
+	return recs, unrecorded, err
 }
 
-// runChild is the body of a --jobs child process: files whose position in
-// this shard's list is k mod n; one JSON record per line on stdout.
-func (j *processJob) runChild(ctx context.Context, inputs, outputs []string, mine []int) error {
-	k, n, err := parseSlot(j.o.slot)
-	if err != nil {
-		return usagef("--child-slot: %v", err)
+// childManifestEnv names the descriptor of the manifest in a worker process.
+const childManifestEnv = "WARMRAIN_CHILD_MANIFEST"
+
+// childAnswer is a worker's answer for one file: its record, and whether the
+// worker wrote it to the manifest.
+type childAnswer struct {
+	Record        batch.Record `json:"record"`
+	Recorded      bool         `json:"recorded"`
+	ManifestError string       `json:"manifest_error,omitempty"`
+}
+
+// runChild is the body of a worker process: one task per line on stdin, one
+// answer per line on stdout, until stdin ends or the run is cancelled.
+func (j *processJob) runChild(ctx context.Context) error {
+	var man *batch.Manifest
+	if os.Getenv(childManifestEnv) == "3" {
+		man = batch.ManifestOn(os.NewFile(3, "manifest"), "the manifest")
 	}
-	enc := json.NewEncoder(j.e.stdout)
 	j.o.quiet = true
-	var failed int
-	for pos, i := range mine {
-		if pos%n != k {
-			continue
+	enc := json.NewEncoder(j.e.stdout)
+	sc := batch.ChildTasks(os.Stdin)
+	failed := 0
+	for ctx.Err() == nil && sc.Scan() {
+		var t task
+		if err := json.Unmarshal(sc.Bytes(), &t); err != nil {
+			return fmt.Errorf("worker process: bad task %q", sc.Text())
 		}
-		if ctx.Err() != nil {
-			break
+		if crash := os.Getenv(testCrashEnv); crash != "" && strings.Contains(t.Input, crash) {
+			testCrash()
 		}
-		r := j.one(ctx, inputs[i], outputs[i], false)
-		debug.FreeOSMemory()
+		j.shardName = t.Shard
+		r := j.one(ctx, t.Input, t.Output, false)
+		debug.FreeOSMemory() // the next file starts from the same footprint
 		if r.Status == "failed" || r.Status == "interrupted" {
 			failed++
 		}
-		if err := enc.Encode(r); err != nil {
-			return err
+		if len(r.Error) > batch.MaxErrorText {
+			fmt.Fprintf(j.e.stderr, "warmrain: %s: failed: %s\n", r.Input, r.Error)
+			r.Error = batch.Truncated(r.Error, batch.MaxErrorText)
+		}
+		ans := childAnswer{Record: r}
+		if man != nil {
+			if err := man.Add(r); err != nil {
+				ans.ManifestError = err.Error()
+			}
+			ans.Recorded = true
+		}
+		if err := enc.Encode(ans); err != nil {
+			return silentFailure{} // the parent is gone; the record is in the manifest
 		}
 	}
 	if failed > 0 || ctx.Err() != nil {
@@ -811,12 +1090,12 @@ func (j *processJob) runChild(ctx context.Context, inputs, outputs []string, min
 	return nil
 }
 
-func parseSlot(s string) (k, n int, err error) {
-	a, b, ok := strings.Cut(s, "/")
-	k, e1 := strconv.Atoi(a)
-	n, e2 := strconv.Atoi(b)
-	if !ok || e1 != nil || e2 != nil || n < 1 || k < 0 || k >= n {
-		return 0, 0, fmt.Errorf("want k/n, got %q", s)
-	}
-	return k, n, nil
+// testCrashEnv: in a worker process, a file whose input path contains this
+// variable's value makes the worker crash with a segmentation fault, as a
+// crash inside libnetcdf/HDF5 would (tests of the crash isolation only).
+const testCrashEnv = "WARMRAIN_TEST_CRASH"
+
+func testCrash() {
+	var p *int
+	*p = 1 // a nil dereference: SIGSEGV
 }

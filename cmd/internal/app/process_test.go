@@ -287,7 +287,13 @@ func TestProcessBatchResume(t *testing.T) {
 	if os.SameFile(st1, st2) {
 		t.Error("b's output was not rewritten")
 	}
+	// Other parameters are refused before any work (the outputs are kept), and
+	// --redo replaces them.
 	code, _, stderr = runProc(t, append(args, "--gamma-shape", "2")...)
+	if code != ExitFailure || !strings.Contains(stderr, "3 of 3 outputs are in the way") {
+		t.Fatalf("new parameters without --redo: exit %d, %q", code, stderr)
+	}
+	code, _, stderr = runProc(t, append(args, "--gamma-shape", "2", "--redo")...)
 	if code != 0 || strings.Contains(stderr, "skipped") {
 		t.Fatalf("new parameters: exit %d, %q", code, stderr)
 	}
@@ -297,7 +303,7 @@ func TestProcessBatchResume(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	recs, err := batch.ReadManifest(f)
+	recs, _, err := batch.ReadManifest(f)
 	if err != nil || len(recs) != 12 {
 		t.Fatalf("manifest: %d records, %v", len(recs), err)
 	}

@@ -344,10 +344,18 @@ func TestBadInputOutputFolder(t *testing.T) {
 		}
 	})
 	t.Run("missing_folder_batch", func(t *testing.T) {
+		// The output folder is made when its parent exists, not a tree of them.
 		dir := t.TempDir()
-		out := filepath.Join(dir, "nope") + "/"
+		out := filepath.Join(dir, "nope", "deeper") + "/"
 		code, stderr := run(t, out)
 		expect(t, code, stderr, filepath.Join(dir, "nope"), "does not exist")
+		if names := dirNames(t, dir); len(names) != 0 {
+			t.Errorf("left %v", names)
+		}
+		out = filepath.Join(dir, "results") + "/"
+		if code, stderr := run(t, out); code != 0 || !fileExists(filepath.Join(dir, "results", "good.nc4_warmrain.nc")) {
+			t.Errorf("a missing output folder whose parent exists: exit %d: %s", code, stderr)
+		}
 	})
 	t.Run("file_in_place_of_folder", func(t *testing.T) {
 		dir := t.TempDir()
@@ -367,7 +375,7 @@ func TestBadInputOutputFolder(t *testing.T) {
 		dir := t.TempDir()
 		out := writeBytes(t, dir, "out.nc", []byte("the user's own file\n"))
 		code, stderr := run(t, out)
-		expect(t, code, stderr, out, "already exists")
+		expect(t, code, stderr, out, "exists and was not written by warmrain", "--force")
 		if b, _ := os.ReadFile(out); string(b) != "the user's own file\n" {
 			t.Errorf("an existing file was overwritten without --force")
 		}

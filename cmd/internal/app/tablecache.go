@@ -11,6 +11,7 @@ import (
 	"strings"
 	"sync"
 	"sync/atomic"
+	"syscall"
 
 	"github.com/warmrain/warmrain/microphys"
 )
@@ -105,12 +106,18 @@ func newModel(p microphys.Params) (*microphys.Model, error) {
 	return m, nil
 }
 
+// readSmall reads a regular file of at most max bytes. Anything else at the
+// path (a FIFO, a device) is refused without blocking: the open does not wait
+// for a writer.
 func readSmall(path string, max int64) ([]byte, error) {
-	f, err := os.Open(path)
+	f, err := os.OpenFile(path, os.O_RDONLY|syscall.O_NONBLOCK, 0)
 	if err != nil {
 		return nil, err
 	}
 	defer f.Close()
+	if st, err := f.Stat(); err != nil || !st.Mode().IsRegular() {
+		return nil, errors.New("not a regular file")
+	}
 	data, err := io.ReadAll(io.LimitReader(f, max+1))
 	if err != nil {
 		return nil, err

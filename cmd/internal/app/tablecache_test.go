@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
 	"time"
 
@@ -16,6 +17,11 @@ import (
 // TestMain keeps the table cache of the tests in a temporary folder (never the user's
 // cache), shared by the tests of this package.
 func TestMain(m *testing.M) {
+	if os.Getenv(childEnv) != "" {
+		// This test binary started as a worker process of a batch run in a test
+		// (os.Executable is the test binary): be warmrain.
+		os.Exit(Run(os.Args[1:], os.Stdout, os.Stderr))
+	}
 	dir, err := os.MkdirTemp("", "warmrain-tables-")
 	if err != nil {
 		fmt.Fprintln(os.Stderr, err)
@@ -163,5 +169,32 @@ func TestTableCachePrune(t *testing.T) {
 		if _, err := os.Stat(kept); err != nil {
 			t.Errorf("%s removed: %v", kept, err)
 		}
+	}
+}
+
+// TestTableCacheFIFO: a FIFO (or any non-regular file) at the cache path is
+// not waited on: the tables are built and the run goes on.
+func TestTableCacheFIFO(t *testing.T) {
+	dir := t.TempDir()
+	t.Setenv(tableCacheEnv, dir)
+	p := microphys.DefaultParams()
+	p.SurfacePressure = 100500 // parameters of this test only
+	path := tableCachePath(dir, p)
+	if err := syscall.Mkfifo(path, 0o644); err != nil {
+		t.Skipf("mkfifo: %v", err)
+	}
+	done := make(chan error, 1)
+	go func() { _, err := newModel(p); done <- err }()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Fatal(err)
+		}
+	case <-time.After(time.Minute):
+		// Unblock the reader so that the test binary can end.
+		if f, err := os.OpenFile(path, os.O_WRONLY|syscall.O_NONBLOCK, 0); err == nil {
+			f.Close()
+		}
+		t.Fatal("newModel waits on a FIFO at the cache path")
 	}
 }

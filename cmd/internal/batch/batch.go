@@ -8,7 +8,6 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -19,8 +18,10 @@ import (
 )
 
 // ExpandInputs turns command-line arguments into the list of inputs:
-// a plain path or URL is taken as is, an argument with glob characters is
-// expanded (sorted; no match is an error), and "@FILE" reads one input per
+// a plain path or URL is taken as is, an argument with glob characters that
+// is not itself an existing path is expanded (sorted; no match is an error;
+// the shell has already expanded unquoted patterns, so a file named
+// "day[1].nc" given by the shell is taken as that file, never globbed again), and "@FILE" reads one input per
 // line from FILE (blank lines and lines starting with # are skipped; relative
 // paths are relative to the list file's folder). Duplicates are removed, the
 // first occurrence kept. The order is the order given. An input may be a
@@ -51,7 +52,7 @@ func ExpandInputs(args []string) ([]string, error) {
 			for _, p := range list {
 				add(p)
 			}
-		case !isURL(a) && strings.ContainsAny(a, "*?["):
+		case !isURL(a) && strings.ContainsAny(a, "*?[") && !exists(a):
 			m, err := filepath.Glob(a)
 			if err != nil {
 				return nil, fmt.Errorf("input pattern %q: %v", a, err)
@@ -140,12 +141,32 @@ func LocalPath(in string) string {
 	return ""
 }
 
+// relPath is the {relpath} placeholder's value for local path p.
+func relPath(p string) string {
+	p = filepath.Clean(p)
+	if abs, err := filepath.Abs(p); err == nil {
+		p = abs
+		if wd, err := os.Getwd(); err == nil {
+			if r, err := filepath.Rel(wd, abs); err == nil && r != ".." && !strings.HasPrefix(r, ".."+string(filepath.Separator)) {
+				p = r
+			}
+		}
+	}
+	p = strings.TrimSuffix(p, filepath.Ext(p))
+	parts := strings.FieldsFunc(p, func(r rune) bool { return r == filepath.Separator })
+	return strings.Join(parts, "_")
+}
+
 // DefaultPattern is the default output name pattern.
 const DefaultPattern = "{stem}_warmrain.nc"
 
 // OutputName applies a name pattern to an input. Placeholders: {stem} (file
 // name without its last extension), {name} (file name), {parent} (name of the
-// input's folder), {index} (position in the full input list, from 0).
+// input's folder), {index} (position in the full input list, from 0),
+// {relpath} (the input's path relative to the working directory, or its
+// absolute path outside it, without the last extension, folders joined by
+// '_': 2019/jan.nc gives 2019_jan, so that inputs of the same name in
+// different folders never share an output).
 func OutputName(pattern, input string, index int) (string, error) {
 	input = SceneParts(input)[0] // a scene is named by its first file
 	p := LocalPath(input)
@@ -156,10 +177,10 @@ func OutputName(pattern, input string, index int) (string, error) {
 	name := filepath.Base(p)
 	stem := strings.TrimSuffix(name, filepath.Ext(name))
 	parent := filepath.Base(filepath.Dir(p))
-	r := strings.NewReplacer("{stem}", stem, "{name}", name, "{parent}", parent, "{index}", strconv.Itoa(index))
+	r := strings.NewReplacer("{stem}", stem, "{name}", name, "{parent}", parent, "{index}", strconv.Itoa(index), "{relpath}", relPath(p))
 	out := r.Replace(pattern)
 	if strings.ContainsAny(out, "{}") {
-		return "", fmt.Errorf("output name pattern %q: unknown placeholder (known: {stem} {name} {parent} {index})", pattern)
+		return "", fmt.Errorf("output name pattern %q: unknown placeholder (known: {stem} {name} {parent} {relpath} {index})", pattern)
 	}
 	if out == "" || strings.Contains(out, "/") || out == "." || out == ".." {
 		return "", fmt.Errorf("output name pattern %q gives %q for %s: a name must be a plain file name", pattern, out, input)
@@ -191,7 +212,7 @@ func PlanOutputs(inputs []string, dir, pattern string) ([]string, error) {
 		o := filepath.Join(dir, n)
 		a, _ := filepath.Abs(o)
 		if j, dup := byOut[a]; dup {
-			return nil, fmt.Errorf("inputs %s and %s would both be written to %s; use a name pattern with {parent} or {index}", inputs[j], in, o)
+			return nil, fmt.Errorf("inputs %s and %s would both be written to %s; use a name pattern with {relpath}, {parent} or {index}", inputs[j], in, o)
 		}
 		if ins[a] {
 			return nil, fmt.Errorf("output %s for input %s is itself an input; choose another folder or name pattern", o, in)
@@ -307,6 +328,11 @@ type Record struct {
 	ScreenedFraction float64 `json:"screened_fraction"`
 	Seconds          float64 `json:"seconds"`
 	Shard            string  `json:"shard,omitempty"`
+	Task             string  `json:"task,omitempty"` // batch task: Slurm job and array task id
+	Digest           string  `json:"parameters_digest,omitempty"`
+	Build            string  `json:"build,omitempty"`
+	Note             string  `json:"note,omitempty"` // why an existing output was replaced
+	Signal           string  `json:"signal,omitempty"`
 	Error            string  `json:"error,omitempty"`
 
 	// Inputs lists every file of a scene joined with + (Input is then the
@@ -315,60 +341,6 @@ type Record struct {
 	// ScreenedBy counts the columns each of the product's quality masks and flag
 	// codes removed, in words ("sea_ice (flag code of r_e cer): 40").
 	ScreenedBy []string `json:"screened_by,omitempty"`
-}
-
-// Manifest appends records to a JSON-lines file, one write per record so
-// that concurrent tasks appending to the same file never interleave lines.
-type Manifest struct {
-	f *os.File
-}
-
-// OpenManifest opens (creating if needed) a manifest for appending.
-func OpenManifest(path string) (*Manifest, error) {
-	f, err := os.OpenFile(path, os.O_WRONLY|os.O_APPEND|os.O_CREATE, 0o644)
-	if err != nil {
-		return nil, fmt.Errorf("manifest: %w", err)
-	}
-	return &Manifest{f: f}, nil
-}
-
-// Add writes one record.
-func (m *Manifest) Add(r Record) error {
-	if m == nil {
-		return nil
-	}
-	b, err := json.Marshal(r)
-	if err != nil {
-		return err
-	}
-	b = append(b, '\n')
-	_, err = m.f.Write(b)
-	return err
-}
-
-// Close closes the manifest file.
-func (m *Manifest) Close() error {
-	if m == nil {
-		return nil
-	}
-	return m.f.Close()
-}
-
-// ReadManifest reads every record of a manifest.
-func ReadManifest(r io.Reader) ([]Record, error) {
-	var out []Record
-	dec := json.NewDecoder(r)
-	for {
-		var rec Record
-		err := dec.Decode(&rec)
-		if errors.Is(err, io.EOF) {
-			return out, nil
-		}
-		if err != nil {
-			return out, err
-		}
-		out = append(out, rec)
-	}
 }
 
 // Identity describes an input for the resume check.
@@ -475,8 +447,9 @@ func (id Identity) String() string {
 }
 
 // Matches reports whether a stored identity (from an output's provenance)
-// describes the same input as id. With checksums on both sides only the
-// checksum counts; otherwise path, size and modification time must agree.
+// describes the same input as id. When id carries a checksum only the
+// checksum counts (a stored identity without one does not match); otherwise
+// path, size and modification time must agree.
 func (id Identity) Matches(stored string) bool {
 	var s Identity
 	if json.Unmarshal([]byte(stored), &s) != nil {
@@ -494,7 +467,9 @@ func (id Identity) matches(s Identity) bool {
 			return false
 		}
 	}
-	if id.SHA256 != "" && s.SHA256 != "" {
+	if id.SHA256 != "" {
+		// Checksums asked for: an output recorded without one is not known to
+		// be of these bytes.
 		return id.SHA256 == s.SHA256
 	}
 	return s.Path == id.Path && s.Size == id.Size && s.ModTime == id.ModTime

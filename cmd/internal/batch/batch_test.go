@@ -150,7 +150,7 @@ func TestSlurmShard(t *testing.T) {
 
 func TestManifestRoundTrip(t *testing.T) {
 	p := filepath.Join(t.TempDir(), "m.jsonl")
-	m, err := OpenManifest(p)
+	m, _, err := OpenManifest(p, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -163,7 +163,7 @@ func TestManifestRoundTrip(t *testing.T) {
 	}
 	m.Close()
 	b, _ := os.ReadFile(p)
-	got, err := ReadManifest(bytes.NewReader(b))
+	got, _, err := ReadManifest(bytes.NewReader(b))
 	if err != nil || len(got) != 2 || got[1].Error != recs[1].Error || got[0].Columns != 10 {
 		t.Fatalf("got %+v %v", got, err)
 	}
