@@ -33,6 +33,7 @@ import xarray as xr
 
 # Parameters (microphys.DefaultParams).
 K, QEXT, FAD, RESTAR, NU_DEFAULT = 0.8, 2.0, 1.0, 14e-6, 4.0
+ONSET_WIDTH = 4e-6  # the onset probability rises linearly over RESTAR -+ ONSET_WIDTH/2
 MIN_LWP, MIN_TAU, RE_MIN, RE_MAX, MIN_CTT = 5e-3, 3.0, 4e-6, 30e-6, 273.15
 ND_MIN, ND_MAX, H_MAX = 10e6, 1000e6, 1500.0
 DEF_CTT, DEF_CTP = 285.0, 90000.0
@@ -108,10 +109,25 @@ def main(argv):
         auto = np.exp(np.log(KK_A / b1) + (1 - KK_B) * np.log(rho) - KK_C * np.log(nd * 1e-6)
                       + KK_B * np.log(gamma) + b1 * np.log(h))
         eff = auto / lwp
-        drizzle = DRZ_A * np.exp(DRZ_B * np.log(lwp * 1e3) - DRZ_C * np.log(nd * 1e-6))  # mm day-1
+        r0 = DRZ_A * np.exp(DRZ_B * np.log(lwp * 1e3) - DRZ_C * np.log(nd * 1e-6))  # mm day-1 at the mean
         lwp_crit = 8.0 / 9.0 * (np.pi * RHOW * K * nd * RESTAR**3) ** 2 / gamma
         nu = np.where(np.isnan(sd), NU_DEFAULT, (lwp / sd) ** 2)
-        pop = scipy.special.gammaincc(nu, nu * lwp_crit / lwp)
+        # Sub-grid drizzle model (microphys.SubgridDrizzleModel): onset probability rising
+        # linearly over [r1, r2] in the local cloud-top radius r(L) = re_top (L/lwp)^(1/6).
+        gln, q = scipy.special.gammaln, scipy.special.gammaincc
+        r1, r2 = RESTAR - ONSET_WIDTH / 2, RESTAR + ONSET_WIDTH / 2
+        x1, x2 = nu * (r1 / re_top) ** 6, nu * (r2 / re_top) ** 6
+
+        def moment(s):
+            e0 = np.exp(gln(nu + s) - gln(nu) - s * np.log(nu))
+            e1 = np.exp(gln(nu + s + 1 / 6) - gln(nu) - (s + 1 / 6) * np.log(nu))
+            ramp = (re_top * e1 * (q(nu + s + 1 / 6, x1) - q(nu + s + 1 / 6, x2))
+                    - r1 * e0 * (q(nu + s, x1) - q(nu + s, x2))) / (r2 - r1)
+            return e0 * q(nu + s, x2) + np.maximum(ramp, 0)
+
+        pop = moment(0.0)
+        drizzle = r0 * moment(DRZ_B)
+        intensity = np.where(pop > 0, drizzle / pop, np.nan)
         # Screening.
         qc = np.zeros(lwp.shape, np.int32)
         qc |= np.where(np.isnan(lwp) | np.isnan(re), QC_MISSING, 0)
@@ -129,8 +145,9 @@ def main(argv):
             "condensation_rate": (cw * 1e6, "g m-3 km-1"),
             "adiabatic_top_effective_radius": (re_top * 1e6, "um"),
             "column_autoconversion_rate": (auto, "kg m-2 s-1"),
-            "warm_rain_efficiency": (eff, "s-1"),
+            "autoconversion_efficiency": (eff, "s-1"),
             "cloud_base_drizzle_rate": (drizzle, "mm day-1"),
+            "cloud_base_drizzle_intensity": (intensity, "mm day-1"),
             "drizzle_probability": (pop, "1"),
             "critical_lwp": (lwp_crit * 1e3, "g m-2"),
         }

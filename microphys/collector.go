@@ -25,10 +25,14 @@ type CollectorSetup struct {
 
 // Defaults of the collector model.
 const (
-	// DefaultCollectorR0 is the default collector start radius, m: 20 µm, the radius from
-	// which collection becomes efficient in the Hall (1980) table (E rises from 0.03 to 0.5
-	// between 20 and 40 µm) [Hall1980]; common practice for the first collectors.
-	DefaultCollectorR0 = 20e-6
+	// DefaultCollectorR0 is the default collector start radius, m: 25 µm, the radius of the
+	// new drizzle drops of the Khairoutdinov & Kogan (2000) scheme (the embryo that
+	// autoconversion creates) [KhairoutdinovKogan2000]; collection is efficient from there
+	// on in the Hall (1980) table (E rises from 0.03 to 0.5 between 20 and 40 µm) [Hall1980].
+	// A collector no larger than the cloud-top mean-volume droplets is flagged
+	// (QCCollectorNotLarger): the continuous-collection picture needs a drop larger than the
+	// droplets it sweeps up.
+	DefaultCollectorR0 = 25e-6
 	// DefaultDrizzleRadius is the default drizzle radius, m: 100 µm, the lower end of the
 	// drizzle diameter range 0.2-0.5 mm of the CF standard-name table (description of
 	// mass_concentration_of_drizzle_in_air) [CFStdNames2023].
@@ -39,10 +43,15 @@ const (
 
 // DefaultCollectorSetup returns the default collector settings:
 //
-//	R0 = 20 µm, Updraft = 0 (release at cloud top), DrizzleRadius = 100 µm,
+//	R0 = 25 µm, Updraft = 0 (release at cloud top), DrizzleRadius = 100 µm,
 //	Collision = CollisionHall, Coalescence = CoalescenceBlend, RelTol = 1e-6
 //
-// Reference: [Hall1980] (R0), [CFStdNames2023] (drizzle: diameter 0.2-0.5 mm).
+// Updraft 0 is the stratocumulus picture: a steady updraft that carries the drop up
+// through the cloud first is a cumulus picture (in marine stratocumulus columns an updraft
+// of 0.5 m s-1 or more carries the collector out through cloud top).
+//
+// Reference: [KhairoutdinovKogan2000] (R0, the drizzle-embryo radius), [Hall1980],
+// [CFStdNames2023] (drizzle: diameter 0.2-0.5 mm).
 // Valid: always.
 func DefaultCollectorSetup() CollectorSetup {
 	return CollectorSetup{

@@ -132,7 +132,7 @@ func TestCollectDirectMonotoneLWC(t *testing.T) {
 	// Growth is monotone in LWC (doc/science.md#collector-drop): more water, larger exit radius.
 	for _, w := range []float64{0, 0.3, 1} {
 		s := DefaultCollectorSetup()
-		s.Updraft = w
+		s.Updraft, s.R0 = w, 20e-6 // the 20 µm collector these updrafts were chosen for
 		prev := 0.0
 		for _, g := range []float64{0.5e-6, 1e-6, 1.5e-6, 2e-6, 2.5e-6, 3e-6} {
 			c := testColumn()
@@ -151,6 +151,7 @@ func TestCollectDirectPaths(t *testing.T) {
 	// A thick cloud grows the 20 µm collector past drizzle size on the way down.
 	c := CloudColumn{H: 800, Gamma: 2.2e-6, Nd: 50e6, Air: NewAir(85000, 282)}
 	s := DefaultCollectorSetup()
+	s.R0 = 20e-6
 	p := CollectDirect(c, s)
 	if !p.ExitBase || !(p.ExitRadius > s.DrizzleRadius) || !(p.DrizzleTime > 0 && p.DrizzleTime < p.ExitTime) || p.TopHeight != c.H {
 		t.Errorf("thick cloud, release at top: %+v", p)
@@ -286,9 +287,10 @@ func TestCollectDirectTimeGuard(t *testing.T) {
 func TestDefaultCollectorSetup(t *testing.T) {
 	t.Parallel()
 	s := DefaultCollectorSetup()
-	// R0 = 20 µm (documented default); drizzle radius 100 µm: CF standard-name table v83,
-	// mass_concentration_of_drizzle_in_air, drizzle diameter 0.2-0.5 mm.
-	if s.R0 != 20e-6 || s.DrizzleRadius != 100e-6 || s.Updraft != 0 || s.RelTol != 1e-6 ||
+	// R0 = 25 µm, the drizzle-embryo radius of Khairoutdinov & Kogan (2000) (found in
+	// transcriptions of the scheme); drizzle radius 100 µm: CF standard-name
+	// table v83, mass_concentration_of_drizzle_in_air, drizzle diameter 0.2-0.5 mm.
+	if s.R0 != 25e-6 || s.DrizzleRadius != 100e-6 || s.Updraft != 0 || s.RelTol != 1e-6 ||
 		s.Collision != CollisionHall || s.Coalescence != CoalescenceBlend {
 		t.Errorf("DefaultCollectorSetup() = %+v", s)
 	}

@@ -18,19 +18,22 @@ type Inputs struct {
 // Outputs is every diagnostic of one column, SI units. A screened column (QC&QCScreenMask
 // != 0) has every field NaN. Diagnostics that are switched off are NaN.
 type Outputs struct {
-	Nd              float64 // droplet number concentration, m-3
-	H               float64 // adiabatic geometric thickness, m
-	Cw              float64 // condensation rate c_w used (before f_ad), kg m-4
-	ReTop           float64 // cloud-top effective radius of the adiabatic model, m
-	Autoconv        float64 // column autoconversion rate, kg m-2 s-1
-	Efficiency      float64 // warm-rain efficiency Autoconv/LWP, s-1
-	DrizzleRate     float64 // cloud-base drizzle rate, kg m-2 s-1 (= mm s-1)
-	POP             float64 // drizzle probability, 1
-	LWPCrit         float64 // critical LWP of drizzle onset, kg m-2
-	CollectorRadius float64 // collector drop radius on leaving the cloud, m
-	CollectorTime   float64 // collector drop time in cloud, s
-	SurfaceRadius   float64 // collector drop radius at the surface, m (0 when it evaporated)
-	EvapHeight      float64 // height above the surface where the collector drop evaporated, m (NaN when it reached the surface)
+	Nd          float64 // droplet number concentration, m-3
+	H           float64 // adiabatic geometric thickness, m
+	Cw          float64 // condensation rate c_w used (before f_ad), kg m-4
+	ReTop       float64 // cloud-top effective radius of the adiabatic model, m
+	Autoconv    float64 // column autoconversion rate, kg m-2 s-1
+	Efficiency  float64 // autoconversion efficiency Autoconv/LWP, s-1
+	DrizzleRate float64 // cell-mean cloud-base drizzle rate R̄, kg m-2 s-1 (= mm s-1)
+	POP         float64 // drizzle probability, 1
+	// DrizzleIntensity is the mean cloud-base rate of the drizzling part of the cell,
+	// I = R̄/POP, kg m-2 s-1 (NaN when POP = 0); R̄ = POP × I (SubgridDrizzleModel).
+	DrizzleIntensity float64
+	LWPCrit          float64 // critical LWP of drizzle onset, kg m-2
+	CollectorRadius  float64 // collector drop radius on leaving the cloud, m
+	CollectorTime    float64 // collector drop time in cloud, s
+	SurfaceRadius    float64 // collector drop radius at the surface, m (0 when it evaporated)
+	EvapHeight       float64 // height above the surface where the collector drop evaporated, m (NaN when it reached the surface)
 	// SurfaceDrizzleFraction is the fraction of the cloud-base drizzle flux that reaches the
 	// surface (SurfaceDrizzleFraction of Params.Drizzle), 1, and SurfaceDrizzleRate is
 	// that fraction of DrizzleRate, kg m-2 s-1.
@@ -45,9 +48,11 @@ type Model struct {
 	p     Params
 	ac    AutoconvConfig
 	setup CollectorSetup
+	onset Onset      // drizzle onset of the sub-grid model (Params.ReStar, Params.OnsetWidth)
 	cbrtK float64    // K^(1/3)
 	tab   *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
 	pop   *popTable  // drizzle-probability table (pop.go)
+	ramp  *rampTable // ramp-onset table of the sub-grid drizzle model (ramptable.go); nil for the step
 	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table
 	// (evMixedU for well-mixed layers).
 	lnDryRH float64
@@ -74,13 +79,17 @@ func NewModel(p Params) (*Model, error) {
 
 // newModelBase is the Model of valid parameters p without its collector tables.
 func newModelBase(p Params) *Model {
-	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
+	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, onset: Onset{p.ReStar, p.OnsetWidth},
+		cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
 	if p.SubCloudHumidity == HumidityWellMixed {
 		m.mixed, m.lnDryRH = true, evMixedU
 	}
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
 	m.pop = newPopTable()
+	if p.OnsetWidth > 0 {
+		m.ramp = newRampTable(p.DrizzleLWPExp)
+	}
 	m.bulk = newBulkConsts(&p, m.pop)
 	return m
 }
@@ -124,7 +133,10 @@ type bulkConsts struct {
 	popSn   float64 // Params.GammaShape^(1/2) (popColumn)
 	popLnNu float64 // ln Params.GammaShape, as popTable.prob forms it
 	popFast bool    // the POP grid has the layout popAt2 assumes
-	defAir  adState // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
+	subE    float64 // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
+	ramp0   rampShape
+	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b
+	defAir  adState   // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
 }
 
 // Forms of drizzleRate.
@@ -172,6 +184,9 @@ func newBulkConsts(p *Params, pt *popTable) bulkConsts {
 			g.n[0] >= 3 && g.n[1] >= 3
 	}
 	c.defAir = airStateFast(p.DefaultCTT, p.DefaultCTP)
+	c.subE = SubgridEnhancement(p.GammaShape, p.DrizzleLWPExp)
+	c.ramp0, c.rampB = newRampShape(p.GammaShape, 0), newRampShape(p.GammaShape, p.DrizzleLWPExp)
+	c.ramp0.t0, c.rampB.t0 = rampTail0(p.GammaShape, 0), rampTail0(p.GammaShape, p.DrizzleLWPExp)
 	return c
 }
 
@@ -245,6 +260,66 @@ func (m *Model) popColumn(lwp, crit, s, nu, sn, lnNu float64) float64 {
 		lnNu = 2 * colLog(sn)
 	}
 	return colExp(min(popAt2(m.pop.g, lnNu, z), 0))
+}
+
+// subgridColumn sets out.POP, out.DrizzleRate (R̄) and out.DrizzleIntensity (I) of a column
+// of mean LWP lwp > 0 with top radius reTop, critical LWP crit = LWP at Params.ReStar,
+// s = (crit/lwp)^(1/3), gamma shape nu (sn = nu^(1/2), lnNu = ln nu or NaN, ownNu: nu came
+// from the column's LWP standard deviation) and r0 = DrizzleRate at the cell mean: the
+// quantities of SubgridDrizzleModel. The step onset takes Q(nu, x) and Q(nu + b, x) from the
+// POP table (popColumn, popTable.prob: within popTabTol of GammaIncRegComp, tested); the ramp
+// takes them from its table (rampTable.moments, within rampTabTol of subgridMoment, tested)
+// for 1 <= nu <= 1e4 and r_1 >= 0.3 r_μ, and evaluates the closed form (subgridMoment)
+// otherwise.
+func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, ownNu bool, out *Outputs) {
+	b := m.p.DrizzleLWPExp
+	var pop, mb float64
+	switch {
+	case math.IsInf(nu, 1) || nu > popStepShape: // homogeneous cell
+		pop = m.onset.Probability(reTop)
+		mb = pop
+	case m.onset.Width == 0:
+		pop = m.popColumn(lwp, crit, s, nu, sn, lnNu)
+		e := m.bulk.subE
+		if ownNu {
+			e = SubgridEnhancement(nu, b)
+		}
+		// Q(nu + b, nu LWP*/μ) = prob(μ, LWP* nu/(nu + b), nu + b)
+		mb = e * m.pop.prob(lwp, crit*nu/(nu+b), nu+b)
+	default:
+		ok := false
+		if m.ramp != nil && nu >= popNuMin && nu <= popNuMax {
+			c0, cb := m.bulk.ramp0, m.bulk.rampB
+			e := m.bulk.subE
+			if math.IsNaN(lnNu) {
+				lnNu = 2 * colLog(sn)
+			}
+			if ownNu {
+				// the per-shape factors from their table (rampNuTable, within rampNuTol)
+				var t00, t0b, kc float64
+				e, t00, t0b, kc, ok = m.ramp.nu.at(lnNu)
+				a := nu + b
+				c0 = rampShape{s: 0, sa: sn, ia: 1 / (9 * nu), kc: 1, t0: t00}
+				cb = rampShape{s: b, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: kc, t0: t0b}
+			}
+			if ok || !ownNu {
+				var mbe float64
+				pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb)
+				mb = e * mbe
+			}
+		}
+		if !ok {
+			pop = subgridMoment(nu, reTop, m.onset, 0)
+			mb = subgridMoment(nu, reTop, m.onset, b)
+		}
+	}
+	if !(pop > 0) {
+		mb = 0 // no drizzling part (POP below about 1e-90 in the tables' tails): no drizzle
+	}
+	out.POP, out.DrizzleRate = pop, r0*mb
+	if pop > 0 {
+		out.DrizzleIntensity = out.DrizzleRate / pop
+	}
 }
 
 // popAt2 is g.at for a grid of two curved axes, not strict, last stride 1 (the POP table):
@@ -397,7 +472,7 @@ const (
 // Valid: marine warm stratocumulus; the screening thresholds in Params.
 func (m *Model) Column(in *Inputs, out *Outputs) {
 	nan := math.NaN()
-	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
+	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
 	p := &m.p
 	var qc uint16
 
@@ -523,22 +598,25 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			out.Autoconv = ColumnAutoconversion(m.ac, h, gamma, nd, st.rho)
 			out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
 		}
-		out.DrizzleRate = b.drizzleRate(lwp, nd, lnNd)
+		r0 := b.drizzleRate(lwp, nd, lnNd) // the local law at the cell mean, a μ^b N_d^-c
 		nu, sn, lnNu := p.GammaShape, b.popSn, b.popLnNu
 		if !math.IsNaN(in.LWPStd) {
 			sn = lwp / in.LWPStd // GammaShapeFromStd: nu = (mean/sd)^2
 			nu, lnNu = sn*sn, math.NaN()
 		}
-		out.POP = m.popColumn(lwp, crit, s, nu, sn, lnNu)
+		m.subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu, !math.IsNaN(in.LWPStd), out)
 	} else { // LWP = 0 (possible with a given tau and MinLWP = 0): the exported functions
 		out.Autoconv = ColumnAutoconversion(m.ac, h, gamma, nd, st.rho)
 		out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
-		out.DrizzleRate = DrizzleRate(lwp, nd, p.DrizzleCoef, p.DrizzleLWPExp, p.DrizzleNdExp)
 		out.LWPCrit = CriticalLWP(nd, p.ReStar, p.K, p.Fad, cw)
 		if !math.IsNaN(in.LWPStd) {
 			nu = GammaShapeFromStd(lwp, in.LWPStd)
 		}
-		out.POP = m.pop.prob(lwp, out.LWPCrit, nu)
+		d := SubgridDrizzleModel(lwp, nd, reTop, nu, m.onset, p.DrizzleCoef, p.DrizzleLWPExp, p.DrizzleNdExp)
+		out.POP, out.DrizzleRate, out.DrizzleIntensity = d.POP, d.Rate, d.Intensity
+	}
+	if p.EnableCollector && !(p.Collector.R0 > m.cbrtK*reTop) {
+		qc |= QCCollectorNotLarger // r_v = k^(1/3) r_e at cloud top
 	}
 
 	if !p.EnableCollector {

@@ -196,13 +196,15 @@ func ExampleModel_Column() {
 	var out microphys.Outputs
 	m.Column(&in, &out)
 	fmt.Printf("N_d %.4g cm-3, H %.4g m, drizzle %.4g mm/day, POP %.4g\n", out.Nd*1e-6, out.H, out.DrizzleRate*86400, out.POP)
+	fmt.Printf("intensity of the drizzling part %.4g mm/day\n", out.DrizzleIntensity*86400)
 	fmt.Printf("collector %.3g µm after %.3g s\n", out.CollectorRadius*1e6, out.CollectorTime)
 	fmt.Printf("surface drizzle %.3g of the cloud-base rate: %.3g mm/day\n", out.SurfaceDrizzleFraction, out.SurfaceDrizzleRate*86400)
 	fmt.Println(microphys.QCNames(out.QC))
 	// Output:
-	// N_d 124.4 cm-3, H 333.2 m, drizzle 0.3475 mm/day, POP 0.002989
-	// collector 26.9 µm after 4.71e+03 s
-	// surface drizzle 0.0517 of the cloud-base rate: 0.018 mm/day
+	// N_d 124.4 cm-3, H 333.2 m, drizzle 0.05516 mm/day, POP 0.06694
+	// intensity of the drizzling part 0.8241 mm/day
+	// collector 39.2 µm after 2.59e+03 s
+	// surface drizzle 0.0517 of the cloud-base rate: 0.00285 mm/day
 	// [cloud_base_height_assumed]
 }
 

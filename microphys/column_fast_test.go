@@ -95,6 +95,7 @@ func fastParams() []Params {
 	d.EnableCollector, d.EnableEvaporation = false, false
 	a := d
 	a.K, a.Qext, a.Fad, a.ReStar, a.GammaShape = 0.67, 2.1, 0.7, 12e-6, 3.5
+	a.OnsetWidth = 0                                               // the step onset (POP table path)
 	a.DrizzleCoef, a.DrizzleLWPExp, a.DrizzleNdExp = 0.5, 1.5, 1.5 // b = c, not 7/4
 	b := a
 	b.DrizzleLWPExp, b.DrizzleNdExp = 1.75, 1.2 // b != c
@@ -188,6 +189,10 @@ func TestPopColumn(t *testing.T) {
 	}
 }
 
+// subgridTol is the relative agreement of Column's POP and R̄ with SubgridDrizzleModel
+// on the exported functions' inputs (derived: see TestColumnBulkExact).
+const subgridTol = 1e-9
+
 // columnExact is Column's documented composition of the exported functions for the bulk
 // outputs of an unscreened column (Column's doc comment, steps 2-4).
 func columnExact(m *Model, in *Inputs) (o Outputs) {
@@ -215,13 +220,21 @@ func columnExact(m *Model, in *Inputs) (o Outputs) {
 	o.ReTop = EffectiveRadius(o.H, o.Nd, p.K, p.Fad, cw)
 	o.Autoconv = ColumnAutoconversion(p.AutoconvConfig(), o.H, p.Fad*cw, o.Nd, rho)
 	o.Efficiency = WarmRainEfficiency(o.Autoconv, in.LWP)
-	o.DrizzleRate = DrizzleRate(in.LWP, o.Nd, p.DrizzleCoef, p.DrizzleLWPExp, p.DrizzleNdExp)
 	o.LWPCrit = CriticalLWP(o.Nd, p.ReStar, p.K, p.Fad, cw)
 	nu := p.GammaShape
 	if !math.IsNaN(in.LWPStd) {
 		nu = GammaShapeFromStd(in.LWP, in.LWPStd)
 	}
-	o.POP = m.pop.prob(in.LWP, o.LWPCrit, nu) // the table, as Column's doc says
+	on := Onset{p.ReStar, p.OnsetWidth}
+	d := SubgridDrizzleModel(in.LWP, o.Nd, o.ReTop, nu, on, p.DrizzleCoef, p.DrizzleLWPExp, p.DrizzleNdExp)
+	o.POP, o.DrizzleRate, o.DrizzleIntensity = d.POP, d.Rate, d.Intensity
+	if on.Width == 0 && in.LWP > 0 && nu <= popStepShape {
+		// the step takes Q from the POP table, as Column's doc says
+		b := p.DrizzleLWPExp
+		o.POP = m.pop.prob(in.LWP, o.LWPCrit, nu)
+		o.DrizzleRate = DrizzleRate(in.LWP, o.Nd, p.DrizzleCoef, b, p.DrizzleNdExp) *
+			SubgridEnhancement(nu, b) * m.pop.prob(in.LWP, o.LWPCrit*nu/(nu+b), nu+b)
+	}
 	return o
 }
 
@@ -277,11 +290,22 @@ func TestColumnBulkExact(t *testing.T) {
 				if math.IsNaN(g[k]) && math.IsNaN(w[k]) {
 					continue
 				}
-				tol := bulkTol
+				tol, abs := bulkTol, 1e-300
 				if p.Autoconv != AutoconvKK2000 && (k == 4 || k == 5) {
 					tol = quadTol
 				}
-				if !scalar.EqualWithinAbsOrRel(g[k], w[k], 1e-300, tol) {
+				if k == 6 || k == 7 {
+					// POP and R̄: the ramp onset's table (rampTabTol, TestRampTableBound);
+					// the step's POP table composition: the last-bit difference of the top
+					// radius (r_e itself in Column, EffectiveRadius here) is amplified by
+					// d ln Q/d ln r = 6x, x up to 1e5 (derived). Below 1e-12 (POP, or
+					// kg m-2 s-1) nothing is observable.
+					tol, abs = subgridTol, 1e-12
+					if p.OnsetWidth > 0 {
+						tol = rampTabTol
+					}
+				}
+				if !scalar.EqualWithinAbsOrRel(g[k], w[k], abs, tol) {
 					t.Fatalf("params %d, output %d = %.15g, want %.15g for %+v", pi, k, g[k], w[k], in)
 				}
 				if w[k] != 0 {

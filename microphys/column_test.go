@@ -33,7 +33,7 @@ func nanInputs() Inputs {
 
 func outputValues(o *Outputs) []float64 {
 	return []float64{o.Nd, o.H, o.Cw, o.ReTop, o.Autoconv, o.Efficiency, o.DrizzleRate, o.POP, o.LWPCrit,
-		o.CollectorRadius, o.CollectorTime, o.SurfaceRadius, o.EvapHeight}
+		o.CollectorRadius, o.CollectorTime, o.SurfaceRadius, o.EvapHeight, o.DrizzleIntensity}
 }
 
 // TestColumnTypical compares Column with the individual functions for one marine
@@ -67,16 +67,22 @@ func TestColumnTypical(t *testing.T) {
 	}{
 		{"Cw", out.Cw, cw}, {"Nd", out.Nd, nd}, {"H", out.H, h}, {"ReTop", out.ReTop, 12e-6},
 		{"Autoconv", out.Autoconv, pcol}, {"Efficiency", out.Efficiency, pcol / 0.12},
-		{"DrizzleRate", out.DrizzleRate, DrizzleRate(0.12, nd, 0.37, 1.75, 1.75)},
 		{"LWPCrit", out.LWPCrit, crit},
 	} {
 		if !scalar.EqualWithinRel(c.got, c.want, 1e-12) {
 			t.Errorf("%s = %.10g, want %.10g", c.name, c.got, c.want)
 		}
 	}
-	// Column takes POP from its table (pop.go), within popTabTol of the exact function.
-	if pop := DrizzleProbability(0.12, crit, GammaShapeFromStd(0.12, 0.05)); !scalar.EqualWithinAbs(out.POP, pop, popTabTol) {
-		t.Errorf("POP = %.10g, want %.10g within %g", out.POP, pop, popTabTol)
+	// POP, R̄ and I are those of the sub-grid model (SubgridDrizzleModel, ramp onset of
+	// the defaults) for the column's N_d, top radius and gamma shape (derived).
+	d := SubgridDrizzleModel(0.12, nd, 12e-6, GammaShapeFromStd(0.12, 0.05), Onset{p.ReStar, p.OnsetWidth}, 0.37, 1.75, 1.75)
+	// (Column takes them from the ramp table, within rampTabTol.)
+	if !scalar.EqualWithinRel(out.POP, d.POP, rampTabTol) || !scalar.EqualWithinRel(out.DrizzleRate, d.Rate, rampTabTol) ||
+		!scalar.EqualWithinRel(out.DrizzleIntensity, d.Intensity, 2*rampTabTol) {
+		t.Errorf("POP, R̄, I = %.10g, %.10g, %.10g, want %+v", out.POP, out.DrizzleRate, out.DrizzleIntensity, d)
+	}
+	if !scalar.EqualWithinRel(out.DrizzleRate, out.POP*out.DrizzleIntensity, 1e-14) {
+		t.Errorf("R̄ %g != POP × I", out.DrizzleRate)
 	}
 	// Collector and evaporation against direct integration (table error bound, table.go).
 	var res colResult
@@ -244,6 +250,11 @@ func FuzzColumn(f *testing.F) {
 		}
 		if !(out.Nd > 0 && out.H > 0 && out.Cw > 0) || out.POP > 1 {
 			t.Fatalf("bad outputs %+v for %+v", out, in)
+		}
+		// one sub-grid model: R̄ = POP × I, I defined where POP > 0 (derived)
+		if out.POP > 0 && !(math.Abs(out.DrizzleRate-out.POP*out.DrizzleIntensity) <= 1e-12*out.DrizzleRate) ||
+			out.POP == 0 && (out.DrizzleRate != 0 || !math.IsNaN(out.DrizzleIntensity)) {
+			t.Fatalf("R̄ %g, POP %g, I %g for %+v", out.DrizzleRate, out.POP, out.DrizzleIntensity, in)
 		}
 		for i, v := range vals[9:] {
 			if v < 0 || math.IsInf(v, 0) {

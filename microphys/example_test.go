@@ -188,7 +188,7 @@ func ExampleDefaultCollectorSetup() {
 	s := microphys.DefaultCollectorSetup()
 	fmt.Printf("R0 %.4g m, drizzle %.4g m, %s, %s\n", s.R0, s.DrizzleRadius, s.Collision, s.Coalescence)
 	// Output:
-	// R0 2e-05 m, drizzle 0.0001 m, hall1980, seifert2005
+	// R0 2.5e-05 m, drizzle 0.0001 m, hall1980, seifert2005
 }
 
 func ExampleCollectDirect() {
@@ -199,7 +199,7 @@ func ExampleCollectDirect() {
 	fmt.Printf("exit radius %.4g m after %.4g s, drizzle after %.4g s, through base %v\n",
 		p.ExitRadius, p.ExitTime, p.DrizzleTime, p.ExitBase)
 	// Output:
-	// exit radius 9.18e-05 m after 2968 s, drizzle after NaN s, through base true
+	// exit radius 0.000113 m after 1519 s, drizzle after 1207 s, through base true
 }
 
 func ExampleCollectConstant() {

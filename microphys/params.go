@@ -104,6 +104,12 @@ type Params struct {
 	// [RosenfeldGutman1994] (from memory); 13 µm and 15 µm are published alternatives
 	// (doc/science.md#drizzle-onset).
 	ReStar float64
+	// OnsetWidth is the full width of the r_e range over which the drizzle-onset probability
+	// of a sub-grid column rises linearly from 0 to 1, centred on ReStar, m (Onset). Default
+	// 4 µm: published onset radii span 12-16 µm (13 µm [Braga2021], 14 µm
+	// [RosenfeldGutman1994] from memory, 15 µm Ba & Gruber 2001 and 16 µm Gerber 1996 from
+	// memory). 0 is the knife-edge step at ReStar.
+	OnsetWidth float64
 	// GammaShape is the shape nu of the sub-grid gamma distribution of LWP used when a
 	// column has no LWP standard deviation, 1. Default 4: between the broken-cloud (1-3)
 	// and overcast-stratocumulus (5-10) values, which are from memory; the gamma
@@ -198,6 +204,7 @@ func DefaultParams() Params {
 		Fad:               1,
 		FixedCw:           0,
 		ReStar:            14e-6,
+		OnsetWidth:        4e-6,
 		GammaShape:        4,
 		Autoconv:          AutoconvKK2000,
 		KesslerRate:       1e-3,
@@ -275,6 +282,10 @@ func (p Params) Validate() error {
 			return &ParamError{Field: hi.Name, Option: hi.Option, Value: hi.FromSI(hi.Get(&p)),
 				Want: "max above min " + lo.Text(lo.FromSI(lo.Get(&p)))}
 		}
+	}
+	if w := byName("onset_width"); !(p.OnsetWidth < 2*p.ReStar) {
+		return &ParamError{Field: w.Name, Option: w.Option, Value: w.FromSI(p.OnsetWidth),
+			Want: "below twice the onset radius (the onset range starts above 0)"}
 	}
 	if p.EnableEvaporation && !p.EnableCollector {
 		return &ParamError{"no_evaporation", "no-evaporation", 0, "given when no-collector is (evaporation follows the collector drop)"}

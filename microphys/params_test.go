@@ -24,7 +24,7 @@ func TestDefaultParams(t *testing.T) {
 		{"K", p.K, 0.8}, {"extinction_efficiency", p.Qext, 2}, {"adiabatic_fraction", p.Fad, 1}, {"onset_radius", p.ReStar, 14e-6},
 		{"surface_rh", p.SurfaceRH, 0.8}, {"SurfacePressure", p.SurfacePressure, 101325},
 		{"MinCTT", p.MinCTT, 273.15}, {"DrizzleCoef", p.DrizzleCoef, 0.37}, {"DrizzleLWPExp", p.DrizzleLWPExp, 1.75},
-		{"collector_radius", p.Collector.R0, 20e-6}, {"NdMin", p.NdMin, 10e6}, {"nd_range_max", p.NdMax, 1000e6}, {"HMax", p.HMax, 1500},
+		{"collector_radius", p.Collector.R0, 25e-6}, {"onset_width", p.OnsetWidth, 4e-6}, {"NdMin", p.NdMin, 10e6}, {"nd_range_max", p.NdMax, 1000e6}, {"HMax", p.HMax, 1500},
 	} {
 		if c.got != c.want {
 			t.Errorf("default %s = %g, want %g", c.name, c.got, c.want)

@@ -13,6 +13,12 @@ const (
 	QCDropletNumberImplausible  uint16 = 1 << 5 // N_d outside [Params.NdMin, Params.NdMax]
 	QCThicknessImplausible      uint16 = 1 << 6 // H > Params.HMax
 
+	// QCCollectorNotLarger (informational) says that the collector's start radius is not
+	// larger than the cloud-top mean-volume radius r_v = k^(1/3) r_e: the continuous-
+	// collection model, a large drop sweeping up small droplets, does not apply, and the
+	// collector outputs are only indicative.
+	QCCollectorNotLarger uint16 = 1 << 7
+
 	// Informational bits.
 	QCAirStateAssumed    uint16 = 1 << 8  // CTT and/or CTP absent: Params.DefaultCTT/DefaultCTP (or Params.FixedCw) used
 	QCGammaShapeAssumed  uint16 = 1 << 9  // LWPStd absent: Params.GammaShape used for the drizzle probability
@@ -44,6 +50,7 @@ var QCFlags = []QCFlag{
 	{QCPossibleIce, "possible_ice", "cloud-top temperature below the freezing threshold", true},
 	{QCDropletNumberImplausible, "droplet_number_implausible", "droplet number concentration outside the plausible range", true},
 	{QCThicknessImplausible, "thickness_implausible", "adiabatic cloud thickness above the plausible maximum", true},
+	{QCCollectorNotLarger, "collector_not_larger", "collector start radius not larger than the cloud-top mean-volume radius: continuous collection does not apply", false},
 	{QCAirStateAssumed, "air_state_assumed", "cloud-top temperature or pressure absent; default air state used", false},
 	{QCGammaShapeAssumed, "gamma_shape_assumed", "no liquid water path standard deviation; default gamma shape used", false},
 	{QCSurfaceRHAssumed, "surface_humidity_assumed", "surface relative humidity absent; default used (sub-cloud humidity surface-rh only)", false},

@@ -77,6 +77,12 @@ package microphys
 // fluxes for inhomogeneous marine boundary layer clouds. Part I: Methodology and homogeneous
 // biases. J. Atmos. Sci., 53, 2289–2303. doi:10.1175/1520-0469(1996)053<2289:APFCGA>2.0.CO;2
 //
+// [Braga2021] Braga, R. C., D. Rosenfeld, O. O. Krüger, B. Ervens, B. A. Holanda, M. Wendisch,
+// T. Krisna, U. Pöschl, M. O. Andreae, C. Voigt, and M. L. Pöhlker, 2021: Linear relationship
+// between effective radius and precipitation water content near the top of convective clouds:
+// measurement results from ACRIDICON–CHUVA campaign. Atmos. Chem. Phys., 21, 14079–14088
+// (pages from memory). doi:10.5194/acp-21-14079-2021
+//
 // [Brenguier2000] Brenguier, J.-L., H. Pawlowska, L. Schüller, R. Preusker, J. Fischer, and
 // Y. Fouquart, 2000: Radiative properties of boundary layer clouds: Droplet effective radius
 // versus number concentration. J. Atmos. Sci., 57, 803–821.

@@ -101,13 +101,18 @@ Data go to stdout or files; messages go to stderr.
 	                                      temperature and pressure), g m-3 km-1
 	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
 	                                      (default 14)
+	      --onset-width float             width of the r_e range, centred on the onset radius,
+	                                      over which the drizzle-onset probability of a sub-grid
+	                                      column rises from 0 to 1 (0: a step at the onset
+	                                      radius), µm (default 4)
 	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
 	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 20)
+	      --collector-radius float        start radius of the collector drop, µm (default 25)
 	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
 	                                      µm (default 100)
-	      --updraft float                 updraft speed (0: collector released at cloud top; >0:
-	                                      enters at cloud base), m s-1
+	      --updraft float                 updraft speed (0: collector released at cloud top, the
+	                                      stratocumulus picture; >0: enters at cloud base and is
+	                                      carried up first, a cumulus picture), m s-1
 	      --collector-tolerance float     relative tolerance per step of the collector-drop
 	                                      integrator (default 1e-06)
 	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
@@ -263,13 +268,18 @@ Data go to stdout or files; messages go to stderr.
 	                                      temperature and pressure), g m-3 km-1
 	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
 	                                      (default 14)
+	      --onset-width float             width of the r_e range, centred on the onset radius,
+	                                      over which the drizzle-onset probability of a sub-grid
+	                                      column rises from 0 to 1 (0: a step at the onset
+	                                      radius), µm (default 4)
 	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
 	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 20)
+	      --collector-radius float        start radius of the collector drop, µm (default 25)
 	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
 	                                      µm (default 100)
-	      --updraft float                 updraft speed (0: collector released at cloud top; >0:
-	                                      enters at cloud base), m s-1
+	      --updraft float                 updraft speed (0: collector released at cloud top, the
+	                                      stratocumulus picture; >0: enters at cloud base and is
+	                                      carried up first, a cumulus picture), m s-1
 	      --collector-tolerance float     relative tolerance per step of the collector-drop
 	                                      integrator (default 1e-06)
 	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
@@ -388,6 +398,9 @@ Data go to stdout or files; messages go to stderr.
 	      --seed S                               seed S of the bootstrap random numbers (default 1)
 	      --min-count N                          least columns N an (LWP, N_d) bin needs to enter
 	                                             a fit or a curve (default 50)
+	      --min-drizzling N                      least drizzling columns N (the sum of the
+	                                             columns' POP) an (LWP, N_d) bin needs to enter a
+	                                             fit and show a conditional rate (default 10)
 	      --plot-size WxH                        picture size WxH in pixels (default "900x600")
 	      --map-of mean                          what the maps show: mean (time mean) or first
 	                                             (first selected time step) (default "mean")

@@ -185,6 +185,9 @@ func runColumn(e *env, args []string) error {
 		}
 		*dst[i] = vals[i] * c.scale
 	}
+	for _, w := range physicsWarnings(p) {
+		fmt.Fprintf(e.stderr, "warmrain: warning: %s\n", w)
+	}
 	m, err := newModel(p)
 	if err != nil {
 		return usagef("%v", err)
@@ -525,6 +528,7 @@ func (r *columnResult) writeText(w io.Writer) error {
 	}
 	if c := r.Collector; c != nil {
 		fmt.Fprintf(w, "\ncollector drop (CollectDirect): start radius %s um, updraft %s m s-1\n", num(c.StartRadius), num(c.Updraft))
+		fmt.Fprintln(w, "  (one drop's path, to explain the column; the mapped drizzle products are the cloud-base rate, intensity and probability)")
 		if c.Note != "" {
 			fmt.Fprintf(w, "  %s\n", c.Note)
 		} else {

@@ -139,7 +139,7 @@ func TestReferencesFollowScheme(t *testing.T) {
 	if g := referencesText(p); !strings.Contains(g, "Kessler (1969)") || strings.Contains(g, "Khairoutdinov") {
 		t.Errorf("references with kessler1969: %s", g)
 	}
-	defs, err := selectOutputs("column_autoconversion_rate,warm_rain_efficiency", p)
+	defs, err := selectOutputs("column_autoconversion_rate,autoconversion_efficiency", p)
 	if err != nil {
 		t.Fatal(err)
 	}

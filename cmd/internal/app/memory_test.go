@@ -85,7 +85,7 @@ func TestProcessMemoryBound(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if v := info.Var("warm_rain_efficiency"); v == nil || v.Chunks == nil || v.Chunks[0]*v.Chunks[1] >= 10000 {
+	if v := info.Var("autoconversion_efficiency"); v == nil || v.Chunks == nil || v.Chunks[0]*v.Chunks[1] >= 10000 {
 		t.Errorf("output chunks %v: the slabs were not made smaller", v)
 	}
 	a, b := outputGrids(t, outA), outputGrids(t, outB)

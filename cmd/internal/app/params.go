@@ -2,6 +2,7 @@ package app
 
 import (
 	"errors"
+	"fmt"
 	"strconv"
 	"strings"
 
@@ -138,4 +139,15 @@ func paramAttr(s microphys.Setting) string {
 		return s.Value
 	}
 	return s.Value + " " + s.Unit
+}
+
+// physicsWarnings returns the messages that parameters p deserve on stderr: a steady
+// updraft that carries the collector up through the cloud first is a cumulus picture, and in
+// stratocumulus columns 0.5 m s-1 or more carries it out through cloud top.
+func physicsWarnings(p microphys.Params) []string {
+	var w []string
+	if p.EnableCollector && p.Collector.Updraft > 0 {
+		w = append(w, fmt.Sprintf("--updraft %g m s-1: a steady updraft is a cumulus picture; in stratocumulus columns an updraft of 0.5 m s-1 or more carries the collector out through cloud top (flag collector_exit_top). Use 0 (the default) for stratocumulus", p.Collector.Updraft))
+	}
+	return w
 }

@@ -148,6 +148,11 @@ func runProcess(e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	for _, w := range physicsWarnings(params) {
+		if o.slot == "" { // the parent of --jobs children warns once
+			fmt.Fprintf(e.stderr, "warmrain: warning: %s\n", w)
+		}
+	}
 	defs, err := selectOutputs(o.outputs, params)
 	if err != nil {
 		return err

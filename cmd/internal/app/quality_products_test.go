@@ -358,7 +358,9 @@ DUMP = ["cloud_liquid_water_path"]
 			continue
 		}
 		in := nanInputs()
-		in.LWP = dec[i]
+		// unpacked in float64 as warmrain does (netCDF4-python's float32 unpacking differs in
+		// the 7th digit, which the drizzle model's steep onset can amplify tenfold; derived)
+		in.LWP = raw[i]*float64(float32(0.001)) + float64(float32(-0.05))
 		o, q, _ := column(t, m, in, math.NaN(), math.NaN(), false)
 		if got != q || got&microphys.QCDropletNumberAssumed == 0 {
 			t.Errorf("column %d: QC %v, microphys %v", i, qcNames32(got), qcNames32(q))

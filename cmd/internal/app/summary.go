@@ -70,12 +70,13 @@ Examples:
 // Names in processed files: rows of microphys.OutputDecls (mustOutput fails at start
 // when the declaration no longer has them).
 var (
-	lwpVarName  = mustOutput("liquid_water_path").Name
-	lwpStdName  = mustOutput("liquid_water_path").StandardName
-	ndVarName   = mustOutput("droplet_number").Name
-	popVarName  = mustOutput("drizzle_probability").Name
-	rateVarName = mustOutput("cloud_base_drizzle_rate").Name
-	surfVarName = mustOutput("surface_drizzle_radius").Name
+	lwpVarName       = mustOutput("liquid_water_path").Name
+	lwpStdName       = mustOutput("liquid_water_path").StandardName
+	ndVarName        = mustOutput("droplet_number").Name
+	popVarName       = mustOutput("drizzle_probability").Name
+	rateVarName      = mustOutput("cloud_base_drizzle_rate").Name
+	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
+	surfVarName      = mustOutput("surface_drizzle_radius").Name
 )
 
 const (
@@ -141,6 +142,7 @@ func runSummary(e *env, args []string) error {
 	boot := fs.Int("bootstrap", 0, "number `N` of Poisson-bootstrap replicates for the susceptibility errors (0 = off)")
 	seed := fs.Uint64("seed", 1, "seed `S` of the bootstrap random numbers")
 	minCount := fs.Int("min-count", 50, "least columns `N` an (LWP, N_d) bin needs to enter a fit or a curve")
+	minDrz := fs.Float64("min-drizzling", 10, "least drizzling columns `N` (the sum of the columns' POP) an (LWP, N_d) bin needs to enter a fit and show a conditional rate")
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
 	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
 	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
@@ -186,6 +188,10 @@ func runSummary(e *env, args []string) error {
 	if *minCount < 1 {
 		return usagef("--min-count %d: expected at least 1", *minCount)
 	}
+	if !(*minDrz > 0) || math.IsInf(*minDrz, 0) {
+		return usagef("--min-drizzling %g: expected a number above 0", *minDrz)
+	}
+	f.opt.MinDrizzling = *minDrz
 	if _, err := fmt.Sscanf(*size, "%dx%d", &f.width, &f.height); err != nil || f.width < 200 || f.height < 150 || f.width > 10000 || f.height > 10000 {
 		return usagef("--plot-size %q: expected WxH with W in 200..10000 and H in 150..10000 pixels", *size)
 	}
@@ -771,6 +777,11 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 		}
 	}
 	res := acc.Result()
+	if !st.mixed { // what sets S_R and S_I (summary.LawNote)
+		if c, err := strconv.ParseFloat(strings.Fields(st.params["drizzle_law_c"] + " x")[0], 64); err == nil {
+			res.Options.LawNdExponent = c
+		}
+	}
 	if err := summary.WriteTable(e.stdout, res); err != nil {
 		return err
 	}
@@ -1093,7 +1104,12 @@ func (st *summaryState) paramText() string {
 	}
 	if v, unit, _ := strings.Cut(st.params["onset_radius"], " "); unit == "um" { // as --onset-radius
 		if r, err := strconv.ParseFloat(v, 64); err == nil {
-			parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r))
+			wv, _, _ := strings.Cut(st.params["onset_width"], " ")
+			if w, err := strconv.ParseFloat(wv, 64); err == nil && w > 0 {
+				parts = append(parts, fmt.Sprintf("onset r_e %.3g-%.3g µm", r-w/2, r+w/2))
+			} else {
+				parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r))
+			}
 		}
 	} else if r, err := strconv.ParseFloat(st.params["onset_effective_radius"], 64); err == nil { // files of earlier versions, in m
 		parts = append(parts, fmt.Sprintf("onset r_e %.3g µm", r*1e6))
@@ -1206,7 +1222,7 @@ func mapStyle(name, siUnit string, o *plots.MapOptions) {
 	switch name {
 	case popVarName:
 		o.Min, o.Max = 0, 1
-	case rateVarName, "surface_drizzle_rate", "column_autoconversion_rate", "warm_rain_efficiency":
+	case rateVarName, intensityVarName, "surface_drizzle_rate", "column_autoconversion_rate", "autoconversion_efficiency":
 		o.Log = true
 		o.ColorMap = plots.Cividis()
 	}

@@ -276,5 +276,9 @@ func SusceptibilityCurves(w io.Writer, r *summary.Result, opt CurveOptions) erro
 	}
 	pad := 0.06 * (p.Y.Max - p.Y.Min)
 	p.Y.Min, p.Y.Max = p.Y.Min-pad, p.Y.Max+pad
-	return writeWithLegend(w, width, height, p, 190, "quantity X", "S_R = S_POP + S_I")
+	note := "S_R = S_POP + S_I\nS_R and S_I are set by the\nrate law's N_d exponent c\n(S_I -> c where POP -> 1)"
+	if c := r.Options.LawNdExponent; c > 0 {
+		note = fmt.Sprintf("S_R = S_POP + S_I\nS_R and S_I are set by the\nrate law's N_d exponent c = %g\n(S_I -> c where POP -> 1)", c)
+	}
+	return writeWithLegend(w, width, height, p, 190, "quantity X", note)
 }

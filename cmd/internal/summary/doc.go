@@ -40,9 +40,11 @@
 //
 //	S_X = -d ln X / d ln N_d
 //
-// computed over a region, not per pixel (doc/science.md#probability-and-susceptibility, recommended practice [from
-// memory]). For each LWP bin i we take the N_d bins j with at least Options.MinCount
-// columns and a positive mean, and fit by weighted least squares
+// computed over a region, not per pixel (doc/science.md#probability-and-susceptibility,
+// recommended practice [from memory]). For each LWP bin i we take the N_d bins j with at
+// least Options.MinCount columns, at least Options.MinDrizzling drizzling columns expected
+// (the sum of the columns' POP; a bin of model columns can have a POP of 1e-40, which no
+// sample could observe) and a positive mean, and fit by weighted least squares
 //
 //	ln X̄_ij = a_i - S_i ln N_c,j ,   weights w_j = n_ij
 //
@@ -61,7 +63,11 @@
 // rate) and S_I (X = I = mean rate / mean POP, the conditional rate of the precipitating
 // part). Terai et al. (2012) [from memory] decompose S_R = S_POP + S_I; because the fit
 // is linear in ln X and R̄ = POP̄ · I, the three reported slopes obey the decomposition
-// exactly whenever they use the same bins [derived].
+// exactly whenever they use the same bins [derived]; the three fits use the same bins.
+// warmrain's rates are the cell means R̄ = POP × I of one sub-grid model, so the bin's
+// conditional rate is the POP-weighted mean of the columns' intensities, and S_I and S_R
+// are set by the N_d exponent of the model's local drizzle law (Options.LawNdExponent):
+// they restate the law, while S_POP reflects the onset model.
 //
 // Optional bootstrap (Options.Bootstrap replicates, seeded and deterministic for a given
 // column order): a Poisson bootstrap over columns, in which every column enters each

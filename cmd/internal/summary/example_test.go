@@ -25,7 +25,9 @@ func ExampleAccumulator() {
 		LWPEdges: []float64{0.04, 0.07, 0.14, 0.28},
 		NdEdges:  summary.LogEdges(10e6, 1000e6, 4),
 		MinCount: 1,
-		Region:   &summary.Region{LatMin: 0, LatMax: 20, LonMin: -170, LonMax: -150}, // = 190..210 east
+		// one column per bin: no floor on the expected drizzling columns
+		MinDrizzling: 1e-3,
+		Region:       &summary.Region{LatMin: 0, LatMax: 20, LonMin: -170, LonMax: -150}, // = 190..210 east
 	})
 	if err != nil {
 		fmt.Println(err)

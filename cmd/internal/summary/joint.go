@@ -24,6 +24,14 @@ type Options struct {
 	// MinBins is the least number of N_d bins a fit needs; 0 = 3 (the smallest number
 	// with a regression standard error). Values below 3 are refused.
 	MinBins int
+	// MinDrizzling is the least expected number of drizzling columns, n × mean POP, an
+	// (LWP, N_d) bin needs to enter the susceptibility fits and to show a conditional rate;
+	// 0 = 10. A bin whose columns would hold fewer drizzling columns than that has no
+	// observable drizzle probability or intensity (its POP can be 1e-40 in the model).
+	MinDrizzling float64
+	// LawNdExponent is the N_d exponent c of the local drizzle law R = a LWP^b N_d^-c that
+	// made the rates (0 = unknown); the table and plot say that S_R and S_I follow from it.
+	LawNdExponent float64
 	// Bootstrap is the number of Poisson-bootstrap replicates; 0 = no bootstrap.
 	Bootstrap int
 	// Seed seeds the bootstrap generator (PCG); equal seeds and equal column order give
@@ -32,8 +40,9 @@ type Options struct {
 }
 
 const (
-	defaultMinCount = 50
-	defaultMinBins  = 3
+	defaultMinCount     = 50
+	defaultMinBins      = 3
+	defaultMinDrizzling = 10
 )
 
 // withDefaults fills zero values and validates.
@@ -56,6 +65,12 @@ func (o Options) withDefaults() (Options, error) {
 	if !o.Window.Start.IsZero() && !o.Window.End.IsZero() && !o.Window.End.After(o.Window.Start) {
 		return o, fmt.Errorf("summary: time window %s..%s is empty: End must be after Start",
 			o.Window.Start.Format("2006-01-02T15:04:05Z07:00"), o.Window.End.Format("2006-01-02T15:04:05Z07:00"))
+	}
+	if !(o.MinDrizzling >= 0) || math.IsInf(o.MinDrizzling, 0) {
+		return o, fmt.Errorf("summary: MinDrizzling is %g, want a finite number >= 0", o.MinDrizzling)
+	}
+	if o.MinDrizzling == 0 {
+		o.MinDrizzling = defaultMinDrizzling
 	}
 	if o.MinCount < 0 || o.MinBins < 0 || o.Bootstrap < 0 {
 		return o, fmt.Errorf("summary: MinCount (%d), MinBins (%d) and Bootstrap (%d) must not be negative",

@@ -13,7 +13,10 @@ type Joint struct {
 	MeanRate  []float64 // mean cloud-base drizzle rate (kg m-2 s-1); NaN when CountRate = 0
 	SERate    []float64 // standard error of MeanRate; NaN for CountRate < 2
 	// MeanCond is the conditional rate I = MeanRate / (mean POP over the same columns),
-	// kg m-2 s-1: the mean rate of the precipitating part (Terai et al. 2012 [from memory]).
+	// kg m-2 s-1: the mean rate of the precipitating part (Terai et al. 2012 [from memory]);
+	// with rates R̄ = POP × I per column it is the POP-weighted mean of the columns'
+	// intensities. NaN when the bin's expected drizzling columns n × mean POP are fewer
+	// than Options.MinDrizzling.
 	MeanCond []float64
 }
 
@@ -90,9 +93,8 @@ func (a *Accumulator) Result() *Result {
 		}
 		if st.nR > 0 {
 			jt.MeanRate[b] = st.meanR
-			jt.MeanCond[b] = st.meanR * float64(st.nR) / st.sumPR // NaN/Inf guarded below
-			if st.sumPR <= 0 {
-				jt.MeanCond[b] = nan
+			if float64(st.n)*st.meanP >= a.opt.MinDrizzling && st.sumPR > 0 {
+				jt.MeanCond[b] = st.meanR * float64(st.nR) / st.sumPR
 			}
 		}
 		if st.nR > 1 {
@@ -106,31 +108,33 @@ func (a *Accumulator) Result() *Result {
 		lnN[j] = math.Log(a.nd.Centre(j))
 	}
 	r.SPOP, r.SRate, r.SCond = make([]Slope, nl), make([]Slope, nl), make([]Slope, nl)
-	f := fitter{x: lnN, minCount: float64(a.opt.MinCount), minBins: a.opt.MinBins}
+	f := fitter{x: lnN, minCount: float64(a.opt.MinCount), minBins: a.opt.MinBins, minDrz: a.opt.MinDrizzling}
 	for i := 0; i < nl; i++ {
 		row := i * nn
 		n := make([]float64, nn)
 		nR := make([]float64, nn)
+		drz := make([]float64, nn)
 		for j := 0; j < nn; j++ {
 			n[j] = float64(jt.Count[row+j])
 			nR[j] = float64(jt.CountRate[row+j])
+			drz[j] = float64(jt.Count[row+j]) * a.bins[row+j].meanP // Σ POP
 		}
-		r.SPOP[i] = f.slope(n, jt.MeanPOP[row:row+nn])
-		r.SRate[i] = f.slope(nR, jt.MeanRate[row:row+nn])
-		r.SCond[i] = f.slope(nR, jt.MeanCond[row:row+nn])
+		r.SPOP[i] = f.slope(n, drz, jt.MeanPOP[row:row+nn])
+		r.SRate[i] = f.slope(nR, drz, jt.MeanRate[row:row+nn])
+		r.SCond[i] = f.slope(nR, drz, jt.MeanCond[row:row+nn])
 	}
 
 	// bootstrap
 	if a.boot != nil {
 		B := a.opt.Bootstrap
 		sp, sr, sc := make([][]float64, nl), make([][]float64, nl), make([][]float64, nl)
-		w, wR := make([]float64, nn), make([]float64, nn)
+		w, wR, wd := make([]float64, nn), make([]float64, nn), make([]float64, nn)
 		mp, mr, mc := make([]float64, nn), make([]float64, nn), make([]float64, nn)
 		for rep := 0; rep < B; rep++ {
 			for i := 0; i < nl; i++ {
 				for j := 0; j < nn; j++ {
 					bb := a.boot[rep*nb+i*nn+j]
-					w[j], wR[j] = bb.w, bb.wR
+					w[j], wR[j], wd[j] = bb.w, bb.wR, bb.wp
 					mp[j], mr[j], mc[j] = nan, nan, nan
 					if bb.w > 0 {
 						mp[j] = bb.wp / bb.w
@@ -142,13 +146,13 @@ func (a *Accumulator) Result() *Result {
 						}
 					}
 				}
-				if s := f.slope(w, mp); !math.IsNaN(s.S) {
+				if s := f.slope(w, wd, mp); !math.IsNaN(s.S) {
 					sp[i] = append(sp[i], s.S)
 				}
-				if s := f.slope(wR, mr); !math.IsNaN(s.S) {
+				if s := f.slope(wR, wd, mr); !math.IsNaN(s.S) {
 					sr[i] = append(sr[i], s.S)
 				}
-				if s := f.slope(wR, mc); !math.IsNaN(s.S) {
+				if s := f.slope(wR, wd, mc); !math.IsNaN(s.S) {
 					sc[i] = append(sc[i], s.S)
 				}
 			}
@@ -191,16 +195,19 @@ type fitter struct {
 	x        []float64
 	minCount float64
 	minBins  int
+	minDrz   float64 // least expected drizzling columns (Σ POP) of a fitted bin
 }
 
 // slope returns the susceptibility -b of the weighted least-squares line
-// ln(mean_j) = a + b x_j over the bins with n_j >= minCount and mean_j > 0.
-func (f fitter) slope(n, mean []float64) Slope {
+// ln(mean_j) = a + b x_j over the bins with n_j >= minCount, expected drizzling columns
+// drz_j >= minDrz and mean_j > 0 (the same bins for S_POP, S_R and S_I, so that
+// S_R = S_POP + S_I holds).
+func (f fitter) slope(n, drz, mean []float64) Slope {
 	var xs, ys, ws [16]float64
 	x, y, w := xs[:0], ys[:0], ws[:0]
 	cols := 0
 	for j := range f.x {
-		if n[j] >= f.minCount && mean[j] > 0 && !math.IsInf(mean[j], 0) {
+		if n[j] >= f.minCount && drz[j] >= f.minDrz && mean[j] > 0 && !math.IsInf(mean[j], 0) {
 			x = append(x, f.x[j])
 			y = append(y, math.Log(mean[j]))
 			w = append(w, n[j])

@@ -485,7 +485,7 @@ func TestJointMeans(t *testing.T) {
 		POP:  Field{Data: []float64{0.2, 0.4, 0.9}},
 		Rate: Field{Data: []float64{1e-6, 3e-6, math.NaN()}},
 	}
-	a, _ := New(Options{LWPEdges: []float64{0.02, 0.1, 0.5}, NdEdges: []float64{10e6, 100e6}})
+	a, _ := New(Options{LWPEdges: []float64{0.02, 0.1, 0.5}, NdEdges: []float64{10e6, 100e6}, MinDrizzling: 0.5})
 	if err := a.Add(s, &c); err != nil {
 		t.Fatal(err)
 	}
@@ -641,7 +641,8 @@ func TestWriteTable(t *testing.T) {
 	}
 	out := buf.String()
 	for _, want := range []string{
-		"50000 valid", "Mean drizzle probability POP (1)", "Mean cloud-base drizzle rate (mm day-1)",
+		"50000 valid", "Mean drizzle probability POP (1)", "Mean cloud-base drizzle rate, cell mean R (mm day-1)",
+		"Conditional rate I = mean R / mean POP", "set by the N_d exponent c of the drizzle law",
 		"S_POP", "S_R", "S_I", "boot", "20-27.6", "631-1000", "10-15.8", "reaching the surface", "Region: latitude -90 to 90",
 	} {
 		if !strings.Contains(out, want) {
@@ -701,5 +702,50 @@ func TestVariablesShapes(t *testing.T) {
 	}
 	if got := a.Result().Attributes()["time_window"]; got != "open to 1970-01-01T00:00:01Z (end excluded)" {
 		t.Errorf("time_window = %q", got)
+	}
+}
+
+// TestMinDrizzling checks the floor on expected drizzling columns (n × mean POP): a bin
+// below it shows no conditional rate and leaves every fit, so that S_POP, S_R and S_I use
+// the same bins and S_R = S_POP + S_I (Terai et al. 2012 decomposition, from memory;
+// derived for equal bins).
+func TestMinDrizzling(t *testing.T) {
+	t.Parallel()
+	// 4 N_d bins × 100 columns, POP = 0.5 (N/N0)^-2 and R = POP × I with I ∝ N^-1.75
+	// (derived: S_POP 2, S_I 1.75); the last bin has POP 0.5 × 64^-1... below 10 columns.
+	edges := LogEdges(10e6, 1000e6, 4)
+	nds := Axis{Edges: edges}.Centres()
+	var c Columns
+	for _, n := range nds {
+		for k := 0; k < 100; k++ {
+			pop := 0.5 * math.Pow(n/nds[0], -2)
+			c.LWP.Data = append(c.LWP.Data, 0.1)
+			c.Nd.Data = append(c.Nd.Data, n)
+			c.POP.Data = append(c.POP.Data, pop)
+			c.Rate.Data = append(c.Rate.Data, pop*1e-5*math.Pow(n/nds[0], -1.75))
+		}
+	}
+	s := Scene{Lat: make([]float64, 1), Lon: make([]float64, len(c.LWP.Data)), NY: 1, NX: len(c.LWP.Data), NT: 1}
+	a, _ := New(Options{LWPEdges: []float64{0.05, 0.2}, NdEdges: edges})
+	if err := a.Add(s, &c); err != nil {
+		t.Fatal(err)
+	}
+	r := a.Result()
+	// expected drizzling columns per bin: 50, 3.2, 0.2, 0.013 (derived): only bin 0 has 10
+	if n := r.SPOP[0].Bins; n != 1 || !math.IsNaN(r.Joint.MeanCond[1]) || math.IsNaN(r.Joint.MeanCond[0]) {
+		t.Errorf("default floor 10: %d bins fitted, conditional rates %v", n, r.Joint.MeanCond)
+	}
+	a, _ = New(Options{LWPEdges: []float64{0.05, 0.2}, NdEdges: edges, MinDrizzling: 0.1})
+	_ = a.Add(s, &c)
+	r = a.Result()
+	sp, sr, si := r.SPOP[0], r.SRate[0], r.SCond[0]
+	if sp.Bins != 3 || sr.Bins != 3 || si.Bins != 3 {
+		t.Fatalf("floor 0.1: bins %d %d %d, want 3", sp.Bins, sr.Bins, si.Bins)
+	}
+	if !close(sp.S, 2, 1e-9) || !close(si.S, 1.75, 1e-9) || !close(sr.S, sp.S+si.S, 1e-12) {
+		t.Errorf("S_POP %g (want 2), S_I %g (want 1.75), S_R %g (want their sum)", sp.S, si.S, sr.S)
+	}
+	if _, err := New(Options{MinDrizzling: -1}); err == nil {
+		t.Error("negative MinDrizzling accepted")
 	}
 }

@@ -87,16 +87,22 @@ func WriteTable(w io.Writer, r *Result) error {
 		}
 		return fmt.Sprintf("%.3f%s", jt.MeanPOP[b], mark(b))
 	})
-	matrix(fmt.Sprintf("Mean cloud-base drizzle rate (mm day-1); * = fewer than %d columns", minCount), func(b int) string {
+	matrix(fmt.Sprintf("Mean cloud-base drizzle rate, cell mean R (mm day-1); * = fewer than %d columns", minCount), func(b int) string {
 		if math.IsNaN(jt.MeanRate[b]) {
 			return "."
 		}
 		return fmt.Sprintf("%.3g%s", jt.MeanRate[b]*rateToMmPerDay, mark(b))
 	})
+	matrix(fmt.Sprintf("Conditional rate I = mean R / mean POP, the drizzling part (mm day-1); . = fewer than %g drizzling columns expected", r.Options.MinDrizzling), func(b int) string {
+		if math.IsNaN(jt.MeanCond[b]) {
+			return "."
+		}
+		return fmt.Sprintf("%.3g%s", jt.MeanCond[b]*rateToMmPerDay, mark(b))
+	})
 
 	fmt.Fprintf(bw, "\nPrecipitation susceptibility S = -d ln X / d ln N_d per LWP bin\n")
-	fmt.Fprintf(bw, "(weighted least squares over N_d bins with >= %d columns, at least %d bins; SE = regression standard error",
-		minCount, r.Options.MinBins)
+	fmt.Fprintf(bw, "(weighted least squares over N_d bins with >= %d columns and >= %g drizzling columns expected, at least %d bins; SE = regression standard error",
+		minCount, r.Options.MinDrizzling, r.Options.MinBins)
 	if r.Options.Bootstrap > 0 {
 		fmt.Fprintf(bw, ", boot = Poisson-bootstrap standard error over %d replicates, seed %d", r.Options.Bootstrap, r.Options.Seed)
 	}
@@ -122,6 +128,7 @@ func WriteTable(w io.Writer, r *Result) error {
 		fmt.Fprintln(bw)
 	}
 	fmt.Fprintf(bw, "S_R = S_POP + S_I when the same bins are used (Terai et al. 2012 decomposition).\n")
+	fmt.Fprintf(bw, "%s\n", LawNote(r.Options.LawNdExponent))
 
 	fmt.Fprintf(bw, "\nFraction of drizzle reaching the surface (columns whose drizzle left cloud base)\n")
 	frac := func(f Fraction) string {
@@ -137,4 +144,15 @@ func WriteTable(w io.Writer, r *Result) error {
 	}
 	fmt.Fprintf(bw, "Research diagnostics only; not for operational forecasting or flight-safety decisions.\n")
 	return bw.Flush()
+}
+
+// LawNote is the sentence that says where S_R and S_I come from: the rates are a model,
+// so the N_d exponent c of its local law R = a LWP^b N_d^-c sets S_I (S_I -> c where POP
+// -> 1) and with it S_R; only S_POP depends on the onset. c <= 0 means unknown.
+func LawNote(c float64) string {
+	law := "the N_d exponent c of the drizzle law R = a LWP^b N_d^-c"
+	if c > 0 {
+		law = fmt.Sprintf("the N_d exponent c = %g of the drizzle law R = a LWP^b N_d^-c", c)
+	}
+	return "S_R and S_I are set by " + law + " (S_I -> c where POP -> 1), not measured; S_POP comes from the onset model."
 }

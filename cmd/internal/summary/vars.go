@@ -56,7 +56,7 @@ func (r *Result) Variables() []Var {
 	jt := &r.Joint
 	two := []string{DimLWP, DimNd}
 	one := []string{DimLWP}
-	fit := fmt.Sprintf("weighted least-squares slope of ln(bin mean) against ln(N_d bin centre) over N_d bins with at least %d columns (at least %d bins), weights = column counts; [FeingoldSiebert2009] definition, from memory", r.Options.MinCount, r.Options.MinBins)
+	fit := fmt.Sprintf("weighted least-squares slope of ln(bin mean) against ln(N_d bin centre) over N_d bins with at least %d columns and %g drizzling columns expected (at least %d bins), weights = column counts; [FeingoldSiebert2009] definition, from memory. %s", r.Options.MinCount, r.Options.MinDrizzling, r.Options.MinBins, LawNote(r.Options.LawNdExponent))
 	vs := []Var{
 		{Name: "lwp_bin", Dims: []string{DimLWP}, Units: "kg m-2", StandardName: "atmosphere_mass_content_of_cloud_liquid_water",
 			LongName: "liquid water path bin centre (geometric mean of the edges)", Bounds: "lwp_bin_bounds", Data: r.LWP.Centres()},
@@ -75,7 +75,7 @@ func (r *Result) Variables() []Var {
 		{Name: "cloud_base_drizzle_rate_mean_standard_error", Dims: two, Units: "kg m-2 s-1", LongName: "standard error of the mean cloud-base drizzle rate, s/sqrt(n)", Data: jt.SERate},
 		{Name: "conditional_drizzle_rate_mean", Dims: two, Units: "kg m-2 s-1",
 			LongName: "conditional drizzle rate I = mean rate / mean drizzle probability",
-			Comment:  "rate of the precipitating part; [Terai2012] decomposition, from memory", Data: jt.MeanCond},
+			Comment:  fmt.Sprintf("rate of the precipitating part; [Terai2012] decomposition, from memory; missing where the bin's expected drizzling columns (sum of POP) are fewer than %g", r.Options.MinDrizzling), Data: jt.MeanCond},
 	}
 	for _, s := range []struct {
 		name, what string
@@ -123,18 +123,19 @@ func (r *Result) Variables() []Var {
 // (the writer adds Conventions, history, source and references).
 func (r *Result) Attributes() map[string]string {
 	a := map[string]string{
-		"columns_seen":          fmt.Sprint(r.Counts.Seen),
-		"columns_selected":      fmt.Sprint(r.Counts.Selected),
-		"columns_qc_masked":     fmt.Sprint(r.Counts.Masked),
-		"columns_invalid":       fmt.Sprint(r.Counts.Invalid),
-		"columns_valid":         fmt.Sprint(r.Counts.Valid),
-		"columns_outside_bins":  fmt.Sprint(r.Counts.OutOfRange),
-		"fit_min_columns":       fmt.Sprint(r.Options.MinCount),
-		"fit_min_bins":          fmt.Sprint(r.Options.MinBins),
-		"surface_fraction_all":  fmt.Sprint(r.Surface.Value),
-		"qc_mask":               fmt.Sprint(r.Options.QCMask),
-		"bootstrap_replicates":  fmt.Sprint(r.Options.Bootstrap),
-		"surface_fraction_rule": "reached = surface drizzle radius > 0; drizzle left cloud base = radius finite (0 = evaporated)",
+		"columns_seen":              fmt.Sprint(r.Counts.Seen),
+		"columns_selected":          fmt.Sprint(r.Counts.Selected),
+		"columns_qc_masked":         fmt.Sprint(r.Counts.Masked),
+		"columns_invalid":           fmt.Sprint(r.Counts.Invalid),
+		"columns_valid":             fmt.Sprint(r.Counts.Valid),
+		"columns_outside_bins":      fmt.Sprint(r.Counts.OutOfRange),
+		"fit_min_columns":           fmt.Sprint(r.Options.MinCount),
+		"fit_min_bins":              fmt.Sprint(r.Options.MinBins),
+		"fit_min_drizzling_columns": fmt.Sprint(r.Options.MinDrizzling),
+		"surface_fraction_all":      fmt.Sprint(r.Surface.Value),
+		"qc_mask":                   fmt.Sprint(r.Options.QCMask),
+		"bootstrap_replicates":      fmt.Sprint(r.Options.Bootstrap),
+		"surface_fraction_rule":     "reached = surface drizzle radius > 0; drizzle left cloud base = radius finite (0 = evaporated)",
 	}
 	if g := r.Options.Region; g != nil {
 		a["region"] = fmt.Sprintf("lat %g..%g, lon %g..%g (degrees)", g.LatMin, g.LatMax, g.LonMin, g.LonMax)
