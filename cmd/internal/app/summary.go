@@ -28,7 +28,8 @@ Reads files written by 'warmrain process', one time step at a time, and reports:
 drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-with their standard errors; the fraction of drizzle that reaches the surface; and
+with their standard errors; the flux-weighted fraction of drizzle reaching the surface
+(sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
 time-mean maps of every diagnostic with the number of values averaged per cell.
 
 The table goes to stdout. -o writes the same statistics and the maps as a CF NetCDF
@@ -76,7 +77,7 @@ var (
 	popVarName       = mustOutput("drizzle_probability").Name
 	rateVarName      = mustOutput("cloud_base_drizzle_rate").Name
 	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
-	surfVarName      = mustOutput("surface_drizzle_radius").Name
+	surfVarName      = mustOutput("surface_drizzle_rate").Name
 )
 
 const (
@@ -883,7 +884,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			cols.Rate = summary.Field{Name: rateVarName, Units: mustOutput(rateVarName).SIUnits, Data: d[p.rate]}
 		}
 		if p.surf != "" {
-			cols.SurfaceRadius = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.surf]}
+			cols.SurfaceRate = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.surf]}
 		}
 		if err := st.acc.Add(sc, &cols); err != nil {
 			return fmt.Errorf("%s: block %d of time steps: %w", path, b.number, err)

@@ -37,7 +37,7 @@ const (
 
 // synthColumn is one column of the synthetic scenario, in file units.
 type synthColumn struct {
-	lwp, nd, pop, rate, surf float64 // g m-2, cm-3, 1, mm day-1, um (NaN = fill)
+	lwp, nd, pop, rate, surf float64 // g m-2, cm-3, 1, mm day-1, mm day-1 (NaN = fill)
 	qc                       int16
 }
 
@@ -53,20 +53,22 @@ func synthColumnAt(k int) synthColumn {
 	c := synthColumn{lwp: 50 * math.Pow(8, u1), nd: 20 * math.Pow(25, u2)}
 	c.pop = 0.05 * math.Sqrt(c.lwp/100) * math.Pow(c.nd/100, -sPOP)
 	c.rate = 0.37 * math.Pow(c.lwp/100, 1.75) * math.Pow(c.nd/100, -sRate)
-	switch k % 4 {
+	switch k % 4 { // surface drizzle rate
 	case 0:
-		c.surf = 0 // evaporated below cloud base
+		c.surf = 0 // all evaporated below cloud base
 	case 1:
-		c.surf = 150 // reached the surface
-	default:
+		c.surf = 0.6 * c.rate
+	case 2:
 		c.surf = math.NaN()
+	default:
+		c.surf = 0.1 * c.rate * c.lwp / 100 // more of it survives under thicker clouds
 	}
 	if k%17 == 0 {
 		c.qc |= int16(microphys.QCAirStateAssumed)
 	}
 	if k%13 == 0 {
 		c.qc |= int16(microphys.QCThinCloud)
-		c.pop, c.nd, c.surf = 1, 300, 200 // inside the bins: would bias the fits
+		c.pop, c.nd, c.surf = 1, 300, 20*c.rate // inside the bins: would bias the fits
 	}
 	return c
 }
@@ -118,7 +120,7 @@ func writeSynthProcessed(t *testing.T, dir string) (string, []synthColumn) {
 			fvar("droplet_number", "cm-3", "cloud droplet number concentration", nd),
 			fvar("drizzle_probability", "1", "probability that the column drizzles", pop),
 			fvar("cloud_base_drizzle_rate", "mm day-1", "drizzle rate at cloud base", rate),
-			fvar("surface_drizzle_radius", "um", "radius of the collector drop on reaching the surface", surf),
+			fvar("surface_drizzle_rate", "mm day-1", "drizzle rate at the surface", surf),
 			{Name: "warm_rain_qc", Dims: []string{"time", "lat", "lon"}, Type: grid.Short, Data: qc,
 				Attrs: []grid.Attr{a("standard_name", "quality_flag"), a("flag_masks", masks), a("flag_meanings", strings.Join(words, " "))}},
 		},
@@ -131,6 +133,38 @@ func writeSynthProcessed(t *testing.T, dir string) (string, []synthColumn) {
 		t.Fatal(err)
 	}
 	return path, cols
+}
+
+// surfaceRatioPython returns the flux-weighted surface fraction Σ R_sfc / Σ R_CB of a
+// processed file, computed by Debian's netCDF4-python over the columns with QC & mask
+// == 0, finite positive LWP and N_d, finite POP, both rates finite and R_CB > 0.
+func surfaceRatioPython(t *testing.T, path string, mask int) float64 {
+	t.Helper()
+	py := "/usr/bin/python3"
+	if exec.Command(py, "-c", "import netCDF4, numpy").Run() != nil {
+		skipOrFailMissing(t, "/usr/bin/python3 with netCDF4 (Debian python3-netcdf4)")
+	}
+	script := `
+import sys, numpy as np, netCDF4
+ds = netCDF4.Dataset(sys.argv[1])
+def get(n):
+    return np.ma.filled(ds[n][:].astype(float), np.nan).ravel()
+qc = np.ma.filled(ds["warm_rain_qc"][:], 0).astype(np.int64).ravel()
+lwp, nd, pop = get("liquid_water_path"), get("droplet_number"), get("drizzle_probability")
+cb, sfc = get("cloud_base_drizzle_rate"), get("surface_drizzle_rate")
+ok = ((qc & int(sys.argv[2])) == 0) & (lwp > 0) & np.isfinite(lwp) & (nd > 0) & np.isfinite(nd) & np.isfinite(pop)
+ok &= np.isfinite(cb) & (cb > 0) & np.isfinite(sfc) & (sfc >= 0)
+print(repr(sfc[ok].sum() / cb[ok].sum()))
+`
+	out, err := exec.Command(py, "-c", script, path, strconv.Itoa(mask)).CombinedOutput()
+	if err != nil {
+		t.Fatalf("netCDF4-python on %s: %v\n%s", path, err, out)
+	}
+	v, err := strconv.ParseFloat(strings.TrimSpace(string(out)), 64)
+	if err != nil {
+		t.Fatalf("netCDF4-python output %q: %v", out, err)
+	}
+	return v
 }
 
 // summaryJSON reads what the tests check from a summary file with Debian's xarray
@@ -273,10 +307,15 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	if got := floats(t, m["lwp_bin"]); math.Abs(got[0]-math.Sqrt(0.05*0.1)) > 1e-12 {
 		t.Errorf("lwp_bin[0] = %g kg m-2, want the geometric centre %g (derived)", got[0], math.Sqrt(0.05*0.1))
 	}
-	// Surface fraction: reached / finite surface radius over the valid columns (derived
-	// by counting; the screened columns' radius 200 um must not count).
-	if got, err := strconv.ParseFloat(m["surface_all"].(string), 64); err != nil || math.Abs(got-float64(surfR)/float64(surfN)) > 1e-12 {
-		t.Errorf("surface_fraction_all = %v (%v), want %d/%d", m["surface_all"], err, surfR, surfN)
+	// Surface fraction: Σ R_sfc / Σ R_CB over the valid columns with both rates finite
+	// and R_CB > 0, computed by netCDF4-python from the processed file itself (an outside
+	// reader; the screened columns' large surface rates must not count).
+	want := surfaceRatioPython(t, in, int(microphys.QCScreenMask))
+	if got, err := strconv.ParseFloat(m["surface_all"].(string), 64); err != nil || math.Abs(got-want) > 1e-5*want {
+		t.Errorf("surface_fraction_all = %v (%v), want %g", m["surface_all"], err, want)
+	}
+	if sf := floats(t, m["surface_drizzle_fraction"]); len(sf) != 3 || !(sf[0] < sf[2]) {
+		t.Errorf("surface_drizzle_fraction per LWP bin %v: want 3 bins rising with LWP (the synthetic surface rates)", sf)
 	}
 	t.Logf("S_POP %.4f, S_R %.4f, S_I %.4f", sp, sr, si)
 	// The rate map is in SI: mm day-1 / 86400 = kg m-2 s-1 of liquid water (derived,
@@ -303,7 +342,7 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	}
 	// Pictures: decode, requested size, more than a handful of colours.
 	for _, name := range []string{"map_drizzle_probability_mean.png", "map_cloud_base_drizzle_rate_mean.png", "map_droplet_number_mean.png",
-		"map_liquid_water_path_mean.png", "map_surface_drizzle_radius_mean.png", "pop_vs_lwp.png", "susceptibility_vs_lwp.png"} {
+		"map_liquid_water_path_mean.png", "map_surface_drizzle_rate_mean.png", "pop_vs_lwp.png", "susceptibility_vs_lwp.png"} {
 		checkPNG(t, filepath.Join(pics, name), 640, 480)
 	}
 	// A second run refuses to overwrite without --force, and leaves the file alone.

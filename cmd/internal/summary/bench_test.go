@@ -9,7 +9,7 @@ func benchColumns(n int) (Scene, *Columns) {
 	r := rand.New(rand.NewPCG(1, 1))
 	s := flatScene(n)
 	c := &Columns{LWP: Field{Data: make([]float64, n)}, Nd: Field{Data: make([]float64, n)},
-		POP: Field{Data: make([]float64, n)}, Rate: Field{Data: make([]float64, n)}, SurfaceRadius: Field{Data: make([]float64, n)}}
+		POP: Field{Data: make([]float64, n)}, Rate: Field{Data: make([]float64, n)}, SurfaceRate: Field{Data: make([]float64, n)}}
 	for k := 0; k < n; k++ {
 		c.LWP.Data[k], c.Nd.Data[k] = logUniform(r, 0.02, 0.5), logUniform(r, 10e6, 1000e6)
 		c.POP.Data[k] = lawPOP(c.LWP.Data[k], c.Nd.Data[k])

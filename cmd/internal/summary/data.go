@@ -208,16 +208,16 @@ func timeSelected(s Scene, w Window, k int) bool {
 }
 
 // Columns are the per-column inputs of the statistics, all on the same Scene.
-// LWP, Nd and POP are required; Rate and SurfaceRadius may be left empty (no Data), in
+// LWP, Nd and POP are required; Rate and SurfaceRate may be left empty (no Data), in
 // which case the statistics that need them are NaN. QC, when not nil, has NT*NY*NX
 // entries; a column with QC & Options.QCMask != 0 is excluded.
 type Columns struct {
-	LWP           Field // liquid water path, kg m-2
-	Nd            Field // droplet number concentration, m-3
-	POP           Field // drizzle probability, 1
-	Rate          Field // cloud-base drizzle rate, kg m-2 s-1
-	SurfaceRadius Field // drizzle drop radius at the surface, m (0 = evaporated, NaN = screened)
-	QC            []uint16
+	LWP         Field // liquid water path, kg m-2
+	Nd          Field // droplet number concentration, m-3
+	POP         Field // drizzle probability, 1
+	Rate        Field // cloud-base drizzle rate, kg m-2 s-1
+	SurfaceRate Field // surface drizzle rate, kg m-2 s-1 (same units as Rate; 0 = all evaporated)
+	QC          []uint16
 }
 
 func (c *Columns) check(s Scene) error {
@@ -230,7 +230,7 @@ func (c *Columns) check(s Scene) error {
 		optional bool
 	}{
 		{c.LWP, "LWP", false}, {c.Nd, "N_d", false}, {c.POP, "POP", false},
-		{c.Rate, "drizzle rate", true}, {c.SurfaceRadius, "surface drizzle radius", true},
+		{c.Rate, "drizzle rate", true}, {c.SurfaceRate, "surface drizzle rate", true},
 	} {
 		if err := s.checkField(r.f, r.role, r.optional); err != nil {
 			return err

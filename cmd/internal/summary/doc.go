@@ -80,11 +80,18 @@
 //
 // # Method: drizzle reaching the surface
 //
-// A column counts as "drizzle left cloud base" when its surface drizzle radius is finite
-// (0 = the drop evaporated below cloud base, > 0 = it reached the surface; NaN = screened
-// or no collector). The surface fraction is the number with radius > 0 over the number
-// with a finite radius, overall and per LWP bin, with the binomial standard error
-// sqrt(f(1-f)/n) (common practice).
+// The processed files carry, per column, the cell-mean cloud-base drizzle rate R_CB and
+// the surface drizzle rate R_sfc left after evaporation of the cloud-base drizzle
+// drop-size distribution in the sub-cloud layer (microphys.SurfaceDrizzleFraction). The
+// surface fraction is flux-weighted, a ratio of sums
+//
+//	f_sfc = Σ R_sfc / Σ R_CB
+//
+// over the valid columns with both rates finite and R_CB > 0, overall and per LWP bin.
+// Weighting by the flux makes f_sfc the fraction of the cloud-base drizzle mass flux
+// that reaches the surface; a mean of per-column ratios would let columns with a trace
+// of drizzle weigh as much as the heavily drizzling ones (common practice). Processed
+// files without surface_drizzle_rate (older versions) give no surface fraction.
 //
 // Results are research diagnostics, not for operational forecasting or flight-safety
 // decisions.

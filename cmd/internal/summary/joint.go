@@ -100,6 +100,14 @@ type binStats struct {
 	sumPR      float64 // sum of POP over the columns with a rate
 }
 
+// fluxSum sums the surface and cloud-base drizzle rates over the columns that have both.
+type fluxSum struct {
+	n       int
+	sfc, cb float64
+}
+
+func (f *fluxSum) add(sfc, cb float64) { f.n++; f.sfc += sfc; f.cb += cb }
+
 // Counts tallies what happened to the columns offered to an Accumulator.
 type Counts struct {
 	Seen       int // columns offered (all time steps, all cells)
@@ -113,15 +121,14 @@ type Counts struct {
 // Accumulator gathers the joint statistics over any number of scenes. Create it with
 // New, feed it with Add and read it with Result. It is not safe for concurrent use.
 type Accumulator struct {
-	opt    Options
-	lwp    Axis
-	nd     Axis
-	bins   []binStats
-	surfN  []int // per LWP bin: columns with a finite surface radius
-	surfR  []int // per LWP bin: ... of which radius > 0
-	surfNA int   // all valid columns (any LWP) with a finite surface radius
-	surfRA int
-	counts Counts
+	opt      Options
+	lwp      Axis
+	nd       Axis
+	bins     []binStats
+	surf     []fluxSum // per LWP bin: surface and cloud-base rate sums
+	surfA    fluxSum   // all valid columns (any LWP)
+	haveSurf bool      // some scene had a surface drizzle rate
+	counts   Counts
 
 	rng  *rand.Rand
 	boot []bootBin // Bootstrap * nbins, replicate-major
@@ -145,8 +152,7 @@ func New(opt Options) (*Accumulator, error) {
 	}
 	nb := a.lwp.N() * a.nd.N()
 	a.bins = make([]binStats, nb)
-	a.surfN = make([]int, a.lwp.N())
-	a.surfR = make([]int, a.lwp.N())
+	a.surf = make([]fluxSum, a.lwp.N())
 	if o.Bootstrap > 0 {
 		a.rng = rand.New(rand.NewPCG(o.Seed, 0x9e3779b97f4a7c15))
 		a.boot = make([]bootBin, o.Bootstrap*nb)
@@ -208,7 +214,8 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 	in := regionMask(s, a.opt.Region)
 	cells := s.Cells()
 	haveRate := len(c.Rate.Data) > 0
-	haveSurf := len(c.SurfaceRadius.Data) > 0
+	haveSurf := haveRate && len(c.SurfaceRate.Data) > 0
+	a.haveSurf = a.haveSurf || haveSurf
 	nNd := a.nd.N()
 	a.counts.Seen += s.NT * cells
 	for t := 0; t < s.NT; t++ {
@@ -233,16 +240,13 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 			a.counts.Valid++
 			i := a.lwp.Find(lwp)
 			if haveSurf {
-				if r := c.SurfaceRadius.Data[idx]; !math.IsNaN(r) && !math.IsInf(r, 0) {
-					a.surfNA++
-					if r > 0 {
-						a.surfRA++
-					}
+				// Both rates finite, cloud-base rate > 0 and surface rate >= 0; Σ R_sfc /
+				// Σ R_CB is then the flux-weighted fraction.
+				rs, rc := c.SurfaceRate.Data[idx], c.Rate.Data[idx]
+				if rc > 0 && rs >= 0 && !math.IsInf(rc, 0) && !math.IsInf(rs, 0) {
+					a.surfA.add(rs, rc)
 					if i >= 0 {
-						a.surfN[i]++
-						if r > 0 {
-							a.surfR[i]++
-						}
+						a.surf[i].add(rs, rc)
 					}
 				}
 			}

@@ -33,19 +33,20 @@ type Slope struct {
 	Columns int     // columns in those bins
 }
 
-// Fraction is a count ratio with its binomial standard error.
+// Fraction is the flux-weighted fraction of drizzle reaching the surface: a ratio of
+// sums of rates, not a mean of per-column ratios.
 type Fraction struct {
-	Reached, Total int
-	Value, SE      float64 // NaN when Total == 0
+	Columns           int     // columns with both rates finite and a cloud-base rate > 0
+	SurfaceSum, CBSum float64 // Σ R_sfc and Σ R_CB over those columns, kg m-2 s-1
+	Value             float64 // SurfaceSum / CBSum; NaN when Columns == 0
 }
 
-func newFraction(k, n int) Fraction {
-	f := Fraction{Reached: k, Total: n, Value: math.NaN(), SE: math.NaN()}
-	if n > 0 {
-		f.Value = float64(k) / float64(n)
-		f.SE = math.Sqrt(f.Value * (1 - f.Value) / float64(n))
+func newFraction(f fluxSum) Fraction {
+	r := Fraction{Columns: f.n, SurfaceSum: f.sfc, CBSum: f.cb, Value: math.NaN()}
+	if f.n > 0 && f.cb > 0 {
+		r.Value = f.sfc / f.cb
 	}
-	return f
+	return r
 }
 
 // Result is the summary of everything added to an Accumulator.
@@ -55,11 +56,13 @@ type Result struct {
 	// Susceptibilities per LWP bin (len LWP.N()): of POP, of the mean rate, and of the
 	// conditional rate I.
 	SPOP, SRate, SCond []Slope
-	// Surface is the fraction of drizzle reaching the surface among columns whose drizzle
-	// left cloud base (finite surface radius): overall (any LWP, including outside the
-	// bins) and per LWP bin.
+	// Surface is the flux-weighted fraction of drizzle reaching the surface, Σ R_sfc /
+	// Σ R_CB over the columns with both rates finite and R_CB > 0: overall (any LWP,
+	// including outside the bins) and per LWP bin. HaveSurface is false when no scene
+	// had a surface drizzle rate (older processed files).
 	Surface      Fraction
 	SurfaceByLWP []Fraction
+	HaveSurface  bool
 	Counts       Counts
 	Options      Options // the options in use, defaults filled in
 }
@@ -165,10 +168,11 @@ func (a *Accumulator) Result() *Result {
 	}
 
 	// surface fraction
-	r.Surface = newFraction(a.surfRA, a.surfNA)
+	r.Surface = newFraction(a.surfA)
+	r.HaveSurface = a.haveSurf
 	r.SurfaceByLWP = make([]Fraction, nl)
 	for i := range r.SurfaceByLWP {
-		r.SurfaceByLWP[i] = newFraction(a.surfR[i], a.surfN[i])
+		r.SurfaceByLWP[i] = newFraction(a.surf[i])
 	}
 	return r
 }

@@ -447,13 +447,17 @@ func close(a, b, tol float64) bool {
 
 func TestSurfaceFraction(t *testing.T) {
 	t.Parallel()
-	// 6 columns: two LWP bins; radii: 0 (evaporated), 50 µm (reached), NaN (no drizzle)
-	s := flatScene(6)
+	// 7 columns in two LWP bins (the last outside): cloud-base rate R_CB and surface rate
+	// R_sfc (rates in mm day-1 / 86400; the ratio does not depend on units). Column 2 has
+	// no surface rate, column 3 no cloud-base drizzle; both are left out.
+	const d = 1.0 / 86400
+	s := flatScene(7)
 	c := Columns{
-		LWP:           Field{Data: []float64{0.03, 0.03, 0.03, 0.3, 0.3, 0.9}},
-		Nd:            Field{Data: []float64{50e6, 50e6, 50e6, 50e6, 50e6, 50e6}},
-		POP:           Field{Data: []float64{0.1, 0.1, 0.1, 0.9, 0.9, 1}},
-		SurfaceRadius: Field{Data: []float64{0, 50e-6, math.NaN(), 60e-6, 70e-6, 80e-6}},
+		LWP:         Field{Data: []float64{0.03, 0.03, 0.03, 0.03, 0.3, 0.3, 0.9}},
+		Nd:          Field{Data: []float64{50e6, 50e6, 50e6, 50e6, 50e6, 50e6, 50e6}},
+		POP:         Field{Data: []float64{0.1, 0.1, 0.1, 0, 0.9, 0.9, 1}},
+		Rate:        Field{Data: []float64{0.01 * d, 0.03 * d, 0.02 * d, 0, 1 * d, 3 * d, 5 * d}},
+		SurfaceRate: Field{Data: []float64{0, 0.01 * d, math.NaN(), 0, 0.5 * d, 2.5 * d, 4 * d}},
 	}
 	a, err := New(Options{LWPEdges: []float64{0.02, 0.1, 0.5}})
 	if err != nil {
@@ -463,15 +467,43 @@ func TestSurfaceFraction(t *testing.T) {
 		t.Fatal(err)
 	}
 	res := a.Result()
-	// overall: reached 4 of 5 finite (the LWP 0.9 column is outside the bins but counts) [derived]
-	if res.Surface.Reached != 4 || res.Surface.Total != 5 || !close(res.Surface.SE, math.Sqrt(0.8*0.2/5), 1e-12) {
-		t.Errorf("overall surface fraction %+v, want 4 of 5", res.Surface)
+	if !res.HaveSurface {
+		t.Fatal("HaveSurface false with a surface rate")
 	}
-	if f := res.SurfaceByLWP[0]; f.Reached != 1 || f.Total != 2 || f.Value != 0.5 {
-		t.Errorf("LWP bin 0: %+v, want 1 of 2", f)
+	// Ratios of sums [derived by hand]: bin 0: 0.01/(0.01+0.03) = 0.25 (a mean of the
+	// column ratios would give 1/6); bin 1: 3/4; all: 7.01/9.04.
+	for _, tc := range []struct {
+		name string
+		f    Fraction
+		want float64
+		n    int
+	}{{"all", res.Surface, 7.01 / 9.04, 5}, {"bin 0", res.SurfaceByLWP[0], 0.25, 2}, {"bin 1", res.SurfaceByLWP[1], 0.75, 2}} {
+		if !close(tc.f.Value, tc.want, 1e-12) || tc.f.Columns != tc.n {
+			t.Errorf("%s: %+v, want %g over %d columns", tc.name, tc.f, tc.want, tc.n)
+		}
 	}
-	if f := res.SurfaceByLWP[1]; f.Reached != 2 || f.Total != 2 || f.Value != 1 {
-		t.Errorf("LWP bin 1: %+v, want 2 of 2", f)
+
+	// Older processed files: no surface rate, no fraction, and the table says so.
+	c.SurfaceRate = Field{}
+	b, _ := New(Options{LWPEdges: []float64{0.02, 0.1, 0.5}})
+	if err := b.Add(s, &c); err != nil {
+		t.Fatal(err)
+	}
+	old := b.Result()
+	if old.HaveSurface || !math.IsNaN(old.Surface.Value) {
+		t.Errorf("without a surface rate: HaveSurface %v, value %g", old.HaveSurface, old.Surface.Value)
+	}
+	var buf bytes.Buffer
+	if err := WriteTable(&buf, old); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(buf.String(), "no surface drizzle rate") {
+		t.Errorf("table without a surface rate does not say so:\n%s", buf.String())
+	}
+	for _, v := range old.Variables() {
+		if v.Name == "surface_drizzle_fraction" {
+			t.Error("surface_drizzle_fraction written without a surface rate")
+		}
 	}
 }
 
@@ -620,16 +652,13 @@ func TestWriteTable(t *testing.T) {
 	const n = 50000
 	s := flatScene(n)
 	c := Columns{LWP: Field{Data: make([]float64, n)}, Nd: Field{Data: make([]float64, n)},
-		POP: Field{Data: make([]float64, n)}, Rate: Field{Data: make([]float64, n)}, SurfaceRadius: Field{Data: make([]float64, n)}}
+		POP: Field{Data: make([]float64, n)}, Rate: Field{Data: make([]float64, n)}, SurfaceRate: Field{Data: make([]float64, n)}}
 	for k := 0; k < n; k++ {
 		lwp, nd := logUniform(r, 0.02, 0.5), logUniform(r, 10e6, 1000e6)
 		c.LWP.Data[k], c.Nd.Data[k] = lwp, nd
 		c.POP.Data[k] = math.Min(1, lawPOP(lwp, nd))
 		c.Rate.Data[k] = c.POP.Data[k] * lawI(lwp, nd)
-		c.SurfaceRadius.Data[k] = math.NaN()
-		if r.Float64() < c.POP.Data[k] {
-			c.SurfaceRadius.Data[k] = float64(r.IntN(2)) * 40e-6
-		}
+		c.SurfaceRate.Data[k] = c.Rate.Data[k] * r.Float64()
 	}
 	a, _ := New(Options{Bootstrap: 20, Seed: 1, Region: &Region{-90, 90, -180, 180}})
 	if err := a.Add(s, &c); err != nil {

@@ -130,17 +130,23 @@ func WriteTable(w io.Writer, r *Result) error {
 	fmt.Fprintf(bw, "S_R = S_POP + S_I when the same bins are used (Terai et al. 2012 decomposition).\n")
 	fmt.Fprintf(bw, "%s\n", LawNote(r.Options.LawNdExponent))
 
-	fmt.Fprintf(bw, "\nFraction of drizzle reaching the surface (columns whose drizzle left cloud base)\n")
-	frac := func(f Fraction) string {
-		if f.Total == 0 {
-			return "- (no drizzle columns)"
+	fmt.Fprintf(bw, "\nFraction of drizzle reaching the surface (flux-weighted: sum of surface rate / sum of cloud-base rate)\n")
+	if !r.HaveSurface {
+		fmt.Fprintf(bw, "- (the processed files have no surface drizzle rate; reprocess them to get it)\n")
+	} else {
+		frac := func(f Fraction) string {
+			if f.Columns == 0 || !(f.CBSum > 0) {
+				return "- (no drizzling columns)"
+			}
+			n := float64(f.Columns)
+			return fmt.Sprintf("%.3f  (mean surface %s / cloud-base %s mm day-1, %d columns)", f.Value,
+				num3(f.SurfaceSum/n*rateToMmPerDay), num3(f.CBSum/n*rateToMmPerDay), f.Columns)
 		}
-		return fmt.Sprintf("%.3f ± %.3f  (%d of %d)", f.Value, f.SE, f.Reached, f.Total)
-	}
-	fmt.Fprintf(bw, "%-13s %s\n", "all LWP", frac(r.Surface))
-	for i, f := range r.SurfaceByLWP {
-		lo, hi := r.LWP.Bounds(i)
-		fmt.Fprintf(bw, "%-13s %s\n", rangeLabel(lo*lwpToGm2, hi*lwpToGm2), frac(f))
+		fmt.Fprintf(bw, "%-13s %s\n", "all LWP", frac(r.Surface))
+		for i, f := range r.SurfaceByLWP {
+			lo, hi := r.LWP.Bounds(i)
+			fmt.Fprintf(bw, "%-13s %s\n", rangeLabel(lo*lwpToGm2, hi*lwpToGm2), frac(f))
+		}
 	}
 	fmt.Fprintf(bw, "Research diagnostics only; not for operational forecasting or flight-safety decisions.\n")
 	return bw.Flush()

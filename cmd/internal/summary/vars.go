@@ -105,17 +105,18 @@ func (r *Result) Variables() []Var {
 				Var{Name: s.name + "_bootstrap_count", Dims: one, Units: "1", Int: true, LongName: "bootstrap replicates with a defined " + s.name, Data: nboot})
 		}
 	}
-	sf, sfe, sn := make([]float64, len(r.SurfaceByLWP)), make([]float64, len(r.SurfaceByLWP)), make([]float64, len(r.SurfaceByLWP))
-	for i, f := range r.SurfaceByLWP {
-		sf[i], sfe[i], sn[i] = f.Value, f.SE, float64(f.Total)
+	if r.HaveSurface {
+		sf, sn := make([]float64, len(r.SurfaceByLWP)), make([]float64, len(r.SurfaceByLWP))
+		for i, f := range r.SurfaceByLWP {
+			sf[i], sn[i] = f.Value, float64(f.Columns)
+		}
+		vs = append(vs,
+			Var{Name: "surface_drizzle_fraction", Dims: one, Units: "1", LongName: "flux-weighted fraction of cloud-base drizzle that reaches the surface",
+				Comment:   "flux-weighted ratio of sums: sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate, over the valid columns in the bin with both rates finite and cloud_base_drizzle_rate > 0",
+				Ancillary: "drizzle_column_count", Data: sf},
+			Var{Name: "drizzle_column_count", Dims: one, Units: "1", Int: true, LongName: "number of columns in surface_drizzle_fraction (both rates finite, cloud-base rate > 0)", Data: sn},
+		)
 	}
-	vs = append(vs,
-		Var{Name: "surface_drizzle_fraction", Dims: one, Units: "1", LongName: "fraction of drizzle leaving cloud base that reaches the surface",
-			Comment:   "columns with surface drizzle radius > 0 over columns with a finite surface drizzle radius",
-			Ancillary: "surface_drizzle_fraction_standard_error drizzle_column_count", Data: sf},
-		Var{Name: "surface_drizzle_fraction_standard_error", Dims: one, Units: "1", LongName: "binomial standard error of surface_drizzle_fraction", Data: sfe},
-		Var{Name: "drizzle_column_count", Dims: one, Units: "1", Int: true, LongName: "number of columns whose drizzle left cloud base", Data: sn},
-	)
 	return vs
 }
 
@@ -132,10 +133,14 @@ func (r *Result) Attributes() map[string]string {
 		"fit_min_columns":           fmt.Sprint(r.Options.MinCount),
 		"fit_min_bins":              fmt.Sprint(r.Options.MinBins),
 		"fit_min_drizzling_columns": fmt.Sprint(r.Options.MinDrizzling),
-		"surface_fraction_all":      fmt.Sprint(r.Surface.Value),
 		"qc_mask":                   fmt.Sprint(r.Options.QCMask),
 		"bootstrap_replicates":      fmt.Sprint(r.Options.Bootstrap),
-		"surface_fraction_rule":     "reached = surface drizzle radius > 0; drizzle left cloud base = radius finite (0 = evaporated)",
+	}
+	if r.HaveSurface {
+		a["surface_fraction_all"] = fmt.Sprint(r.Surface.Value)
+		a["surface_fraction_rule"] = "flux-weighted: sum of surface_drizzle_rate / sum of cloud_base_drizzle_rate over valid columns with both finite and cloud-base rate > 0"
+	} else {
+		a["surface_fraction_rule"] = "not computed: the processed files have no surface_drizzle_rate"
 	}
 	if g := r.Options.Region; g != nil {
 		a["region"] = fmt.Sprintf("lat %g..%g, lon %g..%g (degrees)", g.LatMin, g.LatMax, g.LonMin, g.LonMax)
