@@ -343,7 +343,8 @@ Data go to stdout or files; messages go to stderr.
 	drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 	water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 	S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-	with their standard errors; the fraction of drizzle that reaches the surface; and
+	with their standard errors; the flux-weighted fraction of drizzle reaching the surface
+	(sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
 	time-mean maps of every diagnostic with the number of values averaged per cell.
 
 	The table goes to stdout. -o writes the same statistics and the maps as a CF NetCDF
