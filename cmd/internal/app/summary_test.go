@@ -585,3 +585,37 @@ func TestSummarySampleEndToEnd(t *testing.T) {
 		checkPNG(t, filepath.Join(pics, name), 900, 600)
 	}
 }
+
+// TestSummaryWithoutSurfaceRate: a processed file of an older version (no
+// surface_drizzle_rate; here renamed away by netCDF4-python) still summarises, and the
+// surface section says the file has no surface drizzle rate.
+func TestSummaryWithoutSurfaceRate(t *testing.T) {
+	dir := t.TempDir()
+	in, _ := writeSynthProcessed(t, dir)
+	py := "/usr/bin/python3"
+	if exec.Command(py, "-c", "import netCDF4").Run() != nil {
+		skipOrFailMissing(t, "/usr/bin/python3 with netCDF4 (Debian python3-netcdf4)")
+	}
+	if out, err := exec.Command(py, "-c", `import sys, netCDF4
+ds = netCDF4.Dataset(sys.argv[1], "a")
+ds.renameVariable("surface_drizzle_rate", "older_product")
+ds.close()`, in).CombinedOutput(); err != nil {
+		t.Fatalf("netCDF4-python: %v\n%s", err, out)
+	}
+	out := filepath.Join(dir, "summary.nc")
+	code, stdout, stderr := runCmd("summary", in, "-o", out, "--lwp-bins", "50:400:3", "--nd-bins", "20:500:5")
+	if code != 0 {
+		t.Fatalf("exit %d\n%s", code, stderr)
+	}
+	if !strings.Contains(stdout, "the processed files have no surface drizzle rate") {
+		t.Errorf("surface section does not say the file has no surface rate:\n%s", stdout)
+	}
+	r, err := grid.OpenReader(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	if r.Info().Var("surface_drizzle_fraction") != nil {
+		t.Error("summary file has surface_drizzle_fraction without a surface rate in the input")
+	}
+}
