@@ -7,18 +7,14 @@ import (
 	"strings"
 	"sync"
 	"testing"
+
+	"github.com/warmrain/warmrain/grid/gridtest"
 )
 
-// need skips (or, with CI=true, fails) when a tool is missing.
+// need skips (or, with CI=true, fails) when a tool is missing (gridtest.Need).
 func need(t testing.TB, what string, ok bool) {
 	t.Helper()
-	if ok {
-		return
-	}
-	if os.Getenv("CI") == "true" {
-		t.Fatalf("%s is required in CI but missing", what)
-	}
-	t.Skipf("%s not available", what)
+	gridtest.Need(t, what, ok)
 }
 
 // ncgen compiles testdata/<name>.cdl into t.TempDir() with the given kind

@@ -866,19 +866,7 @@ func (in *Input) readAllIO(v *VarInfo) ([]float64, error) {
 	if !v.Type.Numeric() {
 		return nil, varErr(ErrLayout, in.Path, v.Name, "has type %s; expected numbers", v.Type)
 	}
-	n := v.Len()
-	buf := make([]uint64, (n*v.Type.Size()+7)/8+1)
-	start := make([]uint64, len(v.Shape))
-	count := make([]uint64, len(v.Shape))
-	for i, s := range v.Shape {
-		count[i] = uint64(s)
-	}
-	if err := v.readIO(start, count, unsafe.Pointer(&buf[0])); err != nil {
-		return nil, varErr(err, v.File, v.Name, "read failed: %v", err)
-	}
-	raw := newTyped(v.Type, n)
-	copyRawTo(raw, unsafe.Pointer(&buf[0]), n*v.Type.Size())
-	return toFloat64s(raw), nil
+	return readStoredIO(v)
 }
 
 func copyRawTo(dst any, src unsafe.Pointer, nbytes int) {
