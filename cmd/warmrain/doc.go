@@ -26,9 +26,10 @@ Data go to stdout or files; messages go to stderr.
 	(lwp.nc+reff.nc, one variable per file) are one input: roles are searched
 	across them, their grids must match, and the output is named by the first.
 	HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
-	variable in a group by its path (--bind lwp=/geophysical_data/NAME). With one input, OUTPUT is the output file; with
-	several (or when OUTPUT is an existing folder) OUTPUT is a folder and each
-	output is named by --name. Outputs appear whole or not at all: each is written
+	variable in a group by its path (--bind lwp=/geophysical_data/NAME).
+
+	With one input, OUTPUT is the output file; with several (or when OUTPUT is an
+	existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 	to a temporary file in the target folder and renamed when complete.
 
 	A rerun skips inputs whose output is complete (same input identity, parameters
@@ -55,7 +56,7 @@ Data go to stdout or files; messages go to stderr.
 	                                      flags are always written (default "all")
 	      --bind stringArray              take input ROLE from variable VAR, optionally declaring
 	                                      its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re
-	                                      tau ctt ctp cth cloud_fraction lwp_sd)
+	                                      tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)
 	  -j, --jobs int                      files processed at the same time, each in its own
 	                                      process (libnetcdf is single-threaded) (default 1)
 	      --threads int                   compute goroutines per process (0: the CPUs divided by
