@@ -39,7 +39,10 @@ type Outputs struct {
 	// that fraction of DrizzleRate, kg m-2 s-1.
 	SurfaceDrizzleFraction float64
 	SurfaceDrizzleRate     float64
-	QC                     uint16 // QC bits, see QCFlags
+	// CloudBaseHeight is the height of cloud base above the surface, the depth of the
+	// sub-cloud layer the drizzle falls through (SubCloudLayer.BaseHeight), m.
+	CloudBaseHeight float64
+	QC              uint16 // QC bits, see QCFlags
 }
 
 // Model is a validated parameter set with its precomputed tables. A Model is safe for
@@ -472,7 +475,7 @@ const (
 // Valid: marine warm stratocumulus; the screening thresholds in Params.
 func (m *Model) Column(in *Inputs, out *Outputs) {
 	nan := math.NaN()
-	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
+	*out = Outputs{nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, nan, 0}
 	p := &m.p
 	var qc uint16
 
@@ -645,6 +648,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
 		}
 		if okL {
+			out.CloudBaseHeight = l.BaseHeight
 			f := nan
 			if fastL {
 				f = m.tab.evap.fraction(u, &l, m.surfacePressureFast(cth, &l))

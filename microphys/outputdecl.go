@@ -126,6 +126,11 @@ var OutputDecls = []OutputDecl{
 		ValidMin: 0, ValidMax: 1, Collector: true, Evaporation: true,
 		Comment:    "a drizzle size distribution of fixed shape at cloud base (truncated gamma, mean radius a parameter), each size class carried down with ventilated evaporation through the sub-cloud layer (number flux conserved, no coalescence); independent of the drop number",
 		References: "Wood (2005a, b); vanZanten et al. (2005); Beard (1976); Pruppacher and Klett (1997)", Content: "modelResult", Packable: true},
+	{Name: "cloud_base_height", Get: func(o *Outputs) float64 { return o.CloudBaseHeight }, SIUnits: "m", Units: "m", Scale: 1,
+		LongName: "height of cloud base above the surface: the depth of the sub-cloud layer the drizzle falls through", Title: "Cloud-base height",
+		ValidMin: 0, ValidMax: 2e4, Collector: true, Evaporation: true,
+		Comment:    "cloud-top height minus the adiabatic thickness when the column gives a cloud-top height; otherwise the dry adiabat from cloud base down to the surface pressure",
+		References: "Brenguier et al. (2000)", Content: "modelResult", Packable: true},
 }
 
 // OutputByName returns the declaration of the output named name, or nil.

@@ -78,6 +78,7 @@ var (
 	rateVarName      = mustOutput("cloud_base_drizzle_rate").Name
 	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
 	surfVarName      = mustOutput("surface_drizzle_rate").Name
+	baseVarName      = mustOutput("cloud_base_height").Name
 )
 
 const (
@@ -328,6 +329,7 @@ type procFile struct {
 	lwp      string
 	rate     string // "" when absent
 	surf     string
+	base     string // cloud-base height, "" when absent
 	qc       string
 	qcScreen uint32 // the file's screening bits
 	vars     map[string]varIn
@@ -392,6 +394,9 @@ func (p *procFile) bind() error {
 	}
 	if fi.Var(surfVarName) != nil {
 		p.surf = surfVarName
+	}
+	if fi.Var(baseVarName) != nil {
+		p.base = baseVarName
 	}
 	// Every float diagnostic on the grid is mapped (not the 2-D coordinates of a swath).
 	coords := strings.Fields(nd.Text("coordinates"))
@@ -838,7 +843,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			}
 		}
 	}
-	needs := append([]string{p.lwp, ndVarName, popVarName, p.rate, p.surf}, st.mapNames...)
+	needs := append([]string{p.lwp, ndVarName, popVarName, p.rate, p.surf, p.base}, st.mapNames...)
 	s := p.scene
 	if f.region != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
@@ -885,6 +890,9 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		}
 		if p.surf != "" {
 			cols.SurfaceRate = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.surf]}
+		}
+		if p.base != "" {
+			cols.BaseHeight = summary.Field{Name: baseVarName, Units: mustOutput(baseVarName).SIUnits, Data: d[p.base]}
 		}
 		if err := st.acc.Add(sc, &cols); err != nil {
 			return fmt.Errorf("%s: block %d of time steps: %w", path, b.number, err)

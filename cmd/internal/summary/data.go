@@ -217,6 +217,7 @@ type Columns struct {
 	POP         Field // drizzle probability, 1
 	Rate        Field // cloud-base drizzle rate, kg m-2 s-1
 	SurfaceRate Field // surface drizzle rate, kg m-2 s-1 (same units as Rate; 0 = all evaporated)
+	BaseHeight  Field // cloud-base height above the surface, m (optional: the fraction by base height)
 	QC          []uint16
 }
 
@@ -230,7 +231,7 @@ func (c *Columns) check(s Scene) error {
 		optional bool
 	}{
 		{c.LWP, "LWP", false}, {c.Nd, "N_d", false}, {c.POP, "POP", false},
-		{c.Rate, "drizzle rate", true}, {c.SurfaceRate, "surface drizzle rate", true},
+		{c.Rate, "drizzle rate", true}, {c.SurfaceRate, "surface drizzle rate", true}, {c.BaseHeight, "cloud-base height", true},
 	} {
 		if err := s.checkField(r.f, r.role, r.optional); err != nil {
 			return err

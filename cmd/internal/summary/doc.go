@@ -87,7 +87,8 @@
 //
 //	f_sfc = Σ R_sfc / Σ R_CB
 //
-// over the valid columns with both rates finite and R_CB > 0, overall and per LWP bin.
+// over the valid columns with both rates finite and R_CB > 0, overall, per LWP bin and,
+// when the files carry cloud_base_height, per cloud-base height bin (BaseHeightEdges).
 // Weighting by the flux makes f_sfc the fraction of the cloud-base drizzle mass flux
 // that reaches the surface; a mean of per-column ratios would let columns with a trace
 // of drizzle weigh as much as the heavily drizzling ones (common practice). Processed

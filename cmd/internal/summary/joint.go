@@ -128,6 +128,8 @@ type Accumulator struct {
 	surf     []fluxSum // per LWP bin: surface and cloud-base rate sums
 	surfA    fluxSum   // all valid columns (any LWP)
 	haveSurf bool      // some scene had a surface drizzle rate
+	surfZ    []fluxSum // per cloud-base height bin (BaseHeightEdges)
+	haveBase bool      // some scene had a surface drizzle rate and a cloud-base height
 	counts   Counts
 
 	rng  *rand.Rand
@@ -153,6 +155,7 @@ func New(opt Options) (*Accumulator, error) {
 	nb := a.lwp.N() * a.nd.N()
 	a.bins = make([]binStats, nb)
 	a.surf = make([]fluxSum, a.lwp.N())
+	a.surfZ = make([]fluxSum, len(BaseHeightEdges)-1)
 	if o.Bootstrap > 0 {
 		a.rng = rand.New(rand.NewPCG(o.Seed, 0x9e3779b97f4a7c15))
 		a.boot = make([]bootBin, o.Bootstrap*nb)
@@ -216,6 +219,8 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 	haveRate := len(c.Rate.Data) > 0
 	haveSurf := haveRate && len(c.SurfaceRate.Data) > 0
 	a.haveSurf = a.haveSurf || haveSurf
+	haveBase := haveSurf && len(c.BaseHeight.Data) > 0
+	a.haveBase = a.haveBase || haveBase
 	nNd := a.nd.N()
 	a.counts.Seen += s.NT * cells
 	for t := 0; t < s.NT; t++ {
@@ -247,6 +252,11 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 					a.surfA.add(rs, rc)
 					if i >= 0 {
 						a.surf[i].add(rs, rc)
+					}
+					if haveBase {
+						if z := baseBin(c.BaseHeight.Data[idx]); z >= 0 {
+							a.surfZ[z].add(rs, rc)
+						}
 					}
 				}
 			}
@@ -293,4 +303,23 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 		}
 	}
 	return nil
+}
+
+// BaseHeightEdges are the cloud-base height bins (m above the surface) of the surface
+// drizzle fraction: the depth of the sub-cloud layer the drizzle falls through, which
+// sets how much of it evaporates (common practice: 200 m steps over the range of marine
+// stratocumulus bases).
+var BaseHeightEdges = []float64{0, 200, 400, 600, 800, 1000, 1500, 2000, 3000}
+
+// baseBin returns the BaseHeightEdges bin of z, or -1 outside them or for NaN.
+func baseBin(z float64) int {
+	if !(z >= BaseHeightEdges[0]) {
+		return -1
+	}
+	for i := 1; i < len(BaseHeightEdges); i++ {
+		if z < BaseHeightEdges[i] {
+			return i - 1
+		}
+	}
+	return -1
 }

@@ -63,8 +63,12 @@ type Result struct {
 	Surface      Fraction
 	SurfaceByLWP []Fraction
 	HaveSurface  bool
-	Counts       Counts
-	Options      Options // the options in use, defaults filled in
+	// SurfaceByBase is the same fraction per cloud-base height bin (BaseHeightEdges);
+	// HaveBase is false when no scene had a cloud-base height.
+	SurfaceByBase []Fraction
+	HaveBase      bool
+	Counts        Counts
+	Options       Options // the options in use, defaults filled in
 }
 
 // Result computes the statistics gathered so far. It may be called more than once and
@@ -173,6 +177,11 @@ func (a *Accumulator) Result() *Result {
 	r.SurfaceByLWP = make([]Fraction, nl)
 	for i := range r.SurfaceByLWP {
 		r.SurfaceByLWP[i] = newFraction(a.surf[i])
+	}
+	r.HaveBase = a.haveBase
+	r.SurfaceByBase = make([]Fraction, len(a.surfZ))
+	for i := range r.SurfaceByBase {
+		r.SurfaceByBase[i] = newFraction(a.surfZ[i])
 	}
 	return r
 }

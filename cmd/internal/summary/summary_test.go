@@ -483,6 +483,42 @@ func TestSurfaceFraction(t *testing.T) {
 		}
 	}
 
+	// By cloud-base height [derived by hand, BaseHeightEdges 0, 200, 400, 600, 800, ...,
+	// 2000, 3000 m]: column 0 (100 m) 0/0.01; column 1 (300 m) 0.01/0.03; columns 4 and 5
+	// (700 m) 3/4; column 6 (2500 m, outside the LWP bins but counted) 4/5. Columns 2 and 3
+	// stay out as above.
+	c.BaseHeight = Field{Data: []float64{100, 300, 300, 100, 700, 700, 2500}}
+	z, _ := New(Options{LWPEdges: []float64{0.02, 0.1, 0.5}})
+	if err := z.Add(s, &c); err != nil {
+		t.Fatal(err)
+	}
+	byBase := z.Result()
+	if !byBase.HaveBase || len(byBase.SurfaceByBase) != len(BaseHeightEdges)-1 {
+		t.Fatalf("HaveBase %v, %d base bins", byBase.HaveBase, len(byBase.SurfaceByBase))
+	}
+	for _, tc := range []struct {
+		bin  int
+		want float64
+		n    int
+	}{{0, 0, 1}, {1, 1.0 / 3, 1}, {3, 0.75, 2}, {7, 0.8, 1}} {
+		if f := byBase.SurfaceByBase[tc.bin]; !close(f.Value, tc.want, 1e-12) || f.Columns != tc.n {
+			t.Errorf("base bin %d: %+v, want %g over %d columns", tc.bin, f, tc.want, tc.n)
+		}
+	}
+	for _, i := range []int{2, 4, 5, 6} {
+		if f := byBase.SurfaceByBase[i]; f.Columns != 0 {
+			t.Errorf("base bin %d holds %d columns, want none", i, f.Columns)
+		}
+	}
+	var tb bytes.Buffer
+	if err := WriteTable(&tb, byBase); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(tb.String(), "by cloud-base height") || !strings.Contains(tb.String(), "2000-3000     0.800") {
+		t.Errorf("table has no base-height fraction:\n%s", tb.String())
+	}
+	c.BaseHeight = Field{}
+
 	// Older processed files: no surface rate, no fraction, and the table says so.
 	c.SurfaceRate = Field{}
 	b, _ := New(Options{LWPEdges: []float64{0.02, 0.1, 0.5}})

@@ -147,6 +147,15 @@ func WriteTable(w io.Writer, r *Result) error {
 			lo, hi := r.LWP.Bounds(i)
 			fmt.Fprintf(bw, "%-13s %s\n", rangeLabel(lo*lwpToGm2, hi*lwpToGm2), frac(f))
 		}
+		if r.HaveBase {
+			fmt.Fprintf(bw, "by cloud-base height (m above the surface)\n")
+			for i, f := range r.SurfaceByBase {
+				if f.Columns == 0 {
+					continue
+				}
+				fmt.Fprintf(bw, "%-13s %s\n", rangeLabel(BaseHeightEdges[i], BaseHeightEdges[i+1]), frac(f))
+			}
+		}
 	}
 	fmt.Fprintf(bw, "Research diagnostics only; not for operational forecasting or flight-safety decisions.\n")
 	return bw.Flush()
