@@ -453,8 +453,8 @@ func TestProcessPack(t *testing.T) {
 			t.Errorf("%s: no valid value in the sample (the test would not check it)", d.name)
 		}
 	}
-	if npacked != 6 { // the five of README's storage paragraph and surface_drizzle_fraction
-		t.Errorf("%d packable outputs, want 6", npacked)
+	if npacked != 7 { // the seven of README's storage paragraph
+		t.Errorf("%d packable outputs, want 7", npacked)
 	}
 	// The stored type and attributes, and an outside reader's unpacking.
 	py := "/usr/bin/python3"
