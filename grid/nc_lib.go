@@ -389,6 +389,15 @@ func ncOpen(path string) (int, error) {
 	return int(ds), nil
 }
 
+// ncOpenWrite opens a file for writing (our own temporary outputs only).
+func ncOpenWrite(path string) (int, error) {
+	ds, err := netcdf.OpenFile(path, netcdf.WRITE)
+	if err != nil {
+		return -1, fromGoNetCDF(err)
+	}
+	return int(ds), nil
+}
+
 func ncCreate(path string, mode int) (int, error) {
 	ds, err := netcdf.CreateFile(path, netcdf.FileMode(mode))
 	if err != nil {

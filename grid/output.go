@@ -89,6 +89,10 @@ type WriteOptions struct {
 	Force   bool // overwrite an existing output (never an input)
 	// Globals are written last (they replace copied ones of the same name).
 	Globals []Global
+	// Writer is WriterDirect (the default, "") or WriterLibnetcdf: how the new
+	// variables' chunks are filtered and stored (doc/netcdf.md#direct-chunks).
+	// The direct writer falls back to libnetcdf where it does not apply.
+	Writer string
 	// HistoryLine is prepended to the input's history (newest first), e.g.
 	// "2026-01-01T00:00:00Z: warmrain v0.1.0 process in.nc -o out.nc".
 	HistoryLine string
@@ -115,6 +119,19 @@ type Output struct {
 	deflate int
 	shuffle bool
 	replace bool // Force: the final rename may replace a file
+
+	direct     *directOut // the direct chunk writer, nil for libnetcdf's
+	wantDirect bool
+	writerNote string // why the libnetcdf writer was used when direct was asked for
+}
+
+// Writer says which writer stores the new variables (WriterDirect or
+// WriterLibnetcdf) and, for libnetcdf when the direct one was asked for, why.
+func (o *Output) Writer() (string, string) {
+	if o.direct != nil {
+		return WriterDirect, ""
+	}
+	return WriterLibnetcdf, o.writerNote
 }
 
 // Vars returns the output variables.
@@ -162,6 +179,13 @@ func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output
 		o.types = append(o.types, v.Type.nc())
 	}
 	o.plan = newPlan(in, o.types, in.opt.SlabBytes)
+	switch opt.Writer {
+	case "", WriterDirect:
+		o.wantDirect = true
+	case WriterLibnetcdf:
+	default:
+		return nil, &VarError{File: path, Problem: fmt.Sprintf("unknown writer %q; expected %s or %s", opt.Writer, WriterDirect, WriterLibnetcdf), Err: ErrLayout}
+	}
 	if e := onIO(func() { err = o.defineIO(opt) }); e != nil {
 		err = e
 	}
@@ -493,6 +517,27 @@ func (o *Output) defineIO(opt WriteOptions) error {
 		}
 		if err := copyDataIO(in, j.v, ncid, j.outID, j.t); err != nil {
 			return err
+		}
+	}
+	if o.wantDirect {
+		if why := o.directApplies(); why != "" {
+			o.writerNote = why
+		} else if err := o.openDirectIO(); err != nil {
+			if errors.Is(err, errDefinedClose) {
+				return err
+			}
+			// The datasets are not what the workers would write: libnetcdf writes.
+			o.writerNote = err.Error()
+			if o.direct != nil {
+				o.direct.closeIO()
+				o.direct = nil
+			}
+			if o.ncid, err = ncOpenWrite(o.Tmp); err != nil {
+				return werr("", err, "cannot reopen the defined output")
+			}
+			o.open = true
+		} else {
+			return nil
 		}
 	}
 	for k, id := range o.varIDs {
@@ -845,6 +890,11 @@ func (o *Output) Commit() error {
 		}
 		o.open = false
 	}
+	if o.direct != nil {
+		if e := onIO(func() { err = o.direct.closeIO() }); e != nil {
+			err = e
+		}
+	}
 	if err != nil {
 		e := noSpace(&VarError{File: o.Path, Problem: "closing the output failed (disk full?): " + err.Error(), Err: err}, filepath.Dir(o.Path))
 		o.Abort()
@@ -892,6 +942,9 @@ func (o *Output) Abort() error {
 			}
 		})
 		o.open = false
+	}
+	if o.direct != nil {
+		onIO(func() { o.direct.closeIO() })
 	}
 	// When a write failed (a full disk), libnetcdf/HDF5 cannot close the file and
 	// keep its descriptor open: removing the name alone would not give the space

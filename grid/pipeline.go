@@ -37,7 +37,10 @@ type ProcessOptions struct {
 // Wall the run is bound by the I/O thread and the compute hides behind it.
 type ProcessStats struct {
 	Wall, Read, Write, Compute, WaitRead time.Duration
-	Slabs                                int
+	// Filter is the summed time of the workers filtering output chunks
+	// (quantization, shuffle, deflate) for the direct writer.
+	Filter time.Duration
+	Slabs  int
 }
 
 // ComputeFunc computes outputs for columns [lo, hi) of slab s: outs[k][i] is
@@ -55,6 +58,10 @@ const nBuffers = 3
 type slabSet struct {
 	in     *inBuf
 	outRaw [][]uint64
+	// The direct writer's filtered chunks of the slab: tasks[i] is stored in
+	// arena bytes [tasks[i].at, tasks[i].at+tasks[i].n).
+	tasks []chunkTask
+	arena []uint64
 }
 
 // bufPool keeps the buffers of finished runs for the next one, so that a process
@@ -160,6 +167,9 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		for _, t := range out.types {
 			s.outRaw = append(s.outRaw, getRaw(rawWords(p.maxN, t.Size())))
 		}
+		if out.direct != nil {
+			s.arena = getRaw(rawWords(out.direct.arenaBytes(p, len(out.types)), 1))
+		}
 		sets[i] = s
 		free <- s
 	}
@@ -168,6 +178,9 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			s.in.release()
 			for k := range s.outRaw {
 				putRaw(s.outRaw[k])
+			}
+			if s.arena != nil {
+				putRaw(s.arena)
 			}
 		}
 		for i := range decIn {
@@ -201,12 +214,12 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	}
 	tStart := time.Now()
 	var readDur, writeDur, waitRead time.Duration
-	var computeNs atomic.Int64
+	var computeNs, filterNs atomic.Int64
 	nSlabs := 0
 	if opt.Stats != nil {
 		defer func() {
 			*opt.Stats = ProcessStats{Wall: time.Since(tStart), Read: readDur, Write: writeDur,
-				Compute: time.Duration(computeNs.Load()), WaitRead: waitRead, Slabs: nSlabs}
+				Compute: time.Duration(computeNs.Load()), Filter: time.Duration(filterNs.Load()), WaitRead: waitRead, Slabs: nSlabs}
 		}()
 	}
 	readQ := make(chan *slabSet, nBuffers)
@@ -252,7 +265,11 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		var werr error
 		call := newIOCall(func() {
 			t0 := time.Now()
-			werr = out.writeIO(cur.in.start, cur.in.count, cur.outRaw, cur.in.slab.Index)
+			if out.direct != nil {
+				werr = out.writeChunksIO(cur.in.start, cur.tasks, arenaBytes(cur.arena), cur.in.slab.Index)
+			} else {
+				werr = out.writeIO(cur.in.start, cur.in.count, cur.outRaw, cur.in.slab.Index)
+			}
 			writeDur += time.Since(t0)
 		})
 		for s := range writeQ {
@@ -275,6 +292,7 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	type job struct {
 		s      *slabSet
 		lo, hi int
+		task   int // >= 0: filter chunk task s.tasks[task] (direct writer)
 	}
 	jobs := make(chan job, workers)
 	var jwg sync.WaitGroup
@@ -284,7 +302,25 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			bound = append(bound, i)
 		}
 	}
+	filter := func(j job) {
+		t0 := time.Now()
+		defer func() { filterNs.Add(int64(time.Since(t0))) }()
+		defer jwg.Done()
+		defer func() {
+			if r := recover(); r != nil {
+				fail(fmt.Errorf("grid: filtering a chunk panicked on slab %d: %v", j.s.in.slab.Index, r))
+			}
+		}()
+		t := &j.s.tasks[j.task]
+		if err := out.filterChunk(t, j.s.outRaw[t.k], j.s.in.ny, j.s.in.nx, arenaBytes(j.s.arena)); err != nil {
+			fail(err)
+		}
+	}
 	work := func(j job) {
+		if j.task >= 0 {
+			filter(j)
+			return
+		}
 		t0 := time.Now()
 		defer func() { computeNs.Add(int64(time.Since(t0))) }()
 		defer jwg.Done()
@@ -339,9 +375,17 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		step := (n + workers - 1) / workers
 		for lo := 0; lo < n; lo += step {
 			jwg.Add(1)
-			jobs <- job{s, lo, min(lo+step, n)}
+			jobs <- job{s, lo, min(lo+step, n), -1}
 		}
 		jwg.Wait()
+		if out.direct != nil && !stop.Load() {
+			s.tasks, _ = out.direct.slabTasks(s.tasks, len(out.types), s.in.ny, s.in.nx)
+			for i := range s.tasks {
+				jwg.Add(1)
+				jobs <- job{s, 0, 0, i}
+			}
+			jwg.Wait()
+		}
 		writeQ <- s
 	}
 	close(jobs)
@@ -357,3 +401,8 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 }
 
 var errStop = errors.New("stop")
+
+// arenaBytes views a pooled buffer as bytes.
+func arenaBytes(a []uint64) []byte {
+	return unsafe.Slice((*byte)(unsafe.Pointer(&a[0])), 8*len(a))
+}

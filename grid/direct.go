@@ -1,0 +1,514 @@
+package grid
+
+// The direct chunk writer (doc/netcdf.md#direct-chunks). libnetcdf defines the
+// output as before (dimensions, variables with their chunking, shuffle and
+// deflate filters, fill values, every attribute, the copied coordinates) and
+// closes it; the new variables' chunks are then filtered by the Go workers
+// (quantization, byte shuffle, zlib deflate by libdeflate) and the I/O thread
+// only stores the finished bytes with HDF5's H5Dwrite_chunk into the same
+// temporary file. Every HDF5 call runs on the I/O thread (thread.go).
+
+// #cgo pkg-config: hdf5 libdeflate
+// #cgo LDFLAGS: -lm
+// #include <stdlib.h>
+// #include <stdint.h>
+// #include <math.h>
+// #include <hdf5.h>
+// #include <libdeflate.h>
+//
+// static hid_t wr_h5_open(const char *path) { return H5Fopen(path, H5F_ACC_RDWR, H5P_DEFAULT); }
+// static hid_t wr_h5_dopen(hid_t f, const char *name) { return H5Dopen2(f, name, H5P_DEFAULT); }
+// static int wr_h5_exists(hid_t f, const char *name) { return H5Lexists(f, name, H5P_DEFAULT); }
+// static int wr_h5_dims(hid_t d, hsize_t *dims, hsize_t *maxdims) {
+//   hid_t s = H5Dget_space(d);
+//   if (s < 0) return -1;
+//   int n = H5Sget_simple_extent_dims(s, dims, maxdims);
+//   H5Sclose(s);
+//   return n;
+// }
+// static int wr_h5_chunks(hid_t d, int nd, hsize_t *chunks) {
+//   hid_t p = H5Dget_create_plist(d);
+//   if (p < 0) return -1;
+//   int n = -1;
+//   if (H5Pget_layout(p) == H5D_CHUNKED) n = H5Pget_chunk(p, nd, chunks);
+//   H5Pclose(p);
+//   return n;
+// }
+// // wr_h5_filters lists the filter ids of a dataset's pipeline and, for deflate,
+// // its level; it returns the number of filters or -1.
+// static int wr_h5_filters(hid_t d, int *ids, int max, unsigned *level) {
+//   hid_t p = H5Dget_create_plist(d);
+//   if (p < 0) return -1;
+//   int n = H5Pget_nfilters(p);
+//   for (int i = 0; i < n && i < max; i++) {
+//     unsigned flags, cd[8];
+//     size_t ncd = 8;
+//     H5Z_filter_t f = H5Pget_filter2(p, (unsigned)i, &flags, &ncd, cd, 0, NULL, NULL);
+//     ids[i] = (int)f;
+//     if (f == H5Z_FILTER_DEFLATE && ncd > 0) *level = cd[0];
+//   }
+//   H5Pclose(p);
+//   return n;
+// }
+// static herr_t wr_h5_write_chunk(hid_t d, const hsize_t *off, size_t n, const void *buf) {
+//   return H5Dwrite_chunk(d, H5P_DEFAULT, 0, off, n, buf);
+// }
+//
+// // wr_granular_br applies Granular BitRound (Delaunay, Declat and Zender 2019,
+// // Geosci. Model Dev. 12, 4099-4113, eq. 7-8; Zender 2016, Geosci. Model Dev. 9,
+// // 3199-3211) to n floats keeping nsd significant decimal digits, as libnetcdf
+// // 4.9 does in nc_put_vara for a variable with NC_QUANTIZE_GRANULARBR: fill
+// // values, zeros and NaN are left alone. Written in C so that frexp, log10 and
+// // floor are the C library's, as in libnetcdf (bit-identical results).
+// static void wr_granular_br(float *x, size_t n, int nsd, float fill) {
+//   const double bit_per_digit = M_LN10 / M_LN2, digit_per_bit = M_LN2 / M_LN10;
+//   uint32_t *u = (uint32_t *)x;
+//   for (size_t i = 0; i < n; i++) {
+//     double v = x[i];
+//     if (v == (double)fill || v == 0.0 || isnan(v)) continue;
+//     int e2;
+//     double m = fabs(frexp(v, &e2));
+//     double lm = log10(m);
+//     int digits = (int)floor(e2 * digit_per_bit + lm) + 1;
+//     int qpow = (int)floor(bit_per_digit * (digits - nsd));
+//     unsigned short keep = m == 0.0 ? 0 : (unsigned short)abs((int)floor(e2 - bit_per_digit * lm) - qpow);
+//     keep--;
+//     unsigned short zero_bits = 23 - keep;
+//     uint32_t shave = ~0u;
+//     shave <<= zero_bits;
+//     uint32_t half = ~shave & (shave >> 1);
+//     u[i] += half;
+//     u[i] &= shave;
+//   }
+// }
+import "C"
+
+import (
+	"errors"
+	"fmt"
+	"path/filepath"
+	"sync"
+	"unsafe"
+)
+
+// Writer names (WriteOptions.Writer).
+const (
+	// WriterDirect filters chunks in the Go workers and stores them with HDF5's
+	// direct chunk write; the default where it applies.
+	WriterDirect = "direct"
+	// WriterLibnetcdf writes slabs with nc_put_vara: libnetcdf and HDF5 filter
+	// the chunks on the I/O thread.
+	WriterLibnetcdf = "libnetcdf"
+)
+
+// HDF5 filter ids (H5Zpublic.h).
+const (
+	h5FilterDeflate = 1
+	h5FilterShuffle = 2
+)
+
+// directOut is the state of the direct writer of one output.
+type directOut struct {
+	fid   C.hid_t
+	dsets []C.hid_t // one per output variable, -1 when closed
+	cy    int       // output chunk rows (the plan's oneD case: 1)
+	cx    int       // output chunk columns
+	fill  [][]byte  // fill value of each variable, stored bytes
+	size  []int     // value size of each variable, bytes
+	bound []int     // compressed size bound of one chunk of each variable
+}
+
+// chunkTask is one chunk of one output variable within a slab: (ry, rx) its
+// first row and column inside the slab; out receives its filtered bytes.
+type chunkTask struct {
+	k      int
+	ry, rx int
+	at     int // offset of its room in the slab set's arena
+	n      int // filtered length, set by the worker
+}
+
+// directApplies says why the direct writer cannot write the new variables of
+// o ("" when it can): every chunk must be written whole by one slab.
+func (o *Output) directApplies() string {
+	if len(o.chunks) == 0 {
+		return "no chunks"
+	}
+	if len(o.vars) == 0 {
+		return "no new variables"
+	}
+	p := o.plan
+	c := planChunks(o.chunks)
+	cy, cx := c[len(c)-2], c[len(c)-1]
+	for i := 0; i < len(c)-2; i++ {
+		if c[i] != 1 {
+			return "chunks span several leading indices"
+		}
+	}
+	why := ""
+	p.each(func(lead, y0, ny, x0, nx int) error {
+		okY := y0%cy == 0 && (ny%cy == 0 || y0+ny == p.Y)
+		okX := x0%cx == 0 && (nx%cx == 0 || x0+nx == p.X)
+		if !okY || !okX {
+			why = fmt.Sprintf("slab at row %d, column %d does not hold whole chunks of %d x %d", y0, x0, cy, cx)
+			return errStop
+		}
+		return nil
+	})
+	return why
+}
+
+// openDirectIO closes the libnetcdf handle of a defined output and opens the
+// file with HDF5 for the direct chunk writes (I/O thread). It checks that each
+// new variable's dataset has the chunking and filters the workers will apply.
+func (o *Output) openDirectIO() error {
+	if err := ncClose(o.ncid); err != nil {
+		o.open = false
+		return &VarError{File: o.Path, Problem: "closing the defined output failed: " + err.Error(), Err: errors.Join(errDefinedClose, err)}
+	}
+	o.open = false
+	cpath := C.CString(o.Tmp)
+	defer C.free(unsafe.Pointer(cpath))
+	fid := C.wr_h5_open(cpath)
+	if fid < 0 {
+		return &VarError{File: o.Path, Problem: "HDF5 cannot reopen the defined output for the chunk writes", Err: ErrLayout}
+	}
+	d := &directOut{fid: fid}
+	o.direct = d
+	c := planChunks(o.chunks)
+	d.cy, d.cx = c[len(c)-2], c[len(c)-1]
+	nd := len(o.in.Layout.Dims)
+	want := make([]C.hsize_t, nd) // full extent of the new variables
+	for i, dim := range o.in.Layout.Dims {
+		want[i] = C.hsize_t(dim.Len)
+	}
+	for k, v := range o.vars {
+		name := C.CString(v.Name)
+		ds := C.wr_h5_dopen(fid, name)
+		C.free(unsafe.Pointer(name))
+		if ds < 0 {
+			return &VarError{File: o.Path, Var: v.Name, Problem: "HDF5 cannot open the variable's dataset", Err: ErrLayout}
+		}
+		d.dsets = append(d.dsets, ds)
+		if err := d.check(ds, o, want); err != nil {
+			return &VarError{File: o.Path, Var: v.Name, Problem: err.Error(), Err: ErrLayout}
+		}
+		t := o.types[k]
+		fill := convertTyped([]float64{v.Fill}, t)
+		b := make([]byte, t.Size())
+		copyRawTo(b, typedPtr(fill), t.Size())
+		d.fill = append(d.fill, b)
+		d.size = append(d.size, t.Size())
+		d.bound = append(d.bound, chunkBound(d.cy*d.cx*t.Size()))
+	}
+	// A dimension of unlimited length grows with what libnetcdf wrote (the copied
+	// coordinate); the new variables are extended to the grid, and so is a
+	// dimension scale libnetcdf made for a dimension without a coordinate
+	// variable, so that every reader sees the same length.
+	for i, dim := range o.in.Layout.Dims {
+		if !dim.Unlimited {
+			continue
+		}
+		for _, ds := range d.dsets {
+			if err := extendIO(ds, i, want); err != nil {
+				return &VarError{File: o.Path, Problem: "cannot extend the unlimited dimension " + dim.Name + ": " + err.Error(), Err: ErrLayout}
+			}
+		}
+		name := C.CString(baseName(dim.Name))
+		if C.wr_h5_exists(fid, name) > 0 {
+			if ds := C.wr_h5_dopen(fid, name); ds >= 0 {
+				var dims, maxd [1]C.hsize_t
+				if C.wr_h5_dims(ds, &dims[0], &maxd[0]) == 1 && dims[0] < want[i] {
+					C.H5Dset_extent(ds, &want[i])
+				}
+				C.H5Dclose(ds)
+			}
+		}
+		C.free(unsafe.Pointer(name))
+	}
+	return nil
+}
+
+// errDefinedClose marks a failure to close the defined output (a full disk):
+// the output cannot be written by either writer.
+var errDefinedClose = errors.New("closing the defined output failed")
+
+// extendIO grows dimension i of a dataset to want[i] (I/O thread).
+func extendIO(ds C.hid_t, i int, want []C.hsize_t) error {
+	nd := len(want)
+	dims := make([]C.hsize_t, nd)
+	maxd := make([]C.hsize_t, nd)
+	if int(C.wr_h5_dims(ds, &dims[0], &maxd[0])) != nd {
+		return errors.New("unexpected rank")
+	}
+	if dims[i] >= want[i] {
+		return nil
+	}
+	dims[i] = want[i]
+	if C.H5Dset_extent(ds, &dims[0]) < 0 {
+		return errors.New("H5Dset_extent failed")
+	}
+	return nil
+}
+
+// check compares a dataset's chunking and filters with what the workers apply.
+func (d *directOut) check(ds C.hid_t, o *Output, want []C.hsize_t) error {
+	nd := len(want)
+	ch := make([]C.hsize_t, nd)
+	if int(C.wr_h5_chunks(ds, C.int(nd), &ch[0])) != nd {
+		return errors.New("the dataset is not chunked as defined")
+	}
+	for i, c := range o.chunks {
+		if int(ch[i]) != c {
+			return fmt.Errorf("dataset chunk %v differs from the defined %v", ch, o.chunks)
+		}
+	}
+	var ids [8]C.int
+	var level C.uint
+	n := int(C.wr_h5_filters(ds, &ids[0], 8, &level))
+	var exp []int
+	if o.deflate > 0 {
+		if o.shuffle {
+			exp = append(exp, h5FilterShuffle)
+		}
+		exp = append(exp, h5FilterDeflate)
+	}
+	if n != len(exp) {
+		return fmt.Errorf("the dataset has %d filters; expected %d", n, len(exp))
+	}
+	for i, f := range exp {
+		if int(ids[i]) != f {
+			return fmt.Errorf("filter %d is %d; expected %d", i, ids[i], f)
+		}
+	}
+	if o.deflate > 0 && int(level) != o.deflate {
+		return fmt.Errorf("deflate level %d; expected %d", level, o.deflate)
+	}
+	return nil
+}
+
+// chunkBound is the room one filtered chunk of n bytes needs: libdeflate's
+// bound for its zlib format, or n when it is stored raw.
+func chunkBound(n int) int {
+	return int(C.libdeflate_zlib_compress_bound(nil, C.size_t(n)))
+}
+
+// slabTasks lists the chunk tasks of a slab of ny x nx columns and returns the
+// arena bytes they need. The order (variable, then chunk rows, then chunk
+// columns) is the order the I/O thread stores them in.
+func (d *directOut) slabTasks(tasks []chunkTask, nVars, ny, nx int) ([]chunkTask, int) {
+	tasks = tasks[:0]
+	at := 0
+	for k := 0; k < nVars; k++ {
+		for ry := 0; ry < ny; ry += d.cy {
+			for rx := 0; rx < nx; rx += d.cx {
+				tasks = append(tasks, chunkTask{k: k, ry: ry, rx: rx, at: at})
+				at += d.bound[k]
+			}
+		}
+	}
+	return tasks, at
+}
+
+// arenaBytes is the largest arena a slab of the plan needs.
+func (d *directOut) arenaBytes(p *slabPlan, nVars int) int {
+	ny := (min(p.ry, p.Y) + d.cy - 1) / d.cy
+	nx := (min(p.rx, p.X) + d.cx - 1) / d.cx
+	n := 0
+	for k := 0; k < nVars; k++ {
+		n += ny * nx * d.bound[k]
+	}
+	return n
+}
+
+// chunkScratch is one worker's room for filtering a chunk.
+type chunkScratch struct {
+	gather, shuf []byte
+	comp         *C.struct_libdeflate_compressor
+	level        int
+}
+
+var scratchPool struct {
+	sync.Mutex
+	free []*chunkScratch
+}
+
+func getScratch(level, n int) *chunkScratch {
+	scratchPool.Lock()
+	var s *chunkScratch
+	for i, x := range scratchPool.free {
+		if x.level == level {
+			s = x
+			last := len(scratchPool.free) - 1
+			scratchPool.free[i] = scratchPool.free[last]
+			scratchPool.free = scratchPool.free[:last]
+			break
+		}
+	}
+	scratchPool.Unlock()
+	if s == nil {
+		s = &chunkScratch{level: level}
+		if level > 0 {
+			s.comp = C.libdeflate_alloc_compressor(C.int(level))
+		}
+	}
+	if cap(s.gather) < n {
+		s.gather = make([]byte, n)
+		s.shuf = make([]byte, n)
+	}
+	s.gather, s.shuf = s.gather[:n], s.shuf[:n]
+	return s
+}
+
+// putScratch keeps at most 8 scratch sets (a few per worker at most are live).
+func putScratch(s *chunkScratch) {
+	scratchPool.Lock()
+	defer scratchPool.Unlock()
+	if len(scratchPool.free) < 8 {
+		scratchPool.free = append(scratchPool.free, s)
+		return
+	}
+	if s.comp != nil {
+		C.libdeflate_free_compressor(s.comp)
+	}
+}
+
+// filterChunk gathers chunk t of a slab (ny x nx values of variable k in raw,
+// row-major), pads the part beyond the grid with the fill value, quantizes,
+// shuffles and deflates it into arena[t.at:] and sets t.n (any goroutine).
+func (o *Output) filterChunk(t *chunkTask, raw []uint64, ny, nx int, arena []byte) error {
+	d := o.direct
+	sz := d.size[t.k]
+	cy, cx := d.cy, d.cx
+	n := cy * cx * sz
+	s := getScratch(o.deflate, n)
+	defer putScratch(s)
+	src := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*sz)
+	g := s.gather
+	rows, cols := min(cy, ny-t.ry), min(cx, nx-t.rx)
+	fill := d.fill[t.k]
+	for r := 0; r < cy; r++ {
+		row := g[r*cx*sz : (r+1)*cx*sz]
+		k := 0
+		if r < rows {
+			off := ((t.ry+r)*nx + t.rx) * sz
+			k = copy(row, src[off:off+cols*sz])
+		}
+		for ; k < len(row); k += sz {
+			copy(row[k:k+sz], fill)
+		}
+	}
+	v := &o.vars[t.k]
+	if v.Quantize > 0 && o.types[t.k] == Float {
+		fill := float32(v.Fill)
+		C.wr_granular_br((*C.float)(unsafe.Pointer(&g[0])), C.size_t(cy*cx), C.int(v.Quantize), C.float(fill))
+	}
+	in := g
+	if o.shuffle && sz > 1 {
+		shuffle(s.shuf, g, sz)
+		in = s.shuf
+	}
+	dst := arena[t.at : t.at+d.bound[t.k]]
+	if o.deflate <= 0 {
+		t.n = copy(dst, in)
+		return nil
+	}
+	m := C.libdeflate_zlib_compress(s.comp, unsafe.Pointer(&in[0]), C.size_t(len(in)), unsafe.Pointer(&dst[0]), C.size_t(len(dst)))
+	if m == 0 {
+		return fmt.Errorf("grid: deflate of a chunk of %s did not fit its bound", v.Name)
+	}
+	t.n = int(m)
+	return nil
+}
+
+// shuffle is HDF5's byte shuffle: byte b of value i goes to dst[b*n+i].
+func shuffle(dst, src []byte, size int) {
+	n := len(src) / size
+	switch size {
+	case 2:
+		d0, d1 := dst[:n], dst[n:2*n]
+		for i := range n {
+			d0[i], d1[i] = src[2*i], src[2*i+1]
+		}
+	case 4:
+		d0, d1, d2, d3 := dst[:n], dst[n:2*n], dst[2*n:3*n], dst[3*n:4*n]
+		s := src[:4*n]
+		for i := range n {
+			j := 4 * i
+			d0[i], d1[i], d2[i], d3[i] = s[j], s[j+1], s[j+2], s[j+3]
+		}
+	default:
+		for i := range n {
+			for b := range size {
+				dst[b*n+i] = src[i*size+b]
+			}
+		}
+	}
+	copy(dst[n*size:], src[n*size:])
+}
+
+// unshuffle reverses shuffle.
+func unshuffle(dst, src []byte, size int) {
+	n := len(src) / size
+	switch size {
+	case 4:
+		s0, s1, s2, s3 := src[:n], src[n:2*n], src[2*n:3*n], src[3*n:4*n]
+		d := dst[:4*n]
+		for i := range n {
+			j := 4 * i
+			d[j], d[j+1], d[j+2], d[j+3] = s0[i], s1[i], s2[i], s3[i]
+		}
+	default:
+		for i := range n {
+			for b := range size {
+				dst[i*size+b] = src[b*n+i]
+			}
+		}
+	}
+	copy(dst[n*size:], src[n*size:])
+}
+
+// writeChunksIO stores the filtered chunks of one slab (I/O thread).
+func (o *Output) writeChunksIO(start []uint64, tasks []chunkTask, arena []byte, index int) error {
+	d := o.direct
+	nd := len(start)
+	off := make([]C.hsize_t, nd)
+	for i := range start {
+		off[i] = C.hsize_t(start[i])
+	}
+	y0, x0 := 0, int(start[nd-1])
+	if nd >= 2 {
+		y0 = int(start[nd-2])
+	}
+	for i := range tasks {
+		t := &tasks[i]
+		if nd >= 2 {
+			off[nd-2] = C.hsize_t(y0 + t.ry)
+		}
+		off[nd-1] = C.hsize_t(x0 + t.rx)
+		if C.wr_h5_write_chunk(d.dsets[t.k], &off[0], C.size_t(t.n), unsafe.Pointer(&arena[t.at])) < 0 {
+			return noSpace(&VarError{File: o.Path, Var: o.vars[t.k].Name, Problem: fmt.Sprintf("write of a chunk of slab %d failed (HDF5 error)", index), Err: errors.New("HDF5 direct chunk write failed")}, filepath.Dir(o.Path))
+		}
+	}
+	return nil
+}
+
+// closeDirectIO closes the datasets and the file (I/O thread); the first error
+// is returned.
+func (d *directOut) closeIO() error {
+	var err error
+	for i, ds := range d.dsets {
+		if ds >= 0 {
+			if C.H5Dclose(ds) < 0 && err == nil {
+				err = errors.New("HDF5 cannot close a dataset")
+			}
+			d.dsets[i] = -1
+		}
+	}
+	if d.fid >= 0 {
+		if C.H5Fclose(d.fid) < 0 && err == nil {
+			err = errors.New("HDF5 cannot close the file")
+		}
+		d.fid = -1
+	}
+	return err
+}
