@@ -116,6 +116,7 @@ type directOut struct {
 	fill  [][]byte  // fill value of each variable, stored bytes
 	size  []int     // value size of each variable, bytes
 	bound []int     // compressed size bound of one chunk of each variable
+	off   []C.hsize_t // chunk offset (the I/O thread's, reused)
 }
 
 // chunkTask is one chunk of one output variable within a slab: (ry, rx) its
@@ -471,7 +472,10 @@ func unshuffle(dst, src []byte, size int) {
 func (o *Output) writeChunksIO(start []uint64, tasks []chunkTask, arena []byte, index int) error {
 	d := o.direct
 	nd := len(start)
-	off := make([]C.hsize_t, nd)
+	if len(d.off) != nd {
+		d.off = make([]C.hsize_t, nd)
+	}
+	off := d.off
 	for i := range start {
 		off[i] = C.hsize_t(start[i])
 	}

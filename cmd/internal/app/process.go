@@ -71,6 +71,7 @@ type processOptions struct {
 	slabMB                     int
 	memoryMB                   int
 	ioOnly                     bool
+	writer                     string
 	cpuProfile                 string
 	stats                      bool
 	pack                       bool
@@ -89,7 +90,7 @@ func runProcess(e *env, args []string) error {
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
 	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)")
 	fs.IntVarP(&o.jobs, "jobs", "j", 1, "files processed at the same time, each in its own process (libnetcdf is single-threaded)")
-	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs, less one for the I/O thread)")
+	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs; with --writer libnetcdf less one for the I/O thread)")
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
 	fs.BoolVar(&o.pack, "pack", false, "store the bounded outputs as CF-packed 16-bit integers (smaller, faster; precision in README)")
 	fs.IntVar(&o.quantize, "significant-digits", 0, "lossy: keep this many significant decimal digits in float outputs (CF quantization metadata; 0: off)")
@@ -102,6 +103,7 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVar(&o.checksum, "checksum", false, "identify inputs by SHA-256 for resume (default: path, size and modification time)")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no summary line per file")
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no progress line (it is shown only when stderr is a terminal)")
+	fs.StringVar(&o.writer, "writer", grid.WriterDirect, "how output chunks are compressed and stored: direct (by the compute goroutines, stored with HDF5's direct chunk write) or libnetcdf (by libnetcdf on its one I/O thread); the files are the same netCDF-4, the values identical")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
 	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")
 	fs.BoolVar(&o.ioOnly, "io-only", false, "benchmark: read inputs and write outputs without the physics")
@@ -129,6 +131,9 @@ func runProcess(e *env, args []string) error {
 	}
 	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.memoryMB < 64 || o.quantize < 0 || o.quantize > 7 {
 		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1, --memory-mb >= 64 and --significant-digits 0-7 are required")
+	}
+	if o.writer != grid.WriterDirect && o.writer != grid.WriterLibnetcdf {
+		return usagef("--writer %q: expected direct or libnetcdf", o.writer)
 	}
 	if o.shard != "" && o.shardCount > 0 {
 		return usagef("--shard and --shard-count cannot be combined (--shard-count is for Slurm arrays)")
@@ -614,6 +619,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	} else {
 		wopt.Deflate = j.o.deflate
 	}
+	wopt.Writer = j.o.writer
 	wopt.HistoryLine = fmt.Sprintf("%s: warmrain %s process %s", time.Now().UTC().Format("2006-01-02T15:04:05Z"), Version(), joinArgs(j.args))
 	wopt.Globals = j.globals(id)
 	if j.o.augment {
@@ -650,7 +656,8 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	var screened atomic.Int64
 	var counts tally
-	popt := grid.ProcessOptions{Workers: j.workers(), SkipCompute: j.o.ioOnly, Cancel: ctx.Done()}
+	writer, why := out.Writer()
+	popt := grid.ProcessOptions{Workers: j.workers(writer), SkipCompute: j.o.ioOnly, Cancel: ctx.Done()}
 	if progress && isTerminal(j.e.stderr) && !j.o.noProgess {
 		popt.Progress = progressLine(j.e.stderr, input, t0)
 	}
@@ -661,9 +668,13 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts))
 	if j.o.stats {
 		busy := stats.Read + stats.Write
-		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s on %d workers; waited for input %.2f s\n",
+		note := ""
+		if why != "" && j.o.writer == grid.WriterDirect {
+			note = " (direct writer not applicable: " + why + ")"
+		}
+		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s, chunk filters %.2f s on %d workers; waited for input %.2f s; writer %s%s\n",
 			input, stats.Slabs, stats.Wall.Seconds(), busy.Seconds(), stats.Read.Seconds(), stats.Write.Seconds(),
-			100*busy.Seconds()/stats.Wall.Seconds(), stats.Compute.Seconds(), popt.Workers, stats.WaitRead.Seconds())
+			100*busy.Seconds()/stats.Wall.Seconds(), stats.Compute.Seconds(), stats.Filter.Seconds(), popt.Workers, stats.WaitRead.Seconds(), writer, note)
 	}
 	if popt.Progress != nil {
 		fmt.Fprint(j.e.stderr, "\r\033[K")
@@ -732,14 +743,23 @@ func taskID() string {
 	return os.Getenv("SLURM_JOB_ID")
 }
 
-func (j *processJob) workers() int {
+// workers is the number of compute goroutines for an output stored by writer
+// (grid.WriterDirect or grid.WriterLibnetcdf).
+func (j *processJob) workers(writer string) int {
 	if j.o.threads > 0 {
 		return j.o.threads
 	}
-	// One core of each process's share goes to its libnetcdf thread, which reads,
-	// decompresses, compresses and writes (measured on 2 cores at 4000²: one compute
-	// goroutine 17.0 s, two 19.0 s, I/O alone 12.8-14.3 s).
-	return max(1, runtime.NumCPU()/max(1, j.o.jobs)-1)
+	// With the direct writer the compute goroutines also compress the output
+	// chunks and the I/O thread only reads and stores bytes: every core of the
+	// process's share computes (doc/netcdf.md#direct-chunks). With libnetcdf's
+	// writer one core goes to its thread, which reads, decompresses, compresses
+	// and writes (measured on 2 cores at 4000²: one compute goroutine 17.0 s,
+	// two 19.0 s, I/O alone 12.8-14.3 s).
+	n := runtime.NumCPU() / max(1, j.o.jobs)
+	if writer == grid.WriterLibnetcdf {
+		n--
+	}
+	return max(1, n)
 }
 
 // compute returns the per-slab kernel: inputs from the slab's canonical
@@ -984,7 +1004,7 @@ func (j *processJob) runPool(ctx context.Context, inputs, outputs []string, mine
 		Command: func() *exec.Cmd {
 			// The worker's own options come first: after a "--" in the user's
 			// arguments they would be taken as inputs.
-			args := append([]string{"process", "--child-slot", "1/1", "--threads", strconv.Itoa(j.workers())}, j.args...)
+			args := append([]string{"process", "--child-slot", "1/1", "--threads", strconv.Itoa(j.workers(j.o.writer))}, j.args...)
 			cmd := exec.Command(exe, args...)
 			cmd.Env = append(os.Environ(), childEnv+"=1")
 			if man != nil {
