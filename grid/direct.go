@@ -110,12 +110,12 @@ const (
 // directOut is the state of the direct writer of one output.
 type directOut struct {
 	fid   C.hid_t
-	dsets []C.hid_t // one per output variable, -1 when closed
-	cy    int       // output chunk rows (the plan's oneD case: 1)
-	cx    int       // output chunk columns
-	fill  [][]byte  // fill value of each variable, stored bytes
-	size  []int     // value size of each variable, bytes
-	bound []int     // compressed size bound of one chunk of each variable
+	dsets []C.hid_t   // one per output variable, -1 when closed
+	cy    int         // output chunk rows (the plan's oneD case: 1)
+	cx    int         // output chunk columns
+	fill  [][]byte    // fill value of each variable, stored bytes
+	size  []int       // value size of each variable, bytes
+	bound []int       // compressed size bound of one chunk of each variable
 	off   []C.hsize_t // chunk offset (the I/O thread's, reused)
 }
 
