@@ -16,6 +16,8 @@ CASES = [  # key, label
     ("a", "(a) nccopy -d 1 -s"),
     ("b", "(b) warmrain --io-only"),
     ("c", "(c) warmrain (all)"),
+    ("c1", "(c1) all, --threads 1"),
+    ("cL", "(cL) all, --writer libnetcdf"),
     ("d", "(d) warmrain --no-collector"),
     ("e", "(e) xarray script (bulk)"),
     ("b_bulk", "(b') --io-only --no-collector"),
@@ -67,6 +69,62 @@ def pipeline_stats(d, case, n):
 
 def verdict(ok):
     return "MET" if ok else "NOT MET"
+
+
+def perf_targets(d, runs, sizes, p):
+    """The targets of the parallel chunk writer: (c) against nccopy and the script,
+    peak RSS against size, output bytes of the two writers, --threads 1 and 2."""
+    p("Targets of the parallel chunk writer (ratios of this run):")
+    n4 = 4000 if 4000 in sizes else (max(sizes) if sizes else 0)
+    a, c = runs.get(("a", n4)), runs.get(("c", n4))
+    if a and c:
+        p("  (c)/(a) wall, every diagnostic vs nccopy -d 1 -s, %d²: %.2f  (<= 1.0) %s" % (n4, c[1] / a[1], verdict(c[1] / a[1] <= 1.0)))
+        p("  (c)/(a) CPU-seconds, %d²: %.2f  (<= 2.0) %s" % (n4, c[3] / a[3], verdict(c[3] / a[3] <= 2.0)))
+    e, d_ = runs.get(("e", n4)), runs.get(("d", n4))
+    if e and d_:
+        p("  (e)/(d) xarray script vs warmrain (same bulk outputs), %d², whole run: %.2f  (>= 4) %s; CPU-seconds: %.2f  (>= 3) %s" % (
+            n4, e[1] / d_[1], verdict(e[1] / d_[1] >= 4), e[3] / d_[3], verdict(e[3] / d_[3] >= 3)))
+    if e and c:
+        p("  (e)/(c) xarray script (bulk) vs warmrain with every diagnostic, %d²: wall %.2f, CPU-seconds %.2f" % (n4, e[1] / c[1], e[3] / c[3]))
+    cs = sorted((n, runs[("c", n)][2]) for (k, n) in runs if k == "c")
+    if cs:
+        m = max(r for _, r in cs)
+        p("  peak RSS of (c): %s MB; largest %.0f MB  (<= 256) %s; largest/smallest %.2f  (flat: <= 1.25) %s" % (
+            " -> ".join("%d²: %.0f" % (n, r) for n, r in cs), m, verdict(m <= 256),
+            cs[-1][1] / cs[0][1], verdict(cs[-1][1] / cs[0][1] <= 1.25 and cs[-1][0] >= 4 * cs[0][0])))
+    for n in sizes:
+        c, cl = runs.get(("c", n)), runs.get(("cL", n))
+        if c and cl:
+            r = c[4] / cl[4]
+            p("  output bytes, direct writer / libnetcdf writer, %d²: %.4f  (within 2 %%) %s; wall %.2f, CPU-seconds %.2f" % (
+                n, r, verdict(abs(r - 1) <= 0.02), c[1] / cl[1], c[3] / cl[3]))
+    same = os.path.join(d, "writers_identical.txt")
+    if os.path.exists(same):
+        p("  data of the two writers identical (bench/cmp_outputs.py): " + ", ".join(
+            "%s²: %s" % tuple(l.split()) for l in open(same).read().split("\n") if l.strip()))
+    for n in sizes:
+        c, c1 = runs.get(("c", n)), runs.get(("c1", n))
+        if c and c1:
+            p("  --threads 1 / --threads %d (every core), %d²: wall %.2f, CPU-seconds %.2f" % (os.cpu_count() or 0, n, c1[1] / c[1], c1[3] / c[3]))
+    for n in sizes:
+        parts = []
+        for key in ("c", "c1", "cL"):
+            st = filter_stats(d, key, n)
+            if st:
+                parts.append("%s: %s" % (key, st))
+        if parts:
+            p("  pipeline %d²: " % n + "; ".join(parts))
+
+
+def filter_stats(d, case, n):
+    """The stage times of a --pipeline-stats line, shortened."""
+    path = os.path.join(d, "log", "%s-%d.err" % (case, n))
+    if not os.path.exists(path):
+        return None
+    for line in open(path):
+        if ": pipeline " in line:
+            return line.split(": ", 2)[-1].strip()
+    return None
 
 
 def main(d):
@@ -127,7 +185,9 @@ def main(d):
     if kernel:
         p("Kernel (go test -bench, one core): " + ", ".join("%s %.0f ns/column" % (k, v) for k, v in sorted(kernel.items())))
     p("")
-    p("Targets of issue 5 (measured in this run):")
+    perf_targets(d, runs, sizes, p)
+    p("")
+    p("Earlier targets (measured in this run):")
     big = max(sizes) if sizes else 0
     n4 = 4000 if 4000 in sizes else big
     for n in sizes:

@@ -9,7 +9,8 @@
 #   (a)  nccopy -d 1 -s IN OUT                   libnetcdf's own copy, same compression
 #   (b)  warmrain process --io-only              read inputs, write every output, no physics
 #   (b') warmrain process --io-only --no-collector   the same for the bulk output set
-#   (c)  warmrain process                        every diagnostic
+#   (c)  warmrain process                        every diagnostic (--threads 0: every core)
+#   (c1) the same with --threads 1; (cL) with --writer libnetcdf (compression on libnetcdf's thread)
 #   (d)  warmrain process --no-collector         bulk diagnostics only
 #   (e)  bench/bulk_xarray.py                    an analyst's xarray/numpy/scipy script (bulk set)
 #   (c) with the table cache off (a first run: the tables are integrated)
@@ -24,8 +25,12 @@
 # `go test -bench 'BenchmarkColumn(All|Bulk)$' ./microphys` (one core).
 #
 # Environment:
+#   QUICK=1                  a quick run: SIZES=1000, FLAT_SIZE=2000, EXTRA=0, KERNEL=0 (about a minute)
 #   SIZES="1000 2000 4000"  grid sides (8000 is optional: SIZES="1000 2000 4000 8000")
-#   VARIANT_SIZES=$SIZES     sizes that also run the packed and contiguous variants
+#   FLAT_SIZE=8000           one more size at which only (c) runs, for the flat-RSS target (0: skip)
+#   EXTRA=0                  1: also the cases beyond the targets (table cache off, other core busy,
+#                            nccopy of the outputs, packed and contiguous inputs, archive, levers)
+#   VARIANT_SIZES=$SIZES     sizes that also run the packed and contiguous variants (EXTRA=1)
 #   BENCH_DIR=/tmp/warmrain-bench   scratch folder (inputs are kept and reused)
 #   REPEAT=1                 runs per case (the table keeps the fastest, and the largest RSS)
 #   ARCHIVE=1                run the archive case (0: skip)
@@ -41,7 +46,15 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 ROOT=$PWD
+if [ "${QUICK:-0}" = 1 ]; then
+	SIZES=${SIZES:-1000} FLAT_SIZE=${FLAT_SIZE:-2000} EXTRA=${EXTRA:-0} KERNEL=${KERNEL:-0}
+fi
 SIZES=${SIZES:-"1000 2000 4000"}
+FLAT_SIZE=${FLAT_SIZE:-8000}
+EXTRA=${EXTRA:-0}
+if [ "$EXTRA" != 1 ]; then
+	ARCHIVE=${ARCHIVE:-0} LEVERS=${LEVERS:-0}
+fi
 VARIANT_SIZES=${VARIANT_SIZES:-$SIZES}
 BENCH_DIR=${BENCH_DIR:-/tmp/warmrain-bench}
 REPEAT=${REPEAT:-1}
@@ -77,7 +90,7 @@ RAW=$BENCH_DIR/raw.tsv
 : >"$RAW"
 : >"$BENCH_DIR/script_times.tsv"
 : >"$BENCH_DIR/kernel.tsv"
-rm -f "$BENCH_DIR/archive_identical.txt"
+rm -f "$BENCH_DIR/archive_identical.txt" "$BENCH_DIR/writers_identical.txt"
 
 # Inputs are deterministic: reuse them while the generator (bench/synth) is unchanged.
 stamp=$(cat bench/synth/synth.go bench/mkinput/main.go | sha256sum | cut -c1-16)
@@ -126,6 +139,7 @@ chunks_of() { # file var -> "cy,cx" of the variable's chunks
 for n in $SIZES; do
 	in=$BENCH_DIR/in/in_$n.nc
 	mkin "$in" -n "$n" -variant deflate
+	[ "$EXTRA" = 1 ] || continue
 	case " $VARIANT_SIZES " in *" $n "*)
 		mkin "$BENCH_DIR/in/in_${n}_packed.nc" -n "$n" -variant packed
 		mkin "$BENCH_DIR/in/in_${n}_plain.nc" -n "$n" -variant plain
@@ -144,7 +158,8 @@ info=$BENCH_DIR/info.txt
 {
 	echo "warmrain benchmark (bench/run.sh), $(date -u +%Y-%m-%dT%H:%M:%SZ), $(nproc) cores, $(uname -m), $(nc-config --version 2>/dev/null || echo 'netCDF ?'), $(go version | cut -d' ' -f3)"
 	echo "warmrain $(git -C "$ROOT" rev-parse --short HEAD 2>/dev/null || echo '?')$(git -C "$ROOT" diff --quiet 2>/dev/null || echo '+dirty'); inputs: float32 deflate 1 + shuffle, chunks 1000², 5 variables; outputs deflate 1 + shuffle"
-	echo "sizes: $SIZES (variants: $VARIANT_SIZES), repeats: $REPEAT; wall and peak RSS from GNU time -v; page cache warm; table cache warm unless said"
+	echo "sizes: $SIZES (flat-RSS size: $FLAT_SIZE; extra cases: $EXTRA), repeats: $REPEAT; wall and peak RSS from GNU time -v; page cache warm; table cache warm unless said"
+	echo "load average at the start (1, 5, 15 min): $(cut -d' ' -f1-3 /proc/loadavg) on $(nproc) cores (other processes share the machine: compare ratios of this run only)"
 } >"$info"
 
 for n in $SIZES; do
@@ -156,6 +171,28 @@ for n in $SIZES; do
 	measure b "$n" "$cols" "$o/b_$n.nc" "$WR" process "$in" -o "$o/b_$n.nc" --io-only -q --pipeline-stats
 	measure b_bulk "$n" "$cols" "$o/bb_$n.nc" "$WR" process "$in" -o "$o/bb_$n.nc" --io-only --no-collector -q
 	measure c "$n" "$cols" "$o/c_$n.nc" "$WR" process "$in" -o "$o/c_$n.nc" -q --pipeline-stats
+	measure c1 "$n" "$cols" "$o/c1_$n.nc" "$WR" process "$in" -o "$o/c1_$n.nc" -q --pipeline-stats --threads 1
+	measure cL "$n" "$cols" "$o/cL_$n.nc" "$WR" process "$in" -o "$o/cL_$n.nc" -q --pipeline-stats --writer libnetcdf
+	# The two writers store the same data (bench/cmp_outputs.py compares every variable).
+	if "$PY" bench/cmp_outputs.py "$o/c_$n.nc" "$o/cL_$n.nc" 2>"$BENCH_DIR/log/cmp-c-cL-$n.txt"; then
+		echo "$n yes" >>"$BENCH_DIR/writers_identical.txt"
+	else
+		echo "$n no" >>"$BENCH_DIR/writers_identical.txt"
+	fi
+	measure d "$n" "$cols" "$o/d_$n.nc" "$WR" process "$in" -o "$o/d_$n.nc" --no-collector -q
+	if [ "$n" -le "$SCRIPT_MAX" ]; then
+		ch=$(chunks_of "$o/d_$n.nc" droplet_number)
+		measure e "$n" "$cols" "$o/e_$n.nc" "$PY" bench/bulk_xarray.py "$in" "$o/e_$n.nc" --chunks "${ch:-1000,1000}"
+		grep -h '^bulk_xarray:' "$BENCH_DIR/log/e-$n.err" | tail -1 |
+			awk -v n="$n" '{print n "\t" $3 "\t" $5 "\t" $7}' >>"$BENCH_DIR/script_times.tsv"
+		"$PY" bench/cmp_outputs.py --values "$o/d_$n.nc" "$o/e_$n.nc" >"$BENCH_DIR/log/cmp-d-e-$n.txt" || true
+	else
+		log "skipping the xarray script at $n² (SCRIPT_MAX=$SCRIPT_MAX)"
+	fi
+	if [ "$EXTRA" != 1 ]; then
+		rm -f "$o"/*_"$n".nc
+		continue
+	fi
 	measure c_nocache "$n" "$cols" "$o/cn_$n.nc" env WARMRAIN_TABLE_CACHE=off "$WR" process "$in" -o "$o/cn_$n.nc" -q
 	# What sharing the machine costs the I/O thread: (b) while another process keeps the
 	# other core busy (sha256sum of /dev/zero; no memory traffic to speak of).
@@ -167,16 +204,6 @@ for n in $SIZES; do
 	# What the outputs' contents cost to compress: libnetcdf copying (b)'s and (c)'s outputs.
 	measure f_b "$n" "$cols" "$o/fb_$n.nc" nccopy -d 1 -s "$o/b_$n.nc" "$o/fb_$n.nc"
 	measure f_c "$n" "$cols" "$o/fc_$n.nc" nccopy -d 1 -s "$o/c_$n.nc" "$o/fc_$n.nc"
-	measure d "$n" "$cols" "$o/d_$n.nc" "$WR" process "$in" -o "$o/d_$n.nc" --no-collector -q
-	if [ "$n" -le "$SCRIPT_MAX" ]; then
-		ch=$(chunks_of "$o/d_$n.nc" droplet_number)
-		measure e "$n" "$cols" "$o/e_$n.nc" "$PY" bench/bulk_xarray.py "$in" "$o/e_$n.nc" --chunks "${ch:-1000,1000}"
-		grep -h '^bulk_xarray:' "$BENCH_DIR/log/e-$n.err" | tail -1 |
-			awk -v n="$n" '{print n "\t" $3 "\t" $5 "\t" $7}' >>"$BENCH_DIR/script_times.tsv"
-		"$PY" bench/cmp_outputs.py --values "$o/d_$n.nc" "$o/e_$n.nc" >"$BENCH_DIR/log/cmp-d-e-$n.txt" || true
-	else
-		log "skipping the xarray script at $n² (SCRIPT_MAX=$SCRIPT_MAX)"
-	fi
 	case " $VARIANT_SIZES " in *" $n "*)
 		for v in packed plain; do
 			vin=$BENCH_DIR/in/in_${n}_$v.nc
@@ -187,6 +214,15 @@ for n in $SIZES; do
 	esac
 	rm -f "$o"/*_"$n".nc # keep the scratch folder small; logs stay
 done
+
+if [ "$FLAT_SIZE" != 0 ]; then
+	n=$FLAT_SIZE
+	log "== $n x $n: every diagnostic only (peak RSS against size)"
+	in=$BENCH_DIR/in/in_$n.nc
+	mkin "$in" -n "$n" -variant deflate
+	measure c "$n" $((n * n)) "$BENCH_DIR/out/c_$n.nc" "$WR" process "$in" -o "$BENCH_DIR/out/c_$n.nc" -q --pipeline-stats
+	rm -f "$BENCH_DIR/out/c_$n.nc"
+fi
 
 if [ "$ARCHIVE" = 1 ]; then
 	log "== archive: 8 files of 2000², --jobs 1 vs --jobs 2"
@@ -234,6 +270,7 @@ if [ "$KERNEL" = 1 ]; then
 		awk '/^BenchmarkColumn/ {name=$1; sub(/^Benchmark/,"",name); sub(/-[0-9]+$/,"",name); print name "\t" $3}' >"$BENCH_DIR/kernel.tsv"
 fi
 
+echo "load average at the end (1, 5, 15 min): $(cut -d' ' -f1-3 /proc/loadavg)" >>"$info"
 "$PY" bench/report.py "$BENCH_DIR" | tee "$BENCH_DIR/results.txt"
 for n in $SIZES; do
 	[ -s "$BENCH_DIR/log/cmp-d-e-$n.txt" ] && { echo "script vs warmrain --no-collector, $n²:"; sed 's/^/  /' "$BENCH_DIR/log/cmp-d-e-$n.txt"; } >>"$BENCH_DIR/results.txt"
