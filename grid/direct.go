@@ -9,12 +9,21 @@ package grid
 // temporary file. Every HDF5 call runs on the I/O thread (thread.go).
 
 // #cgo pkg-config: hdf5 libdeflate
-// #cgo LDFLAGS: -lm
+// #cgo LDFLAGS: -lm -lz
 // #include <stdlib.h>
 // #include <stdint.h>
 // #include <math.h>
 // #include <hdf5.h>
 // #include <libdeflate.h>
+// #include <zlib.h>
+//
+// // wr_zlib_compress is zlib's compress2, as HDF5's deflate filter calls it
+// // (for the benchmark that compares it with libdeflate).
+// static size_t wr_zlib_compress(void *dst, size_t cap, const void *src, size_t n, int level) {
+//   uLongf m = cap;
+//   if (compress2(dst, &m, src, n, level) != Z_OK) return 0;
+//   return m;
+// }
 //
 // static hid_t wr_h5_open(const char *path) { return H5Fopen(path, H5F_ACC_RDWR, H5P_DEFAULT); }
 // static hid_t wr_h5_dopen(hid_t f, const char *name) { return H5Dopen2(f, name, H5P_DEFAULT); }
@@ -413,11 +422,11 @@ func (o *Output) filterChunk(t *chunkTask, raw []uint64, ny, nx int, arena []byt
 		t.n = copy(dst, in)
 		return nil
 	}
-	m := C.libdeflate_zlib_compress(s.comp, unsafe.Pointer(&in[0]), C.size_t(len(in)), unsafe.Pointer(&dst[0]), C.size_t(len(dst)))
+	m := libdeflateCompress(s, dst, in)
 	if m == 0 {
 		return fmt.Errorf("grid: deflate of a chunk of %s did not fit its bound", v.Name)
 	}
-	t.n = int(m)
+	t.n = m
 	return nil
 }
 
@@ -466,6 +475,18 @@ func unshuffle(dst, src []byte, size int) {
 		}
 	}
 	copy(dst[n*size:], src[n*size:])
+}
+
+// zlibCompress deflates src into dst with zlib's compress2 at level, as HDF5's
+// deflate filter does; it returns the length, 0 when dst is too small.
+func zlibCompress(dst, src []byte, level int) int {
+	return int(C.wr_zlib_compress(unsafe.Pointer(&dst[0]), C.size_t(len(dst)), unsafe.Pointer(&src[0]), C.size_t(len(src)), C.int(level)))
+}
+
+// libdeflateCompress deflates src into dst (zlib format) with a libdeflate
+// compressor of the level; it returns the length, 0 when dst is too small.
+func libdeflateCompress(s *chunkScratch, dst, src []byte) int {
+	return int(C.libdeflate_zlib_compress(s.comp, unsafe.Pointer(&src[0]), C.size_t(len(src)), unsafe.Pointer(&dst[0]), C.size_t(len(dst))))
 }
 
 // writeChunksIO stores the filtered chunks of one slab (I/O thread).
