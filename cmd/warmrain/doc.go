@@ -60,7 +60,7 @@ Data go to stdout or files; messages go to stderr.
 	  -j, --jobs int                      files processed at the same time, each in its own
 	                                      process (libnetcdf is single-threaded) (default 1)
 	      --threads int                   compute goroutines per process (0: the CPUs divided by
-	                                      --jobs, less one for the I/O thread)
+	                                      --jobs; with --writer libnetcdf less one for the I/O thread)
 	      --deflate int                   deflate level of the outputs, 1-9 (0: no compression)
 	                                      (default 1)
 	      --pack[=true|false]             store the bounded outputs as CF-packed 16-bit integers
@@ -82,6 +82,11 @@ Data go to stdout or files; messages go to stderr.
 	                                      size and modification time)
 	  -q, --quiet[=true|false]            no summary line per file
 	      --no-progress[=true|false]      no progress line (it is shown only when stderr is a terminal)
+	      --writer string                 how output chunks are compressed and stored: direct (by
+	                                      the compute goroutines, stored with HDF5's direct chunk
+	                                      write) or libnetcdf (by libnetcdf on its one I/O
+	                                      thread); the files are the same netCDF-4, the values
+	                                      identical (default "direct")
 	      --slab-mb int                   memory budget of one slab, MiB (three are in flight)
 	                                      (default 32)
 	      --memory-mb int                 memory bound of one process, MiB: inputs whose chunking
