@@ -43,7 +43,8 @@ func cdoSame(t *testing.T, a, b string) {
 // libnetcdf's writes the same data and metadata for the sample and for a
 // benchmark input (bench/synth, deflated float32, a grid of 700² columns that
 // the output chunks do not divide), with every output, CF-packed outputs and
-// quantized outputs (--significant-digits), under 1 and 2 threads. netCDF4-python
+// quantized outputs (--significant-digits), without compression and at
+// another level in a copy of the input (--augment), under 1 and 2 threads. netCDF4-python
 // (bench/cmp_outputs.py) and CDO read them.
 func TestWritersGiveSameOutputs(t *testing.T) {
 	dir := t.TempDir()
@@ -59,6 +60,8 @@ func TestWritersGiveSameOutputs(t *testing.T) {
 		{"sample", samplePath(t), nil},
 		{"sample-pack", samplePath(t), []string{"--pack"}},
 		{"sample-digits", samplePath(t), []string{"--significant-digits", "3"}},
+		{"sample-deflate0", samplePath(t), []string{"--deflate", "0"}},
+		{"sample-deflate5-augment", samplePath(t), []string{"--deflate", "5", "--augment"}},
 		{"synth", synthIn, []string{"--slab-mb", "4"}},
 		{"synth-digits-pack", synthIn, []string{"--slab-mb", "4", "--significant-digits", "2", "--pack"}},
 	}
