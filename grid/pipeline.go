@@ -26,6 +26,10 @@ type ProcessOptions struct {
 	Cancel <-chan struct{}
 	// Stats, if set, receives the time spent in each stage when Process returns.
 	Stats *ProcessStats
+	// LibnetcdfRead reads every input through libnetcdf (on the I/O thread,
+	// decompression included) instead of the direct chunk reader where it
+	// applies (doc/netcdf.md#direct-chunks).
+	LibnetcdfRead bool
 }
 
 // ProcessStats are the busy times of the pipeline's stages in one Process call:
@@ -41,6 +45,8 @@ type ProcessStats struct {
 	// (quantization, shuffle, deflate) for the direct writer.
 	Filter time.Duration
 	Slabs  int
+	// DirectRead lists the bound variables read by the direct chunk reader.
+	DirectRead []string
 }
 
 // ComputeFunc computes outputs for columns [lo, hi) of slab s: outs[k][i] is
@@ -145,9 +151,31 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	}
 	p := out.plan
 	var ioErr error
-	if e := onIO(func() { ioErr = in.setInputCachesIO(p) }); e != nil || ioErr != nil {
+	var dr *directReader
+	if e := onIO(func() {
+		if ioErr = in.setInputCachesIO(p); ioErr == nil && !opt.LibnetcdfRead {
+			if d := in.openDirectReadIO(); d != nil {
+				dr = newDirectReader(in, d, workers)
+			}
+		}
+	}); e != nil || ioErr != nil {
+		if dr != nil {
+			onIO(dr.d.closeIO)
+		}
 		out.Abort()
 		return firstErr(e, ioErr)
+	}
+	var directNames []string
+	if dr != nil {
+		defer func() {
+			onIO(dr.d.closeIO)
+			dr.release()
+		}()
+		for _, v := range dr.d.vars {
+			if v != nil {
+				directNames = append(directNames, v.name)
+			}
+		}
 	}
 	// Buffers: three raw sets, one decoded set (see nBuffers), from the pool.
 	var decIn [NumRoles][]float64
@@ -218,8 +246,12 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	nSlabs := 0
 	if opt.Stats != nil {
 		defer func() {
+			if dr != nil {
+				readDur += dr.busy
+			}
 			*opt.Stats = ProcessStats{Wall: time.Since(tStart), Read: readDur, Write: writeDur,
-				Compute: time.Duration(computeNs.Load()), Filter: time.Duration(filterNs.Load()), WaitRead: waitRead, Slabs: nSlabs}
+				Compute: time.Duration(computeNs.Load()), Filter: time.Duration(filterNs.Load()), WaitRead: waitRead, Slabs: nSlabs,
+				DirectRead: directNames}
 		}()
 	}
 	readQ := make(chan *slabSet, nBuffers)
@@ -246,7 +278,13 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			cur = <-free
 			cur.in.setPos(p, k, lead, y0, ny, x0, nx)
 			k++
-			if e := call.run(); e != nil || rerr != nil {
+			var e error
+			if dr != nil {
+				rerr = dr.read(cur.in)
+			} else {
+				e = call.run()
+			}
+			if e != nil || rerr != nil {
 				fail(firstErr(e, rerr))
 				free <- cur
 				return errStop

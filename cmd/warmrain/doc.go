@@ -82,11 +82,12 @@ Data go to stdout or files; messages go to stderr.
 	                                      size and modification time)
 	  -q, --quiet[=true|false]            no summary line per file
 	      --no-progress[=true|false]      no progress line (it is shown only when stderr is a terminal)
-	      --writer string                 how output chunks are compressed and stored: direct (by
-	                                      the compute goroutines, stored with HDF5's direct chunk
-	                                      write) or libnetcdf (by libnetcdf on its one I/O
-	                                      thread); the files are the same netCDF-4, the values
-	                                      identical (default "direct")
+	      --writer string                 how chunks are compressed: direct (outputs by the
+	                                      compute goroutines and deflated netCDF-4 inputs by the
+	                                      reader, through HDF5's direct chunk I/O) or libnetcdf
+	                                      (everything by libnetcdf on its one I/O thread); the
+	                                      files are the same netCDF-4, the values identical
+	                                      (default "direct")
 	      --slab-mb int                   memory budget of one slab, MiB (three are in flight)
 	                                      (default 32)
 	      --memory-mb int                 memory bound of one process, MiB: inputs whose chunking

@@ -103,7 +103,7 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVar(&o.checksum, "checksum", false, "identify inputs by SHA-256 for resume (default: path, size and modification time)")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no summary line per file")
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no progress line (it is shown only when stderr is a terminal)")
-	fs.StringVar(&o.writer, "writer", grid.WriterDirect, "how output chunks are compressed and stored: direct (by the compute goroutines, stored with HDF5's direct chunk write) or libnetcdf (by libnetcdf on its one I/O thread); the files are the same netCDF-4, the values identical")
+	fs.StringVar(&o.writer, "writer", grid.WriterDirect, "how chunks are compressed: direct (outputs by the compute goroutines and deflated netCDF-4 inputs by the reader, through HDF5's direct chunk I/O) or libnetcdf (everything by libnetcdf on its one I/O thread); the files are the same netCDF-4, the values identical")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
 	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")
 	fs.BoolVar(&o.ioOnly, "io-only", false, "benchmark: read inputs and write outputs without the physics")
@@ -657,7 +657,8 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	var screened atomic.Int64
 	var counts tally
 	writer, why := out.Writer()
-	popt := grid.ProcessOptions{Workers: j.workers(writer), SkipCompute: j.o.ioOnly, Cancel: ctx.Done()}
+	popt := grid.ProcessOptions{Workers: j.workers(writer), SkipCompute: j.o.ioOnly, Cancel: ctx.Done(),
+		LibnetcdfRead: j.o.writer == grid.WriterLibnetcdf}
 	if progress && isTerminal(j.e.stderr) && !j.o.noProgess {
 		popt.Progress = progressLine(j.e.stderr, input, t0)
 	}
@@ -672,9 +673,13 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		if why != "" && j.o.writer == grid.WriterDirect {
 			note = " (direct writer not applicable: " + why + ")"
 		}
-		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s, chunk filters %.2f s on %d workers; waited for input %.2f s; writer %s%s\n",
+		direct := "none"
+		if len(stats.DirectRead) > 0 {
+			direct = strings.Join(stats.DirectRead, " ")
+		}
+		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s, chunk filters %.2f s on %d workers; waited for input %.2f s; direct reads: %s; writer %s%s\n",
 			input, stats.Slabs, stats.Wall.Seconds(), busy.Seconds(), stats.Read.Seconds(), stats.Write.Seconds(),
-			100*busy.Seconds()/stats.Wall.Seconds(), stats.Compute.Seconds(), stats.Filter.Seconds(), popt.Workers, stats.WaitRead.Seconds(), writer, note)
+			100*busy.Seconds()/stats.Wall.Seconds(), stats.Compute.Seconds(), stats.Filter.Seconds(), popt.Workers, stats.WaitRead.Seconds(), direct, writer, note)
 	}
 	if popt.Progress != nil {
 		fmt.Fprint(j.e.stderr, "\r\033[K")

@@ -1,0 +1,486 @@
+package grid
+
+// The direct chunk reader (doc/netcdf.md#direct-chunks): for a bound variable of
+// a netCDF-4 (HDF5) input stored in chunks with no filter, deflate, or shuffle
+// and deflate, the I/O thread fetches the chunks' stored bytes with HDF5's
+// H5Dread_chunk, and the reader goroutine inflates (libdeflate) and unshuffles
+// them in parallel off the I/O thread, keeping the decoded chunks the slab
+// touches for the next slab (the plan visits every chunk's pieces one after the
+// other). Other inputs, and any variable whose storage differs, are read by
+// libnetcdf as before.
+
+// #cgo pkg-config: hdf5 libdeflate
+// #include <stdlib.h>
+// #include <string.h>
+// #include <hdf5.h>
+// #include <libdeflate.h>
+//
+// static hid_t rd_h5_open(const char *path) { return H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT); }
+// static hid_t rd_h5_dopen(hid_t f, const char *name) { return H5Dopen2(f, name, H5P_DEFAULT); }
+// // rd_h5_layout gives the chunk sizes (returns the rank, or -1 when not chunked),
+// // the filter ids, whether the stored type is little-endian with size tsize,
+// // and the fill value (fill, tsize bytes; zeros when undefined).
+// static int rd_h5_layout(hid_t d, int nd, hsize_t *chunks, int *ids, int maxf, int *nf, size_t tsize, int *le, void *fill) {
+//   hid_t p = H5Dget_create_plist(d);
+//   if (p < 0) return -1;
+//   int n = -1;
+//   if (H5Pget_layout(p) == H5D_CHUNKED) n = H5Pget_chunk(p, nd, chunks);
+//   *nf = H5Pget_nfilters(p);
+//   for (int i = 0; i < *nf && i < maxf; i++) {
+//     unsigned flags, cd[8];
+//     size_t ncd = 8;
+//     ids[i] = (int)H5Pget_filter2(p, (unsigned)i, &flags, &ncd, cd, 0, NULL, NULL);
+//   }
+//   hid_t t = H5Dget_type(d);
+//   *le = t >= 0 && H5Tget_size(t) == tsize && (tsize == 1 || H5Tget_order(t) == H5T_ORDER_LE) &&
+//         (H5Tget_class(t) == H5T_INTEGER || H5Tget_class(t) == H5T_FLOAT);
+//   H5D_fill_value_t st;
+//   memset(fill, 0, tsize);
+//   if (t >= 0 && H5Pfill_value_defined(p, &st) >= 0 && st != H5D_FILL_VALUE_UNDEFINED) {
+//     if (H5Pget_fill_value(p, t, fill) < 0) *le = 0;
+//   }
+//   if (t >= 0) H5Tclose(t);
+//   H5Pclose(p);
+//   return n;
+// }
+// // rd_h5_chunk_size gives the stored size of the chunk at off (0: not stored).
+// static long long rd_h5_chunk_size(hid_t d, const hsize_t *off) {
+//   hsize_t n = 0;
+//   H5E_BEGIN_TRY { if (H5Dget_chunk_storage_size(d, off, &n) < 0) n = 0; } H5E_END_TRY;
+//   return (long long)n;
+// }
+// static herr_t rd_h5_read_chunk(hid_t d, const hsize_t *off, unsigned *mask, void *buf) {
+//   uint32_t m = 0;
+//   herr_t e = H5Dread_chunk(d, H5P_DEFAULT, off, &m, buf);
+//   *mask = m;
+//   return e;
+// }
+import "C"
+
+import (
+	"errors"
+	"fmt"
+	"slices"
+	"sync"
+	"time"
+	"unsafe"
+)
+
+// directIn is the direct chunk reader of one Process run.
+type directIn struct {
+	fid  C.hid_t
+	vars [NumRoles]*directVar // nil: read by libnetcdf
+}
+
+// directVar reads one bound variable.
+type directVar struct {
+	ds       C.hid_t
+	chunks   []int // chunk sizes, one per dimension
+	shape    []int
+	size     int // value size, bytes
+	shuffle  bool
+	deflate  bool
+	fill     []byte
+	cache    map[chunkKey][]uint64 // decoded chunks of the last slab (pooled buffers)
+	spare    [][]uint64            // buffers of evicted chunks
+	name     string
+	chunkLen int // bytes of one decoded chunk
+}
+
+// chunkKey is a chunk's index along each dimension (up to 8 dimensions).
+type chunkKey [8]int
+
+// fetch is one chunk to read and decode.
+type fetch struct {
+	v      *directVar
+	key    chunkKey
+	off    []C.hsize_t
+	buf    []uint64 // room for the stored bytes (pooled)
+	stored []byte   // the chunk's stored bytes in buf (nil: not stored, fill)
+	mask   C.uint
+	out    []uint64
+	err    error
+}
+
+// openDirectReadIO opens the input with HDF5 for the bound variables the direct
+// reader can read (I/O thread); it returns nil when none qualifies.
+func (in *Input) openDirectReadIO() *directIn {
+	if in.Format != FormatNetCDF4 && in.Format != FormatNetCDF4Classic {
+		return nil
+	}
+	if in.Info != nil && len(in.Info.Files) > 1 || isURL(in.Path) {
+		return nil
+	}
+	nd := len(in.Layout.Dims)
+	if nd < 2 || nd > len(chunkKey{}) {
+		return nil
+	}
+	var d *directIn
+	for i, b := range in.bindings {
+		if b == nil || b.Chunks == nil || b.vi == nil || len(b.vi.Shape) != nd || b.File != in.Path {
+			continue
+		}
+		size := b.Type.Size()
+		if size == 0 {
+			continue
+		}
+		if d == nil {
+			cpath := C.CString(in.Path)
+			fid := C.rd_h5_open(cpath)
+			C.free(unsafe.Pointer(cpath))
+			if fid < 0 {
+				return nil
+			}
+			d = &directIn{fid: fid}
+		}
+		name := b.vi.Name
+		if b.vi.Group != "" && b.vi.Group != "/" && !containsSlash(name) {
+			name = b.vi.Group + "/" + name
+		}
+		cname := C.CString(name)
+		ds := C.rd_h5_dopen(d.fid, cname)
+		C.free(unsafe.Pointer(cname))
+		if ds < 0 {
+			continue
+		}
+		ch := make([]C.hsize_t, nd)
+		var ids [8]C.int
+		var nf, le C.int
+		fill := make([]byte, size)
+		n := C.rd_h5_layout(ds, C.int(nd), &ch[0], &ids[0], 8, &nf, C.size_t(size), &le, unsafe.Pointer(&fill[0]))
+		v := &directVar{ds: ds, size: size, fill: fill, cache: map[chunkKey][]uint64{}, name: b.Var, shape: slices.Clone(b.vi.Shape)}
+		ok := int(n) == nd && le != 0
+		switch {
+		case nf == 0:
+		case nf == 1 && ids[0] == h5FilterDeflate:
+			v.deflate = true
+		case nf == 2 && ids[0] == h5FilterShuffle && ids[1] == h5FilterDeflate:
+			v.shuffle, v.deflate = true, true
+		default:
+			ok = false
+		}
+		if !ok {
+			C.H5Dclose(ds)
+			continue
+		}
+		v.chunkLen = size
+		for _, c := range ch {
+			v.chunks = append(v.chunks, int(c))
+			v.chunkLen *= int(c)
+		}
+		d.vars[i] = v
+	}
+	if d != nil && d.empty() {
+		d.closeIO()
+		return nil
+	}
+	return d
+}
+
+func containsSlash(s string) bool {
+	for i := range len(s) {
+		if s[i] == '/' {
+			return true
+		}
+	}
+	return false
+}
+
+func (d *directIn) empty() bool {
+	for _, v := range d.vars {
+		if v != nil {
+			return false
+		}
+	}
+	return true
+}
+
+// closeIO closes the datasets and the file (I/O thread) and gives the chunk
+// buffers back to the pool.
+func (d *directIn) closeIO() {
+	for i, v := range d.vars {
+		if v != nil {
+			C.H5Dclose(v.ds)
+			for _, b := range v.cache {
+				putRaw(b)
+			}
+			for _, b := range v.spare {
+				putRaw(b)
+			}
+			v.cache, v.spare = nil, nil
+			d.vars[i] = nil
+		}
+	}
+	if d.fid >= 0 {
+		C.H5Fclose(d.fid)
+		d.fid = -1
+	}
+}
+
+// slabChunks lists the chunks of v that the slab [start, start+count) touches.
+func (v *directVar) slabChunks(start, count []uint64, keys []chunkKey) []chunkKey {
+	nd := len(start)
+	lo := make([]int, nd)
+	hi := make([]int, nd)
+	for i := range nd {
+		lo[i] = int(start[i]) / v.chunks[i]
+		hi[i] = (int(start[i]+count[i]) - 1) / v.chunks[i]
+	}
+	keys = keys[:0]
+	var k chunkKey
+	var rec func(i int)
+	rec = func(i int) {
+		if i == nd {
+			keys = append(keys, k)
+			return
+		}
+		for c := lo[i]; c <= hi[i]; c++ {
+			k[i] = c
+			rec(i + 1)
+		}
+	}
+	rec(0)
+	return keys
+}
+
+// readChunksIO reads the stored bytes of the fetches (I/O thread).
+func readChunksIO(fs []*fetch) error {
+	for _, f := range fs {
+		n := int64(C.rd_h5_chunk_size(f.v.ds, &f.off[0]))
+		if n <= 0 {
+			f.stored = nil
+			continue
+		}
+		if 8*len(f.buf) < int(n) {
+			putRaw(f.buf)
+			f.buf = getRaw(rawWords(int(n), 1))
+		}
+		f.stored = arenaBytes(f.buf)[:n]
+		if C.rd_h5_read_chunk(f.v.ds, &f.off[0], &f.mask, unsafe.Pointer(&f.stored[0])) < 0 {
+			return fmt.Errorf("HDF5 cannot read the chunk at %v", f.off)
+		}
+	}
+	return nil
+}
+
+var inflaters = sync.Pool{New: func() any { return &inflater{d: C.libdeflate_alloc_decompressor()} }}
+
+type inflater struct {
+	d    *C.struct_libdeflate_decompressor
+	shuf []byte
+}
+
+// decode inflates and unshuffles f's stored bytes into f.out (any goroutine).
+func (f *fetch) decode() {
+	v := f.v
+	out := arenaBytes(f.out)[:v.chunkLen]
+	if f.stored == nil {
+		for i := 0; i < len(out); i += v.size {
+			copy(out[i:i+v.size], v.fill)
+		}
+		return
+	}
+	// Filter mask bit i set: filter i of the pipeline was skipped for this chunk.
+	doShuffle := v.shuffle && f.mask&1 == 0
+	doDeflate := v.deflate && f.mask&(1<<uint(btoi(v.shuffle))) == 0
+	src := f.stored
+	z := inflaters.Get().(*inflater)
+	defer inflaters.Put(z)
+	if doDeflate {
+		dst := out
+		if doShuffle {
+			if cap(z.shuf) < len(out) {
+				z.shuf = make([]byte, len(out))
+			}
+			dst = z.shuf[:len(out)]
+		}
+		var got C.size_t
+		r := C.libdeflate_zlib_decompress(z.d, unsafe.Pointer(&src[0]), C.size_t(len(src)), unsafe.Pointer(&dst[0]), C.size_t(len(dst)), &got)
+		if r != C.LIBDEFLATE_SUCCESS || int(got) != len(dst) {
+			f.err = fmt.Errorf("a stored chunk at %v does not inflate to %d bytes (libdeflate status %d); the file may be damaged", f.off, len(dst), int(r))
+			return
+		}
+		src = dst
+	} else if len(src) != len(out) {
+		f.err = fmt.Errorf("a stored chunk at %v holds %d bytes; expected %d", f.off, len(src), len(out))
+		return
+	}
+	if doShuffle && v.size > 1 {
+		unshuffle(out, src, v.size)
+	} else if &src[0] != &out[0] {
+		copy(out, src)
+	}
+}
+
+func btoi(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// directReader reads slabs of the bound variables with the direct reader.
+type directReader struct {
+	in      *Input
+	d       *directIn
+	keys    []chunkKey
+	fetches []*fetch
+	pool    []*fetch
+	call    *ioCall
+	ioErr   error
+	cur     *inBuf
+	workers int
+	busy    time.Duration // the I/O thread's time
+}
+
+// release gives the fetches' buffers back to the pool.
+func (r *directReader) release() {
+	for _, f := range r.pool {
+		putRaw(f.buf)
+		f.buf = nil
+	}
+}
+
+func newDirectReader(in *Input, d *directIn, workers int) *directReader {
+	r := &directReader{in: in, d: d, workers: max(1, workers)}
+	r.call = newIOCall(func() {
+		t0 := time.Now()
+		defer func() { r.busy += time.Since(t0) }()
+		r.ioErr = readChunksIO(r.fetches)
+		if r.ioErr == nil {
+			r.ioErr = in.readOthersIO(r.cur, d)
+		}
+	})
+	return r
+}
+
+// readOthersIO reads the bound variables the direct reader does not (I/O thread).
+func (in *Input) readOthersIO(s *inBuf, d *directIn) error {
+	for i, b := range in.bindings {
+		if b == nil || d.vars[i] != nil {
+			continue
+		}
+		if err := b.vi.readIO(s.start, s.count, unsafe.Pointer(&s.raw[i][0])); err != nil {
+			return varErr(err, b.File, b.Var, "read of rows %d-%d, columns %d-%d (slab %d) failed: %v; expected readable data (the file may be damaged or truncated)", s.y0, s.y0+s.ny-1, s.x0, s.x0+s.nx-1, s.slab.Index, err)
+		}
+	}
+	return nil
+}
+
+// read fills s.raw for every bound variable; busy receives the I/O thread's time.
+func (r *directReader) read(s *inBuf) error {
+	r.fetches = r.fetches[:0]
+	nd := len(s.start)
+	for _, v := range r.d.vars {
+		if v == nil {
+			continue
+		}
+		r.keys = v.slabChunks(s.start, s.count, r.keys)
+		// Evict the chunks this slab does not touch.
+		for k, buf := range v.cache {
+			if !slices.Contains(r.keys, k) {
+				v.spare = append(v.spare, buf)
+				delete(v.cache, k)
+			}
+		}
+		for _, k := range r.keys {
+			if _, ok := v.cache[k]; ok {
+				continue
+			}
+			f := r.newFetch(v, k, nd)
+			r.fetches = append(r.fetches, f)
+		}
+	}
+	r.cur = s
+	if e := r.call.run(); e != nil || r.ioErr != nil {
+		return firstErr(e, r.ioErr)
+	}
+	// Decode the fetched chunks in parallel, off the I/O thread.
+	var wg sync.WaitGroup
+	next := make(chan *fetch, len(r.fetches))
+	for _, f := range r.fetches {
+		next <- f
+	}
+	close(next)
+	for range min(r.workers, len(r.fetches)) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for f := range next {
+				f.decode()
+			}
+		}()
+	}
+	wg.Wait()
+	for _, f := range r.fetches {
+		if f.err != nil {
+			return &VarError{File: r.in.Path, Var: f.v.name, Problem: f.err.Error(), Err: errors.New("bad chunk")}
+		}
+		f.v.cache[f.key] = f.out
+		f.out = nil
+		r.pool = append(r.pool, f)
+	}
+	// Copy the slab's window out of the decoded chunks.
+	for i, v := range r.d.vars {
+		if v == nil {
+			continue
+		}
+		v.copySlab(s, unsafe.Slice((*byte)(unsafe.Pointer(&s.raw[i][0])), 8*len(s.raw[i])))
+	}
+	return nil
+}
+
+func (r *directReader) newFetch(v *directVar, k chunkKey, nd int) *fetch {
+	var f *fetch
+	if n := len(r.pool); n > 0 {
+		f = r.pool[n-1]
+		r.pool = r.pool[:n-1]
+	} else {
+		f = &fetch{}
+	}
+	f.v, f.key, f.err, f.mask = v, k, nil, 0
+	if len(f.off) != nd {
+		f.off = make([]C.hsize_t, nd)
+	}
+	for j := range nd {
+		f.off[j] = C.hsize_t(k[j] * v.chunks[j])
+	}
+	if n := len(v.spare); n > 0 {
+		f.out = v.spare[n-1]
+		v.spare = v.spare[:n-1]
+	} else {
+		f.out = getRaw(rawWords(v.chunkLen, 1))
+	}
+	return f
+}
+
+// copySlab copies the slab's values (row-major over its count) out of the
+// cached chunks into raw.
+func (v *directVar) copySlab(s *inBuf, raw []byte) {
+	nd := len(s.start)
+	sz := v.size
+	y0, ny := int(s.start[nd-2]), int(s.count[nd-2])
+	x0, nx := int(s.start[nd-1]), int(s.count[nd-1])
+	cy, cx := v.chunks[nd-2], v.chunks[nd-1]
+	var k chunkKey
+	lin := 0 // the slab's leading position inside its chunk, linearised
+	for i := 0; i < nd-2; i++ {
+		k[i] = int(s.start[i]) / v.chunks[i]
+		lin = lin*v.chunks[i] + int(s.start[i])%v.chunks[i]
+	}
+	for ky := y0 / cy; ky <= (y0+ny-1)/cy; ky++ {
+		k[nd-2] = ky
+		ya, yb := max(y0, ky*cy), min(y0+ny, (ky+1)*cy)
+		for kx := x0 / cx; kx <= (x0+nx-1)/cx; kx++ {
+			k[nd-1] = kx
+			xa, xb := max(x0, kx*cx), min(x0+nx, (kx+1)*cx)
+			c := arenaBytes(v.cache[k])
+			w := (xb - xa) * sz
+			for y := ya; y < yb; y++ {
+				src := ((lin*cy+(y-ky*cy))*cx + (xa - kx*cx)) * sz
+				dst := ((y-y0)*nx + (xa - x0)) * sz
+				copy(raw[dst:dst+w], c[src:src+w])
+			}
+		}
+	}
+}
