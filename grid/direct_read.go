@@ -263,7 +263,33 @@ func readChunksIO(fs []*fetch) error {
 	return nil
 }
 
-var inflaters = sync.Pool{New: func() any { return &inflater{d: C.libdeflate_alloc_decompressor()} }}
+// inflaters keeps decompressors and their unshuffle room for the next chunks
+// (a plain list: sync.Pool may drop them, and they hold a chunk's bytes).
+var inflaters struct {
+	sync.Mutex
+	free []*inflater
+}
+
+func getInflater() *inflater {
+	inflaters.Lock()
+	defer inflaters.Unlock()
+	if n := len(inflaters.free); n > 0 {
+		z := inflaters.free[n-1]
+		inflaters.free = inflaters.free[:n-1]
+		return z
+	}
+	return &inflater{d: C.libdeflate_alloc_decompressor()}
+}
+
+func putInflater(z *inflater) {
+	inflaters.Lock()
+	defer inflaters.Unlock()
+	if len(inflaters.free) < 8 {
+		inflaters.free = append(inflaters.free, z)
+		return
+	}
+	C.libdeflate_free_decompressor(z.d)
+}
 
 type inflater struct {
 	d    *C.struct_libdeflate_decompressor
@@ -284,8 +310,8 @@ func (f *fetch) decode() {
 	doShuffle := v.shuffle && f.mask&1 == 0
 	doDeflate := v.deflate && f.mask&(1<<uint(btoi(v.shuffle))) == 0
 	src := f.stored
-	z := inflaters.Get().(*inflater)
-	defer inflaters.Put(z)
+	z := getInflater()
+	defer putInflater(z)
 	if doDeflate {
 		dst := out
 		if doShuffle {
