@@ -257,7 +257,7 @@ func readChunksIO(fs []*fetch) error {
 		}
 		f.stored = arenaBytes(f.buf)[:n]
 		if C.rd_h5_read_chunk(f.v.ds, &f.off[0], &f.mask, unsafe.Pointer(&f.stored[0])) < 0 {
-			return fmt.Errorf("HDF5 cannot read the chunk at %v", f.off)
+			return &fetchError{f.v.name, fmt.Sprintf("HDF5 cannot read the stored chunk at %v", f.off)}
 		}
 	}
 	return nil
@@ -323,12 +323,12 @@ func (f *fetch) decode() {
 		var got C.size_t
 		r := C.libdeflate_zlib_decompress(z.d, unsafe.Pointer(&src[0]), C.size_t(len(src)), unsafe.Pointer(&dst[0]), C.size_t(len(dst)), &got)
 		if r != C.LIBDEFLATE_SUCCESS || int(got) != len(dst) {
-			f.err = fmt.Errorf("a stored chunk at %v does not inflate to %d bytes (libdeflate status %d); the file may be damaged", f.off, len(dst), int(r))
+			f.err = &fetchError{v.name, fmt.Sprintf("the stored chunk at %v does not inflate to %d bytes (libdeflate status %d)", f.off, len(dst), int(r))}
 			return
 		}
 		src = dst
 	} else if len(src) != len(out) {
-		f.err = fmt.Errorf("a stored chunk at %v holds %d bytes; expected %d", f.off, len(src), len(out))
+		f.err = &fetchError{v.name, fmt.Sprintf("the stored chunk at %v holds %d bytes; expected %d", f.off, len(src), len(out))}
 		return
 	}
 	if doShuffle && v.size > 1 {
@@ -418,8 +418,15 @@ func (r *directReader) read(s *inBuf) error {
 		}
 	}
 	r.cur = s
-	if e := r.call.run(); e != nil || r.ioErr != nil {
-		return firstErr(e, r.ioErr)
+	if e := r.call.run(); e != nil {
+		return e
+	}
+	if r.ioErr != nil {
+		var ve *VarError
+		if errors.As(r.ioErr, &ve) {
+			return r.ioErr // libnetcdf's reads name their variable
+		}
+		return r.slabErr(s, r.ioErr)
 	}
 	// Decode the fetched chunks in parallel, off the I/O thread.
 	var wg sync.WaitGroup
@@ -440,7 +447,7 @@ func (r *directReader) read(s *inBuf) error {
 	wg.Wait()
 	for _, f := range r.fetches {
 		if f.err != nil {
-			return &VarError{File: r.in.Path, Var: f.v.name, Problem: f.err.Error(), Err: errors.New("bad chunk")}
+			return r.slabErr(s, f.err)
 		}
 		f.v.cache[f.key] = f.out
 		f.out = nil
@@ -455,6 +462,29 @@ func (r *directReader) read(s *inBuf) error {
 	}
 	return nil
 }
+
+// errBadChunk marks a chunk that cannot be read or decoded.
+var errBadChunk = errors.New("unreadable chunk")
+
+// slabErr reports a failed chunk read or decode of slab s, as libnetcdf's read
+// failures are reported.
+func (r *directReader) slabErr(s *inBuf, err error) error {
+	name := ""
+	var fe *fetchError
+	if errors.As(err, &fe) {
+		name = fe.v
+	}
+	return &VarError{File: r.in.Path, Var: name, Problem: fmt.Sprintf("read of rows %d-%d, columns %d-%d (slab %d) failed: %v; expected readable data (the file may be damaged or truncated)",
+		s.y0, s.y0+s.ny-1, s.x0, s.x0+s.nx-1, s.slab.Index, err), Err: errBadChunk}
+}
+
+// fetchError is a chunk read or decode failure of variable v.
+type fetchError struct {
+	v   string
+	msg string
+}
+
+func (e *fetchError) Error() string { return e.msg }
 
 func (r *directReader) newFetch(v *directVar, k chunkKey, nd int) *fetch {
 	var f *fetch

@@ -155,7 +155,7 @@ func badInputCases() []badInput {
 				b[i] ^= 0x5a
 			}
 			return writeBytes(t, dir, "flipped.nc", b)
-		}, want: []string{"NetCDF: HDF error", "expected readable data", "damaged"}},
+		}, want: []string{`variable "`, "failed", "expected readable data", "damaged"}}, // libnetcdf's "NetCDF: HDF error", or the direct reader's inflate failure
 		{name: "text file, not netCDF", make: func(t *testing.T, dir string) string {
 			return writeBytes(t, dir, "notes.nc", []byte("LWP 120 g m-2, re 12 um\n"))
 		}, want: []string{"not a netCDF file", "expected netCDF-3, netCDF-4/HDF5 or an NCZarr store"}},
