@@ -220,27 +220,25 @@ func (d *directIn) closeIO() {
 // slabChunks lists the chunks of v that the slab [start, start+count) touches.
 func (v *directVar) slabChunks(start, count []uint64, keys []chunkKey) []chunkKey {
 	nd := len(start)
-	lo := make([]int, nd)
-	hi := make([]int, nd)
+	var lo, hi, k chunkKey
 	for i := range nd {
 		lo[i] = int(start[i]) / v.chunks[i]
 		hi[i] = (int(start[i]+count[i]) - 1) / v.chunks[i]
 	}
 	keys = keys[:0]
-	var k chunkKey
-	var rec func(i int)
-	rec = func(i int) {
-		if i == nd {
-			keys = append(keys, k)
-			return
+	k = lo
+	for {
+		keys = append(keys, k)
+		i := nd - 1 // odometer over the chunk indices
+		for i >= 0 && k[i] == hi[i] {
+			k[i] = lo[i]
+			i--
 		}
-		for c := lo[i]; c <= hi[i]; c++ {
-			k[i] = c
-			rec(i + 1)
+		if i < 0 {
+			return keys
 		}
+		k[i]++
 	}
-	rec(0)
-	return keys
 }
 
 // readChunksIO reads the stored bytes of the fetches (I/O thread).
@@ -355,12 +353,16 @@ type directReader struct {
 	call    *ioCall
 	ioErr   error
 	cur     *inBuf
-	workers int
 	busy    time.Duration // the I/O thread's time
+	// Decoding goroutines, for the run: fetches go on jobs, done counts them.
+	jobs chan *fetch
+	done sync.WaitGroup
 }
 
-// release gives the fetches' buffers back to the pool.
+// release stops the decoding goroutines and gives the fetches' buffers back to
+// the pool.
 func (r *directReader) release() {
+	close(r.jobs)
 	for _, f := range r.pool {
 		putRaw(f.buf)
 		f.buf = nil
@@ -368,7 +370,15 @@ func (r *directReader) release() {
 }
 
 func newDirectReader(in *Input, d *directIn, workers int) *directReader {
-	r := &directReader{in: in, d: d, workers: max(1, workers)}
+	r := &directReader{in: in, d: d, jobs: make(chan *fetch, 64)}
+	for range max(1, workers) {
+		go func() {
+			for f := range r.jobs {
+				f.decode()
+				r.done.Done()
+			}
+		}()
+	}
 	r.call = newIOCall(func() {
 		t0 := time.Now()
 		defer func() { r.busy += time.Since(t0) }()
@@ -429,22 +439,11 @@ func (r *directReader) read(s *inBuf) error {
 		return r.slabErr(s, r.ioErr)
 	}
 	// Decode the fetched chunks in parallel, off the I/O thread.
-	var wg sync.WaitGroup
-	next := make(chan *fetch, len(r.fetches))
+	r.done.Add(len(r.fetches))
 	for _, f := range r.fetches {
-		next <- f
+		r.jobs <- f
 	}
-	close(next)
-	for range min(r.workers, len(r.fetches)) {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for f := range next {
-				f.decode()
-			}
-		}()
-	}
-	wg.Wait()
+	r.done.Wait()
 	for _, f := range r.fetches {
 		if f.err != nil {
 			return r.slabErr(s, f.err)

@@ -288,8 +288,19 @@ func TestCreateSafety(t *testing.T) {
 // TestProcessNoAllocationPerSlab: the pipeline allocates a fixed amount per run,
 // not per slab (common practice for streaming; measured with testing.AllocsPerRun).
 func TestProcessNoAllocationPerSlab(t *testing.T) {
-	path := ncgenText(t, `netcdf t { dimensions: y = 400 ; x = 50 ; variables: float lwp(y, x) ; lwp:units = "kg m-2" ;
- float re(y, x) ; re:units = "m" ; }`, "nc4")
+	for _, cdl := range []string{
+		`netcdf t { dimensions: y = 400 ; x = 50 ; variables: float lwp(y, x) ; lwp:units = "kg m-2" ;
+ float re(y, x) ; re:units = "m" ; }`,
+		// Chunked and deflated: the direct chunk reader.
+		`netcdf t { dimensions: y = 400 ; x = 50 ; variables: float lwp(y, x) ; lwp:units = "kg m-2" ;
+ lwp:_ChunkSizes = 10, 50 ; lwp:_DeflateLevel = 1 ; lwp:_Shuffle = "true" ;
+ float re(y, x) ; re:units = "m" ; re:_ChunkSizes = 10, 50 ; re:_DeflateLevel = 1 ; }`,
+	} {
+		noAllocationPerSlab(t, ncgenText(t, cdl, "nc4"))
+	}
+}
+
+func noAllocationPerSlab(t *testing.T, path string) {
 	allocs := func(slabBytes int) (float64, int) {
 		in, err := Open(path, OpenOptions{SlabBytes: slabBytes})
 		if err != nil {

@@ -161,6 +161,7 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	}); e != nil || ioErr != nil {
 		if dr != nil {
 			onIO(dr.d.closeIO)
+			dr.release()
 		}
 		out.Abort()
 		return firstErr(e, ioErr)
