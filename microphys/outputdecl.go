@@ -84,7 +84,7 @@ var OutputDecls = []OutputDecl{
 		LongName:     "liquid water path used for the diagnostics (the input's, or derived from optical thickness and effective radius, or in-cloud from a grid-box mean)", Title: "Liquid water path",
 		ValidMin: 0, ValidMax: 1e4,
 		Comment: "the LWP the diagnostics used, in the units of this file (the QC bits say whether it was derived); kept so that summaries can bin by LWP", Content: "physicalMeasurement",
-		MapLo: 10, MapHi: 1000, MapLog: true},
+		MapLo: 0, MapHi: 400},
 	{Name: "droplet_number", Get: func(o *Outputs) float64 { return o.Nd }, SIUnits: "m-3", Units: "cm-3", Scale: 1e-6,
 		StandardName: "number_concentration_of_cloud_liquid_water_particles_in_air_at_liquid_water_cloud_top",
 		LongName:     "cloud droplet number concentration of the adiabatic cloud model", Title: "Droplet number concentration N_d",

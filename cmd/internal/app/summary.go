@@ -130,6 +130,7 @@ type summaryFlags struct {
 	opt                    summary.Options
 	width, height          int
 	force                  bool
+	ranges                 plots.Ranges // --range: the user's colour ranges
 }
 
 func runSummary(e *env, args []string) error {
@@ -148,6 +149,7 @@ func runSummary(e *env, args []string) error {
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
 	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
 	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
+	ranges := fs.StringArray("range", nil, "colour range of VAR's maps in the units the map shows, instead of the declared one: `VAR=LO:HI[:log]` (repeatable)")
 	if err := parseFlags(e, fs, summaryUsage, args); err != nil {
 		return err
 	}
@@ -156,10 +158,13 @@ func runSummary(e *env, args []string) error {
 		return usagef("no processed files given")
 	}
 	f := summaryFlags{output: *output, plotDir: *plotDir, mapOf: *mapOf, force: *force}
+	var err error
+	if f.ranges, err = plots.ParseRanges(*ranges); err != nil {
+		return usagef("%v", err)
+	}
 	if f.mapOf != "mean" && f.mapOf != "first" {
 		return usagef("--map-of %q: expected mean or first", f.mapOf)
 	}
-	var err error
 	if *region != "" {
 		if f.region, err = parseRegion(*region); err != nil {
 			return usagef("--region: %v", err)
@@ -332,6 +337,10 @@ type procFile struct {
 	base     string // cloud-base height, "" when absent
 	qc       string
 	qcScreen uint32 // the file's screening bits
+	// qcMissing and qcShape: the bits input_missing and gamma_shape_assumed, for the
+	// maps' no-data classes and the gamma-shape note of their titles (step sets
+	// qcMissingInput and qcShapeAssumed)
+	qcMissing, qcShape uint32
 	vars     map[string]varIn
 }
 
@@ -426,6 +435,12 @@ func (p *procFile) bind() error {
 			return p.errf(qcName, "has %d flag_masks and %d flag_meanings words; expected one word per mask (CF §3.5)", len(m), len(words))
 		}
 		for i, w := range words {
+			switch w {
+			case "input_missing":
+				p.qcMissing |= uint32(int64(m[i]))
+			case "gamma_shape_assumed":
+				p.qcShape |= uint32(int64(m[i]))
+			}
 			for _, s := range screenWords {
 				if w == s {
 					p.qcScreen |= uint32(int64(m[i]))
@@ -695,8 +710,16 @@ func (p *procFile) readBlock(name string, b block) ([]float64, error) {
 	return out, nil
 }
 
+// Bits of the per-column QC of step besides bit 0 (screened), which the statistics
+// ignore (summary.Options.QCMask = 1).
+const (
+	qcMissingInput = 2 // screened for a missing input
+	qcShapeAssumed = 4 // valid, gamma shape from --gamma-shape (no LWP standard deviation)
+)
+
 // step reads block b of the named diagnostics, in SI, with screened columns set
-// to NaN. It returns the fields and the per-column QC (1 = screened).
+// to NaN. It returns the fields and the per-column QC (bit 0: screened; see
+// qcMissingInput and qcShapeAssumed).
 func (p *procFile) step(b block, names []string) (map[string][]float64, []uint16, error) {
 	n := b.n * p.scene.Cells()
 	qc := make([]uint16, n)
@@ -709,6 +732,11 @@ func (p *procFile) step(b block, names []string) (map[string][]float64, []uint16
 			// A missing flag (fill) carries no screening information.
 			if !math.IsNaN(v) && uint32(int64(v))&p.qcScreen != 0 {
 				qc[i] = 1
+				if uint32(int64(v))&p.qcMissing != 0 {
+					qc[i] |= qcMissingInput
+				}
+			} else if !math.IsNaN(v) && uint32(int64(v))&p.qcShape != 0 {
+				qc[i] |= qcShapeAssumed
 			}
 		}
 	}
@@ -755,6 +783,13 @@ type summaryState struct {
 	// their time range over every file, maps or not.
 	steps      int
 	tmin, tmax float64
+	// Per cell of the map grid over the selected steps: the steps screened and those
+	// screened for a missing input (the maps' no-data classes), and the first selected
+	// step's QC (--map-of first). valid and shapeAssumed count the valid columns and
+	// those whose gamma shape was --gamma-shape's (for the map titles).
+	cellScreened, cellMissing []int32
+	firstQC                   []uint16
+	valid, shapeAssumed       int64
 }
 
 // stepSpan is ms with the step count and time range of every selected step, for
@@ -913,6 +948,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
 			return nil
 		}
+		st.countCells(qc, times, b.n, cells, f.window)
 		if st.first == nil {
 			for k := 0; k < b.n; k++ {
 				if times != nil && !f.window.Contains(times[k]) {
@@ -930,6 +966,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 					st.first[fl.Name] = dd
 				}
 				st.firstGrid = one
+				st.firstQC = append([]uint16(nil), qc[k*cells:(k+1)*cells]...)
 				if times != nil {
 					st.firstTime = times[k]
 				}
@@ -938,6 +975,33 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		}
 		return nil
 	})
+}
+
+// countCells adds the QC of n steps of one block (times nil: no time axis) to the
+// per-cell counts of the maps' no-data classes and the gamma-shape count.
+func (st *summaryState) countCells(qc []uint16, times []float64, n, cells int, w summary.Window) {
+	if st.cellScreened == nil {
+		st.cellScreened, st.cellMissing = make([]int32, cells), make([]int32, cells)
+	}
+	for k := 0; k < n; k++ {
+		if times != nil && !w.Contains(times[k]) {
+			continue
+		}
+		for c, q := range qc[k*cells : (k+1)*cells] {
+			switch {
+			case q&1 != 0:
+				st.cellScreened[c]++
+				if q&qcMissingInput != 0 {
+					st.cellMissing[c]++
+				}
+			default:
+				st.valid++
+				if q&qcShapeAssumed != 0 {
+					st.shapeAssumed++
+				}
+			}
+		}
+	}
 }
 
 // ---- the NetCDF summary file ----
@@ -1179,7 +1243,8 @@ func regionText(r *summary.Region) string {
 }
 
 // wrapLines joins the non-empty lines with newlines, breaking any longer than max
-// characters at blanks (the plots centre the title over the map and do not wrap).
+// characters after a comma if it can, else at blanks (the plots centre the title over
+// the map and do not wrap).
 func wrapLines(max int, lines ...string) string {
 	var out []string
 	for _, l := range lines {
@@ -1187,15 +1252,29 @@ func wrapLines(max int, lines ...string) string {
 			continue
 		}
 		cur := ""
-		for _, w := range strings.Fields(l) {
+		for _, part := range strings.SplitAfter(l, ", ") {
+			part = strings.TrimSpace(part)
 			switch {
 			case cur == "":
-				cur = w
-			case len([]rune(cur))+1+len([]rune(w)) <= max:
-				cur += " " + w
+				cur = part
+			case len([]rune(cur))+1+len([]rune(part)) <= max:
+				cur += " " + part
 			default:
 				out = append(out, cur)
-				cur = w
+				cur = part
+			}
+			for len([]rune(cur)) > max { // a part longer than a line: at blanks
+				words := strings.Fields(cur)
+				line := words[0]
+				k := 1
+				for ; k < len(words) && len([]rune(line))+1+len([]rune(words[k])) <= max; k++ {
+					line += " " + words[k]
+				}
+				if k == len(words) {
+					break
+				}
+				out = append(out, line)
+				cur = strings.Join(words[k:], " ")
 			}
 		}
 		if cur != "" {
@@ -1226,18 +1305,58 @@ func titleChars(g summary.Scene, w, h int) int {
 	return max(24, int(mapW/7.5))
 }
 
-// mapStyle sets the colour scale and units of a diagnostic's picture.
-func mapStyle(name, siUnit string, o *plots.MapOptions) {
-	switch name {
-	case popVarName:
-		o.Min, o.Max = 0, 1
-	case rateVarName, intensityVarName, "surface_drizzle_rate", "column_autoconversion_rate", "autoconversion_efficiency":
-		o.Log = true
-		o.ColorMap = plots.Cividis()
+// mapStyle sets the colour scale, limits and units of a diagnostic's picture: the
+// declared ones (microphys.OutputDecls) or the user's --range (plots.Style).
+func mapStyle(name, siUnit string, ranges plots.Ranges, o *plots.MapOptions) (fixed bool) {
+	return plots.Style(name, siUnit, ranges, o)
+}
+
+// shapeNote says where the gamma shape of the sub-grid LWP came from, for the titles
+// of the maps that depend on it: the input's LWP standard deviation or --gamma-shape.
+func (st *summaryState) shapeNote() string {
+	g := st.params["gamma_shape"]
+	if st.mixed || g == "" || st.valid == 0 {
+		return ""
 	}
-	if siUnit == "m" && strings.Contains(name, "radius") {
-		o.Scale, o.Units = 1e6, "µm"
+	switch a := float64(st.shapeAssumed) / float64(st.valid); {
+	case st.shapeAssumed == st.valid:
+		return "gamma shape " + g
+	case st.shapeAssumed == 0:
+		return "gamma shape from the LWP std. dev."
+	default:
+		return fmt.Sprintf("gamma shape from the LWP std. dev. (%.0f %% of columns), else %s", 100*(1-a), g)
 	}
+}
+
+// noDataClasses gives each cell's reason for having no value: screened for a
+// missing input in every selected step, else screened in some step; nil without QC
+// counts. Cells outside --region are marked by the plots (MapOptions.Region).
+func noDataClasses(screened, missing []int32, steps []uint16) []plots.NoData {
+	switch {
+	case steps != nil:
+		out := make([]plots.NoData, len(steps))
+		for c, q := range steps {
+			switch {
+			case q&qcMissingInput != 0:
+				out[c] = plots.MissingInput
+			case q&1 != 0:
+				out[c] = plots.Screened
+			}
+		}
+		return out
+	case screened != nil:
+		out := make([]plots.NoData, len(screened))
+		for c := range screened {
+			switch {
+			case screened[c] > 0 && missing[c] == screened[c]:
+				out[c] = plots.MissingInput
+			case screened[c] > 0:
+				out[c] = plots.Screened
+			}
+		}
+		return out
+	}
+	return nil
 }
 
 func writePNG(path string, force bool, draw func(w io.Writer) error) error {
@@ -1268,6 +1387,9 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 	}
 	params := st.paramText()
 	region := regionText(f.region)
+	if err := plots.CoastlinesAvailable(); err != nil {
+		fmt.Fprintf(e.stderr, "warmrain summary: maps without coastlines: %v\n", err)
+	}
 	var wrote []string
 	put := func(file, what string, draw func(io.Writer) error) error {
 		path := filepath.Join(f.plotDir, file)
@@ -1289,6 +1411,7 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		title, when string
 		keepUnits   bool
 		file        string
+		noData      []plots.NoData
 	}
 	var jobs []mapJob
 	if f.mapOf == "first" && st.first != nil {
@@ -1298,14 +1421,21 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		}
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
+			if plots.IsCoordinate(n, vi.std, vi.units) {
+				continue
+			}
 			jobs = append(jobs, mapJob{field: summary.Field{Name: n, Units: vi.units, LongName: vi.long, Data: st.first[n]}, grid: st.firstGrid,
-				title: shortName(n, vi.long), when: when, file: "map_" + n + "_first.png"})
+				title: shortName(n, vi.long), when: when, file: "map_" + n + "_first.png", noData: noDataClasses(nil, nil, st.firstQC)})
 		}
 	} else if f.mapOf == "mean" && len(ms.Maps) > 0 {
 		when := "time mean, " + spanText(ms, st.files)
+		classes := noDataClasses(st.cellScreened, st.cellMissing, nil)
 		for _, m := range ms.Maps {
 			n := m.Mean.Name
-			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].long), when: when, file: "map_" + n + "_mean.png"})
+			if vi := st.mapInfo[n]; plots.IsCoordinate(n, vi.std, vi.units) {
+				continue
+			}
+			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].long), when: when, file: "map_" + n + "_mean.png", noData: classes})
 		}
 		for _, m := range ms.Maps {
 			if m.Mean.Name == popVarName {
@@ -1317,13 +1447,16 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		}
 	}
 	for _, j := range jobs {
-		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits}
-		mapStyle(j.field.Name, j.field.Units, &o)
+		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits, Region: f.region, NoData: j.noData}
+		fixed := mapStyle(j.field.Name, j.field.Units, f.ranges, &o)
 		if j.keepUnits {
 			o.Scale, o.Units = 1, "count"
 		}
+		if len(j.noData) != j.grid.Cells() {
+			o.NoData = nil
+		}
 		title := j.title
-		if v, ok := constantValue(j.field.Data); ok {
+		if v, ok := constantValue(j.field.Data); ok && !fixed {
 			// A constant field would get a colour bar of ±1e-12: give it a readable
 			// range and say so in the title.
 			scale, units := o.Scale, o.Units
@@ -1337,7 +1470,13 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 			}
 			title += fmt.Sprintf(": %.4g %s everywhere", d, units)
 		}
-		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region, params)
+		mp := params // a variable that is not a declared output: the general line
+		if d := microphys.OutputByName(j.field.Name); d != nil && !st.mixed {
+			mp = plots.ParamLine(j.field.Name, st.params, st.shapeNote())
+		} else if j.keepUnits {
+			mp = ""
+		}
+		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region, mp)
 		if err := put(j.file, j.field.Name, func(w io.Writer) error { return plots.Map(w, j.grid, j.field, o) }); err != nil {
 			return err
 		}
