@@ -341,7 +341,7 @@ type procFile struct {
 	// maps' no-data classes and the gamma-shape note of their titles (step sets
 	// qcMissingInput and qcShapeAssumed)
 	qcMissing, qcShape uint32
-	vars     map[string]varIn
+	vars               map[string]varIn
 }
 
 // varIn is a diagnostic with its conversion to SI.
