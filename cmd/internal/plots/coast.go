@@ -239,8 +239,8 @@ type coastPlotter struct{ segs []coastSegment }
 
 func (cp coastPlotter) Plot(c draw.Canvas, p *plot.Plot) {
 	trX, trY := p.Transforms(&c)
-	halo := draw.LineStyle{Color: color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xb0}, Width: px(3.5)}
-	line := draw.LineStyle{Color: CoastColor, Width: px(1.6)}
+	halo := draw.LineStyle{Color: color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xb0}, Width: px(4)}
+	line := draw.LineStyle{Color: CoastColor, Width: px(2)} // 2 px: at least one pixel fully covered across the line
 	var lines [][]vg.Point
 	for _, s := range cp.segs {
 		pts := make([]vg.Point, len(s.lon))
