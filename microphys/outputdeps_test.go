@@ -10,7 +10,7 @@ import (
 // depsExempt are parameters left out of OutputDecl.DependsOn and of this check: the
 // screening thresholds choose which columns get values rather than changing the values,
 // and the collector's numerics (method, tolerance) change results only within their
-// tested error bounds (doc/science.md#fast-paths).
+// tested error bounds (doc/science.md#tables).
 var depsExempt = map[string]string{
 	"min_lwp": "screening", "min_tau": "screening", "re_range_min": "screening", "re_range_max": "screening",
 	"min_ctt": "screening", "nd_range_min": "screening", "nd_range_max": "screening", "max_thickness": "screening",

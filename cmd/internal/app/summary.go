@@ -39,6 +39,14 @@ valid time steps each cell averaged (map_valid_count.png), POP against LWP for
 several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
 (susceptibility_vs_lwp.png). Existing files are only replaced with --force.
 
+Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
+they are drawn without, and stderr says so once), fixed colour limits per
+variable chosen from its physical range so that maps compare (logarithmic for
+quantities that span decades; --range VAR=LO:HI[:log] replaces them, in the units
+the map shows), a legend of the cells without a value (input missing, screened by
+QC, outside --region, no value), and are cropped to --region. Their titles name
+only the parameters the variable depends on. See doc/maps.md.
+
 Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 horizontal dimension), time series at one site, with any leading dimensions (time,
 ensemble member). Maps need a grid or swath with latitude and longitude; for other
@@ -65,6 +73,7 @@ decisions.
 Examples:
   warmrain summary out/*.nc
   warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
+  warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
   warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
 `
 
@@ -1445,6 +1454,13 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 					when: "over " + spanText(ms, st.files), keepUnits: true, file: "map_valid_count.png"})
 			}
 		}
+	}
+	var mapped []string
+	for _, j := range jobs {
+		mapped = append(mapped, j.field.Name)
+	}
+	for _, n := range f.ranges.Unknown(mapped) {
+		fmt.Fprintf(e.stderr, "warmrain summary: --range %s: no map shows %s (mapped: %s)\n", n, n, strings.Join(mapped, ", "))
 	}
 	for _, j := range jobs {
 		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits, Region: f.region, NoData: j.noData}
