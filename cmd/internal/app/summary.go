@@ -1466,23 +1466,25 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits, Region: f.region, NoData: j.noData}
 		fixed := mapStyle(j.field.Name, j.field.Units, f.ranges, &o)
 		if j.keepUnits {
-			o.Scale, o.Units = 1, "count"
+			o.Scale, o.Units, o.IntegerTicks = 1, "count", true
 		}
 		if len(j.noData) != j.grid.Cells() {
 			o.NoData = nil
 		}
 		title := j.title
-		if v, ok := constantValue(j.field.Data); ok && !fixed {
-			// A constant field would get a colour bar of ±1e-12: give it a readable
-			// range and say so in the title.
+		if v, ok := constantValue(j.field.Data); ok {
+			// Say so in the title; without fixed limits a constant field would get a
+			// colour bar of ±1e-12: give it a readable range.
 			scale, units := o.Scale, o.Units
 			if scale == 0 {
 				scale, units = plots.DisplayUnits(j.field.Units)
 			}
 			d := v * scale
-			o.Log, o.Min, o.Max = false, d-math.Max(math.Abs(d)*0.5, 1), d+math.Max(math.Abs(d)*0.5, 1)
-			if d == 0 && !strings.Contains(j.field.Name, "temperature") {
-				o.Min, o.Max = 0, 1
+			if !fixed {
+				o.Log, o.Min, o.Max = false, d-math.Max(math.Abs(d)*0.5, 1), d+math.Max(math.Abs(d)*0.5, 1)
+				if d == 0 && !strings.Contains(j.field.Name, "temperature") {
+					o.Min, o.Max = 0, 1
+				}
 			}
 			title += fmt.Sprintf(": %.4g %s everywhere", d, units)
 		}

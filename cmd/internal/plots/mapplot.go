@@ -65,6 +65,8 @@ type MapOptions struct {
 	// Region, when set, crops the map to the box (intersected with the data's extent)
 	// and draws the cells outside it as OutsideRegion.
 	Region *summary.Region
+	// IntegerTicks labels the colour bar at whole numbers only (counts).
+	IntegerTicks bool
 	// NoCoast leaves the coastlines out. Without the coastline files
 	// (CoastlinesAvailable) they are left out anyway.
 	NoCoast bool
@@ -521,7 +523,7 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 				classes = append(classes, c)
 			}
 		}
-		drawColourBar(dc, main.Max.X+px(18), da.Min.Y, da.Max.Y, cm, sc, units, under, over, classes)
+		drawColourBar(dc, main.Max.X+px(18), da.Min.Y, da.Max.Y, cm, sc, units, under, over, classes, opt.IntegerTicks)
 		return nil
 	})
 }
@@ -530,7 +532,7 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 // labels on its right, the units above, a triangle at an end whose values some cells
 // exceed (they get the end colour), and below it a legend of the no-data classes
 // present.
-func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourScale, units string, under, over bool, classes []NoData) {
+func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourScale, units string, under, over bool, classes []NoData, integer bool) {
 	const barW = 20
 	tri := px(12) // height of an end triangle
 	sw := px(14)  // legend swatch
@@ -573,6 +575,12 @@ func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourSc
 	lab := textStyle(10)
 	lab.XAlign, lab.YAlign = draw.XLeft, draw.YCenter
 	for _, t := range ticks {
+		if integer && t.Value != math.Round(t.Value) {
+			continue
+		}
+		if integer && t.Label == "" {
+			t.Label = tickNumber(t.Value)
+		}
 		f := sc.norm(t.Value)
 		if f < -1e-9 || f > 1+1e-9 {
 			continue

@@ -306,6 +306,9 @@ func TestLogScaleColours(t *testing.T) {
 	if strings.Join(labels, " ") != "10 20 50 100 200 500 1000" {
 		t.Errorf("log ticks 10..1000: %v", labels)
 	}
+	if got := tickNumber(10000); got != "10000" {
+		t.Errorf("tickNumber(10000) = %q", got)
+	}
 }
 
 func TestParseRange(t *testing.T) {

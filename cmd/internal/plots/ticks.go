@@ -118,6 +118,9 @@ func tickNumber(v float64) string {
 	if a != 0 && (a < 1e-3 || a >= 1e5) {
 		return fmt.Sprintf("%.0e", v)
 	}
+	if a >= 1000 { // 10000, not 1e+04
+		return strconv.FormatFloat(v, 'f', -1, 64)
+	}
 	return strconv.FormatFloat(v, 'g', 4, 64)
 }
 
