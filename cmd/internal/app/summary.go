@@ -386,8 +386,8 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	if first {
 		st.params = params
 		st.mapInfo = p.Vars
-		for _, v := range p.Info.Vars { // file order
-			if _, ok := p.Vars[v.Name]; ok {
+		for _, v := range p.Info.Vars { // file order; latitude and longitude are no diagnostics
+			if vi, ok := p.Vars[v.Name]; ok && !plots.IsCoordinate(v.Name, vi.Std, v.Text("units")) {
 				st.mapNames = append(st.mapNames, v.Name)
 			}
 		}
