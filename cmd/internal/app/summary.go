@@ -79,15 +79,14 @@ Examples:
 
 // Names in processed files: rows of microphys.OutputDecls.
 var (
-	lwpVarName       = procfile.LWPName
-	ndVarName        = procfile.NdName
-	popVarName       = procfile.POPName
-	rateVarName      = procfile.RateName
-	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
-	surfVarName      = procfile.SurfName
-	baseVarName      = procfile.BaseName
-	mustOutput       = procfile.MustOutput
-	screenWords      = procfile.ScreenWords
+	lwpVarName  = procfile.LWPName
+	ndVarName   = procfile.NdName
+	popVarName  = procfile.POPName
+	rateVarName = procfile.RateName
+	surfVarName = procfile.SurfName
+	baseVarName = procfile.BaseName
+	mustOutput  = procfile.MustOutput
+	screenWords = procfile.ScreenWords
 )
 
 const (
@@ -473,7 +472,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
 			return nil
 		}
-		st.countCells(qc, times, b.N, cells, f.window)
+		st.countCells(qc, times, b.N, sc, f.region, f.window)
 		if st.first == nil {
 			for k := 0; k < b.N; k++ {
 				if times != nil && !f.window.Contains(times[k]) {
@@ -502,11 +501,23 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	})
 }
 
-// countCells adds the QC of n steps of one block (times nil: no time axis) to the
-// per-cell counts of the maps' no-data classes and the gamma-shape count.
-func (st *summaryState) countCells(qc []uint16, times []float64, n, cells int, w summary.Window) {
+// countCells adds the QC of n steps of one block (times nil: no time axis) on the
+// grid of s to the per-cell counts of the maps' no-data classes and (in region r)
+// the gamma-shape count.
+func (st *summaryState) countCells(qc []uint16, times []float64, n int, s summary.Scene, r *summary.Region, w summary.Window) {
+	cells := s.Cells()
+	var in []bool // cells in the region
+	if r != nil {
+		in = make([]bool, cells)
+		for c := range in {
+			in[c] = r.Contains(s.LatLon(c/s.NX, c%s.NX))
+		}
+	}
 	if st.cellScreened == nil {
 		st.cellScreened, st.cellMissing = make([]int32, cells), make([]int32, cells)
+	}
+	if len(st.cellScreened) != cells || len(qc) < n*cells { // another grid: no maps are made
+		return
 	}
 	for k := 0; k < n; k++ {
 		if times != nil && !w.Contains(times[k]) {
@@ -519,7 +530,7 @@ func (st *summaryState) countCells(qc []uint16, times []float64, n, cells int, w
 				if q&procfile.QCMissingInput != 0 {
 					st.cellMissing[c]++
 				}
-			default:
+			case in == nil || in[c]:
 				st.valid++
 				if q&procfile.QCShapeAssumed != 0 {
 					st.shapeAssumed++
