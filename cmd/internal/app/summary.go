@@ -313,6 +313,7 @@ type summaryState struct {
 	// those whose gamma shape was --gamma-shape's (for the map titles).
 	cellScreened, cellMissing []int32
 	firstQC                   []uint16
+	lwpName                   string // the first file's LWP variable (styled as liquid_water_path)
 	valid, shapeAssumed       int64
 }
 
@@ -385,6 +386,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	if first {
 		st.params = params
 		st.mapInfo = p.Vars
+		st.lwpName = p.LWP
 		for _, v := range p.Info.Vars { // file order; latitude and longitude are no diagnostics
 			if vi, ok := p.Vars[v.Name]; ok && !plots.IsCoordinate(v.Name, vi.Std, v.Text("units")) {
 				st.mapNames = append(st.mapNames, v.Name)
@@ -991,7 +993,14 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 	}
 	for _, j := range jobs {
 		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits, Region: f.region, NoData: j.noData}
-		fixed := mapStyle(j.field.Name, j.field.Units, f.ranges, &o)
+		styleName := j.field.Name
+		if styleName == st.lwpName { // the LWP found by its standard name
+			styleName = lwpVarName
+		}
+		fixed := mapStyle(styleName, j.field.Units, f.ranges, &o)
+		if r, ok := f.ranges[j.field.Name]; ok { // --range by the file's own name
+			o.Min, o.Max, o.Log, fixed = r.Lo, r.Hi, r.Log, true
+		}
 		if j.keepUnits {
 			o.Scale, o.Units, o.IntegerTicks = 1, "count", true
 		}
@@ -1016,8 +1025,8 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 			title += fmt.Sprintf(": %.4g %s everywhere", d, units)
 		}
 		mp := params // a variable that is not a declared output: the general line
-		if d := microphys.OutputByName(j.field.Name); d != nil && !st.mixed {
-			mp = plots.ParamLine(j.field.Name, st.params, st.shapeNote())
+		if d := microphys.OutputByName(styleName); d != nil && !st.mixed {
+			mp = plots.ParamLine(styleName, st.params, st.shapeNote())
 		} else if j.keepUnits {
 			mp = ""
 		}
