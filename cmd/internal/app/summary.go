@@ -1024,11 +1024,15 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 			}
 			title += fmt.Sprintf(": %.4g %s everywhere", d, units)
 		}
-		mp := params // a variable that is not a declared output: the general line
-		if d := microphys.OutputByName(styleName); d != nil && !st.mixed {
+		// The parameters the variable depends on: none named for a variable that is
+		// not a declared output (its dependencies are unknown) or for the counts.
+		mp := ""
+		switch d := microphys.OutputByName(styleName); {
+		case j.keepUnits || d == nil:
+		case st.mixed:
+			mp = params // "inputs processed with different parameters"
+		default:
 			mp = plots.ParamLine(styleName, st.params, st.shapeNote())
-		} else if j.keepUnits {
-			mp = ""
 		}
 		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region, mp)
 		if err := put(j.file, j.field.Name, func(w io.Writer) error { return plots.Map(w, j.grid, j.field, o) }); err != nil {
