@@ -720,3 +720,22 @@ func TestSummaryMapClasses(t *testing.T) {
 		}
 	}
 }
+
+// TestSummaryWithoutCoastlines: without the coastline files the maps are still drawn
+// and stderr says once that coastlines are off and which package provides them.
+func TestSummaryWithoutCoastlines(t *testing.T) {
+	old := plots.CoastlineDir
+	plots.CoastlineDir = t.TempDir()
+	defer func() { plots.CoastlineDir = old }()
+	dir := t.TempDir()
+	in, _ := writeSynthProcessed(t, dir)
+	pics := filepath.Join(dir, "p")
+	code, _, stderr := runCmd("summary", in, "--plots", pics)
+	if code != 0 {
+		t.Fatalf("exit %d\n%s", code, stderr)
+	}
+	if n := strings.Count(stderr, "without coastlines"); n != 1 || !strings.Contains(stderr, "gmt-gshhg-low") {
+		t.Errorf("want one note naming gmt-gshhg-low, got %d in:\n%s", n, stderr)
+	}
+	checkPNG(t, filepath.Join(pics, "map_drizzle_probability_mean.png"), 900, 600)
+}
