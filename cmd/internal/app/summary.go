@@ -822,25 +822,12 @@ func wrapLines(max int, lines ...string) string {
 	return strings.Join(out, "\n")
 }
 
-// titleChars estimates how many title characters fit over the map: the map keeps
-// equal degrees (plate carrée) in the picture minus the colour-bar column (150 px),
-// the latitude axis (~70 px), three title lines and the longitude axis; 13 pt text is
-// about 7.5 px a character (estimates from the plots layout, common practice).
-func titleChars(g summary.Scene, w, h int) int {
-	latMin, latMax, lonMin, lonMax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
-	for _, v := range g.Lat {
-		latMin, latMax = math.Min(latMin, v), math.Max(latMax, v)
-	}
-	for _, v := range g.Lon {
-		lonMin, lonMax = math.Min(lonMin, v), math.Max(lonMax, v)
-	}
-	plotW := float64(w - 8 - 150 - 70)
-	plotH := float64(h - 12 - 3*17 - 10 - 45)
-	mapW := plotW
-	if dy, dx := latMax-latMin, lonMax-lonMin; dy > 0 && dx > 0 && dx < 360 {
-		mapW = math.Min(plotW, plotH*dx/dy)
-	}
-	return max(24, int(mapW/7.5))
+// titleChars estimates how many title characters fit over the map: the plots centre
+// the title in the picture minus the colour-bar column (150 px), whatever the map's
+// own width, so it may use all of it; 13 pt text is about 7.5 px a character
+// (estimates from the plots layout, common practice).
+func titleChars(_ summary.Scene, w, _ int) int {
+	return max(24, int(float64(w-8-150-16)/7.5))
 }
 
 // mapStyle sets the colour scale, limits and units of a diagnostic's picture: the
@@ -1034,7 +1021,8 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		default:
 			mp = plots.ParamLine(styleName, st.params, st.shapeNote())
 		}
-		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region, mp)
+		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region)
+		o.Params = mp
 		if err := put(j.file, j.field.Name, func(w io.Writer) error { return plots.Map(w, j.grid, j.field, o) }); err != nil {
 			return err
 		}

@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
@@ -30,8 +31,9 @@ type MapOptions struct {
 	// When is free text for the second line instead of or besides Time, for example
 	// "mean of 2026-07-01 to 2026-07-31 (124 steps)".
 	When string
-	// Params are the key parameters shown on the second title line, for example
-	// "KK2000, r_e* = 14 µm, N_d adiabatic k = 0.8".
+	// Params are the parameters the field depends on, shown in small type under the
+	// map (wrapped at commas), for example "k 0.8, Q_ext 2, onset r_e 12–16 µm"
+	// (ParamLine writes them for an output).
 	Params string
 
 	// ColorMap is the colour table; zero = Viridis.
@@ -471,12 +473,12 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 	if opt.When != "" {
 		second = append(second, opt.When)
 	}
-	if opt.Params != "" {
-		second = append(second, opt.Params)
-	}
 	if len(second) > 0 {
 		title += "\n" + strings.Join(second, "   ·   ")
 	}
+	// The title is centred over the picture minus the colour-bar column: break lines
+	// that would not fit (measured in the title's font).
+	title = fitLines(title, textStyle(13), px(float64(width-8-150-12)))
 
 	p := newPlot(title, "longitude", "latitude")
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = g.xmin, g.xmax, g.ymin, g.ymax
@@ -491,6 +493,17 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 	return writePNG(w, width, height, func(dc draw.Canvas) error {
 		const barColumn = 150                            // px kept on the right for the colour bar and its labels
 		dc = draw.Crop(dc, px(4), -px(4), px(4), -px(8)) // margins
+		if opt.Params != "" {                            // the parameter footnote under the map, 9 pt
+			fs := textStyle(9)
+			lines := strings.Split(fitLines("parameters: "+opt.Params, fs, px(float64(width-20))), "\n")
+			fs.Color = color.Gray{Y: 0x30}
+			fs.XAlign, fs.YAlign = draw.XLeft, draw.YBottom
+			for i := range lines {
+				y := dc.Min.Y + vg.Length(len(lines)-1-i)*px(13)
+				dc.FillText(fs, vg.Point{X: dc.Min.X + px(4), Y: y}, lines[i])
+			}
+			dc = draw.Crop(dc, 0, 0, vg.Length(len(lines))*px(13)+px(4), 0)
+		}
 		main := draw.Crop(dc, 0, -px(barColumn), 0, 0)
 		// as many latitude labels as fit, about 40 px apart (set before the layout:
 		// their width sets the data area's)
@@ -660,4 +673,43 @@ func (g *mapGeom) crop(r *summary.Region) error {
 	}
 	g.xmin, g.xmax, g.ymin, g.ymax = x0, x1, y0, y1
 	return nil
+}
+
+// fitLines re-breaks each line of text that is wider than max in style st, after a
+// comma where it can, else at blanks.
+func fitLines(text string, st text.Style, max vg.Length) string {
+	fits := func(l string) bool { return st.Width(l) <= max }
+	var out []string
+	for _, line := range strings.Split(text, "\n") {
+		if fits(line) {
+			out = append(out, line)
+			continue
+		}
+		cur := ""
+		add := func(part, sep string) {
+			switch {
+			case cur == "":
+				cur = part
+			case fits(cur + sep + part):
+				cur += sep + part
+			default:
+				out = append(out, cur)
+				cur = part
+			}
+		}
+		for _, part := range strings.SplitAfter(line, ", ") {
+			part = strings.TrimSpace(part)
+			if fits(part) {
+				add(part, " ")
+				continue
+			}
+			for _, w := range strings.Fields(part) { // a part longer than a line
+				add(w, " ")
+			}
+		}
+		if cur != "" {
+			out = append(out, cur)
+		}
+	}
+	return strings.Join(out, "\n")
 }

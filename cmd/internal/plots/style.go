@@ -190,7 +190,7 @@ func ParamLine(name string, params map[string]string, shapeNote string) string {
 			parts = append(parts, "f_ad "+val(k))
 		case "condensation_rate":
 			if v, ok := num(k); ok && v == 0 {
-				parts = append(parts, "c_w(T, p)")
+				parts = append(parts, "c_w(T,p)")
 			} else {
 				parts = append(parts, "c_w = "+val(k))
 			}
