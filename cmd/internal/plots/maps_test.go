@@ -43,29 +43,36 @@ func regularScene(latMin, latMax, lonMin, lonMax, step, v float64) (summary.Scen
 	return s, f
 }
 
-// dataBox finds the bounding box of the pixels of colour c (the map's cells), left of
-// the colour bar (found by its top colour, which the test maps do not use).
+// dataBox finds the map's data area: from the first pixel of the cells' colour c on
+// the picture's middle row, the run of pixels to the right up to the frame (grey) or
+// the background (white), coastlines included, and likewise up and down the run's
+// middle column.
 func dataBox(img image.Image, c color.NRGBA) image.Rectangle {
 	b := img.Bounds()
-	top := Viridis().At(1)
-	for y := b.Min.Y; y < b.Max.Y; y++ {
-		for x := b.Min.X; x < b.Max.X; x++ {
-			if rgb(img.At(x, y)) == [3]uint8{top.R, top.G, top.B} {
-				b.Max.X = min(b.Max.X, x-2)
-			}
-		}
-	}
-	box := image.Rectangle{Min: image.Pt(b.Max.X, b.Max.Y)}
 	want := [3]uint8{c.R, c.G, c.B}
-	for y := b.Min.Y; y < b.Max.Y; y++ {
-		for x := b.Min.X; x < b.Max.X; x++ {
-			if rgb(img.At(x, y)) == want {
-				box.Min.X, box.Min.Y = min(box.Min.X, x), min(box.Min.Y, y)
-				box.Max.X, box.Max.Y = max(box.Max.X, x+1), max(box.Max.Y, y+1)
-			}
-		}
+	inside := func(x, y int) bool {
+		p := rgb(img.At(x, y))
+		lo, hi := min(p[0], p[1], p[2]), max(p[0], p[1], p[2])
+		return !(hi-lo < 10 && lo >= 30) // not white, not the grey frame or its blends
 	}
-	return box
+	y := (b.Min.Y + b.Max.Y) / 2
+	x0 := b.Min.X
+	for x0 < b.Max.X && rgb(img.At(x0, y)) != want {
+		x0++
+	}
+	x1 := x0
+	for x1 < b.Max.X && inside(x1, y) {
+		x1++
+	}
+	xm := (x0 + x1) / 2
+	y0, y1 := y, y
+	for y0 > b.Min.Y && inside(xm, y0-1) {
+		y0--
+	}
+	for y1 < b.Max.Y && inside(xm, y1) {
+		y1++
+	}
+	return image.Rect(x0, y0, x1, y1)
 }
 
 // isCoastPixel: the coastline's black core; neither colour map comes near (the darkest
@@ -415,4 +422,31 @@ func pngOf(t *testing.T, img image.Image) []byte {
 		t.Fatal(err)
 	}
 	return b.Bytes()
+}
+
+// TestRegionAcrossDateline: a global grid in -180..180 cropped to 170°E..170°W fills the
+// whole 20° x 20° box, cells from both sides of the antimeridian, no gap.
+func TestRegionAcrossDateline(t *testing.T) {
+	s, f := regularScene(-90, 90, -180, 180, 1, 100e6)
+	opt := MapOptions{NoCoast: true, Region: &summary.Region{LatMin: -30, LatMax: -10, LonMin: 170, LonMax: -170}}
+	Style(f.Name, f.Units, nil, &opt)
+	var buf bytes.Buffer
+	if err := Map(&buf, s, f, opt); err != nil {
+		t.Fatal(err)
+	}
+	img := decode(t, buf.Bytes(), DefaultWidth, DefaultHeight)
+	box := dataBox(img, Viridis().At(0.5))
+	if box.Dx() < 300 || math.Abs(float64(box.Dx())/float64(box.Dy())-1) > 0.05 {
+		t.Fatalf("cells cover %v; want a square 20° x 20° map", box)
+	}
+	want := rgb(Viridis().At(0.5))
+	for y := box.Min.Y + 1; y < box.Max.Y-1; y++ { // inside the frame
+		for x := box.Min.X + 1; x < box.Max.X-1; x++ {
+			if got := rgb(img.At(x, y)); got != want {
+				save(t, "map_dateline_region.png", buf.Bytes())
+				t.Fatalf("pixel (%d, %d) is %v inside the map %v; want every cell drawn (%v)", x, y, got, box, want)
+			}
+		}
+	}
+	save(t, "map_dateline_region.png", buf.Bytes())
 }
