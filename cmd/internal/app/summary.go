@@ -141,8 +141,10 @@ func runSummary(e *env, args []string) error {
 	to := fs.String("to", "", "keep time steps before `TIME` (UTC)")
 	lwpBins := fs.String("lwp-bins", "20:500:10", "LWP bins in g m-2: `LO:HI:N` logarithmic, or edges E1,E2,...")
 	ndBins := fs.String("nd-bins", "10:1000:10", "N_d bins in cm-3: `LO:HI:N` logarithmic, or edges E1,E2,...")
-	boot := fs.Int("bootstrap", 0, "number `N` of Poisson-bootstrap replicates for the susceptibility errors (0 = off)")
+	boot := fs.Int("bootstrap", 0, "number `N` of tile-bootstrap replicates for the susceptibility intervals (0 = off; 200 or more for 95% intervals)")
 	seed := fs.Uint64("seed", 1, "seed `S` of the bootstrap random numbers")
+	tile := fs.Int("tile", 0, "side `CELLS` of the tiles treated as independent by the standard errors and the bootstrap (0 = round(N^(1/(d+2))) of each scene's N cells in d dimensions; 1 = independent columns)")
+	ciLevel := fs.Float64("ci-level", 0.95, "level `P` of the bootstrap confidence intervals, between 0 and 1")
 	minCount := fs.Int("min-count", 50, "least columns `N` an (LWP, N_d) bin needs to enter a fit or a curve")
 	minDrz := fs.Float64("min-drizzling", 10, "least drizzling columns `N` (the sum of the columns' POP) an (LWP, N_d) bin needs to enter a fit and show a conditional rate")
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
@@ -199,6 +201,13 @@ func runSummary(e *env, args []string) error {
 	}
 	f.opt.Region, f.opt.Window = f.region, f.window
 	f.opt.Bootstrap, f.opt.Seed, f.opt.MinCount = *boot, *seed, *minCount
+	if *tile < 0 {
+		return usagef("--tile %d: expected 0 (automatic) or a side of 1 or more cells", *tile)
+	}
+	if !(*ciLevel > 0 && *ciLevel < 1) {
+		return usagef("--ci-level %g: expected a level between 0 and 1, such as 0.95", *ciLevel)
+	}
+	f.opt.Tile, f.opt.CILevel = *tile, *ciLevel
 	f.opt.QCMask = 1 // each file's screening bits are mapped to bit 0 (see readStep)
 
 	// Refuse to overwrite before any work.
@@ -843,7 +852,9 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			}
 		}
 	}
-	needs := append([]string{p.lwp, ndVarName, popVarName, p.rate, p.surf, p.base}, st.mapNames...)
+	popErr, rateErr := p.standardError(popVarName), p.standardError(p.rate)
+	needs := append([]string{p.lwp, ndVarName, popVarName, p.rate, p.surf, p.base, popErr, rateErr}, st.mapNames...)
+	fileKey := sceneKey(path)
 	s := p.scene
 	if f.region != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
@@ -878,7 +889,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
 			}
 		}
-		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.n, Time: times}
+		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.n, Time: times, Key: fileKey ^ uint64(b.number)<<40}
 		cols := summary.Columns{
 			LWP: summary.Field{Name: p.lwp, Units: mustOutput(lwpVarName).SIUnits, Data: d[p.lwp]},
 			Nd:  summary.Field{Name: ndVarName, Units: mustOutput(ndVarName).SIUnits, Data: d[ndVarName]},
@@ -890,6 +901,12 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		}
 		if p.surf != "" {
 			cols.SurfaceRate = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.surf]}
+		}
+		if popErr != "" {
+			cols.POPError = summary.Field{Name: popErr, Units: mustOutput(popVarName).SIUnits, Data: d[popErr]}
+		}
+		if rateErr != "" {
+			cols.RateError = summary.Field{Name: rateErr, Units: mustOutput(rateVarName).SIUnits, Data: d[rateErr]}
 		}
 		if p.base != "" {
 			cols.BaseHeight = summary.Field{Name: baseVarName, Units: mustOutput(baseVarName).SIUnits, Data: d[p.base]}
@@ -940,6 +957,54 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	})
 }
 
+// sceneKey identifies a processed file for the bootstrap's tile weights by its base
+// name (FNV-1a, 64 bit), so the weights of its tiles do not depend on the order of the
+// files or on the folder, and partial summaries of disjoint files merge into the one of
+// all files (summary.Scene.Key).
+func sceneKey(path string) uint64 {
+	h := uint64(14695981039346656037)
+	for _, c := range []byte(filepath.Base(path)) {
+		h ^= uint64(c)
+		h *= 1099511628211
+	}
+	return h
+}
+
+// standardError returns the variable holding the retrieval standard error of name, the
+// <name>_standard_error named by its ancillary_variables, or "" when the file has none.
+func (p *procFile) standardError(name string) string {
+	if name == "" {
+		return ""
+	}
+	v := p.info.Var(name)
+	want := name + "_standard_error"
+	if v == nil || !slices.Contains(strings.Fields(v.Text("ancillary_variables")), want) {
+		return ""
+	}
+	vi, ok := p.vars[want]
+	if !ok {
+		return ""
+	}
+	// In the SI units of the diagnostic it belongs to (a known output), like the
+	// diagnostic itself.
+	si := p.vars[name].units
+	if vi.units != si {
+		c, err := grid.NewConverter(vi.conv.From, si)
+		if err != nil && si == "kg m-2 s-1" {
+			if c2, err2 := grid.NewConverter(vi.conv.From, "mm s-1"); err2 == nil {
+				c, err = c2, nil
+				c.To = si
+			}
+		}
+		if err != nil {
+			return "" // not a usable error; the statistics go on without it
+		}
+		vi.units, vi.conv = si, c
+		p.vars[want] = vi
+	}
+	return want
+}
+
 // ---- the NetCDF summary file ----
 
 func attr(name string, v any) grid.Attr { return grid.Attr{Name: name, Value: v} }
@@ -964,6 +1029,9 @@ func summaryVarSpec(v summary.Var, float bool) grid.VarSpec {
 	}
 	if !v.Int && !isCoord && !isBounds {
 		vs.Attrs = append(vs.Attrs, attr("_FillValue", []float64{-999}))
+	}
+	if v.ConfidenceLevel > 0 {
+		vs.Attrs = append(vs.Attrs, attr("confidence_level", []float64{v.ConfidenceLevel}))
 	}
 	for _, a := range [][2]string{{"standard_name", v.StandardName}, {"long_name", v.LongName}, {"units", v.Units},
 		{"bounds", v.Bounds}, {"ancillary_variables", v.Ancillary}, {"comment", v.Comment}} {

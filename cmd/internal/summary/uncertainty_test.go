@@ -133,7 +133,7 @@ func TestTileIntervalsCoverTruth(t *testing.T) {
 
 // TestTileIntervalsOnIndependentColumns: without spatial correlation the tile and
 // column bootstraps estimate the same spread (a block bootstrap is consistent for
-// independent data too [Kunsch1989, from memory]).
+// independent data too (Künsch 1989, Lahiri 2003 [from memory])).
 func TestTileIntervalsOnIndependentColumns(t *testing.T) {
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(3, 4))
