@@ -213,7 +213,7 @@ func WriteDataset(path string, ds *Dataset, force bool) error {
 			return &VarError{File: path, Problem: "already exists; refusing to overwrite it without force", Err: ErrExists}
 		}
 	}
-	if err := checkDataset(path, ds); err != nil {
+	if err := checkDataset(path, ds, false); err != nil {
 		return err
 	}
 	dir := filepath.Dir(path)
@@ -253,7 +253,7 @@ func WriteDataset(path string, ds *Dataset, force bool) error {
 	return nil
 }
 
-func checkDataset(path string, ds *Dataset) error {
+func checkDataset(path string, ds *Dataset, streamed bool) error {
 	bad := func(v, format string, a ...any) error {
 		return &VarError{File: path, Var: v, Problem: fmt.Sprintf(format, a...), Err: ErrLayout}
 	}
@@ -290,6 +290,9 @@ func checkDataset(path string, ds *Dataset) error {
 			}
 			n *= l
 		}
+		if v.Data == nil && streamed {
+			continue // written later by DatasetWriter.Put
+		}
 		if typedType(v.Data) == 0 || typedType(v.Data) == Char || typedType(v.Data) == String {
 			return bad(v.Name, "has data of Go type %T; expected a numeric slice", v.Data)
 		}
@@ -324,58 +327,9 @@ func writeDatasetIO(path, tmp string, ds *Dataset) error {
 			}
 		}
 	}()
-	dimID := map[string]int{}
-	for _, d := range ds.Dims {
-		id, err := ncDefDim(ncid, d.Name, d.Len)
-		if err != nil {
-			return werr("", err, "cannot define dimension "+d.Name)
-		}
-		dimID[d.Name] = id
-	}
-	ids := make([]int, len(ds.Vars))
-	data := make([]any, len(ds.Vars))
-	for k, v := range ds.Vars {
-		dd := make([]int, len(v.Dims))
-		for i, d := range v.Dims {
-			dd[i] = dimID[d]
-		}
-		id, err := ncDefVar(ncid, v.Name, v.Type, dd)
-		if err != nil {
-			return werr(v.Name, err, "cannot define")
-		}
-		ids[k] = id
-		if len(dd) > 0 {
-			if err := ncDefDeflate(ncid, id, true, 1); err != nil {
-				return werr(v.Name, err, "cannot set compression")
-			}
-		}
-		fill := math.NaN()
-		hasFill := false
-		for _, a := range v.Attrs {
-			if a.Name == "_FillValue" {
-				fill, hasFill = toFloat64s(a.Value)[0], true
-				if err := ncDefFill(ncid, id, convertTyped([]float64{fill}, v.Type)); err != nil {
-					return werr(v.Name, err, "cannot set _FillValue")
-				}
-			}
-		}
-		for _, a := range v.Attrs {
-			if a.Name == "_FillValue" {
-				continue
-			}
-			if err := putAttrConverted(ncid, id, a, v.Type); err != nil {
-				return werr(v.Name, err, "cannot write attribute "+a.Name)
-			}
-		}
-		data[k] = datasetValues(v, fill, hasFill)
-	}
-	for _, a := range ds.Globals {
-		if err := putAttrConverted(ncid, globalID, a, 0); err != nil {
-			return werr("", err, "cannot write global attribute "+a.Name)
-		}
-	}
-	if err := ncEndDef(ncid); err != nil {
-		return werr("", err, "cannot end define mode")
+	ids, data, err := defineDatasetIO(path, ncid, ds)
+	if err != nil {
+		return err
 	}
 	for k, v := range ds.Vars {
 		nd := len(v.Dims)
@@ -399,8 +353,72 @@ func writeDatasetIO(path, tmp string, ds *Dataset) error {
 	return nil
 }
 
-// datasetValues returns the data in the variable's type, NaN (and ±Inf for
-// integer types) replaced by the fill value when there is one.
+// defineDatasetIO defines the dimensions, variables and attributes of ds in the open
+// file ncid, ends define mode, and returns the variable ids and the data of each
+// variable converted to its type (nil for a variable without Data). It runs on the
+// I/O thread.
+func defineDatasetIO(path string, ncid int, ds *Dataset) ([]int, []any, error) {
+	werr := func(v string, err error, what string) error {
+		return &VarError{File: path, Var: v, Problem: what + ": " + err.Error(), Err: err}
+	}
+	dimID := map[string]int{}
+	for _, d := range ds.Dims {
+		id, err := ncDefDim(ncid, d.Name, d.Len)
+		if err != nil {
+			return nil, nil, werr("", err, "cannot define dimension "+d.Name)
+		}
+		dimID[d.Name] = id
+	}
+	ids := make([]int, len(ds.Vars))
+	data := make([]any, len(ds.Vars))
+	for k, v := range ds.Vars {
+		dd := make([]int, len(v.Dims))
+		for i, d := range v.Dims {
+			dd[i] = dimID[d]
+		}
+		id, err := ncDefVar(ncid, v.Name, v.Type, dd)
+		if err != nil {
+			return nil, nil, werr(v.Name, err, "cannot define")
+		}
+		ids[k] = id
+		if len(dd) > 0 {
+			if err := ncDefDeflate(ncid, id, true, 1); err != nil {
+				return nil, nil, werr(v.Name, err, "cannot set compression")
+			}
+		}
+		fill := math.NaN()
+		hasFill := false
+		for _, a := range v.Attrs {
+			if a.Name == "_FillValue" {
+				fill, hasFill = toFloat64s(a.Value)[0], true
+				if err := ncDefFill(ncid, id, convertTyped([]float64{fill}, v.Type)); err != nil {
+					return nil, nil, werr(v.Name, err, "cannot set _FillValue")
+				}
+			}
+		}
+		for _, a := range v.Attrs {
+			if a.Name == "_FillValue" {
+				continue
+			}
+			if err := putAttrConverted(ncid, id, a, v.Type); err != nil {
+				return nil, nil, werr(v.Name, err, "cannot write attribute "+a.Name)
+			}
+		}
+		if v.Data != nil {
+			data[k] = datasetValues(v, fill, hasFill)
+		}
+	}
+	for _, a := range ds.Globals {
+		if err := putAttrConverted(ncid, globalID, a, 0); err != nil {
+			return nil, nil, werr("", err, "cannot write global attribute "+a.Name)
+		}
+	}
+	if err := ncEndDef(ncid); err != nil {
+		return nil, nil, werr("", err, "cannot end define mode")
+	}
+	return ids, data, nil
+}
+
 func datasetValues(v VarSpec, fill float64, hasFill bool) any {
 	if typedType(v.Data) == v.Type && !v.Type.Integer() && !hasFill {
 		return v.Data
