@@ -28,7 +28,7 @@ Reads files written by 'warmrain process', one time step at a time, and reports:
 drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-with their standard errors; the flux-weighted fraction of drizzle reaching the surface
+with their standard errors, and with --bootstrap their confidence intervals; the flux-weighted fraction of drizzle reaching the surface
 (sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
 time-mean maps of every diagnostic with the number of values averaged per cell.
 
@@ -54,6 +54,14 @@ flag_meanings) are left out.
 LWP is taken from the variable liquid_water_path, or else from the one variable with
 standard_name atmosphere_mass_content_of_cloud_liquid_water.
 
+Neighbouring columns are correlated, so the sampling errors treat contiguous tiles of
+each time step as independent: the bin means get a tile standard error and an
+effective number of independent columns, and --bootstrap resamples tiles (--tile sets
+their side in cells; by default round(N^(1/(d+2))) for N cells in d dimensions, 32 for
+a 1000 x 1000 grid; --tile 1 treats columns as independent). When the processed
+files link <name>_standard_error to the drizzle probability or rate, the table also
+gives the mean retrieval error per bin.
+
 Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
 LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
 edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
@@ -65,7 +73,7 @@ decisions.
 Examples:
   warmrain summary out/*.nc
   warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
-  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
+  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
 `
 
 // Names in processed files: rows of microphys.OutputDecls (mustOutput fails at start
