@@ -172,7 +172,8 @@ type DimSpec struct {
 // for a scalar). Type is the stored type, one of the classic-model types Byte,
 // Char (not supported for data), Short, Int, Float, Double. Data holds the values
 // row-major, len = product of the dimension lengths: []float64, []float32,
-// []int32, []int16 or []int8 (or any other numeric slice); it is converted to Type
+// []int32, []int16 or []int8 (or any other numeric slice), or []byte for a Char
+// variable (text padded with NULs, see CharRows); it is converted to Type
 // when the types differ (integers rounded to nearest and saturated). Attrs are
 // written in order; a _FillValue attribute (any numeric type) is written in the
 // variable's type before any data, and NaN values of float data become it; the
@@ -185,6 +186,21 @@ type VarSpec struct {
 	Type  Type
 	Attrs []Attr
 	Data  any
+}
+
+// CharRows returns texts as the data of a Char variable of dimensions (len(texts),
+// width): each text in a row of width bytes, padded with NULs, and the width (the
+// longest text, at least 1).
+func CharRows(texts []string) ([]byte, int) {
+	w := 1
+	for _, t := range texts {
+		w = max(w, len(t))
+	}
+	b := make([]byte, w*len(texts))
+	for i, t := range texts {
+		copy(b[i*w:], t)
+	}
+	return b, w
 }
 
 // Dataset is a small netCDF file described whole, for WriteDataset.
@@ -279,8 +295,8 @@ func checkDataset(path string, ds *Dataset, streamed bool) error {
 			return bad(v.Name, "is defined twice")
 		}
 		seen[v.Name] = true
-		if !v.Type.classicOK() || v.Type == Char {
-			return bad(v.Name, "has type %s; expected byte, short, int, float or double (netCDF-4 classic model)", v.Type)
+		if !v.Type.classicOK() {
+			return bad(v.Name, "has type %s; expected byte, char, short, int, float or double (netCDF-4 classic model)", v.Type)
 		}
 		n := 1
 		for _, d := range v.Dims {
@@ -292,6 +308,12 @@ func checkDataset(path string, ds *Dataset, streamed bool) error {
 		}
 		if v.Data == nil && streamed {
 			continue // written later by DatasetWriter.Put
+		}
+		if v.Type == Char { // text: one byte a character, padded with NULs (CF §2.2)
+			if b, ok := v.Data.([]byte); !ok || len(b) != n {
+				return bad(v.Name, "is a char variable with data of Go type %T (%d values); expected []byte of %d characters", v.Data, typedLen(v.Data), n)
+			}
+			continue
 		}
 		if typedType(v.Data) == 0 || typedType(v.Data) == Char || typedType(v.Data) == String {
 			return bad(v.Name, "has data of Go type %T; expected a numeric slice", v.Data)
@@ -420,6 +442,9 @@ func defineDatasetIO(path string, ncid int, ds *Dataset) ([]int, []any, error) {
 }
 
 func datasetValues(v VarSpec, fill float64, hasFill bool) any {
+	if v.Type == Char {
+		return v.Data
+	}
 	if typedType(v.Data) == v.Type && !v.Type.Integer() && !hasFill {
 		return v.Data
 	}

@@ -213,17 +213,26 @@ func assembleEnsemble(output string, files []string, ms []ensembleMember, path, 
 		ds.Dims = append(ds.Dims, grid.DimSpec{Name: d.Name, Len: d.Len})
 	}
 	num := make([]int32, len(ms))
-	var sets []string
+	var sets, texts []string
 	for k, m := range ms {
 		num[k] = int32(k + 1)
 		sets = append(sets, m.name+": "+m.text)
+		texts = append(texts, m.text)
 	}
-	ds.Vars = append(ds.Vars, grid.VarSpec{Name: dimMember, Dims: []string{dimMember}, Type: grid.Int, Data: num, Attrs: []grid.Attr{
-		{Name: "long_name", Value: "ensemble member: one parameter set of the ensemble file"},
-		{Name: "member_names", Value: strings.Join(namesOf(ms), " ")},
-		{Name: "parameter_sets", Value: strings.Join(sets, "\n")},
-		{Name: "comment", Value: "member k (1-based) was processed with the physics options of the command line overridden by line k of parameter_sets; its full settings are in the global attributes warmrain_member_<k>_parameters"},
-	}})
+	names, nw := grid.CharRows(namesOf(ms))
+	params, pw := grid.CharRows(texts)
+	ds.Dims = append(ds.Dims, grid.DimSpec{Name: "member_name_length", Len: nw}, grid.DimSpec{Name: "member_parameters_length", Len: pw})
+	ds.Vars = append(ds.Vars,
+		grid.VarSpec{Name: dimMember, Dims: []string{dimMember}, Type: grid.Int, Data: num, Attrs: []grid.Attr{
+			{Name: "long_name", Value: "ensemble member: one parameter set of the ensemble file"},
+			{Name: "parameter_sets", Value: strings.Join(sets, "\n")},
+			{Name: "comment", Value: "member k (1-based) was processed with the physics options of the command line overridden by its member_parameters; its full settings are in the global attributes warmrain_member_<k>_parameters"},
+		}},
+		grid.VarSpec{Name: "member_name", Dims: []string{dimMember, "member_name_length"}, Type: grid.Char, Data: names, Attrs: []grid.Attr{
+			{Name: "long_name", Value: "name of the parameter set of the member"}}},
+		grid.VarSpec{Name: "member_parameters", Dims: []string{dimMember, "member_parameters_length"}, Type: grid.Char, Data: params, Attrs: []grid.Attr{
+			{Name: "long_name", Value: "physics options of the parameter set, as on the command line (over those of the command line)"}}},
+	)
 	var streamed []*grid.VarInfo
 	for i := range info.Vars {
 		v := &info.Vars[i]
@@ -231,6 +240,18 @@ func assembleEnsemble(output string, files []string, ms []ensembleMember, path, 
 		if perMember[v.Name] {
 			spec.Dims = append([]string{dimMember}, v.Dims...)
 			streamed = append(streamed, v)
+			// the member's name labels the values (CF §6.1 labels as auxiliary coordinates)
+			spec.Attrs = slices.Clone(v.Attrs)
+			coords := "member_name"
+			for i, a := range spec.Attrs {
+				if a.Name == "coordinates" {
+					t, _ := a.Text()
+					spec.Attrs = slices.Delete(spec.Attrs, i, i+1)
+					coords = strings.TrimSpace(t + " member_name")
+					break
+				}
+			}
+			spec.Attrs = append(spec.Attrs, grid.Attr{Name: "coordinates", Value: coords})
 		} else {
 			data, _, err := readers[0].Read(v.Name, nil, nil)
 			if err != nil {

@@ -44,7 +44,10 @@ func TestEnsembleMembersEqualSingleRuns(t *testing.T) {
 	script := `
 import sys, numpy as np, netCDF4
 ens = netCDF4.Dataset(sys.argv[1]); ens.set_auto_maskandscale(False)
-names = ens["member"].member_names.split()
+names = [str(x) for x in netCDF4.chartostring(ens["member_name"][:])]
+texts = [str(x) for x in netCDF4.chartostring(ens["member_parameters"][:])]
+assert texts == ["", "--onset-radius 12", "--onset-radius 16 --adiabatic-fraction 0.7"], texts
+assert "member_name" in ens["drizzle_probability"].coordinates.split()
 assert names == ["base", "early", "late"], names
 bad = []
 for k, path in enumerate(sys.argv[2:]):
