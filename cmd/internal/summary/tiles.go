@@ -328,3 +328,78 @@ func percentileInterval(v []float64, level float64) (lo, hi float64) {
 	a := (1 - level) / 2
 	return quantile(v, a), quantile(v, 1-a)
 }
+
+// State is everything an Accumulator has gathered, in flat exported slices, for
+// writing partial summaries to a file and merging them later (FromState, Merge). Bins
+// are row-major over (LWP bin, N_d bin); Boot is replicate-major (Bootstrap × bins × 5:
+// Σw n, Σw POP, Σw n_rate, Σw rate, Σw POP over the rate columns); Flux holds
+// (n, Σ R_sfc, Σ R_CB) for all LWP, then per LWP bin, then per cloud-base height bin.
+type State struct {
+	Options Options
+	Counts  Counts
+	// per bin, 20 values: n, mean POP, M2 POP, n rate, mean rate, M2 rate, Σ POP over the
+	// rate columns, tiles, then (T, W, mu, M2) of the POP and of the rate tile moments,
+	// then n and Σ of the POP and of the rate retrieval errors.
+	Bins                                           []float64
+	Boot                                           []float64
+	Flux                                           []float64
+	HaveSurface, HaveBase, HaveErrPOP, HaveErrRate bool
+	TileSide, Tiles                                int
+	Adds                                           uint64
+}
+
+// binWidth is the number of State.Bins values per bin.
+const binWidth = 20
+
+// State returns a copy of what a has gathered.
+func (a *Accumulator) State() State {
+	s := State{Options: a.opt, Counts: a.counts, HaveSurface: a.haveSurf, HaveBase: a.haveBase,
+		HaveErrPOP: a.havePOPErr, HaveErrRate: a.haveRateErr, TileSide: a.tileSide, Tiles: a.tiles, Adds: a.adds}
+	for _, b := range a.bins {
+		s.Bins = append(s.Bins, float64(b.n), b.meanP, b.m2P, float64(b.nR), b.meanR, b.m2R, b.sumPR, float64(b.tiles),
+			float64(b.clP.T), b.clP.W, b.clP.mu, b.clP.M2, float64(b.clR.T), b.clR.W, b.clR.mu, b.clR.M2,
+			float64(b.nEP), b.sEP, float64(b.nER), b.sER)
+	}
+	for _, b := range a.boot {
+		s.Boot = append(s.Boot, b.w, b.wp, b.wR, b.wr, b.wpr)
+	}
+	for _, f := range append(append([]fluxSum{a.surfA}, a.surf...), a.surfZ...) {
+		s.Flux = append(s.Flux, float64(f.n), f.sfc, f.cb)
+	}
+	return s
+}
+
+// FromState returns an Accumulator holding s, which later Add and Merge calls extend.
+// It returns an error when the lengths do not fit s.Options.
+func FromState(s State) (*Accumulator, error) {
+	a, err := New(s.Options)
+	if err != nil {
+		return nil, err
+	}
+	nb := len(a.bins)
+	if len(s.Bins) != nb*binWidth || len(s.Boot) != len(a.boot)*5 || len(s.Flux) != 3*(1+len(a.surf)+len(a.surfZ)) {
+		return nil, fmt.Errorf("summary: FromState: %d bin, %d bootstrap and %d flux values; the options need %d, %d and %d",
+			len(s.Bins), len(s.Boot), len(s.Flux), nb*binWidth, len(a.boot)*5, 3*(1+len(a.surf)+len(a.surfZ)))
+	}
+	for k := range a.bins {
+		v := s.Bins[k*binWidth : (k+1)*binWidth]
+		a.bins[k] = binStats{n: int(v[0]), meanP: v[1], m2P: v[2], nR: int(v[3]), meanR: v[4], m2R: v[5], sumPR: v[6], tiles: int(v[7]),
+			clP: clusterMoments{T: int(v[8]), W: v[9], mu: v[10], M2: v[11]}, clR: clusterMoments{T: int(v[12]), W: v[13], mu: v[14], M2: v[15]},
+			nEP: int(v[16]), sEP: v[17], nER: int(v[18]), sER: v[19]}
+	}
+	for k := range a.boot {
+		v := s.Boot[k*5 : (k+1)*5]
+		a.boot[k] = bootBin{w: v[0], wp: v[1], wR: v[2], wr: v[3], wpr: v[4]}
+	}
+	flux := func(i int) fluxSum { return fluxSum{n: int(s.Flux[3*i]), sfc: s.Flux[3*i+1], cb: s.Flux[3*i+2]} }
+	a.surfA = flux(0)
+	for i := range a.surf {
+		a.surf[i] = flux(1 + i)
+	}
+	for i := range a.surfZ {
+		a.surfZ[i] = flux(1 + len(a.surf) + i)
+	}
+	a.counts, a.haveSurf, a.haveBase, a.havePOPErr, a.haveRateErr = s.Counts, s.HaveSurface, s.HaveBase, s.HaveErrPOP, s.HaveErrRate
+	a.tileSide, a.tiles, a.adds = s.TileSide, s.Tiles, s.Adds
+	return a, nil
+}

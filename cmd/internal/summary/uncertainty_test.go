@@ -341,6 +341,25 @@ func TestMergeEqualsOnePass(t *testing.T) {
 	if r1.Counts != r2.Counts || r1.Tiles != r2.Tiles {
 		t.Errorf("counts %+v tiles %d vs %+v tiles %d", r1.Counts, r1.Tiles, r2.Counts, r2.Tiles)
 	}
+	// Through State and FromState (a partial summary written and read back) the merge
+	// is the same.
+	pa, _ := New(opt)
+	if err := pa.Add(s1, c1); err != nil {
+		t.Fatal(err)
+	}
+	back, err := FromState(pa.State())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := back.Merge(b); err != nil {
+		t.Fatal(err)
+	}
+	if r3 := back.Result(); r3.SPOP[0] != r2.SPOP[0] || r3.Counts != r2.Counts || r3.Joint.TileSEPOP[3] != r2.Joint.TileSEPOP[3] {
+		t.Errorf("through State: S_POP %+v, want %+v", r3.SPOP[0], r2.SPOP[0])
+	}
+	if _, err := FromState(State{Options: opt, Bins: []float64{1}}); err == nil {
+		t.Error("FromState accepted a state of the wrong length")
+	}
 	bad := opt
 	bad.Seed = 10
 	c, _ := New(bad)
