@@ -155,12 +155,14 @@ type Accumulator struct {
 
 	havePOPErr, haveRateErr bool // some scene had retrieval errors of POP, of the rate
 
-	boot     []bootBin // Bootstrap * nbins, replicate-major
-	cdf      []float64 // Poisson(1) cumulative probabilities
-	tl       *tiler    // the row of tiles being gathered
-	tileSide int       // side of the tiles used (-1: varied between scenes)
-	tiles    int       // tiles folded in
-	adds     uint64    // calls of Add (the key of scenes without one)
+	boot     []bootBin  // Bootstrap * nbins, replicate-major
+	cdf      []float64  // Poisson(1) cumulative probabilities
+	tl       *tiler     // the row of tiles being gathered
+	tileSide int        // side of the tiles used (-1: varied between scenes)
+	tiles    int        // tiles folded in
+	adds     uint64     // calls of Add (the key of scenes without one)
+	pcg      *rand.PCG  // reseeded for every tile
+	rng      *rand.Rand // reads pcg
 }
 
 type bootBin struct {
@@ -263,13 +265,25 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 		if !timeSelected(s, a.opt.Window, t) {
 			continue
 		}
+		// (x, y) of cell k, its tile column tx, and the positions within the tile
+		x, y, tx, xr, yr := -1, 0, 0, -1, 0
 		for k := 0; k < cells; k++ {
-			y, x := k/s.NX, k%s.NX
+			x++
+			xr++
 			switch {
-			case oneRow && x > 0 && x%side == 0:
-				a.flushTile(tl, key, t, 0, x/side-1, 0)
-			case !oneRow && x == 0 && y > 0 && y%side == 0:
-				a.flushRow(tl, key, t, y/side-1)
+			case x == s.NX: // next row (never in a scene of one row)
+				x, xr, tx = 0, 0, 0
+				y++
+				if yr++; yr == side {
+					a.flushRow(tl, key, t, y/side-1)
+					yr = 0
+				}
+			case xr == side:
+				xr = 0
+				tx++
+				if oneRow {
+					a.flushTile(tl, key, t, 0, tx-1, 0)
+				}
 			}
 			if !in[k] {
 				continue
@@ -341,7 +355,7 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 			if oneRow {
 				tl.put(0, b, pop, rate, rateOK)
 			} else {
-				tl.put(x/side, b, pop, rate, rateOK)
+				tl.put(tx, b, pop, rate, rateOK)
 			}
 		}
 		if oneRow {

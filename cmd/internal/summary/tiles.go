@@ -177,9 +177,13 @@ func (a *Accumulator) flushTile(t *tiler, key uint64, step, ty, tx, slot int) {
 	}
 	a.tiles++
 	if a.opt.Bootstrap > 0 {
-		rng := rand.New(rand.NewPCG(a.opt.Seed, tileKey(key, step, ty, tx)))
+		if a.pcg == nil {
+			a.pcg = rand.NewPCG(0, 0)
+			a.rng = rand.New(a.pcg)
+		}
+		a.pcg.Seed(a.opt.Seed, tileKey(key, step, ty, tx)) // the tile's own stream
 		for r := range t.w {
-			t.w[r] = a.poisson1(rng)
+			t.w[r] = a.poisson1(a.rng)
 		}
 	}
 	for _, b32 := range t.touched[slot] {
