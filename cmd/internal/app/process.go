@@ -53,9 +53,15 @@ process, so a crash in the C libraries fails that file alone. Batch runs write
 a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 progress is removed, what completed is recorded, the exit code is 1.
 
+--ensemble SETS processes one input once per parameter set of the text file SETS
+(one set a line: NAME: --option VALUE ..., physics options as on the command line,
+over those given on it; # starts a comment) and writes every diagnostic with a
+leading dimension member, each member equal to the single run with its options.
+
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
   warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 `
 
 type processOptions struct {
