@@ -84,6 +84,11 @@ func TestTileIntervalsCoverTruth(t *testing.T) {
 	rng := rand.New(rand.NewPCG(11, 12))
 	var covTile, covIID, covReg int
 	var wTile, wIID float64
+	// one bin mean across the independent scenes: its spread, and the mean of its
+	// tile and i.i.d. standard errors
+	var means []float64
+	var seTile2, seIID2 float64
+	const probe = 4 // N_d bin 56-100 cm-3
 	for k := 0; k < trials; k++ {
 		sc, c := correlatedScene(rng, 3, 80, 80, 2, truth, 1.0)
 		run := func(tile int) Slope {
@@ -96,7 +101,13 @@ func TestTileIntervalsCoverTruth(t *testing.T) {
 			if err := a.Add(sc, c); err != nil {
 				t.Fatal(err)
 			}
-			return a.Result().SPOP[0]
+			r := a.Result()
+			if tile == 0 {
+				means = append(means, r.Joint.MeanPOP[probe])
+				seTile2 += r.Joint.TileSEPOP[probe] * r.Joint.TileSEPOP[probe]
+				seIID2 += r.Joint.SEPOP[probe] * r.Joint.SEPOP[probe]
+			}
+			return r.SPOP[0]
 		}
 		tl, iid := run(0), run(1) // 0: automatic side, TileSide(80, 80) = 9 cells
 		if math.IsNaN(tl.CILow) || math.IsNaN(iid.CILow) {
@@ -113,6 +124,19 @@ func TestTileIntervalsCoverTruth(t *testing.T) {
 		}
 		wTile += tl.CIHigh - tl.CILow
 		wIID += iid.CIHigh - iid.CILow
+	}
+	// The tile standard error of a bin mean matches the spread of that mean over
+	// independent scenes; s/sqrt(n) does not. 80 scenes give the spread within about
+	// 8 % (1/sqrt(2·79), common practice); the bounds allow for the tile error's own
+	// small bias with a few hundred tiles.
+	sdMean := sd(means)
+	qt, qi := math.Sqrt(seTile2/trials)/sdMean, math.Sqrt(seIID2/trials)/sdMean
+	t.Logf("bin mean POP over %d scenes: sd %.5f; rms tile SE / sd = %.3f, rms i.i.d. SE / sd = %.3f", trials, sdMean, qt, qi)
+	if qt < 0.75 || qt > 1.3 {
+		t.Errorf("tile standard error of the bin mean is %.3f of its spread over independent scenes, want about 1", qt)
+	}
+	if qi > 0.7 {
+		t.Errorf("i.i.d. standard error is %.3f of the spread: the fields are not correlated enough for this test", qi)
 	}
 	ct, ci := float64(covTile)/trials, float64(covIID)/trials
 	t.Logf("coverage of 95%% intervals over %d scenes: tile %.3f, column (i.i.d.) %.3f, regression ±1.96 SE %.3f; mean width tile %.4f, i.i.d. %.4f",
