@@ -23,7 +23,7 @@ func TestEnsembleMembersEqualSingleRuns(t *testing.T) {
 		t.Fatal(err)
 	}
 	ens := filepath.Join(dir, "ens.nc")
-	common := []string{"--outputs", "droplet_number,drizzle_probability,cloud_base_drizzle_rate", "--gamma-shape", "3"}
+	common := []string{"--outputs", "liquid_water_path,droplet_number,drizzle_probability,cloud_base_drizzle_rate", "--gamma-shape", "3"}
 	if code, _, stderr := runCmd(append([]string{"process", sampleFile, "-o", ens, "--ensemble", sets}, common...)...); code != 0 {
 		t.Fatalf("ensemble: exit %d\n%s", code, stderr)
 	}
@@ -52,7 +52,7 @@ assert names == ["base", "early", "late"], names
 bad = []
 for k, path in enumerate(sys.argv[2:]):
     one = netCDF4.Dataset(path); one.set_auto_maskandscale(False)
-    for v in ["droplet_number", "drizzle_probability", "cloud_base_drizzle_rate", "warm_rain_qc"]:
+    for v in ["liquid_water_path", "droplet_number", "drizzle_probability", "cloud_base_drizzle_rate", "warm_rain_qc"]:
         a, b = ens[v][k], one[v][:]
         if ens[v].dimensions[0] != "member" or a.dtype != b.dtype or a.tobytes() != b.tobytes():
             bad.append("%s member %s" % (v, names[k]))
@@ -69,6 +69,10 @@ print(";".join(bad) or "ok")
 		t.Fatalf("members differ from the single runs: %v\n%s", err, out)
 	}
 	lintSummary(t, ens)
+	// The summary pools the members and says so.
+	if code, _, stderr := runCmd("summary", ens); code != 0 || !strings.Contains(stderr, "3 ensemble members") {
+		t.Errorf("summary of the ensemble: exit %d, want a note on the pooled members:\n%s", code, stderr)
+	}
 
 	// Resume: the same command skips; an edited ensemble file is other parameters.
 	code, _, stderr := runCmd(append([]string{"process", sampleFile, "-o", ens, "--ensemble", sets}, common...)...)

@@ -400,6 +400,13 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			}
 		}
 	}
+	if a, ok := p.Info.Global("warmrain_ensemble_members"); ok && !st.mixed {
+		// An ensemble of parameter sets (process --ensemble): its members are pooled
+		// like time steps, which mixes the parameter settings.
+		n, _ := a.Text()
+		st.mixed = true
+		fmt.Fprintf(e.stderr, "warmrain summary: %s holds %s ensemble members processed with different parameters; the summary pools them (summarise the single runs of one parameter set to compare members)\n", path, n)
+	}
 	popErr, rateErr := standardError(p, popVarName), standardError(p, p.Rate)
 	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base, popErr, rateErr}, st.mapNames...)
 	fileKey := sceneKey(path)
