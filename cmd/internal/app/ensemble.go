@@ -171,7 +171,7 @@ func (j *processJob) runEnsemble(ctx context.Context, input, output, path string
 			fmt.Fprintf(j.e.stderr, "warmrain: member %d/%d %s: %d columns, %.1f %% screened\n", k+1, len(ms), m.name, r.Columns, 100*r.ScreenedFraction)
 		}
 	}
-	if err := assembleEnsemble(output, files, ms, path, fileDigest, j.digest, force, j.args); err != nil {
+	if err := assembleEnsemble(ctx, output, files, ms, path, fileDigest, j.digest, force, j.args); err != nil {
 		return err
 	}
 	if !j.o.quiet {
@@ -186,7 +186,7 @@ const ensemblePiece = 4 << 20
 // assembleEnsemble writes output from the member files: the diagnostics and the QC
 // flags gain the leading dimension member; every other variable (coordinates, copied
 // inputs) is the first member's. Memory: one piece of one variable at a time.
-func assembleEnsemble(output string, files []string, ms []ensembleMember, path, fileDigest, digest string, force bool, args []string) error {
+func assembleEnsemble(ctx context.Context, output string, files []string, ms []ensembleMember, path, fileDigest, digest string, force bool, args []string) error {
 	readers := make([]*grid.Reader, len(files))
 	defer func() {
 		for _, r := range readers {
@@ -314,6 +314,10 @@ func assembleEnsemble(output string, files []string, ms []ensembleMember, path, 
 				outer = v.Shape[0]
 			}
 			for lo := 0; lo < outer; lo += step {
+				if ctx.Err() != nil {
+					w.Abort()
+					return fmt.Errorf("interrupted while writing %s; no output written", output)
+				}
 				start := make([]int, len(v.Shape))
 				count := slices.Clone(v.Shape)
 				if len(v.Shape) > 0 {
