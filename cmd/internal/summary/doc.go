@@ -76,7 +76,8 @@
 // (doc/science.md#summary-uncertainty): each bin mean has, besides s/sqrt(n), a tile
 // (cluster) standard error and an effective sample size; the optional bootstrap
 // (Options.Bootstrap replicates) gives every tile a Poisson(1) weight per replicate (the
-// block bootstrap of Künsch 1989 and Lahiri 2003 in streaming form [from memory]), refits
+// block bootstrap over non-overlapping blocks of Carlstein 1986 and Künsch 1989, spatial
+// as in Lahiri 2003, in streaming form [from memory]), refits
 // each replicate with the same rules, and reports the replicate standard deviation and
 // the percentile interval at Options.CILevel. The weights follow from (Seed, Scene.Key,
 // tile), so the result does not depend on the order of the scenes and Merge combines

@@ -134,7 +134,7 @@ func (r *Result) Variables() []Var {
 			for i, x := range s.sl {
 				lo[i], hi[i] = x.CILow, x.CIHigh
 			}
-			boot := fmt.Sprintf("tile bootstrap: contiguous tiles of %s resampled with Poisson(1) weights, %d replicates, seed %d (block bootstrap of Künsch 1989; Lahiri 2003 for spatial blocks); replicates with a defined slope in %s_bootstrap_count",
+			boot := fmt.Sprintf("tile bootstrap: contiguous tiles of %s resampled with Poisson(1) weights, %d replicates, seed %d (block bootstrap over non-overlapping blocks, Carlstein 1986 and Künsch 1989; Lahiri 2003 for spatial blocks); replicates with a defined slope in %s_bootstrap_count",
 				tileText(r), r.Options.Bootstrap, r.Options.Seed, s.name)
 			ci := fmt.Sprintf("%s; percentile interval (Efron), missing with fewer than %d replicates or a slope defined in fewer than 90%% of them", boot, minCIReplicates)
 			vs = append(vs, Var{Name: s.name + "_bootstrap_standard_error", Dims: one, Units: "1",
