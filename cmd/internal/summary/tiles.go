@@ -78,7 +78,8 @@ func (c clusterMoments) se(xbar, N float64) float64 {
 // number of dimensions with more than one cell (at least 1), so ℓ ≈ sqrt(side) for a
 // square scene and ℓ ≈ N^(1/3) for a row: the order of the block length that minimises
 // the error of block-bootstrap variance estimates for a d-dimensional field (Hall,
-// Horowitz & Jing 1995 for d = 1; Lahiri 2003 ch. 12 for spatial blocks [from memory]).
+// Horowitz & Jing 1995 for d = 1; Nordman, Lahiri & Fridley 2007 and Lahiri 2003 ch. 12
+// for spatial blocks; the exponent from memory).
 // The rule fixes the order, not the constant: tiles should also be at least the
 // decorrelation length of the scene, which Options.Tile sets when it is known.
 func TileSide(ny, nx int) int {
