@@ -679,7 +679,7 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 		attr("comment", summaryCaution+" Statistics are in SI units (LWP kg m-2, N_d m-3, rates kg m-2 s-1 = mm s-1 of liquid water)."),
 		attr("history", hist),
 		attr("source", "warmrain "+Version()+" (libnetcdf "+grid.LibraryVersion()+")"),
-		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap)"),
+		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap weights); Carlstein (1986), Künsch (1989), Lahiri (2003) (block bootstrap over tiles); Cochran (1977) (tile standard errors of ratio means)"),
 		attr("standard_name_vocabulary", "CF Standard Name Table v83"),
 		attr("date_created", time.Now().UTC().Format(time.RFC3339)),
 		attr("warmrain_summary_inputs", strings.Join(inputs, "\n")),
