@@ -440,8 +440,9 @@ Data go to stdout or files; messages go to stderr.
 	Builds the sample scenario (a synthetic subtropical marine stratocumulus
 	region over three days: a closed-cell deck, a drizzling pocket of open cells
 	and a narrow line of polluted cloud; invented data, for the demo only),
-	processes it with the default parameters, summarises it, draws quick-look
-	maps and curves, and prints where the results are.
+	processes it with the default parameters, summarises it (with 200 tile-bootstrap
+	replicates, so the susceptibilities get 95% intervals), draws quick-look maps and
+	curves, and prints where the results are.
 
 	Example:
 	  warmrain demo --dir demo-output
