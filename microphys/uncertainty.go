@@ -31,6 +31,15 @@ type InputErrors struct {
 // Valid: always.
 func (e *InputErrors) Any() bool { return e.LWP > 0 || e.Re > 0 || e.Tau > 0 }
 
+// Scratch is the working space of RetrievalError and ParameterSpread: the perturbed
+// columns' inputs and outputs, which the output declarations' Get functions take by pointer
+// (so they live on the heap). Keep one per goroutine; the zero value is ready, nil makes
+// the call allocate its own.
+type Scratch struct {
+	in  [2]Inputs
+	out [2]Outputs
+}
+
 // uncStep is the step in ln x of the central differences of Model.RetrievalError:
 // truncation error (p h)^2/6 of a power law x^p (1.5e-4 for p = 3, derived), and a table
 // interpolant's discontinuity delta at a cell boundary enters as delta/(2h)
@@ -111,12 +120,16 @@ func (m *Model) evalRaw(raw *RawColumn, done *Inputs, o *Outputs) bool {
 // not at the column (a regime boundary within the step), the band y ± 2 sigma leaves the
 // output's valid range (POP near 0 or 1, an error above half the value), or the
 // second-order term exceeds uncCurvature of sigma. se[k] is NaN where out's value is NaN
-// or the column is screened. It panics if len(se) < len(OutputDecls).
+// or the column is screened; w is the working space (see Scratch). It panics if
+// len(se) < len(OutputDecls).
 //
 // Reference: first-order (delta-method) propagation of independent or correlated errors
 // [Taylor1997] ch. 3 and 9; closed forms [Brenguier2000]; doc/science.md#uncertainty.
 // Valid: any column; errors of absent inputs are ignored.
-func (m *Model) RetrievalError(raw *RawColumn, done *Inputs, qin uint32, out *Outputs, e *InputErrors, se []float64) (nonlinear uint32) {
+func (m *Model) RetrievalError(raw *RawColumn, done *Inputs, qin uint32, out *Outputs, e *InputErrors, se []float64, w *Scratch) (nonlinear uint32) {
+	if w == nil {
+		w = new(Scratch)
+	}
 	n := len(OutputDecls)
 	if len(se) < n {
 		panic("microphys: RetrievalError: se shorter than OutputDecls")
@@ -164,13 +177,12 @@ func (m *Model) RetrievalError(raw *RawColumn, done *Inputs, qin uint32, out *Ou
 			case 2:
 				r.In.Tau *= f
 			}
-			var pd Inputs
-			var po Outputs
-			ok := m.evalRaw(&r, &pd, &po)
+			pd, po := &w.in[0], &w.out[0]
+			ok := m.evalRaw(&r, pd, po)
 			for k := range n {
 				dst[k] = nan
 				if ok {
-					dst[k] = uncValue(k, &pd, &po)
+					dst[k] = uncValue(k, pd, po)
 				}
 			}
 		}
@@ -374,13 +386,17 @@ func (s *SpreadModels) Parameters() []string {
 // the clipped interval), the parameters' errors taken as independent. Where one side is
 // missing the one-sided difference (y(p_j±) - y(p_j)) Spread_j/|p_j± - p_j| is used; where
 // both are, sp[k] is NaN. parts, when not nil, receives part j of output k at
-// parts[j*len(OutputDecls)+k] (len(OutputDecls) × len(Parameters())). It panics if
+// parts[j*len(OutputDecls)+k] (len(OutputDecls) × len(Parameters())); w is the working
+// space (see Scratch). It panics if
 // len(sp) < len(OutputDecls).
 //
 // Reference: one-at-a-time sensitivity (common practice), first order, independent
 // parameters [Taylor1997] ch. 3; doc/science.md#parameter-spread.
 // Valid: any column; screened columns get NaN.
-func (s *SpreadModels) ParameterSpread(raw *RawColumn, done *Inputs, out *Outputs, sp, parts []float64) {
+func (s *SpreadModels) ParameterSpread(raw *RawColumn, done *Inputs, out *Outputs, sp, parts []float64, w *Scratch) {
+	if w == nil {
+		w = new(Scratch)
+	}
 	n := len(OutputDecls)
 	if len(sp) < n || (parts != nil && len(parts) < n*len(s.rows)) {
 		panic("microphys: ParameterSpread: sp or parts shorter than needed")
@@ -399,20 +415,19 @@ func (s *SpreadModels) ParameterSpread(raw *RawColumn, done *Inputs, out *Output
 		d := &ParamDecls[r.decl]
 		p0 := d.FromSI(d.Get(&s.base.p))
 		pp, pm := d.FromSI(d.Get(&r.plus.p)), d.FromSI(d.Get(&r.minus.p))
-		var ip, im Inputs
-		var op, om Outputs
-		okp := r.plus.evalRaw(raw, &ip, &op)
-		okm := r.minus.evalRaw(raw, &im, &om)
+		ip, im, op, om := &w.in[0], &w.in[1], &w.out[0], &w.out[1]
+		okp := r.plus.evalRaw(raw, ip, op)
+		okm := r.minus.evalRaw(raw, im, om)
 		for k := range n {
 			if math.IsNaN(sp[k]) {
 				continue
 			}
 			a, b := nan, nan
 			if okp {
-				a = uncValue(k, &ip, &op)
+				a = uncValue(k, ip, op)
 			}
 			if okm {
-				b = uncValue(k, &im, &om)
+				b = uncValue(k, im, om)
 			}
 			var t float64
 			switch {

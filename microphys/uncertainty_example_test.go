@@ -20,7 +20,7 @@ func ExampleModel_RetrievalError() {
 	m.Column(&done, &out)
 	e := microphys.InputErrors{LWP: 0.01, Re: 1.2e-6} // 10 % each, independent
 	se := make([]float64, len(microphys.OutputDecls))
-	m.RetrievalError(&raw, &done, qin, &out, &e, se)
+	m.RetrievalError(&raw, &done, qin, &out, &e, se, nil)
 	k := 1 // droplet_number
 	fmt.Printf("%s = %.1f ± %.1f cm-3 (%.1f %%)\n", microphys.OutputDecls[k].Name, out.Nd*1e-6, se[k]*1e-6, 100*se[k]/out.Nd)
 	// Output:
@@ -67,7 +67,7 @@ func ExampleSpreadModels_ParameterSpread() {
 	var out microphys.Outputs
 	m.Column(&done, &out)
 	sp := make([]float64, len(microphys.OutputDecls))
-	s.ParameterSpread(&raw, &done, &out, sp, nil)
+	s.ParameterSpread(&raw, &done, &out, sp, nil, nil)
 	fmt.Printf("droplet_number = %.1f ± %.1f cm-3 (parameters)\n", out.Nd*1e-6, sp[1]*1e-6)
 	// Output:
 	// droplet_number = 113.5 ± 16.9 cm-3 (parameters)
