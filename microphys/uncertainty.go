@@ -54,7 +54,7 @@ var uncAnalytic = true
 const uncMaxOut = 32
 
 // uncCurvature is the largest ratio of the second-order term to the first-order standard
-// error, sum over inputs of |y”| s^2/2 / sigma, at which the first-order value is taken
+// error, sum over inputs of |d2y/dln x^2| s^2/2 / sigma, at which the first-order value is taken
 // as representative (doc/science.md#uncertainty; common practice: the second-order term
 // of the Taylor series below a quarter of the first).
 const uncCurvature = 0.25
