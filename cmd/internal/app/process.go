@@ -400,6 +400,10 @@ type processJob struct {
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
+	// spread holds the perturbed models of --parameter-uncertainty, built on first use.
+	spread     *microphys.SpreadModels
+	spreadErr  error
+	spreadOnce sync.Once
 }
 
 func (j *processJob) inputs() *inputFlags {
@@ -578,7 +582,12 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if err != nil {
 		return finish("failed", err)
 	}
-	vars := gridVars(j.defs, "", j.o.pack)
+	plan, err := j.uncertaintyPlan(in)
+	if err != nil {
+		in.Close()
+		return finish("failed", err)
+	}
+	vars := plan.vars(j.defs, gridVars(j.defs, "", j.o.pack))
 	if sb, err := j.memoryPlan(in, vars); err != nil {
 		in.Close()
 		return finish("failed", err)
@@ -625,7 +634,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if len(j.inputs().masks) > 0 {
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
 	}
-	vars = gridVars(j.defs, strings.Join(used, " "), j.o.pack)
+	vars = plan.vars(j.defs, gridVars(j.defs, strings.Join(used, " "), j.o.pack))
 	if len(assumed) > 0 { // a constant assumption is stated in every output's comment
 		for k := range vars {
 			vars[k].Comment = appendSentences(vars[k].Comment, assumed)
@@ -658,7 +667,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if j.o.stats {
 		popt.Stats = &stats
 	}
-	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts))
+	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan))
 	if j.o.stats {
 		busy := stats.Read + stats.Write
 		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s on %d workers; waited for input %.2f s\n",
@@ -746,7 +755,7 @@ func (j *processJob) workers() int {
 // slices, the product's masks and flag codes, the input completion
 // (microphys.Model.Complete) and one microphys.Model.Column call per column,
 // outputs scaled to the file units. It allocates nothing per column.
-func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally) grid.ComputeFunc {
+func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
@@ -785,6 +794,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 		}
 		qc := outs[len(defs)]
+		uw := plan.slab()
+		var raw microphys.RawColumn
+		var errIn [3]float64
 		for k, d := range defs {
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
@@ -812,6 +824,12 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
 				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
+			if uw != nil {
+				raw = microphys.RawColumn{In: in, Nd: at(iNd, i), CF: at(iCF, i), GridMean: gridMean}
+				for k, r := range errorRoles {
+					errIn[k] = at(r.Index(), i)
+				}
+			}
 			if qin == 0 {
 				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
 			}
@@ -824,6 +842,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				}
 				qc[i] = float64(qin)
 				n++
+				if uw != nil {
+					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, true)
+				}
 				continue
 			}
 			m.Column(&in, &o)
@@ -841,6 +862,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			qc[i] = float64(uint32(o.QC) | qin)
 			if o.QC&microphys.QCScreenMask != 0 {
 				n++
+			}
+			if uw != nil {
+				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, o.QC&microphys.QCScreenMask != 0)
 			}
 		}
 		screened.Add(n)
