@@ -261,7 +261,14 @@ func ParseOverride(s string) (Override, error) {
 		return Override{}, fmt.Errorf("%w: %q: role %s holds flag codes, which have no units", ErrOverride, s, r)
 	}
 	if units != "" {
-		if _, err := NewConverter(units, CanonicalUnits(r)); err != nil {
+		to := CanonicalUnits(r)
+		if r.Rule().ErrorOf != "" && (isPercent(units) || units == "1" || units == "fraction") {
+			units, to = strings.Replace(units, "fraction", "1", 1), "1" // a relative standard error
+			if isPercent(units) {
+				units = "percent"
+			}
+		}
+		if _, err := NewConverter(units, to); err != nil {
 			return Override{}, fmt.Errorf("override %q: %w", s, err)
 		}
 	}
