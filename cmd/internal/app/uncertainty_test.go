@@ -1,6 +1,7 @@
 package app
 
 import (
+	"encoding/json"
 	"math"
 	"os"
 	"os/exec"
@@ -198,5 +199,41 @@ data:
 		if want := nd[i] * math.Sqrt(a*a+b*b); math.Abs(sp[i]-want) > 1e-5*want {
 			t.Errorf("column %d: N_d spread %g, want %g", i, sp[i], want)
 		}
+	}
+}
+
+// TestColumnUncertainty: column prints value ± retrieval error (± parameter spread) and
+// gives both in JSON; the N_d error is the closed form sqrt((s_L/2)^2 + (3 s_r)^2)
+// (derived, doc/science.md#uncertainty); without errors nothing is added.
+func TestColumnUncertainty(t *testing.T) {
+	code, stdout, stderr := runProc(t, "column", "--lwp", "120", "--re", "12", "--lwp-se", "12", "--re-se", "5%", "--no-collector", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var r struct {
+		Diagnostics     map[string]float64 `json:"diagnostics"`
+		StandardErrors  map[string]float64 `json:"standard_errors"`
+		ParameterSpread map[string]float64 `json:"parameter_spread"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &r); err != nil {
+		t.Fatal(err)
+	}
+	want := r.Diagnostics["droplet_number"] * math.Sqrt(0.05*0.05+9*0.05*0.05)
+	if got := r.StandardErrors["droplet_number"]; math.Abs(got-want) > 1e-6*want {
+		t.Errorf("sigma_N %g, closed form %g", got, want)
+	}
+	if r.ParameterSpread != nil {
+		t.Errorf("parameter spread without --parameter-uncertainty")
+	}
+	code, stdout, _ = runProc(t, "column", "--lwp", "120", "--re", "12", "--re-se", "0.6", "--parameter-uncertainty", "--no-collector")
+	if code != 0 || !strings.Contains(stdout, "value ± retrieval error ± parameter spread") || !strings.Contains(stdout, "(par.)") {
+		t.Errorf("text output:\n%s", stdout)
+	}
+	code, stdout, _ = runProc(t, "column", "--lwp", "120", "--re", "12", "--no-collector", "--json")
+	if code != 0 || strings.Contains(stdout, "standard_errors") || strings.Contains(stdout, "parameter_spread") {
+		t.Errorf("uncertainty keys without errors:\n%s", stdout)
+	}
+	if code, _, stderr := runProc(t, "column", "--lwp", "120", "--re", "12", "--re-se", "ten"); code == 0 || !strings.Contains(stderr, "--re-se") {
+		t.Errorf("bad --re-se: exit %d %q", code, stderr)
 	}
 }
