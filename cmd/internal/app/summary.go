@@ -404,6 +404,9 @@ func (p *procFile) bind() error {
 		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.dims) || slices.Contains(coords, v.Name) {
 			continue
 		}
+		if !mappedUncertainty(v.Name) {
+			continue
+		}
 		vi, err := p.siVar(&v)
 		if err != nil {
 			return err
@@ -1226,8 +1229,23 @@ func titleChars(g summary.Scene, w, h int) int {
 	return max(24, int(mapW/7.5))
 }
 
-// mapStyle sets the colour scale and units of a diagnostic's picture.
+// mappedUncertainty reports whether a variable is mapped as far as its uncertainty goes:
+// of the uncertainty outputs (uncertainty.go) only the retrieval errors of N_d and of the
+// cloud-base drizzle rate get maps; every other variable is decided by its type and grid.
+func mappedUncertainty(name string) bool {
+	if strings.HasSuffix(name, spreadSuffix) {
+		return false
+	}
+	if base, ok := strings.CutSuffix(name, seSuffix); ok {
+		return base == ndVarName || base == rateVarName
+	}
+	return true
+}
+
+// mapStyle sets the colour scale and units of a diagnostic's picture (a standard error's as
+// its diagnostic's).
 func mapStyle(name, siUnit string, o *plots.MapOptions) {
+	name = strings.TrimSuffix(name, seSuffix)
 	switch name {
 	case popVarName:
 		o.Min, o.Max = 0, 1

@@ -84,7 +84,7 @@ func (u *uncPlan) vars(defs []outputDef, vars []grid.OutputVar) []grid.OutputVar
 			}
 			extra = append(extra, grid.OutputVar{
 				Name: d.name + seSuffix, StandardName: sn, Units: d.units, Type: grid.Float32, Fill: -999,
-				LongName: "standard error of " + d.name + " from the retrieval errors of the inputs (first order)",
+				LongName: "retrieval standard error (first order) of the " + lowerFirst(d.title),
 				ValidMin: 0, ValidMax: d.validMax - d.validMin, AncillaryVariables: uncFlagName, CellMethods: "time: point",
 				Comment: "first-order propagation of the inputs' standard errors " + u.what + fmt.Sprintf(" with LWP-r_e error correlation %g", u.corr) +
 					" (doc/science.md#uncertainty in the warmrain sources); where " + uncFlagName + " flags this output the model is strongly non-linear within the errors and the value is the local sensitivity times the input error, not the spread of the output",
@@ -108,7 +108,7 @@ func (u *uncPlan) vars(defs []outputDef, vars []grid.OutputVar) []grid.OutputVar
 		for k, d := range defs {
 			extra = append(extra, grid.OutputVar{
 				Name: d.name + spreadSuffix, Units: d.units, Type: grid.Float32, Fill: -999,
-				LongName: "parameter (structural) spread of " + d.name + ": one standard deviation from the model's assumed parameters",
+				LongName: "parameter (structural) spread of the " + lowerFirst(d.title) + ": one standard deviation from the model's assumed parameters",
 				ValidMin: 0, ValidMax: d.validMax - d.validMin, CellMethods: "time: point",
 				Comment:             "parameters " + strings.Join(u.spread.Parameters(), ", ") + " moved one at a time by their spreads (warmrain_parameter_* attributes give the values; the spreads are in the README), combined in quadrature as independent; separate from the retrieval error " + d.name + seSuffix,
 				CoverageContentType: "qualityInformation",
@@ -191,4 +191,12 @@ func (w *uncSlab) column(m *microphys.Model, defs []outputDef, outs [][]float64,
 			outs[base+k][i] = w.sp[d.decl] * d.scale
 		}
 	}
+}
+
+// lowerFirst lower-cases the first letter of a title ("Droplet number" -> "droplet number").
+func lowerFirst(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToLower(s[:1]) + s[1:]
 }
