@@ -237,3 +237,23 @@ func TestColumnUncertainty(t *testing.T) {
 		t.Errorf("bad --re-se: exit %d %q", code, stderr)
 	}
 }
+
+// TestSummaryUncertaintyMaps: of the uncertainty outputs, summary maps the retrieval errors
+// of N_d and of the cloud-base drizzle rate (the demo's uncertainty maps) and no other.
+func TestSummaryUncertaintyMaps(t *testing.T) {
+	dir := t.TempDir()
+	out, pics := filepath.Join(dir, "unc.nc"), filepath.Join(dir, "plots")
+	if code, _, stderr := runProc(t, "process", samplePath(t), "-o", out, "--no-collector"); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if code, _, stderr := runProc(t, "summary", out, "--plots", pics, "--plot-size", "640x480"); code != 0 {
+		t.Fatalf("summary: exit %d: %s", code, stderr)
+	}
+	checkPNG(t, filepath.Join(pics, "map_droplet_number_standard_error_mean.png"), 640, 480)
+	checkPNG(t, filepath.Join(pics, "map_cloud_base_drizzle_rate_standard_error_mean.png"), 640, 480)
+	for _, n := range []string{"map_cloud_thickness_standard_error_mean.png", "map_liquid_water_path_standard_error_mean.png"} {
+		if fileExists(filepath.Join(pics, n)) {
+			t.Errorf("%s drawn", n)
+		}
+	}
+}
