@@ -28,6 +28,11 @@ Data go to stdout or files; messages go to stderr.
 	HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
 	variable in a group by its path (--bind lwp=/geophysical_data/NAME).
 
+	When the input carries retrieval uncertainties of LWP, r_e or tau (a
+	standard_error variable, *_uncertainty in percent, or --bind re_se=VAR), every
+	output gets <name>_standard_error beside it; --parameter-uncertainty adds
+	<name>_parameter_spread (README "Uncertainty").
+
 	With one input, OUTPUT is the output file; with several (or when OUTPUT is an
 	existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 	to a temporary file in the target folder and renamed when complete.
@@ -58,7 +63,8 @@ Data go to stdout or files; messages go to stderr.
 	      --bind stringArray                     take input ROLE from variable VAR, optionally
 	                                             declaring its units: ROLE=VAR[:UNITS]
 	                                             (repeatable; roles: lwp re tau ctt ctp cth
-	                                             cloud_fraction lwp_sd nd phase multilayer)
+	                                             cloud_fraction lwp_sd nd phase multilayer lwp_se
+	                                             re_se tau_se)
 	  -j, --jobs int                             files processed at the same time, each in its own
 	                                             process (libnetcdf is single-threaded) (default 1)
 	      --threads int                          compute goroutines per process (0: the CPUs
@@ -215,7 +221,9 @@ Data go to stdout or files; messages go to stderr.
 	Roles: lwp, re (required unless the run can derive them: LWP from tau and
 	r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
 	lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
-	screen non-liquid and multi-layer columns). With --mask, it counts the
+	screen non-liquid and multi-layer columns), and lwp_se, re_se, tau_se (the
+	retrieval standard errors, absolute or in percent, that give every output its
+	<name>_standard_error). With --mask, it counts the
 	columns each mask removes; flag codes held inside a data variable (sea ice,
 	land) are counted by meaning.
 	Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);

@@ -29,7 +29,9 @@ for the others. It reads every value of the bound variables once.
 Roles: lwp, re (required unless the run can derive them: LWP from tau and
 r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
 lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
-screen non-liquid and multi-layer columns). With --mask, it counts the
+screen non-liquid and multi-layer columns), and lwp_se, re_se, tau_se (the
+retrieval standard errors, absolute or in percent, that give every output its
+<name>_standard_error). With --mask, it counts the
 columns each mask removes; flag codes held inside a data variable (sea ice,
 land) are counted by meaning.
 Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);

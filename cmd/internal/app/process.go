@@ -40,6 +40,11 @@ across them, their grids must match, and the output is named by the first.
 HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
 variable in a group by its path (--bind lwp=/geophysical_data/NAME).
 
+When the input carries retrieval uncertainties of LWP, r_e or tau (a
+standard_error variable, *_uncertainty in percent, or --bind re_se=VAR), every
+output gets <name>_standard_error beside it; --parameter-uncertainty adds
+<name>_parameter_spread (README "Uncertainty").
+
 With one input, OUTPUT is the output file; with several (or when OUTPUT is an
 existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 to a temporary file in the target folder and renamed when complete.
@@ -87,7 +92,7 @@ func runProcess(e *env, args []string) error {
 	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {relpath} {index}")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
-	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)")
+	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer lwp_se re_se tau_se)")
 	fs.IntVarP(&o.jobs, "jobs", "j", 1, "files processed at the same time, each in its own process (libnetcdf is single-threaded)")
 	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs, less one for the I/O thread)")
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
