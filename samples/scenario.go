@@ -46,6 +46,9 @@ type Config struct {
 	Created time.Time // fixed creation time written to history and date_created (keeps the bytes reproducible)
 	Deflate int       // deflate level 1-9
 	Name    string    // short scenario name for the title
+	// NoUncertainty leaves out the retrieval uncertainties (lwp_standard_error,
+	// re_uncertainty, cot_uncertainty), as in a product without them.
+	NoUncertainty bool
 }
 
 // DefaultConfig returns the configuration of the committed sample

@@ -173,7 +173,11 @@ func write(path string, f *Fields) (err error) {
 	w.f32(vLWP.Attr("scale_factor"), lwpScale)
 	w.f32(vLWP.Attr("add_offset"), lwpOffset)
 	w.i16(vLWP.Attr("valid_range"), 0, lwpMaxPack)
-	w.attrs(vLWP, "cell_methods", dailyMean, "ancillary_variables", "lwp_std lwp_standard_error", "grid_mapping", "crs",
+	lwpAnc := "lwp_std lwp_standard_error"
+	if c.NoUncertainty {
+		lwpAnc = "lwp_std"
+	}
+	w.attrs(vLWP, "cell_methods", dailyMean, "ancillary_variables", lwpAnc, "grid_mapping", "crs",
 		"coverage_content_type", "physicalMeasurement",
 		"comment", "invented demo values; LWP = (5/9) rho_w tau r_e holds with cot and re")
 
@@ -210,6 +214,18 @@ func write(path string, f *Fields) (err error) {
 			units: "m", cellMethods: dailyMean, vmin: 0, vmax: 20000, data: f.CTH},
 		{name: "cloud_fraction", stdName: "cloud_area_fraction", longName: "cloud fraction of the grid cell (synthetic)",
 			units: "1", cellMethods: "time: mean area: mean", vmin: 0, vmax: 1, data: f.CF},
+	}
+	if c.NoUncertainty {
+		keep := fvars[:0]
+		for _, fv := range fvars {
+			if fv.name != "lwp_standard_error" && fv.name != "re_uncertainty" && fv.name != "cot_uncertainty" {
+				if fv.name == "re" || fv.name == "cot" {
+					fv.extra = nil // their only extra attribute names the uncertainty
+				}
+				keep = append(keep, fv)
+			}
+		}
+		fvars = keep
 	}
 	vs := make([]netcdf.Var, len(fvars))
 	for i, fv := range fvars {
