@@ -482,6 +482,14 @@ func (in *Input) bindError(b *Binding, v *VarInfo, units, unitsFrom string, byOv
 	}
 	if unitsFrom == "attribute" {
 		units = strings.TrimSpace(v.Text("units"))
+		// A dimensionless uncertainty whose long_name says percent is a percentage: the
+		// MODIS level-2 "Relative Uncertainty (Percent)" (its level-3 means are absolute).
+		switch strings.ToLower(units) {
+		case "", "1", "none", "unitless", "dimensionless":
+			if strings.Contains(strings.ToLower(v.Text("long_name")), "percent") {
+				units = "percent"
+			}
+		}
 		if units == "" {
 			return fail(varErr(ErrUnits, in.Path, v.Name, "(%s) has no units attribute; expected units convertible to %q or a percentage; declare them with %s, e.g. %s=%s:%%",
 				rule.Role, rule.Units, in.opt.OverrideHint, rule.Role, v.Name))

@@ -31,6 +31,8 @@ variables:
 		cot:units = "1" ;
 		cot:ancillary_variables = "cot_unc" ;
 	float cot_unc(y, x) ;
+	float ctt(y, x) ;
+		ctt:units = "K" ;
 data:
 	lwp = 1, 2, 3, 4, 5, 6 ;
 	lwp_err = 1, 1, 1, 1, 1, 1 ;
@@ -38,6 +40,7 @@ data:
 	Cloud_Effective_Radius_Uncertainty = 10, 10, 10, 10, 10, 10 ;
 	cot = 5, 5, 5, 5, 5, 5 ;
 	cot_unc = 1, 1, 1, 1, 1, 1 ;
+	ctt = 280, 280, 280, 280, 280, 280 ;
 }
 `
 	path := ncgenText(t, cdl, "nc4")
@@ -70,6 +73,17 @@ data:
 	}
 	if !strings.Contains(strings.Join(in.Warnings, "\n"), "cot_unc") {
 		t.Errorf("no warning about cot_unc: %q", in.Warnings)
+	}
+	// a dimensionless uncertainty whose long_name says percent (MODIS level 2) is a percentage
+	cdl3 := strings.Replace(cdl, `Cloud_Effective_Radius_Uncertainty:units = "percent" ;`,
+		`Cloud_Effective_Radius_Uncertainty:units = "none" ; Cloud_Effective_Radius_Uncertainty:long_name = "Cloud Effective Particle Radius Relative Uncertainty (Percent)" ;`, 1)
+	in3, err := Open(ncgenText(t, cdl3, "nc4"), OpenOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer in3.Close()
+	if b, ok := in3.Binding(RoleReSE); !ok || !b.Relative || b.Conv.Factor != 0.01 {
+		t.Errorf("re_se with units none and a percent long_name: %v %+v", ok, b.Conv)
 	}
 	// without the input, its uncertainty is not read
 	cdl2 := strings.NewReplacer("float cot(y, x)", "float cotx(y, x)", "cot:", "cotx:", "cot =", "cotx =").Replace(cdl)
