@@ -40,6 +40,11 @@ across them, their grids must match, and the output is named by the first.
 HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
 variable in a group by its path (--bind lwp=/geophysical_data/NAME).
 
+When the input carries retrieval uncertainties of LWP, r_e or tau (a
+standard_error variable, *_uncertainty in percent, or --bind re_se=VAR), every
+output gets <name>_standard_error beside it; --parameter-uncertainty adds
+<name>_parameter_spread (README "Uncertainty").
+
 With one input, OUTPUT is the output file; with several (or when OUTPUT is an
 existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 to a temporary file in the target folder and renamed when complete.
@@ -53,9 +58,15 @@ process, so a crash in the C libraries fails that file alone. Batch runs write
 a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 progress is removed, what completed is recorded, the exit code is 1.
 
+--ensemble SETS processes one input once per parameter set of the text file SETS
+(one set a line: NAME: --option VALUE ..., physics options as on the command line,
+over those given on it; # starts a comment) and writes every diagnostic with a
+leading dimension member, each member equal to the single run with its options.
+
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
   warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 `
 
 type processOptions struct {
@@ -77,6 +88,7 @@ type processOptions struct {
 	pack                       bool
 	quantize                   int
 	slot                       string // internal: "k/n" for a child process of --jobs
+	ensemble                   string // --ensemble FILE of parameter sets
 	phys                       *physicsFlags
 	inp                        *inputFlags
 }
@@ -86,9 +98,10 @@ func runProcess(e *env, args []string) error {
 	var o processOptions
 	fs.StringVarP(&o.output, "output", "o", "", "output file (one input) or folder (several inputs)")
 	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {relpath} {index}")
+	fs.StringVar(&o.ensemble, "ensemble", "", "write one member per parameter set of `FILE` (lines NAME: --option VALUE ...) along a dimension member; one input, one output file")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
-	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)")
+	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer lwp_se re_se tau_se)")
 	fs.IntVarP(&o.jobs, "jobs", "j", 1, "files processed at the same time, each in its own process (libnetcdf is single-threaded)")
 	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs; with --writer libnetcdf less one for the I/O thread)")
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
@@ -264,6 +277,16 @@ func runProcess(e *env, args []string) error {
 	job.digest = job.paramDigest()
 	ctx, stop := signalContext(job)
 	defer stop()
+	if o.ensemble != "" {
+		if len(inputs) != 1 || folder {
+			return usagef("--ensemble processes one input into one output file (got %d inputs%s)", len(inputs), map[bool]string{true: ", an output folder"}[folder])
+		}
+		if o.augment || o.pack || o.quantize > 0 || o.jobs > 1 {
+			return usagef("--ensemble writes plain float outputs of one file: --augment, --pack, --significant-digits and --jobs are not available with it")
+		}
+		job.single = true
+		return job.runEnsemble(ctx, inputs[0], outputs[0], o.ensemble, fs)
+	}
 
 	if why := job.refusals(inputs, outputs, mine); len(why) == 1 && len(mine) == 1 {
 		return errors.New(why[0])
@@ -405,6 +428,10 @@ type processJob struct {
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
+	// spread holds the perturbed models of --parameter-uncertainty, built on first use.
+	spread     *microphys.SpreadModels
+	spreadErr  error
+	spreadOnce sync.Once
 }
 
 func (j *processJob) inputs() *inputFlags {
@@ -583,7 +610,12 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if err != nil {
 		return finish("failed", err)
 	}
-	vars := gridVars(j.defs, "", j.o.pack)
+	plan, err := j.uncertaintyPlan(in)
+	if err != nil {
+		in.Close()
+		return finish("failed", err)
+	}
+	vars := plan.vars(j.defs, gridVars(j.defs, "", j.o.pack))
 	if sb, err := j.memoryPlan(in, vars); err != nil {
 		in.Close()
 		return finish("failed", err)
@@ -631,7 +663,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if len(j.inputs().masks) > 0 {
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
 	}
-	vars = gridVars(j.defs, strings.Join(used, " "), j.o.pack)
+	vars = plan.vars(j.defs, gridVars(j.defs, strings.Join(used, " "), j.o.pack))
 	if len(assumed) > 0 { // a constant assumption is stated in every output's comment
 		for k := range vars {
 			vars[k].Comment = appendSentences(vars[k].Comment, assumed)
@@ -666,7 +698,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if j.o.stats {
 		popt.Stats = &stats
 	}
-	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts))
+	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan))
 	if j.o.stats {
 		busy := stats.Read + stats.Write
 		note := ""
@@ -771,7 +803,7 @@ func (j *processJob) workers(writer string) int {
 // slices, the product's masks and flag codes, the input completion
 // (microphys.Model.Complete) and one microphys.Model.Column call per column,
 // outputs scaled to the file units. It allocates nothing per column.
-func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally) grid.ComputeFunc {
+func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
@@ -810,6 +842,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 		}
 		qc := outs[len(defs)]
+		uw := plan.slab()
+		var raw microphys.RawColumn
+		var errIn [3]float64
 		for k, d := range defs {
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
@@ -837,6 +872,12 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
 				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
+			if uw != nil {
+				raw = microphys.RawColumn{In: in, Nd: at(iNd, i), CF: at(iCF, i), GridMean: gridMean}
+				for k, r := range errorRoles {
+					errIn[k] = at(r.Index(), i)
+				}
+			}
 			if qin == 0 {
 				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
 			}
@@ -849,6 +890,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				}
 				qc[i] = float64(qin)
 				n++
+				if uw != nil {
+					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, true)
+				}
 				continue
 			}
 			m.Column(&in, &o)
@@ -866,6 +910,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			qc[i] = float64(uint32(o.QC) | qin)
 			if o.QC&microphys.QCScreenMask != 0 {
 				n++
+			}
+			if uw != nil {
+				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, o.QC&microphys.QCScreenMask != 0)
 			}
 		}
 		screened.Add(n)
