@@ -57,142 +57,6 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 
 	Options:
-<<<<<<< HEAD
-	  -o, --output string                 output file (one input) or folder (several inputs)
-	      --name string                   output name pattern in a folder: {stem} {name} {parent}
-	                                      {relpath} {index} (default "{stem}_warmrain.nc")
-	      --augment[=true|false]          write a copy of the input with the new variables added
-	                                      (default: a new file with the coordinates and the new
-	                                      variables)
-	      --outputs string                comma-separated outputs to write (see README); the QC
-	                                      flags are always written (default "all")
-	      --bind stringArray              take input ROLE from variable VAR, optionally declaring
-	                                      its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re
-	                                      tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)
-	  -j, --jobs int                      files processed at the same time, each in its own
-	                                      process (libnetcdf is single-threaded) (default 1)
-	      --threads int                   compute goroutines per process (0: the CPUs divided by
-	                                      --jobs; with --writer libnetcdf less one for the I/O thread)
-	      --deflate int                   deflate level of the outputs, 1-9 (0: no compression)
-	                                      (default 1)
-	      --pack[=true|false]             store the bounded outputs as CF-packed 16-bit integers
-	                                      (smaller, faster; precision in README)
-	      --significant-digits int        lossy: keep this many significant decimal digits in
-	                                      float outputs (CF quantization metadata; 0: off)
-	  -f, --force[=true|false]            replace any existing file at an output path (inputs are
-	                                      never overwritten)
-	      --redo[=true|false]             process again and replace warmrain's outputs of the same
-	                                      input (also those of other parameters)
-	      --shard string                  process only shard I of N (I/N, 0 <= I < N) of the
-	                                      sorted input list
-	      --shard-count int               shard count for a Slurm array whose ids are not a plain range
-	      --ignore-slurm[=true|false]     do not shard by the Slurm array variables
-	      --manifest string               JSON-lines manifest to append to (default:
-	                                      warmrain-manifest.jsonl in the output folder for folder
-	                                      outputs)
-	      --checksum[=true|false]         identify inputs by SHA-256 for resume (default: path,
-	                                      size and modification time)
-	  -q, --quiet[=true|false]            no summary line per file
-	      --no-progress[=true|false]      no progress line (it is shown only when stderr is a terminal)
-	      --writer string                 how chunks are compressed: direct (outputs by the
-	                                      compute goroutines and deflated netCDF-4 inputs by the
-	                                      reader, through HDF5's direct chunk I/O) or libnetcdf
-	                                      (everything by libnetcdf on its one I/O thread); the
-	                                      files are the same netCDF-4, the values identical
-	                                      (default "direct")
-	      --slab-mb int                   memory budget of one slab, MiB (three are in flight)
-	                                      (default 32)
-	      --memory-mb int                 memory bound of one process, MiB: inputs whose chunking
-	                                      needs more are read in smaller slabs, or refused with
-	                                      the estimate (default 256)
-	      --autoconversion string         autoconversion scheme: kk2000, kessler1969,
-	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
-	      --collision string              collision efficiency of the collector drop: hall1980,
-	                                      long1974 (default "hall1980")
-	      --coalescence string            coalescence efficiency (seifert2005 is the
-	                                      Beard-Ochs/Low-List blend): seifert2005, beard-ochs1995,
-	                                      low-list1982, unity (default "seifert2005")
-	      --k-ratio float                 k = (r_v/r_e)^3, ratio of mean-volume to effective
-	                                      radius cubed (default 0.8)
-	      --extinction-efficiency float   extinction efficiency Q_ext (default 2)
-	      --adiabatic-fraction float      adiabatic fraction f_ad (default 1)
-	      --condensation-rate float       fixed condensation rate c_w (0: from cloud-top
-	                                      temperature and pressure), g m-3 km-1
-	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
-	                                      (default 14)
-	      --onset-width float             width of the r_e range, centred on the onset radius,
-	                                      over which the drizzle-onset probability of a sub-grid
-	                                      column rises from 0 to 1 (0: a step at the onset
-	                                      radius), µm (default 4)
-	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
-	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 25)
-	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
-	                                      µm (default 100)
-	      --updraft float                 updraft speed (0: collector released at cloud top, the
-	                                      stratocumulus picture; >0: enters at cloud base and is
-	                                      carried up first, a cumulus picture), m s-1
-	      --collector-tolerance float     relative tolerance per step of the collector-drop
-	                                      integrator (default 1e-06)
-	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
-	                                      mixing ratio conserved down to the surface; surface-rh:
-	                                      linear from the surface relative humidity to saturation
-	                                      at cloud base, for decoupled layers): well-mixed,
-	                                      surface-rh (default "well-mixed")
-	      --surface-rh float              surface relative humidity (0-1) when the input has none
-	                                      (with --subcloud-humidity surface-rh) (default 0.8)
-	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
-	                                      (size distribution of the surface drizzle; above
-	                                      --drizzle-min-radius), µm (default 50)
-	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
-	                                      distribution, µm (default 20)
-	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
-	                                      (0: exponential)
-	      --surface-pressure float        surface pressure to place cloud base when the input has
-	                                      no cloud-top height, hPa (default 1013.25)
-	      --default-ctt float             cloud-top temperature when the input has none, K
-	                                      (default 285)
-	      --default-ctp float             cloud-top pressure when the input has none, hPa (default 900)
-	      --drizzle-law string            cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R
-	                                      mm day-1, LWP g m-2, N_d cm-3) (default "0.37,1.75,1.75")
-	      --kessler-rate float            Kessler rate constant, s-1 (default 0.001)
-	      --kessler-threshold float       Kessler threshold cloud-water mixing ratio, g kg-1
-	                                      (default 0.5)
-	      --seifert-beheng-shape float    cloud-droplet gamma shape nu (in mass) of the
-	                                      seifert-beheng2001 scheme (default 1)
-	      --collector-method string       collector and evaporation results (table: interpolated,
-	                                      tested to 0.5 %; direct: integrated per column, slow):
-	                                      table, direct (default "table")
-	      --no-collector[=true|false]     skip the collector drop and the sub-cloud evaporation
-	                                      (surface drizzle)
-	      --no-evaporation[=true|false]   skip the sub-cloud evaporation (the surface drizzle and
-	                                      the collector drop's fall)
-	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
-	      --min-tau float                 screen columns with optical thickness below this (default 3)
-	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
-	      --min-ctt float                 screen columns with cloud-top temperature below this
-	                                      (possible ice), K (default 273.15)
-	      --nd-range string               plausible droplet-number range as min,max, cm-3 (default
-	                                      "10,1000")
-	      --max-thickness float           screen columns with adiabatic thickness above this, m
-	                                      (default 1500)
-	      --droplet-number float          droplet number concentration assumed where the input has
-	                                      LWP but no effective radius (r_e follows from the
-	                                      adiabatic cloud; 0: none), cm-3
-	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
-	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
-	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
-	                                      (default "adiabatic")
-	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
-	                                      fraction is below this (default 0.05)
-	      --mask stringArray              screen columns by a quality variable:
-	                                      'VAR:MEANING[,MEANING...]' (a CF flag variable has any
-	                                      of the flag_meanings words) or 'VAR<N' (also <=, >, >=,
-	                                      ==, !=; in VAR's own units); repeatable
-	      --lwp-kind string               what the LWP averages: auto (from cell_methods, the
-	                                      variable name and model attributes), in-cloud, or
-	                                      grid-mean (divided by the cloud fraction) (default "auto")
-=======
 	  -o, --output string                        output file (one input) or folder (several inputs)
 	      --name string                          output name pattern in a folder: {stem} {name}
 	                                             {parent} {relpath} {index} (default
@@ -213,7 +77,8 @@ Data go to stdout or files; messages go to stderr.
 	  -j, --jobs int                             files processed at the same time, each in its own
 	                                             process (libnetcdf is single-threaded) (default 1)
 	      --threads int                          compute goroutines per process (0: the CPUs
-	                                             divided by --jobs, less one for the I/O thread)
+	                                             divided by --jobs; with --writer libnetcdf less
+	                                             one for the I/O thread)
 	      --deflate int                          deflate level of the outputs, 1-9 (0: no
 	                                             compression) (default 1)
 	      --pack[=true|false]                    store the bounded outputs as CF-packed 16-bit
@@ -237,6 +102,12 @@ Data go to stdout or files; messages go to stderr.
 	  -q, --quiet[=true|false]                   no summary line per file
 	      --no-progress[=true|false]             no progress line (it is shown only when stderr is
 	                                             a terminal)
+	      --writer string                        how chunks are compressed: direct (outputs by the
+	                                             compute goroutines and deflated netCDF-4 inputs
+	                                             by the reader, through HDF5's direct chunk I/O)
+	                                             or libnetcdf (everything by libnetcdf on its one
+	                                             I/O thread); the files are the same netCDF-4, the
+	                                             values identical (default "direct")
 	      --slab-mb int                          memory budget of one slab, MiB (three are in
 	                                             flight) (default 32)
 	      --memory-mb int                        memory bound of one process, MiB: inputs whose
@@ -347,7 +218,6 @@ Data go to stdout or files; messages go to stderr.
 	                                             the variable name and model attributes),
 	                                             in-cloud, or grid-mean (divided by the cloud
 	                                             fraction) (default "auto")
->>>>>>> main
 
 # warmrain inspect
 
