@@ -29,7 +29,7 @@ func randomSwath(rng *rand.Rand, ny, nx int, lat0, lon0 float64, east360 bool) (
 				lon += 360
 			}
 			s.Lat[k], s.Lon[k] = lat, lon
-			a[k] = 50 + 40*rng.ExpFloat64()     // an LWP-like field
+			a[k] = 50 + 40*rng.ExpFloat64()          // an LWP-like field
 			b[k] = 1e8 * (1 + rng.NormFloat64()*0.3) // an N_d-like field in m-3: large offset
 			switch {
 			case k%29 == 0:
