@@ -74,7 +74,9 @@ type File struct {
 	Shape    []int // the lengths of Dims
 	Steps    []int // indices of the dimensions that are not horizontal, file order
 	Times    *grid.TimeAxis
-	TimeVals []float64 // seconds since 1970 along Dims[Hz.Time]
+	TimeVals []float64 // seconds since 1970-01-01 in Calendar along Dims[Hz.Time]
+	TimeBnds []float64 // the time bounds (2 per step, like TimeVals), nil when the file has none
+	Calendar string    // grid.CalendarKind of the time axis ("" without times)
 	NoMaps   string    // why this file gives no maps ("" when it does)
 	window   summary.Window
 	Scene    summary.Scene
@@ -85,6 +87,8 @@ type File struct {
 	QC       string // the QC flag variable, "" when absent
 	QCScreen uint32 // the file's screening bits
 	Vars     map[string]Var
+
+	reasonBits []uint32 // per ScreenWords entry: the file's bits of that word
 }
 
 // Var is a diagnostic with its conversion to SI.
@@ -180,10 +184,12 @@ func (p *File) bind() error {
 		if len(m) != len(words) || len(m) == 0 {
 			return p.Errf(qcName, "has %d flag_masks and %d flag_meanings words; expected one word per mask (CF §3.5)", len(m), len(words))
 		}
+		p.reasonBits = make([]uint32, len(ScreenWords))
 		for i, w := range words {
-			for _, s := range ScreenWords {
+			for k, s := range ScreenWords {
 				if w == s {
 					p.QCScreen |= uint32(int64(m[i]))
+					p.reasonBits[k] |= uint32(int64(m[i]))
 				}
 			}
 		}
@@ -306,9 +312,10 @@ func (p *File) scan() error {
 		if err != nil {
 			return err
 		}
-		if !ta.Standard {
+		kind, cerr := grid.CalendarKind(ta.Calendar)
+		if cerr != nil { // a calendar without dates: the statistics use every step
 			if !p.window.IsZero() {
-				return p.Errf(td, "calendar %q: --from and --to need the standard (Gregorian) calendar", ta.Calendar)
+				return p.Errf(td, "%v; --from and --to need a calendar with dates", cerr)
 			}
 			p.Scene = s
 			return s.Check()
@@ -318,7 +325,26 @@ func (p *File) scan() error {
 			return err
 		}
 		for i := range t {
-			t[i] = ta.Seconds(t[i])
+			if t[i], err = ta.CalendarSeconds(t[i]); err != nil {
+				return p.Errf(td, "%v", err)
+			}
+		}
+		p.Calendar = kind
+		if bn := tv.Text("bounds"); bn != "" {
+			if bv := fi.Var(bn); bv != nil && len(bv.Shape) == 2 && bv.Shape[0] == len(t) && bv.Shape[1] == 2 {
+				b, err := read(bn)
+				if err != nil {
+					return err
+				}
+				for i := range b {
+					if b[i], err = ta.CalendarSeconds(b[i]); err != nil {
+						return p.Errf(bn, "%v", err)
+					}
+				}
+				p.TimeBnds = b
+			} else {
+				return p.Errf(td, "names the bounds %q, which is not a (%d, 2) variable of the file", bn, len(t))
+			}
 		}
 		p.Times, p.TimeVals = ta, t
 	}
@@ -450,11 +476,29 @@ func (p *File) ReadBlock(name string, b Block) ([]float64, error) {
 	return out, nil
 }
 
-// step reads Block b of the named diagnostics, in SI, with screened columns set
+// Step reads Block b of the named diagnostics, in SI, with screened columns set
 // to NaN. It returns the fields and the per-column QC (1 = screened).
 func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, error) {
+	d, reasons, err := p.StepReasons(b, names)
+	if err != nil {
+		return nil, nil, err
+	}
+	qc := make([]uint16, len(reasons))
+	for i, r := range reasons {
+		if r != 0 {
+			qc[i] = 1
+		}
+	}
+	return d, qc, nil
+}
+
+// StepReasons is Step returning, per column, why it was screened: bit k set when
+// the column has the QC bit of ScreenWords[k] (0 = kept). The file's own
+// flag_masks and flag_meanings give the bits, so files with different QC layouts
+// give the same reasons.
+func (p *File) StepReasons(b Block, names []string) (map[string][]float64, []uint32, error) {
 	n := b.N * p.Scene.Cells()
-	qc := make([]uint16, n)
+	reasons := make([]uint32, n)
 	if p.QC != "" {
 		q, err := p.ReadBlock(p.QC, b)
 		if err != nil {
@@ -462,8 +506,17 @@ func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, er
 		}
 		for i, v := range q {
 			// A missing flag (fill) carries no screening information.
-			if !math.IsNaN(v) && uint32(int64(v))&p.QCScreen != 0 {
-				qc[i] = 1
+			if math.IsNaN(v) {
+				continue
+			}
+			bits := uint32(int64(v))
+			if bits&p.QCScreen == 0 {
+				continue
+			}
+			for k, m := range p.reasonBits {
+				if bits&m != 0 {
+					reasons[i] |= 1 << k
+				}
 			}
 		}
 	}
@@ -481,7 +534,7 @@ func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, er
 			return nil, nil, err
 		}
 		for i := range d {
-			if qc[i] != 0 {
+			if reasons[i] != 0 {
 				d[i] = math.NaN()
 			} else {
 				d[i] = vi.Conv.Convert(d[i])
@@ -489,5 +542,5 @@ func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, er
 		}
 		out[nm] = d
 	}
-	return out, qc, nil
+	return out, reasons, nil
 }
