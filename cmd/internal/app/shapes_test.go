@@ -370,8 +370,16 @@ data: time = 0, 365 ; lat = 10, 20 ; lon = 30, 40 ;
 	if mm := reColumns.FindStringSubmatch(stdout); code != 0 || mm == nil || mm[1] != "8" {
 		t.Fatalf("summary: exit %d, %q %q", code, stdout, stderr)
 	}
-	code, _, stderr = runProc(t, "summary", out, "--from", "2000-06-01")
-	if code == 0 || !strings.Contains(stderr, "noleap") || !strings.Contains(stderr, out) {
-		t.Errorf("window on a noleap axis: exit %d, %q", code, stderr)
+	// A window in the noleap calendar: day 365 is 2001-01-01 there (no leap day in
+	// 2000), so --from 2001-01-01 keeps the second step (4 columns) and
+	// --from 2000-12-31 --to 2001-01-01 nothing (in the standard calendar day 365 is
+	// 2000-12-31 and would be kept).
+	code, stdout, stderr = runProc(t, "summary", out, "--from", "2001-01-01")
+	if mm := reColumns.FindStringSubmatch(stdout); code != 0 || mm == nil || mm[2] != "4" {
+		t.Errorf("--from 2001-01-01 on a noleap axis: exit %d, %q %q", code, stdout, stderr)
+	}
+	code, _, stderr = runProc(t, "summary", out, "--from", "2000-12-31", "--to", "2001-01-01")
+	if code != 1 || !strings.Contains(stderr, "nothing selected") || !strings.Contains(stderr, "2001-01-01T00:00:00Z (noleap calendar)") {
+		t.Errorf("an empty window on a noleap axis: exit %d, %q", code, stderr)
 	}
 }

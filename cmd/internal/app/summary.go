@@ -10,11 +10,13 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
 	"time"
 
+	"github.com/warmrain/warmrain/cmd/internal/batch"
 	"github.com/warmrain/warmrain/cmd/internal/plots"
 	"github.com/warmrain/warmrain/cmd/internal/procfile"
 	"github.com/warmrain/warmrain/cmd/internal/summary"
@@ -77,6 +79,7 @@ var (
 	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
 	surfVarName      = procfile.SurfName
 	baseVarName      = procfile.BaseName
+	critVarName      = mustOutput("critical_lwp").Name
 	mustOutput       = procfile.MustOutput
 	screenWords      = procfile.ScreenWords
 )
@@ -94,6 +97,9 @@ type summaryFlags struct {
 	opt                    summary.Options
 	width, height          int
 	force                  bool
+	gridStep               float64 // --grid degrees, 0 = none
+	popThreshold           float64 // --drizzle-pop
+	partial, merge         bool
 }
 
 func runSummary(e *env, args []string) error {
@@ -112,18 +118,54 @@ func runSummary(e *env, args []string) error {
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
 	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
 	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
+	gridDeg := fs.String("grid", "", "bin the columns of every file (grids, swaths, meshes with coordinates) onto a regular latitude-longitude grid of `DEG` degrees (180/DEG whole)")
+	popThr := fs.Float64("drizzle-pop", 0.5, "with --grid: a column counts as drizzling in the occurrence frequency when its POP exceeds `P`")
+	partial := fs.Bool("partial", false, "write -o as a partial summary (exact sums and counts, e.g. one per batch task) for --merge")
+	merge := fs.Bool("merge", false, "the inputs are partial summaries (--partial): combine them exactly")
+	manifest := fs.String("manifest", "", "also summarise the outputs that the batch manifest `FILE` of 'warmrain process' records as complete")
 	if err := parseFlags(e, fs, summaryUsage, args); err != nil {
 		return err
 	}
-	inputs := fs.Args()
+	inputs, err := batch.ExpandInputs(fs.Args())
+	if err != nil {
+		return usagef("%v", err)
+	}
+	if *manifest != "" {
+		m, err := manifestOutputs(*manifest)
+		if err != nil {
+			return usagef("%v", err)
+		}
+		for _, p := range m {
+			if !slices.Contains(inputs, p) {
+				inputs = append(inputs, p)
+			}
+		}
+	}
 	if len(inputs) == 0 {
 		return usagef("no processed files given")
 	}
-	f := summaryFlags{output: *output, plotDir: *plotDir, mapOf: *mapOf, force: *force}
+	f := summaryFlags{output: *output, plotDir: *plotDir, mapOf: *mapOf, force: *force, partial: *partial, merge: *merge, popThreshold: *popThr}
 	if f.mapOf != "mean" && f.mapOf != "first" {
 		return usagef("--map-of %q: expected mean or first", f.mapOf)
 	}
-	var err error
+	if f.gridStep, err = parseGridStep(*gridDeg); err != nil {
+		return usagef("--grid: %v", err)
+	}
+	if !(f.popThreshold >= 0 && f.popThreshold < 1) {
+		return usagef("--drizzle-pop %g: expected a probability in [0, 1)", f.popThreshold)
+	}
+	if f.partial && f.output == "" {
+		return usagef("--partial writes the partial summary to -o FILE; give -o")
+	}
+	if f.partial && f.plotDir != "" {
+		return usagef("--partial writes sums, not statistics: draw the pictures with --merge")
+	}
+	if (f.partial || f.merge) && *boot > 0 {
+		return usagef("--bootstrap cannot be merged from partial summaries (its replicates depend on the column order); leave it out with --partial and --merge")
+	}
+	if f.merge && (*region != "" || *from != "" || *to != "") {
+		return usagef("--merge combines partial summaries as they were selected; give --region, --from and --to to the --partial runs")
+	}
 	if *region != "" {
 		if f.region, err = parseRegion(*region); err != nil {
 			return usagef("--region: %v", err)
@@ -214,6 +256,9 @@ func parseRegion(s string) (*summary.Region, error) {
 	}
 	r := &summary.Region{LatMin: v[0], LatMax: v[1], LonMin: v[2], LonMax: v[3]}
 	if r.LatMin < -90 || r.LatMax > 90 {
+		if sw, ok := swapped(r); ok {
+			return nil, fmt.Errorf("%q: latitudes must lie in -90..90; the box is LATMIN,LATMAX,LONMIN,LONMAX: typed longitude-first? try --region %s", s, regionArg(sw))
+		}
 		return nil, fmt.Errorf("%q: latitudes must lie in -90..90", s)
 	}
 	if err := r.Check(); err != nil {
@@ -280,6 +325,7 @@ func parseBins(s string, scale float64) ([]float64, error) {
 type summaryState struct {
 	acc       *summary.Accumulator
 	maps      *summary.MapAccumulator
+	grid      *summary.Gridded // --grid
 	mapNames  []string
 	mapInfo   map[string]procfile.Var
 	mapsOK    bool
@@ -291,9 +337,13 @@ type summaryState struct {
 	history   string            // of the only input
 	files     int
 	// steps, tmin and tmax count the selected time steps (leading indices) and
-	// their time range over every file, maps or not.
-	steps      int
-	tmin, tmax float64
+	// their time range over every file, maps or not; bmin and bmax span their time
+	// bounds (stepBounds), instant is set when a step had zero length.
+	steps                  int
+	tmin, tmax, bmin, bmax float64
+	instant                bool
+	calendar, calFile      string // grid.CalendarKind of the times, and the file it came from
+	ext                    *extent
 }
 
 // stepSpan is ms with the step count and time range of every selected step, for
@@ -307,21 +357,52 @@ func (st *summaryState) stepSpan(ms summary.MapSet) summary.MapSet {
 }
 
 func summarise(e *env, f summaryFlags, inputs, args []string) error {
-	acc, err := summary.New(f.opt)
-	if err != nil {
-		return usagef("%v", err)
+	st := &summaryState{mapsOK: true, firstTime: math.NaN(), tmin: math.Inf(1), tmax: math.Inf(-1),
+		bmin: math.Inf(1), bmax: math.Inf(-1), ext: newExtent()}
+	accOpt := f.opt
+	if !f.window.IsZero() { // the steps are selected here, in each file's calendar
+		accOpt.Window = anyTime
 	}
-	maps, err := summary.NewMaps(f.region, f.window)
-	if err != nil {
-		return usagef("%v", err)
-	}
-	st := &summaryState{acc: acc, maps: maps, mapsOK: true, firstTime: math.NaN(), tmin: math.Inf(1), tmax: math.Inf(-1)}
-	for k, in := range inputs {
-		if err := st.addFile(e, f, in, k == 0); err != nil {
-			return err
+	if f.merge {
+		for k, in := range inputs {
+			if err := st.readPartial(e, &f, in, k == 0); err != nil {
+				return err
+			}
+		}
+		st.mapsOK = false
+	} else {
+		var err error
+		if st.acc, err = summary.New(accOpt); err != nil {
+			return usagef("%v", err)
+		}
+		if st.maps, err = summary.NewMaps(f.region, accOpt.Window); err != nil {
+			return usagef("%v", err)
+		}
+		st.mapsOK = f.gridStep == 0
+		for k, in := range inputs {
+			if err := st.addFile(e, f, accOpt.Window, in, k == 0); err != nil {
+				return err
+			}
+		}
+		if (f.region != nil || !f.window.IsZero()) && st.acc.Result().Counts.Selected == 0 {
+			st.ext.calendar = st.calendar
+			if st.ext.calendar == "" {
+				st.ext.calendar = grid.CalStandard
+			}
+			return selectionError(f, st.ext)
 		}
 	}
-	res := acc.Result()
+	if f.partial {
+		if err := summary.WriteTable(e.stdout, st.acc.Result()); err != nil {
+			return err
+		}
+		if err := grid.WriteDataset(f.output, partialDataset(st, f, inputs), f.force); err != nil {
+			return err
+		}
+		fmt.Fprintf(e.stderr, "warmrain summary: wrote the partial summary %s (combine partial summaries with --merge)\n", f.output)
+		return nil
+	}
+	res := st.acc.Result()
 	if !st.mixed { // what sets S_R and S_I (summary.LawNote)
 		if c, err := strconv.ParseFloat(strings.Fields(st.params["drizzle_law_c"] + " x")[0], 64); err == nil {
 			res.Options.LawNdExponent = c
@@ -330,12 +411,25 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 	if err := summary.WriteTable(e.stdout, res); err != nil {
 		return err
 	}
-	ms := maps.Result()
-	if !st.mapsOK {
+	var ms summary.MapSet
+	var gr *summary.GriddedResult
+	switch {
+	case st.grid != nil:
+		gr = st.grid.Result(st.grid.Extent())
+		if gr.Extent.NY > 0 {
+			ms = griddedMapSet(gr, st.mapInfo)
+		} else {
+			fmt.Fprintf(e.stderr, "warmrain summary: --grid: no column with latitude and longitude was selected; no gridded maps\n")
+			gr = nil
+		}
+	case st.maps != nil:
+		ms = st.maps.Result()
+	}
+	if !st.mapsOK && gr == nil {
 		ms.Maps = nil
 	}
 	if f.output != "" {
-		ds := summaryDataset(f, st, res, ms, inputs, args)
+		ds := summaryDataset(f, st, res, ms, gr, inputs, args)
 		if err := grid.WriteDataset(f.output, ds, f.force); err != nil {
 			return err
 		}
@@ -349,7 +443,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 	return nil
 }
 
-func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool) error {
+func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window, path string, first bool) error {
 	p, err := procfile.Open(path, f.window)
 	if err != nil {
 		return err
@@ -373,6 +467,19 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		if a, ok := p.Info.Global("history"); ok {
 			st.history, _ = a.Text()
 		}
+		if f.gridStep > 0 {
+			g, err := summary.NewLatLonGrid(f.gridStep)
+			if err != nil {
+				return usagef("--grid: %v", err)
+			}
+			reasons := make([]string, len(screenWords))
+			copy(reasons, screenWords)
+			st.grid, err = summary.NewGridded(summary.GriddedOptions{Grid: g, Region: f.region, Window: accWindow, Names: st.mapNames, Reasons: reasons,
+				POP: popVarName, LWP: p.LWP, CritLWP: critVarName, POPThreshold: f.popThreshold})
+			if err != nil {
+				return err
+			}
+		}
 	} else if !st.mixed {
 		for k, v := range st.params {
 			if params[k] != v {
@@ -384,8 +491,12 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	}
 	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base}, st.mapNames...)
 	s := p.Scene
+	st.ext.addScene(s)
 	if f.region != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
+	}
+	if st.grid != nil && s.Lat == nil {
+		return &grid.VarError{File: path, Problem: "--grid bins columns by latitude and longitude, and this file has none; leave --grid out for files without coordinates", Err: grid.ErrLayout}
 	}
 	if p.NoMaps != "" && st.mapsOK {
 		st.mapsOK = false
@@ -395,26 +506,58 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		fmt.Fprintf(e.stderr, "warmrain summary: %s has no time axis; the time window cannot select it, skipped\n", path)
 		return nil
 	}
+	// The window in the file's calendar; one calendar for all files with times.
+	win := f.window
+	if p.TimeVals != nil {
+		if st.calendar == "" {
+			st.calendar, st.calFile = p.Calendar, path
+		} else if !sameCalendarGroup(st.calendar, p.Calendar) {
+			return &grid.VarError{File: path, Problem: fmt.Sprintf("has times in the %s calendar and %s in the %s calendar; summarise files of one calendar together", p.Calendar, st.calFile, st.calendar), Err: grid.ErrLayout}
+		}
+		if win, err = calendarWindow(p.Calendar, f.window); err != nil {
+			return usagef("--from/--to in the %s calendar of %s: %v", p.Calendar, path, err)
+		}
+		st.ext.addTimes(p.TimeVals)
+	}
+	var blo, bhi []float64
+	if p.TimeVals != nil && p.Hz.Time >= 0 {
+		var inst bool
+		blo, bhi, inst = stepBounds(p.TimeVals, p.TimeBnds)
+		st.instant = st.instant || inst
+	}
 	cells := s.Cells()
 	return p.Blocks(func(b procfile.Block) error {
 		times := p.BlockTimes(b)
 		sel := times == nil
 		for _, t := range times {
-			sel = sel || f.window.Contains(t)
+			sel = sel || win.Contains(t)
 		}
 		if !sel {
 			return nil
 		}
-		d, qc, err := p.Step(b, needs)
+		d, reasons, err := p.StepReasons(b, needs)
 		if err != nil {
 			return err
+		}
+		qc := make([]uint16, len(reasons))
+		for i, r := range reasons {
+			if r != 0 {
+				qc[i] = 1
+			}
 		}
 		for k := 0; k < b.N; k++ {
 			if times == nil {
 				st.steps++
-			} else if f.window.Contains(times[k]) {
+			} else if win.Contains(times[k]) {
 				st.steps++
 				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
+				ti := b.Index[p.Hz.Time]
+				if b.Inner == p.Hz.Time {
+					ti = b.Lo + k
+				}
+				st.bmin, st.bmax = math.Min(st.bmin, blo[ti]), math.Max(st.bmax, bhi[ti])
+			} else {
+				times[k] = math.NaN() // not selected (accWindow selects the finite times)
 			}
 		}
 		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.N, Time: times}
@@ -436,25 +579,31 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		if err := st.acc.Add(sc, &cols); err != nil {
 			return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
 		}
-		if !st.mapsOK {
-			return nil
-		}
 		fields := make([]summary.Field, 0, len(st.mapNames))
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
 			fields = append(fields, summary.Field{Name: n, Units: vi.Units, LongName: vi.Long, Data: d[n]})
+		}
+		if st.grid != nil {
+			if err := st.grid.Add(sc, reasons, fields...); err != nil {
+				return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
+			}
+			return nil
+		}
+		if !st.mapsOK {
+			return nil
 		}
 		if err := st.maps.Accumulate(sc, fields...); err != nil {
 			if !errors.Is(err, summary.ErrGrid) {
 				return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
 			}
 			st.mapsOK = false
-			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
+			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v); --grid DEG bins files on any grids onto one\n", path, err)
 			return nil
 		}
 		if st.first == nil {
 			for k := 0; k < b.N; k++ {
-				if times != nil && !f.window.Contains(times[k]) {
+				if times != nil && math.IsNaN(times[k]) {
 					continue
 				}
 				st.first = map[string][]float64{}
@@ -518,16 +667,45 @@ func utcText(t float64) string {
 	return time.Unix(int64(sec), int64(frac*1e9)).UTC().Format("2006-01-02T15:04:05Z")
 }
 
-func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet, inputs, args []string) *grid.Dataset {
+func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet, gr *summary.GriddedResult, inputs, args []string) *grid.Dataset {
 	ds := &grid.Dataset{}
 	dims := res.Dims()
 	for _, n := range []string{summary.DimLWP, summary.DimNd, summary.DimBounds} {
 		ds.Dims = append(ds.Dims, grid.DimSpec{Name: n, Len: dims[n]})
 	}
 	for _, v := range res.Variables() {
-		ds.Vars = append(ds.Vars, summaryVarSpec(v, false))
+		ds.Vars = append(ds.Vars, summaryVarSpec(inFileUnits(v), false))
 	}
-	if len(ms.Maps) > 0 {
+	cal := st.calendar
+	if cal == "" {
+		cal = grid.CalStandard
+	}
+	timeVars := func() []grid.VarSpec {
+		long := "middle of the summarised period; time_bnds spans the time bounds of the inputs' selected steps"
+		if st.instant {
+			long += " (an input without time_bnds and with one time step counts as an instant, so the period can have zero length)"
+		}
+		return []grid.VarSpec{
+			{Name: "time", Type: grid.Double, Data: []float64{(st.bmin + st.bmax) / 2}, Attrs: []grid.Attr{
+				attr("standard_name", "time"), attr("long_name", long),
+				attr("units", "seconds since 1970-01-01 00:00:00"), attr("calendar", cal), attr("axis", "T"), attr("bounds", "time_bnds")}},
+			{Name: "time_bnds", Dims: []string{summary.DimBounds}, Type: grid.Double, Data: []float64{st.bmin, st.bmax}}}
+	}
+	haveTime := !math.IsInf(st.bmin, 1)
+	if gr != nil {
+		ds.Dims = append(ds.Dims, grid.DimSpec{Name: "lat", Len: len(gr.Lat)}, grid.DimSpec{Name: "lon", Len: len(gr.Lon)})
+		ds.Vars = append(ds.Vars,
+			grid.VarSpec{Name: "lat", Dims: []string{"lat"}, Type: grid.Double, Data: gr.Lat, Attrs: []grid.Attr{
+				attr("standard_name", "latitude"), attr("long_name", "latitude of the cell centre"), attr("units", "degrees_north"), attr("axis", "Y")}},
+			grid.VarSpec{Name: "lon", Dims: []string{"lon"}, Type: grid.Double, Data: gr.Lon, Attrs: []grid.Attr{
+				attr("standard_name", "longitude"), attr("long_name", "longitude of the cell centre (increasing; past 180 when the cells cross the antimeridian)"), attr("units", "degrees_east"), attr("axis", "X")}})
+		coords := "lat lon"
+		if haveTime {
+			ds.Vars = append(ds.Vars, timeVars()...)
+			coords = "time lat lon"
+		}
+		ds.Vars = append(ds.Vars, griddedVars(gr, st.mapInfo, coords)...)
+	} else if len(ms.Maps) > 0 {
 		g := ms.Grid
 		twoD := g.TwoD()
 		yd, xd := "lat", "lon"
@@ -550,15 +728,12 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 				grid.VarSpec{Name: "lon", Dims: []string{"lon"}, Type: grid.Double, Data: g.Lon, Attrs: []grid.Attr{
 					attr("standard_name", "longitude"), attr("long_name", "longitude of the cell centre"), attr("units", "degrees_east"), attr("axis", "X")}})
 		}
-		if !math.IsNaN(ms.TimeMin) {
-			ds.Vars = append(ds.Vars,
-				grid.VarSpec{Name: "time", Type: grid.Double, Data: []float64{(ms.TimeMin + ms.TimeMax) / 2}, Attrs: []grid.Attr{
-					attr("standard_name", "time"), attr("long_name", "middle of the averaging period (first to last time step averaged)"),
-					attr("units", "seconds since 1970-01-01 00:00:00"), attr("calendar", "standard"), attr("axis", "T"), attr("bounds", "time_bnds")}},
-				grid.VarSpec{Name: "time_bnds", Dims: []string{summary.DimBounds}, Type: grid.Double, Data: []float64{ms.TimeMin, ms.TimeMax}})
+		if haveTime && !math.IsNaN(ms.TimeMin) {
+			ds.Vars = append(ds.Vars, timeVars()...)
 			coords = strings.TrimSpace("time " + coords)
 		}
 		for _, v := range ms.Variables() {
+			v = inFileUnits(v)
 			// <name>_mean of the maps would clash with the bin means of the statistics
 			// (drizzle_probability_mean): the maps are <name>_time_mean and
 			// <name>_time_mean_count.
@@ -592,7 +767,7 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 		attr("Conventions", "CF-1.13 ACDD-1.3"),
 		attr("title", "warm-rain summary statistics (warmrain)"),
 		attr("summary", "Drizzle probability and cloud-base drizzle rate binned by liquid water path and droplet number, precipitation susceptibilities per liquid-water-path bin, the fraction of drizzle reaching the surface, and time-mean maps, over processed warmrain files."),
-		attr("comment", summaryCaution+" Statistics are in SI units (LWP kg m-2, N_d m-3, rates kg m-2 s-1 = mm s-1 of liquid water)."),
+		attr("comment", summaryCaution+" Values are in the units of the per-column files of 'warmrain process' (LWP g m-2, N_d cm-3, drizzle rates mm day-1; see each variable's units)."),
 		attr("history", hist),
 		attr("source", "warmrain "+Version()+" (libnetcdf "+grid.LibraryVersion()+")"),
 		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap)"),
@@ -610,8 +785,11 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 	for _, k := range keys {
 		g = append(g, attr(k, ra[k]))
 	}
-	if !math.IsNaN(ms.TimeMin) {
-		g = append(g, attr("time_coverage_start", utcText(ms.TimeMin)), attr("time_coverage_end", utcText(ms.TimeMax)))
+	if haveTime {
+		g = append(g, attr("time_coverage_start", grid.CalendarText(cal, st.bmin)), attr("time_coverage_end", grid.CalendarText(cal, st.bmax)))
+	}
+	if gr != nil {
+		g = append(g, attr("warmrain_grid", fmt.Sprintf("%g-degree regular latitude-longitude cells; per cell the statistics of every column located in it over every selected time step; exact sums, so independent of the order of the inputs", gr.Grid.Step)))
 	}
 	if !st.mixed {
 		pk := make([]string, 0, len(st.params))

@@ -305,8 +305,9 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	if int(sum) != valid {
 		t.Errorf("bin counts add up to %g, want the %d valid columns", sum, valid)
 	}
-	if got := floats(t, m["lwp_bin"]); math.Abs(got[0]-math.Sqrt(0.05*0.1)) > 1e-12 {
-		t.Errorf("lwp_bin[0] = %g kg m-2, want the geometric centre %g (derived)", got[0], math.Sqrt(0.05*0.1))
+	// The summary file uses the units of the per-column file: LWP in g m-2.
+	if got := floats(t, m["lwp_bin"]); math.Abs(got[0]-math.Sqrt(50*100)) > 1e-9 {
+		t.Errorf("lwp_bin[0] = %g g m-2, want the geometric centre %g (derived)", got[0], math.Sqrt(50*100))
 	}
 	// Surface fraction: Σ R_sfc / Σ R_CB over the valid columns with both rates finite
 	// and R_CB > 0, computed by netCDF4-python from the processed file itself (an outside
@@ -319,14 +320,14 @@ func TestSummarySyntheticLaw(t *testing.T) {
 		t.Errorf("surface_drizzle_fraction per LWP bin %v: want 3 bins rising with LWP (the synthetic surface rates)", sf)
 	}
 	t.Logf("S_POP %.4f, S_R %.4f, S_I %.4f", sp, sr, si)
-	// The rate map is in SI: mm day-1 / 86400 = kg m-2 s-1 of liquid water (derived,
-	// rho_w = 1000 kg m-3); cell (0, 1) holds columns 1 and 1+NY*NX, neither screened.
-	if m["rate_map_units"] != nil && m["rate_map_units"] != "kg m-2 s-1" {
-		t.Errorf("rate map units %v", m["rate_map_units"])
+	// The rate map is in the per-column file's units (mm day-1, microphys.OutputDecls);
+	// cell (0, 1) holds columns 1 and 1+NY*NX, neither screened.
+	if m["rate_map_units"] != nil && m["rate_map_units"] != mustOutput(rateVarName).Units {
+		t.Errorf("rate map units %v, want %s", m["rate_map_units"], mustOutput(rateVarName).Units)
 	}
-	wantRate := (cols[1].rate + cols[1+synthNY*synthNX].rate) / 2 / 86400
+	wantRate := (cols[1].rate + cols[1+synthNY*synthNX].rate) / 2
 	if got, ok := m["rate_map_01"].(float64); !ok || math.Abs(got-wantRate) > 1e-6*wantRate {
-		t.Errorf("rate map (0, 1) = %v, want %g kg m-2 s-1", m["rate_map_01"], wantRate)
+		t.Errorf("rate map (0, 1) = %v, want %g mm day-1", m["rate_map_01"], wantRate)
 	}
 	if s := m["pop_mean_map_shape"].([]any); len(s) != 2 || s[0].(float64) != synthNY || s[1].(float64) != synthNX {
 		t.Errorf("map shape %v, want [%d %d]", s, synthNY, synthNX)

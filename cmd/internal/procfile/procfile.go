@@ -112,6 +112,24 @@ func Open(path string, window summary.Window) (*File, error) {
 	return p, nil
 }
 
+// IsCoordinate reports whether v is a latitude or longitude (by standard_name,
+// units or name): a coordinate, never a diagnostic to summarise.
+func IsCoordinate(v *grid.VarInfo) bool {
+	switch strings.ToLower(v.Text("standard_name")) {
+	case "latitude", "longitude", "grid_latitude", "grid_longitude":
+		return true
+	}
+	switch strings.ToLower(v.Text("units")) {
+	case "degrees_north", "degree_north", "degrees_n", "degrees_east", "degree_east", "degrees_e":
+		return true
+	}
+	switch strings.ToLower(v.Name) {
+	case "lat", "lon", "latitude", "longitude", "nav_lat", "nav_lon":
+		return true
+	}
+	return false
+}
+
 // Errf returns a layout error naming the file and variable v.
 func (p *File) Errf(v, format string, a ...any) error {
 	return &grid.VarError{File: p.Path, Var: v, Problem: fmt.Sprintf(format, a...), Err: grid.ErrLayout}
@@ -157,10 +175,11 @@ func (p *File) bind() error {
 	if fi.Var(BaseName) != nil {
 		p.Base = BaseName
 	}
-	// Every float diagnostic on the grid is mapped (not the 2-D coordinates of a swath).
+	// Every float diagnostic on the grid is mapped (not the 2-D coordinates of a swath,
+	// whether or not the coordinates attribute names them).
 	coords := strings.Fields(nd.Text("coordinates"))
 	for _, v := range fi.Vars {
-		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.Dims) || slices.Contains(coords, v.Name) {
+		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.Dims) || slices.Contains(coords, v.Name) || IsCoordinate(&v) {
 			continue
 		}
 		vi, err := p.siVar(&v)

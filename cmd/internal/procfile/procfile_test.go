@@ -76,6 +76,15 @@ func TestOpenSwath(t *testing.T) {
 	if _, ok := p.Vars["lat"]; ok {
 		t.Error("latitude bound as a diagnostic")
 	}
+	// Without a coordinates attribute, latitude and longitude are still coordinates.
+	bare, err := Open(ncgen(t, strings.ReplaceAll(swathCDL(thin, info), `droplet_number:coordinates = "lat lon" ;`, "")), summary.Window{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer bare.Close()
+	if _, ok := bare.Vars["lon"]; ok {
+		t.Error("longitude bound as a diagnostic when droplet_number has no coordinates attribute")
+	}
 	if p.Scene.NY != 2 || p.Scene.NX != 3 || !p.Scene.TwoD() || p.NoMaps != "" {
 		t.Errorf("scene %+v, no maps %q", p.Scene, p.NoMaps)
 	}
