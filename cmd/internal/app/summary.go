@@ -1020,6 +1020,9 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		}
 	} else if f.mapOf == "mean" && len(ms.Maps) > 0 {
 		when := "time mean, " + spanText(ms, st.files)
+		if st.grid != nil {
+			when = fmt.Sprintf("mean of the columns in %g° cells, ", st.grid.Options().Grid.Step) + spanText(ms, st.files)
+		}
 		for _, m := range ms.Maps {
 			n := m.Mean.Name
 			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].Long), when: when, file: "map_" + n + "_mean.png"})
