@@ -470,7 +470,7 @@ func partialDataset(st *summaryState, f summaryFlags, inputs []string) *grid.Dat
 		attr("have", []float64{b2f(a.HaveSurface), b2f(a.HaveBase)}),
 		attr("steps", []float64{float64(st.steps), st.tmin, st.tmax, st.bmin, st.bmax, b2f(st.instant), float64(st.files)}),
 		attr("calendar", st.calendar),
-		attr("min_count", float64(f.opt.MinCount)), attr("min_drizzling", f.opt.MinDrizzling),
+		attr("min_count", []float64{float64(f.opt.MinCount)}), attr("min_drizzling", []float64{f.opt.MinDrizzling}),
 		attr("map_names", strings.Join(st.mapNames, " ")),
 	}
 	for _, n := range st.mapNames {
@@ -486,7 +486,7 @@ func partialDataset(st *summaryState, f summaryFlags, inputs []string) *grid.Dat
 	if st.grid != nil {
 		gridPartial(ds, st.grid)
 		o := st.grid.Options()
-		g = append(g, attr("grid_step", o.Grid.Step), attr("drizzle_pop", o.POPThreshold), attr("reasons", strings.Join(o.Reasons, " ")))
+		g = append(g, attr("grid_step", []float64{o.Grid.Step}), attr("drizzle_pop", []float64{o.POPThreshold}), attr("reasons", strings.Join(o.Reasons, " ")))
 	}
 	ds.Globals = g
 	return ds
