@@ -23,19 +23,28 @@ type ExactSum struct {
 }
 
 // exactZero places bit 0 below the exact square of the smallest subnormal
-// (2^-1074 squared is 2^-2148; Frexp of it gives a 53-bit mantissa times 2^-1126, whose
-// square starts at 2^-2252).
+// (2^-1074 squared is 2^-2148), with room to spare.
 const exactZero = 2304
+
+// split returns x = ±m × 2^e with m an integer below 2^53 (IEEE 754 fields).
+func split(x float64) (neg bool, m uint64, e int) {
+	b := math.Float64bits(x)
+	neg = b>>63 != 0
+	be := int(b>>52) & 0x7ff
+	m = b & (1<<52 - 1)
+	if be == 0 { // subnormal
+		return neg, m, -1074
+	}
+	return neg, m | 1<<52, be - 1075
+}
 
 // Add adds x exactly.
 func (s *ExactSum) Add(x float64) {
 	if x == 0 {
 		return
 	}
-	frac, exp := math.Frexp(x)
-	neg := frac < 0
-	m := uint64(math.Abs(frac) * (1 << 53)) // exact: frac has at most 53 significant bits
-	s.addAt(neg, 0, m, exp-53+exactZero)
+	neg, m, e := split(x)
+	s.addAt(neg, 0, m, e+exactZero)
 }
 
 // AddSquare adds x² exactly (the 106-bit square of the mantissa, not the rounded
@@ -44,32 +53,41 @@ func (s *ExactSum) AddSquare(x float64) {
 	if x == 0 {
 		return
 	}
-	frac, exp := math.Frexp(x)
-	m := uint64(math.Abs(frac) * (1 << 53))
+	_, m, e := split(x)
 	hi, lo := bits.Mul64(m, m)
-	s.addAt(false, hi, lo, 2*(exp-53)+exactZero)
+	s.addAt(false, hi, lo, 2*e+exactZero)
 }
 
 // addAt adds (or subtracts) the 128-bit integer (hi, lo) times 2^p.
 func (s *ExactSum) addAt(neg bool, hi, lo uint64, p int) {
 	k, sh := p/32, uint(p%32)
-	s.grow(k, k+5)
-	w := [4]uint64{lo & 0xffffffff, lo >> 32, hi & 0xffffffff, hi >> 32}
-	for i, v := range w {
-		if v == 0 {
-			continue
-		}
-		v <<= sh // < 2^64: v < 2^32 and sh < 32
-		j := k + i - s.base
-		a, b := int64(v&0xffffffff), int64(v>>32)
-		if neg {
-			a, b = -a, -b
-		}
-		s.limbs[j] += a
-		s.limbs[j+1] += b
+	if s.limbs == nil || k < s.base || k+5 > s.base+len(s.limbs)-1 {
+		s.grow(k, k+5)
 	}
-	// Each limb takes at most two pieces below 2^32 per addition: 2^29 additions stay
-	// far below the int64 range.
+	const m32 = 0xffffffff
+	// Four 32-bit pieces, each shifted into at most 64 bits (sh < 32).
+	v0, v1, v2, v3 := (lo&m32)<<sh, (lo>>32)<<sh, (hi&m32)<<sh, (hi>>32)<<sh
+	l := s.limbs[k-s.base : k-s.base+5 : k-s.base+5]
+	a0 := int64(v0 & m32)
+	a1 := int64(v0>>32) + int64(v1&m32)
+	a2 := int64(v1>>32) + int64(v2&m32)
+	a3 := int64(v2>>32) + int64(v3&m32)
+	a4 := int64(v3 >> 32)
+	if neg {
+		l[0] -= a0
+		l[1] -= a1
+		l[2] -= a2
+		l[3] -= a3
+		l[4] -= a4
+	} else {
+		l[0] += a0
+		l[1] += a1
+		l[2] += a2
+		l[3] += a3
+		l[4] += a4
+	}
+	// Each limb takes less than 2^33 per addition: 2^29 additions stay far below the
+	// int64 range.
 	if s.adds++; s.adds >= 1<<29 {
 		s.Normalise()
 	}

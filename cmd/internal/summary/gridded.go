@@ -188,6 +188,10 @@ func (g *Gridded) Add(s Scene, reasons []uint32, fields ...Field) error {
 			idx[y*s.NX+x] = k
 		}
 	}
+	// The cells of the scene's columns, found once for all its steps (neighbouring
+	// columns mostly share a cell: the last one is kept at hand).
+	ptr := make([]*CellSums, cells)
+	lastK, last := -1, (*CellSums)(nil)
 	for t := 0; t < s.NT; t++ {
 		if !timeSelected(s, g.opt.Window, t) {
 			continue
@@ -201,7 +205,13 @@ func (g *Gridded) Add(s Scene, reasons []uint32, fields ...Field) error {
 				continue
 			}
 			i := t*cells + c
-			cs := g.cell(k)
+			cs := ptr[c]
+			if cs == nil {
+				if k != lastK {
+					lastK, last = k, g.cell(k)
+				}
+				cs, ptr[c] = last, last
+			}
 			cs.Columns++
 			if reasons != nil && reasons[i] != 0 {
 				for r := range cs.Screened {
