@@ -687,11 +687,6 @@ func summaryVarSpec(v summary.Var, float bool) grid.VarSpec {
 	return vs
 }
 
-func utcText(t float64) string {
-	sec, frac := math.Modf(t)
-	return time.Unix(int64(sec), int64(frac*1e9)).UTC().Format("2006-01-02T15:04:05Z")
-}
-
 func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet, gr *summary.GriddedResult, inputs, args []string) *grid.Dataset {
 	ds := &grid.Dataset{}
 	dims := res.Dims()
