@@ -246,6 +246,22 @@ func TestShapesEndToEnd(t *testing.T) {
 			if c.family == "icon" {
 				checkRegion(t, out, f)
 			}
+			// --grid bins every family with coordinates (meshes and sites too) onto
+			// one latitude-longitude grid: every column lands in a cell.
+			if c.family != "series" {
+				gNC := filepath.Join(dir, "gridded.nc")
+				code, _, stderr := runProc(t, "summary", out, "--grid", "5", "-o", gNC)
+				if code != 0 || strings.Contains(stderr, "no maps") {
+					t.Fatalf("summary --grid: exit %d: %s", code, stderr)
+				}
+				var n float64
+				for _, v := range readVar(t, gNC, "cell_column_count") {
+					n += v
+				}
+				if int(n) != len(f.LWP) {
+					t.Errorf("--grid: %g columns in the cells; the input has %d", n, len(f.LWP))
+				}
+			}
 		})
 	}
 }

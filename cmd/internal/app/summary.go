@@ -179,6 +179,9 @@ func runSummary(e *env, args []string) error {
 	if !(f.popThreshold >= 0 && f.popThreshold < 1) {
 		return usagef("--drizzle-pop %g: expected a probability in [0, 1)", f.popThreshold)
 	}
+	if f.gridStep > 0 && f.mapOf == "first" {
+		return usagef("--map-of first maps the first time step on its own grid; with --grid the maps are the cells' means")
+	}
 	if f.partial && f.output == "" {
 		return usagef("--partial writes the partial summary to -o FILE; give -o")
 	}
@@ -523,7 +526,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window
 	if st.grid != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--grid bins columns by latitude and longitude, and this file has none; leave --grid out for files without coordinates", Err: grid.ErrLayout}
 	}
-	if p.NoMaps != "" && st.mapsOK {
+	if p.NoMaps != "" && st.mapsOK && st.grid == nil {
 		st.mapsOK = false
 		fmt.Fprintf(e.stderr, "warmrain summary: no maps: %s: %s; the binned statistics use every column\n", path, p.NoMaps)
 	}
