@@ -751,7 +751,7 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 				grid.VarSpec{Name: "lon", Dims: []string{"lon"}, Type: grid.Double, Data: g.Lon, Attrs: []grid.Attr{
 					attr("standard_name", "longitude"), attr("long_name", "longitude of the cell centre"), attr("units", "degrees_east"), attr("axis", "X")}})
 		}
-		if haveTime && !math.IsNaN(ms.TimeMin) {
+		if haveTime {
 			ds.Vars = append(ds.Vars, timeVars()...)
 			coords = strings.TrimSpace("time " + coords)
 		}
@@ -780,6 +780,8 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 			}
 			ds.Vars = append(ds.Vars, vs)
 		}
+	} else if haveTime { // no maps: the period of the statistics still has its bounds
+		ds.Vars = append(ds.Vars, timeVars()...)
 	}
 	line := time.Now().UTC().Format("2006-01-02T15:04:05Z") + ": warmrain " + Version() + " summary " + joinArgs(args)
 	hist := line
