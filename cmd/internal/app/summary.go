@@ -1070,7 +1070,11 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 			if m.Mean.Name == popVarName {
 				c := m.CountField()
 				c.Units = "1"
-				jobs = append(jobs, mapJob{field: c, grid: ms.Grid, title: "Number of time steps with a valid drizzle probability",
+				title := "Number of time steps with a valid drizzle probability"
+				if st.grid != nil {
+					title = "Number of columns with a valid drizzle probability"
+				}
+				jobs = append(jobs, mapJob{field: c, grid: ms.Grid, title: title,
 					when: "over " + spanText(ms, st.files), keepUnits: true, file: "map_valid_count.png"})
 			}
 		}
