@@ -39,7 +39,10 @@ func (g LatLonGrid) Index(lat, lon float64) int {
 		return -1
 	}
 	i := min(int(math.Floor((lat+90)/g.Step)), g.NLat-1)
-	l := wrap360(lon + 180) // 0 at 180° W
+	l := lon + 180 // 0 at 180° W
+	if l < 0 || l >= 360 {
+		l = wrap360(l)
+	}
 	j := min(int(math.Floor(l/g.Step)), g.NLon-1)
 	return i*g.NLon + j
 }
@@ -101,12 +104,14 @@ func (c *CellSums) merge(o *CellSums) {
 // reason and the drizzle occurrence frequencies. Sums are exact (ExactSum), so the
 // result is bit-identical whatever the order of scenes and columns, and Merge of
 // partial accumulators equals a single pass. Memory is bounded by the number of grid
-// cells that received columns, never by the number of scenes.
+// cells that received columns (and a pointer per cell of each grid row that did), never
+// by the number of scenes.
 type Gridded struct {
 	opt        GriddedOptions
 	pop, lwp   int // indices into Names, -1 when absent
 	crit       int
-	cells      map[int]*CellSums
+	rows       [][]*CellSums // per grid row, allocated when the row receives columns
+	ncells     int
 	steps      int
 	tmin, tmax float64
 }
@@ -128,7 +133,7 @@ func NewGridded(o GriddedOptions) (*Gridded, error) {
 			return nil, fmt.Errorf("summary: NewGridded: %s is a coordinate, not a diagnostic", n)
 		}
 	}
-	g := &Gridded{opt: o, cells: map[int]*CellSums{}, tmin: math.Inf(1), tmax: math.Inf(-1)}
+	g := &Gridded{opt: o, rows: make([][]*CellSums, o.Grid.NLat), tmin: math.Inf(1), tmax: math.Inf(-1)}
 	g.opt.Names = slices.Clone(o.Names)
 	g.opt.Reasons = slices.Clone(o.Reasons)
 	g.pop, g.lwp, g.crit = slices.Index(o.Names, o.POP), slices.Index(o.Names, o.LWP), slices.Index(o.Names, o.CritLWP)
@@ -145,10 +150,17 @@ func NewGridded(o GriddedOptions) (*Gridded, error) {
 func (g *Gridded) Options() GriddedOptions { return g.opt }
 
 func (g *Gridded) cell(k int) *CellSums {
-	c := g.cells[k]
+	nl := g.opt.Grid.NLon
+	row := g.rows[k/nl]
+	if row == nil {
+		row = make([]*CellSums, nl)
+		g.rows[k/nl] = row
+	}
+	c := row[k%nl]
 	if c == nil {
+		g.ncells++
 		c = &CellSums{Screened: make([]int64, len(g.opt.Reasons)), Moments: make([]Moments, len(g.opt.Names))}
-		g.cells[k] = c
+		row[k%nl] = c
 	}
 	return c
 }
@@ -250,16 +262,25 @@ func (g *Gridded) Add(s Scene, reasons []uint32, fields ...Field) error {
 
 // Cells returns the indices (row*NLon + column) of the cells with columns, ascending.
 func (g *Gridded) Cells() []int {
-	k := make([]int, 0, len(g.cells))
-	for i := range g.cells {
-		k = append(k, i)
+	k := make([]int, 0, g.ncells)
+	for r, row := range g.rows {
+		for j, c := range row {
+			if c != nil {
+				k = append(k, r*g.opt.Grid.NLon+j)
+			}
+		}
 	}
-	slices.Sort(k)
 	return k
 }
 
 // Sums returns the sums of cell k (nil when it has none). The caller must not change them.
-func (g *Gridded) Sums(k int) *CellSums { return g.cells[k] }
+func (g *Gridded) Sums(k int) *CellSums {
+	nl := g.opt.Grid.NLon
+	if k < 0 || k/nl >= len(g.rows) || g.rows[k/nl] == nil {
+		return nil
+	}
+	return g.rows[k/nl][k%nl]
+}
 
 // MergeCell adds the sums of cell k (from a partial summary) exactly. c must have one
 // Screened entry per reason and one Moments entry per name.
@@ -279,8 +300,8 @@ func (g *Gridded) Merge(o *Gridded) error {
 	if o.opt.Grid != g.opt.Grid || !slices.Equal(o.opt.Names, g.opt.Names) || !slices.Equal(o.opt.Reasons, g.opt.Reasons) {
 		return fmt.Errorf("summary: Merge: the gridded summaries differ in grid, diagnostics or reasons")
 	}
-	for k, c := range o.cells {
-		g.cell(k).merge(c)
+	for _, k := range o.Cells() {
+		g.cell(k).merge(o.Sums(k))
 	}
 	g.AddSteps(o.steps, o.tmin, o.tmax)
 	return nil
@@ -311,13 +332,13 @@ type Extent struct{ Y0, NY, X0, NX int }
 // rows between the southern- and northernmost, and the shortest arc of columns
 // (which may cross 180°). Zero NY when there are none.
 func (g *Gridded) Extent() Extent {
-	if len(g.cells) == 0 {
+	if g.ncells == 0 {
 		return Extent{}
 	}
 	nl := g.opt.Grid.NLon
 	rowMin, rowMax := math.MaxInt, -1
 	used := make([]bool, nl)
-	for k := range g.cells {
+	for _, k := range g.Cells() {
 		r, c := k/nl, k%nl
 		rowMin, rowMax = min(rowMin, r), max(rowMax, r)
 		used[c] = true
@@ -402,7 +423,7 @@ func (g *Gridded) Result(e Extent) *GriddedResult {
 	}
 	for y := 0; y < e.NY; y++ {
 		for x := 0; x < e.NX; x++ {
-			c := g.cells[(e.Y0+y)*gr.NLon+(e.X0+x)%gr.NLon]
+			c := g.Sums((e.Y0+y)*gr.NLon + (e.X0+x)%gr.NLon)
 			if c == nil {
 				continue
 			}
