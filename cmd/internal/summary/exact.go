@@ -44,7 +44,28 @@ func (s *ExactSum) Add(x float64) {
 		return
 	}
 	neg, m, e := split(x)
-	s.addAt(neg, 0, m, e+exactZero)
+	// m < 2^53 shifted by sh < 32 spans three limbs.
+	p := e + exactZero
+	k, sh := p/32, uint(p%32)
+	if s.limbs == nil || k < s.base || k+2 > s.base+len(s.limbs)-1 {
+		s.grow(k, k+2)
+	}
+	const m32 = 0xffffffff
+	v0, v1 := (m&m32)<<sh, (m>>32)<<sh
+	l := s.limbs[k-s.base : k-s.base+3 : k-s.base+3]
+	a0, a1, a2 := int64(v0&m32), int64(v0>>32)+int64(v1&m32), int64(v1>>32)
+	if neg {
+		l[0] -= a0
+		l[1] -= a1
+		l[2] -= a2
+	} else {
+		l[0] += a0
+		l[1] += a1
+		l[2] += a2
+	}
+	if s.adds++; s.adds >= 1<<29 {
+		s.Normalise()
+	}
 }
 
 // AddSquare adds x² exactly (the 106-bit square of the mantissa, not the rounded
@@ -54,15 +75,15 @@ func (s *ExactSum) AddSquare(x float64) {
 		return
 	}
 	_, m, e := split(x)
-	hi, lo := bits.Mul64(m, m)
+	hi, lo := bits.Mul64(m, m) // < 2^106: with the shift, five limbs
 	s.addAt(false, hi, lo, 2*e+exactZero)
 }
 
 // addAt adds (or subtracts) the 128-bit integer (hi, lo) times 2^p.
 func (s *ExactSum) addAt(neg bool, hi, lo uint64, p int) {
 	k, sh := p/32, uint(p%32)
-	if s.limbs == nil || k < s.base || k+5 > s.base+len(s.limbs)-1 {
-		s.grow(k, k+5)
+	if s.limbs == nil || k < s.base || k+4 > s.base+len(s.limbs)-1 {
+		s.grow(k, k+4)
 	}
 	const m32 = 0xffffffff
 	// Four 32-bit pieces, each shifted into at most 64 bits (sh < 32).
