@@ -348,4 +348,15 @@ func TestSummaryEmptySelection(t *testing.T) {
 		t.Errorf("a window after the data: exit %d\n%s", code, stderr)
 	}
 	mustRun(t, "summary", in, "--region", "29,32,10,12") // the right box works
+	// A batch task's share outside the region writes an empty partial summary (with a
+	// note); merging only empty partial summaries is the error.
+	part := filepath.Join(dir, "part.nc")
+	code, _, stderr = runCmd("summary", in, "--region", "-10,0,10,20", "--partial", "-o", part)
+	if code != 0 || !strings.Contains(stderr, "the partial summary is empty") {
+		t.Errorf("an empty task share: exit %d\n%s", code, stderr)
+	}
+	code, _, stderr = runCmd("summary", "--merge", part)
+	if code != 1 || !strings.Contains(stderr, "hold no selected column") {
+		t.Errorf("merging empty partial summaries: exit %d\n%s", code, stderr)
+	}
 }

@@ -398,6 +398,9 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 			}
 		}
 		st.mapsOK = false
+		if st.acc.Result().Counts.Selected == 0 {
+			return fmt.Errorf("nothing selected: the partial summaries %s hold no selected column (their --region or --from/--to missed the data; their runs said where the data are)", strings.Join(inputs, ", "))
+		}
 	} else {
 		var err error
 		if st.acc, err = summary.New(accOpt); err != nil {
@@ -417,7 +420,13 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 			if st.ext.calendar == "" {
 				st.ext.calendar = grid.CalStandard
 			}
-			return selectionError(f, st.ext)
+			err := selectionError(f, st.ext)
+			if !f.partial {
+				return err
+			}
+			// One task's share of an archive may lie outside the selection: its
+			// partial summary is empty, and --merge checks the whole.
+			fmt.Fprintf(e.stderr, "warmrain summary: note: the partial summary is empty: %v\n", err)
 		}
 	}
 	if f.partial {
