@@ -66,7 +66,7 @@ horizontal dimension), time series at one site, with any leading dimensions (tim
 ensemble member). --region needs latitude and longitude (in degrees or radians) in
 every file. A --region or --from/--to window that selects no column is an error
 naming where and when the data are (and the box to try when it was typed
-longitude-first).
+longitude-first); with --partial it writes an empty partial summary and a note.
 
 Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
