@@ -250,7 +250,7 @@ func selectionError(f summaryFlags, x *extent) error {
 		why = append(why, msg)
 	}
 	if !f.window.IsZero() {
-		why = append(why, fmt.Sprintf("--from/--to %s: %s", f.window, x.when()))
+		why = append(why, fmt.Sprintf("the time window (--from/--to) %s selects no time step: %s", f.window, x.when()))
 	}
 	if len(why) == 0 {
 		why = append(why, "the selection keeps no column: "+x.where()+"; "+x.when())
