@@ -226,3 +226,32 @@ func TestLatLonGridIndex(t *testing.T) {
 		t.Error("latitude accepted as a diagnostic")
 	}
 }
+
+// TestGriddedMemoryBounded: memory depends on the cells with columns, not on the
+// number of scenes: 200 scenes over the same 3° x 3° area stay within its cells, each
+// exact sum within a few limbs.
+func TestGriddedMemoryBounded(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 1))
+	g, _ := NewLatLonGrid(1)
+	acc, _ := NewGridded(GriddedOptions{Grid: g, Names: []string{"a", "b"}})
+	for i := 1; i <= 200; i++ {
+		s, r, f := randomSwath(rng, 20, 20, -20+rng.Float64(), 10+rng.Float64(), false)
+		if err := acc.Add(s, r, f...); err != nil {
+			t.Fatal(err)
+		}
+	}
+	cells, most := 0, 0
+	for _, k := range acc.Cells() {
+		c := acc.Sums(k)
+		cells++
+		for v := range c.Moments {
+			most = max(most, len(c.Moments[v].Sum.limbs), len(c.Moments[v].SumSq.limbs))
+		}
+	}
+	// The swaths reach 1.4° beyond their corner: at most 4 x 4 one-degree cells; values
+	// within a factor 2^5 of each other: an exact sum spans at most 3 + 1 + carries
+	// limbs, a sum of squares 5 + 1 + carries (derived from ExactSum's layout).
+	if cells > 16 || most > 8 {
+		t.Errorf("200 scenes: %d cells, largest exact sum %d limbs", cells, most)
+	}
+}
