@@ -516,7 +516,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window
 			if err != nil {
 				return err
 			}
-			// About 160 bytes per diagnostic and cell with columns (measured; the exact
+			// About 145 bytes per diagnostic and cell with columns (measured; the exact
 			// sums): say so when a full grid would take more than 1 GiB.
 			cells := float64(g.NLat * g.NLon)
 			if r := f.region; r != nil {
@@ -526,7 +526,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window
 				}
 				cells *= (r.LatMax - r.LatMin + f.gridStep) / 180 * (w + f.gridStep) / 360
 			}
-			if need := cells * float64(len(st.mapNames)) * 160; need > 1<<30 {
+			if need := cells * float64(len(st.mapNames)) * 145; need > 1<<30 {
 				fmt.Fprintf(e.stderr, "warmrain summary: --grid %g: the sums of %d diagnostics take about %.1f GB where columns cover the whole %s; memory grows with the cells that receive columns (a coarser --grid or a --region needs less)\n",
 					f.gridStep, len(st.mapNames), need/1e9, map[bool]string{true: "region", false: "globe"}[f.region != nil])
 			}

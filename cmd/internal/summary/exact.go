@@ -17,9 +17,9 @@ import (
 // The zero value is an empty sum. Non-finite values must not be added (the callers
 // skip them).
 type ExactSum struct {
-	base  int     // index of limbs[0]: limb k holds bits 32k .. 32k+31 above 2^-exactZero
 	limbs []int64 // signed; not normalised between Normalise calls
-	adds  int     // additions since the last carry propagation
+	base  int32   // index of limbs[0]: limb k holds bits 32k .. 32k+31 above 2^-exactZero
+	adds  int32   // additions since the last carry propagation
 }
 
 // exactZero places bit 0 below the exact square of the smallest subnormal
@@ -47,12 +47,12 @@ func (s *ExactSum) Add(x float64) {
 	// m < 2^53 shifted by sh < 32 spans three limbs.
 	p := e + exactZero
 	k, sh := p/32, uint(p%32)
-	if s.limbs == nil || k < s.base || k+2 > s.base+len(s.limbs)-1 {
+	if s.limbs == nil || k < int(s.base) || k+2 > int(s.base)+len(s.limbs)-1 {
 		s.grow(k, k+2)
 	}
 	const m32 = 0xffffffff
 	v0, v1 := (m&m32)<<sh, (m>>32)<<sh
-	l := s.limbs[k-s.base : k-s.base+3 : k-s.base+3]
+	l := s.limbs[k-int(s.base) : k-int(s.base)+3 : k-int(s.base)+3]
 	a0, a1, a2 := int64(v0&m32), int64(v0>>32)+int64(v1&m32), int64(v1>>32)
 	if neg {
 		l[0] -= a0
@@ -82,13 +82,13 @@ func (s *ExactSum) AddSquare(x float64) {
 // addAt adds (or subtracts) the 128-bit integer (hi, lo) times 2^p.
 func (s *ExactSum) addAt(neg bool, hi, lo uint64, p int) {
 	k, sh := p/32, uint(p%32)
-	if s.limbs == nil || k < s.base || k+4 > s.base+len(s.limbs)-1 {
+	if s.limbs == nil || k < int(s.base) || k+4 > int(s.base)+len(s.limbs)-1 {
 		s.grow(k, k+4)
 	}
 	const m32 = 0xffffffff
 	// Four 32-bit pieces, each shifted into at most 64 bits (sh < 32).
 	v0, v1, v2, v3 := (lo&m32)<<sh, (lo>>32)<<sh, (hi&m32)<<sh, (hi>>32)<<sh
-	l := s.limbs[k-s.base : k-s.base+5 : k-s.base+5]
+	l := s.limbs[k-int(s.base) : k-int(s.base)+5 : k-int(s.base)+5]
 	a0 := int64(v0 & m32)
 	a1 := int64(v0>>32) + int64(v1&m32)
 	a2 := int64(v1>>32) + int64(v2&m32)
@@ -117,16 +117,16 @@ func (s *ExactSum) addAt(neg bool, hi, lo uint64, p int) {
 // grow makes limbs lo..hi (inclusive) addressable.
 func (s *ExactSum) grow(lo, hi int) {
 	if s.limbs == nil {
-		s.base = lo
+		s.base = int32(lo)
 		s.limbs = make([]int64, hi-lo+1)
 		return
 	}
-	if lo < s.base {
-		n := make([]int64, len(s.limbs)+s.base-lo)
-		copy(n[s.base-lo:], s.limbs)
-		s.limbs, s.base = n, lo
+	if lo < int(s.base) {
+		n := make([]int64, len(s.limbs)+int(s.base)-lo)
+		copy(n[int(s.base)-lo:], s.limbs)
+		s.limbs, s.base = n, int32(lo)
 	}
-	if top := s.base + len(s.limbs) - 1; hi > top {
+	if top := int(s.base) + len(s.limbs) - 1; hi > top {
 		s.limbs = append(s.limbs, make([]int64, hi-top)...)
 	}
 }
@@ -155,9 +155,9 @@ func (s *ExactSum) Merge(o *ExactSum) {
 		return
 	}
 	s.Normalise()
-	s.grow(o.base, o.base+len(o.limbs)-1)
+	s.grow(int(o.base), int(o.base)+len(o.limbs)-1)
 	for i, v := range o.limbs {
-		s.limbs[o.base+i-s.base] += v
+		s.limbs[int(o.base)+i-int(s.base)] += v
 	}
 	s.Normalise()
 }
@@ -169,7 +169,7 @@ func (s *ExactSum) Int() (v *big.Int, e int) {
 		v.Lsh(v, 32)
 		v.Add(v, big.NewInt(s.limbs[i]))
 	}
-	return v, 32*s.base - exactZero
+	return v, 32*int(s.base) - exactZero
 }
 
 // Float64 returns the sum rounded once to the nearest float64 (ties to even).
