@@ -5,6 +5,7 @@ package app
 // partial summaries of batch tasks (doc/netcdf.md#partial-summary-files).
 
 import (
+	"encoding/json"
 	"fmt"
 	"math"
 	"os"
@@ -426,48 +427,28 @@ const partialMark = "warmrain_partial_summary"
 func partialDataset(st *summaryState, f summaryFlags, inputs []string) *grid.Dataset {
 	ds := &grid.Dataset{}
 	a := st.acc.State()
-	nl, nn := len(a.LWPEdges)-1, len(a.NdEdges)-1
-	ds.Dims = append(ds.Dims, grid.DimSpec{Name: "lwp_edge", Len: nl + 1}, grid.DimSpec{Name: "nd_edge", Len: nn + 1},
-		grid.DimSpec{Name: "lwp_bin", Len: nl}, grid.DimSpec{Name: "nd_bin", Len: nn}, grid.DimSpec{Name: "base_bin", Len: len(a.SurfaceByBase)})
-	dbl := func(name string, dims []string, d []float64, long string) {
-		ds.Vars = append(ds.Vars, grid.VarSpec{Name: name, Dims: dims, Type: grid.Double, Data: d, Attrs: []grid.Attr{attr("long_name", long)}})
-	}
-	dbl("lwp_edges", []string{"lwp_edge"}, a.LWPEdges, "LWP bin edges, kg m-2")
-	dbl("nd_edges", []string{"nd_edge"}, a.NdEdges, "N_d bin edges, m-3")
-	two := []string{"lwp_bin", "nd_bin"}
-	fields := map[string]func(b summary.BinState) float64{
-		"bin_n": func(b summary.BinState) float64 { return float64(b.N) }, "bin_mean_pop": func(b summary.BinState) float64 { return b.MeanP },
-		"bin_m2_pop": func(b summary.BinState) float64 { return b.M2P }, "bin_n_rate": func(b summary.BinState) float64 { return float64(b.NR) },
-		"bin_mean_rate": func(b summary.BinState) float64 { return b.MeanR }, "bin_m2_rate": func(b summary.BinState) float64 { return b.M2R },
-		"bin_sum_pop_rate": func(b summary.BinState) float64 { return b.SumPR },
-	}
-	for _, n := range slices.Sorted(mapsKeys(fields)) {
-		d := make([]float64, len(a.Bins))
-		for i, b := range a.Bins {
-			d[i] = fields[n](b)
+	dbl := func(name, dim string, d []float64, long string) {
+		if len(d) == 0 { // a dimension needs a length: absent means empty
+			return
 		}
-		dbl(n, two, d, "state of the joint bins (summary.BinState), SI units")
+		ds.Dims = append(ds.Dims, grid.DimSpec{Name: dim, Len: len(d)})
+		ds.Vars = append(ds.Vars, grid.VarSpec{Name: name, Dims: []string{dim}, Type: grid.Double, Data: d, Attrs: []grid.Attr{attr("long_name", long)}})
 	}
-	flux := func(name, dim string, fs []summary.FluxState) {
-		n, s, c := make([]float64, len(fs)), make([]float64, len(fs)), make([]float64, len(fs))
-		for i, x := range fs {
-			n[i], s[i], c[i] = float64(x.N), x.Sfc, x.CB
-		}
-		dbl(name+"_n", []string{dim}, n, "columns with both drizzle rates")
-		dbl(name+"_surface", []string{dim}, s, "sum of surface drizzle rates, kg m-2 s-1")
-		dbl(name+"_cloud_base", []string{dim}, c, "sum of cloud-base drizzle rates, kg m-2 s-1")
+	dbl("joint_bins", "joint_bin_value", a.Bins, "the joint bins' state (summary.State.Bins), SI units")
+	dbl("joint_bootstrap", "joint_bootstrap_value", a.Boot, "the bootstrap replicate sums (summary.State.Boot)")
+	dbl("joint_flux", "joint_flux_value", a.Flux, "the surface-fraction flux sums (summary.State.Flux), kg m-2 s-1")
+	head := a
+	head.Bins, head.Boot, head.Flux = nil, nil, nil
+	js, err := json.Marshal(head)
+	if err != nil { // only a NaN or Inf option could fail, and the options are checked
+		js = []byte("{}")
 	}
-	flux("flux_lwp", "lwp_bin", a.Surface)
-	flux("flux_base", "base_bin", a.SurfaceByBase)
-	c := a.Counts
 	g := []grid.Attr{
 		attr(partialMark, "1"),
 		attr("title", "partial warm-rain summary (exact sums and counts; combine with warmrain summary --merge)"),
 		attr("comment", summaryCaution+" Not a summary to read: its statistics are sums; 'warmrain summary --merge' combines partial summaries exactly."),
 		attr("warmrain_summary_inputs", strings.Join(inputs, "\n")),
-		attr("counts", []float64{float64(c.Seen), float64(c.Selected), float64(c.Masked), float64(c.Invalid), float64(c.Valid), float64(c.OutOfRange)}),
-		attr("flux_all", []float64{float64(a.SurfaceAll.N), a.SurfaceAll.Sfc, a.SurfaceAll.CB}),
-		attr("have", []float64{b2f(a.HaveSurface), b2f(a.HaveBase)}),
+		attr("joint_state", string(js)),
 		attr("steps", []float64{float64(st.steps), st.tmin, st.tmax, st.bmin, st.bmax, b2f(st.instant), float64(st.files)}),
 		attr("calendar", st.calendar),
 		attr("min_count", []float64{float64(f.opt.MinCount)}), attr("min_drizzling", []float64{f.opt.MinDrizzling}),
@@ -591,13 +572,34 @@ func (st *summaryState) readPartial(e *env, f *summaryFlags, path string, first 
 		d, _, err := r.Read(n, nil, nil)
 		return d, err
 	}
-	lwpE, err := read("lwp_edges")
-	if err != nil {
+	var js summary.State
+	if err := json.Unmarshal([]byte(text("joint_state")), &js); err != nil {
+		return &grid.VarError{File: path, Problem: "global attribute joint_state: " + err.Error(), Err: grid.ErrLayout}
+	}
+	optional := func(n string) ([]float64, error) {
+		if fi.Var(n) == nil {
+			return nil, nil
+		}
+		return read(n)
+	}
+	if js.Bins, err = optional("joint_bins"); err != nil {
 		return err
 	}
-	ndE, err := read("nd_edges")
-	if err != nil {
+	if js.Boot, err = optional("joint_bootstrap"); err != nil {
 		return err
+	}
+	if js.Flux, err = optional("joint_flux"); err != nil {
+		return err
+	}
+	// The statistics' thresholds are this run's options; bins, bootstrap and tiles are
+	// the partial summaries'.
+	js.Options.MinCount, js.Options.MinDrizzling, js.Options.MinBins = f.opt.MinCount, f.opt.MinDrizzling, f.opt.MinBins
+	if f.opt.CILevel != 0 {
+		js.Options.CILevel = f.opt.CILevel
+	}
+	part, err := summary.FromState(js)
+	if err != nil {
+		return fmt.Errorf("%s: %w", path, err)
 	}
 	bad := func(format string, a ...any) error {
 		return &grid.VarError{File: path, Problem: fmt.Sprintf(format, a...), Err: grid.ErrLayout}
@@ -608,10 +610,7 @@ func (st *summaryState) readPartial(e *env, f *summaryFlags, path string, first 
 	}
 	names := strings.Fields(text("map_names"))
 	if first {
-		f.opt.LWPEdges, f.opt.NdEdges = lwpE, ndE
-		if st.acc, err = summary.New(f.opt); err != nil {
-			return err
-		}
+		st.acc = part
 		st.mapNames = names
 		st.mapInfo = map[string]procfile.Var{}
 		for _, n := range names {
@@ -670,52 +669,14 @@ func (st *summaryState) readPartial(e *env, f *summaryFlags, path string, first 
 			st.mixed = true
 		}
 	}
-	// joint state
-	s := summary.State{LWPEdges: lwpE, NdEdges: ndE}
-	bins := map[string][]float64{}
-	for _, n := range []string{"bin_n", "bin_mean_pop", "bin_m2_pop", "bin_n_rate", "bin_mean_rate", "bin_m2_rate", "bin_sum_pop_rate"} {
-		if bins[n], err = read(n); err != nil {
-			return err
+	sp := nums("steps")
+	if len(sp) != 7 {
+		return bad("has an incomplete global attribute steps")
+	}
+	if !first {
+		if err := st.acc.Merge(part); err != nil {
+			return fmt.Errorf("%s: %w", path, err)
 		}
-	}
-	for i := range bins["bin_n"] {
-		s.Bins = append(s.Bins, summary.BinState{N: int(bins["bin_n"][i]), MeanP: bins["bin_mean_pop"][i], M2P: bins["bin_m2_pop"][i],
-			NR: int(bins["bin_n_rate"][i]), MeanR: bins["bin_mean_rate"][i], M2R: bins["bin_m2_rate"][i], SumPR: bins["bin_sum_pop_rate"][i]})
-	}
-	flux := func(name string) ([]summary.FluxState, error) {
-		n, err := read(name + "_n")
-		if err != nil {
-			return nil, err
-		}
-		sf, err := read(name + "_surface")
-		if err != nil {
-			return nil, err
-		}
-		cb, err := read(name + "_cloud_base")
-		if err != nil {
-			return nil, err
-		}
-		out := make([]summary.FluxState, len(n))
-		for i := range n {
-			out[i] = summary.FluxState{N: int(n[i]), Sfc: sf[i], CB: cb[i]}
-		}
-		return out, nil
-	}
-	if s.Surface, err = flux("flux_lwp"); err != nil {
-		return err
-	}
-	if s.SurfaceByBase, err = flux("flux_base"); err != nil {
-		return err
-	}
-	c, fa, hv, sp := nums("counts"), nums("flux_all"), nums("have"), nums("steps")
-	if len(c) != 6 || len(fa) != 3 || len(hv) != 2 || len(sp) != 7 {
-		return bad("has incomplete global attributes counts, flux_all, have or steps")
-	}
-	s.Counts = summary.Counts{Seen: int(c[0]), Selected: int(c[1]), Masked: int(c[2]), Invalid: int(c[3]), Valid: int(c[4]), OutOfRange: int(c[5])}
-	s.SurfaceAll = summary.FluxState{N: int(fa[0]), Sfc: fa[1], CB: fa[2]}
-	s.HaveSurface, s.HaveBase = hv[0] == 1, hv[1] == 1
-	if err := st.acc.MergeState(s); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
 	}
 	st.steps += int(sp[0])
 	st.tmin, st.tmax = math.Min(st.tmin, sp[1]), math.Max(st.tmax, sp[2])

@@ -275,6 +275,31 @@ json.dump(out, sys.stdout)`
 			}
 		}
 	}
+	// The tile bootstrap merges too: its weights follow from the seed, the file and the
+	// tile, not from the order (cmd/internal/summary tiles).
+	b1, b2, bm := filepath.Join(dir, "b1.nc"), filepath.Join(dir, "b2.nc"), filepath.Join(dir, "bm.nc")
+	bs := filepath.Join(dir, "bs.nc")
+	boot := []string{"--bootstrap", "40", "--tile", "4", "--min-count", "5"}
+	mustRun(t, append([]string{"summary", in[0], in[1], in[2], "-o", bs}, boot...)...)
+	mustRun(t, append([]string{"summary", in[2], "--partial", "-o", b1}, boot...)...)
+	mustRun(t, append([]string{"summary", in[1], in[0], "--partial", "-o", b2}, boot...)...)
+	mustRun(t, "summary", "--merge", b1, b2, "-o", bm, "--min-count", "5")
+	for _, name := range []string{"susceptibility_pop", "susceptibility_pop_bootstrap_standard_error", "susceptibility_pop_bootstrap_count"} {
+		a, b := readVar(t, bs, name), readVar(t, bm, name)
+		finite := 0
+		for i := range a {
+			if !math.IsNaN(a[i]) {
+				finite++
+			}
+			if !(math.IsNaN(a[i]) && math.IsNaN(b[i])) && math.Abs(a[i]-b[i]) > 1e-9*math.Abs(a[i]) {
+				t.Errorf("%s[%d]: merged %v, single pass %v", name, i, b[i], a[i])
+			}
+		}
+		if finite == 0 {
+			t.Errorf("%s: no finite value; the bootstrap comparison checks nothing", name)
+		}
+	}
+
 	// The joint statistics of the merge agree with the single pass (to rounding).
 	for _, name := range []string{"column_count", "drizzle_probability_mean", "cloud_base_drizzle_rate_mean"} {
 		a, b := readVar(t, out, name), readVar(t, merged, name)
