@@ -384,6 +384,14 @@ Data go to stdout or files; messages go to stderr.
 	instead of the statistics, one per task; --merge PART.nc... combines partial
 	summaries into the summary a single run over all the files would give.
 
+	Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
+	they are drawn without, and stderr says so once), fixed colour limits per
+	variable chosen from its physical range so that maps compare (logarithmic for
+	quantities that span decades; --range VAR=LO:HI[:log] replaces them, in the units
+	the map shows), a legend of the cells without a value (input missing, screened by
+	QC, outside --region, no value), and are cropped to --region. Their titles name
+	only the parameters the variable depends on. See doc/maps.md.
+
 	Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 	horizontal dimension), time series at one site, with any leading dimensions (time,
 	ensemble member). --region needs latitude and longitude (in degrees or radians) in
@@ -420,6 +428,7 @@ Data go to stdout or files; messages go to stderr.
 	Examples:
 	  warmrain summary out/*.nc
 	  warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
+	  warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
 	  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
 	  warmrain summary 'granules/*_warmrain.nc' --grid 1 -o gridded.nc --plots maps
 	  warmrain summary @task07.txt --grid 1 --partial -o parts/task07.nc
@@ -472,6 +481,9 @@ Data go to stdout or files; messages go to stderr.
 	      --manifest FILE                        also summarise the outputs that the batch
 	                                             manifest FILE of 'warmrain process' records as
 	                                             complete
+	      --range VAR=LO:HI[:log]                colour range of VAR's maps in the units the map
+	                                             shows, instead of the declared one:
+	                                             VAR=LO:HI[:log] (repeatable)
 
 # warmrain demo
 

@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"github.com/warmrain/warmrain/cmd/internal/batch"
+	"github.com/warmrain/warmrain/cmd/internal/plots"
 	"github.com/warmrain/warmrain/cmd/internal/procfile"
 	"github.com/warmrain/warmrain/cmd/internal/summary"
 	"github.com/warmrain/warmrain/grid"
@@ -415,6 +416,25 @@ func griddedMapSet(gr *summary.GriddedResult, info map[string]procfile.Var) summ
 		ms.Maps = append(ms.Maps, summary.Map{Mean: summary.Field{Name: n, Units: vi.Units, LongName: vi.Long, Data: gr.Mean[k]}, Count: c})
 	}
 	return ms
+}
+
+// griddedClasses are the no-data classes of the gridded cells for the maps: a cell
+// whose columns were all screened is "screened", or "missing input" when every one
+// of them lacked an input (input_missing).
+func griddedClasses(gr *summary.GriddedResult) []plots.NoData {
+	out := make([]plots.NoData, len(gr.Columns))
+	miss := slices.Index(gr.Reasons, "input_missing")
+	pop := slices.Index(gr.Names, popVarName)
+	for c, n := range gr.Columns {
+		if n == 0 || (pop >= 0 && gr.Count[pop][c] > 0) {
+			continue
+		}
+		out[c] = plots.Screened
+		if miss >= 0 && gr.ScreenedFraction[miss][c] == 1 {
+			out[c] = plots.MissingInput
+		}
+	}
+	return out
 }
 
 // ---- partial summaries ----

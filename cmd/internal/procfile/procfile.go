@@ -86,7 +86,11 @@ type File struct {
 	Base     string // cloud-base height, "" when absent
 	QC       string // the QC flag variable, "" when absent
 	QCScreen uint32 // the file's screening bits
-	Vars     map[string]Var
+	// QCMissing and QCShape are the bits input_missing and gamma_shape_assumed (for the
+	// maps' no-data classes and the gamma-shape note of their titles; Step sets
+	// QCMissingInput and QCShapeAssumed).
+	QCMissing, QCShape uint32
+	Vars               map[string]Var
 
 	reasonBits []uint32 // per ScreenWords entry: the file's bits of that word
 }
@@ -205,6 +209,12 @@ func (p *File) bind() error {
 		}
 		p.reasonBits = make([]uint32, len(ScreenWords))
 		for i, w := range words {
+			switch w {
+			case "input_missing":
+				p.QCMissing |= uint32(int64(m[i]))
+			case "gamma_shape_assumed":
+				p.QCShape |= uint32(int64(m[i]))
+			}
 			for k, s := range ScreenWords {
 				if w == s {
 					p.QCScreen |= uint32(int64(m[i]))
@@ -495,20 +505,19 @@ func (p *File) ReadBlock(name string, b Block) ([]float64, error) {
 	return out, nil
 }
 
+// Bits of the per-column QC of Step besides bit 0 (screened), which the statistics
+// ignore (summary.Options.QCMask = 1).
+const (
+	QCMissingInput = 2 // screened for a missing input
+	QCShapeAssumed = 4 // valid, with the gamma shape of --gamma-shape (no LWP standard deviation)
+)
+
 // Step reads Block b of the named diagnostics, in SI, with screened columns set
-// to NaN. It returns the fields and the per-column QC (1 = screened).
+// to NaN. It returns the fields and the per-column QC (bit 0: screened; see
+// QCMissingInput and QCShapeAssumed).
 func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, error) {
-	d, reasons, err := p.StepReasons(b, names)
-	if err != nil {
-		return nil, nil, err
-	}
-	qc := make([]uint16, len(reasons))
-	for i, r := range reasons {
-		if r != 0 {
-			qc[i] = 1
-		}
-	}
-	return d, qc, nil
+	d, qc, _, err := p.StepAll(b, names)
+	return d, qc, err
 }
 
 // StepReasons is Step returning, per column, why it was screened: bit k set when
@@ -516,12 +525,20 @@ func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, er
 // flag_masks and flag_meanings give the bits, so files with different QC layouts
 // give the same reasons.
 func (p *File) StepReasons(b Block, names []string) (map[string][]float64, []uint32, error) {
+	d, _, reasons, err := p.StepAll(b, names)
+	return d, reasons, err
+}
+
+// StepAll is Step returning both the per-column QC of Step and the screening reasons
+// of StepReasons.
+func (p *File) StepAll(b Block, names []string) (map[string][]float64, []uint16, []uint32, error) {
 	n := b.N * p.Scene.Cells()
+	qc := make([]uint16, n)
 	reasons := make([]uint32, n)
 	if p.QC != "" {
 		q, err := p.ReadBlock(p.QC, b)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		for i, v := range q {
 			// A missing flag (fill) carries no screening information.
@@ -530,7 +547,14 @@ func (p *File) StepReasons(b Block, names []string) (map[string][]float64, []uin
 			}
 			bits := uint32(int64(v))
 			if bits&p.QCScreen == 0 {
+				if bits&p.QCShape != 0 {
+					qc[i] |= QCShapeAssumed
+				}
 				continue
+			}
+			qc[i] = 1
+			if bits&p.QCMissing != 0 {
+				qc[i] |= QCMissingInput
 			}
 			for k, m := range p.reasonBits {
 				if bits&m != 0 {
@@ -546,14 +570,14 @@ func (p *File) StepReasons(b Block, names []string) (map[string][]float64, []uin
 		}
 		vi, ok := p.Vars[nm]
 		if !ok {
-			return nil, nil, p.Errf(nm, "is missing; the first file has it (all files need the same diagnostics)")
+			return nil, nil, nil, p.Errf(nm, "is missing; the first file has it (all files need the same diagnostics)")
 		}
 		d, err := p.ReadBlock(nm, b)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		for i := range d {
-			if reasons[i] != 0 {
+			if qc[i]&1 != 0 {
 				d[i] = math.NaN()
 			} else {
 				d[i] = vi.Conv.Convert(d[i])
@@ -561,5 +585,5 @@ func (p *File) StepReasons(b Block, names []string) (map[string][]float64, []uin
 		}
 		out[nm] = d
 	}
-	return out, reasons, nil
+	return out, qc, reasons, nil
 }
