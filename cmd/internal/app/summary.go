@@ -114,16 +114,15 @@ Examples:
 
 // Names in processed files: rows of microphys.OutputDecls.
 var (
-	lwpVarName       = procfile.LWPName
-	ndVarName        = procfile.NdName
-	popVarName       = procfile.POPName
-	rateVarName      = procfile.RateName
-	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
-	surfVarName      = procfile.SurfName
-	baseVarName      = procfile.BaseName
-	critVarName      = mustOutput("critical_lwp").Name
-	mustOutput       = procfile.MustOutput
-	screenWords      = procfile.ScreenWords
+	lwpVarName  = procfile.LWPName
+	ndVarName   = procfile.NdName
+	popVarName  = procfile.POPName
+	rateVarName = procfile.RateName
+	surfVarName = procfile.SurfName
+	baseVarName = procfile.BaseName
+	critVarName = mustOutput("critical_lwp").Name
+	mustOutput  = procfile.MustOutput
+	screenWords = procfile.ScreenWords
 )
 
 const (
