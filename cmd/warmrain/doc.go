@@ -28,6 +28,11 @@ Data go to stdout or files; messages go to stderr.
 	HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
 	variable in a group by its path (--bind lwp=/geophysical_data/NAME).
 
+	When the input carries retrieval uncertainties of LWP, r_e or tau (a
+	standard_error variable, *_uncertainty in percent, or --bind re_se=VAR), every
+	output gets <name>_standard_error beside it; --parameter-uncertainty adds
+	<name>_parameter_spread (README "Uncertainty").
+
 	With one input, OUTPUT is the output file; with several (or when OUTPUT is an
 	existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 	to a temporary file in the target folder and renamed when complete.
@@ -52,137 +57,160 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 
 	Options:
-	  -o, --output string                 output file (one input) or folder (several inputs)
-	      --name string                   output name pattern in a folder: {stem} {name} {parent}
-	                                      {relpath} {index} (default "{stem}_warmrain.nc")
-	      --ensemble FILE                 write one member per parameter set of FILE (lines NAME:
-	                                      --option VALUE ...) along a dimension member; one input,
-	                                      one output file
-	      --augment[=true|false]          write a copy of the input with the new variables added
-	                                      (default: a new file with the coordinates and the new
-	                                      variables)
-	      --outputs string                comma-separated outputs to write (see README); the QC
-	                                      flags are always written (default "all")
-	      --bind stringArray              take input ROLE from variable VAR, optionally declaring
-	                                      its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re
-	                                      tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)
-	  -j, --jobs int                      files processed at the same time, each in its own
-	                                      process (libnetcdf is single-threaded) (default 1)
-	      --threads int                   compute goroutines per process (0: the CPUs divided by
-	                                      --jobs, less one for the I/O thread)
-	      --deflate int                   deflate level of the outputs, 1-9 (0: no compression)
-	                                      (default 1)
-	      --pack[=true|false]             store the bounded outputs as CF-packed 16-bit integers
-	                                      (smaller, faster; precision in README)
-	      --significant-digits int        lossy: keep this many significant decimal digits in
-	                                      float outputs (CF quantization metadata; 0: off)
-	  -f, --force[=true|false]            replace any existing file at an output path (inputs are
-	                                      never overwritten)
-	      --redo[=true|false]             process again and replace warmrain's outputs of the same
-	                                      input (also those of other parameters)
-	      --shard string                  process only shard I of N (I/N, 0 <= I < N) of the
-	                                      sorted input list
-	      --shard-count int               shard count for a Slurm array whose ids are not a plain range
-	      --ignore-slurm[=true|false]     do not shard by the Slurm array variables
-	      --manifest string               JSON-lines manifest to append to (default:
-	                                      warmrain-manifest.jsonl in the output folder for folder
-	                                      outputs)
-	      --checksum[=true|false]         identify inputs by SHA-256 for resume (default: path,
-	                                      size and modification time)
-	  -q, --quiet[=true|false]            no summary line per file
-	      --no-progress[=true|false]      no progress line (it is shown only when stderr is a terminal)
-	      --slab-mb int                   memory budget of one slab, MiB (three are in flight)
-	                                      (default 32)
-	      --memory-mb int                 memory bound of one process, MiB: inputs whose chunking
-	                                      needs more are read in smaller slabs, or refused with
-	                                      the estimate (default 256)
-	      --autoconversion string         autoconversion scheme: kk2000, kessler1969,
-	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
-	      --collision string              collision efficiency of the collector drop: hall1980,
-	                                      long1974 (default "hall1980")
-	      --coalescence string            coalescence efficiency (seifert2005 is the
-	                                      Beard-Ochs/Low-List blend): seifert2005, beard-ochs1995,
-	                                      low-list1982, unity (default "seifert2005")
-	      --k-ratio float                 k = (r_v/r_e)^3, ratio of mean-volume to effective
-	                                      radius cubed (default 0.8)
-	      --extinction-efficiency float   extinction efficiency Q_ext (default 2)
-	      --adiabatic-fraction float      adiabatic fraction f_ad (default 1)
-	      --condensation-rate float       fixed condensation rate c_w (0: from cloud-top
-	                                      temperature and pressure), g m-3 km-1
-	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
-	                                      (default 14)
-	      --onset-width float             width of the r_e range, centred on the onset radius,
-	                                      over which the drizzle-onset probability of a sub-grid
-	                                      column rises from 0 to 1 (0: a step at the onset
-	                                      radius), µm (default 4)
-	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
-	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 25)
-	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
-	                                      µm (default 100)
-	      --updraft float                 updraft speed (0: collector released at cloud top, the
-	                                      stratocumulus picture; >0: enters at cloud base and is
-	                                      carried up first, a cumulus picture), m s-1
-	      --collector-tolerance float     relative tolerance per step of the collector-drop
-	                                      integrator (default 1e-06)
-	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
-	                                      mixing ratio conserved down to the surface; surface-rh:
-	                                      linear from the surface relative humidity to saturation
-	                                      at cloud base, for decoupled layers): well-mixed,
-	                                      surface-rh (default "well-mixed")
-	      --surface-rh float              surface relative humidity (0-1) when the input has none
-	                                      (with --subcloud-humidity surface-rh) (default 0.8)
-	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
-	                                      (size distribution of the surface drizzle; above
-	                                      --drizzle-min-radius), µm (default 50)
-	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
-	                                      distribution, µm (default 20)
-	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
-	                                      (0: exponential)
-	      --surface-pressure float        surface pressure to place cloud base when the input has
-	                                      no cloud-top height, hPa (default 1013.25)
-	      --default-ctt float             cloud-top temperature when the input has none, K
-	                                      (default 285)
-	      --default-ctp float             cloud-top pressure when the input has none, hPa (default 900)
-	      --drizzle-law string            cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R
-	                                      mm day-1, LWP g m-2, N_d cm-3) (default "0.37,1.75,1.75")
-	      --kessler-rate float            Kessler rate constant, s-1 (default 0.001)
-	      --kessler-threshold float       Kessler threshold cloud-water mixing ratio, g kg-1
-	                                      (default 0.5)
-	      --seifert-beheng-shape float    cloud-droplet gamma shape nu (in mass) of the
-	                                      seifert-beheng2001 scheme (default 1)
-	      --collector-method string       collector and evaporation results (table: interpolated,
-	                                      tested to 0.5 %; direct: integrated per column, slow):
-	                                      table, direct (default "table")
-	      --no-collector[=true|false]     skip the collector drop and the sub-cloud evaporation
-	                                      (surface drizzle)
-	      --no-evaporation[=true|false]   skip the sub-cloud evaporation (the surface drizzle and
-	                                      the collector drop's fall)
-	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
-	      --min-tau float                 screen columns with optical thickness below this (default 3)
-	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
-	      --min-ctt float                 screen columns with cloud-top temperature below this
-	                                      (possible ice), K (default 273.15)
-	      --nd-range string               plausible droplet-number range as min,max, cm-3 (default
-	                                      "10,1000")
-	      --max-thickness float           screen columns with adiabatic thickness above this, m
-	                                      (default 1500)
-	      --droplet-number float          droplet number concentration assumed where the input has
-	                                      LWP but no effective radius (r_e follows from the
-	                                      adiabatic cloud; 0: none), cm-3
-	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
-	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
-	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
-	                                      (default "adiabatic")
-	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
-	                                      fraction is below this (default 0.05)
-	      --mask stringArray              screen columns by a quality variable:
-	                                      'VAR:MEANING[,MEANING...]' (a CF flag variable has any
-	                                      of the flag_meanings words) or 'VAR<N' (also <=, >, >=,
-	                                      ==, !=; in VAR's own units); repeatable
-	      --lwp-kind string               what the LWP averages: auto (from cell_methods, the
-	                                      variable name and model attributes), in-cloud, or
-	                                      grid-mean (divided by the cloud fraction) (default "auto")
+	  -o, --output string                        output file (one input) or folder (several inputs)
+	      --name string                          output name pattern in a folder: {stem} {name}
+	                                             {parent} {relpath} {index} (default
+	                                             "{stem}_warmrain.nc")
+	      --ensemble FILE                        write one member per parameter set of FILE (lines
+	                                             NAME: --option VALUE ...) along a dimension
+	                                             member; one input, one output file
+	      --augment[=true|false]                 write a copy of the input with the new variables
+	                                             added (default: a new file with the coordinates
+	                                             and the new variables)
+	      --outputs string                       comma-separated outputs to write (see README);
+	                                             the QC flags are always written (default "all")
+	      --bind stringArray                     take input ROLE from variable VAR, optionally
+	                                             declaring its units: ROLE=VAR[:UNITS]
+	                                             (repeatable; roles: lwp re tau ctt ctp cth
+	                                             cloud_fraction lwp_sd nd phase multilayer lwp_se
+	                                             re_se tau_se)
+	  -j, --jobs int                             files processed at the same time, each in its own
+	                                             process (libnetcdf is single-threaded) (default 1)
+	      --threads int                          compute goroutines per process (0: the CPUs
+	                                             divided by --jobs, less one for the I/O thread)
+	      --deflate int                          deflate level of the outputs, 1-9 (0: no
+	                                             compression) (default 1)
+	      --pack[=true|false]                    store the bounded outputs as CF-packed 16-bit
+	                                             integers (smaller, faster; precision in README)
+	      --significant-digits int               lossy: keep this many significant decimal digits
+	                                             in float outputs (CF quantization metadata; 0: off)
+	  -f, --force[=true|false]                   replace any existing file at an output path
+	                                             (inputs are never overwritten)
+	      --redo[=true|false]                    process again and replace warmrain's outputs of
+	                                             the same input (also those of other parameters)
+	      --shard string                         process only shard I of N (I/N, 0 <= I < N) of
+	                                             the sorted input list
+	      --shard-count int                      shard count for a Slurm array whose ids are not a
+	                                             plain range
+	      --ignore-slurm[=true|false]            do not shard by the Slurm array variables
+	      --manifest string                      JSON-lines manifest to append to (default:
+	                                             warmrain-manifest.jsonl in the output folder for
+	                                             folder outputs)
+	      --checksum[=true|false]                identify inputs by SHA-256 for resume (default:
+	                                             path, size and modification time)
+	  -q, --quiet[=true|false]                   no summary line per file
+	      --no-progress[=true|false]             no progress line (it is shown only when stderr is
+	                                             a terminal)
+	      --slab-mb int                          memory budget of one slab, MiB (three are in
+	                                             flight) (default 32)
+	      --memory-mb int                        memory bound of one process, MiB: inputs whose
+	                                             chunking needs more are read in smaller slabs, or
+	                                             refused with the estimate (default 256)
+	      --autoconversion string                autoconversion scheme: kk2000, kessler1969,
+	                                             liu-daum2004, seifert-beheng2001 (default "kk2000")
+	      --collision string                     collision efficiency of the collector drop:
+	                                             hall1980, long1974 (default "hall1980")
+	      --coalescence string                   coalescence efficiency (seifert2005 is the
+	                                             Beard-Ochs/Low-List blend): seifert2005,
+	                                             beard-ochs1995, low-list1982, unity (default
+	                                             "seifert2005")
+	      --k-ratio float                        k = (r_v/r_e)^3, ratio of mean-volume to
+	                                             effective radius cubed (default 0.8)
+	      --extinction-efficiency float          extinction efficiency Q_ext (default 2)
+	      --adiabatic-fraction float             adiabatic fraction f_ad (default 1)
+	      --condensation-rate float              fixed condensation rate c_w (0: from cloud-top
+	                                             temperature and pressure), g m-3 km-1
+	      --onset-radius float                   drizzle-onset cloud-top effective radius r_e*,
+	                                             µm (default 14)
+	      --onset-width float                    width of the r_e range, centred on the onset
+	                                             radius, over which the drizzle-onset probability
+	                                             of a sub-grid column rises from 0 to 1 (0: a step
+	                                             at the onset radius), µm (default 4)
+	      --gamma-shape float                    gamma shape of sub-grid LWP when the input has no
+	                                             LWP standard deviation (default 4)
+	      --collector-radius float               start radius of the collector drop, µm (default 25)
+	      --drizzle-radius float                 radius at which the collector counts as a drizzle
+	                                             drop, µm (default 100)
+	      --updraft float                        updraft speed (0: collector released at cloud
+	                                             top, the stratocumulus picture; >0: enters at
+	                                             cloud base and is carried up first, a cumulus
+	                                             picture), m s-1
+	      --collector-tolerance float            relative tolerance per step of the collector-drop
+	                                             integrator (default 1e-06)
+	      --subcloud-humidity string             sub-cloud humidity (well-mixed: the cloud-base
+	                                             vapour mixing ratio conserved down to the
+	                                             surface; surface-rh: linear from the surface
+	                                             relative humidity to saturation at cloud base,
+	                                             for decoupled layers): well-mixed, surface-rh
+	                                             (default "well-mixed")
+	      --surface-rh float                     surface relative humidity (0-1) when the input
+	                                             has none (with --subcloud-humidity surface-rh)
+	                                             (default 0.8)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
+	                                             base (size distribution of the surface drizzle;
+	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
+	                                             size distribution, µm (default 20)
+	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size
+	                                             distribution (0: exponential)
+	      --surface-pressure float               surface pressure to place cloud base when the
+	                                             input has no cloud-top height, hPa (default 1013.25)
+	      --default-ctt float                    cloud-top temperature when the input has none, K
+	                                             (default 285)
+	      --default-ctp float                    cloud-top pressure when the input has none, hPa
+	                                             (default 900)
+	      --drizzle-law string                   cloud-base drizzle rate R = a LWP^b N_d^-c as
+	                                             a,b,c (R mm day-1, LWP g m-2, N_d cm-3) (default
+	                                             "0.37,1.75,1.75")
+	      --kessler-rate float                   Kessler rate constant, s-1 (default 0.001)
+	      --kessler-threshold float              Kessler threshold cloud-water mixing ratio, g
+	                                             kg-1 (default 0.5)
+	      --seifert-beheng-shape float           cloud-droplet gamma shape nu (in mass) of the
+	                                             seifert-beheng2001 scheme (default 1)
+	      --collector-method string              collector and evaporation results (table:
+	                                             interpolated, tested to 0.5 %; direct: integrated
+	                                             per column, slow): table, direct (default "table")
+	      --no-collector[=true|false]            skip the collector drop and the sub-cloud
+	                                             evaporation (surface drizzle)
+	      --no-evaporation[=true|false]          skip the sub-cloud evaporation (the surface
+	                                             drizzle and the collector drop's fall)
+	      --min-lwp float                        screen columns with LWP below this, g m-2 (default 5)
+	      --min-tau float                        screen columns with optical thickness below this
+	                                             (default 3)
+	      --re-range string                      valid effective-radius range as min,max, µm
+	                                             (default "4,30")
+	      --min-ctt float                        screen columns with cloud-top temperature below
+	                                             this (possible ice), K (default 273.15)
+	      --nd-range string                      plausible droplet-number range as min,max, cm-3
+	                                             (default "10,1000")
+	      --max-thickness float                  screen columns with adiabatic thickness above
+	                                             this, m (default 1500)
+	      --droplet-number float                 droplet number concentration assumed where the
+	                                             input has LWP but no effective radius (r_e
+	                                             follows from the adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string                   cloud profile for LWP from optical thickness and
+	                                             r_e when the input has no LWP: adiabatic (5/9
+	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
+	                                             adiabatic, uniform (default "adiabatic")
+	      --error-correlation float              correlation coefficient of the LWP and r_e
+	                                             retrieval errors (for an LWP the product derived
+	                                             from tau and r_e, see doc/science.md#uncertainty)
+	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
+	                                             every diagnostic, <name>_parameter_spread: k,
+	                                             f_ad, Q_ext, the onset radius, the drizzle law
+	                                             and the gamma shape perturbed by their spreads
+	                                             one at a time
+	      --min-cloud-fraction float             with a grid-box-mean LWP, screen columns whose
+	                                             cloud fraction is below this (default 0.05)
+	      --mask stringArray                     screen columns by a quality variable:
+	                                             'VAR:MEANING[,MEANING...]' (a CF flag variable
+	                                             has any of the flag_meanings words) or 'VAR<N'
+	                                             (also <=, >, >=, ==, !=; in VAR's own units);
+	                                             repeatable
+	      --lwp-kind string                      what the LWP averages: auto (from cell_methods,
+	                                             the variable name and model attributes),
+	                                             in-cloud, or grid-mean (divided by the cloud
+	                                             fraction) (default "auto")
 
 # warmrain inspect
 
@@ -202,7 +230,9 @@ Data go to stdout or files; messages go to stderr.
 	Roles: lwp, re (required unless the run can derive them: LWP from tau and
 	r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
 	lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
-	screen non-liquid and multi-layer columns). With --mask, it counts the
+	screen non-liquid and multi-layer columns), and lwp_se, re_se, tau_se (the
+	retrieval standard errors, absolute or in percent, that give every output its
+	<name>_standard_error). With --mask, it counts the
 	columns each mask removes; flag codes held inside a data variable (sea ice,
 	land) are counted by meaning.
 	Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
@@ -232,6 +262,7 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
 	  (without --re: --droplet-number N; without --lwp: --tau and --re)
 	                  [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
+	                  [--lwp-se G_M2|P%] [--re-se UM|P%] [--tau-se T|P%] [--parameter-uncertainty]
 
 	Runs the physics of one column given on the command line and prints the
 	parameters used, the adiabatic profile (liquid water content, mean-volume and
@@ -246,104 +277,132 @@ Data go to stdout or files; messages go to stderr.
 	model with the chosen --collector-method, so with the table method the exit
 	radius there may differ from the path's by up to about 0.5 %.
 
+	With standard errors of the inputs (--lwp-se, --re-se, --tau-se: in the input's
+	units, or a percentage such as 10%) every diagnostic is printed as value ± its
+	first-order retrieval error, and with --parameter-uncertainty also ± its
+	parameter spread (README "Uncertainty"); an output marked "(non-linear)" is
+	strongly non-linear within the errors, so its ± is a local sensitivity only.
+
 	Example:
 	  warmrain column --lwp 120 --re 14
+	  warmrain column --lwp 120 --re 14 --lwp-se 15 --re-se 10% --parameter-uncertainty
 	  warmrain column --lwp 120 --re 14 --ctt 284 --ctp 880 --cth 1200 --updraft 0.5 --json
 
 	Options:
-	      --lwp float                     liquid water path, g m-2 (required)
-	      --re float                      cloud-top effective radius, µm (required)
-	      --tau float                     cloud optical thickness (absent: from LWP and r_e,
-	                                      adiabatic relation)
-	      --ctt float                     cloud-top temperature, K (absent: --default-ctt)
-	      --ctp float                     cloud-top pressure, hPa (absent: --default-ctp)
-	      --cth float                     cloud-top height above the surface, m (absent: cloud
-	                                      base from the dry adiabat to --surface-pressure)
-	      --lwp-sd float                  sub-grid standard deviation of LWP, g m-2 (absent:
-	                                      --gamma-shape)
-	      --rh-surface float              surface relative humidity of this column, 0-1, used with
-	                                      --subcloud-humidity surface-rh (absent: --surface-rh)
-	      --autoconversion string         autoconversion scheme: kk2000, kessler1969,
-	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
-	      --collision string              collision efficiency of the collector drop: hall1980,
-	                                      long1974 (default "hall1980")
-	      --coalescence string            coalescence efficiency (seifert2005 is the
-	                                      Beard-Ochs/Low-List blend): seifert2005, beard-ochs1995,
-	                                      low-list1982, unity (default "seifert2005")
-	      --k-ratio float                 k = (r_v/r_e)^3, ratio of mean-volume to effective
-	                                      radius cubed (default 0.8)
-	      --extinction-efficiency float   extinction efficiency Q_ext (default 2)
-	      --adiabatic-fraction float      adiabatic fraction f_ad (default 1)
-	      --condensation-rate float       fixed condensation rate c_w (0: from cloud-top
-	                                      temperature and pressure), g m-3 km-1
-	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
-	                                      (default 14)
-	      --onset-width float             width of the r_e range, centred on the onset radius,
-	                                      over which the drizzle-onset probability of a sub-grid
-	                                      column rises from 0 to 1 (0: a step at the onset
-	                                      radius), µm (default 4)
-	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
-	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 25)
-	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
-	                                      µm (default 100)
-	      --updraft float                 updraft speed (0: collector released at cloud top, the
-	                                      stratocumulus picture; >0: enters at cloud base and is
-	                                      carried up first, a cumulus picture), m s-1
-	      --collector-tolerance float     relative tolerance per step of the collector-drop
-	                                      integrator (default 1e-06)
-	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
-	                                      mixing ratio conserved down to the surface; surface-rh:
-	                                      linear from the surface relative humidity to saturation
-	                                      at cloud base, for decoupled layers): well-mixed,
-	                                      surface-rh (default "well-mixed")
-	      --surface-rh float              surface relative humidity (0-1) when the input has none
-	                                      (with --subcloud-humidity surface-rh) (default 0.8)
-	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
-	                                      (size distribution of the surface drizzle; above
-	                                      --drizzle-min-radius), µm (default 50)
-	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
-	                                      distribution, µm (default 20)
-	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
-	                                      (0: exponential)
-	      --surface-pressure float        surface pressure to place cloud base when the input has
-	                                      no cloud-top height, hPa (default 1013.25)
-	      --default-ctt float             cloud-top temperature when the input has none, K
-	                                      (default 285)
-	      --default-ctp float             cloud-top pressure when the input has none, hPa (default 900)
-	      --drizzle-law string            cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R
-	                                      mm day-1, LWP g m-2, N_d cm-3) (default "0.37,1.75,1.75")
-	      --kessler-rate float            Kessler rate constant, s-1 (default 0.001)
-	      --kessler-threshold float       Kessler threshold cloud-water mixing ratio, g kg-1
-	                                      (default 0.5)
-	      --seifert-beheng-shape float    cloud-droplet gamma shape nu (in mass) of the
-	                                      seifert-beheng2001 scheme (default 1)
-	      --collector-method string       collector and evaporation results (table: interpolated,
-	                                      tested to 0.5 %; direct: integrated per column, slow):
-	                                      table, direct (default "table")
-	      --no-collector[=true|false]     skip the collector drop and the sub-cloud evaporation
-	                                      (surface drizzle)
-	      --no-evaporation[=true|false]   skip the sub-cloud evaporation (the surface drizzle and
-	                                      the collector drop's fall)
-	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
-	      --min-tau float                 screen columns with optical thickness below this (default 3)
-	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
-	      --min-ctt float                 screen columns with cloud-top temperature below this
-	                                      (possible ice), K (default 273.15)
-	      --nd-range string               plausible droplet-number range as min,max, cm-3 (default
-	                                      "10,1000")
-	      --max-thickness float           screen columns with adiabatic thickness above this, m
-	                                      (default 1500)
-	      --droplet-number float          droplet number concentration assumed where the input has
-	                                      LWP but no effective radius (r_e follows from the
-	                                      adiabatic cloud; 0: none), cm-3
-	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
-	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
-	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
-	                                      (default "adiabatic")
-	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
-	                                      fraction is below this (default 0.05)
-	      --json[=true|false]             print one JSON object instead of the tables
+	      --lwp float                            liquid water path, g m-2 (required)
+	      --re float                             cloud-top effective radius, µm (required)
+	      --tau float                            cloud optical thickness (absent: from LWP and
+	                                             r_e, adiabatic relation)
+	      --ctt float                            cloud-top temperature, K (absent: --default-ctt)
+	      --ctp float                            cloud-top pressure, hPa (absent: --default-ctp)
+	      --cth float                            cloud-top height above the surface, m (absent:
+	                                             cloud base from the dry adiabat to --surface-pressure)
+	      --lwp-sd float                         sub-grid standard deviation of LWP, g m-2
+	                                             (absent: --gamma-shape)
+	      --rh-surface float                     surface relative humidity of this column, 0-1,
+	                                             used with --subcloud-humidity surface-rh (absent:
+	                                             --surface-rh)
+	      --autoconversion string                autoconversion scheme: kk2000, kessler1969,
+	                                             liu-daum2004, seifert-beheng2001 (default "kk2000")
+	      --collision string                     collision efficiency of the collector drop:
+	                                             hall1980, long1974 (default "hall1980")
+	      --coalescence string                   coalescence efficiency (seifert2005 is the
+	                                             Beard-Ochs/Low-List blend): seifert2005,
+	                                             beard-ochs1995, low-list1982, unity (default
+	                                             "seifert2005")
+	      --k-ratio float                        k = (r_v/r_e)^3, ratio of mean-volume to
+	                                             effective radius cubed (default 0.8)
+	      --extinction-efficiency float          extinction efficiency Q_ext (default 2)
+	      --adiabatic-fraction float             adiabatic fraction f_ad (default 1)
+	      --condensation-rate float              fixed condensation rate c_w (0: from cloud-top
+	                                             temperature and pressure), g m-3 km-1
+	      --onset-radius float                   drizzle-onset cloud-top effective radius r_e*,
+	                                             µm (default 14)
+	      --onset-width float                    width of the r_e range, centred on the onset
+	                                             radius, over which the drizzle-onset probability
+	                                             of a sub-grid column rises from 0 to 1 (0: a step
+	                                             at the onset radius), µm (default 4)
+	      --gamma-shape float                    gamma shape of sub-grid LWP when the input has no
+	                                             LWP standard deviation (default 4)
+	      --collector-radius float               start radius of the collector drop, µm (default 25)
+	      --drizzle-radius float                 radius at which the collector counts as a drizzle
+	                                             drop, µm (default 100)
+	      --updraft float                        updraft speed (0: collector released at cloud
+	                                             top, the stratocumulus picture; >0: enters at
+	                                             cloud base and is carried up first, a cumulus
+	                                             picture), m s-1
+	      --collector-tolerance float            relative tolerance per step of the collector-drop
+	                                             integrator (default 1e-06)
+	      --subcloud-humidity string             sub-cloud humidity (well-mixed: the cloud-base
+	                                             vapour mixing ratio conserved down to the
+	                                             surface; surface-rh: linear from the surface
+	                                             relative humidity to saturation at cloud base,
+	                                             for decoupled layers): well-mixed, surface-rh
+	                                             (default "well-mixed")
+	      --surface-rh float                     surface relative humidity (0-1) when the input
+	                                             has none (with --subcloud-humidity surface-rh)
+	                                             (default 0.8)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
+	                                             base (size distribution of the surface drizzle;
+	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
+	                                             size distribution, µm (default 20)
+	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size
+	                                             distribution (0: exponential)
+	      --surface-pressure float               surface pressure to place cloud base when the
+	                                             input has no cloud-top height, hPa (default 1013.25)
+	      --default-ctt float                    cloud-top temperature when the input has none, K
+	                                             (default 285)
+	      --default-ctp float                    cloud-top pressure when the input has none, hPa
+	                                             (default 900)
+	      --drizzle-law string                   cloud-base drizzle rate R = a LWP^b N_d^-c as
+	                                             a,b,c (R mm day-1, LWP g m-2, N_d cm-3) (default
+	                                             "0.37,1.75,1.75")
+	      --kessler-rate float                   Kessler rate constant, s-1 (default 0.001)
+	      --kessler-threshold float              Kessler threshold cloud-water mixing ratio, g
+	                                             kg-1 (default 0.5)
+	      --seifert-beheng-shape float           cloud-droplet gamma shape nu (in mass) of the
+	                                             seifert-beheng2001 scheme (default 1)
+	      --collector-method string              collector and evaporation results (table:
+	                                             interpolated, tested to 0.5 %; direct: integrated
+	                                             per column, slow): table, direct (default "table")
+	      --no-collector[=true|false]            skip the collector drop and the sub-cloud
+	                                             evaporation (surface drizzle)
+	      --no-evaporation[=true|false]          skip the sub-cloud evaporation (the surface
+	                                             drizzle and the collector drop's fall)
+	      --min-lwp float                        screen columns with LWP below this, g m-2 (default 5)
+	      --min-tau float                        screen columns with optical thickness below this
+	                                             (default 3)
+	      --re-range string                      valid effective-radius range as min,max, µm
+	                                             (default "4,30")
+	      --min-ctt float                        screen columns with cloud-top temperature below
+	                                             this (possible ice), K (default 273.15)
+	      --nd-range string                      plausible droplet-number range as min,max, cm-3
+	                                             (default "10,1000")
+	      --max-thickness float                  screen columns with adiabatic thickness above
+	                                             this, m (default 1500)
+	      --droplet-number float                 droplet number concentration assumed where the
+	                                             input has LWP but no effective radius (r_e
+	                                             follows from the adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string                   cloud profile for LWP from optical thickness and
+	                                             r_e when the input has no LWP: adiabatic (5/9
+	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
+	                                             adiabatic, uniform (default "adiabatic")
+	      --error-correlation float              correlation coefficient of the LWP and r_e
+	                                             retrieval errors (for an LWP the product derived
+	                                             from tau and r_e, see doc/science.md#uncertainty)
+	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
+	                                             every diagnostic, <name>_parameter_spread: k,
+	                                             f_ad, Q_ext, the onset radius, the drizzle law
+	                                             and the gamma shape perturbed by their spreads
+	                                             one at a time
+	      --min-cloud-fraction float             with a grid-box-mean LWP, screen columns whose
+	                                             cloud fraction is below this (default 0.05)
+	      --lwp-se string                        standard error of the LWP: g m-2, or a percentage
+	                                             of it (10%)
+	      --re-se string                         standard error of r_e: µm, or a percentage of it
+	      --tau-se string                        standard error of tau, or a percentage of it
+	      --json[=true|false]                    print one JSON object instead of the tables
 
 # warmrain summary
 

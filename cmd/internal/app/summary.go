@@ -542,7 +542,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window
 		st.mapInfo = p.Vars
 		st.lwpName = p.LWP
 		for _, v := range p.Info.Vars { // file order; latitude and longitude are no diagnostics
-			if vi, ok := p.Vars[v.Name]; ok && !plots.IsCoordinate(v.Name, vi.Std, v.Text("units")) {
+			if vi, ok := p.Vars[v.Name]; ok && mappedUncertainty(v.Name) && !plots.IsCoordinate(v.Name, vi.Std, v.Text("units")) {
 				st.mapNames = append(st.mapNames, v.Name)
 			}
 		}
@@ -1161,9 +1161,25 @@ func titleChars(_ summary.Scene, w, _ int) int {
 	return max(24, int(float64(w-8-150-16)/7.5))
 }
 
+// mappedUncertainty reports whether a variable is mapped as far as its uncertainty goes:
+// of the uncertainty outputs (uncertainty.go) only the retrieval errors of N_d and of the
+// cloud-base drizzle rate get maps; every other variable is decided by its type and grid.
+func mappedUncertainty(name string) bool {
+	if strings.HasSuffix(name, spreadSuffix) {
+		return false
+	}
+	if base, ok := strings.CutSuffix(name, seSuffix); ok {
+		return base == ndVarName || base == rateVarName
+	}
+	return true
+}
+
 // mapStyle sets the colour scale, limits and units of a diagnostic's picture: the
 // declared ones (microphys.OutputDecls) or the user's --range (plots.Style).
 func mapStyle(name, siUnit string, ranges plots.Ranges, o *plots.MapOptions) (fixed bool) {
+	if base, ok := strings.CutSuffix(name, seSuffix); ok {
+		name = base // a standard error is drawn on its diagnostic's scale
+	}
 	return plots.Style(name, siUnit, ranges, o)
 }
 
