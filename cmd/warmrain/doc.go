@@ -419,16 +419,36 @@ Data go to stdout or files; messages go to stderr.
 	drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 	water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 	S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-	with their standard errors, and with --bootstrap their confidence intervals; the flux-weighted fraction of drizzle reaching the surface
-	(sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
-	time-mean maps of every diagnostic with the number of values averaged per cell.
+	with their standard errors, and with --bootstrap their confidence intervals; the
+	flux-weighted fraction of drizzle reaching the surface (sum of surface_drizzle_rate
+	over sum of cloud_base_drizzle_rate); and maps of every diagnostic.
+
+	PROCESSED may be a file, a quoted glob ('out/*.nc') or @LIST (a file naming one
+	input per line); --manifest adds the outputs a batch manifest of 'warmrain process'
+	records as complete.
 
 	The table goes to stdout. -o writes the same statistics and the maps as a CF NetCDF
-	file; --plots writes PNG pictures into DIR: one quick-look map per diagnostic
-	(map_<variable>_mean.png, or _first.png with --map-of first), a map of how many
-	valid time steps each cell averaged (map_valid_count.png), POP against LWP for
-	several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
-	(susceptibility_vs_lwp.png). Existing files are only replaced with --force.
+	file, in the units of the per-column files (LWP g m-2, N_d cm-3, rates mm day-1),
+	with time bounds spanning the inputs' time bounds; --plots writes PNG pictures into
+	DIR: one quick-look map per diagnostic (map_<variable>_mean.png, or _first.png with
+	--map-of first), a map of how many valid values each cell averaged
+	(map_valid_count.png), POP against LWP for several N_d bins (pop_vs_lwp.png) and the
+	susceptibilities against LWP (susceptibility_vs_lwp.png). Existing files are only
+	replaced with --force.
+
+	Maps. Without --grid, files on one common grid or swath give time-mean maps on it;
+	files on different grids give none (stderr says so). --grid DEG bins the columns of
+	every file (grids, swaths, meshes with coordinates, on any grids) into DEG-degree
+	cells of a regular latitude-longitude grid: per cell the count, mean and standard
+	deviation of every diagnostic, the fraction of columns screened by each QC reason and
+	the drizzle occurrence frequencies (POP above --drizzle-pop, and LWP above the
+	critical LWP*). The sums are exact, so the numbers do not depend on the order of the
+	files. Latitude and longitude are coordinates, never summarised; longitudes may be
+	given as -180..180 or 0..360.
+
+	Batch tasks. --partial -o PART.nc writes a partial summary (exact sums and counts)
+	instead of the statistics, one per task; --merge PART.nc... combines partial
+	summaries into the summary a single run over all the files would give.
 
 	Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
 	they are drawn without, and stderr says so once), fixed colour limits per
@@ -440,9 +460,10 @@ Data go to stdout or files; messages go to stderr.
 
 	Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 	horizontal dimension), time series at one site, with any leading dimensions (time,
-	ensemble member). Maps need a grid or swath with latitude and longitude; for other
-	files the statistics use every column and stderr says why there are no maps.
-	--region needs latitude and longitude (in degrees or radians) in every file.
+	ensemble member). --region needs latitude and longitude (in degrees or radians) in
+	every file. A --region or --from/--to window that selects no column is an error
+	naming where and when the data are (and the box to try when it was typed
+	longitude-first); with --partial it writes an empty partial summary and a note.
 
 	Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 	thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
@@ -463,8 +484,9 @@ Data go to stdout or files; messages go to stderr.
 
 	Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
 	LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
-	edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
-	2026-07-01T06:00 or RFC 3339.
+	edges. Times (--from, --to; the window is [FROM, TO)) are dates and times of the
+	files' calendar (standard, proleptic_gregorian, julian, noleap, 365_day, all_leap,
+	366_day, 360_day): 2026-07-01, 2026-07-01T06:00 or RFC 3339.
 
 	Results are research diagnostics, not for operational forecasting or flight-safety
 	decisions.
@@ -474,6 +496,9 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
 	  warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
 	  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
+	  warmrain summary 'granules/*_warmrain.nc' --grid 1 -o gridded.nc --plots maps
+	  warmrain summary @task07.txt --grid 1 --partial -o parts/task07.nc
+	  warmrain summary --merge 'parts/*.nc' -o gridded.nc --plots maps
 
 	Options:
 	  -o, --output SUMMARY.nc                    write the summary as a CF NetCDF file SUMMARY.nc
@@ -481,8 +506,10 @@ Data go to stdout or files; messages go to stderr.
 	      --region LATMIN,LATMAX,LONMIN,LONMAX   keep columns in the box
 	                                             LATMIN,LATMAX,LONMIN,LONMAX (degrees; LONMIN >
 	                                             LONMAX crosses 180°)
-	      --from TIME                            keep time steps at or after TIME (UTC)
-	      --to TIME                              keep time steps before TIME (UTC)
+	      --from TIME                            keep time steps at or after TIME (UTC, a date of
+	                                             the files' calendar)
+	      --to TIME                              keep time steps before TIME (UTC, a date of the
+	                                             files' calendar)
 	      --lwp-bins LO:HI:N                     LWP bins in g m-2: LO:HI:N logarithmic, or edges
 	                                             E1,E2,... (default "20:500:10")
 	      --nd-bins LO:HI:N                      N_d bins in cm-3: LO:HI:N logarithmic, or edges
@@ -507,6 +534,19 @@ Data go to stdout or files; messages go to stderr.
 	                                             (first selected time step) (default "mean")
 	      --force[=true|false]                   overwrite an existing summary file and existing
 	                                             pictures
+	      --grid DEG                             bin the columns of every file (grids, swaths,
+	                                             meshes with coordinates) onto a regular
+	                                             latitude-longitude grid of DEG degrees (180/DEG whole)
+	      --drizzle-pop P                        with --grid: a column counts as drizzling in the
+	                                             occurrence frequency when its POP exceeds P
+	                                             (default 0.5)
+	      --partial[=true|false]                 write -o as a partial summary (exact sums and
+	                                             counts, e.g. one per batch task) for --merge
+	      --merge[=true|false]                   the inputs are partial summaries (--partial):
+	                                             combine them exactly
+	      --manifest FILE                        also summarise the outputs that the batch
+	                                             manifest FILE of 'warmrain process' records as
+	                                             complete
 	      --range VAR=LO:HI[:log]                colour range of VAR's maps in the units the map
 	                                             shows, instead of the declared one:
 	                                             VAR=LO:HI[:log] (repeatable)
@@ -520,7 +560,9 @@ Data go to stdout or files; messages go to stderr.
 	and a narrow line of polluted cloud; invented data, for the demo only),
 	processes it with the default parameters, summarises it (with 200 tile-bootstrap
 	replicates, so the susceptibilities get 95% intervals), draws quick-look maps and
-	curves, and prints where the results are.
+	curves; then samples two level-2-like swaths (granules on different pixel grids)
+	from the scenario, processes them and writes a gridded summary of both on a
+	0.25-degree grid with its maps; and prints where the results are.
 
 	Example:
 	  warmrain demo --dir demo-output
