@@ -50,13 +50,22 @@ func TestFaults(t *testing.T) {
 		t.Fatal(err)
 	}
 	ref := filepath.Join(refDir, "ref.nc")
-	s := start(t, exe, args(ref)...)
-	t0, _ := waitWriting(t, s, refDir, nil)
-	if code := s.wait(t); code != 0 {
-		t.Fatalf("reference run: exit %d\n%s", code, s.stderr)
+	// Two timed runs, the shorter counts: the first one also fills caches (the
+	// page cache, the table cache), and a kill delay scaled on a slow run would
+	// mostly land after the process ended.
+	var writing time.Duration
+	for k, out := range []string{filepath.Join(refDir, "warm.nc"), ref} {
+		before := dirNames(t, refDir)
+		s := start(t, exe, args(out)...)
+		t0, _ := waitWriting(t, s, refDir, before)
+		if code := s.wait(t); code != 0 {
+			t.Fatalf("reference run: exit %d\n%s", code, s.stderr)
+		}
+		if d := time.Since(t0); k == 0 || d < writing {
+			writing = d
+		}
 	}
-	writing := time.Since(t0)
-	t.Logf("reference run: %v from the temporary file to exit", writing.Round(time.Millisecond))
+	t.Logf("reference run: %v from the temporary file to exit (the shorter of two)", writing.Round(time.Millisecond))
 	refDigest := dataDigest(t, ref)
 	refOther := dataDigest(t, ref, attrIdentity) // for other input names
 	lintClean(t, ref)
