@@ -742,104 +742,42 @@ func (j *processJob) workers() int {
 	return max(1, runtime.NumCPU()/max(1, j.o.jobs)-1)
 }
 
-// compute returns the per-slab kernel: inputs from the slab's canonical
-// slices, the product's masks and flag codes, the input completion
-// (microphys.Model.Complete) and one microphys.Model.Column call per column,
-// outputs scaled to the file units. It allocates nothing per column.
+// compute returns the per-slab kernel: columnKernel.column for each column (masks, flag
+// codes, completion and one microphys.Model.Column call), outputs scaled to the file units
+// (outputValue). It allocates nothing per column.
 func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally) grid.ComputeFunc {
-	m := j.model
 	defs := j.defs
-	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
-	iCTT, iCTP, iCTH, iSD := grid.RoleCTT.Index(), grid.RoleCTP.Index(), grid.RoleCTH.Index(), grid.RoleLWPSD.Index()
-	iNd, iCF := grid.RoleNd.Index(), grid.RoleCloudFraction.Index()
-	gridMean := gin.GridMean
-	masks := gin.Masks
-	bits := make([]uint32, len(masks))
-	for k, mk := range masks {
-		bits[k] = maskBit(mk)
-	}
-	var codeRoles []int // roles whose decoder screens flag codes
-	for i, r := range grid.Roles {
-		if b, ok := gin.Binding(r); ok && len(b.Decoder.FlagCodes) > 0 {
-			codeRoles = append(codeRoles, i)
-		}
-	}
-	screen := microphys.QCInputScreenMask | uint32(microphys.QCScreenMask)
-	nan := math.NaN()
+	k := newColumnKernel(j.model, gin)
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
-		at := func(k, i int) float64 {
-			if s.In[k] == nil {
-				return nan
-			}
-			return s.In[k][i]
-		}
 		var in microphys.Inputs
 		var o microphys.Outputs
 		var n int64
 		var local grid.QualityCounts
-		if len(masks) > 0 || len(codeRoles) > 0 {
-			local.Masks = make([]int64, len(masks))
-			for _, r := range codeRoles {
+		if len(k.masks) > 0 || len(k.codeRoles) > 0 {
+			local.Masks = make([]int64, len(k.masks))
+			for _, r := range k.codeRoles {
 				b, _ := gin.Binding(grid.Roles[r])
 				local.Codes[r] = make([]int64, len(b.Decoder.FlagCodes))
 			}
 		}
 		qc := outs[len(defs)]
-		for k, d := range defs {
+		for c, d := range defs {
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
 				for i := lo; i < hi; i++ {
-					outs[k][i] = src[i] * d.scale
+					outs[c][i] = src[i] * d.scale
 				}
 			}
 		}
 		for i := lo; i < hi; i++ {
-			var qin uint32
-			for k, mk := range masks {
-				if mk.Screens(s.In[mk.Role.Index()][i]) {
-					qin |= bits[k]
-					local.Masks[k]++
+			q, ran := k.column(s, i, &in, &o, &local)
+			for c := range defs {
+				if !ran || defs[c].get != nil || defs[c].input == grid.RoleLWP {
+					outs[c][i] = outputValue(&defs[c], &in, &o, ran)
 				}
 			}
-			for _, r := range codeRoles {
-				if c, ok := grid.FlagIndex(s.In[r][i]); ok {
-					qin |= microphys.QCFlagCode
-					local.Codes[r][c]++
-				}
-			}
-			if qin != 0 {
-				local.Screened++
-			}
-			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
-				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
-			if qin == 0 {
-				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
-			}
-			if qin&screen != 0 {
-				for k := range defs {
-					outs[k][i] = nan
-					if defs[k].input == grid.RoleLWP && in.LWP >= 0 {
-						outs[k][i] = in.LWP * defs[k].scale
-					}
-				}
-				qc[i] = float64(qin)
-				n++
-				continue
-			}
-			m.Column(&in, &o)
-			for k := range defs {
-				switch {
-				case defs[k].get != nil:
-					outs[k][i] = defs[k].get(&o) * defs[k].scale
-				case defs[k].input == grid.RoleLWP:
-					outs[k][i] = nan
-					if in.LWP >= 0 {
-						outs[k][i] = in.LWP * defs[k].scale // the LWP used: derived or in-cloud
-					}
-				}
-			}
-			qc[i] = float64(uint32(o.QC) | qin)
-			if o.QC&microphys.QCScreenMask != 0 {
+			qc[i] = float64(q)
+			if q&k.screen != 0 {
 				n++
 			}
 		}
@@ -848,6 +786,97 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			counts.add(&local)
 		}
 	}
+}
+
+// columnKernel is the work process does for one column, shared with 'column --from' so
+// that both give the same numbers: the product's masks and flag codes, the input completion
+// (microphys.Model.Complete), the screening and one microphys.Model.Column call.
+type columnKernel struct {
+	m                                                *microphys.Model
+	masks                                            []*grid.Mask
+	bits                                             []uint32
+	codeRoles                                        []int // roles whose decoder screens flag codes
+	gridMean                                         bool
+	iLWP, iRe, iTau, iCTT, iCTP, iCTH, iSD, iNd, iCF int
+	screen                                           uint32
+}
+
+func newColumnKernel(m *microphys.Model, gin *grid.Input) *columnKernel {
+	k := &columnKernel{m: m, masks: gin.Masks, gridMean: gin.GridMean,
+		iLWP: grid.RoleLWP.Index(), iRe: grid.RoleRe.Index(), iTau: grid.RoleTau.Index(),
+		iCTT: grid.RoleCTT.Index(), iCTP: grid.RoleCTP.Index(), iCTH: grid.RoleCTH.Index(), iSD: grid.RoleLWPSD.Index(),
+		iNd: grid.RoleNd.Index(), iCF: grid.RoleCloudFraction.Index(),
+		screen: microphys.QCInputScreenMask | uint32(microphys.QCScreenMask)}
+	k.bits = make([]uint32, len(k.masks))
+	for i, mk := range k.masks {
+		k.bits[i] = maskBit(mk)
+	}
+	for i, r := range grid.Roles {
+		if b, ok := gin.Binding(r); ok && len(b.Decoder.FlagCodes) > 0 {
+			k.codeRoles = append(k.codeRoles, i)
+		}
+	}
+	return k
+}
+
+// column fills in (the completed inputs) and o for column i of slab s and returns the QC
+// word written to the file (input bits | Column's bits); ran is false when the column was
+// screened before Column (o is then not computed). local counts mask and flag-code hits
+// (its Masks nil: not counted).
+func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *microphys.Outputs, local *grid.QualityCounts) (qc uint32, ran bool) {
+	nan := math.NaN()
+	at := func(r int) float64 {
+		if s.In[r] == nil {
+			return nan
+		}
+		return s.In[r][i]
+	}
+	var qin uint32
+	for c, mk := range k.masks {
+		if mk.Screens(s.In[mk.Role.Index()][i]) {
+			qin |= k.bits[c]
+			if local.Masks != nil {
+				local.Masks[c]++
+			}
+		}
+	}
+	for _, r := range k.codeRoles {
+		if c, ok := grid.FlagIndex(s.In[r][i]); ok {
+			qin |= microphys.QCFlagCode
+			if local.Codes[r] != nil {
+				local.Codes[r][c]++
+			}
+		}
+	}
+	if qin != 0 {
+		local.Screened++
+	}
+	*in = microphys.Inputs{LWP: at(k.iLWP), Re: at(k.iRe), Tau: at(k.iTau), CTT: at(k.iCTT),
+		CTP: at(k.iCTP), CTH: at(k.iCTH), LWPStd: at(k.iSD), SurfaceRH: nan}
+	if qin == 0 {
+		qin = k.m.Complete(in, at(k.iNd), at(k.iCF), k.gridMean)
+	}
+	if qin&k.screen != 0 {
+		return qin, false
+	}
+	k.m.Column(in, o)
+	return uint32(o.QC) | qin, true
+}
+
+// outputValue is the value of output d (file units) for a column: its diagnostic, the LWP
+// used (derived or in-cloud) for the LWP copy, NaN for a screened column's diagnostics.
+// Copies of other inputs (d.get nil, d.input not LWP) are not handled here.
+func outputValue(d *outputDef, in *microphys.Inputs, o *microphys.Outputs, ran bool) float64 {
+	switch {
+	case d.input == grid.RoleLWP:
+		if in.LWP >= 0 {
+			return in.LWP * d.scale
+		}
+		return math.NaN()
+	case !ran || d.get == nil:
+		return math.NaN()
+	}
+	return d.get(o) * d.scale
 }
 
 // globals are the provenance and parameter attributes of an output.
