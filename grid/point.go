@@ -3,6 +3,7 @@ package grid
 import (
 	"fmt"
 	"math"
+	"slices"
 	"unsafe"
 )
 
@@ -228,4 +229,76 @@ func (v *OutputVar) Stored(x float64) float64 {
 	out := []float64{0}
 	dec.Decode(out, unsafe.Pointer(&raw[0]))
 	return out[0]
+}
+
+// RoleSample is what a sample of an input's values says about one bound role: the median
+// of the valid values (canonical units), how many were read, and the fraction outside the
+// role's Plausible range.
+type RoleSample struct {
+	Role    Role
+	Median  float64
+	Valid   int
+	Outside float64
+}
+
+// Sample reads slabs from the start of the input (in processing order) until every bound
+// role with a Plausible range has n valid values or the input ends, and summarises them
+// (RoleSample, in role order). Flag codes and missing values are not counted.
+func (in *Input) Sample(n int) ([]RoleSample, error) {
+	p := newPlan(in, nil, in.opt.SlabBytes)
+	buf := newInBuf(in, p)
+	defer buf.release()
+	var vals [NumRoles][]float64
+	want := func() bool {
+		for i, b := range in.bindings {
+			if b != nil && b.Role.Rule().Plausible != [2]float64{} && len(vals[i]) < n {
+				return true
+			}
+		}
+		return false
+	}
+	errEnough := fmt.Errorf("enough")
+	err := in.eachDecoded(p, buf, func(int, int, int, int, int) error {
+		for i, b := range in.bindings {
+			if b == nil || b.Role.Rule().Plausible == [2]float64{} {
+				continue
+			}
+			for _, x := range buf.slab.In[i] {
+				if len(vals[i]) >= n {
+					break
+				}
+				if !math.IsNaN(x) && !math.IsInf(x, 0) {
+					vals[i] = append(vals[i], x)
+				}
+			}
+		}
+		if !want() {
+			return errEnough
+		}
+		return nil
+	})
+	if err != nil && err != errEnough {
+		return nil, err
+	}
+	var out []RoleSample
+	for i, b := range in.bindings {
+		if b == nil || len(vals[i]) == 0 {
+			continue
+		}
+		v := vals[i]
+		slices.Sort(v)
+		pr := b.Role.Rule().Plausible
+		outside := 0
+		for _, x := range v {
+			if x < pr[0] || x > pr[1] {
+				outside++
+			}
+		}
+		med := v[len(v)/2]
+		if len(v)%2 == 0 {
+			med = (v[len(v)/2-1] + v[len(v)/2]) / 2
+		}
+		out = append(out, RoleSample{Role: b.Role, Median: med, Valid: len(v), Outside: float64(outside) / float64(len(v))})
+	}
+	return out, nil
 }

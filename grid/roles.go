@@ -73,6 +73,29 @@ type RoleRule struct {
 	// Internal roles are bound only by the run (masks), never by discovery or an
 	// override.
 	Internal bool
+	// Plausible is the range, in Units, in which the bulk of a real field of the role lies
+	// ([0, 0] for flag codes: no check). A median outside it means the units are wrong
+	// (r_e declared in mm, LWP in kg m-2 that is in g m-2): PlausibleRange checks it.
+	Plausible [2]float64
+}
+
+// plausible gives the Plausible ranges of RoleRules, canonical units, with their sources:
+// LWP of liquid clouds 1 g m-2 to 3 kg m-2 and its sub-grid standard deviation up to the
+// same; cloud-top r_e of liquid water 1-60 um (the retrieval ranges of the passive imager
+// products, from memory); optical thickness 0-500; cloud-top temperature 150-350 K,
+// pressure 50-1100 hPa, height 0-25 km (the troposphere, common practice); fractions 0-1
+// (by definition); droplet number 1-10000 cm-3 (marine to polluted, [Wood2012] from
+// memory, with a decade of margin).
+var plausible = map[Role][2]float64{
+	RoleLWP: {1e-3, 3}, RoleLWPSD: {0, 3}, RoleRe: {1e-6, 60e-6}, RoleTau: {0, 500},
+	RoleCTT: {150, 350}, RoleCTP: {5e3, 1.1e5}, RoleCTH: {0, 2.5e4}, RoleCloudFraction: {0, 1},
+	RoleNd: {1e6, 1e10},
+}
+
+func init() {
+	for i := range RoleRules {
+		RoleRules[i].Plausible = plausible[RoleRules[i].Role]
+	}
 }
 
 // Codes reports whether the role holds flag codes rather than a quantity.

@@ -120,7 +120,7 @@ func TestColumnMatchesMicrophys(t *testing.T) {
 					t.Errorf("%s units %q, want %q", d.name, got.Units[d.name], d.units)
 				}
 			}
-			if got.QC.Value != want.QC || strings.Join(got.QC.Flags, " ") != strings.Join(microphys.QCNames(want.QC), " ") {
+			if got.QC.Value != uint32(want.QC) || strings.Join(got.QC.Flags, " ") != strings.Join(microphys.QCNames(want.QC), " ") {
 				t.Errorf("qc %d %v, want %d %v", got.QC.Value, got.QC.Flags, want.QC, microphys.QCNames(want.QC))
 			}
 			if got.Parameters["collector_method"] != "direct" || got.Parameters["updraft"] != c.upd {

@@ -86,6 +86,19 @@ func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 	return f
 }
 
+// setDefault changes the default of one physics option for this command (column integrates
+// the collector directly by default); the help shows the new default.
+func (f *physicsFlags) setDefault(fs *pflag.FlagSet, option, value string) {
+	fl := fs.Lookup(option)
+	if fl == nil {
+		panic("app: no option --" + option)
+	}
+	if err := fl.Value.Set(value); err != nil {
+		panic("app: default of --" + option + ": " + err.Error())
+	}
+	fl.DefValue = value
+}
+
 // toParams converts the options to SI parameters and validates them; errors name the
 // option and its range in the unit users type.
 func (f *physicsFlags) toParams() (microphys.Params, error) {

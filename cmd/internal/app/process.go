@@ -595,6 +595,11 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	for _, w := range in.Warnings {
 		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
 	}
+	if !j.o.ioOnly {
+		for _, w := range unitWarnings(in) {
+			fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
+		}
+	}
 	assumed := assumed(in, j.params)
 	var used []string
 	for _, b := range in.Bindings() {
