@@ -105,17 +105,17 @@ type valueRow struct {
 
 // sourceReport says where a --from column was read and what it held.
 type sourceReport struct {
-	File       string             `json:"file"`
-	Index      map[string]int     `json:"index"` // dimension name -> index
-	Lat        jnum               `json:"latitude,omitempty"`
-	Lon        jnum               `json:"longitude,omitempty"`
-	DistanceKm jnum               `json:"distance_km,omitempty"` // from --lat/--lon to the pixel's centre
-	Time       string             `json:"time,omitempty"`
-	Read       []readValue        `json:"read"` // each bound variable's value at the pixel
-	Stored     string             `json:"stored_as"`
-	Warnings   []string           `json:"warnings,omitempty"`
-	index      []int              // in Layout.Dims order
-	dims       []string           // Layout.Dims names
+	File       string         `json:"file"`
+	Index      map[string]int `json:"index"` // dimension name -> index
+	Lat        jnum           `json:"latitude,omitempty"`
+	Lon        jnum           `json:"longitude,omitempty"`
+	DistanceKm jnum           `json:"distance_km,omitempty"` // from --lat/--lon to the pixel's centre
+	Time       string         `json:"time,omitempty"`
+	Read       []readValue    `json:"read"` // each bound variable's value at the pixel
+	Stored     string         `json:"stored_as"`
+	Warnings   []string       `json:"warnings,omitempty"`
+	index      []int          // in Layout.Dims order
+	dims       []string       // Layout.Dims names
 }
 
 // readValue is one input variable's value at the pixel, in the units the options use.
@@ -646,16 +646,15 @@ func columnFromFile(e *env, fs *pflag.FlagSet, cf *columnFlags, p microphys.Para
 		return nil, err
 	}
 	defer gin.Close()
-	for _, w := range gin.Warnings {
-		fmt.Fprintf(e.stderr, "warmrain: warning: %s\n", w)
-	}
-	for _, w := range unitWarnings(gin) {
+	warns := append(append([]string(nil), gin.Warnings...), unitWarnings(gin)...)
+	for _, w := range warns {
 		fmt.Fprintf(e.stderr, "warmrain: warning: %s\n", w)
 	}
 	src, err := pickPixel(gin, cf, byPlace)
 	if err != nil {
 		return nil, err
 	}
+	src.Warnings = warns
 	s, err := gin.ReadColumn(src.index)
 	if err != nil {
 		return nil, err
