@@ -212,7 +212,7 @@ func ParseRole(s string) (Role, error) {
 		}
 		names = append(names, string(r))
 	}
-	return "", fmt.Errorf("%w: unknown input role %q; expected one of %s", ErrOverride, s, strings.Join(names, ", "))
+	return "", errOverride("unknown input role %q; expected one of %s", s, strings.Join(names, ", "))
 }
 
 // Override binds a role to a named variable, optionally declaring its units.
@@ -239,7 +239,7 @@ func (o Override) String() string {
 func ParseOverride(s string) (Override, error) {
 	role, rest, ok := strings.Cut(s, "=")
 	if !ok {
-		return Override{}, fmt.Errorf("%w: %q: expected ROLE=VARNAME or ROLE=VARNAME:UNITS", ErrOverride, s)
+		return Override{}, errOverride("%q: expected ROLE=VARNAME or ROLE=VARNAME:UNITS", s)
 	}
 	r, err := ParseRole(strings.TrimSpace(role))
 	if err != nil {
@@ -249,16 +249,16 @@ func ParseOverride(s string) (Override, error) {
 	name = strings.TrimSpace(name)
 	units = strings.TrimSpace(units)
 	if name == "" {
-		return Override{}, fmt.Errorf("%w: %q: empty variable name; expected ROLE=VARNAME or ROLE=VARNAME:UNITS", ErrOverride, s)
+		return Override{}, errOverride("%q: empty variable name; expected ROLE=VARNAME or ROLE=VARNAME:UNITS", s)
 	}
 	if strings.ContainsAny(name, "\t\n") {
-		return Override{}, fmt.Errorf("%w: %q: variable name %q contains a tab or a newline", ErrOverride, s, name)
+		return Override{}, errOverride("%q: variable name %q contains a tab or a newline", s, name)
 	}
 	if strings.Contains(rest, ":") && units == "" {
-		return Override{}, fmt.Errorf("%w: %q: empty units after ':'", ErrOverride, s)
+		return Override{}, errOverride("%q: empty units after ':'", s)
 	}
 	if units != "" && r.Rule().Codes() {
-		return Override{}, fmt.Errorf("%w: %q: role %s holds flag codes, which have no units", ErrOverride, s, r)
+		return Override{}, errOverride("%q: role %s holds flag codes, which have no units", s, r)
 	}
 	if units != "" {
 		if _, err := NewConverter(units, CanonicalUnits(r)); err != nil {

@@ -139,7 +139,17 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 	if err := p.Validate(); err != nil {
 		var pe *microphys.ParamError
 		if errors.As(err, &pe) {
-			return p, usagef("--%s must be %s (got %s)", pe.Option, pe.Want, strconv.FormatFloat(pe.Value, 'g', -1, 64))
+			got := strconv.FormatFloat(pe.Value, 'g', -1, 64)
+			for _, d := range microphys.ParamDecls {
+				switch {
+				case d.Name != pe.Field:
+				case d.Kind == microphys.ParamSwitch:
+					return p, usagef("%v", pe)
+				case d.Unit != "" && d.Unit != "1":
+					got += " " + d.Unit
+				}
+			}
+			return p, usagef("--%s must be %s (got %s)", pe.Option, pe.Want, got)
 		}
 		return p, usagef("%v", err)
 	}

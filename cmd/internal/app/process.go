@@ -127,8 +127,22 @@ func runProcess(e *env, args []string) error {
 	if o.output == "" {
 		return usagef("no output given: use -o FILE or -o FOLDER")
 	}
-	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.memoryMB < 64 || o.quantize < 0 || o.quantize > 7 {
-		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1, --memory-mb >= 64 and --significant-digits 0-7 are required")
+	for _, c := range []struct {
+		bad  bool
+		opt  string
+		v    int
+		want string
+	}{
+		{o.jobs < 1, "jobs", o.jobs, "at least 1 (files at the same time)"},
+		{o.threads < 0, "threads", o.threads, "0 (automatic) or more"},
+		{o.deflate < 0 || o.deflate > 9, "deflate", o.deflate, "between 0 (no compression) and 9"},
+		{o.slabMB < 1, "slab-mb", o.slabMB, "at least 1 MiB"},
+		{o.memoryMB < 64, "memory-mb", o.memoryMB, "at least 64 MiB"},
+		{o.quantize < 0 || o.quantize > 7, "significant-digits", o.quantize, "between 0 (off) and 7"},
+	} {
+		if c.bad {
+			return usagef("--%s must be %s (got %d)", c.opt, c.want, c.v)
+		}
 	}
 	if o.shard != "" && o.shardCount > 0 {
 		return usagef("--shard and --shard-count cannot be combined (--shard-count is for Slurm arrays)")

@@ -291,7 +291,7 @@ func TestBadInputUsage(t *testing.T) {
 		{[]string{"process", "-o", out}, "no input given"},
 		{[]string{"process", in, "-o", out, "--bind", "lwp"}, `--bind "lwp"`},
 		{[]string{"process", in, "-o", out, "--bind", "nope=x"}, `--bind "nope=x"`},
-		{[]string{"process", in, "-o", out, "--jobs", "0"}, "--jobs >= 1"},
+		{[]string{"process", in, "-o", out, "--jobs", "0"}, "--jobs must be at least 1"},
 		{[]string{"process", in, "-o", out, "--force", "--redo"}, "cannot be combined"},
 		{[]string{"process", in, "-o", out, "--no-such-flag"}, "unknown flag: --no-such-flag"},
 	}
