@@ -54,7 +54,7 @@ a file.
 Example:
   warmrain column --lwp 120 --re 14
   warmrain column --lwp 120 --re 14 --ctt 284 --ctp 880 --cth 1200 --updraft 0.5 --json
-  warmrain column --from samples/data/stratocumulus_demo.nc --lat -18.2 --lon -79.4 --time 2019-06-02
+  warmrain column --from samples/data/stratocumulus_demo.nc --lat -21.13 --lon -80.07 --time 2026-09-22T12:00
 `
 
 // columnInputs are the input flags: name, units on the command line, scale to SI.
@@ -978,7 +978,7 @@ func (r *columnResult) writeText(w io.Writer) error {
 			if v.Note != "" {
 				note = "  (" + v.Note + ")"
 			}
-			fmt.Fprintf(tw, "    %s\t%s\t%s\t%s%s\n", v.Role, v.Variable, num(v.Value), v.Unit, note)
+			fmt.Fprintf(tw, "    %s\t%s\t%s\tvariable %s%s\n", v.Role, num(v.Value), v.Unit, v.Variable, note)
 		}
 		fmt.Fprintf(tw, "  diagnostics as the output file stores them (%s)\n", s.Stored)
 	}
