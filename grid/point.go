@@ -231,6 +231,14 @@ func (v *OutputVar) Stored(x float64) float64 {
 	return out[0]
 }
 
+// sampleSlabBytes is the slab budget of Sample: small slabs, so that a sample costs little
+// memory and reads little more than it keeps.
+const sampleSlabBytes = 1 << 20
+
+// sampleMaxColumns bounds the columns Sample reads, in multiples of n: a role missing in
+// most columns does not make it read the whole input.
+const sampleMaxColumns = 20
+
 // RoleSample is what a sample of an input's values says about one bound role: the median
 // of the valid values (canonical units), how many were read, and the fraction outside the
 // role's Plausible range.
@@ -242,10 +250,11 @@ type RoleSample struct {
 }
 
 // Sample reads slabs from the start of the input (in processing order) until every bound
-// role with a Plausible range has n valid values or the input ends, and summarises them
+// role with a Plausible range has n valid values, sampleMaxColumns*n columns were read or
+// the input ends, and summarises them
 // (RoleSample, in role order). Flag codes and missing values are not counted.
 func (in *Input) Sample(n int) ([]RoleSample, error) {
-	p := newPlan(in, nil, in.opt.SlabBytes)
+	p := newPlan(in, nil, min(in.opt.SlabBytes, sampleSlabBytes))
 	buf := newInBuf(in, p)
 	defer buf.release()
 	var vals [NumRoles][]float64
@@ -258,7 +267,9 @@ func (in *Input) Sample(n int) ([]RoleSample, error) {
 		return false
 	}
 	errEnough := fmt.Errorf("enough")
+	read := 0
 	err := in.eachDecoded(p, buf, func(int, int, int, int, int) error {
+		read += buf.slab.N
 		for i, b := range in.bindings {
 			if b == nil || b.Role.Rule().Plausible == [2]float64{} {
 				continue
@@ -272,7 +283,7 @@ func (in *Input) Sample(n int) ([]RoleSample, error) {
 				}
 			}
 		}
-		if !want() {
+		if !want() || read >= sampleMaxColumns*n {
 			return errEnough
 		}
 		return nil

@@ -343,10 +343,10 @@ func columnFromOptions(fs *pflag.FlagSet, cf *columnFlags, p microphys.Params) (
 				res.addRow(d.name, outputValue(&d, &in2, &o2, true), d.units)
 			}
 		}
-		res.explain(m2, &in2, o2.QC)
+		res.explain(m2, &in2)
 		return res, nil
 	}
-	res.explain(m, &in, out.QC)
+	res.explain(m, &in)
 	return res, nil
 }
 
@@ -401,9 +401,9 @@ func (r *columnResult) addRow(name string, v float64, unit string) {
 }
 
 // explain adds the profile, the collector path, the surface drizzle and the evaporation
-// path of an unscreened column (qc: Column's bits), from microphys.Model.Geometry: the
+// path of an unscreened column, from microphys.Model.Geometry: the
 // cloud and layer of Column's direct integrations.
-func (r *columnResult) explain(m *microphys.Model, in *microphys.Inputs, qc uint16) {
+func (r *columnResult) explain(m *microphys.Model, in *microphys.Inputs) {
 	g, ok := m.Geometry(in)
 	if !ok {
 		return
@@ -735,10 +735,10 @@ func columnFromFile(e *env, fs *pflag.FlagSet, cf *columnFlags, p microphys.Para
 				res.addRow(d.name, outputValue(d, &in2, &o2, true), d.units)
 			}
 		}
-		res.explain(m2, &in2, o2.QC)
+		res.explain(m2, &in2)
 		return res, nil
 	}
-	res.explain(m, &in, o.QC)
+	res.explain(m, &in)
 	return res, nil
 }
 

@@ -843,13 +843,6 @@ func newColumnKernel(m *microphys.Model, gin *grid.Input) *columnKernel {
 // screened before Column (o is then not computed). local counts mask and flag-code hits
 // (its Masks nil: not counted).
 func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *microphys.Outputs, local *grid.QualityCounts) (qc uint32, ran bool) {
-	nan := math.NaN()
-	at := func(r int) float64 {
-		if s.In[r] == nil {
-			return nan
-		}
-		return s.In[r][i]
-	}
 	var qin uint32
 	for c, mk := range k.masks {
 		if mk.Screens(s.In[mk.Role.Index()][i]) {
@@ -870,16 +863,24 @@ func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *micr
 	if qin != 0 {
 		local.Screened++
 	}
-	*in = microphys.Inputs{LWP: at(k.iLWP), Re: at(k.iRe), Tau: at(k.iTau), CTT: at(k.iCTT),
-		CTP: at(k.iCTP), CTH: at(k.iCTH), LWPStd: at(k.iSD), SurfaceRH: nan}
+	*in = microphys.Inputs{LWP: slabAt(s, k.iLWP, i), Re: slabAt(s, k.iRe, i), Tau: slabAt(s, k.iTau, i), CTT: slabAt(s, k.iCTT, i),
+		CTP: slabAt(s, k.iCTP, i), CTH: slabAt(s, k.iCTH, i), LWPStd: slabAt(s, k.iSD, i), SurfaceRH: math.NaN()}
 	if qin == 0 {
-		qin = k.m.Complete(in, at(k.iNd), at(k.iCF), k.gridMean)
+		qin = k.m.Complete(in, slabAt(s, k.iNd, i), slabAt(s, k.iCF, i), k.gridMean)
 	}
 	if qin&k.screen != 0 {
 		return qin, false
 	}
 	k.m.Column(in, o)
 	return uint32(o.QC) | qin, true
+}
+
+// slabAt is role r's value at column i of s, NaN when the role is absent.
+func slabAt(s *grid.Slab, r, i int) float64 {
+	if s.In[r] == nil {
+		return math.NaN()
+	}
+	return s.In[r][i]
 }
 
 // outputValue is the value of output d (file units) for a column: its diagnostic, the LWP
