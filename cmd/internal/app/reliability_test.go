@@ -227,7 +227,7 @@ f.close()`)
 		{name: "missing input file", make: func(t *testing.T, dir string) string { return filepath.Join(dir, "absent.nc") },
 			want: []string{"no such file or directory"}},
 		{name: "override names an absent variable", make: cdl("good"), args: []string{"--bind", "lwp=lwp_total"},
-			want: []string{`variable "lwp_total"`, "override lwp=lwp_total", "does not exist"}},
+			want: []string{`variable "lwp_total"`, "--bind lwp=lwp_total", "does not exist"}},
 	}
 }
 
