@@ -24,10 +24,10 @@ type ColumnGeometry struct {
 // Column screens the column (then nothing is integrated):
 //
 //	T, p = CTT, CTP (Params.DefaultCTT, DefaultCTP when absent)
-//	c_w = CondensationRate(T, p) (or Params.FixedCw), gamma = f_ad c_w
+//	c_w = CondensationRate(p, T) (or Params.FixedCw), gamma = f_ad c_w
 //	tau = Tau, or TauAdiabatic(LWP, r_e, Q_ext);  N_d = DropletNumber(tau, r_e, k, Q_ext, f_ad, c_w)
 //	H = Thickness(LWP, f_ad, c_w)
-//	(T_b, p_b) = CloudBase(T, p, H); z_b = CTH - H, or DryBaseHeight(T_b, p_b, Params.SurfacePressure)
+//	(p_b, T_b) = CloudBase(p, T, H); z_b = CTH - H, or DryBaseHeight(p_b, T_b, Params.SurfacePressure)
 //
 // in the arithmetic of these exported functions (Column's bulk diagnostics use folded
 // constants equal to them within 1e-12 relative; the direct integrations get these inputs).

@@ -600,7 +600,7 @@ func screening(in *microphys.Inputs, o *microphys.Outputs, q uint32, p microphys
 			if math.IsNaN(pr) {
 				pr = p.DefaultCTP
 			}
-			cw = microphys.CondensationRate(T, pr)
+			cw = microphys.CondensationRate(pr, T)
 		}
 		nd = microphys.DropletNumber(tau, in.Re, p.K, p.Qext, p.Fad, cw)
 		h = microphys.Thickness(in.LWP, p.Fad, cw)

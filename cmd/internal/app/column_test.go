@@ -164,7 +164,7 @@ func checkPaths(t *testing.T, got columnJSON, p microphys.Params, in *microphys.
 	s.Collision, s.Coalescence = p.Collision, p.Coalescence
 	// The cloud of the exported functions of the adiabatic model [Brenguier2000], which
 	// Column's direct integration gets (microphys.Model.Geometry).
-	cw := microphys.CondensationRate(T, pr)
+	cw := microphys.CondensationRate(pr, T)
 	tau := in.Tau
 	if math.IsNaN(tau) {
 		tau = microphys.TauAdiabatic(in.LWP, in.Re, p.Qext)
