@@ -58,3 +58,8 @@ func (e plainErr) Unwrap() error { return e.err }
 func errOverride(format string, args ...any) error {
 	return plainErr{fmt.Sprintf(format, args...), ErrOverride}
 }
+
+// errUnits is a problem with units as written in a file or an option; it wraps ErrUnits.
+func errUnits(format string, args ...any) error {
+	return plainErr{fmt.Sprintf(format, args...), ErrUnits}
+}

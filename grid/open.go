@@ -330,7 +330,7 @@ func (in *Input) bind() error {
 			if rule.Role == RoleLWPSD && isUncertainty(v) {
 				return varErr(ErrOverride, in.Path, o.Var, "is a retrieval uncertainty (standard_error, *_unc, *_uncertainty), not the sub-grid standard deviation of LWP that lwp_sd means; leave lwp_sd unbound to use the gamma shape option")
 			}
-			chosen = cand{v: v, reason: "explicit override " + o.String()}
+			chosen = cand{v: v, reason: "given by " + strings.Fields(in.opt.OverrideHint)[0] + " " + o.String()}
 			if o.Units != "" {
 				units, unitsFrom = o.Units, "override"
 			}

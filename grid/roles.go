@@ -262,7 +262,7 @@ func ParseOverride(s string) (Override, error) {
 	}
 	if units != "" {
 		if _, err := NewConverter(units, CanonicalUnits(r)); err != nil {
-			return Override{}, fmt.Errorf("override %q: %w", s, err)
+			return Override{}, plainErr{err.Error(), err}
 		}
 	}
 	return Override{Role: r, Var: name, Units: units}, nil
