@@ -2,9 +2,11 @@ package app
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -19,6 +21,7 @@ const columnUsage = `Usage:
   warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
   (without --re: --droplet-number N; without --lwp: --tau and --re)
                   [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
+                  [--lwp-se G_M2|P%] [--re-se UM|P%] [--tau-se T|P%] [--parameter-uncertainty]
   warmrain column --from FILE (--lat Y --lon X [--time T] | --index I,J[,T])
                   [--bind ROLE=VAR[:UNITS]] [--mask ...] [--pack] [--no-screen]
                   [physics options] [--json]
@@ -51,8 +54,15 @@ the diagnostics. process uses the table by default (within 0.5 % of the
 direct integration); add --collector-method table to see the numbers of such
 a file.
 
+With standard errors of the inputs (--lwp-se, --re-se, --tau-se: in the input's
+units, or a percentage such as 10%) every diagnostic is printed as value ± its
+first-order retrieval error, and with --parameter-uncertainty also ± its
+parameter spread (README "Uncertainty"); an output marked "(non-linear)" is
+strongly non-linear within the errors, so its ± is a local sensitivity only.
+
 Example:
   warmrain column --lwp 120 --re 14
+  warmrain column --lwp 120 --re 14 --lwp-se 15 --re-se 10% --parameter-uncertainty
   warmrain column --lwp 120 --re 14 --ctt 284 --ctp 880 --cth 1200 --updraft 0.5 --json
   warmrain column --from samples/data/stratocumulus_demo.nc --lat -21.13 --lon -80.07 --time 2026-09-22T12:00
 `
@@ -91,6 +101,14 @@ type columnResult struct {
 	Collector   *collectorPathReport `json:"collector_path"`
 	Evaporation *evapPathReport      `json:"evaporation_path"`
 	Drizzle     *drizzleReport       `json:"surface_drizzle"`
+	// The uncertainty (absent without input errors or --parameter-uncertainty): the
+	// first-order retrieval error and the parameter spread of each diagnostic (units of
+	// Units), the outputs whose first-order error is not representative, and the part of
+	// each perturbed parameter in every diagnostic's spread.
+	StandardErrors  map[string]jnum            `json:"standard_errors,omitempty"`
+	ErrorNonlinear  []string                   `json:"error_nonlinear,omitempty"`
+	ParameterSpread map[string]jnum            `json:"parameter_spread,omitempty"`
+	SpreadParts     map[string]map[string]jnum `json:"parameter_spread_parts,omitempty"`
 
 	rows []valueRow // the diagnostics in table order (text output)
 }
@@ -224,6 +242,7 @@ type columnFlags struct {
 	binds               []string
 	pack, noScreen, asJ bool
 	inp                 *inputFlags
+	errs                [3]string // --lwp-se, --re-se, --tau-se as given
 }
 
 func runColumn(e *env, args []string) error {
@@ -244,6 +263,10 @@ func runColumn(e *env, args []string) error {
 	pf := addPhysicsFlags(fs)
 	pf.setDefault(fs, "collector-method", microphys.CollectorDirect.String())
 	cf.inp = addInputFlags(fs)
+	for k, n := range [3]string{"lwp-se", "re-se", "tau-se"} {
+		fs.StringVar(&cf.errs[k], n, "", [3]string{"standard error of the LWP: g m-2, or a percentage of it (10%)",
+			"standard error of r_e: µm, or a percentage of it", "standard error of tau, or a percentage of it"}[k])
+	}
 	fs.BoolVar(&cf.asJ, "json", false, "print one JSON object instead of the tables")
 	if err := parseFlags(e, fs, columnUsage, args); err != nil {
 		return err
@@ -313,6 +336,11 @@ func columnFromOptions(fs *pflag.FlagSet, cf *columnFlags, p microphys.Params) (
 	}
 	// Missing inputs completed as process does (Model.Complete): LWP from tau and r_e,
 	// r_e from LWP and --droplet-number, CTT from the standard atmosphere at --ctp/--cth.
+	raw := microphys.RawColumn{In: in, Nd: math.NaN(), CF: math.NaN()}
+	ie, err := cf.inputErrors(&raw, p, nil)
+	if err != nil {
+		return nil, err
+	}
 	qin := m.Complete(&in, math.NaN(), math.NaN(), false)
 	var out microphys.Outputs
 	ran := qin&microphys.QCInputScreenMask == 0
@@ -328,6 +356,9 @@ func columnFromOptions(fs *pflag.FlagSet, cf *columnFlags, p microphys.Params) (
 		res.addRow(d.name, outputValue(&d, &in, &out, ran), d.units)
 	}
 	res.Screening = screening(&in, &out, q, p, nil, math.NaN())
+	if err := res.uncertainty(m, &raw, &in, qin, &ie); err != nil {
+		return nil, err
+	}
 	if res.QC.Screened && cf.noScreen {
 		m2, what, err := relaxedModel(p)
 		if err != nil {
@@ -671,7 +702,7 @@ func columnFromFile(e *env, fs *pflag.FlagSet, cf *columnFlags, p microphys.Para
 	var in microphys.Inputs
 	var o microphys.Outputs
 	var local grid.QualityCounts
-	q, ran := k.column(s, 0, &in, &o, &local)
+	q, qin, ran := k.column(s, 0, &in, &o, &local)
 	res := newColumnResult(p, &in, q)
 	res.Source = src
 	src.Stored = "float32"
@@ -711,6 +742,20 @@ func columnFromFile(e *env, fs *pflag.FlagSet, cf *columnFlags, p microphys.Para
 		cfv = x[0]
 	}
 	res.Screening = screening(&in, &o, q, p, gin.Masks, cfv)
+	raw := microphys.RawColumn{In: k.inputs(s, 0), Nd: slabAt(s, k.iNd, 0), CF: cfv, GridMean: k.gridMean}
+	ie, err := cf.inputErrors(&raw, p, func(e int) (float64, bool) {
+		b, ok := gin.Binding(errorRoles[e])
+		if !ok {
+			return math.NaN(), false
+		}
+		return slabAt(s, errorRoles[e].Index(), 0), b.Relative
+	})
+	if err != nil {
+		return nil, err
+	}
+	if err := res.uncertainty(m, &raw, &in, qin, &ie); err != nil {
+		return nil, err
+	}
 	if !ran || o.QC&microphys.QCScreenMask != 0 {
 		if !cf.noScreen {
 			return res, nil
@@ -722,7 +767,7 @@ func columnFromFile(e *env, fs *pflag.FlagSet, cf *columnFlags, p microphys.Para
 		k2 := newColumnKernel(m2, gin)
 		var in2 microphys.Inputs
 		var o2 microphys.Outputs
-		q2, ran2 := k2.column(s, 0, &in2, &o2, &local)
+		q2, _, ran2 := k2.column(s, 0, &in2, &o2, &local)
 		res.NoScreen = what + "; the numbers below are not those of the output file"
 		if !ran2 || o2.QC&microphys.QCScreenMask != 0 {
 			res.NoScreen += fmt.Sprintf("; still screened by %s, which are not thresholds", strings.Join(qcWords(q2&(microphys.QCInputScreenMask|uint32(microphys.QCScreenMask))), ", "))
@@ -944,6 +989,14 @@ func pixelLatLon(gin *grid.Input, idx, hor []int) (lat, lon float64, ok bool) {
 	return la, lo, ok1 && ok2
 }
 
+// numOf formats m[name], "-" when m has no such value (an input copied to the outputs).
+func numOf(m map[string]jnum, name string) string {
+	if v, ok := m[name]; ok {
+		return num(v)
+	}
+	return "-"
+}
+
 // num formats a value for the text tables.
 func num(x jnum) string {
 	f := float64(x)
@@ -1001,19 +1054,47 @@ func (r *columnResult) writeText(w io.Writer) error {
 	}
 	tw.Flush()
 
-	fmt.Fprintln(w, "\ndiagnostics:")
+	switch {
+	case r.StandardErrors != nil && r.ParameterSpread != nil:
+		fmt.Fprintln(w, "\ndiagnostics (value ± retrieval error ± parameter spread, one standard deviation each):")
+	case r.StandardErrors != nil:
+		fmt.Fprintln(w, "\ndiagnostics (value ± retrieval error, one standard deviation):")
+	case r.ParameterSpread != nil:
+		fmt.Fprintln(w, "\ndiagnostics (value ± parameter spread, one standard deviation):")
+	default:
+		fmt.Fprintln(w, "\ndiagnostics:")
+	}
 	if r.NoScreen != "" {
 		fmt.Fprintf(w, "  (--no-screen: %s)\n", r.NoScreen)
 	}
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	for _, row := range r.rows {
-		fmt.Fprintf(tw, "  %s\t%s\t%s\n", row.Name, num(row.Value), row.Unit)
+		name := row.Name
+		v := num(row.Value)
+		if r.StandardErrors != nil {
+			v += "\t± " + numOf(r.StandardErrors, name)
+		}
+		if r.ParameterSpread != nil {
+			v += "\t± " + numOf(r.ParameterSpread, name) + " (par.)"
+		}
+		note := ""
+		if slices.Contains(r.ErrorNonlinear, name) {
+			note = "\t(non-linear)"
+		}
+		fmt.Fprintf(tw, "  %s\t%s\t%s%s\n", name, v, row.Unit, note)
 	}
 	flags := strings.Join(r.QC.Flags, " ")
 	if flags == "" {
 		flags = "(none)"
 	}
-	fmt.Fprintf(tw, "  %s\t%d\t%s\n", qcName, r.QC.Value, flags)
+	pad := ""
+	if r.StandardErrors != nil {
+		pad += "\t"
+	}
+	if r.ParameterSpread != nil {
+		pad += "\t"
+	}
+	fmt.Fprintf(tw, "  %s\t%d%s\t%s\n", qcName, r.QC.Value, pad, flags)
 	tw.Flush()
 
 	fmt.Fprintln(w, "\nscreening:")
@@ -1109,4 +1190,96 @@ func (r *columnResult) writeText(w io.Writer) error {
 		fmt.Fprintf(tw, "  --%s\t%s\n", s.Option, paramAttr(microphys.Setting{Value: strings.Join(vals, ","), Unit: s.Unit}))
 	}
 	return tw.Flush()
+}
+
+// inputErrors are the standard errors of the column's LWP, r_e and tau (SI): those given by
+// --lwp-se, --re-se and --tau-se, else (fromFile not nil) the file's standard-error roles,
+// fromFile(k) giving the value and whether it is a fraction of the input.
+func (cf *columnFlags) inputErrors(raw *microphys.RawColumn, p microphys.Params, fromFile func(k int) (float64, bool)) (microphys.InputErrors, error) {
+	var ie microphys.InputErrors
+	x := [3]float64{raw.In.LWP, raw.In.Re, raw.In.Tau}
+	for k, dst := range [3]*float64{&ie.LWP, &ie.Re, &ie.Tau} {
+		v, err := parseError(cf.errs[k], x[k], [3]float64{1e-3, 1e-6, 1}[k])
+		if err != nil {
+			return ie, usagef("--%s: %v", [3]string{"lwp-se", "re-se", "tau-se"}[k], err)
+		}
+		if cf.errs[k] == "" && fromFile != nil {
+			f, rel := fromFile(k)
+			if v = f; rel {
+				v = f * x[k]
+			}
+		}
+		*dst = v
+	}
+	ie.Corr = p.ErrorCorrelation
+	return ie, nil
+}
+
+// parseError reads a standard error given on the command line: a number in the input's
+// units (scale to SI) or a percentage of the input x ("10%"). "" is no error.
+func parseError(s string, x, scale float64) (float64, error) {
+	s = strings.TrimSpace(s)
+	if s == "" {
+		return math.NaN(), nil
+	}
+	pct := strings.HasSuffix(s, "%")
+	v, err := strconv.ParseFloat(strings.TrimSuffix(s, "%"), 64)
+	if err != nil || !(v >= 0) || math.IsInf(v, 0) {
+		return 0, errors.New("want a non-negative number in the input's units or a percentage such as 10%")
+	}
+	if pct {
+		return v / 100 * x, nil
+	}
+	return v * scale, nil
+}
+
+// uncertainty adds the retrieval errors (from e) and, with --parameter-uncertainty, the
+// parameter spread of every diagnostic (doc/science.md#uncertainty).
+func (r *columnResult) uncertainty(m *microphys.Model, raw *microphys.RawColumn, done *microphys.Inputs, qin uint32, e *microphys.InputErrors) error {
+	p := m.Params()
+	if !e.Any() && !p.ParameterUncertainty {
+		return nil
+	}
+	var out microphys.Outputs
+	m.Column(done, &out)
+	n := len(microphys.OutputDecls)
+	defs := outputTable()
+	if e.Any() {
+		se := make([]float64, n)
+		nl := m.RetrievalError(raw, done, qin, &out, e, se, nil)
+		r.StandardErrors = map[string]jnum{}
+		r.ErrorNonlinear = []string{}
+		for _, d := range defs {
+			if d.get == nil {
+				continue
+			}
+			r.StandardErrors[d.name] = jnum(se[d.decl] * d.scale)
+			if nl&(1<<d.decl) != 0 {
+				r.ErrorNonlinear = append(r.ErrorNonlinear, d.name)
+			}
+		}
+	}
+	if p.ParameterUncertainty {
+		s, err := microphys.NewSpreadModels(m)
+		if err != nil {
+			return err
+		}
+		names := s.Parameters()
+		sp, parts := make([]float64, n), make([]float64, n*len(names))
+		s.ParameterSpread(raw, done, &out, sp, parts, nil)
+		r.ParameterSpread = map[string]jnum{}
+		r.SpreadParts = map[string]map[string]jnum{}
+		for _, d := range defs {
+			if d.get == nil {
+				continue
+			}
+			r.ParameterSpread[d.name] = jnum(sp[d.decl] * d.scale)
+			pm := map[string]jnum{}
+			for j, pn := range names {
+				pm[pn] = jnum(parts[j*n+d.decl] * d.scale)
+			}
+			r.SpreadParts[d.name] = pm
+		}
+	}
+	return nil
 }

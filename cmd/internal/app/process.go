@@ -40,6 +40,11 @@ across them, their grids must match, and the output is named by the first.
 HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
 variable in a group by its path (--bind lwp=/geophysical_data/NAME).
 
+When the input carries retrieval uncertainties of LWP, r_e or tau (a
+standard_error variable, *_uncertainty in percent, or --bind re_se=VAR), every
+output gets <name>_standard_error beside it; --parameter-uncertainty adds
+<name>_parameter_spread (README "Uncertainty").
+
 With one input, OUTPUT is the output file; with several (or when OUTPUT is an
 existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 to a temporary file in the target folder and renamed when complete.
@@ -95,7 +100,7 @@ func runProcess(e *env, args []string) error {
 	fs.StringVar(&o.ensemble, "ensemble", "", "write one member per parameter set of `FILE` (lines NAME: --option VALUE ...) along a dimension member; one input, one output file")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
-	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)")
+	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer lwp_se re_se tau_se)")
 	fs.IntVarP(&o.jobs, "jobs", "j", 1, "files processed at the same time, each in its own process (libnetcdf is single-threaded)")
 	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs, less one for the I/O thread)")
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
@@ -432,6 +437,10 @@ type processJob struct {
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
+	// spread holds the perturbed models of --parameter-uncertainty, built on first use.
+	spread     *microphys.SpreadModels
+	spreadErr  error
+	spreadOnce sync.Once
 }
 
 func (j *processJob) inputs() *inputFlags {
@@ -610,7 +619,12 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if err != nil {
 		return finish("failed", err)
 	}
-	vars := gridVars(j.defs, "", j.o.pack)
+	plan, err := j.uncertaintyPlan(in)
+	if err != nil {
+		in.Close()
+		return finish("failed", err)
+	}
+	vars := plan.vars(j.defs, gridVars(j.defs, "", j.o.pack))
 	if sb, err := j.memoryPlan(in, vars); err != nil {
 		in.Close()
 		return finish("failed", err)
@@ -662,7 +676,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if len(j.inputs().masks) > 0 {
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
 	}
-	vars = gridVars(j.defs, strings.Join(used, " "), j.o.pack)
+	vars = plan.vars(j.defs, gridVars(j.defs, strings.Join(used, " "), j.o.pack))
 	if len(assumed) > 0 { // a constant assumption is stated in every output's comment
 		for k := range vars {
 			vars[k].Comment = appendSentences(vars[k].Comment, assumed)
@@ -695,7 +709,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if j.o.stats {
 		popt.Stats = &stats
 	}
-	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts))
+	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan))
 	if j.o.stats {
 		busy := stats.Read + stats.Write
 		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s on %d workers; waited for input %.2f s\n",
@@ -781,10 +795,12 @@ func (j *processJob) workers() int {
 
 // compute returns the per-slab kernel: columnKernel.column for each column (masks, flag
 // codes, completion and one microphys.Model.Column call), outputs scaled to the file units
-// (outputValue). It allocates nothing per column.
-func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally) grid.ComputeFunc {
+// (outputValue), and the uncertainty outputs of plan when there are any. It allocates
+// nothing per column.
+func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
+	m := j.model
 	defs := j.defs
-	k := newColumnKernel(j.model, gin)
+	k := newColumnKernel(m, gin)
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
 		var in microphys.Inputs
 		var o microphys.Outputs
@@ -798,6 +814,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 		}
 		qc := outs[len(defs)]
+		uw := plan.slab()
+		var raw microphys.RawColumn
+		var errIn [3]float64
 		for c, d := range defs {
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
@@ -807,7 +826,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 		}
 		for i := lo; i < hi; i++ {
-			q, ran := k.column(s, i, &in, &o, &local)
+			q, qin, ran := k.column(s, i, &in, &o, &local)
 			for c := range defs {
 				if !ran || defs[c].get != nil || defs[c].input == grid.RoleLWP {
 					outs[c][i] = outputValue(&defs[c], &in, &o, ran)
@@ -816,6 +835,13 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			qc[i] = float64(q)
 			if q&k.screen != 0 {
 				n++
+			}
+			if uw != nil {
+				raw = microphys.RawColumn{In: k.inputs(s, i), Nd: slabAt(s, k.iNd, i), CF: slabAt(s, k.iCF, i), GridMean: k.gridMean}
+				for e, r := range errorRoles {
+					errIn[e] = slabAt(s, r.Index(), i)
+				}
+				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
 			}
 		}
 		screened.Add(n)
@@ -856,12 +882,17 @@ func newColumnKernel(m *microphys.Model, gin *grid.Input) *columnKernel {
 	return k
 }
 
+// inputs are column i's inputs as the slab holds them (before completion).
+func (k *columnKernel) inputs(s *grid.Slab, i int) microphys.Inputs {
+	return microphys.Inputs{LWP: slabAt(s, k.iLWP, i), Re: slabAt(s, k.iRe, i), Tau: slabAt(s, k.iTau, i), CTT: slabAt(s, k.iCTT, i),
+		CTP: slabAt(s, k.iCTP, i), CTH: slabAt(s, k.iCTH, i), LWPStd: slabAt(s, k.iSD, i), SurfaceRH: math.NaN()}
+}
+
 // column fills in (the completed inputs) and o for column i of slab s and returns the QC
-// word written to the file (input bits | Column's bits); ran is false when the column was
-// screened before Column (o is then not computed). local counts mask and flag-code hits
-// (its Masks nil: not counted).
-func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *microphys.Outputs, local *grid.QualityCounts) (qc uint32, ran bool) {
-	var qin uint32
+// word written to the file (input bits | Column's bits) and the input bits alone (masks,
+// flag codes, completion); ran is false when the column was screened before Column (o is
+// then not computed). local counts mask and flag-code hits (its Masks nil: not counted).
+func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *microphys.Outputs, local *grid.QualityCounts) (qc, qin uint32, ran bool) {
 	for c, mk := range k.masks {
 		if mk.Screens(s.In[mk.Role.Index()][i]) {
 			qin |= k.bits[c]
@@ -881,16 +912,15 @@ func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *micr
 	if qin != 0 {
 		local.Screened++
 	}
-	*in = microphys.Inputs{LWP: slabAt(s, k.iLWP, i), Re: slabAt(s, k.iRe, i), Tau: slabAt(s, k.iTau, i), CTT: slabAt(s, k.iCTT, i),
-		CTP: slabAt(s, k.iCTP, i), CTH: slabAt(s, k.iCTH, i), LWPStd: slabAt(s, k.iSD, i), SurfaceRH: math.NaN()}
+	*in = k.inputs(s, i)
 	if qin == 0 {
 		qin = k.m.Complete(in, slabAt(s, k.iNd, i), slabAt(s, k.iCF, i), k.gridMean)
 	}
 	if qin&k.screen != 0 {
-		return qin, false
+		return qin, qin, false
 	}
 	k.m.Column(in, o)
-	return uint32(o.QC) | qin, true
+	return uint32(o.QC) | qin, qin, true
 }
 
 // slabAt is role r's value at column i of s, NaN when the role is absent.
