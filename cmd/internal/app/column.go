@@ -735,6 +735,9 @@ func columnFromFile(e *env, fs *pflag.FlagSet, cf *columnFlags, p microphys.Para
 			rv.Role = "mask"
 		}
 		rv.Value, rv.Unit = roleDisplay(b.Role, x, b.Canonical)
+		if b.Relative {
+			rv.Value, rv.Unit = jnum(x*100), "% of the value"
+		}
 		src.Read = append(src.Read, rv)
 	}
 	cfv := math.NaN()
@@ -790,9 +793,9 @@ func columnFromFile(e *env, fs *pflag.FlagSet, cf *columnFlags, p microphys.Para
 // roleDisplay converts a role's canonical value to the unit column prints it in.
 func roleDisplay(r grid.Role, x float64, canonical string) (jnum, string) {
 	switch r {
-	case grid.RoleLWP, grid.RoleLWPSD:
+	case grid.RoleLWP, grid.RoleLWPSD, grid.RoleLWPSE:
 		return jnum(x * 1e3), "g m-2"
-	case grid.RoleRe:
+	case grid.RoleRe, grid.RoleReSE:
 		return jnum(x * 1e6), "um"
 	case grid.RoleCTP:
 		return jnum(x / 100), "hPa"

@@ -24,6 +24,7 @@ type columnFromJSON struct {
 		Time       string         `json:"time"`
 	} `json:"source"`
 	Diagnostics map[string]*float64 `json:"diagnostics"`
+	Errors      map[string]*float64 `json:"standard_errors"`
 	QC          qcJSON              `json:"qc"`
 	Screening   []screenRule        `json:"screening"`
 	NoScreen    string              `json:"no_screen"`
@@ -79,6 +80,11 @@ func compareWithFile(t *testing.T, c columnFromJSON, processed string, index []i
 	for name, got := range c.Diagnostics {
 		if f := fileValue(t, processed, name, index); !sameStored(got, f) {
 			t.Errorf("pixel %v: %s = %v, the processed file holds %g", index, name, val(got), f)
+		}
+	}
+	for name, got := range c.Errors { // the retrieval errors, when the input has standard errors
+		if f := fileValue(t, processed, name+seSuffix, index); !sameStored(got, f) {
+			t.Errorf("pixel %v: %s standard error %v, the processed file holds %g", index, name, val(got), f)
 		}
 	}
 	if q := fileValue(t, processed, qcName, index); uint32(q) != c.QC.Value {
