@@ -341,6 +341,9 @@ type Record struct {
 	// ScreenedBy counts the columns each of the product's quality masks and flag
 	// codes removed, in words ("sea_ice (flag code of r_e cer): 40").
 	ScreenedBy []string `json:"screened_by,omitempty"`
+	// ScreenedQC counts the screened columns by the QC bits that screened them, named by
+	// their flag_meanings words ("thin_cloud: 1200"); a column may count under several.
+	ScreenedQC []string `json:"screened_qc,omitempty"`
 }
 
 // Identity describes an input for the resume check.
