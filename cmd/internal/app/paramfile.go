@@ -41,7 +41,8 @@ func paramGroup(name string) []*microphys.ParamDecl {
 // keyLine finds the line of a top-level key in a TOML text (0 when not found). The
 // decoder keeps no positions of the keys it decoded, and a parameter file is flat.
 func keyLine(text, key string) int {
-	re := regexp.MustCompile(`^\s*(?:` + regexp.QuoteMeta(key) + `|"` + regexp.QuoteMeta(key) + `"|'` + regexp.QuoteMeta(key) + `')\s*[=.]`)
+	k := `(?:` + regexp.QuoteMeta(key) + `|"` + regexp.QuoteMeta(key) + `"|'` + regexp.QuoteMeta(key) + `')`
+	re := regexp.MustCompile(`^\s*(?:` + k + `\s*[=.]|\[\[?\s*` + k + `\s*[\].])`)
 	for i, l := range strings.Split(text, "\n") {
 		if re.MatchString(l) {
 			return i + 1

@@ -695,6 +695,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	rec.Columns = in.Layout.Columns
 	rec.ScreenedBy = in.Lines(&counts.c)
 	rec.ScreenedQC = screenLines(&counts.why)
+	rec.Screened = screened.Load()
 	if rec.Columns > 0 {
 		rec.ScreenedFraction = math.Round(float64(screened.Load())/float64(rec.Columns)*1e4) / 1e4
 	}

@@ -133,7 +133,7 @@ func (b *batchReport) finish(recs []batch.Record) {
 		n[r.Status]++
 		if r.Status == "done" {
 			cols += r.Columns
-			screened += int64(r.ScreenedFraction*float64(r.Columns) + 0.5)
+			screened += r.Screened
 			add(r.ScreenedQC)
 			add(r.ScreenedBy)
 		}

@@ -326,6 +326,7 @@ type Record struct {
 	Status           string  `json:"status"` // done, skipped, failed, interrupted
 	Columns          int64   `json:"columns"`
 	ScreenedFraction float64 `json:"screened_fraction"`
+	Screened         int64   `json:"screened,omitempty"` // columns screened (ScreenedFraction is rounded)
 	Seconds          float64 `json:"seconds"`
 	Shard            string  `json:"shard,omitempty"`
 	Task             string  `json:"task,omitempty"` // batch task: Slurm job and array task id
