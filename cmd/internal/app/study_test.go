@@ -53,7 +53,7 @@ func TestParamsFileReproduces(t *testing.T) {
 	}
 	// The file written holds every option, each once, and reads back to the defaults.
 	for _, rows := range optionGroups() {
-		if n := len(regexp.MustCompile(`(?m)^` + regexp.QuoteMeta(rows[0].Option) + ` = `).FindAll(written, -1)); n != 1 {
+		if n := len(regexp.MustCompile(`(?m)^`+regexp.QuoteMeta(rows[0].Option)+` = `).FindAll(written, -1)); n != 1 {
 			t.Errorf("written file: %d lines for %s, want 1", n, rows[0].Option)
 		}
 	}
@@ -135,7 +135,6 @@ drizzle-law = "0.4,1.7,1.6"
 		t.Errorf("column --params: exit %d: %s %s", code, errs, out)
 	}
 }
-
 
 // Mistakes in a parameter file are usage errors that name the file, the line and what
 // is wrong; nothing is processed.
