@@ -3,6 +3,7 @@ package app
 import (
 	"crypto/sha256"
 	"encoding/hex"
+	"encoding/json"
 	"io/fs"
 	"os"
 	"os/exec"
@@ -422,5 +423,83 @@ func TestBatchReport(t *testing.T) {
 	logText, _ = os.ReadFile(logf)
 	if strings.Count(string(logText), "warmrain: start ") != 2 || !strings.Contains(string(logText), "[3/3] ") || strings.Count(string(logText), ": complete output ") != 3 {
 		t.Errorf("log after the rerun:\n%s", logText)
+	}
+}
+
+// inspect over an archive compares every file with what most have: the files are the
+// sample at later days (as most), one with LWP written in kg m-2, one on a subset of the
+// grid, one a copy of the first days under another name, and one that is no input.
+// Written with xarray, an outside library.
+func TestInspectArchive(t *testing.T) {
+	py := requireTool(t, "/usr/bin/python3")
+	dir := t.TempDir()
+	script := `import sys, xarray as xr
+xr.set_options(keep_attrs=True)
+src, dir = sys.argv[1], sys.argv[2]
+def shifted(days):
+    ds = xr.open_dataset(src, decode_cf=False)
+    ds["time"] = ds["time"] + days * 86400.0
+    ds["time_bnds"] = ds["time_bnds"] + days * 86400.0
+    return ds
+shifted(3).to_netcdf(dir + "/a2.nc")
+shifted(6).to_netcdf(dir + "/a3.nc")
+shifted(9).to_netcdf(dir + "/a4.nc")
+ds = shifted(12)
+ds["lwp"].attrs["units"] = "kg m-2"
+ds["lwp"].attrs["scale_factor"] = ds["lwp"].attrs.get("scale_factor", 1.0) * 1e-3
+ds["lwp"].attrs["add_offset"] = ds["lwp"].attrs.get("add_offset", 0.0) * 1e-3
+ds.to_netcdf(dir + "/a5_kg.nc")
+shifted(15).isel(lat=slice(0, 50)).to_netcdf(dir + "/a6_half.nc")
+open(dir + "/a7_notes.nc", "w").write("notes\n")
+`
+	if b, err := exec.Command(py, "-c", script, samplePath(t), dir).CombinedOutput(); err != nil {
+		t.Fatalf("xarray: %v\n%s", err, b)
+	}
+	src, _ := os.ReadFile(samplePath(t))
+	os.WriteFile(filepath.Join(dir, "a1.nc"), src, 0o644)
+	os.WriteFile(filepath.Join(dir, "a1_copy.nc"), src, 0o644)
+	list := filepath.Join(dir, "list")
+	os.WriteFile(list, []byte("# the archive\na1.nc\na1_copy.nc\na2.nc\n"), 0o644)
+
+	code, stdout, errs := runProc(t, "inspect", filepath.Join(dir, "a[1-7]*.nc"), "--json")
+	var rep archiveReport
+	if err := json.Unmarshal([]byte(stdout), &rep); err != nil {
+		t.Fatalf("inspect --json: %v\n%s", err, stdout)
+	}
+	if code != ExitFailure || !strings.Contains(errs, "4 of 8 files differ from the others or cannot be read") {
+		t.Errorf("archive: exit %d: %s", code, errs)
+	}
+	if rep.Files != 8 || rep.Consistent != 4 || rep.Odd != 3 || rep.Unreadable != 1 {
+		t.Errorf("archive: %d files, %d as most, %d differ, %d unreadable; want 8, 4, 3, 1", rep.Files, rep.Consistent, rep.Odd, rep.Unreadable)
+	}
+	want := map[string]string{
+		"a1_copy.nc":  "time: 2026-09-21T12:00:00Z .. 2026-09-23T12:00:00Z overlaps",
+		"a5_kg.nc":    `units: lwp "kg m-2"`,
+		"a6_half.nc":  "grid: lat=50, lon=100",
+		"a7_notes.nc": "",
+	}
+	for _, f := range rep.List {
+		w, odd := want[filepath.Base(f.File)]
+		switch {
+		case !odd && (len(f.Differs) > 0 || f.Problem != ""):
+			t.Errorf("%s: reported as odd: %v %s", f.File, f.Differs, f.Problem)
+		case odd && w == "" && f.Problem == "":
+			t.Errorf("%s: not reported as unreadable", f.File)
+		case odd && w != "" && !strings.Contains(strings.Join(f.Differs, "\n"), w):
+			t.Errorf("%s: differences %q, want %q", f.File, f.Differs, w)
+		}
+		if f.Problem == "" && f.Aspects["time step"] != "3 steps of 24h0m0s" {
+			t.Errorf("%s: time step %q", f.File, f.Aspects["time step"])
+		}
+	}
+	// A list file, and the text form.
+	code, stdout, _ = runProc(t, "inspect", "@"+list)
+	if code != ExitFailure || !strings.Contains(stdout, "a2.nc (2026-09-24T12:00:00Z .. 2026-09-26T12:00:00Z): as most") ||
+		!strings.Contains(stdout, "2 of 3 files as most, 1 differ, 0 cannot be read") {
+		t.Errorf("inspect @list: exit %d:\n%s", code, stdout)
+	}
+	code, stdout, _ = runProc(t, "inspect", filepath.Join(dir, "a1.nc"), filepath.Join(dir, "a2.nc"), filepath.Join(dir, "a3.nc"))
+	if code != 0 || !strings.Contains(stdout, "3 of 3 files as most, 0 differ, 0 cannot be read") {
+		t.Errorf("consistent archive: exit %d:\n%s", code, stdout)
 	}
 }
