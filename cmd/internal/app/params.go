@@ -74,8 +74,8 @@ func paramDefault(rows []*microphys.ParamDecl) string {
 func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 	d := microphys.DefaultParams()
 	f := &physicsFlags{fs: fs}
-	fs.StringVar(&f.file, "params", "", "read the physics parameters from this file (TOML, names and units of the options; warmrain params --write FILE starts one); options given here override it")
-	fs.StringVar(&f.from, "params-from", "", "take every physics parameter from an output warmrain wrote (OUTPUT.nc), to reproduce that run; options given here override it")
+	fs.StringVar(&f.file, "params", "", "read the physics parameters from `FILE` (TOML; keys and units as the options; warmrain params --write FILE starts one); options given here override it")
+	fs.StringVar(&f.from, "params-from", "", "take every physics parameter from `OUTPUT.nc`, an output warmrain wrote, to reproduce that run; options given here override it")
 	for _, rows := range optionGroups() {
 		f.opts = append(f.opts, paramOption{rows: rows})
 	}

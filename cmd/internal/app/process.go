@@ -104,7 +104,7 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVar(&o.checksum, "checksum", false, "identify inputs by SHA-256 for resume (default: path, size and modification time)")
 	fs.BoolVar(&o.dryRun, "dry-run", false, "list what would be done with each input of this shard (process, skip, redo, refuse, fail, and why) and how its variables would be read, then stop; writes nothing")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no line per file on stderr (the start and closing lines stay, and --log gets every line)")
-	fs.StringVar(&o.logPath, "log", "", "also append the start line, the line per file and the closing tally to this file")
+	fs.StringVar(&o.logPath, "log", "", "also append the start line, the line per file and the closing tally to `FILE`")
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no column progress within a file (it is shown only when stderr is a terminal)")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
 	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")

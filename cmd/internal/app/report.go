@@ -54,9 +54,9 @@ func (b *batchReport) line(perFile bool, format string, a ...any) {
 // start writes the start line.
 func (b *batchReport) start(inputs int, digest string, jobs int) {
 	b.t0 = time.Now()
-	which := fmt.Sprintf("%d files", b.total)
+	which := files(b.total)
 	if b.shard != "" {
-		which = fmt.Sprintf("shard %s: %d of %d files", b.shard, b.total, inputs)
+		which = fmt.Sprintf("shard %s: %d of %s", b.shard, b.total, files(inputs))
 	}
 	b.line(false, "start %s: %s, parameters digest %s, --jobs %d, warmrain %s", b.t0.UTC().Format(time.RFC3339), which, digest, jobs, Version())
 }
@@ -143,8 +143,8 @@ func (b *batchReport) finish(recs []batch.Record) {
 		which = "shard " + b.shard + ": "
 	}
 	interrupted := n["interrupted"] + b.total - len(recs) // files never handed out
-	b.line(false, "end %s: %s%d done, %d skipped, %d failed, %d interrupted of %d files in %s; %d columns processed, %d screened",
-		time.Now().UTC().Format(time.RFC3339), which, n["done"], n["skipped"], n["failed"], interrupted, b.total,
+	b.line(false, "end %s: %s%d done, %d skipped, %d failed, %d interrupted of %s in %s; %d columns processed, %d screened",
+		time.Now().UTC().Format(time.RFC3339), which, n["done"], n["skipped"], n["failed"], interrupted, files(b.total),
 		time.Since(b.t0).Round(time.Second), cols, screened)
 	if len(reasons) > 0 {
 		sort.SliceStable(reasons, func(i, j int) bool { return byReason[reasons[i]] > byReason[reasons[j]] })
@@ -200,4 +200,12 @@ func screenLines(c *[32]int64) []string {
 		}
 	}
 	return out
+}
+
+// files is "1 file" or "N files".
+func files(n int) string {
+	if n == 1 {
+		return "1 file"
+	}
+	return fmt.Sprintf("%d files", n)
 }
