@@ -53,9 +53,18 @@ process, so a crash in the C libraries fails that file alone. Batch runs write
 a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 progress is removed, what completed is recorded, the exit code is 1.
 
+--dry-run lists, for the files of this shard, each output and what a run would
+do (process, skip, redo, refuse or fail, and why) and how each role is read,
+and writes nothing; it exits 1 when a file would be refused or fail. A batch
+prints a start line, a line per file with k of N, the rate and the time left,
+and a closing tally; --log FILE appends the same lines to FILE. The physics
+parameters can come from a file (--params, see warmrain params) or from an
+earlier output (--params-from); options given here override them.
+
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
   warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+  warmrain process 'archive/2019/*.nc' -o out/ --params study.toml --dry-run
 `
 
 type processOptions struct {

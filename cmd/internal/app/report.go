@@ -68,9 +68,13 @@ func (b *batchReport) progress() (prefix, rate string) {
 	prefix = fmt.Sprintf("[%d/%d] ", b.done, b.total)
 	perMin := float64(b.done) / el.Minutes()
 	left := time.Duration(float64(el) / float64(b.done) * float64(b.total-b.done)).Round(time.Second)
-	rate = fmt.Sprintf("; %s files/min, %s left", strconv.FormatFloat(perMin, 'g', 3, 64), left)
+	r := strconv.FormatFloat(perMin, 'g', 3, 64)
+	if perMin >= 100 {
+		r = strconv.FormatFloat(perMin, 'f', 0, 64)
+	}
+	rate = fmt.Sprintf("; %s files/min, %s left", r, left)
 	if b.done == b.total {
-		rate = fmt.Sprintf("; %s files/min", strconv.FormatFloat(perMin, 'g', 3, 64))
+		rate = fmt.Sprintf("; %s files/min", r)
 	}
 	return prefix, rate
 }
