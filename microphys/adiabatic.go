@@ -16,7 +16,7 @@ const (
 
 // CondensationRate returns the adiabatic condensation rate c_w = -rho_a dr_s/dz, the
 // increase of liquid water content per metre of ascent along the moist adiabat, in kg m-4,
-// at temperature T (K) and pressure p (Pa):
+// at pressure p (Pa) and temperature T (K):
 //
 //	r_s  = eps e_s/(p - e_s)
 //	G_d  = g/c_pd
@@ -29,16 +29,16 @@ const (
 // Reference: [Glickman2000] "Moist-adiabatic lapse rate" (G_m); [Brenguier2000] (c_w).
 // Valid: 240 K <= T <= 310 K, 2e4 Pa <= p <= 1.1e5 Pa and e_s < p; NaN outside
 // (the Bolton e_s fit is stated for -35..35 degC).
-func CondensationRate(T, p float64) float64 { return adiabaticState(T, p).cw }
+func CondensationRate(p, T float64) float64 { return adiabaticState(T, p).cw }
 
-// MoistLapseRate returns the saturated-adiabatic lapse rate G_m = -dT/dz, K m-1, at T (K)
-// and p (Pa):
+// MoistLapseRate returns the saturated-adiabatic lapse rate G_m = -dT/dz, K m-1, at p (Pa)
+// and T (K):
 //
 //	G_m = g (1 + L_v r_s/(R_d T)) / (c_pd + L_v^2 r_s eps/(R_d T^2))
 //
 // Reference: [Glickman2000] "Moist-adiabatic lapse rate".
 // Valid: as CondensationRate; NaN outside.
-func MoistLapseRate(T, p float64) float64 { return adiabaticState(T, p).gm }
+func MoistLapseRate(p, T float64) float64 { return adiabaticState(T, p).gm }
 
 // LWPAdiabatic returns the liquid water path (kg m-2) of an adiabatic cloud with optical
 // thickness tau (1) and cloud-top effective radius re (m):

@@ -27,11 +27,11 @@ func TestCondensationRateTable(t *testing.T) {
 	}
 	for _, row := range table {
 		for i, T := range temps {
-			cw := CondensationRate(T, row.p) * 1e6
+			cw := CondensationRate(row.p, T) * 1e6
 			if !scalar.EqualWithinRel(cw, row.cw[i], tol) {
 				t.Errorf("c_w(%g K, %g Pa) = %.4g g m-3 km-1, want %.4g (doc/science.md#condensation-rate, derived)", T, row.p, cw, row.cw[i])
 			}
-			gm := MoistLapseRate(T, row.p) * 1e3
+			gm := MoistLapseRate(row.p, T) * 1e3
 			if !scalar.EqualWithinRel(gm, row.gm[i], tol) {
 				t.Errorf("Gamma_m(%g K, %g Pa) = %.4g K km-1, want %.4g (doc/science.md#condensation-rate, derived)", T, row.p, gm, row.gm[i])
 			}
@@ -39,12 +39,12 @@ func TestCondensationRateTable(t *testing.T) {
 	}
 	// Published cross-check: Gamma_m about 4.7 K km-1 at 1000 hPa, 288 K (doc/science.md#condensation-rate,
 	// found on a course page); 3 % tolerance for other e_s/L_v choices.
-	if gm := MoistLapseRate(288, 100000) * 1e3; math.Abs(gm-4.7)/4.7 > 0.03 {
+	if gm := MoistLapseRate(100000, 288) * 1e3; math.Abs(gm-4.7)/4.7 > 0.03 {
 		t.Errorf("Gamma_m(288 K, 1000 hPa) = %.3g K km-1, want about 4.7", gm)
 	}
 	// [Brenguier2000] default c_w = 1.9e-6 kg m-4 lies in the 278-282 K band at 900-1000 hPa
 	// (doc/science.md#condensation-rate).
-	lo, hi := CondensationRate(278, 90000), CondensationRate(282, 100000)
+	lo, hi := CondensationRate(90000, 278), CondensationRate(100000, 282)
 	if !(lo < 1.9e-6*1.03 && hi > 1.9e-6*0.97) {
 		t.Errorf("Brenguier default 1.9e-6 not within c_w(278 K, 900 hPa) = %.4g .. c_w(282 K, 1000 hPa) = %.4g", lo, hi)
 	}
@@ -55,12 +55,12 @@ func TestCondensationRateTable(t *testing.T) {
 		for p := 1.5e4; p <= 1.15e5; p += 1234.5 {
 			st, ex := airStateFast(T, p), adiabaticState(T, p)
 			same := func(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
-			if !same(ex.cw, CondensationRate(T, p)) || !same(ex.gm, MoistLapseRate(T, p)) {
+			if !same(ex.cw, CondensationRate(p, T)) || !same(ex.gm, MoistLapseRate(p, T)) {
 				t.Fatalf("adiabaticState(%g, %g) disagrees with CondensationRate/MoistLapseRate", T, p)
 			}
 			es := SatVapourPressure(T)
 			rho := AirDensity(p, T, Epsilon*es/(p-es))
-			cw, gm := CondensationRate(T, p), MoistLapseRate(T, p)
+			cw, gm := CondensationRate(p, T), MoistLapseRate(p, T)
 			if math.IsNaN(cw) {
 				rho = math.NaN()
 			}
@@ -81,7 +81,7 @@ func TestCondensationRateBadInput(t *testing.T) {
 	t.Parallel()
 	for _, c := range [][2]float64{{math.NaN(), 9e4}, {285, math.NaN()}, {math.Inf(1), 9e4}, {285, math.Inf(-1)},
 		{200, 9e4}, {320, 9e4}, {285, 1e4}, {285, -1}, {-5, 9e4}, {310, 2e4}} {
-		if v := CondensationRate(c[0], c[1]); !math.IsNaN(v) {
+		if v := CondensationRate(c[1], c[0]); !math.IsNaN(v) {
 			t.Errorf("CondensationRate(%g, %g) = %g, want NaN", c[0], c[1], v)
 		}
 	}
@@ -134,7 +134,7 @@ func TestDropletNumber(t *testing.T) {
 	}
 	// c_w(283.15 K, 900 hPa) = 2.085e-6 gives N_d(10, 10 µm) = 143.62 cm-3 (derived, 1e-3
 	// since c_w itself is given to 4 digits).
-	if v := DropletNumber(10, 10e-6, 0.8, 2, 1, CondensationRate(283.15, 90000)); !scalar.EqualWithinRel(v, 143.62e6, 1e-3) {
+	if v := DropletNumber(10, 10e-6, 0.8, 2, 1, CondensationRate(90000, 283.15)); !scalar.EqualWithinRel(v, 143.62e6, 1e-3) {
 		t.Errorf("DropletNumber at c_w(283.15 K, 900 hPa) = %.5g, want 143.62e6", v)
 	}
 	// H: LWP = 55.6 g m-2 -> 241.9 m; LWP = 100 g m-2 -> 324.4 m (derived).
@@ -241,8 +241,8 @@ func TestCriticalLWP(t *testing.T) {
 // a 300 m cloud from (280 K, 900 hPa) warms by about Gamma_m H and p rises hydrostatically.
 func TestCloudBase(t *testing.T) {
 	t.Parallel()
-	tb, pb := CloudBase(280, 90000, 300)
-	gm := MoistLapseRate(280, 90000)
+	pb, tb := CloudBase(90000, 280, 300)
+	gm := MoistLapseRate(90000, 280)
 	if !(tb > 280+0.95*gm*300 && tb < 280+1.05*gm*300) {
 		t.Errorf("T_b = %.4g, want about %.4g", tb, 280+gm*300)
 	}
@@ -251,14 +251,14 @@ func TestCloudBase(t *testing.T) {
 		t.Errorf("p_b - p = %.4g Pa, want about rho g H = %.4g", dp, rho*Gravity*300)
 	}
 	// Dry adiabat: T_s - T_b = g z_b/c_pd, and dryBasePressure inverts DryBaseHeight.
-	zb := DryBaseHeight(285, 95000, 101325)
+	zb := DryBaseHeight(95000, 285, 101325)
 	if !(zb > 500 && zb < 600) {
 		t.Errorf("z_b = %.4g m, want about 550 m for 63 hPa", zb)
 	}
 	if p := dryBasePressure(285, zb, 101325); !scalar.EqualWithinRel(p, 95000, 1e-12) {
 		t.Errorf("dryBasePressure = %.10g, want 95000", p)
 	}
-	if v := DryBaseHeight(285, 102000, 101325); !math.IsNaN(v) {
+	if v := DryBaseHeight(102000, 285, 101325); !math.IsNaN(v) {
 		t.Errorf("base below surface gives %g, want NaN", v)
 	}
 }
@@ -296,7 +296,7 @@ func TestCloudBaseVirtual(t *testing.T) {
 	for _, c := range []struct{ T, p, h float64 }{
 		{280, 90000, 300}, {288, 92000, 800}, {292, 88000, 1500}, {276, 85000, 100},
 	} {
-		tb, pb := CloudBase(c.T, c.p, c.h)
+		pb, tb := CloudBase(c.p, c.T, c.h)
 		ft, fp := fine(c.T, c.p, c.h, true)
 		_, dp := fine(c.T, c.p, c.h, false)
 		rho := AirDensity(pb, tb, 0)

@@ -451,7 +451,7 @@ const (
 //     LWPCrit = CriticalLWP(N_d, ReStar, ...), POP with nu from LWPStd or Params.GammaShape.
 //  5. Collector drop (CollectDirect or its table) and its sub-cloud evaporation
 //     (EvaporateDirect or its table; see table.go for when a column is integrated directly,
-//     flagged QCIntegratedDirectly). Cloud base (T_b, p_b) = CloudBase(CTT, CTP, H), H below
+//     flagged QCIntegratedDirectly). Cloud base (p_b, T_b) = CloudBase(CTP, CTT, H), H below
 //     the top along the moist adiabat; its height is CTH - H when CTH is present (the table
 //     then takes the surface pressure from the dry adiabat below the base), else
 //     DryBaseHeight(T_b, p_b, Params.SurfacePressure) (flag QCCloudBaseAssumed). A base at
@@ -796,12 +796,12 @@ func (m *Model) collectDirect(h, gamma, nd, T, pr float64, res *colResult) {
 // Cloud-base helpers: the half-step of the moist-adiabatic descent.
 const colHalf = 0.5
 
-// CloudBase returns the temperature tb (K) and pressure pb (Pa) at the base of an adiabatic
-// cloud of thickness h (m) whose top is at temperature T (K) and pressure p (Pa), by one
+// CloudBase returns the pressure pb (Pa) and temperature tb (K) at the base of an adiabatic
+// cloud of thickness h (m) whose top is at pressure p (Pa) and temperature T (K), by one
 // midpoint step down the moist adiabat and the hydrostatic equation with the layer-mean
 // virtual temperature of the saturated air:
 //
-//	T_m = T + G_m(T, p) H/2,  p_m = p exp(g H/2/(R_d (T + T_m)/2)),  T_b = T + G_m(T_m, p_m) H
+//	T_m = T + G_m(p, T) H/2,  p_m = p exp(g H/2/(R_d (T + T_m)/2)),  T_b = T + G_m(p_m, T_m) H
 //	v_m = T_v/T at (T_m, p_m) = p_m/(R_d rho_a T_m),  rho_a = AirDensity(p_m, T_m, r_s)
 //	p_b = p exp(g H/(R_d v_m (T + T_b)/2))
 //
@@ -810,11 +810,12 @@ const colHalf = 0.5
 // Reference: [Glickman2000] moist-adiabatic lapse rate; [RogersYau1989] eq. 1.11 (virtual
 // temperature); hydrostatic balance (common practice).
 // Valid: as CondensationRate at top and base; 0 <= h <= 5000 m; NaN otherwise.
-func CloudBase(T, p, h float64) (tb, pb float64) {
+func CloudBase(p, T, h float64) (pb, tb float64) {
 	if !(h >= 0 && h <= 5000) {
 		return math.NaN(), math.NaN()
 	}
-	return cloudBase(T, p, h, adiabaticState(T, p).gm)
+	tb, pb = cloudBase(T, p, h, adiabaticState(T, p).gm)
+	return pb, tb
 }
 
 // cloudBase is CloudBase with the cloud-top lapse rate g1 (K m-1) already known.
@@ -840,14 +841,14 @@ func virtualFactor(T, p, rho float64) float64 {
 	return p / (GasConstantDry * rho * T)
 }
 
-// DryBaseHeight returns the height (m) of a cloud base at (tb K, pb Pa) above a surface at
+// DryBaseHeight returns the height (m) of a cloud base at (pb Pa, tb K) above a surface at
 // pressure ps (Pa) in a well-mixed (dry-adiabatic) sub-cloud layer:
 //
 //	T_s = T_b (p_s/p_b)^(R_d/c_pd),   z_b = c_pd (T_s - T_b)/g
 //
 // Reference: Poisson's equation and the dry-adiabatic lapse rate g/c_pd [RogersYau1989].
 // Valid: ps > pb > 0, tb > 0; NaN otherwise (cloud base at or below the surface).
-func DryBaseHeight(tb, pb, ps float64) float64 {
+func DryBaseHeight(pb, tb, ps float64) float64 {
 	if !(ps > pb && pb > 0 && tb > 0) || math.IsInf(ps, 1) || math.IsInf(tb, 1) {
 		return math.NaN()
 	}
@@ -873,13 +874,13 @@ func (m *Model) surfacePressure(cth float64, l *SubCloudLayer) float64 {
 	if math.IsNaN(cth) {
 		return m.p.SurfacePressure
 	}
-	_, ps, _ := l.State(0)
+	ps, _, _ := l.State(0)
 	return ps
 }
 
 // subCloud fills the sub-cloud layer of a column; false when it is undefined.
 func (m *Model) subCloud(T, pr, h, cth, rhs float64, l *SubCloudLayer) bool {
-	tb, pb := CloudBase(T, pr, h)
+	pb, tb := CloudBase(pr, T, h)
 	return m.subCloudFrom(tb, pb, h, cth, rhs, l)
 }
 
@@ -927,7 +928,7 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 func (m *Model) subCloudFrom(tb, pb, h, cth, rhs float64, l *SubCloudLayer) bool {
 	var zb float64
 	if math.IsNaN(cth) {
-		zb = DryBaseHeight(tb, pb, m.p.SurfacePressure)
+		zb = DryBaseHeight(pb, tb, m.p.SurfacePressure)
 	} else {
 		zb = cth - h
 	}

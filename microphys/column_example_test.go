@@ -10,13 +10,13 @@ import (
 )
 
 func ExampleCondensationRate() {
-	fmt.Printf("c_w(285 K, 900 hPa) = %.4g kg m-4\n", microphys.CondensationRate(285, 90000))
+	fmt.Printf("c_w(285 K, 900 hPa) = %.4g kg m-4\n", microphys.CondensationRate(90000, 285))
 	// Output:
 	// c_w(285 K, 900 hPa) = 2.161e-06 kg m-4
 }
 
 func ExampleMoistLapseRate() {
-	fmt.Printf("Gamma_m(288 K, 1000 hPa) = %.4g K/km\n", 1e3*microphys.MoistLapseRate(288, 100000))
+	fmt.Printf("Gamma_m(288 K, 1000 hPa) = %.4g K/km\n", 1e3*microphys.MoistLapseRate(100000, 288))
 	// Output:
 	// Gamma_m(288 K, 1000 hPa) = 4.786 K/km
 }
@@ -88,14 +88,14 @@ func ExampleCriticalLWP() {
 }
 
 func ExampleCloudBase() {
-	tb, pb := microphys.CloudBase(283, 90000, 300)
+	pb, tb := microphys.CloudBase(90000, 283, 300)
 	fmt.Printf("T_b = %.4g K, p_b = %.4g Pa\n", tb, pb)
 	// Output:
 	// T_b = 284.5 K, p_b = 9.329e+04 Pa
 }
 
 func ExampleDryBaseHeight() {
-	fmt.Printf("z_b = %.4g m\n", microphys.DryBaseHeight(285, 95000, 101325))
+	fmt.Printf("z_b = %.4g m\n", microphys.DryBaseHeight(95000, 285, 101325))
 	// Output:
 	// z_b = 542.7 m
 }

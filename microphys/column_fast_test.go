@@ -204,7 +204,7 @@ func columnExact(m *Model, in *Inputs) (o Outputs) {
 	if math.IsNaN(pr) {
 		pr = p.DefaultCTP
 	}
-	cw := CondensationRate(T, pr)
+	cw := CondensationRate(pr, T)
 	if p.FixedCw > 0 {
 		cw = p.FixedCw
 	}

@@ -53,7 +53,7 @@ func TestColumnTypical(t *testing.T) {
 	if out.QC != want {
 		t.Errorf("QC = %v, want %v", QCNames(out.QC), QCNames(want))
 	}
-	cw := CondensationRate(285, 90000)
+	cw := CondensationRate(90000, 285)
 	tau := TauAdiabatic(0.12, 12e-6, 2)
 	nd := DropletNumber(tau, 12e-6, 0.8, 2, 1, cw)
 	h := Thickness(0.12, 1, cw)
@@ -125,7 +125,7 @@ func TestColumnTauGiven(t *testing.T) {
 	in.LWP, in.Re, in.Tau = 0.1, 10e-6, 20
 	var out Outputs
 	m.Column(&in, &out)
-	cw := CondensationRate(p.DefaultCTT, p.DefaultCTP)
+	cw := CondensationRate(p.DefaultCTP, p.DefaultCTT)
 	if !scalar.EqualWithinRel(out.Nd, DropletNumber(20, 10e-6, 0.8, 2, 1, cw), 1e-12) ||
 		!scalar.EqualWithinRel(out.H, Thickness(0.1, 1, cw), 1e-12) {
 		t.Errorf("N_d %g, H %g", out.Nd, out.H)

@@ -60,7 +60,7 @@ var InputQCFlags = []InputQCFlag{
 // of what it assumed (and, for bad completing inputs, QCInputInvalid):
 //
 //  1. Air state: CTT absent and CTP present: CTT = StandardAtmosphereTemperature(CTP); CTT
-//     and CTP absent and CTH present: (CTT, CTP) = StandardAtmosphere(CTH) (QCStandardAtmosphere).
+//     and CTP absent and CTH present: (CTP, CTT) = StandardAtmosphere(CTH) (QCStandardAtmosphere).
 //     A real cloud-top pressure is thus never paired with Params.DefaultCTT.
 //  2. LWP absent, tau and r_e present: LWP = (5/9) rho_w tau r_e (2/Q_ext), the inverse of
 //     TauAdiabatic, or (2/3) rho_w tau r_e (2/Q_ext) with Params.UniformLWP
@@ -96,7 +96,7 @@ func (m *Model) Complete(in *Inputs, nd, cf float64, gridMean bool) uint32 {
 				qc |= QCStandardAtmosphere
 			}
 		case math.IsNaN(in.CTP) && colFinite(in.CTH):
-			if T, pr := StandardAtmosphere(in.CTH); !math.IsNaN(T) {
+			if pr, T := StandardAtmosphere(in.CTH); !math.IsNaN(T) {
 				in.CTT, in.CTP = T, pr
 				qc |= QCStandardAtmosphere
 			}
@@ -153,7 +153,7 @@ func (m *Model) Complete(in *Inputs, nd, cf float64, gridMean bool) uint32 {
 		}
 		cw := p.FixedCw
 		if !(cw > 0) {
-			cw = CondensationRate(T, pr)
+			cw = CondensationRate(pr, T)
 		}
 		re := EffectiveRadius(Thickness(in.LWP, p.Fad, cw), n, p.K, p.Fad, cw)
 		if math.IsNaN(re) {

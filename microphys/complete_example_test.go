@@ -10,7 +10,7 @@ import (
 func ExampleStandardAtmosphere() {
 	// U.S. Standard Atmosphere 1976 [USSA1976], table values at the tropopause:
 	// 216.65 K and 22632 Pa at 11 km.
-	T, p := microphys.StandardAtmosphere(11000)
+	p, T := microphys.StandardAtmosphere(11000)
 	fmt.Printf("11 km: %.2f K, %.0f Pa\n", T, p)
 	// Output:
 	// 11 km: 216.65 K, 22632 Pa

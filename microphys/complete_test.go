@@ -19,20 +19,20 @@ func TestStandardAtmosphere(t *testing.T) {
 		{5000, 255.65, 54019.9, 0.1, "derived: 101325 (255.65/288.15)^5.255876"},
 	}
 	for _, c := range cases {
-		T, p := StandardAtmosphere(c.z)
+		p, T := StandardAtmosphere(c.z)
 		if math.Abs(T-c.T) > 1e-9 || math.Abs(p-c.p) > c.tolP {
 			t.Errorf("z %g: T %.6g p %.7g, want %.6g %.7g (%s)", c.z, T, p, c.T, c.p, c.src)
 		}
 	}
 	// StandardAtmosphereTemperature inverts the pressure of each layer (derived).
 	for z := -1500.0; z <= 32000; z += 250 {
-		T, p := StandardAtmosphere(z)
+		p, T := StandardAtmosphere(z)
 		if got := StandardAtmosphereTemperature(p); math.Abs(got-T) > 1e-9*T {
 			t.Errorf("z %g: T(p=%g) = %.12g, want %.12g", z, p, got, T)
 		}
 	}
 	for _, bad := range []float64{-5001, 32001, math.NaN(), math.Inf(1)} {
-		if T, p := StandardAtmosphere(bad); !math.IsNaN(T) || !math.IsNaN(p) {
+		if p, T := StandardAtmosphere(bad); !math.IsNaN(T) || !math.IsNaN(p) {
 			t.Errorf("z %g: got %g %g, want NaN", bad, T, p)
 		}
 	}
@@ -92,7 +92,7 @@ func TestComplete(t *testing.T) {
 	if qc := model(func(p *Params) { p.DropletNumber = 100e6 }).Complete(&in, 50e6, nan, false); qc != QCDropletNumberInput {
 		t.Errorf("qc %v", InputQCNames(qc))
 	}
-	cw := CondensationRate(p.DefaultCTT, p.DefaultCTP)
+	cw := CondensationRate(p.DefaultCTP, p.DefaultCTT)
 	if want := EffectiveRadius(Thickness(0.1, p.Fad, cw), 50e6, p.K, p.Fad, cw); in.Re != want {
 		t.Errorf("r_e %g, want %g", in.Re, want)
 	}
@@ -140,7 +140,7 @@ func TestComplete(t *testing.T) {
 	in = nanIn()
 	in.LWP, in.Re, in.CTH = 0.1, 10e-6, 1500
 	m.Complete(&in, nan, nan, false)
-	if T, pr := StandardAtmosphere(1500); in.CTT != T || in.CTP != pr {
+	if pr, T := StandardAtmosphere(1500); in.CTT != T || in.CTP != pr {
 		t.Errorf("CTH only: %g %g", in.CTT, in.CTP)
 	}
 	// A real CTT is kept.

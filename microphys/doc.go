@@ -10,6 +10,14 @@
 // kg, s, K, Pa, kg m-3 for water contents, m-3 for number concentrations, 1 for ratios and
 // efficiencies. Conversions happen once, outside this package.
 //
+// # Argument order
+//
+// An air state is always passed and returned pressure first, then temperature: (p, T), as
+// in NewAir(p, T), AirDensity(p, T, qv), FallSpeedBeard(d, p, T), CondensationRate(p, T),
+// CloudBase(p, T, h) returning (pb, tb), StandardAtmosphere(z) returning (p, T) and
+// SubCloudLayer.State(z) returning (p, T, S). Other arguments of a function come before
+// or after the pair as its doc comment states (a drop size first, humidity after).
+//
 // # Bad input
 //
 // The functions are pure and never panic on float input. Input outside the physical or

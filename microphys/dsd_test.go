@@ -257,7 +257,7 @@ func TestWellMixedHumidity(t *testing.T) {
 	if _, _, S := l.State(l.BaseHeight); !scalar.EqualWithinAbs(S, 1, 1e-12) {
 		t.Errorf("S at cloud base %g, want 1", S)
 	}
-	Ts, ps, S := l.State(0)
+	ps, Ts, S := l.State(0)
 	if want := rs(l.BaseT, l.BaseP) / rs(Ts, ps); !scalar.EqualWithinRel(S, want, 1e-12) {
 		t.Errorf("surface S %g, want %g", S, want)
 	}
@@ -290,7 +290,7 @@ func fluxDomainSample(n int, seed uint64, mixed bool) []SubCloudLayer {
 		if mixed {
 			l.SurfaceRH, l.WellMixed = 0, true
 		}
-		if Ts, _, _ := l.State(0); Ts > 320 { // surface air beyond the physical range of use
+		if _, Ts, _ := l.State(0); Ts > 320 { // surface air beyond the physical range of use
 			continue
 		}
 		ls = append(ls, l)
@@ -328,7 +328,7 @@ func TestFluxTableAgainstDirect(t *testing.T) {
 			if !mixed {
 				u = math.Log1p(-l.SurfaceRH)
 			}
-			_, ps, _ := l.State(0)
+			ps, _, _ := l.State(0)
 			got := et.fraction(u, &l, ps)
 			want := SurfaceDrizzleFraction(p.Drizzle, l)
 			if math.IsNaN(got) || math.IsNaN(want) {

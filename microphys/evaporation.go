@@ -97,7 +97,7 @@ type SubCloudLayer struct {
 	WellMixed bool
 }
 
-// State returns temperature T (K), pressure p (Pa) and saturation ratio S (1) at height z (m
+// State returns pressure p (Pa), temperature T (K) and saturation ratio S (1) at height z (m
 // above the surface) in the layer l:
 //
 //	T = BaseT + (g/c_pd)(BaseHeight - z)
@@ -111,16 +111,16 @@ type SubCloudLayer struct {
 // (mixing ratio); [Wood2012] (well-mixed boundary layer).
 // Valid: 0 <= z <= BaseHeight (extrapolated outside); NaN for NaN input or an air state
 // outside [AirTMin, AirTMax] (WellMixed).
-func (l SubCloudLayer) State(z float64) (T, p, S float64) {
+func (l SubCloudLayer) State(z float64) (p, T, S float64) {
 	T = l.BaseT + Gravity/SpecificHeatDryAir*(l.BaseHeight-z)
 	p = l.BaseP * math.Exp(SpecificHeatDryAir/GasConstantDry*math.Log(T/l.BaseT))
 	if l.WellMixed {
 		eb, es := SatVapourPressure(l.BaseT), SatVapourPressure(T)
 		S = eb * (p - es) / (es * (l.BaseP - eb))
-		return T, p, S
+		return p, T, S
 	}
 	S = l.SurfaceRH + (1-l.SurfaceRH)*z/l.BaseHeight
-	return T, p, S
+	return p, T, S
 }
 
 // humidityOK reports whether l's humidity description is valid: WellMixed, or SurfaceRH in
@@ -174,7 +174,7 @@ func (e evapSys) deriv(y [2]float64) [2]float64 {
 	r := math.Sqrt(math.Max(y[0], 0))
 	a, S := e.air, e.s
 	if e.layer {
-		T, p, s := e.l.State(y[1])
+		p, T, s := e.l.State(y[1])
 		a, S = NewAir(p, T), s
 	}
 	var V float64
@@ -217,7 +217,7 @@ func evaporateTol(r0 float64, l SubCloudLayer, rtol float64) EvapPath {
 		l.humidityOK(1) && validT(l.BaseT) && validP(l.BaseP)) {
 		return bad
 	}
-	if Ts, ps, _ := l.State(0); !validT(Ts) || !validP(ps) {
+	if ps, Ts, _ := l.State(0); !validT(Ts) || !validP(ps) {
 		return bad
 	}
 	sys := evapSys{l: l, layer: true, ventilate: true}

@@ -103,20 +103,20 @@ func testLayer() SubCloudLayer {
 func TestSubCloudLayerState(t *testing.T) {
 	t.Parallel()
 	l := testLayer()
-	T, p, S := l.State(l.BaseHeight)
+	p, T, S := l.State(l.BaseHeight)
 	if T != l.BaseT || p != l.BaseP || S != 1 {
 		t.Errorf("State(base) = %g %g %g", T, p, S)
 	}
-	T, p, S = l.State(0)
+	p, T, S = l.State(0)
 	// Dry adiabatic lapse rate g/c_pd = 9.75 K/km (derived); RH = SurfaceRH at the surface.
 	check(t, "T(0)", T, l.BaseT+600*Gravity/SpecificHeatDryAir, 0, 1e-12, "dry adiabat (derived)")
 	check(t, "S(0)", S, 0.7, 0, 1e-12, "linear RH profile (derived)")
 	// Hydrostatic: the layer's pressure satisfies dp/dz = -rho g with rho = p/(R_d T) (checked
 	// by a central difference, derived).
 	const dz = 1.0
-	_, p1, _ := l.State(300 - dz)
-	T2, p2, _ := l.State(300)
-	_, p3, _ := l.State(300 + dz)
+	p1, _, _ := l.State(300 - dz)
+	p2, T2, _ := l.State(300)
+	p3, _, _ := l.State(300 + dz)
 	check(t, "dp/dz", (p3-p1)/(2*dz), -p2/(GasConstantDry*T2)*Gravity, 0, 1e-6, "hydrostatic balance (derived)")
 	if p <= l.BaseP {
 		t.Errorf("surface pressure %g not above base %g", p, l.BaseP)

@@ -237,7 +237,7 @@ func ExampleEvaporationRate() {
 
 func ExampleSubCloudLayer_State() {
 	l := microphys.SubCloudLayer{BaseHeight: 600, BaseT: 285, BaseP: 94000, SurfaceRH: 0.7}
-	T, p, S := l.State(0)
+	p, T, S := l.State(0)
 	fmt.Printf("surface: T %.4g K, p %.4g Pa, S %.4g\n", T, p, S)
 	// Output:
 	// surface: T 290.9 K, p 1.009e+05 Pa, S 0.7

@@ -31,7 +31,7 @@ var (
 	saP20 = saP11 * math.Exp(-saGrav*(saH20-saH11)/(saR*saT11))
 )
 
-// StandardAtmosphere returns the temperature T (K) and pressure p (Pa) of the U.S.
+// StandardAtmosphere returns the pressure p (Pa) and temperature T (K) of the U.S.
 // Standard Atmosphere 1976 (ICAO below 32 km) at geopotential altitude z (m):
 //
 //	z <= 11 km:  T = T_0 + L_1 z,  p = p_0 (T/T_0)^(-g_0/(L_1 R))        (L_1 = -6.5 K km-1)
@@ -44,18 +44,18 @@ var (
 // Reference: [USSA1976] Part 1, Table 4 (layers) and the hydrostatic layer equations
 // (eqs. 33a and 33b; equation numbers from memory).
 // Valid: -5 km <= z <= 32 km; NaN outside.
-func StandardAtmosphere(z float64) (T, p float64) {
+func StandardAtmosphere(z float64) (p, T float64) {
 	switch {
 	case !(z >= saHBelow && z <= saH32):
 		return math.NaN(), math.NaN()
 	case z <= saH11:
 		T = saT0 + saL1*z
-		return T, saP0 * math.Pow(T/saT0, 1/saExpTro)
+		return saP0 * math.Pow(T/saT0, 1/saExpTro), T
 	case z <= saH20:
-		return saT11, saP11 * math.Exp(-saGrav*(z-saH11)/(saR*saT11))
+		return saP11 * math.Exp(-saGrav*(z-saH11)/(saR*saT11)), saT11
 	}
 	T = saT11 + saL3*(z-saH20)
-	return T, saP20 * math.Pow(T/saT11, -saGrav/(saL3*saR))
+	return saP20 * math.Pow(T/saT11, -saGrav/(saL3*saR)), T
 }
 
 // StandardAtmosphereTemperature returns the temperature (K) of the U.S. Standard Atmosphere

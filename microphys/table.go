@@ -1029,7 +1029,7 @@ func evapThreshold(l SubCloudLayer) float64 {
 		validT(l.BaseT) && validP(l.BaseP)) {
 		return math.NaN()
 	}
-	if Ts, ps, _ := l.State(0); !validT(Ts) || !validP(ps) {
+	if ps, Ts, _ := l.State(0); !validT(Ts) || !validP(ps) {
 		return math.NaN()
 	}
 	sys := reverseEvap{evapSys{l: l, layer: true, ventilate: true}}

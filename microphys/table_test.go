@@ -242,7 +242,7 @@ func TestEvapThreshold(t *testing.T) {
 			ps = 101325
 		}
 		l := evLayer(lz, tb, math.Log1p(-rh), ps)
-		if Ts, _, _ := l.State(0); Ts > 320 { // surface air beyond the physical range of use
+		if _, Ts, _ := l.State(0); Ts > 320 { // surface air beyond the physical range of use
 			continue
 		}
 		rs := evapThreshold(l)
@@ -479,7 +479,7 @@ func TestEvapTableWholeDomain(t *testing.T) {
 			if mixed {
 				l.SurfaceRH, l.WellMixed, u = 0, true, evMixedU
 			}
-			if Ts, _, _ := l.State(0); Ts > 320 {
+			if _, Ts, _ := l.State(0); Ts > 320 {
 				continue
 			}
 			rs := evapThreshold(l)

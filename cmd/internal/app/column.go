@@ -275,10 +275,10 @@ func computeColumn(m *microphys.Model, in *microphys.Inputs) *columnResult {
 	if math.IsNaN(rhs) {
 		rhs = p.SurfaceRH
 	}
-	tb, pb := microphys.CloudBase(T, pr, h)
+	pb, tb := microphys.CloudBase(pr, T, h)
 	zb := in.CTH - h
 	if math.IsNaN(in.CTH) {
-		zb = microphys.DryBaseHeight(tb, pb, p.SurfacePressure)
+		zb = microphys.DryBaseHeight(pb, tb, p.SurfacePressure)
 	}
 	l := microphys.SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs,
 		WellMixed: p.SubCloudHumidity == microphys.HumidityWellMixed}
