@@ -411,6 +411,17 @@ func TestBatchReport(t *testing.T) {
 			t.Errorf("tally: want %s %d:\n%s", n, count[n], errs)
 		}
 	}
+	// The manifest records the same counts per file.
+	var manScreened float64
+	for _, rec := range manifest(t, filepath.Join(out, "warmrain-manifest.jsonl")) {
+		manScreened += rec["screened"].(float64)
+		if qc, _ := rec["screened_qc"].([]any); len(qc) != len(count) {
+			t.Errorf("manifest: screened_qc %v, want %d reasons", rec["screened_qc"], len(count))
+		}
+	}
+	if int64(manScreened) != screened {
+		t.Errorf("manifest: %v columns screened, the outputs' QC %d", manScreened, screened)
+	}
 	logText, _ := os.ReadFile(logf)
 	if string(logText) != errs {
 		t.Errorf("the log differs from stderr:\nlog:\n%s\nstderr:\n%s", logText, errs)
