@@ -69,7 +69,7 @@ func benchPipeline(b *testing.B, p microphys.Params, ioOnly bool, mkInput func(*
 	}
 	job := &processJob{
 		e:      &env{stdout: io.Discard, stderr: io.Discard, prog: "warmrain"},
-		o:      processOptions{jobs: 1, deflate: 1, slabMB: grid.DefaultSlabBytes >> 20, ioOnly: ioOnly, quiet: true},
+		o:      processOptions{jobs: 1, deflate: 1, slabMB: grid.DefaultSlabBytes >> 20, memoryMB: defaultMemoryMB, ioOnly: ioOnly, quiet: true},
 		params: p, defs: defs, model: m,
 		args: []string{"process", input},
 	}
