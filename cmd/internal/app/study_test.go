@@ -5,6 +5,7 @@ import (
 	"encoding/hex"
 	"encoding/json"
 	"io/fs"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -512,5 +513,39 @@ open(dir + "/a7_notes.nc", "w").write("notes\n")
 	code, stdout, _ = runProc(t, "inspect", filepath.Join(dir, "a1.nc"), filepath.Join(dir, "a2.nc"), filepath.Join(dir, "a3.nc"))
 	if code != 0 || !strings.Contains(stdout, "3 of 3 files as most, 0 differ, 0 cannot be read") {
 		t.Errorf("consistent archive: exit %d:\n%s", code, stdout)
+	}
+}
+
+// An ensemble takes the parameter file as the base of every member: each member equals
+// the single run with the file and the member's options.
+func TestEnsembleOverParamsFile(t *testing.T) {
+	dir := t.TempDir()
+	pf := filepath.Join(dir, "study.toml")
+	os.WriteFile(pf, []byte("gamma-shape = 3\nonset-width = \"2 um\"\n"), 0o644)
+	sets := filepath.Join(dir, "sets.txt")
+	os.WriteFile(sets, []byte("base:\nearly: --onset-radius 12\n"), 0o644)
+	in := samplePath(t)
+	ens := filepath.Join(dir, "ens.nc")
+	outs := []string{"--outputs", "drizzle_probability"}
+	if code, _, errs := runProc(t, append([]string{"process", in, "-o", ens, "--ensemble", sets, "--params", pf}, outs...)...); code != 0 {
+		t.Fatalf("ensemble with --params: exit %d: %s", code, errs)
+	}
+	all := readVar(t, ens, "drizzle_probability")
+	for k, extra := range [][]string{nil, {"--onset-radius", "12"}} {
+		one := filepath.Join(dir, "one"+strconv.Itoa(k)+".nc")
+		args := append(append([]string{"process", in, "-o", one, "--params", pf}, outs...), extra...)
+		if code, _, errs := runProc(t, args...); code != 0 {
+			t.Fatalf("single run %v: exit %d: %s", extra, code, errs)
+		}
+		want := readVar(t, one, "drizzle_probability")
+		got := all[k*len(want) : (k+1)*len(want)]
+		for i := range want {
+			if math.Float64bits(got[i]) != math.Float64bits(want[i]) && !(math.IsNaN(got[i]) && math.IsNaN(want[i])) {
+				t.Fatalf("member %d differs from the single run with the file at %d: %v != %v", k, i, got[i], want[i])
+			}
+		}
+	}
+	if code, _, errs := runProc(t, "process", in, "-o", filepath.Join(dir, "x.nc"), "--ensemble", sets, "--dry-run"); code != ExitUsage || !strings.Contains(errs, "cannot be combined") {
+		t.Errorf("--dry-run with --ensemble: exit %d: %s", code, errs)
 	}
 }

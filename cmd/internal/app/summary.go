@@ -10,6 +10,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -28,7 +29,7 @@ Reads files written by 'warmrain process', one time step at a time, and reports:
 drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-with their standard errors; the flux-weighted fraction of drizzle reaching the surface
+with their standard errors, and with --bootstrap their confidence intervals; the flux-weighted fraction of drizzle reaching the surface
 (sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
 time-mean maps of every diagnostic with the number of values averaged per cell.
 
@@ -54,6 +55,14 @@ flag_meanings) are left out.
 LWP is taken from the variable liquid_water_path, or else from the one variable with
 standard_name atmosphere_mass_content_of_cloud_liquid_water.
 
+Neighbouring columns are correlated, so the sampling errors treat contiguous tiles of
+each time step as independent: the bin means get a tile standard error and an
+effective number of independent columns, and --bootstrap resamples tiles (--tile sets
+their side in cells; by default round(N^(1/(d+2))) for N cells in d dimensions, 32 for
+a 1000 x 1000 grid; --tile 1 treats columns as independent). When the processed
+files link <name>_standard_error to the drizzle probability or rate, the table also
+gives the mean retrieval error per bin.
+
 Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
 LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
 edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
@@ -65,7 +74,7 @@ decisions.
 Examples:
   warmrain summary out/*.nc
   warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
-  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
+  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
 `
 
 // Names in processed files: rows of microphys.OutputDecls.
@@ -105,8 +114,10 @@ func runSummary(e *env, args []string) error {
 	to := fs.String("to", "", "keep time steps before `TIME` (UTC)")
 	lwpBins := fs.String("lwp-bins", "20:500:10", "LWP bins in g m-2: `LO:HI:N` logarithmic, or edges E1,E2,...")
 	ndBins := fs.String("nd-bins", "10:1000:10", "N_d bins in cm-3: `LO:HI:N` logarithmic, or edges E1,E2,...")
-	boot := fs.Int("bootstrap", 0, "number `N` of Poisson-bootstrap replicates for the susceptibility errors (0 = off)")
+	boot := fs.Int("bootstrap", 0, "number `N` of tile-bootstrap replicates for the susceptibility intervals (0 = off; 200 or more for 95% intervals)")
 	seed := fs.Uint64("seed", 1, "seed `S` of the bootstrap random numbers")
+	tile := fs.Int("tile", 0, "side `CELLS` of the tiles treated as independent by the standard errors and the bootstrap (0 = round(N^(1/(d+2))) of each scene's N cells in d dimensions; 1 = independent columns)")
+	ciLevel := fs.Float64("ci-level", 0.95, "level `P` of the bootstrap confidence intervals, between 0 and 1")
 	minCount := fs.Int("min-count", 50, "least columns `N` an (LWP, N_d) bin needs to enter a fit or a curve")
 	minDrz := fs.Float64("min-drizzling", 10, "least drizzling columns `N` (the sum of the columns' POP) an (LWP, N_d) bin needs to enter a fit and show a conditional rate")
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
@@ -163,6 +174,13 @@ func runSummary(e *env, args []string) error {
 	}
 	f.opt.Region, f.opt.Window = f.region, f.window
 	f.opt.Bootstrap, f.opt.Seed, f.opt.MinCount = *boot, *seed, *minCount
+	if *tile < 0 {
+		return usagef("--tile %d: expected 0 (automatic) or a side of 1 or more cells", *tile)
+	}
+	if !(*ciLevel > 0 && *ciLevel < 1) {
+		return usagef("--ci-level %g: expected a level between 0 and 1, such as 0.95", *ciLevel)
+	}
+	f.opt.Tile, f.opt.CILevel = *tile, *ciLevel
 	f.opt.QCMask = 1 // each file's screening bits are mapped to bit 0 (see readStep)
 
 	// Refuse to overwrite before any work.
@@ -382,7 +400,16 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			}
 		}
 	}
-	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base}, st.mapNames...)
+	if a, ok := p.Info.Global("warmrain_ensemble_members"); ok && !st.mixed {
+		// An ensemble of parameter sets (process --ensemble): its members are pooled
+		// like time steps, which mixes the parameter settings.
+		n, _ := a.Text()
+		st.mixed = true
+		fmt.Fprintf(e.stderr, "warmrain summary: %s holds %s ensemble members processed with different parameters; the summary pools them (summarise the single runs of one parameter set to compare members)\n", path, n)
+	}
+	popErr, rateErr := standardError(p, popVarName), standardError(p, p.Rate)
+	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base, popErr, rateErr}, st.mapNames...)
+	fileKey := sceneKey(path)
 	s := p.Scene
 	if f.region != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
@@ -417,7 +444,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
 			}
 		}
-		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.N, Time: times}
+		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.N, Time: times, Key: fileKey ^ uint64(b.Number)<<40}
 		cols := summary.Columns{
 			LWP: summary.Field{Name: p.LWP, Units: mustOutput(lwpVarName).SIUnits, Data: d[p.LWP]},
 			Nd:  summary.Field{Name: ndVarName, Units: mustOutput(ndVarName).SIUnits, Data: d[ndVarName]},
@@ -429,6 +456,12 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		}
 		if p.Surf != "" {
 			cols.SurfaceRate = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.Surf]}
+		}
+		if popErr != "" {
+			cols.POPError = summary.Field{Name: popErr, Units: mustOutput(popVarName).SIUnits, Data: d[popErr]}
+		}
+		if rateErr != "" {
+			cols.RateError = summary.Field{Name: rateErr, Units: mustOutput(rateVarName).SIUnits, Data: d[rateErr]}
 		}
 		if p.Base != "" {
 			cols.BaseHeight = summary.Field{Name: baseVarName, Units: mustOutput(baseVarName).SIUnits, Data: d[p.Base]}
@@ -479,6 +512,54 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	})
 }
 
+// sceneKey identifies a processed file for the bootstrap's tile weights by its base
+// name (FNV-1a, 64 bit), so the weights of its tiles do not depend on the order of the
+// files or on the folder, and partial summaries of disjoint files merge into the one of
+// all files (summary.Scene.Key).
+func sceneKey(path string) uint64 {
+	h := uint64(14695981039346656037)
+	for _, c := range []byte(filepath.Base(path)) {
+		h ^= uint64(c)
+		h *= 1099511628211
+	}
+	return h
+}
+
+// standardError returns the variable holding the retrieval standard error of name, the
+// <name>_standard_error named by its ancillary_variables, or "" when the file has none.
+func standardError(p *procfile.File, name string) string {
+	if name == "" {
+		return ""
+	}
+	v := p.Info.Var(name)
+	want := name + "_standard_error"
+	if v == nil || !slices.Contains(strings.Fields(v.Text("ancillary_variables")), want) {
+		return ""
+	}
+	vi, ok := p.Vars[want]
+	if !ok {
+		return ""
+	}
+	// In the SI units of the diagnostic it belongs to (a known output), like the
+	// diagnostic itself.
+	si := p.Vars[name].Units
+	if vi.Units != si {
+		c, err := grid.NewConverter(vi.Conv.From, si)
+		if err != nil && si == "kg m-2 s-1" {
+			if c2, err2 := grid.NewConverter(vi.Conv.From, "mm s-1"); err2 == nil {
+				c, err = c2, nil
+				c.To = si
+			}
+		}
+		if err != nil {
+			return "" // not a usable error; the statistics go on without it
+		}
+		vi.Units, vi.Conv = si, c
+		p.Vars[want] = vi
+	}
+	return want
+}
+
 // ---- the NetCDF summary file ----
 
 func attr(name string, v any) grid.Attr { return grid.Attr{Name: name, Value: v} }
@@ -503,6 +584,9 @@ func summaryVarSpec(v summary.Var, float bool) grid.VarSpec {
 	}
 	if !v.Int && !isCoord && !isBounds {
 		vs.Attrs = append(vs.Attrs, attr("_FillValue", []float64{-999}))
+	}
+	if v.ConfidenceLevel > 0 {
+		vs.Attrs = append(vs.Attrs, attr("confidence_level", []float64{v.ConfidenceLevel}))
 	}
 	for _, a := range [][2]string{{"standard_name", v.StandardName}, {"long_name", v.LongName}, {"units", v.Units},
 		{"bounds", v.Bounds}, {"ancillary_variables", v.Ancillary}, {"comment", v.Comment}} {
@@ -595,7 +679,7 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 		attr("comment", summaryCaution+" Statistics are in SI units (LWP kg m-2, N_d m-3, rates kg m-2 s-1 = mm s-1 of liquid water)."),
 		attr("history", hist),
 		attr("source", "warmrain "+Version()+" (libnetcdf "+grid.LibraryVersion()+")"),
-		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap)"),
+		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap weights); Carlstein (1986), Künsch (1989), Lahiri (2003) (block bootstrap over tiles); Cochran (1977) (tile standard errors of ratio means)"),
 		attr("standard_name_vocabulary", "CF Standard Name Table v83"),
 		attr("date_created", time.Now().UTC().Format(time.RFC3339)),
 		attr("warmrain_summary_inputs", strings.Join(inputs, "\n")),

@@ -129,12 +129,29 @@ func writeSynthProcessed(t *testing.T, dir string) (string, []synthColumn) {
 			a("warmrain_parameter_onset_effective_radius", "1.4e-05"), a("warmrain_parameter_gamma_shape", "2"),
 			a("warmrain_parameter_autoconversion", "KK2000")},
 	}
+	// Retrieval standard errors linked through ancillary_variables (doc/netcdf.md):
+	// constant, 0.02 for POP and 0.1 mm day-1 for the rate, so every bin's mean is known.
+	sePOP, seRate := make([]float64, n), make([]float64, n)
+	for k := range sePOP {
+		sePOP[k], seRate[k] = synthSEPOP, synthSERate
+	}
+	for i := range ds.Vars {
+		switch ds.Vars[i].Name {
+		case "drizzle_probability", "cloud_base_drizzle_rate":
+			ds.Vars[i].Attrs = append(ds.Vars[i].Attrs, a("ancillary_variables", ds.Vars[i].Name+"_standard_error"))
+		}
+	}
+	ds.Vars = append(ds.Vars, fvar("drizzle_probability_standard_error", "1", "retrieval standard error of the drizzle probability", sePOP),
+		fvar("cloud_base_drizzle_rate_standard_error", "mm day-1", "retrieval standard error of the cloud-base drizzle rate", seRate))
 	path := filepath.Join(dir, "processed.nc")
 	if err := grid.WriteDataset(path, ds, false); err != nil {
 		t.Fatal(err)
 	}
 	return path, cols
 }
+
+// The retrieval standard errors of the synthetic file (invented).
+const synthSEPOP, synthSERate = 0.02, 0.1 // 1, mm day-1
 
 // surfaceRatioPython returns the flux-weighted surface fraction Σ R_sfc / Σ R_CB of a
 // processed file, computed by Debian's netCDF4-python over the columns with QC & mask
@@ -188,6 +205,11 @@ ds = xr.open_dataset(sys.argv[1])
 def clean(v):
     return [None if (isinstance(x, float) and math.isnan(x)) else x for x in v]
 out = {k: clean(ds[k].values.ravel().tolist()) for k in ["susceptibility_pop", "susceptibility_rate", "susceptibility_conditional_rate", "column_count", "lwp_bin", "surface_drizzle_fraction"]}
+for k in ["drizzle_probability_mean_retrieval_error", "cloud_base_drizzle_rate_mean_retrieval_error", "susceptibility_pop_lower_limit", "susceptibility_pop_upper_limit", "drizzle_probability_mean_tile_standard_error", "drizzle_probability_mean_standard_error"]:
+    if k in ds:
+        out[k] = clean(ds[k].values.ravel().tolist())
+if "susceptibility_pop_lower_limit" in ds:
+    out["confidence_level"] = float(ds["susceptibility_pop_lower_limit"].attrs["confidence_level"])
 out["pop_mean_map_units"] = ds["drizzle_probability_time_mean"].attrs.get("units")
 out["pop_mean_map_shape"] = list(ds["drizzle_probability_time_mean"].shape)
 out["pop_count_map_sum"] = int(ds["drizzle_probability_time_mean_count"].values.sum())
@@ -291,6 +313,24 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	si := floats(t, m["susceptibility_conditional_rate"])
 	if len(sp) != 3 {
 		t.Fatalf("susceptibility_pop has %d LWP bins, want 3", len(sp))
+	}
+	// Retrieval errors: the mean of a constant is that constant, in SI (0.1 mm day-1 =
+	// 0.1/86400 kg m-2 s-1, derived); bootstrap limits bracket the estimate.
+	cnt := floats(t, m["column_count"])
+	ep, er := floats(t, m["drizzle_probability_mean_retrieval_error"]), floats(t, m["cloud_base_drizzle_rate_mean_retrieval_error"])
+	for b := range cnt {
+		if cnt[b] > 0 && (math.Abs(ep[b]-synthSEPOP) > 1e-6 || math.Abs(er[b]*86400-synthSERate) > 1e-6) {
+			t.Errorf("bin %d: mean retrieval errors %g, %g mm day-1; want %g, %g", b, ep[b], er[b]*86400, synthSEPOP, synthSERate)
+		}
+	}
+	lo, hi := floats(t, m["susceptibility_pop_lower_limit"]), floats(t, m["susceptibility_pop_upper_limit"])
+	for i := range sp {
+		if !(lo[i] <= sp[i] && sp[i] <= hi[i]) {
+			t.Errorf("LWP bin %d: S_POP %.4f outside its interval %.4f..%.4f", i, sp[i], lo[i], hi[i])
+		}
+	}
+	if m["confidence_level"] != 0.95 {
+		t.Errorf("confidence_level %v, want 0.95", m["confidence_level"])
 	}
 	for i := range sp {
 		// The invented laws (this file's header): S_POP = 0.6, S_R = 1.3, S_I = 0.7 (derived).
