@@ -402,6 +402,14 @@ Data go to stdout or files; messages go to stderr.
 	several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
 	(susceptibility_vs_lwp.png). Existing files are only replaced with --force.
 
+	Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
+	they are drawn without, and stderr says so once), fixed colour limits per
+	variable chosen from its physical range so that maps compare (logarithmic for
+	quantities that span decades; --range VAR=LO:HI[:log] replaces them, in the units
+	the map shows), a legend of the cells without a value (input missing, screened by
+	QC, outside --region, no value), and are cropped to --region. Their titles name
+	only the parameters the variable depends on. See doc/maps.md.
+
 	Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 	horizontal dimension), time series at one site, with any leading dimensions (time,
 	ensemble member). Maps need a grid or swath with latitude and longitude; for other
@@ -436,6 +444,7 @@ Data go to stdout or files; messages go to stderr.
 	Examples:
 	  warmrain summary out/*.nc
 	  warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
+	  warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
 	  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
 
 	Options:
@@ -470,6 +479,9 @@ Data go to stdout or files; messages go to stderr.
 	                                             (first selected time step) (default "mean")
 	      --force[=true|false]                   overwrite an existing summary file and existing
 	                                             pictures
+	      --range VAR=LO:HI[:log]                colour range of VAR's maps in the units the map
+	                                             shows, instead of the declared one:
+	                                             VAR=LO:HI[:log] (repeatable)
 
 # warmrain params
 

@@ -3,6 +3,7 @@ package app
 import (
 	"encoding/json"
 	"image"
+	"image/color"
 	"image/png"
 	"math"
 	"os"
@@ -13,6 +14,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/warmrain/warmrain/cmd/internal/plots"
 	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/grid/cflint"
 	"github.com/warmrain/warmrain/microphys"
@@ -486,6 +488,9 @@ func TestSummaryUsage(t *testing.T) {
 		{[]string{"summary", in, "--nd-bins", "10,5,20"}, ExitUsage, "increase"},
 		{[]string{"summary", in, "--plot-size", "big"}, ExitUsage, "WxH"},
 		{[]string{"summary", in, "--map-of", "last"}, ExitUsage, "mean or first"},
+		{[]string{"summary", in, "--range", "droplet_number=500:20"}, ExitUsage, "--range"},
+		{[]string{"summary", in, "--range", "droplet_number=0:500:log"}, ExitUsage, "--range"},
+		{[]string{"summary", in, "--range", "droplet_number"}, ExitUsage, "--range"},
 		{[]string{"summary", in, "-o", in, "--force"}, ExitUsage, "refusing to overwrite an input"},
 		{[]string{"summary", filepath.Join(dir, "none.nc")}, ExitFailure, "none.nc"},
 		{[]string{"summary", "--help"}, ExitOK, ""},
@@ -659,4 +664,118 @@ ds.close()`, in).CombinedOutput(); err != nil {
 	if r.Info().Var("surface_drizzle_fraction") != nil {
 		t.Error("summary file has surface_drizzle_fraction without a surface rate in the input")
 	}
+}
+
+// TestSummaryMapClasses: a swath whose latitude and longitude are found by their
+// standard names (no coordinates attribute), with columns screened for a missing input
+// and for thin cloud. Latitude and longitude get no map; the maps show both no-data
+// classes in their colours, and a --range for a variable without a map is reported.
+func TestSummaryMapClasses(t *testing.T) {
+	dir := t.TempDir()
+	const ny, nx = 40, 50
+	n := ny * nx
+	lat, lon := make([]float64, n), make([]float64, n)
+	lwp, nd, pop, qc := make([]float64, n), make([]float64, n), make([]float64, n), make([]int32, n)
+	for k := 0; k < n; k++ {
+		y, x := k/nx, k%nx
+		lat[k] = -20 + 0.1*float64(y) + 0.02*float64(x)
+		lon[k] = -100 + 0.1*float64(x)
+		c := synthColumnAt(k)
+		lwp[k], nd[k], pop[k] = c.lwp, c.nd, c.pop
+		switch {
+		case x < 12 && y < 12:
+			qc[k] = 1 // input_missing
+		case x > 35 && y > 25:
+			qc[k] = 4 // thin_cloud
+		}
+		if qc[k] != 0 {
+			lwp[k], nd[k], pop[k] = -999, -999, -999
+		}
+	}
+	a := func(name string, v any) grid.Attr { return grid.Attr{Name: name, Value: v} }
+	fvar := func(name, units string, d []float64) grid.VarSpec {
+		return grid.VarSpec{Name: name, Dims: []string{"y", "x"}, Type: grid.Float, Data: d,
+			Attrs: []grid.Attr{a("_FillValue", []float32{-999}), a("units", units)}}
+	}
+	ds := &grid.Dataset{
+		Dims: []grid.DimSpec{{Name: "y", Len: ny}, {Name: "x", Len: nx}},
+		Vars: []grid.VarSpec{
+			{Name: "lat", Dims: []string{"y", "x"}, Type: grid.Double, Data: lat, Attrs: []grid.Attr{a("standard_name", "latitude"), a("units", "degrees_north")}},
+			{Name: "lon", Dims: []string{"y", "x"}, Type: grid.Double, Data: lon, Attrs: []grid.Attr{a("standard_name", "longitude"), a("units", "degrees_east")}},
+			fvar("liquid_water_path", "g m-2", lwp),
+			fvar("droplet_number", "cm-3", nd),
+			fvar("drizzle_probability", "1", pop),
+			{Name: "warm_rain_qc", Dims: []string{"y", "x"}, Type: grid.Int, Data: qc,
+				Attrs: []grid.Attr{a("flag_masks", []int32{1, 2, 4}), a("flag_meanings", "input_missing input_invalid thin_cloud")}},
+		},
+		Globals: []grid.Attr{a("Conventions", "CF-1.13"), a("warmrain_parameter_onset_radius", "14 um"), a("warmrain_parameter_onset_width", "4 um"),
+			a("warmrain_parameter_gamma_shape", "4"), a("warmrain_parameter_autoconversion", "kk2000"), a("warmrain_parameter_extinction_efficiency", "2")},
+	}
+	in := filepath.Join(dir, "swath.nc")
+	if err := grid.WriteDataset(in, ds, false); err != nil {
+		t.Fatal(err)
+	}
+	pics := filepath.Join(dir, "p")
+	code, _, stderr := runCmd("summary", in, "--plots", pics, "--map-of", "first", "--min-count", "5",
+		"--range", "droplet_number=20:500:log", "--range", "cloud_thickness=0:800")
+	if code != 0 {
+		t.Fatalf("exit %d\n%s", code, stderr)
+	}
+	if !strings.Contains(stderr, "--range cloud_thickness: no map shows") {
+		t.Errorf("no note about the --range without a map:\n%s", stderr)
+	}
+	ents, _ := os.ReadDir(pics)
+	for _, e := range ents {
+		if strings.Contains(e.Name(), "_lat") || strings.Contains(e.Name(), "_lon") {
+			t.Errorf("%s: latitude or longitude mapped as a diagnostic", e.Name())
+		}
+	}
+	for _, name := range []string{"map_droplet_number_first.png", "map_liquid_water_path_first.png"} {
+		path := filepath.Join(pics, name)
+		checkPNG(t, path, 900, 600)
+		f, err := os.Open(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(f)
+		f.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		count := func(c color.NRGBA) int {
+			k := 0
+			b := img.Bounds()
+			for y := b.Min.Y; y < b.Max.Y; y++ {
+				for x := b.Min.X; x < b.Max.X; x++ {
+					r, g, bl, _ := img.At(x, y).RGBA()
+					if uint8(r>>8) == c.R && uint8(g>>8) == c.G && uint8(bl>>8) == c.B {
+						k++
+					}
+				}
+			}
+			return k
+		}
+		if m, s := count(plots.MissingInput.Colour()), count(plots.Screened.Colour()); m < 1000 || s < 1000 {
+			t.Errorf("%s: %d input-missing and %d screened pixels; want the two classes drawn", name, m, s)
+		}
+	}
+}
+
+// TestSummaryWithoutCoastlines: without the coastline files the maps are still drawn
+// and stderr says once that coastlines are off and which package provides them.
+func TestSummaryWithoutCoastlines(t *testing.T) {
+	old := plots.CoastlineDir
+	plots.CoastlineDir = t.TempDir()
+	defer func() { plots.CoastlineDir = old }()
+	dir := t.TempDir()
+	in, _ := writeSynthProcessed(t, dir)
+	pics := filepath.Join(dir, "p")
+	code, _, stderr := runCmd("summary", in, "--plots", pics)
+	if code != 0 {
+		t.Fatalf("exit %d\n%s", code, stderr)
+	}
+	if n := strings.Count(stderr, "without coastlines"); n != 1 || !strings.Contains(stderr, "gmt-gshhg-low") {
+		t.Errorf("want one note naming gmt-gshhg-low, got %d in:\n%s", n, stderr)
+	}
+	checkPNG(t, filepath.Join(pics, "map_drizzle_probability_mean.png"), 900, 600)
 }
