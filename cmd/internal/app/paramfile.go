@@ -357,6 +357,9 @@ func writeParamText(w io.Writer, p microphys.Params, from string) error {
 			b.WriteString(commentWrap("published: "+r.Literature, "#   ", 88))
 		}
 		b.WriteString(commentWrap("source: "+r.Source, "#   ", 88))
+		if r.Spread > 0 {
+			b.WriteString(commentWrap(fmt.Sprintf("spread (one standard deviation, for --parameter-uncertainty): %s; %s", spreadText(r), r.SpreadSource), "#   ", 88))
+		}
 		fmt.Fprintf(&b, "%s = %s\n", r.Option, paramFileValue(rows, &p))
 	}
 	_, err := io.WriteString(w, b.String())

@@ -130,7 +130,18 @@ func writeParamList(w io.Writer, p microphys.Params) error {
 		}
 		b.WriteString(commentWrap("published: "+lit, "    ", 96))
 		b.WriteString(commentWrap("source: "+r.Source, "    ", 96))
+		if r.Spread > 0 {
+			b.WriteString(commentWrap(fmt.Sprintf("spread (one standard deviation, for --parameter-uncertainty): %s; %s", spreadText(r), r.SpreadSource), "    ", 96))
+		}
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// spreadText is a row's spread in its unit ("1 um", or "0.1" for a pure number).
+func spreadText(r *microphys.ParamDecl) string {
+	if r.Unit == "" || r.Unit == "1" {
+		return fmtNum(r.Spread)
+	}
+	return fmtNum(r.Spread) + " " + r.Unit
 }
