@@ -51,8 +51,8 @@ the physics options are used and the QC flags say so.
 column integrates the collector drop and its evaporation directly by default
 (--collector-method direct), so the path printed ends at the exit radius of
 the diagnostics. process uses the table by default (within 0.5 % of the
-direct integration); add --collector-method table to see the numbers of such
-a file.
+direct integration); add --collector-method table, or --params-from OUTPUT.nc
+(every parameter of that output), to see the numbers of such a file.
 
 With standard errors of the inputs (--lwp-se, --re-se, --tau-se: in the input's
 units, or a percentage such as 10%) every diagnostic is printed as value ± its

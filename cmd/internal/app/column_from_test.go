@@ -139,6 +139,12 @@ func TestColumnFromMatchesProcessedSample(t *testing.T) {
 			compareWithFile(t, p, packed, ix)
 		}
 	}
+	// --params-from: the output's own parameters (the table method among them).
+	for _, ix := range picked {
+		c, _ := runColumnFrom(t, "--from", sampleFile, "--index", fmt.Sprintf("%d,%d,%d", ix[1], ix[2], ix[0]), "--params-from", plain)
+		compareWithFile(t, c, plain, ix)
+		break
+	}
 	if screened < 3 || len(picked)-screened < 2 {
 		t.Fatalf("picked %v: want at least 3 screened and 2 unscreened pixels", picked)
 	}
