@@ -58,6 +58,14 @@ process, so a crash in the C libraries fails that file alone. Batch runs write
 a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 progress is removed, what completed is recorded, the exit code is 1.
 
+--dry-run lists, for the files of this shard, each output and what a run would
+do (process, skip, redo, refuse or fail, and why) and how each role is read,
+and writes nothing; it exits 1 when a file would be refused or fail. A batch
+prints a start line, a line per file with k of N, the rate and the time left,
+and a closing tally; --log FILE appends the same lines to FILE. The physics
+parameters can come from a file (--params, see warmrain params) or from an
+earlier output (--params-from); options given here override them.
+
 --ensemble SETS processes one input once per parameter set of the text file SETS
 (one set a line: NAME: --option VALUE ..., physics options as on the command line,
 over those given on it; # starts a comment) and writes every diagnostic with a
@@ -66,6 +74,7 @@ leading dimension member, each member equal to the single run with its options.
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
   warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+  warmrain process 'archive/2019/*.nc' -o out/ --params study.toml --dry-run
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 `
 
@@ -88,6 +97,8 @@ type processOptions struct {
 	pack                       bool
 	quantize                   int
 	slot                       string // internal: "k/n" for a child process of --jobs
+	dryRun                     bool
+	logPath                    string
 	ensemble                   string // --ensemble FILE of parameter sets
 	phys                       *physicsFlags
 	inp                        *inputFlags
@@ -114,8 +125,10 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVar(&o.ignoreSlurm, "ignore-slurm", false, "do not shard by the Slurm array variables")
 	fs.StringVar(&o.manifest, "manifest", "", "JSON-lines manifest to append to (default: warmrain-manifest.jsonl in the output folder for folder outputs)")
 	fs.BoolVar(&o.checksum, "checksum", false, "identify inputs by SHA-256 for resume (default: path, size and modification time)")
-	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no summary line per file")
-	fs.BoolVar(&o.noProgess, "no-progress", false, "no progress line (it is shown only when stderr is a terminal)")
+	fs.BoolVar(&o.dryRun, "dry-run", false, "list what would be done with each input of this shard (process, skip, redo, refuse, fail, and why) and how its variables would be read, then stop; writes nothing")
+	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no line per file on stderr (the start and closing lines stay, and --log gets every line)")
+	fs.StringVar(&o.logPath, "log", "", "also append the start line, the line per file and the closing tally to `FILE`")
+	fs.BoolVar(&o.noProgess, "no-progress", false, "no column progress within a file (it is shown only when stderr is a terminal)")
 	fs.StringVar(&o.writer, "writer", grid.WriterDirect, "how chunks are compressed: direct (outputs by the compute goroutines and deflated netCDF-4 inputs by the reader, through HDF5's direct chunk I/O) or libnetcdf (everything by libnetcdf on its one I/O thread); the files are the same netCDF-4, the values identical")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
 	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")
@@ -142,8 +155,22 @@ func runProcess(e *env, args []string) error {
 	if o.output == "" {
 		return usagef("no output given: use -o FILE or -o FOLDER")
 	}
-	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.memoryMB < 64 || o.quantize < 0 || o.quantize > 7 {
-		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1, --memory-mb >= 64 and --significant-digits 0-7 are required")
+	for _, c := range []struct {
+		bad  bool
+		opt  string
+		v    int
+		want string
+	}{
+		{o.jobs < 1, "jobs", o.jobs, "at least 1 (files at the same time)"},
+		{o.threads < 0, "threads", o.threads, "0 (automatic) or more"},
+		{o.deflate < 0 || o.deflate > 9, "deflate", o.deflate, "between 0 (no compression) and 9"},
+		{o.slabMB < 1, "slab-mb", o.slabMB, "at least 1 MiB"},
+		{o.memoryMB < 64, "memory-mb", o.memoryMB, "at least 64 MiB"},
+		{o.quantize < 0 || o.quantize > 7, "significant-digits", o.quantize, "between 0 (off) and 7"},
+	} {
+		if c.bad {
+			return usagef("--%s must be %s (got %d)", c.opt, c.want, c.v)
+		}
 	}
 	if o.writer != grid.WriterDirect && o.writer != grid.WriterLibnetcdf {
 		return usagef("--writer %q: expected direct or libnetcdf", o.writer)
@@ -166,6 +193,11 @@ func runProcess(e *env, args []string) error {
 	params, err := o.phys.toParams()
 	if err != nil {
 		return err
+	}
+	for _, n := range o.phys.notes {
+		if o.slot == "" {
+			fmt.Fprintf(e.stderr, "warmrain: note: %s\n", n)
+		}
 	}
 	for _, w := range physicsWarnings(params) {
 		if o.slot == "" { // the parent of --jobs children warns once
@@ -250,6 +282,15 @@ func runProcess(e *env, args []string) error {
 		shardName = fmt.Sprintf("%d/%d", shard.Index, shard.Count)
 	}
 
+	if o.dryRun {
+		if o.ensemble != "" {
+			return usagef("--dry-run and --ensemble cannot be combined (the dry run lists the runs of single parameter sets)")
+		}
+		job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, masks: masks, args: args, shardName: shardName}
+		job.digest = job.paramDigest()
+		return job.dryRun(inputs, outputs, mine, shard, mkFolder)
+	}
+
 	if o.cpuProfile != "" && o.slot == "" { // the parent's run only
 		// A new file only: an existing one (an input, anything) is never replaced.
 		f, err := os.OpenFile(o.cpuProfile, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
@@ -313,9 +354,22 @@ func runProcess(e *env, args []string) error {
 		defer man.Close()
 	}
 	job.single = len(mine) == 1
+	job.rep = &batchReport{stderr: job.e.stderr, quiet: o.quiet, total: len(mine), shard: shardName, t0: time.Now()}
+	if o.logPath != "" {
+		lf, err := openLog(o.logPath)
+		if err != nil {
+			return err
+		}
+		defer lf.Close()
+		job.rep.log = lf
+	}
 	if len(mine) == 0 {
-		fmt.Fprintf(job.e.stderr, "warmrain: shard %s has no files (%d inputs)\n", shardName, len(inputs))
+		job.rep.line(false, "shard %s has no files (%d inputs)", shardName, len(inputs))
 		return nil
+	}
+	if len(mine) > 1 || o.logPath != "" {
+		job.rep.start(len(inputs), job.digest, min(o.jobs, len(mine)))
+		defer func() { job.rep.finish(job.recs) }()
 	}
 	var recs []batch.Record
 	unrecorded := 0
@@ -323,6 +377,7 @@ func runProcess(e *env, args []string) error {
 		// Several files: each in a supervised worker process (also with --jobs 1),
 		// so that a crash in the C libraries fails that file alone.
 		recs, unrecorded, err = job.runPool(ctx, inputs, outputs, mine, man)
+		job.recs = recs
 	} else {
 		r := job.one(ctx, inputs[mine[0]], outputs[mine[0]], true)
 		recs = append(recs, r)
@@ -333,6 +388,7 @@ func runProcess(e *env, args []string) error {
 			unrecorded++
 		}
 		job.report(r)
+		job.recs = recs
 	}
 	failed := 0
 	for _, r := range recs {
@@ -425,6 +481,8 @@ type processJob struct {
 	shardName string
 	digest    string
 	single    bool             // one file to process: its error is the command's error
+	rep       *batchReport     // the messages of the run (nil in a worker process)
+	recs      []batch.Record   // the records of the run, for the closing tally
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
@@ -467,28 +525,10 @@ func (j *processJob) paramDigest() string {
 }
 
 func (j *processJob) report(r batch.Record) {
-	if j.o.quiet {
+	if j.rep == nil {
 		return
 	}
-	if len(r.Inputs) > 1 {
-		r.Input = strings.Join(r.Inputs, "+")
-	}
-	switch r.Status {
-	case "done":
-		fmt.Fprintf(j.e.stderr, "warmrain: %s -> %s: %d columns, %.1f %% screened, %.2f s\n",
-			r.Input, r.Output, r.Columns, 100*r.ScreenedFraction, r.Seconds)
-		if len(r.ScreenedBy) > 0 {
-			fmt.Fprintf(j.e.stderr, "warmrain: %s: screened by the product's quality information: %s\n", r.Input, strings.Join(r.ScreenedBy, "; "))
-		}
-	case "skipped":
-		fmt.Fprintf(j.e.stderr, "warmrain: %s: complete output %s exists, skipped (--redo to process again)\n", r.Input, r.Output)
-	case "interrupted":
-		fmt.Fprintf(j.e.stderr, "warmrain: %s: interrupted, no output written\n", r.Input)
-	default:
-		if !j.single { // a single file's error is the command's error, printed once
-			fmt.Fprintf(j.e.stderr, "warmrain: %s: failed: %s\n", r.Input, r.Error)
-		}
-	}
+	j.rep.file(r, j.single)
 }
 
 // Provenance attributes of every output (resume reads them back).
@@ -632,6 +672,11 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	for _, w := range in.Warnings {
 		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
 	}
+	if !j.o.ioOnly {
+		for _, w := range unitWarnings(in) {
+			fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
+		}
+	}
 	assumed := assumed(in, j.params)
 	var used []string
 	for _, b := range in.Bindings() {
@@ -728,6 +773,8 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	rec.Columns = in.Layout.Columns
 	rec.ScreenedBy = in.Lines(&counts.c)
+	rec.ScreenedQC = screenLines(&counts.why)
+	rec.Screened = screened.Load()
 	if rec.Columns > 0 {
 		rec.ScreenedFraction = math.Round(float64(screened.Load())/float64(rec.Columns)*1e4) / 1e4
 	}
@@ -799,44 +846,23 @@ func (j *processJob) workers(writer string) int {
 	return max(1, n)
 }
 
-// compute returns the per-slab kernel: inputs from the slab's canonical
-// slices, the product's masks and flag codes, the input completion
-// (microphys.Model.Complete) and one microphys.Model.Column call per column,
-// outputs scaled to the file units. It allocates nothing per column.
+// compute returns the per-slab kernel: columnKernel.column for each column (masks, flag
+// codes, completion and one microphys.Model.Column call), outputs scaled to the file units
+// (outputValue), and the uncertainty outputs of plan when there are any. It allocates
+// nothing per column.
 func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
-	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
-	iCTT, iCTP, iCTH, iSD := grid.RoleCTT.Index(), grid.RoleCTP.Index(), grid.RoleCTH.Index(), grid.RoleLWPSD.Index()
-	iNd, iCF := grid.RoleNd.Index(), grid.RoleCloudFraction.Index()
-	gridMean := gin.GridMean
-	masks := gin.Masks
-	bits := make([]uint32, len(masks))
-	for k, mk := range masks {
-		bits[k] = maskBit(mk)
-	}
-	var codeRoles []int // roles whose decoder screens flag codes
-	for i, r := range grid.Roles {
-		if b, ok := gin.Binding(r); ok && len(b.Decoder.FlagCodes) > 0 {
-			codeRoles = append(codeRoles, i)
-		}
-	}
-	screen := microphys.QCInputScreenMask | uint32(microphys.QCScreenMask)
-	nan := math.NaN()
+	k := newColumnKernel(m, gin)
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
-		at := func(k, i int) float64 {
-			if s.In[k] == nil {
-				return nan
-			}
-			return s.In[k][i]
-		}
 		var in microphys.Inputs
 		var o microphys.Outputs
 		var n int64
 		var local grid.QualityCounts
-		if len(masks) > 0 || len(codeRoles) > 0 {
-			local.Masks = make([]int64, len(masks))
-			for _, r := range codeRoles {
+		var why [32]int64 // screened columns by QC bit
+		if len(k.masks) > 0 || len(k.codeRoles) > 0 {
+			local.Masks = make([]int64, len(k.masks))
+			for _, r := range k.codeRoles {
 				b, _ := gin.Binding(grid.Roles[r])
 				local.Codes[r] = make([]int64, len(b.Decoder.FlagCodes))
 			}
@@ -845,81 +871,135 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 		uw := plan.slab()
 		var raw microphys.RawColumn
 		var errIn [3]float64
-		for k, d := range defs {
+		for c, d := range defs {
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
 				for i := lo; i < hi; i++ {
-					outs[k][i] = src[i] * d.scale
+					outs[c][i] = src[i] * d.scale
 				}
 			}
 		}
 		for i := lo; i < hi; i++ {
-			var qin uint32
-			for k, mk := range masks {
-				if mk.Screens(s.In[mk.Role.Index()][i]) {
-					qin |= bits[k]
-					local.Masks[k]++
+			q, qin, ran := k.column(s, i, &in, &o, &local)
+			for c := range defs {
+				if !ran || defs[c].get != nil || defs[c].input == grid.RoleLWP {
+					outs[c][i] = outputValue(&defs[c], &in, &o, ran)
 				}
 			}
-			for _, r := range codeRoles {
-				if c, ok := grid.FlagIndex(s.In[r][i]); ok {
-					qin |= microphys.QCFlagCode
-					local.Codes[r][c]++
-				}
-			}
-			if qin != 0 {
-				local.Screened++
-			}
-			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
-				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
-			if uw != nil {
-				raw = microphys.RawColumn{In: in, Nd: at(iNd, i), CF: at(iCF, i), GridMean: gridMean}
-				for k, r := range errorRoles {
-					errIn[k] = at(r.Index(), i)
-				}
-			}
-			if qin == 0 {
-				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
-			}
-			if qin&screen != 0 {
-				for k := range defs {
-					outs[k][i] = nan
-					if defs[k].input == grid.RoleLWP && in.LWP >= 0 {
-						outs[k][i] = in.LWP * defs[k].scale
-					}
-				}
-				qc[i] = float64(qin)
+			qc[i] = float64(q)
+			if q&k.screen != 0 {
 				n++
-				if uw != nil {
-					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, true)
-				}
-				continue
-			}
-			m.Column(&in, &o)
-			for k := range defs {
-				switch {
-				case defs[k].get != nil:
-					outs[k][i] = defs[k].get(&o) * defs[k].scale
-				case defs[k].input == grid.RoleLWP:
-					outs[k][i] = nan
-					if in.LWP >= 0 {
-						outs[k][i] = in.LWP * defs[k].scale // the LWP used: derived or in-cloud
-					}
-				}
-			}
-			qc[i] = float64(uint32(o.QC) | qin)
-			if o.QC&microphys.QCScreenMask != 0 {
-				n++
+				countScreen(&why, q&k.screen)
 			}
 			if uw != nil {
-				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, o.QC&microphys.QCScreenMask != 0)
+				raw = microphys.RawColumn{In: k.inputs(s, i), Nd: slabAt(s, k.iNd, i), CF: slabAt(s, k.iCF, i), GridMean: k.gridMean}
+				for e, r := range errorRoles {
+					errIn[e] = slabAt(s, r.Index(), i)
+				}
+				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
 			}
 		}
 		screened.Add(n)
-		if local.Masks != nil {
-			counts.add(&local)
+		if local.Masks != nil || n > 0 {
+			counts.add(&local, &why)
 		}
 	}
+}
+
+// columnKernel is the work process does for one column, shared with 'column --from' so
+// that both give the same numbers: the product's masks and flag codes, the input completion
+// (microphys.Model.Complete), the screening and one microphys.Model.Column call.
+type columnKernel struct {
+	m                                                *microphys.Model
+	masks                                            []*grid.Mask
+	bits                                             []uint32
+	codeRoles                                        []int // roles whose decoder screens flag codes
+	gridMean                                         bool
+	iLWP, iRe, iTau, iCTT, iCTP, iCTH, iSD, iNd, iCF int
+	screen                                           uint32
+}
+
+func newColumnKernel(m *microphys.Model, gin *grid.Input) *columnKernel {
+	k := &columnKernel{m: m, masks: gin.Masks, gridMean: gin.GridMean,
+		iLWP: grid.RoleLWP.Index(), iRe: grid.RoleRe.Index(), iTau: grid.RoleTau.Index(),
+		iCTT: grid.RoleCTT.Index(), iCTP: grid.RoleCTP.Index(), iCTH: grid.RoleCTH.Index(), iSD: grid.RoleLWPSD.Index(),
+		iNd: grid.RoleNd.Index(), iCF: grid.RoleCloudFraction.Index(),
+		screen: microphys.QCInputScreenMask | uint32(microphys.QCScreenMask)}
+	k.bits = make([]uint32, len(k.masks))
+	for i, mk := range k.masks {
+		k.bits[i] = maskBit(mk)
+	}
+	for i, r := range grid.Roles {
+		if b, ok := gin.Binding(r); ok && len(b.Decoder.FlagCodes) > 0 {
+			k.codeRoles = append(k.codeRoles, i)
+		}
+	}
+	return k
+}
+
+// inputs are column i's inputs as the slab holds them (before completion).
+func (k *columnKernel) inputs(s *grid.Slab, i int) microphys.Inputs {
+	return microphys.Inputs{LWP: slabAt(s, k.iLWP, i), Re: slabAt(s, k.iRe, i), Tau: slabAt(s, k.iTau, i), CTT: slabAt(s, k.iCTT, i),
+		CTP: slabAt(s, k.iCTP, i), CTH: slabAt(s, k.iCTH, i), LWPStd: slabAt(s, k.iSD, i), SurfaceRH: math.NaN()}
+}
+
+// column fills in (the completed inputs) and o for column i of slab s and returns the QC
+// word written to the file (input bits | Column's bits) and the input bits alone (masks,
+// flag codes, completion); ran is false when the column was screened before Column (o is
+// then not computed). local counts mask and flag-code hits (its Masks nil: not counted).
+func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *microphys.Outputs, local *grid.QualityCounts) (qc, qin uint32, ran bool) {
+	for c, mk := range k.masks {
+		if mk.Screens(s.In[mk.Role.Index()][i]) {
+			qin |= k.bits[c]
+			if local.Masks != nil {
+				local.Masks[c]++
+			}
+		}
+	}
+	for _, r := range k.codeRoles {
+		if c, ok := grid.FlagIndex(s.In[r][i]); ok {
+			qin |= microphys.QCFlagCode
+			if local.Codes[r] != nil {
+				local.Codes[r][c]++
+			}
+		}
+	}
+	if qin != 0 {
+		local.Screened++
+	}
+	*in = k.inputs(s, i)
+	if qin == 0 {
+		qin = k.m.Complete(in, slabAt(s, k.iNd, i), slabAt(s, k.iCF, i), k.gridMean)
+	}
+	if qin&k.screen != 0 {
+		return qin, qin, false
+	}
+	k.m.Column(in, o)
+	return uint32(o.QC) | qin, qin, true
+}
+
+// slabAt is role r's value at column i of s, NaN when the role is absent.
+func slabAt(s *grid.Slab, r, i int) float64 {
+	if s.In[r] == nil {
+		return math.NaN()
+	}
+	return s.In[r][i]
+}
+
+// outputValue is the value of output d (file units) for a column: its diagnostic, the LWP
+// used (derived or in-cloud) for the LWP copy, NaN for a screened column's diagnostics.
+// Copies of other inputs (d.get nil, d.input not LWP) are not handled here.
+func outputValue(d *outputDef, in *microphys.Inputs, o *microphys.Outputs, ran bool) float64 {
+	switch {
+	case d.input == grid.RoleLWP:
+		if in.LWP >= 0 {
+			return in.LWP * d.scale
+		}
+		return math.NaN()
+	case !ran || d.get == nil:
+		return math.NaN()
+	}
+	return d.get(o) * d.scale
 }
 
 // globals are the provenance and parameter attributes of an output.
