@@ -13,6 +13,9 @@ import (
 )
 
 func TestProcessExactCopies(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	in := filepath.Join(dir, "ids.nc")

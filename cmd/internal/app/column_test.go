@@ -233,6 +233,9 @@ func checkPaths(t *testing.T, got columnJSON, p microphys.Params, in *microphys.
 // The default (table) method: the table shows Model.Column's outputs with the
 // collector table, the same numbers process writes.
 func TestColumnTableMethod(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	got := runColumnJSON(t, "--lwp", "120", "--re", "14")
 	_, m := directParams(t, microphys.CollectorTable, 0)
 	in := microphys.Inputs{LWP: 0.120, Re: 14e-6, Tau: math.NaN(), CTT: math.NaN(), CTP: math.NaN(), CTH: math.NaN(), LWPStd: math.NaN(), SurfaceRH: math.NaN()}

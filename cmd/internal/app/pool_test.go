@@ -62,6 +62,9 @@ data:
 }
 
 func TestProcessCrashIsolation(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	for _, n := range []string{"a.nc", "crash_b.nc", "c.nc", "d.nc"} {
@@ -132,6 +135,9 @@ func TestProcessDoubleDashJobs(t *testing.T) {
 // batch with --jobs 2: the run ends, the manifest keeps a cut error text and
 // stderr the whole of it.
 func TestProcessHugeRecord(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	huge := filepath.Join(dir, "huge.nc")

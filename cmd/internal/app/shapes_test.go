@@ -105,6 +105,9 @@ var reColumns = regexp.MustCompile(`Columns: (\d+) seen, (\d+) selected .*?, (\d
 // every column equals microphys on the inputs netCDF4-python decoded, and the summary
 // bins exactly the valid columns, with or without maps as the shape allows.
 func TestShapesEndToEnd(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := needPython(t)
 	m, err := microphys.NewModel(microphys.DefaultParams())
 	if err != nil {
@@ -310,6 +313,9 @@ data: time = 0, 1 ; lwp = 80, 90 ; re = 12, 13 ;
 // TestShapesNoCoordinates: a file without coordinates gives the statistics, says why
 // it has no maps, and refuses a region with a clear message.
 func TestShapesNoCoordinates(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("ncgen"); err != nil {
 		t.Skip("ncgen not installed")
 	}
@@ -343,6 +349,9 @@ data: lwp = 60, 120, 240, 30 ; re = 9, 12, 16, 20 ;
 // TestShapesNoLeapCalendar: model output in a noleap calendar is processed and
 // summarised; only a time window, which needs Gregorian dates, is refused.
 func TestShapesNoLeapCalendar(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("ncgen"); err != nil {
 		t.Skip("ncgen not installed")
 	}

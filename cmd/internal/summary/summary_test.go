@@ -322,6 +322,9 @@ func TestSwathSelection(t *testing.T) {
 }
 
 func TestBootstrapMatchesRegressionForLinearModel(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	// Linear model in logs with equal per-column relative spread in every bin, so count
 	// weights are the right weights and the regression SE is a fair estimate:
