@@ -220,37 +220,13 @@ func WriteDataset(path string, ds *Dataset, force bool) error {
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return &VarError{File: path, Problem: fmt.Sprintf("output folder %q does not exist", dir), Err: os.ErrNotExist}
 	}
-	tmp, err := createTemp(path)
-	if err != nil {
-		return err
-	}
-	var werr error
-	if e := onIO(func() { werr = writeDatasetIO(path, tmp, ds) }); e != nil {
-		werr = e
-	}
-	if werr == nil {
-		if f, e := os.Open(tmp); e == nil {
-			werr = f.Sync()
-			f.Close()
-			if werr != nil {
-				werr = &VarError{File: path, Problem: "sync failed: " + werr.Error(), Err: werr}
-			}
+	return WriteAtomic(path, force, func(tmp string) error {
+		var werr error
+		if e := onIO(func() { werr = writeDatasetIO(path, tmp, ds) }); e != nil {
+			werr = e
 		}
-	}
-	if werr == nil {
-		if e := os.Rename(tmp, path); e != nil {
-			werr = &VarError{File: path, Problem: "cannot rename the temporary file into place: " + e.Error(), Err: e}
-		}
-	}
-	if werr != nil {
-		os.Remove(tmp)
 		return werr
-	}
-	if d, e := os.Open(dir); e == nil {
-		d.Sync()
-		d.Close()
-	}
-	return nil
+	})
 }
 
 func checkDataset(path string, ds *Dataset) error {

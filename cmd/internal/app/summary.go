@@ -2,8 +2,6 @@ package app
 
 import (
 	"bytes"
-	"crypto/rand"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -1248,18 +1246,7 @@ func writePNG(path string, force bool, draw func(w io.Writer) error) error {
 	if err := draw(&buf); err != nil {
 		return err
 	}
-	var rb [6]byte
-	rand.Read(rb[:])
-	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".tmp-"+hex.EncodeToString(rb[:]))
-	if err := os.WriteFile(tmp, buf.Bytes(), 0o644); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	return nil
+	return grid.WriteFileAtomic(path, buf.Bytes(), force)
 }
 
 func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet) error {
