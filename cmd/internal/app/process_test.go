@@ -436,6 +436,10 @@ func TestProcessPack(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	fi, err := grid.Describe(packed)
+	if err != nil {
+		t.Fatal(err)
+	}
 	npacked := 0
 	for _, d := range defs {
 		a, b := readVar(t, plain, d.name), readVar(t, packed, d.name)
@@ -445,8 +449,15 @@ func TestProcessPack(t *testing.T) {
 		tol := 0.0
 		if d.packable {
 			npacked++
-			scale, _ := d.packing()
-			tol = scale/2 + 1e-6*math.Max(math.Abs(d.validMin), math.Abs(d.validMax))
+			// The step follows from the declaration alone, not from the code's packing:
+			// the declared valid range over the 65534 steps of int16 -32767..32767 (CF
+			// §8.1 packing; -32768 is the fill value).
+			decl := microphys.OutputByName(d.name)
+			step := (decl.ValidMax - decl.ValidMin) / 65534
+			if sf, ok := fi.Var(d.name).Attr("scale_factor"); !ok || math.Abs(sf.Float64s()[0]-step) > 1e-6*step {
+				t.Errorf("%s: scale_factor %v in the file, want %g from the declared range [%g, %g]", d.name, sf.Value, step, decl.ValidMin, decl.ValidMax)
+			}
+			tol = step/2 + 1e-6*math.Max(math.Abs(decl.ValidMin), math.Abs(decl.ValidMax))
 		}
 		nvalid := 0
 		for i := range a {
