@@ -8,13 +8,13 @@ import (
 	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"sort"
 	"strconv"
 	"strings"
 	"time"
 
 	"github.com/warmrain/warmrain/cmd/internal/plots"
+	"github.com/warmrain/warmrain/cmd/internal/procfile"
 	"github.com/warmrain/warmrain/cmd/internal/summary"
 	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/microphys"
@@ -66,17 +66,17 @@ Examples:
   warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
 `
 
-// Names in processed files: rows of microphys.OutputDecls (mustOutput fails at start
-// when the declaration no longer has them).
+// Names in processed files: rows of microphys.OutputDecls.
 var (
-	lwpVarName       = mustOutput("liquid_water_path").Name
-	lwpStdName       = mustOutput("liquid_water_path").StandardName
-	ndVarName        = mustOutput("droplet_number").Name
-	popVarName       = mustOutput("drizzle_probability").Name
-	rateVarName      = mustOutput("cloud_base_drizzle_rate").Name
+	lwpVarName       = procfile.LWPName
+	ndVarName        = procfile.NdName
+	popVarName       = procfile.POPName
+	rateVarName      = procfile.RateName
 	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
-	surfVarName      = mustOutput("surface_drizzle_rate").Name
-	baseVarName      = mustOutput("cloud_base_height").Name
+	surfVarName      = procfile.SurfName
+	baseVarName      = procfile.BaseName
+	mustOutput       = procfile.MustOutput
+	screenWords      = procfile.ScreenWords
 )
 
 const (
@@ -84,42 +84,6 @@ const (
 	mapSuffix      = "_time_mean" // of the map variables in the summary file
 	summaryCaution = "Research diagnostics: not for operational forecasting or flight-safety decisions. Statistics of modelled per-column diagnostics; they inherit every assumption of the adiabatic cloud model and of the retrievals behind the inputs."
 )
-
-// mustOutput returns the declaration of a processed file's variable; it panics (a
-// programming error) when microphys.OutputDecls has no such output.
-func mustOutput(name string) *microphys.OutputDecl {
-	d := microphys.OutputByName(name)
-	if d == nil {
-		panic("app: microphys.OutputDecls has no output " + name)
-	}
-	return d
-}
-
-// screenWords are the flag_meanings words of warm_rain_qc whose columns are left out:
-// the screening bits of microphys.QCFlags and microphys.InputQCFlags.
-var screenWords = func() []string {
-	var w []string
-	for _, f := range microphys.QCFlags {
-		if f.Screen {
-			w = append(w, f.Name)
-		}
-	}
-	for _, f := range microphys.InputQCFlags {
-		if f.Screen {
-			w = append(w, f.Name)
-		}
-	}
-	return w
-}()
-
-// siUnitsOf gives the SI units the statistics use for a known diagnostic
-// (microphys.OutputDecls), or false.
-func siUnitsOf(name string) (string, bool) {
-	if d := microphys.OutputByName(name); d != nil {
-		return d.SIUnits, true
-	}
-	return "", false
-}
 
 type summaryFlags struct {
 	output, plotDir, mapOf string
@@ -310,437 +274,12 @@ func parseBins(s string, scale float64) ([]float64, error) {
 	return edges, nil
 }
 
-// procFile is one open processed file.
-type procFile struct {
-	path     string
-	r        *grid.Reader
-	info     *grid.FileInfo
-	dims     []string // of the diagnostics, any of them horizontal (see grid.HorizontalOf)
-	hz       grid.Horizontal
-	shape    []int // the lengths of dims
-	steps    []int // indices of the dimensions that are not horizontal, file order
-	times    *grid.TimeAxis
-	timeVals []float64 // seconds since 1970 along dims[hz.Time]
-	noMaps   string    // why this file gives no maps ("" when it does)
-	window   summary.Window
-	scene    summary.Scene
-	lwp      string
-	rate     string // "" when absent
-	surf     string
-	base     string // cloud-base height, "" when absent
-	qc       string
-	qcScreen uint32 // the file's screening bits
-	vars     map[string]varIn
-}
-
-// varIn is a diagnostic with its conversion to SI.
-type varIn struct {
-	name, units, long, std string
-	conv                   grid.Converter
-}
-
-func openProcessed(path string, window summary.Window) (*procFile, error) {
-	r, err := grid.OpenReader(path)
-	if err != nil {
-		return nil, err
-	}
-	p := &procFile{path: path, r: r, info: r.Info(), vars: map[string]varIn{}, window: window}
-	if err := p.bind(); err != nil {
-		r.Close()
-		return nil, err
-	}
-	return p, nil
-}
-
-func (p *procFile) errf(v, format string, a ...any) error {
-	return &grid.VarError{File: p.path, Var: v, Problem: fmt.Sprintf(format, a...), Err: grid.ErrLayout}
-}
-
-func (p *procFile) bind() error {
-	fi := p.info
-	nd := fi.Var(ndVarName)
-	pop := fi.Var(popVarName)
-	if nd == nil || pop == nil {
-		return &grid.VarError{File: p.path, Problem: fmt.Sprintf("has no %s or no %s; expected a file written by 'warmrain process'", ndVarName, popVarName), Err: grid.ErrNoVariable}
-	}
-	p.dims = nd.Dims
-	if len(p.dims) < 1 {
-		return p.errf(ndVarName, "is a scalar; expected the dimensions of the processed input")
-	}
-	// LWP: liquid_water_path, else the one variable with the LWP standard name.
-	if fi.Var(lwpVarName) != nil {
-		p.lwp = lwpVarName
-	} else {
-		var c []string
-		for _, v := range fi.Vars {
-			sn := strings.Fields(v.Text("standard_name"))
-			if len(sn) == 1 && sn[0] == lwpStdName && !strings.Contains(v.Text("cell_methods"), "standard_deviation") {
-				c = append(c, v.Name)
-			}
-		}
-		switch len(c) {
-		case 0:
-			return &grid.VarError{File: p.path, Problem: fmt.Sprintf("has no liquid water path: no variable %s and none with standard_name %s; reprocess the input with this warmrain, which writes it", lwpVarName, lwpStdName), Err: grid.ErrNoVariable}
-		case 1:
-			p.lwp = c[0]
-		default:
-			return &grid.VarError{File: p.path, Problem: fmt.Sprintf("has several variables with standard_name %s (%s); expected one", lwpStdName, strings.Join(c, ", ")), Err: grid.ErrAmbiguous}
-		}
-	}
-	if fi.Var(rateVarName) != nil {
-		p.rate = rateVarName
-	}
-	if fi.Var(surfVarName) != nil {
-		p.surf = surfVarName
-	}
-	if fi.Var(baseVarName) != nil {
-		p.base = baseVarName
-	}
-	// Every float diagnostic on the grid is mapped (not the 2-D coordinates of a swath).
-	coords := strings.Fields(nd.Text("coordinates"))
-	for _, v := range fi.Vars {
-		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.dims) || slices.Contains(coords, v.Name) {
-			continue
-		}
-		vi, err := p.siVar(&v)
-		if err != nil {
-			return err
-		}
-		p.vars[v.Name] = vi
-	}
-	for _, need := range []string{p.lwp, ndVarName, popVarName} {
-		if _, ok := p.vars[need]; !ok {
-			return p.errf(need, "has dimensions %v (type %s); expected float values on the grid %v of %s", fi.Var(need).Dims, fi.Var(need).Type, p.dims, ndVarName)
-		}
-	}
-	if q := fi.Var(qcName); q != nil {
-		if !equalStrings(q.Dims, p.dims) {
-			return p.errf(qcName, "has dimensions %v; expected %v", q.Dims, p.dims)
-		}
-		masks, _ := q.Attr("flag_masks")
-		words := strings.Fields(q.Text("flag_meanings"))
-		m := masks.Float64s()
-		if len(m) != len(words) || len(m) == 0 {
-			return p.errf(qcName, "has %d flag_masks and %d flag_meanings words; expected one word per mask (CF §3.5)", len(m), len(words))
-		}
-		for i, w := range words {
-			for _, s := range screenWords {
-				if w == s {
-					p.qcScreen |= uint32(int64(m[i]))
-				}
-			}
-		}
-		p.qc = qcName
-	}
-	return p.scan()
-}
-
-// siVar finds the conversion of a diagnostic to the units the statistics use.
-func (p *procFile) siVar(v *grid.VarInfo) (varIn, error) {
-	units := v.Text("units")
-	vi := varIn{name: v.Name, units: units, long: v.Text("long_name"), std: v.Text("standard_name"), conv: grid.Converter{From: units, To: units, Factor: 1}}
-	want, known := siUnitsOf(v.Name)
-	if v.Name == p.lwp {
-		want, known = siUnitsOf(lwpVarName)
-	}
-	if !known {
-		return vi, nil
-	}
-	c, err := grid.NewConverter(units, want)
-	if err != nil && want == "kg m-2 s-1" { // the cloud-base and surface drizzle rates
-		// A depth rate of liquid water: 1 mm of water is 1 kg m-2 (rho_w = 1000 kg m-3, derived).
-		if c2, err2 := grid.NewConverter(units, "mm s-1"); err2 == nil {
-			c, err = c2, nil
-			c.To = want
-		}
-	}
-	if err != nil {
-		return vi, &grid.VarError{File: p.path, Var: v.Name, Problem: fmt.Sprintf("units %q: expected units convertible to %s (%v)", units, want, err), Err: grid.ErrUnits}
-	}
-	vi.units, vi.conv = want, c
-	return vi, nil
-}
-
-func equalStrings(a, b []string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
-}
-
-// scan finds the horizontal dimensions, reads the coordinates (if any) and the
-// time axis (if any). A grid with latitude and longitude gives maps; cells (a mesh
-// or a list of sites), a series, and a grid without coordinates give the binned
-// statistics only, and p.noMaps says why.
-func (p *procFile) scan() error {
-	fi := p.info
-	v := fi.Var(ndVarName)
-	p.hz = grid.HorizontalOf(fi, v)
-	h := p.hz
-	p.shape = append([]int(nil), v.Shape...)
-	s := summary.Scene{NY: 1, NX: 1, NT: 1}
-	switch len(h.Dims) {
-	case 2:
-		s.NY, s.NX = p.shape[h.Dims[0]], p.shape[h.Dims[1]]
-	case 1:
-		s.NX = p.shape[h.Dims[0]]
-	}
-	for i := range p.dims {
-		if !containsInt(h.Dims, i) {
-			p.steps = append(p.steps, i)
-		}
-	}
-	read := func(name string) ([]float64, error) {
-		d, _, err := p.r.Read(name, nil, nil)
-		return d, err
-	}
-	if h.Lat != "" {
-		lat, err := read(h.Lat)
-		if err != nil {
-			return err
-		}
-		lon, err := read(h.Lon)
-		if err != nil {
-			return err
-		}
-		if h.Radians {
-			for i := range lat {
-				lat[i] *= 180 / math.Pi
-			}
-			for i := range lon {
-				lon[i] *= 180 / math.Pi
-			}
-		}
-		lv, lo := fi.Var(h.Lat), fi.Var(h.Lon)
-		switch {
-		case h.LatLonRank == 1 && h.Shape == grid.ShapeGrid && lv.Dims[0] == p.dims[h.Dims[0]]:
-			s.Lat, s.Lon = lat, lon
-		case h.LatLonRank == 1 && h.Shape == grid.ShapeGrid: // (lon, lat) order: per-cell coordinates
-			s.Lat, s.Lon = make([]float64, s.NY*s.NX), make([]float64, s.NY*s.NX)
-			for y := 0; y < s.NY; y++ {
-				for x := 0; x < s.NX; x++ {
-					s.Lat[y*s.NX+x], s.Lon[y*s.NX+x] = lat[x], lon[y]
-				}
-			}
-		case h.LatLonRank == 2 && !equalStrings(lv.Dims, []string{p.dims[h.Dims[0]], p.dims[h.Dims[1]]}) || !equalStrings(lv.Dims, lo.Dims):
-			p.noMaps = fmt.Sprintf("its latitude %s has dimensions %v, not those of the diagnostics' horizontal grid", h.Lat, lv.Dims)
-		default: // 2-D swath, 1-D per cell, scalars of a site
-			s.Lat, s.Lon = lat, lon
-		}
-	}
-	switch {
-	case p.noMaps != "":
-	case h.Shape == grid.ShapeCells:
-		p.noMaps = fmt.Sprintf("its columns lie along the single horizontal dimension %s (an unstructured mesh or a list of sites), which has no (y, x) grid to map", p.dims[h.Dims[0]])
-	case h.Shape == grid.ShapeSeries:
-		p.noMaps = "it is a time series at one site (no horizontal dimension)"
-	case s.Lat == nil:
-		p.noMaps = "it has no latitude and longitude (no coordinate variables of its horizontal dimensions, none named by the coordinates attribute)"
-	}
-	if h.Time >= 0 {
-		td := p.dims[h.Time]
-		tv := fi.Var(td)
-		ta, err := grid.ParseTimeAxis(fi, tv)
-		if err != nil {
-			return err
-		}
-		if !ta.Standard {
-			if !p.window.IsZero() {
-				return p.errf(td, "calendar %q: --from and --to need the standard (Gregorian) calendar", ta.Calendar)
-			}
-			p.scene = s
-			return s.Check()
-		}
-		t, err := read(td)
-		if err != nil {
-			return err
-		}
-		for i := range t {
-			t[i] = ta.Seconds(t[i])
-		}
-		p.times, p.timeVals = ta, t
-	}
-	if err := s.Check(); err != nil {
-		return p.errf(ndVarName, "%v", err)
-	}
-	p.scene = s
-	return nil
-}
-
-func containsInt(a []int, x int) bool {
-	for _, e := range a {
-		if e == x {
-			return true
-		}
-	}
-	return false
-}
-
-// block is a run of steps: one index on every non-horizontal dimension but the
-// innermost, where it covers [lo, lo+n).
-type block struct {
-	index  []int // per dimension (horizontal ones unused)
-	lo, n  int
-	inner  int // the dimension of the run (-1: no step dimensions)
-	number int
-}
-
-// blocks calls fn for runs of steps of at most 64 Ki values each (or one step),
-// so that a long series is read in a few blocks with bounded memory.
-func (p *procFile) blocks(fn func(b block) error) error {
-	cells := p.scene.Cells()
-	if len(p.steps) == 0 {
-		return fn(block{index: make([]int, len(p.dims)), n: 1, inner: -1})
-	}
-	inner := p.steps[len(p.steps)-1]
-	run := max(1, (1<<16)/cells)
-	outer := p.steps[:len(p.steps)-1]
-	idx := make([]int, len(p.dims))
-	k := 0
-	var rec func(j int) error
-	rec = func(j int) error {
-		if j == len(outer) {
-			for lo := 0; lo < p.shape[inner]; lo += run {
-				b := block{index: append([]int(nil), idx...), lo: lo, n: min(run, p.shape[inner]-lo), inner: inner, number: k}
-				k++
-				if err := fn(b); err != nil {
-					return err
-				}
-			}
-			return nil
-		}
-		for i := 0; i < p.shape[outer[j]]; i++ {
-			idx[outer[j]] = i
-			if err := rec(j + 1); err != nil {
-				return err
-			}
-		}
-		return nil
-	}
-	return rec(0)
-}
-
-// blockTimes gives the time of each step of b (nil without a time axis).
-func (p *procFile) blockTimes(b block) []float64 {
-	if p.timeVals == nil {
-		return nil
-	}
-	t := make([]float64, b.n)
-	for i := range t {
-		if b.inner == p.hz.Time {
-			t[i] = p.timeVals[b.lo+i]
-		} else {
-			t[i] = p.timeVals[b.index[p.hz.Time]]
-		}
-	}
-	return t
-}
-
-// readBlock reads variable name over block b, in (step, cell) order.
-func (p *procFile) readBlock(name string, b block) ([]float64, error) {
-	nd := len(p.dims)
-	start := make([]int, nd)
-	count := make([]int, nd)
-	for i := range p.dims {
-		switch {
-		case containsInt(p.hz.Dims, i):
-			count[i] = p.shape[i]
-		case i == b.inner:
-			start[i], count[i] = b.lo, b.n
-		default:
-			start[i], count[i] = b.index[i], 1
-		}
-	}
-	d, _, err := p.r.Read(name, start, count)
-	if err != nil {
-		return nil, err
-	}
-	// Already in (step, cell) order when the horizontal dimensions come after the
-	// run's dimension; otherwise reorder.
-	ordered := true
-	for _, hd := range p.hz.Dims {
-		if b.inner > hd {
-			ordered = false
-		}
-	}
-	if ordered {
-		return d, nil
-	}
-	out := make([]float64, len(d))
-	cells := p.scene.Cells()
-	m := make([]int, nd) // multi-index within the hyperslab, file order
-	for k := range d {
-		step, cell := 0, 0
-		if b.inner >= 0 {
-			step = m[b.inner]
-		}
-		for _, hd := range p.hz.Dims {
-			cell = cell*p.shape[hd] + m[hd]
-		}
-		out[step*cells+cell] = d[k]
-		for i := nd - 1; i >= 0; i-- {
-			if m[i]++; m[i] < count[i] {
-				break
-			}
-			m[i] = 0
-		}
-	}
-	return out, nil
-}
-
-// step reads block b of the named diagnostics, in SI, with screened columns set
-// to NaN. It returns the fields and the per-column QC (1 = screened).
-func (p *procFile) step(b block, names []string) (map[string][]float64, []uint16, error) {
-	n := b.n * p.scene.Cells()
-	qc := make([]uint16, n)
-	if p.qc != "" {
-		q, err := p.readBlock(p.qc, b)
-		if err != nil {
-			return nil, nil, err
-		}
-		for i, v := range q {
-			// A missing flag (fill) carries no screening information.
-			if !math.IsNaN(v) && uint32(int64(v))&p.qcScreen != 0 {
-				qc[i] = 1
-			}
-		}
-	}
-	out := map[string][]float64{}
-	for _, nm := range names {
-		if _, done := out[nm]; done || nm == "" {
-			continue
-		}
-		vi, ok := p.vars[nm]
-		if !ok {
-			return nil, nil, p.errf(nm, "is missing; the first file has it (all files need the same diagnostics)")
-		}
-		d, err := p.readBlock(nm, b)
-		if err != nil {
-			return nil, nil, err
-		}
-		for i := range d {
-			if qc[i] != 0 {
-				d[i] = math.NaN()
-			} else {
-				d[i] = vi.conv.Convert(d[i])
-			}
-		}
-		out[nm] = d
-	}
-	return out, qc, nil
-}
-
 // summaryState gathers everything over the files.
 type summaryState struct {
 	acc       *summary.Accumulator
 	maps      *summary.MapAccumulator
 	mapNames  []string
-	mapInfo   map[string]varIn
+	mapInfo   map[string]procfile.Var
 	mapsOK    bool
 	first     map[string][]float64 // first selected step (--map-of first)
 	firstTime float64
@@ -809,27 +348,27 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 }
 
 func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool) error {
-	p, err := openProcessed(path, f.window)
+	p, err := procfile.Open(path, f.window)
 	if err != nil {
 		return err
 	}
-	defer p.r.Close()
+	defer p.Close()
 	st.files++
 	params := map[string]string{}
-	for _, a := range p.info.Globals {
+	for _, a := range p.Info.Globals {
 		if strings.HasPrefix(a.Name, paramAttrStart) {
 			params[strings.TrimPrefix(a.Name, paramAttrStart)], _ = a.Text()
 		}
 	}
 	if first {
 		st.params = params
-		st.mapInfo = p.vars
-		for _, v := range p.info.Vars { // file order
-			if _, ok := p.vars[v.Name]; ok {
+		st.mapInfo = p.Vars
+		for _, v := range p.Info.Vars { // file order
+			if _, ok := p.Vars[v.Name]; ok {
 				st.mapNames = append(st.mapNames, v.Name)
 			}
 		}
-		if a, ok := p.info.Global("history"); ok {
+		if a, ok := p.Info.Global("history"); ok {
 			st.history, _ = a.Text()
 		}
 	} else if !st.mixed {
@@ -841,22 +380,22 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			}
 		}
 	}
-	needs := append([]string{p.lwp, ndVarName, popVarName, p.rate, p.surf, p.base}, st.mapNames...)
-	s := p.scene
+	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base}, st.mapNames...)
+	s := p.Scene
 	if f.region != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
 	}
-	if p.noMaps != "" && st.mapsOK {
+	if p.NoMaps != "" && st.mapsOK {
 		st.mapsOK = false
-		fmt.Fprintf(e.stderr, "warmrain summary: no maps: %s: %s; the binned statistics use every column\n", path, p.noMaps)
+		fmt.Fprintf(e.stderr, "warmrain summary: no maps: %s: %s; the binned statistics use every column\n", path, p.NoMaps)
 	}
-	if p.timeVals == nil && !f.window.IsZero() {
+	if p.TimeVals == nil && !f.window.IsZero() {
 		fmt.Fprintf(e.stderr, "warmrain summary: %s has no time axis; the time window cannot select it, skipped\n", path)
 		return nil
 	}
 	cells := s.Cells()
-	return p.blocks(func(b block) error {
-		times := p.blockTimes(b)
+	return p.Blocks(func(b procfile.Block) error {
+		times := p.BlockTimes(b)
 		sel := times == nil
 		for _, t := range times {
 			sel = sel || f.window.Contains(t)
@@ -864,11 +403,11 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		if !sel {
 			return nil
 		}
-		d, qc, err := p.step(b, needs)
+		d, qc, err := p.Step(b, needs)
 		if err != nil {
 			return err
 		}
-		for k := 0; k < b.n; k++ {
+		for k := 0; k < b.N; k++ {
 			if times == nil {
 				st.steps++
 			} else if f.window.Contains(times[k]) {
@@ -876,24 +415,24 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
 			}
 		}
-		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.n, Time: times}
+		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.N, Time: times}
 		cols := summary.Columns{
-			LWP: summary.Field{Name: p.lwp, Units: mustOutput(lwpVarName).SIUnits, Data: d[p.lwp]},
+			LWP: summary.Field{Name: p.LWP, Units: mustOutput(lwpVarName).SIUnits, Data: d[p.LWP]},
 			Nd:  summary.Field{Name: ndVarName, Units: mustOutput(ndVarName).SIUnits, Data: d[ndVarName]},
 			POP: summary.Field{Name: popVarName, Units: mustOutput(popVarName).SIUnits, Data: d[popVarName]},
 			QC:  qc,
 		}
-		if p.rate != "" {
-			cols.Rate = summary.Field{Name: rateVarName, Units: mustOutput(rateVarName).SIUnits, Data: d[p.rate]}
+		if p.Rate != "" {
+			cols.Rate = summary.Field{Name: rateVarName, Units: mustOutput(rateVarName).SIUnits, Data: d[p.Rate]}
 		}
-		if p.surf != "" {
-			cols.SurfaceRate = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.surf]}
+		if p.Surf != "" {
+			cols.SurfaceRate = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.Surf]}
 		}
-		if p.base != "" {
-			cols.BaseHeight = summary.Field{Name: baseVarName, Units: mustOutput(baseVarName).SIUnits, Data: d[p.base]}
+		if p.Base != "" {
+			cols.BaseHeight = summary.Field{Name: baseVarName, Units: mustOutput(baseVarName).SIUnits, Data: d[p.Base]}
 		}
 		if err := st.acc.Add(sc, &cols); err != nil {
-			return fmt.Errorf("%s: block %d of time steps: %w", path, b.number, err)
+			return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
 		}
 		if !st.mapsOK {
 			return nil
@@ -901,18 +440,18 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		fields := make([]summary.Field, 0, len(st.mapNames))
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
-			fields = append(fields, summary.Field{Name: n, Units: vi.units, LongName: vi.long, Data: d[n]})
+			fields = append(fields, summary.Field{Name: n, Units: vi.Units, LongName: vi.Long, Data: d[n]})
 		}
 		if err := st.maps.Accumulate(sc, fields...); err != nil {
 			if !errors.Is(err, summary.ErrGrid) {
-				return fmt.Errorf("%s: block %d of time steps: %w", path, b.number, err)
+				return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
 			}
 			st.mapsOK = false
 			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
 			return nil
 		}
 		if st.first == nil {
-			for k := 0; k < b.n; k++ {
+			for k := 0; k < b.N; k++ {
 				if times != nil && !f.window.Contains(times[k]) {
 					continue
 				}
@@ -1030,7 +569,7 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 			vs := summaryVarSpec(v, !v.Int)
 			if !v.Int {
 				vs.Attrs = append(vs.Attrs, attr("cell_methods", "time: mean"), attr("coverage_content_type", "modelResult"))
-				if sn := st.mapInfo[base].std; sn != "" && len(strings.Fields(sn)) == 1 {
+				if sn := st.mapInfo[base].Std; sn != "" && len(strings.Fields(sn)) == 1 {
 					vs.Attrs = append(vs.Attrs, attr("standard_name", sn))
 				}
 			} else {
@@ -1285,14 +824,14 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		}
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
-			jobs = append(jobs, mapJob{field: summary.Field{Name: n, Units: vi.units, LongName: vi.long, Data: st.first[n]}, grid: st.firstGrid,
-				title: shortName(n, vi.long), when: when, file: "map_" + n + "_first.png"})
+			jobs = append(jobs, mapJob{field: summary.Field{Name: n, Units: vi.Units, LongName: vi.Long, Data: st.first[n]}, grid: st.firstGrid,
+				title: shortName(n, vi.Long), when: when, file: "map_" + n + "_first.png"})
 		}
 	} else if f.mapOf == "mean" && len(ms.Maps) > 0 {
 		when := "time mean, " + spanText(ms, st.files)
 		for _, m := range ms.Maps {
 			n := m.Mean.Name
-			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].long), when: when, file: "map_" + n + "_mean.png"})
+			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].Long), when: when, file: "map_" + n + "_mean.png"})
 		}
 		for _, m := range ms.Maps {
 			if m.Mean.Name == popVarName {

@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -527,7 +528,7 @@ func TestSummarySwath(t *testing.T) {
 		t.Fatal(err)
 	}
 	v := fi.Var("lwp_in_time_mean")
-	if v == nil || !equalStrings(v.Dims, []string{"y", "x"}) || v.Text("coordinates") != "lat lon" {
+	if v == nil || !slices.Equal(v.Dims, []string{"y", "x"}) || v.Text("coordinates") != "lat lon" {
 		t.Fatalf("lwp_in_time_mean: %+v; want (y, x) with coordinates \"lat lon\"", v)
 	}
 	got, _, err := grid.ReadVariable(out, "lat")
