@@ -134,7 +134,8 @@ func (o *Output) Chunks() []int { return o.chunks }
 
 // Create starts an output for input in. It refuses to write into an input
 // (ErrInputOverwrite) and an existing path unless Force (ErrExists). The file is
-// netCDF-4 classic model; see the package documentation for what is kept.
+// netCDF-4 classic model unless a variable needs netCDF-4 (Uint32, Quantize, exact
+// copies of non-classic types); see the package documentation for what is kept.
 func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output, error) {
 	if isURL(path) {
 		return nil, &VarError{File: path, Problem: "outputs must be plain file paths (no URLs)", Err: ErrLayout}
