@@ -121,6 +121,9 @@ func TestCellMethodsInherited(t *testing.T) {
 // outputs that xarray reads back with the inherited cell_methods, and the QC variable is an
 // unsigned integer without _FillValue on which bit tests work as written in the README.
 func TestCellMethodsXarray(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	in, out := filepath.Join(dir, "daily_xr.nc"), filepath.Join(dir, "out.nc")
