@@ -10,7 +10,8 @@ import (
 )
 
 // cellMethodRoles are the inputs whose cell_methods the diagnostics inherit: the
-// retrieval pair every diagnostic is computed from (tau stands in for an absent LWP).
+// retrievals the diagnostics are computed from (LWP, r_e and, when bound, the optical
+// thickness, which gives N_d and stands in for an absent LWP).
 var cellMethodRoles = []grid.Role{grid.RoleLWP, grid.RoleRe, grid.RoleTau}
 
 // cloudAreaTypes are the area types of the CF area-type table that mean "in cloud".
