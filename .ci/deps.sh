@@ -6,7 +6,8 @@ pkgs=(libnetcdf-dev netcdf-bin libudunits2-dev udunits-bin pkg-config
       python3-xarray python3-netcdf4 python3-scipy python3-h5netcdf python3-h5py python3-matplotlib
       hdf5-tools time
       libhdf4-dev hdf4-tools libtirpc-dev gcc   # HDF4 SD inputs (libmfhdf, loaded at run time); ncgen-hdf, ncdump-hdf and a C build of ncgen-hdf -c output for the tests
-      python3-zarr cdo)   # Zarr stores (xarray's zarr writer) and CDO's absolute time axis, for the tests
+      python3-zarr cdo    # Zarr stores (xarray's zarr writer) and CDO's absolute time axis, for the tests
+      gmt-gshhg-low)      # GSHHG coastlines (netCDF) drawn on the maps
 missing=()
 for p in "${pkgs[@]}"; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q 'install ok installed' || missing+=("$p")

@@ -172,7 +172,8 @@ type DimSpec struct {
 // for a scalar). Type is the stored type, one of the classic-model types Byte,
 // Char (not supported for data), Short, Int, Float, Double. Data holds the values
 // row-major, len = product of the dimension lengths: []float64, []float32,
-// []int32, []int16 or []int8 (or any other numeric slice); it is converted to Type
+// []int32, []int16 or []int8 (or any other numeric slice), or []byte for a Char
+// variable (text padded with NULs, see CharRows); it is converted to Type
 // when the types differ (integers rounded to nearest and saturated). Attrs are
 // written in order; a _FillValue attribute (any numeric type) is written in the
 // variable's type before any data, and NaN values of float data become it; the
@@ -185,6 +186,21 @@ type VarSpec struct {
 	Type  Type
 	Attrs []Attr
 	Data  any
+}
+
+// CharRows returns texts as the data of a Char variable of dimensions (len(texts),
+// width): each text in a row of width bytes, padded with NULs, and the width (the
+// longest text, at least 1).
+func CharRows(texts []string) ([]byte, int) {
+	w := 1
+	for _, t := range texts {
+		w = max(w, len(t))
+	}
+	b := make([]byte, w*len(texts))
+	for i, t := range texts {
+		copy(b[i*w:], t)
+	}
+	return b, w
 }
 
 // Dataset is a small netCDF file described whole, for WriteDataset.
@@ -213,7 +229,7 @@ func WriteDataset(path string, ds *Dataset, force bool) error {
 			return &VarError{File: path, Problem: "already exists; refusing to overwrite it without force", Err: ErrExists}
 		}
 	}
-	if err := checkDataset(path, ds); err != nil {
+	if err := checkDataset(path, ds, false); err != nil {
 		return err
 	}
 	dir := filepath.Dir(path)
@@ -229,7 +245,7 @@ func WriteDataset(path string, ds *Dataset, force bool) error {
 	})
 }
 
-func checkDataset(path string, ds *Dataset) error {
+func checkDataset(path string, ds *Dataset, streamed bool) error {
 	bad := func(v, format string, a ...any) error {
 		return &VarError{File: path, Var: v, Problem: fmt.Sprintf(format, a...), Err: ErrLayout}
 	}
@@ -255,8 +271,8 @@ func checkDataset(path string, ds *Dataset) error {
 			return bad(v.Name, "is defined twice")
 		}
 		seen[v.Name] = true
-		if !v.Type.classicOK() || v.Type == Char {
-			return bad(v.Name, "has type %s; expected byte, short, int, float or double (netCDF-4 classic model)", v.Type)
+		if !v.Type.classicOK() {
+			return bad(v.Name, "has type %s; expected byte, char, short, int, float or double (netCDF-4 classic model)", v.Type)
 		}
 		n := 1
 		for _, d := range v.Dims {
@@ -265,6 +281,15 @@ func checkDataset(path string, ds *Dataset) error {
 				return bad(v.Name, "uses dimension %q, which the dataset does not define", d)
 			}
 			n *= l
+		}
+		if v.Data == nil && streamed {
+			continue // written later by DatasetWriter.Put
+		}
+		if v.Type == Char { // text: one byte a character, padded with NULs (CF §2.2)
+			if b, ok := v.Data.([]byte); !ok || len(b) != n {
+				return bad(v.Name, "is a char variable with data of Go type %T (%d values); expected []byte of %d characters", v.Data, typedLen(v.Data), n)
+			}
+			continue
 		}
 		if typedType(v.Data) == 0 || typedType(v.Data) == Char || typedType(v.Data) == String {
 			return bad(v.Name, "has data of Go type %T; expected a numeric slice", v.Data)
@@ -300,58 +325,9 @@ func writeDatasetIO(path, tmp string, ds *Dataset) error {
 			}
 		}
 	}()
-	dimID := map[string]int{}
-	for _, d := range ds.Dims {
-		id, err := ncDefDim(ncid, d.Name, d.Len)
-		if err != nil {
-			return werr("", err, "cannot define dimension "+d.Name)
-		}
-		dimID[d.Name] = id
-	}
-	ids := make([]int, len(ds.Vars))
-	data := make([]any, len(ds.Vars))
-	for k, v := range ds.Vars {
-		dd := make([]int, len(v.Dims))
-		for i, d := range v.Dims {
-			dd[i] = dimID[d]
-		}
-		id, err := ncDefVar(ncid, v.Name, v.Type, dd)
-		if err != nil {
-			return werr(v.Name, err, "cannot define")
-		}
-		ids[k] = id
-		if len(dd) > 0 {
-			if err := ncDefDeflate(ncid, id, true, 1); err != nil {
-				return werr(v.Name, err, "cannot set compression")
-			}
-		}
-		fill := math.NaN()
-		hasFill := false
-		for _, a := range v.Attrs {
-			if a.Name == "_FillValue" {
-				fill, hasFill = toFloat64s(a.Value)[0], true
-				if err := ncDefFill(ncid, id, convertTyped([]float64{fill}, v.Type)); err != nil {
-					return werr(v.Name, err, "cannot set _FillValue")
-				}
-			}
-		}
-		for _, a := range v.Attrs {
-			if a.Name == "_FillValue" {
-				continue
-			}
-			if err := putAttrConverted(ncid, id, a, v.Type); err != nil {
-				return werr(v.Name, err, "cannot write attribute "+a.Name)
-			}
-		}
-		data[k] = datasetValues(v, fill, hasFill)
-	}
-	for _, a := range ds.Globals {
-		if err := putAttrConverted(ncid, globalID, a, 0); err != nil {
-			return werr("", err, "cannot write global attribute "+a.Name)
-		}
-	}
-	if err := ncEndDef(ncid); err != nil {
-		return werr("", err, "cannot end define mode")
+	ids, data, err := defineDatasetIO(path, ncid, ds)
+	if err != nil {
+		return err
 	}
 	for k, v := range ds.Vars {
 		nd := len(v.Dims)
@@ -375,9 +351,76 @@ func writeDatasetIO(path, tmp string, ds *Dataset) error {
 	return nil
 }
 
-// datasetValues returns the data in the variable's type, NaN (and ±Inf for
-// integer types) replaced by the fill value when there is one.
+// defineDatasetIO defines the dimensions, variables and attributes of ds in the open
+// file ncid, ends define mode, and returns the variable ids and the data of each
+// variable converted to its type (nil for a variable without Data). It runs on the
+// I/O thread.
+func defineDatasetIO(path string, ncid int, ds *Dataset) ([]int, []any, error) {
+	werr := func(v string, err error, what string) error {
+		return &VarError{File: path, Var: v, Problem: what + ": " + err.Error(), Err: err}
+	}
+	dimID := map[string]int{}
+	for _, d := range ds.Dims {
+		id, err := ncDefDim(ncid, d.Name, d.Len)
+		if err != nil {
+			return nil, nil, werr("", err, "cannot define dimension "+d.Name)
+		}
+		dimID[d.Name] = id
+	}
+	ids := make([]int, len(ds.Vars))
+	data := make([]any, len(ds.Vars))
+	for k, v := range ds.Vars {
+		dd := make([]int, len(v.Dims))
+		for i, d := range v.Dims {
+			dd[i] = dimID[d]
+		}
+		id, err := ncDefVar(ncid, v.Name, v.Type, dd)
+		if err != nil {
+			return nil, nil, werr(v.Name, err, "cannot define")
+		}
+		ids[k] = id
+		if len(dd) > 0 {
+			if err := ncDefDeflate(ncid, id, true, 1); err != nil {
+				return nil, nil, werr(v.Name, err, "cannot set compression")
+			}
+		}
+		fill := math.NaN()
+		hasFill := false
+		for _, a := range v.Attrs {
+			if a.Name == "_FillValue" {
+				fill, hasFill = toFloat64s(a.Value)[0], true
+				if err := ncDefFill(ncid, id, convertTyped([]float64{fill}, v.Type)); err != nil {
+					return nil, nil, werr(v.Name, err, "cannot set _FillValue")
+				}
+			}
+		}
+		for _, a := range v.Attrs {
+			if a.Name == "_FillValue" {
+				continue
+			}
+			if err := putAttrConverted(ncid, id, a, v.Type); err != nil {
+				return nil, nil, werr(v.Name, err, "cannot write attribute "+a.Name)
+			}
+		}
+		if v.Data != nil {
+			data[k] = datasetValues(v, fill, hasFill)
+		}
+	}
+	for _, a := range ds.Globals {
+		if err := putAttrConverted(ncid, globalID, a, 0); err != nil {
+			return nil, nil, werr("", err, "cannot write global attribute "+a.Name)
+		}
+	}
+	if err := ncEndDef(ncid); err != nil {
+		return nil, nil, werr("", err, "cannot end define mode")
+	}
+	return ids, data, nil
+}
+
 func datasetValues(v VarSpec, fill float64, hasFill bool) any {
+	if v.Type == Char {
+		return v.Data
+	}
 	if typedType(v.Data) == v.Type && !v.Type.Integer() && !hasFill {
 		return v.Data
 	}

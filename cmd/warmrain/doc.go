@@ -41,14 +41,23 @@ Data go to stdout or files; messages go to stderr.
 	a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 	progress is removed, what completed is recorded, the exit code is 1.
 
+	--ensemble SETS processes one input once per parameter set of the text file SETS
+	(one set a line: NAME: --option VALUE ..., physics options as on the command line,
+	over those given on it; # starts a comment) and writes every diagnostic with a
+	leading dimension member, each member equal to the single run with its options.
+
 	Example:
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
 	  warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 
 	Options:
 	  -o, --output string                 output file (one input) or folder (several inputs)
 	      --name string                   output name pattern in a folder: {stem} {name} {parent}
 	                                      {relpath} {index} (default "{stem}_warmrain.nc")
+	      --ensemble FILE                 write one member per parameter set of FILE (lines NAME:
+	                                      --option VALUE ...) along a dimension member; one input,
+	                                      one output file
 	      --augment[=true|false]          write a copy of the input with the new variables added
 	                                      (default: a new file with the coordinates and the new
 	                                      variables)
@@ -344,7 +353,7 @@ Data go to stdout or files; messages go to stderr.
 	drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 	water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 	S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-	with their standard errors; the flux-weighted fraction of drizzle reaching the surface
+	with their standard errors, and with --bootstrap their confidence intervals; the flux-weighted fraction of drizzle reaching the surface
 	(sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
 	time-mean maps of every diagnostic with the number of values averaged per cell.
 
@@ -354,6 +363,14 @@ Data go to stdout or files; messages go to stderr.
 	valid time steps each cell averaged (map_valid_count.png), POP against LWP for
 	several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
 	(susceptibility_vs_lwp.png). Existing files are only replaced with --force.
+
+	Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
+	they are drawn without, and stderr says so once), fixed colour limits per
+	variable chosen from its physical range so that maps compare (logarithmic for
+	quantities that span decades; --range VAR=LO:HI[:log] replaces them, in the units
+	the map shows), a legend of the cells without a value (input missing, screened by
+	QC, outside --region, no value), and are cropped to --region. Their titles name
+	only the parameters the variable depends on. See doc/maps.md.
 
 	Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 	horizontal dimension), time series at one site, with any leading dimensions (time,
@@ -370,6 +387,14 @@ Data go to stdout or files; messages go to stderr.
 	LWP is taken from the variable liquid_water_path, or else from the one variable with
 	standard_name atmosphere_mass_content_of_cloud_liquid_water.
 
+	Neighbouring columns are correlated, so the sampling errors treat contiguous tiles of
+	each time step as independent: the bin means get a tile standard error and an
+	effective number of independent columns, and --bootstrap resamples tiles (--tile sets
+	their side in cells; by default round(N^(1/(d+2))) for N cells in d dimensions, 32 for
+	a 1000 x 1000 grid; --tile 1 treats columns as independent). When the processed
+	files link <name>_standard_error to the drizzle probability or rate, the table also
+	gives the mean retrieval error per bin.
+
 	Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
 	LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
 	edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
@@ -381,7 +406,8 @@ Data go to stdout or files; messages go to stderr.
 	Examples:
 	  warmrain summary out/*.nc
 	  warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
-	  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
+	  warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
+	  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
 
 	Options:
 	  -o, --output SUMMARY.nc                    write the summary as a CF NetCDF file SUMMARY.nc
@@ -395,9 +421,16 @@ Data go to stdout or files; messages go to stderr.
 	                                             E1,E2,... (default "20:500:10")
 	      --nd-bins LO:HI:N                      N_d bins in cm-3: LO:HI:N logarithmic, or edges
 	                                             E1,E2,... (default "10:1000:10")
-	      --bootstrap N                          number N of Poisson-bootstrap replicates for the
-	                                             susceptibility errors (0 = off)
+	      --bootstrap N                          number N of tile-bootstrap replicates for the
+	                                             susceptibility intervals (0 = off; 200 or more
+	                                             for 95% intervals)
 	      --seed S                               seed S of the bootstrap random numbers (default 1)
+	      --tile CELLS                           side CELLS of the tiles treated as independent by
+	                                             the standard errors and the bootstrap (0 =
+	                                             round(N^(1/(d+2))) of each scene's N cells in d
+	                                             dimensions; 1 = independent columns)
+	      --ci-level P                           level P of the bootstrap confidence intervals,
+	                                             between 0 and 1 (default 0.95)
 	      --min-count N                          least columns N an (LWP, N_d) bin needs to enter
 	                                             a fit or a curve (default 50)
 	      --min-drizzling N                      least drizzling columns N (the sum of the
@@ -408,6 +441,9 @@ Data go to stdout or files; messages go to stderr.
 	                                             (first selected time step) (default "mean")
 	      --force[=true|false]                   overwrite an existing summary file and existing
 	                                             pictures
+	      --range VAR=LO:HI[:log]                colour range of VAR's maps in the units the map
+	                                             shows, instead of the declared one:
+	                                             VAR=LO:HI[:log] (repeatable)
 
 # warmrain demo
 
@@ -416,8 +452,9 @@ Data go to stdout or files; messages go to stderr.
 	Builds the sample scenario (a synthetic subtropical marine stratocumulus
 	region over three days: a closed-cell deck, a drizzling pocket of open cells
 	and a narrow line of polluted cloud; invented data, for the demo only),
-	processes it with the default parameters, summarises it, draws quick-look
-	maps and curves, and prints where the results are.
+	processes it with the default parameters, summarises it (with 200 tile-bootstrap
+	replicates, so the susceptibilities get 95% intervals), draws quick-look maps and
+	curves, and prints where the results are.
 
 	Example:
 	  warmrain demo --dir demo-output

@@ -13,8 +13,9 @@ const demoUsage = `Usage: warmrain demo [--dir DIR]
 Builds the sample scenario (a synthetic subtropical marine stratocumulus
 region over three days: a closed-cell deck, a drizzling pocket of open cells
 and a narrow line of polluted cloud; invented data, for the demo only),
-processes it with the default parameters, summarises it, draws quick-look
-maps and curves, and prints where the results are.
+processes it with the default parameters, summarises it (with 200 tile-bootstrap
+replicates, so the susceptibilities get 95% intervals), draws quick-look maps and
+curves, and prints where the results are.
 
 Example:
   warmrain demo --dir demo-output
@@ -49,7 +50,7 @@ func runDemo(e *env, args []string) error {
 		return err
 	}
 	se := &env{stdout: f, stderr: e.stderr, prog: e.prog}
-	err = runSummary(se, []string{output, "-o", sum, "--plots", plots, "--force"})
+	err = runSummary(se, []string{output, "-o", sum, "--plots", plots, "--force", "--bootstrap", "200"})
 	if cerr := f.Close(); err == nil {
 		err = cerr
 	}

@@ -53,9 +53,15 @@ process, so a crash in the C libraries fails that file alone. Batch runs write
 a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 progress is removed, what completed is recorded, the exit code is 1.
 
+--ensemble SETS processes one input once per parameter set of the text file SETS
+(one set a line: NAME: --option VALUE ..., physics options as on the command line,
+over those given on it; # starts a comment) and writes every diagnostic with a
+leading dimension member, each member equal to the single run with its options.
+
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
   warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 `
 
 type processOptions struct {
@@ -76,6 +82,7 @@ type processOptions struct {
 	pack                       bool
 	quantize                   int
 	slot                       string // internal: "k/n" for a child process of --jobs
+	ensemble                   string // --ensemble FILE of parameter sets
 	phys                       *physicsFlags
 	inp                        *inputFlags
 }
@@ -85,6 +92,7 @@ func runProcess(e *env, args []string) error {
 	var o processOptions
 	fs.StringVarP(&o.output, "output", "o", "", "output file (one input) or folder (several inputs)")
 	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {relpath} {index}")
+	fs.StringVar(&o.ensemble, "ensemble", "", "write one member per parameter set of `FILE` (lines NAME: --option VALUE ...) along a dimension member; one input, one output file")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
 	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)")
@@ -259,6 +267,16 @@ func runProcess(e *env, args []string) error {
 	job.digest = job.paramDigest()
 	ctx, stop := signalContext(job)
 	defer stop()
+	if o.ensemble != "" {
+		if len(inputs) != 1 || folder {
+			return usagef("--ensemble processes one input into one output file (got %d inputs%s)", len(inputs), map[bool]string{true: ", an output folder"}[folder])
+		}
+		if o.augment || o.pack || o.quantize > 0 || o.jobs > 1 {
+			return usagef("--ensemble writes plain float outputs of one file: --augment, --pack, --significant-digits and --jobs are not available with it")
+		}
+		job.single = true
+		return job.runEnsemble(ctx, inputs[0], outputs[0], o.ensemble, fs)
+	}
 
 	if why := job.refusals(inputs, outputs, mine); len(why) == 1 && len(mine) == 1 {
 		return errors.New(why[0])

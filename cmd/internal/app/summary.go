@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -26,7 +27,7 @@ Reads files written by 'warmrain process', one time step at a time, and reports:
 drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-with their standard errors; the flux-weighted fraction of drizzle reaching the surface
+with their standard errors, and with --bootstrap their confidence intervals; the flux-weighted fraction of drizzle reaching the surface
 (sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
 time-mean maps of every diagnostic with the number of values averaged per cell.
 
@@ -36,6 +37,14 @@ file; --plots writes PNG pictures into DIR: one quick-look map per diagnostic
 valid time steps each cell averaged (map_valid_count.png), POP against LWP for
 several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
 (susceptibility_vs_lwp.png). Existing files are only replaced with --force.
+
+Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
+they are drawn without, and stderr says so once), fixed colour limits per
+variable chosen from its physical range so that maps compare (logarithmic for
+quantities that span decades; --range VAR=LO:HI[:log] replaces them, in the units
+the map shows), a legend of the cells without a value (input missing, screened by
+QC, outside --region, no value), and are cropped to --region. Their titles name
+only the parameters the variable depends on. See doc/maps.md.
 
 Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 horizontal dimension), time series at one site, with any leading dimensions (time,
@@ -52,6 +61,14 @@ flag_meanings) are left out.
 LWP is taken from the variable liquid_water_path, or else from the one variable with
 standard_name atmosphere_mass_content_of_cloud_liquid_water.
 
+Neighbouring columns are correlated, so the sampling errors treat contiguous tiles of
+each time step as independent: the bin means get a tile standard error and an
+effective number of independent columns, and --bootstrap resamples tiles (--tile sets
+their side in cells; by default round(N^(1/(d+2))) for N cells in d dimensions, 32 for
+a 1000 x 1000 grid; --tile 1 treats columns as independent). When the processed
+files link <name>_standard_error to the drizzle probability or rate, the table also
+gives the mean retrieval error per bin.
+
 Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
 LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
 edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
@@ -63,20 +80,20 @@ decisions.
 Examples:
   warmrain summary out/*.nc
   warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
-  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200
+  warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
+  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
 `
 
 // Names in processed files: rows of microphys.OutputDecls.
 var (
-	lwpVarName       = procfile.LWPName
-	ndVarName        = procfile.NdName
-	popVarName       = procfile.POPName
-	rateVarName      = procfile.RateName
-	intensityVarName = mustOutput("cloud_base_drizzle_intensity").Name
-	surfVarName      = procfile.SurfName
-	baseVarName      = procfile.BaseName
-	mustOutput       = procfile.MustOutput
-	screenWords      = procfile.ScreenWords
+	lwpVarName  = procfile.LWPName
+	ndVarName   = procfile.NdName
+	popVarName  = procfile.POPName
+	rateVarName = procfile.RateName
+	surfVarName = procfile.SurfName
+	baseVarName = procfile.BaseName
+	mustOutput  = procfile.MustOutput
+	screenWords = procfile.ScreenWords
 )
 
 const (
@@ -92,6 +109,7 @@ type summaryFlags struct {
 	opt                    summary.Options
 	width, height          int
 	force                  bool
+	ranges                 plots.Ranges // --range: the user's colour ranges
 }
 
 func runSummary(e *env, args []string) error {
@@ -103,13 +121,16 @@ func runSummary(e *env, args []string) error {
 	to := fs.String("to", "", "keep time steps before `TIME` (UTC)")
 	lwpBins := fs.String("lwp-bins", "20:500:10", "LWP bins in g m-2: `LO:HI:N` logarithmic, or edges E1,E2,...")
 	ndBins := fs.String("nd-bins", "10:1000:10", "N_d bins in cm-3: `LO:HI:N` logarithmic, or edges E1,E2,...")
-	boot := fs.Int("bootstrap", 0, "number `N` of Poisson-bootstrap replicates for the susceptibility errors (0 = off)")
+	boot := fs.Int("bootstrap", 0, "number `N` of tile-bootstrap replicates for the susceptibility intervals (0 = off; 200 or more for 95% intervals)")
 	seed := fs.Uint64("seed", 1, "seed `S` of the bootstrap random numbers")
+	tile := fs.Int("tile", 0, "side `CELLS` of the tiles treated as independent by the standard errors and the bootstrap (0 = round(N^(1/(d+2))) of each scene's N cells in d dimensions; 1 = independent columns)")
+	ciLevel := fs.Float64("ci-level", 0.95, "level `P` of the bootstrap confidence intervals, between 0 and 1")
 	minCount := fs.Int("min-count", 50, "least columns `N` an (LWP, N_d) bin needs to enter a fit or a curve")
 	minDrz := fs.Float64("min-drizzling", 10, "least drizzling columns `N` (the sum of the columns' POP) an (LWP, N_d) bin needs to enter a fit and show a conditional rate")
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
 	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
 	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
+	ranges := fs.StringArray("range", nil, "colour range of VAR's maps in the units the map shows, instead of the declared one: `VAR=LO:HI[:log]` (repeatable)")
 	if err := parseFlags(e, fs, summaryUsage, args); err != nil {
 		return err
 	}
@@ -118,10 +139,13 @@ func runSummary(e *env, args []string) error {
 		return usagef("no processed files given")
 	}
 	f := summaryFlags{output: *output, plotDir: *plotDir, mapOf: *mapOf, force: *force}
+	var err error
+	if f.ranges, err = plots.ParseRanges(*ranges); err != nil {
+		return usagef("%v", err)
+	}
 	if f.mapOf != "mean" && f.mapOf != "first" {
 		return usagef("--map-of %q: expected mean or first", f.mapOf)
 	}
-	var err error
 	if *region != "" {
 		if f.region, err = parseRegion(*region); err != nil {
 			return usagef("--region: %v", err)
@@ -161,6 +185,13 @@ func runSummary(e *env, args []string) error {
 	}
 	f.opt.Region, f.opt.Window = f.region, f.window
 	f.opt.Bootstrap, f.opt.Seed, f.opt.MinCount = *boot, *seed, *minCount
+	if *tile < 0 {
+		return usagef("--tile %d: expected 0 (automatic) or a side of 1 or more cells", *tile)
+	}
+	if !(*ciLevel > 0 && *ciLevel < 1) {
+		return usagef("--ci-level %g: expected a level between 0 and 1, such as 0.95", *ciLevel)
+	}
+	f.opt.Tile, f.opt.CILevel = *tile, *ciLevel
 	f.opt.QCMask = 1 // each file's screening bits are mapped to bit 0 (see readStep)
 
 	// Refuse to overwrite before any work.
@@ -292,6 +323,14 @@ type summaryState struct {
 	// their time range over every file, maps or not.
 	steps      int
 	tmin, tmax float64
+	// Per cell of the map grid over the selected steps: the steps screened and those
+	// screened for a missing input (the maps' no-data classes), and the first selected
+	// step's QC (--map-of first). valid and shapeAssumed count the valid columns and
+	// those whose gamma shape was --gamma-shape's (for the map titles).
+	cellScreened, cellMissing []int32
+	firstQC                   []uint16
+	lwpName                   string // the first file's LWP variable (styled as liquid_water_path)
+	valid, shapeAssumed       int64
 }
 
 // stepSpan is ms with the step count and time range of every selected step, for
@@ -363,8 +402,9 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	if first {
 		st.params = params
 		st.mapInfo = p.Vars
-		for _, v := range p.Info.Vars { // file order
-			if _, ok := p.Vars[v.Name]; ok {
+		st.lwpName = p.LWP
+		for _, v := range p.Info.Vars { // file order; latitude and longitude are no diagnostics
+			if vi, ok := p.Vars[v.Name]; ok && !plots.IsCoordinate(v.Name, vi.Std, v.Text("units")) {
 				st.mapNames = append(st.mapNames, v.Name)
 			}
 		}
@@ -380,7 +420,16 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			}
 		}
 	}
-	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base}, st.mapNames...)
+	if a, ok := p.Info.Global("warmrain_ensemble_members"); ok && !st.mixed {
+		// An ensemble of parameter sets (process --ensemble): its members are pooled
+		// like time steps, which mixes the parameter settings.
+		n, _ := a.Text()
+		st.mixed = true
+		fmt.Fprintf(e.stderr, "warmrain summary: %s holds %s ensemble members processed with different parameters; the summary pools them (summarise the single runs of one parameter set to compare members)\n", path, n)
+	}
+	popErr, rateErr := standardError(p, popVarName), standardError(p, p.Rate)
+	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base, popErr, rateErr}, st.mapNames...)
+	fileKey := sceneKey(path)
 	s := p.Scene
 	if f.region != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
@@ -415,7 +464,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
 			}
 		}
-		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.N, Time: times}
+		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.N, Time: times, Key: fileKey ^ uint64(b.Number)<<40}
 		cols := summary.Columns{
 			LWP: summary.Field{Name: p.LWP, Units: mustOutput(lwpVarName).SIUnits, Data: d[p.LWP]},
 			Nd:  summary.Field{Name: ndVarName, Units: mustOutput(ndVarName).SIUnits, Data: d[ndVarName]},
@@ -427,6 +476,12 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		}
 		if p.Surf != "" {
 			cols.SurfaceRate = summary.Field{Name: surfVarName, Units: mustOutput(surfVarName).SIUnits, Data: d[p.Surf]}
+		}
+		if popErr != "" {
+			cols.POPError = summary.Field{Name: popErr, Units: mustOutput(popVarName).SIUnits, Data: d[popErr]}
+		}
+		if rateErr != "" {
+			cols.RateError = summary.Field{Name: rateErr, Units: mustOutput(rateVarName).SIUnits, Data: d[rateErr]}
 		}
 		if p.Base != "" {
 			cols.BaseHeight = summary.Field{Name: baseVarName, Units: mustOutput(baseVarName).SIUnits, Data: d[p.Base]}
@@ -450,6 +505,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
 			return nil
 		}
+		st.countCells(qc, times, b.N, sc, f.region, f.window)
 		if st.first == nil {
 			for k := 0; k < b.N; k++ {
 				if times != nil && !f.window.Contains(times[k]) {
@@ -467,6 +523,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 					st.first[fl.Name] = dd
 				}
 				st.firstGrid = one
+				st.firstQC = append([]uint16(nil), qc[k*cells:(k+1)*cells]...)
 				if times != nil {
 					st.firstTime = times[k]
 				}
@@ -475,6 +532,93 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		}
 		return nil
 	})
+}
+
+// countCells adds the QC of n steps of one block (times nil: no time axis) on the
+// grid of s to the per-cell counts of the maps' no-data classes and (in region r)
+// the gamma-shape count.
+func (st *summaryState) countCells(qc []uint16, times []float64, n int, s summary.Scene, r *summary.Region, w summary.Window) {
+	cells := s.Cells()
+	var in []bool // cells in the region
+	if r != nil {
+		in = make([]bool, cells)
+		for c := range in {
+			in[c] = r.Contains(s.LatLon(c/s.NX, c%s.NX))
+		}
+	}
+	if st.cellScreened == nil {
+		st.cellScreened, st.cellMissing = make([]int32, cells), make([]int32, cells)
+	}
+	if len(st.cellScreened) != cells || len(qc) < n*cells { // another grid: no maps are made
+		return
+	}
+	for k := 0; k < n; k++ {
+		if times != nil && !w.Contains(times[k]) {
+			continue
+		}
+		for c, q := range qc[k*cells : (k+1)*cells] {
+			switch {
+			case q&1 != 0:
+				st.cellScreened[c]++
+				if q&procfile.QCMissingInput != 0 {
+					st.cellMissing[c]++
+				}
+			case in == nil || in[c]:
+				st.valid++
+				if q&procfile.QCShapeAssumed != 0 {
+					st.shapeAssumed++
+				}
+			}
+		}
+	}
+}
+
+// sceneKey identifies a processed file for the bootstrap's tile weights by its base
+// name (FNV-1a, 64 bit), so the weights of its tiles do not depend on the order of the
+// files or on the folder, and partial summaries of disjoint files merge into the one of
+// all files (summary.Scene.Key).
+func sceneKey(path string) uint64 {
+	h := uint64(14695981039346656037)
+	for _, c := range []byte(filepath.Base(path)) {
+		h ^= uint64(c)
+		h *= 1099511628211
+	}
+	return h
+}
+
+// standardError returns the variable holding the retrieval standard error of name, the
+// <name>_standard_error named by its ancillary_variables, or "" when the file has none.
+func standardError(p *procfile.File, name string) string {
+	if name == "" {
+		return ""
+	}
+	v := p.Info.Var(name)
+	want := name + "_standard_error"
+	if v == nil || !slices.Contains(strings.Fields(v.Text("ancillary_variables")), want) {
+		return ""
+	}
+	vi, ok := p.Vars[want]
+	if !ok {
+		return ""
+	}
+	// In the SI units of the diagnostic it belongs to (a known output), like the
+	// diagnostic itself.
+	si := p.Vars[name].Units
+	if vi.Units != si {
+		c, err := grid.NewConverter(vi.Conv.From, si)
+		if err != nil && si == "kg m-2 s-1" {
+			if c2, err2 := grid.NewConverter(vi.Conv.From, "mm s-1"); err2 == nil {
+				c, err = c2, nil
+				c.To = si
+			}
+		}
+		if err != nil {
+			return "" // not a usable error; the statistics go on without it
+		}
+		vi.Units, vi.Conv = si, c
+		p.Vars[want] = vi
+	}
+	return want
 }
 
 // ---- the NetCDF summary file ----
@@ -501,6 +645,9 @@ func summaryVarSpec(v summary.Var, float bool) grid.VarSpec {
 	}
 	if !v.Int && !isCoord && !isBounds {
 		vs.Attrs = append(vs.Attrs, attr("_FillValue", []float64{-999}))
+	}
+	if v.ConfidenceLevel > 0 {
+		vs.Attrs = append(vs.Attrs, attr("confidence_level", []float64{v.ConfidenceLevel}))
 	}
 	for _, a := range [][2]string{{"standard_name", v.StandardName}, {"long_name", v.LongName}, {"units", v.Units},
 		{"bounds", v.Bounds}, {"ancillary_variables", v.Ancillary}, {"comment", v.Comment}} {
@@ -593,7 +740,7 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 		attr("comment", summaryCaution+" Statistics are in SI units (LWP kg m-2, N_d m-3, rates kg m-2 s-1 = mm s-1 of liquid water)."),
 		attr("history", hist),
 		attr("source", "warmrain "+Version()+" (libnetcdf "+grid.LibraryVersion()+")"),
-		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap)"),
+		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap weights); Carlstein (1986), Künsch (1989), Lahiri (2003) (block bootstrap over tiles); Cochran (1977) (tile standard errors of ratio means)"),
 		attr("standard_name_vocabulary", "CF Standard Name Table v83"),
 		attr("date_created", time.Now().UTC().Format(time.RFC3339)),
 		attr("warmrain_summary_inputs", strings.Join(inputs, "\n")),
@@ -716,7 +863,8 @@ func regionText(r *summary.Region) string {
 }
 
 // wrapLines joins the non-empty lines with newlines, breaking any longer than max
-// characters at blanks (the plots centre the title over the map and do not wrap).
+// characters after a comma if it can, else at blanks (the plots centre the title over
+// the map and do not wrap).
 func wrapLines(max int, lines ...string) string {
 	var out []string
 	for _, l := range lines {
@@ -724,15 +872,29 @@ func wrapLines(max int, lines ...string) string {
 			continue
 		}
 		cur := ""
-		for _, w := range strings.Fields(l) {
+		for _, part := range strings.SplitAfter(l, ", ") {
+			part = strings.TrimSpace(part)
 			switch {
 			case cur == "":
-				cur = w
-			case len([]rune(cur))+1+len([]rune(w)) <= max:
-				cur += " " + w
+				cur = part
+			case len([]rune(cur))+1+len([]rune(part)) <= max:
+				cur += " " + part
 			default:
 				out = append(out, cur)
-				cur = w
+				cur = part
+			}
+			for len([]rune(cur)) > max { // a part longer than a line: at blanks
+				words := strings.Fields(cur)
+				line := words[0]
+				k := 1
+				for ; k < len(words) && len([]rune(line))+1+len([]rune(words[k])) <= max; k++ {
+					line += " " + words[k]
+				}
+				if k == len(words) {
+					break
+				}
+				out = append(out, line)
+				cur = strings.Join(words[k:], " ")
 			}
 		}
 		if cur != "" {
@@ -742,39 +904,66 @@ func wrapLines(max int, lines ...string) string {
 	return strings.Join(out, "\n")
 }
 
-// titleChars estimates how many title characters fit over the map: the map keeps
-// equal degrees (plate carrée) in the picture minus the colour-bar column (150 px),
-// the latitude axis (~70 px), three title lines and the longitude axis; 13 pt text is
-// about 7.5 px a character (estimates from the plots layout, common practice).
-func titleChars(g summary.Scene, w, h int) int {
-	latMin, latMax, lonMin, lonMax := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
-	for _, v := range g.Lat {
-		latMin, latMax = math.Min(latMin, v), math.Max(latMax, v)
-	}
-	for _, v := range g.Lon {
-		lonMin, lonMax = math.Min(lonMin, v), math.Max(lonMax, v)
-	}
-	plotW := float64(w - 8 - 150 - 70)
-	plotH := float64(h - 12 - 3*17 - 10 - 45)
-	mapW := plotW
-	if dy, dx := latMax-latMin, lonMax-lonMin; dy > 0 && dx > 0 && dx < 360 {
-		mapW = math.Min(plotW, plotH*dx/dy)
-	}
-	return max(24, int(mapW/7.5))
+// titleChars estimates how many title characters fit over the map: the plots centre
+// the title in the picture minus the colour-bar column (150 px), whatever the map's
+// own width, so it may use all of it; 13 pt text is about 7.5 px a character
+// (estimates from the plots layout, common practice).
+func titleChars(_ summary.Scene, w, _ int) int {
+	return max(24, int(float64(w-8-150-16)/7.5))
 }
 
-// mapStyle sets the colour scale and units of a diagnostic's picture.
-func mapStyle(name, siUnit string, o *plots.MapOptions) {
-	switch name {
-	case popVarName:
-		o.Min, o.Max = 0, 1
-	case rateVarName, intensityVarName, "surface_drizzle_rate", "column_autoconversion_rate", "autoconversion_efficiency":
-		o.Log = true
-		o.ColorMap = plots.Cividis()
+// mapStyle sets the colour scale, limits and units of a diagnostic's picture: the
+// declared ones (microphys.OutputDecls) or the user's --range (plots.Style).
+func mapStyle(name, siUnit string, ranges plots.Ranges, o *plots.MapOptions) (fixed bool) {
+	return plots.Style(name, siUnit, ranges, o)
+}
+
+// shapeNote says where the gamma shape of the sub-grid LWP came from, for the titles
+// of the maps that depend on it: the input's LWP standard deviation or --gamma-shape.
+func (st *summaryState) shapeNote() string {
+	g := st.params["gamma_shape"]
+	if st.mixed || g == "" || st.valid == 0 {
+		return ""
 	}
-	if siUnit == "m" && strings.Contains(name, "radius") {
-		o.Scale, o.Units = 1e6, "µm"
+	switch a := float64(st.shapeAssumed) / float64(st.valid); {
+	case st.shapeAssumed == st.valid:
+		return "gamma shape " + g
+	case st.shapeAssumed == 0:
+		return "gamma shape from the LWP std. dev."
+	default:
+		return fmt.Sprintf("gamma shape from the LWP std. dev. (%.0f %% of columns), else %s", 100*(1-a), g)
 	}
+}
+
+// noDataClasses gives each cell's reason for having no value: screened for a
+// missing input in every selected step, else screened in some step; nil without QC
+// counts. Cells outside --region are marked by the plots (MapOptions.Region).
+func noDataClasses(screened, missing []int32, steps []uint16) []plots.NoData {
+	switch {
+	case steps != nil:
+		out := make([]plots.NoData, len(steps))
+		for c, q := range steps {
+			switch {
+			case q&procfile.QCMissingInput != 0:
+				out[c] = plots.MissingInput
+			case q&1 != 0:
+				out[c] = plots.Screened
+			}
+		}
+		return out
+	case screened != nil:
+		out := make([]plots.NoData, len(screened))
+		for c := range screened {
+			switch {
+			case screened[c] > 0 && missing[c] == screened[c]:
+				out[c] = plots.MissingInput
+			case screened[c] > 0:
+				out[c] = plots.Screened
+			}
+		}
+		return out
+	}
+	return nil
 }
 
 func writePNG(path string, force bool, draw func(w io.Writer) error) error {
@@ -794,6 +983,9 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 	}
 	params := st.paramText()
 	region := regionText(f.region)
+	if err := plots.CoastlinesAvailable(); err != nil {
+		fmt.Fprintf(e.stderr, "warmrain summary: maps without coastlines: %v\n", err)
+	}
 	var wrote []string
 	put := func(file, what string, draw func(io.Writer) error) error {
 		path := filepath.Join(f.plotDir, file)
@@ -815,6 +1007,7 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		title, when string
 		keepUnits   bool
 		file        string
+		noData      []plots.NoData
 	}
 	var jobs []mapJob
 	if f.mapOf == "first" && st.first != nil {
@@ -824,14 +1017,21 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		}
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
+			if plots.IsCoordinate(n, vi.Std, vi.Units) {
+				continue
+			}
 			jobs = append(jobs, mapJob{field: summary.Field{Name: n, Units: vi.Units, LongName: vi.Long, Data: st.first[n]}, grid: st.firstGrid,
-				title: shortName(n, vi.Long), when: when, file: "map_" + n + "_first.png"})
+				title: shortName(n, vi.Long), when: when, file: "map_" + n + "_first.png", noData: noDataClasses(nil, nil, st.firstQC)})
 		}
 	} else if f.mapOf == "mean" && len(ms.Maps) > 0 {
 		when := "time mean, " + spanText(ms, st.files)
+		classes := noDataClasses(st.cellScreened, st.cellMissing, nil)
 		for _, m := range ms.Maps {
 			n := m.Mean.Name
-			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].Long), when: when, file: "map_" + n + "_mean.png"})
+			if vi := st.mapInfo[n]; plots.IsCoordinate(n, vi.Std, vi.Units) {
+				continue
+			}
+			jobs = append(jobs, mapJob{field: m.Mean, grid: ms.Grid, title: shortName(n, st.mapInfo[n].Long), when: when, file: "map_" + n + "_mean.png", noData: classes})
 		}
 		for _, m := range ms.Maps {
 			if m.Mean.Name == popVarName {
@@ -842,28 +1042,58 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 			}
 		}
 	}
+	var mapped []string
 	for _, j := range jobs {
-		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits}
-		mapStyle(j.field.Name, j.field.Units, &o)
+		mapped = append(mapped, j.field.Name)
+	}
+	for _, n := range f.ranges.Unknown(mapped) {
+		fmt.Fprintf(e.stderr, "warmrain summary: --range %s: no map shows %s (mapped: %s)\n", n, n, strings.Join(mapped, ", "))
+	}
+	for _, j := range jobs {
+		o := plots.MapOptions{Width: f.width, Height: f.height, KeepUnits: j.keepUnits, Region: f.region, NoData: j.noData}
+		styleName := j.field.Name
+		if styleName == st.lwpName { // the LWP found by its standard name
+			styleName = lwpVarName
+		}
+		fixed := mapStyle(styleName, j.field.Units, f.ranges, &o)
+		if r, ok := f.ranges[j.field.Name]; ok { // --range by the file's own name
+			o.Min, o.Max, o.Log, fixed = r.Lo, r.Hi, r.Log, true
+		}
 		if j.keepUnits {
-			o.Scale, o.Units = 1, "count"
+			o.Scale, o.Units, o.IntegerTicks = 1, "count", true
+		}
+		if len(j.noData) != j.grid.Cells() {
+			o.NoData = nil
 		}
 		title := j.title
 		if v, ok := constantValue(j.field.Data); ok {
-			// A constant field would get a colour bar of ±1e-12: give it a readable
-			// range and say so in the title.
+			// Say so in the title; without fixed limits a constant field would get a
+			// colour bar of ±1e-12: give it a readable range.
 			scale, units := o.Scale, o.Units
 			if scale == 0 {
 				scale, units = plots.DisplayUnits(j.field.Units)
 			}
 			d := v * scale
-			o.Log, o.Min, o.Max = false, d-math.Max(math.Abs(d)*0.5, 1), d+math.Max(math.Abs(d)*0.5, 1)
-			if d == 0 && !strings.Contains(j.field.Name, "temperature") {
-				o.Min, o.Max = 0, 1
+			if !fixed {
+				o.Log, o.Min, o.Max = false, d-math.Max(math.Abs(d)*0.5, 1), d+math.Max(math.Abs(d)*0.5, 1)
+				if d == 0 && !strings.Contains(j.field.Name, "temperature") {
+					o.Min, o.Max = 0, 1
+				}
 			}
 			title += fmt.Sprintf(": %.4g %s everywhere", d, units)
 		}
-		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region, params)
+		// The parameters the variable depends on: none named for a variable that is
+		// not a declared output (its dependencies are unknown) or for the counts.
+		mp := ""
+		switch d := microphys.OutputByName(styleName); {
+		case j.keepUnits || d == nil:
+		case st.mixed:
+			mp = params // "inputs processed with different parameters"
+		default:
+			mp = plots.ParamLine(styleName, st.params, st.shapeNote())
+		}
+		o.Title = wrapLines(titleChars(j.grid, f.width, f.height), title, j.when, region)
+		o.Params = mp
 		if err := put(j.file, j.field.Name, func(w io.Writer) error { return plots.Map(w, j.grid, j.field, o) }); err != nil {
 			return err
 		}

@@ -3,6 +3,7 @@ package app
 import (
 	"encoding/json"
 	"image"
+	"image/color"
 	"image/png"
 	"math"
 	"os"
@@ -13,6 +14,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/warmrain/warmrain/cmd/internal/plots"
 	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/grid/cflint"
 	"github.com/warmrain/warmrain/microphys"
@@ -129,12 +131,29 @@ func writeSynthProcessed(t *testing.T, dir string) (string, []synthColumn) {
 			a("warmrain_parameter_onset_effective_radius", "1.4e-05"), a("warmrain_parameter_gamma_shape", "2"),
 			a("warmrain_parameter_autoconversion", "KK2000")},
 	}
+	// Retrieval standard errors linked through ancillary_variables (doc/netcdf.md):
+	// constant, 0.02 for POP and 0.1 mm day-1 for the rate, so every bin's mean is known.
+	sePOP, seRate := make([]float64, n), make([]float64, n)
+	for k := range sePOP {
+		sePOP[k], seRate[k] = synthSEPOP, synthSERate
+	}
+	for i := range ds.Vars {
+		switch ds.Vars[i].Name {
+		case "drizzle_probability", "cloud_base_drizzle_rate":
+			ds.Vars[i].Attrs = append(ds.Vars[i].Attrs, a("ancillary_variables", ds.Vars[i].Name+"_standard_error"))
+		}
+	}
+	ds.Vars = append(ds.Vars, fvar("drizzle_probability_standard_error", "1", "retrieval standard error of the drizzle probability", sePOP),
+		fvar("cloud_base_drizzle_rate_standard_error", "mm day-1", "retrieval standard error of the cloud-base drizzle rate", seRate))
 	path := filepath.Join(dir, "processed.nc")
 	if err := grid.WriteDataset(path, ds, false); err != nil {
 		t.Fatal(err)
 	}
 	return path, cols
 }
+
+// The retrieval standard errors of the synthetic file (invented).
+const synthSEPOP, synthSERate = 0.02, 0.1 // 1, mm day-1
 
 // surfaceRatioPython returns the flux-weighted surface fraction Σ R_sfc / Σ R_CB of a
 // processed file, computed by Debian's netCDF4-python over the columns with QC & mask
@@ -188,6 +207,11 @@ ds = xr.open_dataset(sys.argv[1])
 def clean(v):
     return [None if (isinstance(x, float) and math.isnan(x)) else x for x in v]
 out = {k: clean(ds[k].values.ravel().tolist()) for k in ["susceptibility_pop", "susceptibility_rate", "susceptibility_conditional_rate", "column_count", "lwp_bin", "surface_drizzle_fraction"]}
+for k in ["drizzle_probability_mean_retrieval_error", "cloud_base_drizzle_rate_mean_retrieval_error", "susceptibility_pop_lower_limit", "susceptibility_pop_upper_limit", "drizzle_probability_mean_tile_standard_error", "drizzle_probability_mean_standard_error"]:
+    if k in ds:
+        out[k] = clean(ds[k].values.ravel().tolist())
+if "susceptibility_pop_lower_limit" in ds:
+    out["confidence_level"] = float(ds["susceptibility_pop_lower_limit"].attrs["confidence_level"])
 out["pop_mean_map_units"] = ds["drizzle_probability_time_mean"].attrs.get("units")
 out["pop_mean_map_shape"] = list(ds["drizzle_probability_time_mean"].shape)
 out["pop_count_map_sum"] = int(ds["drizzle_probability_time_mean_count"].values.sum())
@@ -294,6 +318,24 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	si := floats(t, m["susceptibility_conditional_rate"])
 	if len(sp) != 3 {
 		t.Fatalf("susceptibility_pop has %d LWP bins, want 3", len(sp))
+	}
+	// Retrieval errors: the mean of a constant is that constant, in SI (0.1 mm day-1 =
+	// 0.1/86400 kg m-2 s-1, derived); bootstrap limits bracket the estimate.
+	cnt := floats(t, m["column_count"])
+	ep, er := floats(t, m["drizzle_probability_mean_retrieval_error"]), floats(t, m["cloud_base_drizzle_rate_mean_retrieval_error"])
+	for b := range cnt {
+		if cnt[b] > 0 && (math.Abs(ep[b]-synthSEPOP) > 1e-6 || math.Abs(er[b]*86400-synthSERate) > 1e-6) {
+			t.Errorf("bin %d: mean retrieval errors %g, %g mm day-1; want %g, %g", b, ep[b], er[b]*86400, synthSEPOP, synthSERate)
+		}
+	}
+	lo, hi := floats(t, m["susceptibility_pop_lower_limit"]), floats(t, m["susceptibility_pop_upper_limit"])
+	for i := range sp {
+		if !(lo[i] <= sp[i] && sp[i] <= hi[i]) {
+			t.Errorf("LWP bin %d: S_POP %.4f outside its interval %.4f..%.4f", i, sp[i], lo[i], hi[i])
+		}
+	}
+	if m["confidence_level"] != 0.95 {
+		t.Errorf("confidence_level %v, want 0.95", m["confidence_level"])
 	}
 	for i := range sp {
 		// The invented laws (this file's header): S_POP = 0.6, S_R = 1.3, S_I = 0.7 (derived).
@@ -449,6 +491,9 @@ func TestSummaryUsage(t *testing.T) {
 		{[]string{"summary", in, "--nd-bins", "10,5,20"}, ExitUsage, "increase"},
 		{[]string{"summary", in, "--plot-size", "big"}, ExitUsage, "WxH"},
 		{[]string{"summary", in, "--map-of", "last"}, ExitUsage, "mean or first"},
+		{[]string{"summary", in, "--range", "droplet_number=500:20"}, ExitUsage, "--range"},
+		{[]string{"summary", in, "--range", "droplet_number=0:500:log"}, ExitUsage, "--range"},
+		{[]string{"summary", in, "--range", "droplet_number"}, ExitUsage, "--range"},
 		{[]string{"summary", in, "-o", in, "--force"}, ExitUsage, "refusing to overwrite an input"},
 		{[]string{"summary", filepath.Join(dir, "none.nc")}, ExitFailure, "none.nc"},
 		{[]string{"summary", "--help"}, ExitOK, ""},
@@ -631,4 +676,118 @@ ds.close()`, in).CombinedOutput(); err != nil {
 	if r.Info().Var("surface_drizzle_fraction") != nil {
 		t.Error("summary file has surface_drizzle_fraction without a surface rate in the input")
 	}
+}
+
+// TestSummaryMapClasses: a swath whose latitude and longitude are found by their
+// standard names (no coordinates attribute), with columns screened for a missing input
+// and for thin cloud. Latitude and longitude get no map; the maps show both no-data
+// classes in their colours, and a --range for a variable without a map is reported.
+func TestSummaryMapClasses(t *testing.T) {
+	dir := t.TempDir()
+	const ny, nx = 40, 50
+	n := ny * nx
+	lat, lon := make([]float64, n), make([]float64, n)
+	lwp, nd, pop, qc := make([]float64, n), make([]float64, n), make([]float64, n), make([]int32, n)
+	for k := 0; k < n; k++ {
+		y, x := k/nx, k%nx
+		lat[k] = -20 + 0.1*float64(y) + 0.02*float64(x)
+		lon[k] = -100 + 0.1*float64(x)
+		c := synthColumnAt(k)
+		lwp[k], nd[k], pop[k] = c.lwp, c.nd, c.pop
+		switch {
+		case x < 12 && y < 12:
+			qc[k] = 1 // input_missing
+		case x > 35 && y > 25:
+			qc[k] = 4 // thin_cloud
+		}
+		if qc[k] != 0 {
+			lwp[k], nd[k], pop[k] = -999, -999, -999
+		}
+	}
+	a := func(name string, v any) grid.Attr { return grid.Attr{Name: name, Value: v} }
+	fvar := func(name, units string, d []float64) grid.VarSpec {
+		return grid.VarSpec{Name: name, Dims: []string{"y", "x"}, Type: grid.Float, Data: d,
+			Attrs: []grid.Attr{a("_FillValue", []float32{-999}), a("units", units)}}
+	}
+	ds := &grid.Dataset{
+		Dims: []grid.DimSpec{{Name: "y", Len: ny}, {Name: "x", Len: nx}},
+		Vars: []grid.VarSpec{
+			{Name: "lat", Dims: []string{"y", "x"}, Type: grid.Double, Data: lat, Attrs: []grid.Attr{a("standard_name", "latitude"), a("units", "degrees_north")}},
+			{Name: "lon", Dims: []string{"y", "x"}, Type: grid.Double, Data: lon, Attrs: []grid.Attr{a("standard_name", "longitude"), a("units", "degrees_east")}},
+			fvar("liquid_water_path", "g m-2", lwp),
+			fvar("droplet_number", "cm-3", nd),
+			fvar("drizzle_probability", "1", pop),
+			{Name: "warm_rain_qc", Dims: []string{"y", "x"}, Type: grid.Int, Data: qc,
+				Attrs: []grid.Attr{a("flag_masks", []int32{1, 2, 4}), a("flag_meanings", "input_missing input_invalid thin_cloud")}},
+		},
+		Globals: []grid.Attr{a("Conventions", "CF-1.13"), a("warmrain_parameter_onset_radius", "14 um"), a("warmrain_parameter_onset_width", "4 um"),
+			a("warmrain_parameter_gamma_shape", "4"), a("warmrain_parameter_autoconversion", "kk2000"), a("warmrain_parameter_extinction_efficiency", "2")},
+	}
+	in := filepath.Join(dir, "swath.nc")
+	if err := grid.WriteDataset(in, ds, false); err != nil {
+		t.Fatal(err)
+	}
+	pics := filepath.Join(dir, "p")
+	code, _, stderr := runCmd("summary", in, "--plots", pics, "--map-of", "first", "--min-count", "5",
+		"--range", "droplet_number=20:500:log", "--range", "cloud_thickness=0:800")
+	if code != 0 {
+		t.Fatalf("exit %d\n%s", code, stderr)
+	}
+	if !strings.Contains(stderr, "--range cloud_thickness: no map shows") {
+		t.Errorf("no note about the --range without a map:\n%s", stderr)
+	}
+	ents, _ := os.ReadDir(pics)
+	for _, e := range ents {
+		if strings.Contains(e.Name(), "_lat") || strings.Contains(e.Name(), "_lon") {
+			t.Errorf("%s: latitude or longitude mapped as a diagnostic", e.Name())
+		}
+	}
+	for _, name := range []string{"map_droplet_number_first.png", "map_liquid_water_path_first.png"} {
+		path := filepath.Join(pics, name)
+		checkPNG(t, path, 900, 600)
+		f, err := os.Open(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(f)
+		f.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		count := func(c color.NRGBA) int {
+			k := 0
+			b := img.Bounds()
+			for y := b.Min.Y; y < b.Max.Y; y++ {
+				for x := b.Min.X; x < b.Max.X; x++ {
+					r, g, bl, _ := img.At(x, y).RGBA()
+					if uint8(r>>8) == c.R && uint8(g>>8) == c.G && uint8(bl>>8) == c.B {
+						k++
+					}
+				}
+			}
+			return k
+		}
+		if m, s := count(plots.MissingInput.Colour()), count(plots.Screened.Colour()); m < 1000 || s < 1000 {
+			t.Errorf("%s: %d input-missing and %d screened pixels; want the two classes drawn", name, m, s)
+		}
+	}
+}
+
+// TestSummaryWithoutCoastlines: without the coastline files the maps are still drawn
+// and stderr says once that coastlines are off and which package provides them.
+func TestSummaryWithoutCoastlines(t *testing.T) {
+	old := plots.CoastlineDir
+	plots.CoastlineDir = t.TempDir()
+	defer func() { plots.CoastlineDir = old }()
+	dir := t.TempDir()
+	in, _ := writeSynthProcessed(t, dir)
+	pics := filepath.Join(dir, "p")
+	code, _, stderr := runCmd("summary", in, "--plots", pics)
+	if code != 0 {
+		t.Fatalf("exit %d\n%s", code, stderr)
+	}
+	if n := strings.Count(stderr, "without coastlines"); n != 1 || !strings.Contains(stderr, "gmt-gshhg-low") {
+		t.Errorf("want one note naming gmt-gshhg-low, got %d in:\n%s", n, stderr)
+	}
+	checkPNG(t, filepath.Join(pics, "map_drizzle_probability_mean.png"), 900, 600)
 }

@@ -204,7 +204,8 @@ func fmtNum(v float64) string {
 }
 
 // SusceptibilityCurves writes a PNG of S_POP, S_R and S_I against LWP (log axis, g m-2)
-// with ±1 standard-error bars (bootstrap when available, unless RegressionSE), and a
+// with error bars: the tile-bootstrap percentile interval when there is a bootstrap
+// (unless RegressionSE), else ±1 regression standard error; and a
 // dotted zero line. LWP bins without a defined slope are left out. It returns ErrNoData
 // when no LWP bin has a slope.
 func SusceptibilityCurves(w io.Writer, r *summary.Result, opt CurveOptions) error {
@@ -213,9 +214,13 @@ func SusceptibilityCurves(w io.Writer, r *summary.Result, opt CurveOptions) erro
 		return err
 	}
 	boot := r.Options.Bootstrap > 0 && !opt.RegressionSE
-	errNote := "error bars: ±1 regression standard error"
+	errNote := "error bars: ±1 regression standard error (assumes independent bins)"
 	if boot {
-		errNote = fmt.Sprintf("error bars: ±1 bootstrap standard error (%d replicates)", r.Options.Bootstrap)
+		tiles := fmt.Sprintf("tiles %d cells a side", r.TileSide)
+		if r.TileSide < 0 {
+			tiles = "tiles of each scene's automatic size"
+		}
+		errNote = fmt.Sprintf("error bars: %g%% tile-bootstrap interval (%d replicates, %s)", 100*r.Options.CILevel, r.Options.Bootstrap, tiles)
 	}
 	t := opt.Title
 	if t == "" {
@@ -252,15 +257,15 @@ func SusceptibilityCurves(w io.Writer, r *summary.Result, opt CurveOptions) erro
 			if math.IsNaN(s.S) {
 				continue
 			}
-			e := s.SE
+			lo, hi := s.SE, s.SE
 			if boot {
-				e = s.BootSE
+				lo, hi = s.S-s.CILow, s.CIHigh-s.S
 			}
-			if math.IsNaN(e) {
-				e = 0
+			if math.IsNaN(lo) || math.IsNaN(hi) {
+				lo, hi = 0, 0
 			}
 			pts.XYs = append(pts.XYs, plotter.XY{X: r.LWP.Centre(i) * 1e3 * sr.shift, Y: s.S})
-			pts.YErrors = append(pts.YErrors, struct{ Low, High float64 }{e, e})
+			pts.YErrors = append(pts.YErrors, struct{ Low, High float64 }{math.Max(lo, 0), math.Max(hi, 0)})
 		}
 		if len(pts.XYs) == 0 {
 			continue

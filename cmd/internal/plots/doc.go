@@ -14,9 +14,18 @@
 //
 // Layout of a map: the title (caller's text, time and key parameters) on top, the map
 // with degree-labelled latitude/longitude axes on the left, and on the right a
-// vertical colour bar with its units above it and a "no data" swatch below it. Cells
-// whose value is NaN are painted in the neutral NoDataColor; areas with no cell at
-// all (outside a swath) stay white.
+// vertical colour bar with its units above it (and "log scale" when it is one), end
+// triangles when some values lie beyond the limits, and under it a legend of the
+// no-data classes the map shows. GSHHG coastlines (coast.go; Debian gmt-gshhg-low)
+// are drawn over the cells; without the files maps draw without them. Cells whose
+// value is NaN are painted in the colour of their NoData class (input missing,
+// screened, outside region, no value), colours no colour map uses; areas with no
+// cell at all (outside a swath) stay white. MapOptions.Region crops the map.
+//
+// Style takes each output's fixed colour limits, scale and units from
+// microphys.OutputDecls (one declaration per output) and the user's --range
+// (ParseRange); ParamLine writes the title line of the parameters an output depends
+// on. doc/maps.md describes all of it for users.
 //
 // Results are research diagnostics, not for operational forecasting or flight-safety
 // decisions.

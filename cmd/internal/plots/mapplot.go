@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
@@ -30,8 +31,9 @@ type MapOptions struct {
 	// When is free text for the second line instead of or besides Time, for example
 	// "mean of 2026-07-01 to 2026-07-31 (124 steps)".
 	When string
-	// Params are the key parameters shown on the second title line, for example
-	// "KK2000, r_e* = 14 µm, N_d adiabatic k = 0.8".
+	// Params are the parameters the field depends on, shown in small type under the
+	// map (wrapped at commas), for example "k 0.8, Q_ext 2, onset r_e 12–16 µm"
+	// (ParamLine writes them for an output).
 	Params string
 
 	// ColorMap is the colour table; zero = Viridis.
@@ -57,6 +59,19 @@ type MapOptions struct {
 	// FreeAspect fills the picture; by default one degree of latitude and one of
 	// longitude get the same length (plate carrée), and the map is centred.
 	FreeAspect bool
+
+	// NoData gives, per cell (NY*NX, y-major), why a cell whose value is NaN has
+	// none; nil or NoDataNone: NoValue. Cells with a value show it whatever their
+	// class.
+	NoData []NoData
+	// Region, when set, crops the map to the box (intersected with the data's extent)
+	// and draws the cells outside it as OutsideRegion.
+	Region *summary.Region
+	// IntegerTicks labels the colour bar at whole numbers only (counts).
+	IntegerTicks bool
+	// NoCoast leaves the coastlines out. Without the coastline files
+	// (CoastlinesAvailable) they are left out anyway.
+	NoCoast bool
 }
 
 // ErrNoData is returned by Map when a field has no finite value to set a colour range.
@@ -239,7 +254,13 @@ func (r raster) Plot(c draw.Canvas, p *plot.Plot) {
 		}
 		ix := make([]int, w)
 		for i := range ix {
-			ix[i] = find(g.lonEdges, g.lonDesc, xAt(float64(i)))
+			ix[i] = -1
+			for _, sh := range []float64{0, -360, 360} { // a map across the antimeridian
+				if k := find(g.lonEdges, g.lonDesc, xAt(float64(i))+sh); k >= 0 {
+					ix[i] = k
+					break
+				}
+			}
 		}
 		for j := 0; j < h; j++ {
 			iy := find(g.latEdges, g.latDesc, yAt(float64(j)))
@@ -260,14 +281,16 @@ func (r raster) Plot(c draw.Canvas, p *plot.Plot) {
 			if math.IsNaN(g.lon[k]) || math.IsNaN(g.lat[k]) {
 				continue
 			}
-			x0, y0 := toPx(g.lon[k]-g.hlon[k], g.lat[k]+g.hlat[k])
-			x1, y1 := toPx(g.lon[k]+g.hlon[k], g.lat[k]-g.hlat[k])
-			i0, i1 := max(int(math.Floor(x0)), 0), min(int(math.Ceil(x1)), w)
-			j0, j1 := max(int(math.Floor(y0)), 0), min(int(math.Ceil(y1)), h)
-			col := g.cellColours[k]
-			for j := j0; j < j1; j++ {
-				for i := i0; i < i1; i++ {
-					img.SetNRGBA(i, j, col)
+			for _, sh := range []float64{0, -360, 360} { // a map across the antimeridian
+				x0, y0 := toPx(g.lon[k]+sh-g.hlon[k], g.lat[k]+g.hlat[k])
+				x1, y1 := toPx(g.lon[k]+sh+g.hlon[k], g.lat[k]-g.hlat[k])
+				i0, i1 := max(int(math.Floor(x0)), 0), min(int(math.Ceil(x1)), w)
+				j0, j1 := max(int(math.Floor(y0)), 0), min(int(math.Ceil(y1)), h)
+				col := g.cellColours[k]
+				for j := j0; j < j1; j++ {
+					for i := i0; i < i1; i++ {
+						img.SetNRGBA(i, j, col)
+					}
 				}
 			}
 		}
@@ -381,6 +404,12 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 	for i, v := range data {
 		vals[i] = v * scale
 	}
+	if opt.NoData != nil && len(opt.NoData) != cells {
+		return fmt.Errorf("plots: map of %s: NoData has %d classes, want one per cell (%d)", f.Name, len(opt.NoData), cells)
+	}
+	if !hasFinite(vals) {
+		return fmt.Errorf("plots: map of %s: %w", f.Name, ErrNoData)
+	}
 	sc, err := autoScale(vals, opt)
 	if err != nil {
 		return fmt.Errorf("plots: map of %s: %w", f.Name, err)
@@ -393,9 +422,41 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 	if err != nil {
 		return fmt.Errorf("plots: map of %s: %w", f.Name, err)
 	}
+	if opt.Region != nil {
+		if err := g.crop(opt.Region); err != nil {
+			return fmt.Errorf("plots: map of %s: %w", f.Name, err)
+		}
+	}
 	g.cellColours = make([]color.NRGBA, cells)
+	var present [numNoData]bool
+	under, over := false, false
 	for i, v := range vals {
-		g.cellColours[i] = cm.At(sc.norm(v))
+		class := NoDataNone
+		if opt.NoData != nil && math.IsNaN(v) {
+			class = opt.NoData[i]
+		}
+		if opt.Region != nil {
+			if la, lo := s.LatLon(i/s.NX, i%s.NX); !opt.Region.Contains(la, lo) {
+				class = OutsideRegion
+			}
+		}
+		if class == NoDataNone && math.IsNaN(v) {
+			class = NoValue
+		}
+		if class != NoDataNone {
+			g.cellColours[i] = class.Colour()
+			if la, lo := s.LatLon(i/s.NX, i%s.NX); g.inView(la, lo) {
+				present[class] = true // in the legend only when some cell shows it
+			}
+			continue
+		}
+		f := sc.norm(v)
+		under, over = under || f < -1e-9, over || f > 1+1e-9
+		g.cellColours[i] = cm.At(f)
+	}
+	var coast []coastSegment
+	if !opt.NoCoast {
+		coast, _ = coastLines(g.xmin, g.xmax, g.ymin, g.ymax) // no files: no coastlines (CoastlinesAvailable says why)
 	}
 
 	title := opt.Title
@@ -412,12 +473,12 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 	if opt.When != "" {
 		second = append(second, opt.When)
 	}
-	if opt.Params != "" {
-		second = append(second, opt.Params)
-	}
 	if len(second) > 0 {
 		title += "\n" + strings.Join(second, "   ·   ")
 	}
+	// The title is centred over the picture minus the colour-bar column: break lines
+	// that would not fit (measured in the title's font).
+	title = fitLines(title, textStyle(13), px(float64(width-8-150-12)))
 
 	p := newPlot(title, "longitude", "latitude")
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = g.xmin, g.xmax, g.ymin, g.ymax
@@ -425,11 +486,30 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 	p.X.Tick.Marker = degreeTicks{lat: false, max: 6}
 	p.Y.Tick.Marker = degreeTicks{lat: true}
 	p.Add(raster{g})
+	if len(coast) > 0 {
+		p.Add(coastPlotter{coast}) // above the cells; the axes and labels are drawn outside the data area
+	}
 
 	return writePNG(w, width, height, func(dc draw.Canvas) error {
 		const barColumn = 150                            // px kept on the right for the colour bar and its labels
 		dc = draw.Crop(dc, px(4), -px(4), px(4), -px(8)) // margins
+		if opt.Params != "" {                            // the parameter footnote under the map, 9 pt
+			fs := textStyle(9)
+			lines := strings.Split(fitLines("parameters: "+opt.Params, fs, px(float64(width-20))), "\n")
+			fs.Color = color.Gray{Y: 0x30}
+			fs.XAlign, fs.YAlign = draw.XLeft, draw.YBottom
+			for i := range lines {
+				y := dc.Min.Y + vg.Length(len(lines)-1-i)*px(13)
+				dc.FillText(fs, vg.Point{X: dc.Min.X + px(4), Y: y}, lines[i])
+			}
+			dc = draw.Crop(dc, 0, 0, vg.Length(len(lines))*px(13)+px(4), 0)
+		}
 		main := draw.Crop(dc, 0, -px(barColumn), 0, 0)
+		// as many latitude labels as fit, about 40 px apart (set before the layout:
+		// their width sets the data area's)
+		if da := p.DataCanvas(main); true {
+			p.Y.Tick.Marker = degreeTicks{lat: true, max: max(2, min(8, int(float64(da.Max.Y-da.Min.Y)/float64(px(40)))))}
+		}
 		da := p.DataCanvas(main)
 		if !opt.FreeAspect {
 			ratio := (g.xmax - g.xmin) / (g.ymax - g.ymin)
@@ -443,19 +523,42 @@ func Map(w io.Writer, s summary.Scene, f summary.Field, opt MapOptions) error {
 			}
 			da = p.DataCanvas(main)
 		}
+		// as many longitude labels as fit: about 75 px a label ("172.5°W" at 10 pt)
+		p.X.Tick.Marker = degreeTicks{lat: false, max: max(2, int(float64(da.Max.X-da.Min.X)/float64(px(75))))}
+		da = p.DataCanvas(main) // end labels that overhang the data area narrow it slightly
 		p.Draw(main)
 		// frame around the map
 		dc.StrokeLines(draw.LineStyle{Color: color.Gray{Y: 0x40}, Width: px(1)}, []vg.Point{
 			{X: da.Min.X, Y: da.Min.Y}, {X: da.Max.X, Y: da.Min.Y}, {X: da.Max.X, Y: da.Max.Y}, {X: da.Min.X, Y: da.Max.Y}, {X: da.Min.X, Y: da.Min.Y}})
-		drawColourBar(dc, main.Max.X+px(18), da.Min.Y, da.Max.Y, cm, sc, units)
+		var classes []NoData
+		for c := NoValue; c < numNoData; c++ {
+			if present[c] {
+				classes = append(classes, c)
+			}
+		}
+		drawColourBar(dc, main.Max.X+px(18), da.Min.Y, da.Max.Y, cm, sc, units, under, over, classes, opt.IntegerTicks)
 		return nil
 	})
 }
 
 // drawColourBar draws a vertical colour bar of width 20 px at x from y0 to y1, ticks and
-// labels on its right, the units above and a "no data" swatch below.
-func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourScale, units string) {
+// labels on its right, the units above, a triangle at an end whose values some cells
+// exceed (they get the end colour), and below it a legend of the no-data classes
+// present.
+func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourScale, units string, under, over bool, classes []NoData, integer bool) {
 	const barW = 20
+	tri := px(12) // height of an end triangle
+	sw := px(14)  // legend swatch
+	legendTop := y0 + px(4)
+	if len(classes) > 0 {
+		y0 += vg.Length(len(classes))*(sw+px(6)) + px(14) // room for the legend under the bar
+	}
+	if over {
+		y1 -= tri
+	}
+	if under {
+		y0 += tri
+	}
 	// the stripe: one pixel row per colour-table entry, top = high values
 	stripe := image.NewNRGBA(image.Rect(0, 0, 1, 256))
 	for k := 0; k < 256; k++ {
@@ -465,6 +568,16 @@ func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourSc
 	dc.DrawImage(rect, stripe)
 	frame := draw.LineStyle{Color: color.Gray{Y: 0x40}, Width: px(1)}
 	dc.StrokeLines(frame, []vg.Point{{X: x, Y: y0}, {X: x + px(barW), Y: y0}, {X: x + px(barW), Y: y1}, {X: x, Y: y1}, {X: x, Y: y0}})
+	if over {
+		t := []vg.Point{{X: x, Y: y1}, {X: x + px(barW), Y: y1}, {X: x + px(barW)/2, Y: y1 + tri}}
+		dc.FillPolygon(cm.At(1), t)
+		dc.StrokeLines(frame, append(t, t[0]))
+	}
+	if under {
+		t := []vg.Point{{X: x, Y: y0}, {X: x + px(barW), Y: y0}, {X: x + px(barW)/2, Y: y0 - tri}}
+		dc.FillPolygon(cm.At(0), t)
+		dc.StrokeLines(frame, append(t, t[0]))
+	}
 
 	var ticks []plot.Tick
 	if sc.log {
@@ -475,6 +588,12 @@ func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourSc
 	lab := textStyle(10)
 	lab.XAlign, lab.YAlign = draw.XLeft, draw.YCenter
 	for _, t := range ticks {
+		if integer && t.Value != math.Round(t.Value) {
+			continue
+		}
+		if integer && t.Label == "" {
+			t.Label = tickNumber(t.Value)
+		}
 		f := sc.norm(t.Value)
 		if f < -1e-9 || f > 1+1e-9 {
 			continue
@@ -495,14 +614,102 @@ func drawColourBar(dc draw.Canvas, x, y0, y1 vg.Length, cm ColorMap, sc colourSc
 	if units == "" {
 		units = "(no units)"
 	}
-	dc.FillText(ul, vg.Point{X: x, Y: y1 + px(8)}, units)
-	// no-data swatch below the bar
-	sw := px(14)
-	sy := y0 - px(34)
-	box := []vg.Point{{X: x, Y: sy}, {X: x + sw, Y: sy}, {X: x + sw, Y: sy + sw}, {X: x, Y: sy + sw}}
-	dc.FillPolygon(NoDataColor, box)
-	dc.StrokeLines(frame, append(box, box[0]))
+	if sc.log {
+		units += "  (log scale)"
+	}
+	top := y1
+	if over {
+		top += tri
+	}
+	dc.FillText(ul, vg.Point{X: x, Y: top + px(8)}, units)
+	// no-data legend below the bar
+	sy := legendTop
 	nd := textStyle(10)
 	nd.XAlign, nd.YAlign = draw.XLeft, draw.YCenter
-	dc.FillText(nd, vg.Point{X: x + sw + px(6), Y: sy + sw/2}, "no data")
+	for k := len(classes) - 1; k >= 0; k-- { // stacked upwards: the first on top
+		c := classes[k]
+		box := []vg.Point{{X: x, Y: sy}, {X: x + sw, Y: sy}, {X: x + sw, Y: sy + sw}, {X: x, Y: sy + sw}}
+		dc.FillPolygon(c.Colour(), box)
+		dc.StrokeLines(frame, append(box, box[0]))
+		dc.FillText(nd, vg.Point{X: x + sw + px(6), Y: sy + sw/2}, c.Label())
+		sy += sw + px(6)
+	}
+}
+
+// inView reports whether the point lies in the map's box (longitudes modulo 360).
+func (g *mapGeom) inView(lat, lon float64) bool {
+	if !(lat >= g.ymin && lat <= g.ymax) {
+		return false
+	}
+	for _, sh := range []float64{0, -360, 360, -720, 720} {
+		if l := lon + sh; l >= g.xmin && l <= g.xmax {
+			return true
+		}
+	}
+	return false
+}
+
+// crop narrows the map to region r (shifted by whole turns to overlap the data),
+// intersected with the data's extent.
+func (g *mapGeom) crop(r *summary.Region) error {
+	lo, hi := r.LonMin, r.LonMax
+	if hi <= lo {
+		hi += 360 // across the antimeridian
+	}
+	best, shift := -1.0, 0.0
+	for _, sh := range []float64{-720, -360, 0, 360, 720} {
+		if ov := math.Min(hi+sh, g.xmax) - math.Max(lo+sh, g.xmin); ov > best {
+			best, shift = ov, sh
+		}
+	}
+	x0, x1 := math.Max(lo+shift, g.xmin), math.Min(hi+shift, g.xmax)
+	if g.xmax-g.xmin >= 360-1e-6 { // a global grid: the cells repeat every 360°
+		shift = math.Floor((lo+180)/360) * -360
+		x0, x1 = lo+shift, hi+shift
+	}
+	y0, y1 := math.Max(r.LatMin, g.ymin), math.Min(r.LatMax, g.ymax)
+	if !(x1 > x0) || !(y1 > y0) {
+		return fmt.Errorf("%w: the region %g..%g°N, %g..%g°E holds no cell of the map", ErrNoData, r.LatMin, r.LatMax, r.LonMin, r.LonMax)
+	}
+	g.xmin, g.xmax, g.ymin, g.ymax = x0, x1, y0, y1
+	return nil
+}
+
+// fitLines re-breaks each line of text that is wider than max in style st, after a
+// comma where it can, else at blanks.
+func fitLines(text string, st text.Style, max vg.Length) string {
+	fits := func(l string) bool { return st.Width(l) <= max }
+	var out []string
+	for _, line := range strings.Split(text, "\n") {
+		if fits(line) {
+			out = append(out, line)
+			continue
+		}
+		cur := ""
+		add := func(part, sep string) {
+			switch {
+			case cur == "":
+				cur = part
+			case fits(cur + sep + part):
+				cur += sep + part
+			default:
+				out = append(out, cur)
+				cur = part
+			}
+		}
+		for _, part := range strings.SplitAfter(line, ", ") {
+			part = strings.TrimSpace(part)
+			if fits(part) {
+				add(part, " ")
+				continue
+			}
+			for _, w := range strings.Fields(part) { // a part longer than a line
+				add(w, " ")
+			}
+		}
+		if cur != "" {
+			out = append(out, cur)
+		}
+	}
+	return strings.Join(out, "\n")
 }

@@ -17,7 +17,7 @@ type degreeTicks struct {
 }
 
 // degreeSteps are the label spacings tried, in degrees (common practice for maps).
-var degreeSteps = []float64{0.1, 0.2, 0.25, 0.5, 1, 2, 2.5, 5, 10, 15, 20, 30, 45, 60, 90}
+var degreeSteps = []float64{0.1, 0.2, 0.25, 0.5, 1, 2, 2.5, 5, 10, 15, 20, 30, 45, 60, 90, 120, 180}
 
 func (d degreeTicks) Ticks(lo, hi float64) []plot.Tick {
 	if !(hi > lo) {
@@ -27,9 +27,11 @@ func (d degreeTicks) Ticks(lo, hi float64) []plot.Tick {
 	if n == 0 {
 		n = 8
 	}
+	// the finest step that places at most n labels (the labels are the multiples of
+	// the step within lo..hi)
 	step := degreeSteps[len(degreeSteps)-1]
 	for _, s := range degreeSteps {
-		if (hi-lo)/s <= float64(n) {
+		if math.Floor(hi/s+1e-9)-math.Ceil(lo/s-1e-9)+1 <= float64(n) {
 			step = s
 			break
 		}
@@ -115,6 +117,9 @@ func tickNumber(v float64) string {
 	a := math.Abs(v)
 	if a != 0 && (a < 1e-3 || a >= 1e5) {
 		return fmt.Sprintf("%.0e", v)
+	}
+	if a >= 1000 { // 10000, not 1e+04
+		return strconv.FormatFloat(v, 'f', -1, 64)
 	}
 	return strconv.FormatFloat(v, 'g', 4, 64)
 }

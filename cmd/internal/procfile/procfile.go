@@ -84,7 +84,11 @@ type File struct {
 	Base     string // cloud-base height, "" when absent
 	QC       string // the QC flag variable, "" when absent
 	QCScreen uint32 // the file's screening bits
-	Vars     map[string]Var
+	// QCMissing and QCShape are the bits input_missing and gamma_shape_assumed (for the
+	// maps' no-data classes and the gamma-shape note of their titles; Step sets
+	// QCMissingInput and QCShapeAssumed).
+	QCMissing, QCShape uint32
+	Vars               map[string]Var
 }
 
 // Var is a diagnostic with its conversion to SI.
@@ -181,6 +185,12 @@ func (p *File) bind() error {
 			return p.Errf(qcName, "has %d flag_masks and %d flag_meanings words; expected one word per mask (CF §3.5)", len(m), len(words))
 		}
 		for i, w := range words {
+			switch w {
+			case "input_missing":
+				p.QCMissing |= uint32(int64(m[i]))
+			case "gamma_shape_assumed":
+				p.QCShape |= uint32(int64(m[i]))
+			}
 			for _, s := range ScreenWords {
 				if w == s {
 					p.QCScreen |= uint32(int64(m[i]))
@@ -450,8 +460,16 @@ func (p *File) ReadBlock(name string, b Block) ([]float64, error) {
 	return out, nil
 }
 
-// step reads Block b of the named diagnostics, in SI, with screened columns set
-// to NaN. It returns the fields and the per-column QC (1 = screened).
+// Bits of the per-column QC of Step besides bit 0 (screened), which the statistics
+// ignore (summary.Options.QCMask = 1).
+const (
+	QCMissingInput = 2 // screened for a missing input
+	QCShapeAssumed = 4 // valid, with the gamma shape of --gamma-shape (no LWP standard deviation)
+)
+
+// Step reads Block b of the named diagnostics, in SI, with screened columns set
+// to NaN. It returns the fields and the per-column QC (bit 0: screened; see
+// QCMissingInput and QCShapeAssumed).
 func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, error) {
 	n := b.N * p.Scene.Cells()
 	qc := make([]uint16, n)
@@ -464,6 +482,11 @@ func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, er
 			// A missing flag (fill) carries no screening information.
 			if !math.IsNaN(v) && uint32(int64(v))&p.QCScreen != 0 {
 				qc[i] = 1
+				if uint32(int64(v))&p.QCMissing != 0 {
+					qc[i] |= QCMissingInput
+				}
+			} else if !math.IsNaN(v) && uint32(int64(v))&p.QCShape != 0 {
+				qc[i] |= QCShapeAssumed
 			}
 		}
 	}

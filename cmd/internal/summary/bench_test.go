@@ -21,9 +21,12 @@ func benchColumns(n int) (Scene, *Columns) {
 // BenchmarkAdd measures Accumulator.Add per 100 000-column scene.
 func BenchmarkAdd(b *testing.B) {
 	s, c := benchColumns(100000)
-	for _, boot := range []int{0, 100} {
-		b.Run(map[int]string{0: "noboot", 100: "boot100"}[boot], func(b *testing.B) {
-			a, _ := New(Options{Bootstrap: boot, Region: &Region{-90, 90, -180, 180}})
+	for _, k := range []struct {
+		name       string
+		boot, tile int
+	}{{"noboot", 0, 0}, {"boot100", 100, 0}, {"boot100_columns", 100, 1}} {
+		b.Run(k.name, func(b *testing.B) {
+			a, _ := New(Options{Bootstrap: k.boot, Tile: k.tile, Region: &Region{-90, 90, -180, 180}})
 			b.ReportAllocs()
 			for b.Loop() {
 				if err := a.Add(s, c); err != nil {

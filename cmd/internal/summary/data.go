@@ -34,10 +34,16 @@ type Field struct {
 // A list of cells (a mesh or sites) is a scene with NY = 1 and NX cells, whose per-cell
 // coordinates are 2-D in this sense (len(Lat) == NX); a time series at one site has
 // NY = NX = 1 and NT steps.
+//
+// Key identifies the scene for the bootstrap's tile weights (doc/science.md#summary-uncertainty):
+// a tile's weights follow from (Options.Seed, Key, time step, tile position), so scenes
+// given distinct keys may arrive in any order, and in separate accumulators that are
+// merged later, with the same result. 0 = the number of the Add call.
 type Scene struct {
 	Lat, Lon   []float64
 	Time       []float64
 	NY, NX, NT int
+	Key        uint64
 }
 
 // Cells returns NY*NX, the number of columns in one time step.
@@ -218,7 +224,11 @@ type Columns struct {
 	Rate        Field // cloud-base drizzle rate, kg m-2 s-1
 	SurfaceRate Field // surface drizzle rate, kg m-2 s-1 (same units as Rate; 0 = all evaporated)
 	BaseHeight  Field // cloud-base height above the surface, m (optional: the fraction by base height)
-	QC          []uint16
+	// POPError and RateError are the per-column retrieval standard errors of POP (1) and
+	// of the rate (kg m-2 s-1), the processed files' <name>_standard_error (optional);
+	// the bins report their means.
+	POPError, RateError Field
+	QC                  []uint16
 }
 
 func (c *Columns) check(s Scene) error {
@@ -232,6 +242,7 @@ func (c *Columns) check(s Scene) error {
 	}{
 		{c.LWP, "LWP", false}, {c.Nd, "N_d", false}, {c.POP, "POP", false},
 		{c.Rate, "drizzle rate", true}, {c.SurfaceRate, "surface drizzle rate", true}, {c.BaseHeight, "cloud-base height", true},
+		{c.POPError, "POP standard error", true}, {c.RateError, "drizzle rate standard error", true},
 	} {
 		if err := s.checkField(r.f, r.role, r.optional); err != nil {
 			return err

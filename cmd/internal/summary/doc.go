@@ -69,14 +69,19 @@
 // are set by the N_d exponent of the model's local drizzle law (Options.LawNdExponent):
 // they restate the law, while S_POP reflects the onset model.
 //
-// Optional bootstrap (Options.Bootstrap replicates, seeded and deterministic for a given
-// column order): a Poisson bootstrap over columns, in which every column enters each
-// replicate with an independent Poisson(1) weight (Hanley & MacGibbon 2006 [from memory];
-// it approximates the classical resampling bootstrap of Efron & Tibshirani 1993 [from
-// memory] and streams in bounded memory). Each replicate's bin means are fitted with the
-// same rules; the bootstrap standard error is the standard deviation of the replicate
-// slopes. It accounts for the within-bin spread of the columns rather than assuming the
-// regression model, so it is the safer error bar when the ln X̄ are not linear in ln N_d.
+// # Method: sampling errors over tiles
+//
+// Neighbouring columns are correlated, so the errors treat contiguous tiles of each time
+// step (Options.Tile cells a side, by default TileSide) as the independent units
+// (doc/science.md#summary-uncertainty): each bin mean has, besides s/sqrt(n), a tile
+// (cluster) standard error and an effective sample size; the optional bootstrap
+// (Options.Bootstrap replicates) gives every tile a Poisson(1) weight per replicate (the
+// block bootstrap over non-overlapping blocks of Carlstein 1986 and Künsch 1989, spatial
+// as in Lahiri 2003, in streaming form [from memory]), refits
+// each replicate with the same rules, and reports the replicate standard deviation and
+// the percentile interval at Options.CILevel. The weights follow from (Seed, Scene.Key,
+// tile), so the result does not depend on the order of the scenes and Merge combines
+// accumulators exactly. Options.Tile = 1 gives the column (i.i.d.) bootstrap.
 //
 // # Method: drizzle reaching the surface
 //

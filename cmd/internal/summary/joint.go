@@ -32,11 +32,19 @@ type Options struct {
 	// LawNdExponent is the N_d exponent c of the local drizzle law R = a LWP^b N_d^-c that
 	// made the rates (0 = unknown); the table and plot say that S_R and S_I follow from it.
 	LawNdExponent float64
-	// Bootstrap is the number of Poisson-bootstrap replicates; 0 = no bootstrap.
+	// Bootstrap is the number of tile-bootstrap replicates; 0 = no bootstrap.
 	Bootstrap int
-	// Seed seeds the bootstrap generator (PCG); equal seeds and equal column order give
-	// equal results.
+	// Seed seeds the bootstrap generator (PCG); equal seeds and equal scene keys give
+	// equal results, whatever the order of the scenes.
 	Seed uint64
+	// Tile is the side, in cells, of the square tiles (runs of cells for a scene of one
+	// row) that the tile standard errors and the bootstrap treat as independent units;
+	// 0 = the rule of TileSide per scene; 1 = every column independent (the i.i.d.
+	// bootstrap).
+	Tile int
+	// CILevel is the level of the bootstrap confidence intervals of the
+	// susceptibilities, in (0, 1); 0 = 0.95.
+	CILevel float64
 }
 
 const (
@@ -72,6 +80,15 @@ func (o Options) withDefaults() (Options, error) {
 	if o.MinDrizzling == 0 {
 		o.MinDrizzling = defaultMinDrizzling
 	}
+	if o.CILevel == 0 {
+		o.CILevel = 0.95
+	}
+	if !(o.CILevel > 0 && o.CILevel < 1) {
+		return o, fmt.Errorf("summary: CILevel is %g, want a level between 0 and 1 (0.95 for 95%%)", o.CILevel)
+	}
+	if o.Tile < 0 {
+		return o, fmt.Errorf("summary: Tile is %d, want 0 (automatic) or a side of 1 or more cells", o.Tile)
+	}
 	if o.MinCount < 0 || o.MinBins < 0 || o.Bootstrap < 0 {
 		return o, fmt.Errorf("summary: MinCount (%d), MinBins (%d) and Bootstrap (%d) must not be negative",
 			o.MinCount, o.MinBins, o.Bootstrap)
@@ -96,8 +113,12 @@ type binStats struct {
 	n          int
 	meanP, m2P float64 // POP
 	nR         int
-	meanR, m2R float64 // drizzle rate
-	sumPR      float64 // sum of POP over the columns with a rate
+	meanR, m2R float64        // drizzle rate
+	sumPR      float64        // sum of POP over the columns with a rate
+	tiles      int            // tiles with columns in the bin
+	clP, clR   clusterMoments // tile moments of POP and of the rate
+	nEP, nER   int            // columns with a retrieval error of POP, of the rate
+	sEP, sER   float64        // Σ of those retrieval errors
 }
 
 // fluxSum sums the surface and cloud-base drizzle rates over the columns that have both.
@@ -132,9 +153,16 @@ type Accumulator struct {
 	haveBase bool      // some scene had a surface drizzle rate and a cloud-base height
 	counts   Counts
 
-	rng  *rand.Rand
-	boot []bootBin // Bootstrap * nbins, replicate-major
-	cdf  []float64 // Poisson(1) cumulative probabilities
+	havePOPErr, haveRateErr bool // some scene had retrieval errors of POP, of the rate
+
+	boot     []bootBin  // Bootstrap * nbins, replicate-major
+	cdf      []float64  // Poisson(1) cumulative probabilities
+	tl       *tiler     // the row of tiles being gathered
+	tileSide int        // side of the tiles used (-1: varied between scenes)
+	tiles    int        // tiles folded in
+	adds     uint64     // calls of Add (the key of scenes without one)
+	pcg      *rand.PCG  // reseeded for every tile
+	rng      *rand.Rand // reads pcg
 }
 
 type bootBin struct {
@@ -157,7 +185,6 @@ func New(opt Options) (*Accumulator, error) {
 	a.surf = make([]fluxSum, a.lwp.N())
 	a.surfZ = make([]fluxSum, len(BaseHeightEdges)-1)
 	if o.Bootstrap > 0 {
-		a.rng = rand.New(rand.NewPCG(o.Seed, 0x9e3779b97f4a7c15))
 		a.boot = make([]bootBin, o.Bootstrap*nb)
 		// Poisson(1): P(k) = e^-1 / k!; 20 terms reach 1 - 1e-19.
 		p, c := math.Exp(-1), 0.0
@@ -174,8 +201,8 @@ func New(opt Options) (*Accumulator, error) {
 func (a *Accumulator) Options() Options { return a.opt }
 
 // poisson1 draws from Poisson(1) by inversion.
-func (a *Accumulator) poisson1() float64 {
-	u := a.rng.Float64()
+func (a *Accumulator) poisson1(rng *rand.Rand) float64 {
+	u := rng.Float64()
 	for k, c := range a.cdf {
 		if u < c {
 			return float64(k)
@@ -221,13 +248,43 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 	a.haveSurf = a.haveSurf || haveSurf
 	haveBase := haveSurf && len(c.BaseHeight.Data) > 0
 	a.haveBase = a.haveBase || haveBase
+	haveEP := len(c.POPError.Data) > 0
+	haveER := haveRate && len(c.RateError.Data) > 0
+	a.havePOPErr = a.havePOPErr || haveEP
+	a.haveRateErr = a.haveRateErr || haveER
 	nNd := a.nd.N()
 	a.counts.Seen += s.NT * cells
+	a.adds++
+	key := s.Key
+	if key == 0 {
+		key = a.adds | 1<<63
+	}
+	tl := a.tilerFor(s)
+	side, oneRow := tl.side, s.NY == 1
 	for t := 0; t < s.NT; t++ {
 		if !timeSelected(s, a.opt.Window, t) {
 			continue
 		}
+		// (x, y) of cell k, its tile column tx, and the positions within the tile
+		x, y, tx, xr, yr := -1, 0, 0, -1, 0
 		for k := 0; k < cells; k++ {
+			x++
+			xr++
+			switch {
+			case x == s.NX: // next row (never in a scene of one row)
+				x, xr, tx = 0, 0, 0
+				y++
+				if yr++; yr == side {
+					a.flushRow(tl, key, t, y/side-1)
+					yr = 0
+				}
+			case xr == side:
+				xr = 0
+				tx++
+				if oneRow {
+					a.flushTile(tl, key, t, 0, tx-1, 0)
+				}
+			}
 			if !in[k] {
 				continue
 			}
@@ -283,23 +340,28 @@ func (a *Accumulator) Add(s Scene, c *Columns) error {
 				st.m2R += d * (rate - st.meanR)
 				st.sumPR += pop
 			}
-			if a.boot != nil {
-				nb := len(a.bins)
-				for r := 0; r < a.opt.Bootstrap; r++ {
-					w := a.poisson1()
-					if w == 0 {
-						continue
-					}
-					bb := &a.boot[r*nb+b]
-					bb.w += w
-					bb.wp += w * pop
-					if rateOK {
-						bb.wR += w
-						bb.wr += w * rate
-						bb.wpr += w * pop
-					}
+			if haveEP {
+				if e := c.POPError.Data[idx]; e >= 0 && !math.IsInf(e, 0) {
+					st.nEP++
+					st.sEP += e
 				}
 			}
+			if haveER && rateOK {
+				if e := c.RateError.Data[idx]; e >= 0 && !math.IsInf(e, 0) {
+					st.nER++
+					st.sER += e
+				}
+			}
+			if oneRow {
+				tl.put(0, b, pop, rate, rateOK)
+			} else {
+				tl.put(tx, b, pop, rate, rateOK)
+			}
+		}
+		if oneRow {
+			a.flushTile(tl, key, t, 0, (s.NX-1)/side, 0)
+		} else {
+			a.flushRow(tl, key, t, (s.NY-1)/side)
 		}
 	}
 	return nil

@@ -18,6 +18,20 @@ type Joint struct {
 	// intensities. NaN when the bin's expected drizzling columns n × mean POP are fewer
 	// than Options.MinDrizzling.
 	MeanCond []float64
+	// Tiles is the number of tiles with columns in the bin (doc/science.md#summary-uncertainty).
+	Tiles []int
+	// TileSEPOP and TileSERate are the standard errors of MeanPOP and MeanRate with the
+	// tiles, not the columns, as independent units (cluster standard errors): they hold
+	// under spatial correlation shorter than a tile. NaN for fewer than 2 tiles.
+	TileSEPOP, TileSERate []float64
+	// NEffPOP and NEffRate are the effective sample sizes s²/TileSE², the number of
+	// independent columns that would give the tile standard error, at most the count.
+	NEffPOP, NEffRate []float64
+	// ErrPOP and ErrRate are the mean retrieval standard errors of the columns in the bin
+	// (from the processed files' <name>_standard_error); NaN when absent.
+	ErrPOP, ErrRate []float64
+	// HaveErrPOP and HaveErrRate say whether any scene had those retrieval errors.
+	HaveErrPOP, HaveErrRate bool
 }
 
 // Index returns the flat index of bin (i, j).
@@ -25,12 +39,15 @@ func (j *Joint) Index(iLWP, jNd int) int { return iLWP*j.NNd + jNd }
 
 // Slope is one susceptibility estimate, S = -d ln X / d ln N_d, for one LWP bin.
 type Slope struct {
-	S       float64 // susceptibility (1); NaN when fewer than MinBins N_d bins qualify
-	SE      float64 // regression standard error of S (1)
-	BootSE  float64 // bootstrap standard error of S (1); NaN without bootstrap
-	BootN   int     // bootstrap replicates in which the slope was defined
-	Bins    int     // N_d bins used in the fit
-	Columns int     // columns in those bins
+	S      float64 // susceptibility (1); NaN when fewer than MinBins N_d bins qualify
+	SE     float64 // regression standard error of S (1)
+	BootSE float64 // bootstrap standard error of S (1); NaN without bootstrap
+	BootN  int     // bootstrap replicates in which the slope was defined
+	// CILow and CIHigh bound the bootstrap percentile confidence interval of S at
+	// Options.CILevel; NaN without bootstrap or with fewer than 20 defined replicates.
+	CILow, CIHigh float64
+	Bins          int // N_d bins used in the fit
+	Columns       int // columns in those bins
 }
 
 // Fraction is the flux-weighted fraction of drizzle reaching the surface: a ratio of
@@ -69,6 +86,9 @@ type Result struct {
 	HaveBase      bool
 	Counts        Counts
 	Options       Options // the options in use, defaults filled in
+	// TileSide is the side of the tiles in cells (-1 when scenes of different sizes got
+	// different automatic sides); Tiles the number of tiles with binned columns.
+	TileSide, Tiles int
 }
 
 // Result computes the statistics gathered so far. It may be called more than once and
@@ -77,12 +97,14 @@ func (a *Accumulator) Result() *Result {
 	nl, nn := a.lwp.N(), a.nd.N()
 	nb := nl * nn
 	r := &Result{
-		LWP: a.lwp, Nd: a.nd, Counts: a.counts, Options: a.opt,
+		LWP: a.lwp, Nd: a.nd, Counts: a.counts, Options: a.opt, TileSide: a.tileSide, Tiles: a.tiles,
 		Joint: Joint{
 			NLWP: nl, NNd: nn,
 			Count: make([]int, nb), MeanPOP: make([]float64, nb), SEPOP: make([]float64, nb),
 			CountRate: make([]int, nb), MeanRate: make([]float64, nb), SERate: make([]float64, nb),
-			MeanCond: make([]float64, nb),
+			MeanCond: make([]float64, nb), Tiles: make([]int, nb),
+			TileSEPOP: make([]float64, nb), TileSERate: make([]float64, nb), NEffPOP: make([]float64, nb), NEffRate: make([]float64, nb),
+			ErrPOP: make([]float64, nb), ErrRate: make([]float64, nb), HaveErrPOP: a.havePOPErr, HaveErrRate: a.haveRateErr,
 		},
 	}
 	r.LWP.Edges = append([]float64(nil), a.lwp.Edges...)
@@ -106,6 +128,18 @@ func (a *Accumulator) Result() *Result {
 		}
 		if st.nR > 1 {
 			jt.SERate[b] = math.Sqrt(st.m2R / float64(st.nR-1) / float64(st.nR))
+		}
+		jt.Tiles[b] = st.tiles
+		jt.TileSEPOP[b] = st.clP.se(st.meanP, float64(st.n))
+		jt.TileSERate[b] = st.clR.se(st.meanR, float64(st.nR))
+		jt.NEffPOP[b] = effN(st.n, jt.SEPOP[b], jt.TileSEPOP[b])
+		jt.NEffRate[b] = effN(st.nR, jt.SERate[b], jt.TileSERate[b])
+		jt.ErrPOP[b], jt.ErrRate[b] = nan, nan
+		if st.nEP > 0 {
+			jt.ErrPOP[b] = st.sEP / float64(st.nEP)
+		}
+		if st.nER > 0 {
+			jt.ErrRate[b] = st.sER / float64(st.nER)
 		}
 	}
 
@@ -165,9 +199,18 @@ func (a *Accumulator) Result() *Result {
 			}
 		}
 		for i := 0; i < nl; i++ {
-			r.SPOP[i].BootSE, r.SPOP[i].BootN = sd(sp[i]), len(sp[i])
-			r.SRate[i].BootSE, r.SRate[i].BootN = sd(sr[i]), len(sr[i])
-			r.SCond[i].BootSE, r.SCond[i].BootN = sd(sc[i]), len(sc[i])
+			for _, x := range []struct {
+				s *Slope
+				v []float64
+			}{{&r.SPOP[i], sp[i]}, {&r.SRate[i], sr[i]}, {&r.SCond[i], sc[i]}} {
+				x.s.BootSE, x.s.BootN = sd(x.v), len(x.v)
+				// A percentile interval needs enough replicates to reach its tails and a
+				// slope defined in nearly all of them (a slope missing in many replicates
+				// would bias the interval towards the replicates that kept its bins).
+				if len(x.v) >= minCIReplicates && float64(len(x.v)) >= 0.9*float64(B) {
+					x.s.CILow, x.s.CIHigh = percentileInterval(x.v, a.opt.CILevel)
+				}
+			}
 		}
 	}
 
@@ -184,6 +227,23 @@ func (a *Accumulator) Result() *Result {
 		r.SurfaceByBase[i] = newFraction(a.surfZ[i])
 	}
 	return r
+}
+
+// minCIReplicates is the least number of replicates with a defined slope for a
+// percentile interval (common practice: far fewer leave the 2.5 % tail to one or two
+// values).
+const minCIReplicates = 20
+
+// effN returns the effective sample size n (se/tileSE)², capped at n; NaN when either
+// error is undefined.
+func effN(n int, se, tileSE float64) float64 {
+	if math.IsNaN(se) || math.IsNaN(tileSE) || n < 2 {
+		return math.NaN()
+	}
+	if !(tileSE > 0) {
+		return float64(n)
+	}
+	return math.Min(float64(n), float64(n)*(se/tileSE)*(se/tileSE))
 }
 
 // sd returns the sample standard deviation, NaN for fewer than 2 values.
@@ -227,7 +287,7 @@ func (f fitter) slope(n, drz, mean []float64) Slope {
 			cols += int(n[j])
 		}
 	}
-	s := Slope{S: math.NaN(), SE: math.NaN(), BootSE: math.NaN(), Bins: len(x), Columns: cols}
+	s := Slope{S: math.NaN(), SE: math.NaN(), BootSE: math.NaN(), CILow: math.NaN(), CIHigh: math.NaN(), Bins: len(x), Columns: cols}
 	if len(x) < f.minBins {
 		return s
 	}

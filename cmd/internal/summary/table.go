@@ -100,17 +100,59 @@ func WriteTable(w io.Writer, r *Result) error {
 		return fmt.Sprintf("%.3g%s", jt.MeanCond[b]*rateToMmPerDay, mark(b))
 	})
 
+	// Sampling errors of the bin means: tile standard errors (doc/science.md#summary-uncertainty).
+	matrix(fmt.Sprintf("Standard error of mean POP with tiles of %s as independent units (1); . = fewer than 2 tiles", tileText(r)), func(b int) string {
+		if math.IsNaN(jt.TileSEPOP[b]) {
+			return "."
+		}
+		return fmt.Sprintf("%.2g%s", jt.TileSEPOP[b], mark(b))
+	})
+	matrix("Effective number of independent columns of mean POP, n (SE_iid / SE_tile)^2, at most n", func(b int) string {
+		if math.IsNaN(jt.NEffPOP[b]) {
+			return "."
+		}
+		return fmt.Sprintf("%.0f%s", jt.NEffPOP[b], mark(b))
+	})
+	matrix("Standard error of mean rate with tiles as independent units (mm day-1)", func(b int) string {
+		if math.IsNaN(jt.TileSERate[b]) {
+			return "."
+		}
+		return fmt.Sprintf("%.2g%s", jt.TileSERate[b]*rateToMmPerDay, mark(b))
+	})
+	if jt.HaveErrPOP {
+		matrix("Mean retrieval standard error of POP of the columns (1), from drizzle_probability_standard_error", func(b int) string {
+			if math.IsNaN(jt.ErrPOP[b]) {
+				return "."
+			}
+			return fmt.Sprintf("%.2g%s", jt.ErrPOP[b], mark(b))
+		})
+	}
+	if jt.HaveErrRate {
+		matrix("Mean retrieval standard error of the rate of the columns (mm day-1), from cloud_base_drizzle_rate_standard_error", func(b int) string {
+			if math.IsNaN(jt.ErrRate[b]) {
+				return "."
+			}
+			return fmt.Sprintf("%.2g%s", jt.ErrRate[b]*rateToMmPerDay, mark(b))
+		})
+	}
+
 	fmt.Fprintf(bw, "\nPrecipitation susceptibility S = -d ln X / d ln N_d per LWP bin\n")
 	fmt.Fprintf(bw, "(weighted least squares over N_d bins with >= %d columns and >= %g drizzling columns expected, at least %d bins; SE = regression standard error",
 		minCount, r.Options.MinDrizzling, r.Options.MinBins)
-	if r.Options.Bootstrap > 0 {
-		fmt.Fprintf(bw, ", boot = Poisson-bootstrap standard error over %d replicates, seed %d", r.Options.Bootstrap, r.Options.Seed)
+	boot := r.Options.Bootstrap > 0
+	if boot {
+		fmt.Fprintf(bw, ";\nboot = tile-bootstrap standard error and CI = %g%% percentile interval over %d replicates, seed %d, tiles of %s resampled",
+			100*r.Options.CILevel, r.Options.Bootstrap, r.Options.Seed, tileText(r))
 	}
 	fmt.Fprintf(bw, ")\n")
 	head := []string{"S_POP", "S_R", "S_I"}
 	fmt.Fprintf(bw, "%-13s", "LWP (g m-2)")
 	for _, h := range head {
-		fmt.Fprintf(bw, " | %7s %6s %6s %4s", h, "SE", "boot", "bins")
+		if boot {
+			fmt.Fprintf(bw, " | %7s %6s %6s %15s %4s", h, "SE", "boot", "CI", "bins")
+		} else {
+			fmt.Fprintf(bw, " | %7s %6s %4s", h, "SE", "bins")
+		}
 	}
 	fmt.Fprintln(bw)
 	num := func(v float64, f string) string {
@@ -123,9 +165,20 @@ func WriteTable(w io.Writer, r *Result) error {
 		lo, hi := r.LWP.Bounds(i)
 		fmt.Fprintf(bw, "%-13s", rangeLabel(lo*lwpToGm2, hi*lwpToGm2))
 		for _, s := range []Slope{r.SPOP[i], r.SRate[i], r.SCond[i]} {
-			fmt.Fprintf(bw, " | %7s %6s %6s %4d", num(s.S, "%.3f"), num(s.SE, "%.3f"), num(s.BootSE, "%.3f"), s.Bins)
+			if boot {
+				ci := "-"
+				if !math.IsNaN(s.CILow) {
+					ci = fmt.Sprintf("%.3f..%.3f", s.CILow, s.CIHigh)
+				}
+				fmt.Fprintf(bw, " | %7s %6s %6s %15s %4d", num(s.S, "%.3f"), num(s.SE, "%.3f"), num(s.BootSE, "%.3f"), ci, s.Bins)
+			} else {
+				fmt.Fprintf(bw, " | %7s %6s %4d", num(s.S, "%.3f"), num(s.SE, "%.3f"), s.Bins)
+			}
 		}
 		fmt.Fprintln(bw)
+	}
+	if !boot {
+		fmt.Fprintf(bw, "The regression SE assumes independent bin means; with spatially correlated scenes use --bootstrap for intervals over tiles.\n")
 	}
 	fmt.Fprintf(bw, "S_R = S_POP + S_I when the same bins are used (Terai et al. 2012 decomposition).\n")
 	fmt.Fprintf(bw, "%s\n", LawNote(r.Options.LawNdExponent))
@@ -159,6 +212,19 @@ func WriteTable(w io.Writer, r *Result) error {
 	}
 	fmt.Fprintf(bw, "Research diagnostics only; not for operational forecasting or flight-safety decisions.\n")
 	return bw.Flush()
+}
+
+// tileText describes the tiles: "9 x 9 cells (243 tiles)".
+func tileText(r *Result) string {
+	switch {
+	case r.TileSide < 0:
+		return fmt.Sprintf("the automatic side of each scene (%d tiles)", r.Tiles)
+	case r.TileSide == 0:
+		return "no tiles"
+	case r.TileSide == 1:
+		return fmt.Sprintf("single columns (%d)", r.Tiles)
+	}
+	return fmt.Sprintf("%d x %d cells (%d tiles)", r.TileSide, r.TileSide, r.Tiles)
 }
 
 // LawNote is the sentence that says where S_R and S_I come from: the rates are a model,

@@ -15,8 +15,11 @@ type Var struct {
 	Comment      string
 	Bounds       string // name of the bounds variable, for coordinates
 	Ancillary    string // ancillary_variables attribute
-	Int          bool
-	Data         []float64
+	// ConfidenceLevel, when > 0, is the level of a confidence limit (attribute
+	// confidence_level).
+	ConfidenceLevel float64
+	Int             bool
+	Data            []float64
 }
 
 // Dimension names of the summary file.
@@ -77,6 +80,34 @@ func (r *Result) Variables() []Var {
 			LongName: "conditional drizzle rate I = mean rate / mean drizzle probability",
 			Comment:  fmt.Sprintf("rate of the precipitating part; [Terai2012] decomposition, from memory; missing where the bin's expected drizzling columns (sum of POP) are fewer than %g", r.Options.MinDrizzling), Data: jt.MeanCond},
 	}
+	// Sampling errors with tiles as the independent units (doc/science.md#summary-uncertainty).
+	tileNote := fmt.Sprintf("cluster standard error with contiguous tiles of %s as the independent units: sqrt(T/(T-1) sum_t (S_t - mean n_t)^2) / n over the T tiles with columns in the bin (S_t, n_t: sum and count of the tile's columns); Cochran (1977) ratio estimator, from memory; holds when the spatial correlation is shorter than a tile", tileText(r))
+	// vs[5] is drizzle_probability_mean, vs[8] cloud_base_drizzle_rate_mean
+	vs[5].Ancillary += " drizzle_probability_mean_tile_standard_error drizzle_probability_mean_effective_count"
+	vs[8].Ancillary += " cloud_base_drizzle_rate_mean_tile_standard_error cloud_base_drizzle_rate_mean_effective_count"
+	if jt.HaveErrPOP {
+		vs[5].Ancillary += " drizzle_probability_mean_retrieval_error"
+	}
+	if jt.HaveErrRate {
+		vs[8].Ancillary += " cloud_base_drizzle_rate_mean_retrieval_error"
+	}
+	vs = append(vs,
+		Var{Name: "tile_count", Dims: two, Units: "1", Int: true, LongName: "number of tiles with valid columns in the bin", Data: ints(jt.Tiles)},
+		Var{Name: "drizzle_probability_mean_tile_standard_error", Dims: two, Units: "1", LongName: "standard error of the mean drizzle probability with tiles as independent units", Comment: tileNote, Ancillary: "tile_count", Data: jt.TileSEPOP},
+		Var{Name: "drizzle_probability_mean_effective_count", Dims: two, Units: "1", LongName: "effective number of independent columns of the mean drizzle probability",
+			Comment: "n (standard_error / tile_standard_error)^2, at most n", Data: jt.NEffPOP},
+		Var{Name: "cloud_base_drizzle_rate_mean_tile_standard_error", Dims: two, Units: "kg m-2 s-1", LongName: "standard error of the mean cloud-base drizzle rate with tiles as independent units", Comment: tileNote, Ancillary: "tile_count", Data: jt.TileSERate},
+		Var{Name: "cloud_base_drizzle_rate_mean_effective_count", Dims: two, Units: "1", LongName: "effective number of independent columns of the mean cloud-base drizzle rate",
+			Comment: "n (standard_error / tile_standard_error)^2, at most n", Data: jt.NEffRate},
+	)
+	if jt.HaveErrPOP {
+		vs = append(vs, Var{Name: "drizzle_probability_mean_retrieval_error", Dims: two, Units: "1", LongName: "mean retrieval standard error of the drizzle probability of the columns in the bin",
+			Comment: "mean of drizzle_probability_standard_error of the processed files over the bin's columns; the error of one column, not of the bin mean", Data: jt.ErrPOP})
+	}
+	if jt.HaveErrRate {
+		vs = append(vs, Var{Name: "cloud_base_drizzle_rate_mean_retrieval_error", Dims: two, Units: "kg m-2 s-1", LongName: "mean retrieval standard error of the cloud-base drizzle rate of the columns in the bin",
+			Comment: "mean of cloud_base_drizzle_rate_standard_error of the processed files over the bin's columns; the error of one column, not of the bin mean", Data: jt.ErrRate})
+	}
 	for _, s := range []struct {
 		name, what string
 		sl         []Slope
@@ -91,7 +122,7 @@ func (r *Result) Variables() []Var {
 		}
 		anc := s.name + "_standard_error " + s.name + "_bins"
 		if r.Options.Bootstrap > 0 {
-			anc += " " + s.name + "_bootstrap_standard_error"
+			anc += " " + s.name + "_bootstrap_standard_error " + s.name + "_lower_limit " + s.name + "_upper_limit"
 		}
 		vs = append(vs,
 			Var{Name: s.name, Dims: one, Units: "1", LongName: "precipitation susceptibility -d ln X / d ln N_d of the " + s.what, Comment: fit, Ancillary: anc, Data: S},
@@ -99,10 +130,20 @@ func (r *Result) Variables() []Var {
 			Var{Name: s.name + "_bins", Dims: one, Units: "1", Int: true, LongName: "number of N_d bins in the fit of " + s.name, Data: nb},
 		)
 		if r.Options.Bootstrap > 0 {
+			lo, hi := make([]float64, len(s.sl)), make([]float64, len(s.sl))
+			for i, x := range s.sl {
+				lo[i], hi[i] = x.CILow, x.CIHigh
+			}
+			boot := fmt.Sprintf("tile bootstrap: contiguous tiles of %s resampled with Poisson(1) weights, %d replicates, seed %d (block bootstrap over non-overlapping blocks, Carlstein 1986 and Künsch 1989; Lahiri 2003 for spatial blocks); replicates with a defined slope in %s_bootstrap_count",
+				tileText(r), r.Options.Bootstrap, r.Options.Seed, s.name)
+			ci := fmt.Sprintf("%s; percentile interval (Efron), missing with fewer than %d replicates or a slope defined in fewer than 90%% of them", boot, minCIReplicates)
 			vs = append(vs, Var{Name: s.name + "_bootstrap_standard_error", Dims: one, Units: "1",
-				LongName: "Poisson-bootstrap standard error of " + s.name,
-				Comment:  fmt.Sprintf("%d replicates, seed %d; replicates with a defined slope in %s_bootstrap_count", r.Options.Bootstrap, r.Options.Seed, s.name), Data: bse},
-				Var{Name: s.name + "_bootstrap_count", Dims: one, Units: "1", Int: true, LongName: "bootstrap replicates with a defined " + s.name, Data: nboot})
+				LongName: "tile-bootstrap standard error of " + s.name, Comment: boot, Data: bse},
+				Var{Name: s.name + "_bootstrap_count", Dims: one, Units: "1", Int: true, LongName: "bootstrap replicates with a defined " + s.name, Data: nboot},
+				Var{Name: s.name + "_lower_limit", Dims: one, Units: "1", LongName: fmt.Sprintf("lower limit of the %g%% confidence interval of %s", 100*r.Options.CILevel, s.name),
+					Comment: ci, ConfidenceLevel: r.Options.CILevel, Data: lo},
+				Var{Name: s.name + "_upper_limit", Dims: one, Units: "1", LongName: fmt.Sprintf("upper limit of the %g%% confidence interval of %s", 100*r.Options.CILevel, s.name),
+					Comment: ci, ConfidenceLevel: r.Options.CILevel, Data: hi})
 		}
 	}
 	if r.HaveSurface {
@@ -135,6 +176,13 @@ func (r *Result) Attributes() map[string]string {
 		"fit_min_drizzling_columns": fmt.Sprint(r.Options.MinDrizzling),
 		"qc_mask":                   fmt.Sprint(r.Options.QCMask),
 		"bootstrap_replicates":      fmt.Sprint(r.Options.Bootstrap),
+		"tile_side_cells":           fmt.Sprint(r.TileSide),
+		"tile_count":                fmt.Sprint(r.Tiles),
+		"tile_rule":                 "standard errors of the bin means and the bootstrap of the susceptibilities treat contiguous tiles of each time step as independent units; side " + tileText(r) + "; automatic side round(N^(1/(d+2))) for N cells in d dimensions (see doc/science.md of warmrain)",
+	}
+	if r.Options.Bootstrap > 0 {
+		a["bootstrap_seed"] = fmt.Sprint(r.Options.Seed)
+		a["confidence_level"] = fmt.Sprint(r.Options.CILevel)
 	}
 	if r.HaveSurface {
 		a["surface_fraction_all"] = fmt.Sprint(r.Surface.Value)
