@@ -30,6 +30,14 @@ func WriteAtomic(path string, replace bool, write func(tmp string) error) error 
 		os.Remove(tmp)
 		return err
 	}
+	return commitTemp(tmp, path, replace)
+}
+
+// commitTemp is the second half of WriteAtomic, for writers that fill their
+// temporary file over several calls (DatasetWriter): it syncs the complete
+// temporary file tmp, moves it to path (placeFile: no replace unless asked) and
+// syncs the folder. On error tmp is removed.
+func commitTemp(tmp, path string, replace bool) error {
 	if f, err := os.Open(tmp); err == nil {
 		serr := f.Sync()
 		f.Close()

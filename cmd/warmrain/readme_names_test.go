@@ -70,7 +70,7 @@ func TestReadmeNamesDeclared(t *testing.T) {
 			}
 		}
 	}
-	code := codeWords(t, filepath.Join("..", ".."))
+	code, suffixes := codeWords(t, filepath.Join("..", ".."))
 	var table *cflint.Table
 	if p, err := cflint.FindTable(); err == nil {
 		table, _ = cflint.LoadTable(p)
@@ -101,7 +101,7 @@ func TestReadmeNamesDeclared(t *testing.T) {
 				continue
 			}
 		}
-		if code[n] {
+		if code[n] || composed(n, code, known, suffixes) {
 			continue
 		}
 		t.Errorf("README names `%s`, which is no QC flag, output, parameter attribute, input name, CF standard name or name in the code", n)
@@ -117,11 +117,27 @@ func TestReadmeNamesDeclared(t *testing.T) {
 	}
 }
 
+// composed reports whether n is a name the code builds from a name and a suffix literal
+// ("_lower_limit" after a statistic's name).
+func composed(n string, code map[string]bool, known map[string]string, suffixes map[string]bool) bool {
+	for s := range suffixes {
+		if p, ok := strings.CutSuffix(n, s); ok && p != "" {
+			if _, k := known[p]; k || code[p] {
+				return true
+			}
+		}
+	}
+	return false
+}
+
 // codeWords returns the identifier-like words of the string literals (and struct tags) of
-// the repository's non-test Go files: the names the code writes or reads.
-func codeWords(t *testing.T, root string) map[string]bool {
+// the repository's non-test Go files: the names the code writes or reads; and the
+// suffixes the code appends to names (literals that start with "_", such as "_count").
+func codeWords(t *testing.T, root string) (map[string]bool, map[string]bool) {
 	t.Helper()
 	words := map[string]bool{}
+	suffixes := map[string]bool{}
+	suffix := regexp.MustCompile(`^_[a-z0-9_]*[a-z0-9]`)
 	word := regexp.MustCompile(`[A-Za-z][A-Za-z0-9_]*`)
 	fset := token.NewFileSet()
 	err := filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
@@ -150,6 +166,9 @@ func codeWords(t *testing.T, root string) map[string]bool {
 				for _, w := range word.FindAllString(s, -1) {
 					words[strings.ToLower(w)] = true
 				}
+				if m := suffix.FindString(s); m != "" {
+					suffixes[m] = true
+				}
 			}
 			return true
 		})
@@ -158,5 +177,5 @@ func codeWords(t *testing.T, root string) map[string]bool {
 	if err != nil {
 		t.Fatal(err)
 	}
-	return words
+	return words, suffixes
 }

@@ -12,6 +12,9 @@ import (
 // flight between the I/O thread and the workers) write the same values in every output. It
 // is also the in-process concurrency test that .ci/race.sh runs under the race detector.
 func TestProcessThreadsAgree(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	in := samplePath(t)
 	dir := t.TempDir()
 	one, four := filepath.Join(dir, "one.nc"), filepath.Join(dir, "four.nc")
