@@ -61,6 +61,10 @@ type Binding struct {
 	// Note is set when the binding needs a word of caution (a lower-priority
 	// standard name, flag codes left unscreened).
 	Note string
+	// Relative is set for a standard-error role (RoleRule.ErrorOf) given as a fraction of
+	// its role's value: a percentage (%, percent) or, for LWP and r_e, units of 1. Its
+	// values are then fractions (Canonical "1"): the standard error is value × the role's.
+	Relative bool
 
 	varID int
 	vi    *VarInfo // the variable, with its source
@@ -298,6 +302,9 @@ func (in *Input) roleUsed(r Role) bool {
 	case RoleNd:
 		return in.bindings[RoleRe.Index()] == nil
 	}
+	if of := r.Rule().ErrorOf; of != "" {
+		return in.bindings[of.Index()] != nil
+	}
 	return true
 }
 
@@ -335,15 +342,22 @@ func (in *Input) bind() error {
 				units, unitsFrom = o.Units, "override"
 			}
 		} else {
+			if rule.ErrorOf != "" && !in.roleUsed(rule.Role) {
+				continue // an uncertainty of an input the run does not read
+			}
 			cands := in.fitRank(rule.Role, highestRank(in.candidates(rule, bound)))
 			if len(cands) > 1 {
 				vs := make([]*VarInfo, len(cands))
 				for k, c := range cands {
 					vs[k] = c.v
 				}
-				if !rule.Required && !in.roleUsed(rule.Role) {
-					in.Warnings = append(in.Warnings, fmt.Sprintf("%s: %d variables could be the %s (%s): %s; none is taken, since the diagnostics do not use it here (bind one with %s to have it read)",
-						in.Path, len(cands), rule.Description, rule.Role, names(vs), in.opt.OverrideHint))
+				if !rule.Required && (!in.roleUsed(rule.Role) || rule.ErrorOf != "") {
+					why := "since the diagnostics do not use it here"
+					if rule.ErrorOf != "" {
+						why = "so the outputs carry no error from it"
+					}
+					in.Warnings = append(in.Warnings, fmt.Sprintf("%s: %d variables could be the %s (%s): %s; none is taken, %s (bind one with %s to have it read)",
+						in.Path, len(cands), rule.Description, rule.Role, names(vs), why, in.opt.OverrideHint))
 					continue
 				}
 				return &VarError{File: in.Path, Problem: fmt.Sprintf("%d variables could be the %s (%s): %s; choose one with %s, e.g. %s=%s",
@@ -385,6 +399,18 @@ func (in *Input) bind() error {
 			b.Decoder, b.Packing = dec, dec.Describe()
 			in.bindings[i] = b
 			bound[v.Name] = rule.Role
+			continue
+		}
+		if rule.ErrorOf != "" {
+			_, byOverride := over[rule.Role]
+			ok, err := in.bindError(b, v, units, unitsFrom, byOverride)
+			if err != nil {
+				return err
+			}
+			if ok {
+				in.bindings[i] = b
+				bound[v.Name] = rule.Role
+			}
 			continue
 		}
 		if unitsFrom == "attribute" {
@@ -433,6 +459,64 @@ func (in *Input) bind() error {
 			in.Path, in.bindings[RoleLWP.Index()].Var, in.GridMeanWhy, in.opt.OverrideHint))
 	}
 	return in.bindMasks(bound)
+}
+
+// isPercent reports whether units name a percentage ("%", "percent", any case).
+func isPercent(units string) bool {
+	u := strings.ToLower(strings.TrimSpace(units))
+	return u == "%" || u == "percent" || u == "percentage"
+}
+
+// bindError sets the units of a standard-error binding b of variable v: a percentage (or,
+// for LWP and r_e, units of 1) makes it relative, other units convert to the role's. A
+// problem is an error when the user bound the variable, else a warning that leaves the
+// role unbound (false): a product's uncertainty never stops a run that can do without it.
+func (in *Input) bindError(b *Binding, v *VarInfo, units, unitsFrom string, byOverride bool) (bool, error) {
+	rule := b.Role.Rule()
+	fail := func(err error) (bool, error) {
+		if byOverride {
+			return false, err
+		}
+		in.Warnings = append(in.Warnings, fmt.Sprintf("%v; the %s is not used", err, rule.Description))
+		return false, nil
+	}
+	if unitsFrom == "attribute" {
+		units = strings.TrimSpace(v.Text("units"))
+		// A dimensionless uncertainty whose long_name says percent is a percentage: the
+		// MODIS level-2 "Relative Uncertainty (Percent)" (its level-3 means are absolute).
+		switch strings.ToLower(units) {
+		case "", "1", "none", "unitless", "dimensionless":
+			if strings.Contains(strings.ToLower(v.Text("long_name")), "percent") {
+				units = "percent"
+			}
+		}
+		if units == "" {
+			return fail(varErr(ErrUnits, in.Path, v.Name, "(%s) has no units attribute; expected units convertible to %q or a percentage; declare them with %s, e.g. %s=%s:%%",
+				rule.Role, rule.Units, in.opt.OverrideHint, rule.Role, v.Name))
+		}
+	}
+	to := rule.Units
+	if units == "fraction" {
+		units = "1"
+	}
+	if isPercent(units) || (rule.Units != "1" && units == "1") {
+		to, b.Relative = "1", true
+		if isPercent(units) {
+			units = "percent"
+		}
+	}
+	conv, err := NewConverter(units, to)
+	if err != nil {
+		return fail(varErr(ErrUnits, in.Path, v.Name, "(%s) has units %q (%s); expected units convertible to %q or a percentage (%%, percent): %v",
+			rule.Role, units, unitsFrom, rule.Units, err))
+	}
+	dec, err := NewDecoder(in.Path, v, conv)
+	if err != nil {
+		return fail(err)
+	}
+	b.Canonical = to
+	b.UnitsGiven, b.UnitsFrom, b.Conv, b.Decoder, b.Packing = units, unitsFrom, conv, dec, dec.Describe()
+	return true, nil
 }
 
 // checkRequired accepts missing LWP when tau and r_e can give it, and missing r_e
@@ -649,6 +733,9 @@ func (in *Input) byStandardName(rule RoleRule, bound map[string]Role) []cand {
 		}
 		return out
 	}
+	if rule.ErrorOf != "" {
+		return in.byErrorName(rule, bound)
+	}
 	for _, v := range in.dataVars() {
 		if _, b := bound[v.Name]; b {
 			continue
@@ -661,6 +748,42 @@ func (in *Input) byStandardName(rule RoleRule, bound map[string]Role) []cand {
 			continue
 		}
 		out = append(out, cand{v: v, reason: "standard_name " + name})
+	}
+	return out
+}
+
+// byErrorName finds a standard-error role's variable by its role's standard names with
+// the standard_error modifier, then among the ancillary_variables of its role's variable
+// (one with the standard_error modifier or an uncertainty's name: isUncertainty).
+func (in *Input) byErrorName(rule RoleRule, bound map[string]Role) []cand {
+	base := rule.ErrorOf.Rule()
+	var out []cand
+	for _, v := range in.dataVars() {
+		if _, b := bound[v.Name]; b {
+			continue
+		}
+		name, mods := splitStandardName(v.Text("standard_name"))
+		if slices.Contains(base.StandardNames, name) && slices.Contains(mods, "standard_error") {
+			out = append(out, cand{v: v, reason: fmt.Sprintf("standard_name %q", v.Text("standard_name"))})
+		}
+	}
+	if len(out) > 0 {
+		return out
+	}
+	lb := in.bindings[rule.ErrorOf.Index()]
+	if lb == nil {
+		return nil
+	}
+	lv := in.Info.Var(lb.Var)
+	for _, anc := range strings.Fields(lv.Text("ancillary_variables")) {
+		v := in.Info.Resolve(lv, anc)
+		if v == nil || !v.Type.Numeric() || !isUncertainty(v) {
+			continue
+		}
+		if _, b := bound[v.Name]; b {
+			continue
+		}
+		out = append(out, cand{v: v, reason: fmt.Sprintf("named in %s's ancillary_variables as an uncertainty", lb.Var)})
 	}
 	return out
 }
@@ -697,7 +820,7 @@ func (in *Input) byName(rule RoleRule, list []string, what string, bound map[str
 	for _, n := range list {
 		var out []cand
 		for _, v := range vars {
-			if _, b := bound[v.Name]; b || isUncertainty(v) || !strings.EqualFold(v.Base(), n) {
+			if _, b := bound[v.Name]; b || (isUncertainty(v) && rule.ErrorOf == "") || !strings.EqualFold(v.Base(), n) {
 				continue
 			}
 			r := fmt.Sprintf("variable name %q is %s of the %s", v.Name, what, rule.Description)
@@ -723,7 +846,8 @@ func dimsString(v *VarInfo) string {
 
 var roleLabel = map[Role]string{RoleLWP: "LWP", RoleRe: "r_e", RoleTau: "tau", RoleCTT: "CTT", RoleCTP: "CTP", RoleCTH: "CTH",
 	RoleCloudFraction: "cloud fraction", RoleLWPSD: "LWP standard deviation", RoleNd: "the droplet number", RolePhase: "the phase flag",
-	RoleMultilayer: "the multi-layer flag", RoleQuality1: "a masked variable", RoleQuality2: "a masked variable",
+	RoleMultilayer: "the multi-layer flag", RoleLWPSE: "the LWP's standard error", RoleReSE: "r_e's standard error",
+	RoleTauSE: "tau's standard error", RoleQuality1: "a masked variable", RoleQuality2: "a masked variable",
 	RoleQuality3: "a masked variable", RoleQuality4: "a masked variable", RoleQuality5: "a masked variable", RoleQuality6: "a masked variable"}
 
 // layoutIO runs on the I/O thread.

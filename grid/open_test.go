@@ -57,7 +57,9 @@ func TestOpenGrid3D(t *testing.T) {
 				t.Fatal(err)
 			}
 			defer in.Close()
-			want := map[Role]string{RoleLWP: "LWP", RoleRe: "cer", RoleCTT: "ctt", RoleCTP: "ctp", RoleTau: "cot"} // LWP_unc, a standard_error, is never the sub-grid standard deviation
+			// LWP_unc, a standard_error, is never the sub-grid standard deviation; it is the
+			// LWP's retrieval error (lwp_se)
+			want := map[Role]string{RoleLWP: "LWP", RoleRe: "cer", RoleCTT: "ctt", RoleCTP: "ctp", RoleTau: "cot", RoleLWPSE: "LWP_unc"}
 			got := map[Role]string{}
 			for _, b := range in.Bindings() {
 				got[b.Role] = b.Var

@@ -22,6 +22,12 @@ const (
 	RoleNd            Role = "nd"         // droplet number concentration (model CDNC, a separate retrieval)
 	RolePhase         Role = "phase"      // cloud-top phase flag (CF flag_values/flag_meanings)
 	RoleMultilayer    Role = "multilayer" // multi-layer cloud flag (CF flag_values/flag_meanings)
+	// RoleLWPSE, RoleReSE and RoleTauSE are the retrieval standard errors (uncertainties) of
+	// LWP, r_e and tau: absolute in the role's units, or relative (Binding.Relative) when
+	// the variable is in percent.
+	RoleLWPSE Role = "lwp_se"
+	RoleReSE  Role = "re_se"
+	RoleTauSE Role = "tau_se"
 	// RoleQuality1 .. RoleQuality6 are the quality variables named by masks
 	// (OpenOptions.Masks); they are never discovered or bound by an override.
 	RoleQuality1 Role = "quality1"
@@ -34,14 +40,14 @@ const (
 
 // NumRoles is the number of input roles; Roles lists them in table order, which is
 // also the index order of Slab.In.
-const NumRoles = 17
+const NumRoles = 20
 
 // NumQualitySlots is how many distinct quality variables masks may name in one run.
 const NumQualitySlots = 6
 
 // Roles lists every role in table order.
 var Roles = [NumRoles]Role{RoleLWP, RoleRe, RoleTau, RoleCTT, RoleCTP, RoleCTH, RoleCloudFraction, RoleLWPSD,
-	RoleNd, RolePhase, RoleMultilayer, RoleQuality1, RoleQuality2, RoleQuality3, RoleQuality4, RoleQuality5, RoleQuality6}
+	RoleNd, RolePhase, RoleMultilayer, RoleLWPSE, RoleReSE, RoleTauSE, RoleQuality1, RoleQuality2, RoleQuality3, RoleQuality4, RoleQuality5, RoleQuality6}
 
 // Index returns the role's index in Roles, or -1.
 func (r Role) Index() int {
@@ -73,6 +79,11 @@ type RoleRule struct {
 	// Internal roles are bound only by the run (masks), never by discovery or an
 	// override.
 	Internal bool
+	// ErrorOf is the role whose retrieval standard error this role is ("" for the others).
+	// Such a role is found by its role's standard names with the standard_error modifier,
+	// in its role's ancillary_variables, or by CommonNames; it is bound only when its role
+	// is, and its units may also be a percentage (Binding.Relative).
+	ErrorOf Role
 }
 
 // Codes reports whether the role holds flag codes rather than a quantity.
@@ -157,6 +168,22 @@ var RoleRules = [NumRoles]RoleRule{
 		"cloud_phase_optical_properties", "Phase"}},
 	{Role: RoleMultilayer, Description: "multi-layer cloud flag", CommonNames: []string{"multilayer", "multi_layer", "multilayer_flag",
 		"multi_layer_flag", "cloud_multi_layer_flag", "Cloud_Multi_Layer_Flag"}},
+	// Retrieval uncertainties: MODIS MOD06/MYD06 Cloud_*_Uncertainty ("Relative Uncertainty
+	// (Percent)" in their long_name, confirmed from the product's published file description;
+	// the level-3 MOD08/MYD08 *_Mean_Uncertainty are absolute, in the quantity's units),
+	// ESA Cloud_cci *_uncertainty (absolute, from memory), the short forms common practice.
+	{Role: RoleLWPSE, Description: "standard error (retrieval uncertainty) of the liquid water path", Units: "kg m-2", ErrorOf: RoleLWP,
+		CommonNames: []string{"lwp_se", "lwp_uncertainty", "lwp_unc", "lwp_error", "cwp_uncertainty", "cwp_unc", "clwp_uncertainty",
+			"liquid_water_path_uncertainty", "Cloud_Water_Path_Liquid_Uncertainty", "Cloud_Water_Path_Uncertainty",
+			"Cloud_Water_Path_Liquid_Mean_Uncertainty"}},
+	{Role: RoleReSE, Description: "standard error (retrieval uncertainty) of the cloud-top effective radius", Units: "m", ErrorOf: RoleRe,
+		CommonNames: []string{"re_se", "re_uncertainty", "re_unc", "re_error", "reff_uncertainty", "cer_uncertainty", "cer_unc",
+			"ref_uncertainty", "cloud_effective_radius_uncertainty", "Cloud_Effective_Radius_Liquid_Uncertainty", "Cloud_Effective_Radius_Uncertainty",
+			"Cloud_Effective_Radius_Liquid_Mean_Uncertainty"}},
+	{Role: RoleTauSE, Description: "standard error (retrieval uncertainty) of the cloud optical thickness", Units: "1", ErrorOf: RoleTau,
+		CommonNames: []string{"tau_se", "tau_uncertainty", "tau_unc", "tau_error", "cot_uncertainty", "cot_unc", "cod_uncertainty",
+			"cloud_optical_thickness_uncertainty", "Cloud_Optical_Thickness_Liquid_Uncertainty", "Cloud_Optical_Thickness_Uncertainty",
+			"Cloud_Optical_Thickness_Liquid_Mean_Uncertainty"}},
 	{Role: RoleQuality1, Description: "quality variable 1 of the masks", Internal: true},
 	{Role: RoleQuality2, Description: "quality variable 2 of the masks", Internal: true},
 	{Role: RoleQuality3, Description: "quality variable 3 of the masks", Internal: true},
@@ -238,7 +265,14 @@ func ParseOverride(s string) (Override, error) {
 		return Override{}, fmt.Errorf("%w: %q: role %s holds flag codes, which have no units", ErrOverride, s, r)
 	}
 	if units != "" {
-		if _, err := NewConverter(units, CanonicalUnits(r)); err != nil {
+		to := CanonicalUnits(r)
+		if r.Rule().ErrorOf != "" && (isPercent(units) || units == "1" || units == "fraction") {
+			units, to = strings.Replace(units, "fraction", "1", 1), "1" // a relative standard error
+			if isPercent(units) {
+				units = "percent"
+			}
+		}
+		if _, err := NewConverter(units, to); err != nil {
 			return Override{}, fmt.Errorf("override %q: %w", s, err)
 		}
 	}

@@ -81,7 +81,12 @@ func NewModel(p Params) (*Model, error) {
 }
 
 // newModelBase is the Model of valid parameters p without its collector tables.
-func newModelBase(p Params) *Model {
+func newModelBase(p Params) *Model { return newModelFrom(p, nil) }
+
+// newModelFrom is newModelBase taking the drizzle-probability table, and the ramp table
+// when the drizzle law's LWP exponent is the same, from base (nil: built here); both tables
+// depend on nothing else of the parameters (pop.go, ramptable.go).
+func newModelFrom(p Params, base *Model) *Model {
 	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, onset: Onset{p.ReStar, p.OnsetWidth},
 		cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
 	if p.SubCloudHumidity == HumidityWellMixed {
@@ -89,9 +94,17 @@ func newModelBase(p Params) *Model {
 	}
 	m.setup.Collision = p.Collision
 	m.setup.Coalescence = p.Coalescence
-	m.pop = newPopTable()
+	if base != nil {
+		m.pop = base.pop
+	} else {
+		m.pop = newPopTable()
+	}
 	if p.OnsetWidth > 0 {
-		m.ramp = newRampTable(p.DrizzleLWPExp)
+		if base != nil && base.ramp != nil && base.ramp.b == p.DrizzleLWPExp {
+			m.ramp = base.ramp
+		} else {
+			m.ramp = newRampTable(p.DrizzleLWPExp)
+		}
 	}
 	m.bulk = newBulkConsts(&p, m.pop)
 	return m

@@ -48,6 +48,11 @@ type ParamDecl struct {
 	// Source says where the default comes from: a citation key of references.go, "common
 	// practice", or "from memory".
 	Source string
+	// Spread is the one-standard-deviation uncertainty of the default, in Unit (0: the
+	// parameter is not perturbed by --parameter-uncertainty); SpreadSource says where it
+	// comes from, as Source does (see SpreadModels).
+	Spread       float64
+	SpreadSource string
 	// Get returns the SI value (a choice's index; 1 or 0 for a switch); Set stores it.
 	Get func(p *Params) float64
 	Set func(p *Params, v float64)
@@ -160,18 +165,22 @@ var ParamDecls = []ParamDecl{
 			p.Collector.Coalescence = p.Coalescence
 		}},
 	{Name: "k_ratio", Option: "k-ratio", Unit: "1", Scale: 1, Min: 0, Max: 1, MinOpen: true,
+		Spread: 0.1, SpreadSource: "the 0.6-0.9 range of [LebsockWitte2023] as about ±1.5 sigma around [Brenguier2000]'s 0.8",
 		Help: "k = (r_v/r_e)^3, ratio of mean-volume to effective radius cubed", Source: "[Brenguier2000]; 0.6-0.9 [LebsockWitte2023]",
 		Get: func(p *Params) float64 { return p.K }, Set: func(p *Params, v float64) { p.K = v }},
 	{Name: "extinction_efficiency", Option: "extinction-efficiency", Unit: "1", Scale: 1, Min: 0, Max: 10, MinOpen: true,
+		Spread: 0.05, SpreadSource: "Mie Q_ext of cloud droplets at visible wavelengths departs from the geometric-optics 2 by a few per cent for r_e 5-20 um (from memory)",
 		Help: "extinction efficiency Q_ext", Source: "geometric optics [Brenguier2000]",
 		Get: func(p *Params) float64 { return p.Qext }, Set: func(p *Params, v float64) { p.Qext = v }},
 	{Name: "adiabatic_fraction", Option: "adiabatic-fraction", Unit: "1", Scale: 1, Min: 0, Max: 1, MinOpen: true,
+		Spread: 0.15, SpreadSource: "0.6-0.9 in stratocumulus, reviewed in [Grosvenor2018] (from memory); below the default 1 only (one-sided)",
 		Help: "adiabatic fraction f_ad", Source: "[Brenguier2000]; 0.6-0.9 is common in stratocumulus (from memory)",
 		Get: func(p *Params) float64 { return p.Fad }, Set: func(p *Params, v float64) { p.Fad = v }},
 	{Name: "condensation_rate", Option: "condensation-rate", Unit: "g m-3 km-1", Scale: 1e6, Min: 0.1, Max: 10, ZeroOff: true,
 		Help: "fixed condensation rate c_w (0: from cloud-top temperature and pressure)", Source: "1.9 g m-3 km-1 is the value of [Brenguier2000]",
 		Get: func(p *Params) float64 { return p.FixedCw }, Set: func(p *Params, v float64) { p.FixedCw = v }},
 	{Name: "onset_radius", Option: "onset-radius", Unit: "um", Scale: 1e6, Min: 1, Max: 100,
+		Spread: 1, SpreadSource: "published onset radii 12-16 um (see --onset-width) as ±2 sigma",
 		Help: "drizzle-onset cloud-top effective radius r_e*", Source: "[RosenfeldGutman1994] (from memory); 13 um Braga et al. (2021), 15 um Ba and Gruber (2001)",
 		Get: func(p *Params) float64 { return p.ReStar }, Set: func(p *Params, v float64) { p.ReStar = v }},
 	{Name: "onset_width", Option: "onset-width", Unit: "um", Scale: 1e6, Min: 0, Max: 20,
@@ -179,6 +188,7 @@ var ParamDecls = []ParamDecl{
 		Source: "published onset radii span 12-16 um: 13 um [Braga2021], 14 um [RosenfeldGutman1994] (from memory), 15 um Ba and Gruber (2001), 16 um Gerber (1996) (from memory)",
 		Get:    func(p *Params) float64 { return p.OnsetWidth }, Set: func(p *Params, v float64) { p.OnsetWidth = v }},
 	{Name: "gamma_shape", Option: "gamma-shape", Unit: "1", Scale: 1, Min: 0, Max: 1e6, MinOpen: true,
+		Spread: 2, SpreadSource: "[Barker1996]: overcast Sc about 5-10, broken 1-3 (from memory)",
 		Help: "gamma shape of sub-grid LWP when the input has no LWP standard deviation", Source: "[Barker1996]; overcast Sc 5-10, broken 1-3 (from memory)",
 		Get: func(p *Params) float64 { return p.GammaShape }, Set: func(p *Params, v float64) { p.GammaShape = v }},
 	{Name: "collector_radius", Option: "collector-radius", Unit: "um", Scale: 1e6, Min: 1, Max: 500,
@@ -219,11 +229,14 @@ var ParamDecls = []ParamDecl{
 		Help: "cloud-top pressure when the input has none", Source: "mid-range of marine Sc tops [Wood2012] (from memory)",
 		Get: func(p *Params) float64 { return p.DefaultCTP }, Set: func(p *Params, v float64) { p.DefaultCTP = v }},
 	{Name: "drizzle_law_a", Option: "drizzle-law", Unit: "1", Scale: 1, Min: 0, Max: 1e6, MinOpen: true,
+		Spread: 0.15, SpreadSource: "published cloud-base drizzle laws differ in their coefficient by a factor near two (from memory; [Comstock2004], [Wood2012])",
 		Help: "cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R mm day-1, LWP g m-2, N_d cm-3)", Source: "[Comstock2004] (from memory)",
 		Get: func(p *Params) float64 { return p.DrizzleCoef }, Set: func(p *Params, v float64) { p.DrizzleCoef = v }},
 	{Name: "drizzle_law_b", Option: "drizzle-law", Unit: "1", Scale: 1, Min: 0, Max: 10,
+		Spread: 0.25, SpreadSource: "published exponents of LWP and N_d span about 1.5-2 (from memory; [Comstock2004], [Wood2012])",
 		Get: func(p *Params) float64 { return p.DrizzleLWPExp }, Set: func(p *Params, v float64) { p.DrizzleLWPExp = v }},
 	{Name: "drizzle_law_c", Option: "drizzle-law", Unit: "1", Scale: 1, Min: 0, Max: 10,
+		Spread: 0.25, SpreadSource: "as drizzle_law_b (from memory)",
 		Get: func(p *Params) float64 { return p.DrizzleNdExp }, Set: func(p *Params, v float64) { p.DrizzleNdExp = v }},
 	{Name: "kessler_rate", Option: "kessler-rate", Unit: "s-1", Scale: 1, Min: 0, Max: 1, MinOpen: true,
 		Help: "Kessler rate constant", Source: "[GrabowskiSmolarkiewicz1996] eq. 5a",
@@ -284,6 +297,14 @@ var ParamDecls = []ParamDecl{
 			return 0
 		},
 		Set: func(p *Params, v float64) { p.UniformLWP = v == 1 }},
+	{Name: "error_correlation", Option: "error-correlation", Unit: "1", Scale: 1, Min: -1, Max: 1,
+		Help:   "correlation coefficient of the LWP and r_e retrieval errors (for an LWP the product derived from tau and r_e, see doc/science.md#uncertainty)",
+		Source: "0: independent errors, as for a microwave LWP (common practice)",
+		Get:    func(p *Params) float64 { return p.ErrorCorrelation }, Set: func(p *Params, v float64) { p.ErrorCorrelation = v }},
+	{Name: "parameter_uncertainty", Option: "parameter-uncertainty", Kind: ParamSwitch,
+		Help:   "also write the parameter (structural) spread of every diagnostic, <name>_parameter_spread: k, f_ad, Q_ext, the onset radius, the drizzle law and the gamma shape perturbed by their spreads one at a time",
+		Source: "one-at-a-time perturbation (doc/science.md#parameter-spread)",
+		Get:    func(p *Params) float64 { return b2f(p.ParameterUncertainty) }, Set: func(p *Params, v float64) { p.ParameterUncertainty = v != 0 }},
 	{Name: "min_cloud_fraction", Option: "min-cloud-fraction", Unit: "1", Scale: 1, Min: 0, Max: 1,
 		Help: "with a grid-box-mean LWP, screen columns whose cloud fraction is below this", Source: "common practice",
 		Get: func(p *Params) float64 { return p.MinCloudFraction }, Set: func(p *Params, v float64) { p.MinCloudFraction = v }},

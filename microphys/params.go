@@ -191,6 +191,13 @@ type Params struct {
 	DropletNumber    float64
 	UniformLWP       bool
 	MinCloudFraction float64
+	// Uncertainty (uncertainty.go). ErrorCorrelation is the correlation coefficient of the
+	// LWP and r_e retrieval errors, -1..1 (default 0: independent; for an LWP that is the
+	// product's own tau r_e, the derived value is in doc/science.md#uncertainty).
+	// ParameterUncertainty asks for the parameter (structural) spread of every diagnostic
+	// (SpreadModels) besides the retrieval part.
+	ErrorCorrelation     float64
+	ParameterUncertainty bool
 }
 
 // DefaultParams returns the documented defaults of every parameter (see Params).

@@ -135,6 +135,10 @@ package microphys
 // Parameterization schemes. J. Atmos. Sci., 35, 2123–2132.
 // doi:10.1175/1520-0469(1978)035<2123:RPIEWC>2.0.CO;2
 //
+// [Taylor1997] Taylor, J. R., 1997: An Introduction to Error Analysis: The Study of
+// Uncertainties in Physical Measurements. 2nd ed., University Science Books, 327 pp.
+// ISBN 978-0-935702-75-0 (propagation of errors, ch. 3; covariance, ch. 9)
+//
 // [USSA1976] NOAA, NASA and USAF, 1976: U.S. Standard Atmosphere, 1976. U.S. Government
 // Printing Office, Washington, D.C., NOAA-S/T 76-1562, 227 pp. Identical below 32 km to the
 // ICAO Standard Atmosphere (ICAO Doc 7488/3, 1993). No DOI;

@@ -46,6 +46,9 @@ type Config struct {
 	Created time.Time // fixed creation time written to history and date_created (keeps the bytes reproducible)
 	Deflate int       // deflate level 1-9
 	Name    string    // short scenario name for the title
+	// NoUncertainty leaves out the retrieval uncertainties (lwp_standard_error,
+	// re_uncertainty, cot_uncertainty), as in a product without them.
+	NoUncertainty bool
 }
 
 // DefaultConfig returns the configuration of the committed sample
@@ -182,7 +185,12 @@ type Fields struct {
 	CTP      []float64 // cloud-top pressure, hPa
 	CTH      []float64 // cloud-top height above the surface, m
 	CF       []float64 // cloud fraction, 1
-	Region   []RegionKind
+	// Retrieval uncertainties (invented, of a realistic size; README "Uncertainty"):
+	// LWPErr is the LWP's standard error (g m-2, absolute, independent of r_e as a
+	// microwave LWP's would be), ReErr and TauErr the relative standard errors of r_e and
+	// tau in percent (the MODIS products' convention).
+	LWPErr, ReErr, TauErr []float64
+	Region                []RegionKind
 }
 
 // Physical constants of the generator.
@@ -209,6 +217,7 @@ const (
 	layThin
 	layCold
 	layCTH
+	layUnc
 )
 
 // round rounds x to a multiple of q.
@@ -223,7 +232,7 @@ func (c Config) Fields() (*Fields, error) {
 	}
 	n := c.NTime * c.NLat * c.NLon
 	f := &Fields{Cfg: c, Lat: make([]float64, c.NLat), Lon: make([]float64, c.NLon), Time: make([]float64, c.NTime)}
-	for _, p := range []*[]float64{&f.LWP, &f.LWPStd, &f.Re, &f.Tau, &f.CTT, &f.CTP, &f.CTH, &f.CF} {
+	for _, p := range []*[]float64{&f.LWP, &f.LWPStd, &f.Re, &f.Tau, &f.CTT, &f.CTP, &f.CTH, &f.CF, &f.LWPErr, &f.ReErr, &f.TauErr} {
 		*p = make([]float64, n)
 	}
 	f.Region = make([]RegionKind, n)
@@ -320,6 +329,7 @@ func (c Config) cell(f *Fields, t, i, j int) {
 	f.CF[k] = round(clamp(cf, 0, 1), 0.001)
 	if !cloudy {
 		f.LWP[k], f.LWPStd[k], f.Re[k], f.Tau[k] = nan, nan, nan, nan
+		f.LWPErr[k], f.ReErr[k], f.TauErr[k] = nan, nan, nan
 		if cf < 0.25 {
 			f.CTT[k], f.CTP[k], f.CTH[k] = nan, nan, nan
 			return
@@ -333,6 +343,13 @@ func (c Config) cell(f *Fields, t, i, j int) {
 		// (the adiabatic-profile relation; with LWP in kg m-2 and r_e in m).
 		// Computed from the rounded stored values so the file keeps it.
 		f.Tau[k] = round(9*f.LWP[k]*1e-3/(5*rhoW*f.Re[k]*1e-6), 0.01)
+		// Uncertainties (invented, of the size quoted for passive retrievals, from memory):
+		// r_e 7 % plus more for optically thin and broken cloud, tau 4 % plus more when thin,
+		// LWP 10 g m-2 plus 5 %; a little pixel noise.
+		u := 0.9 + 0.2*w(layUnc)
+		f.ReErr[k] = round(u*(7+25/f.Tau[k]+8*(1-cf)), 0.1)
+		f.TauErr[k] = round(u*(4+20/f.Tau[k]), 0.1)
+		f.LWPErr[k] = round(u*(10+0.05*f.LWP[k]), 0.1)
 	}
 	// surface air temperature: warmer to the north and west (invented)
 	tSurf := 291 + 0.35*(lat+20) + 0.1*(-75-lon)

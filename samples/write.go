@@ -3,6 +3,7 @@ package samples
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"github.com/fhs/go-netcdf/netcdf"
 	"github.com/warmrain/warmrain/grid"
@@ -157,7 +158,11 @@ func write(path string, f *Fields) (err error) {
 	w.f32(vLWP.Attr("scale_factor"), lwpScale)
 	w.f32(vLWP.Attr("add_offset"), lwpOffset)
 	w.i16(vLWP.Attr("valid_range"), 0, lwpMaxPack)
-	w.attrs(vLWP, "cell_methods", dailyMean, "ancillary_variables", "lwp_std", "grid_mapping", "crs",
+	lwpAnc := "lwp_std lwp_standard_error"
+	if c.NoUncertainty {
+		lwpAnc = "lwp_std"
+	}
+	w.attrs(vLWP, "cell_methods", dailyMean, "ancillary_variables", lwpAnc, "grid_mapping", "crs",
 		"coverage_content_type", "physicalMeasurement",
 		"comment", "invented demo values; LWP = (5/9) rho_w tau r_e holds with cot and re")
 
@@ -168,11 +173,23 @@ func write(path string, f *Fields) (err error) {
 			vmin: 0, vmax: 3000, data: f.LWPStd},
 		{name: "re", stdName: "effective_radius_of_cloud_liquid_water_particles_at_liquid_water_cloud_top",
 			longName: "cloud-top droplet effective radius (synthetic)", units: "um",
-			cellMethods: dailyMean, coords: "re_wavelength", vmin: 1, vmax: 60, data: f.Re},
+			cellMethods: dailyMean, coords: "re_wavelength", vmin: 1, vmax: 60, data: f.Re,
+			extra: []string{"ancillary_variables", "re_uncertainty"}},
 		{name: "cot", stdName: "atmosphere_optical_thickness_due_to_cloud",
 			longName: "cloud optical thickness (synthetic)", units: "1",
 			cellMethods: dailyMean, coords: "tau_wavelength", vmin: 0, vmax: 200, data: f.Tau,
-			comment: "tau = 9 LWP / (5 rho_w r_e): vertically uniform relation LWP = (5/9) rho_w tau r_e, rho_w = 1000 kg m-3"},
+			comment: "tau = 9 LWP / (5 rho_w r_e): vertically uniform relation LWP = (5/9) rho_w tau r_e, rho_w = 1000 kg m-3",
+			extra:   []string{"ancillary_variables", "cot_uncertainty"}},
+		{name: "lwp_standard_error", stdName: "atmosphere_mass_content_of_cloud_liquid_water standard_error",
+			longName: "retrieval standard error of the liquid water path (synthetic)", units: "g m-2",
+			cellMethods: dailyMean, vmin: 0, vmax: 1000, data: f.LWPErr,
+			comment: "invented: 10 g m-2 plus 5 % of the LWP, independent of the r_e error"},
+		{name: "re_uncertainty", longName: "relative retrieval uncertainty of the cloud-top effective radius (synthetic)",
+			units: "percent", cellMethods: dailyMean, vmin: 0, vmax: 200, data: f.ReErr,
+			comment: "invented: one standard error in percent of re, larger for optically thin and broken cloud"},
+		{name: "cot_uncertainty", longName: "relative retrieval uncertainty of the cloud optical thickness (synthetic)",
+			units: "percent", cellMethods: dailyMean, vmin: 0, vmax: 200, data: f.TauErr,
+			comment: "invented: one standard error in percent of cot, larger for optically thin cloud"},
 		{name: "ctt", stdName: "air_temperature_at_cloud_top", longName: "cloud-top temperature (synthetic)",
 			units: "K", cellMethods: dailyMean, vmin: 180, vmax: 320, data: f.CTT,
 			extra: []string{"units_metadata", "temperature: on_scale"}},
@@ -183,6 +200,18 @@ func write(path string, f *Fields) (err error) {
 		{name: "cloud_fraction", stdName: "cloud_area_fraction", longName: "cloud fraction of the grid cell (synthetic)",
 			units: "1", cellMethods: "time: mean area: mean", vmin: 0, vmax: 1, data: f.CF},
 	}
+	if c.NoUncertainty {
+		keep := fvars[:0]
+		for _, fv := range fvars {
+			if fv.name != "lwp_standard_error" && fv.name != "re_uncertainty" && fv.name != "cot_uncertainty" {
+				if fv.name == "re" || fv.name == "cot" {
+					fv.extra = nil // their only extra attribute names the uncertainty
+				}
+				keep = append(keep, fv)
+			}
+		}
+		fvars = keep
+	}
 	vs := make([]netcdf.Var, len(fvars))
 	for i, fv := range fvars {
 		v := w.v(fv.name, netcdf.FLOAT, dims3...)
@@ -190,10 +219,17 @@ func write(path string, f *Fields) (err error) {
 		w.set(grid.DefStorage(ds, fv.name, chunks))
 		w.set(v.SetCompression(true, true, c.Deflate))
 		w.f32(v.Attr("_FillValue"), fillFloat)
-		w.attrs(v, "standard_name", fv.stdName, "long_name", fv.longName, "units", fv.units)
+		if fv.stdName != "" {
+			w.attrs(v, "standard_name", fv.stdName)
+		}
+		w.attrs(v, "long_name", fv.longName, "units", fv.units)
 		w.f32(v.Attr("valid_min"), fv.vmin)
 		w.f32(v.Attr("valid_max"), fv.vmax)
-		w.attrs(v, "cell_methods", fv.cellMethods, "grid_mapping", "crs", "coverage_content_type", "physicalMeasurement")
+		content := "physicalMeasurement"
+		if strings.HasSuffix(fv.name, "_uncertainty") || strings.HasSuffix(fv.name, "_standard_error") {
+			content = "qualityInformation"
+		}
+		w.attrs(v, "cell_methods", fv.cellMethods, "grid_mapping", "crs", "coverage_content_type", content)
 		if fv.coords != "" {
 			w.attrs(v, "coordinates", fv.coords)
 		}

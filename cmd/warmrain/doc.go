@@ -28,6 +28,11 @@ Data go to stdout or files; messages go to stderr.
 	HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
 	variable in a group by its path (--bind lwp=/geophysical_data/NAME).
 
+	When the input carries retrieval uncertainties of LWP, r_e or tau (a
+	standard_error variable, *_uncertainty in percent, or --bind re_se=VAR), every
+	output gets <name>_standard_error beside it; --parameter-uncertainty adds
+	<name>_parameter_spread (README "Uncertainty").
+
 	With one input, OUTPUT is the output file; with several (or when OUTPUT is an
 	existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 	to a temporary file in the target folder and renamed when complete.
@@ -52,137 +57,160 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 
 	Options:
-	  -o, --output string                 output file (one input) or folder (several inputs)
-	      --name string                   output name pattern in a folder: {stem} {name} {parent}
-	                                      {relpath} {index} (default "{stem}_warmrain.nc")
-	      --ensemble FILE                 write one member per parameter set of FILE (lines NAME:
-	                                      --option VALUE ...) along a dimension member; one input,
-	                                      one output file
-	      --augment[=true|false]          write a copy of the input with the new variables added
-	                                      (default: a new file with the coordinates and the new
-	                                      variables)
-	      --outputs string                comma-separated outputs to write (see README); the QC
-	                                      flags are always written (default "all")
-	      --bind stringArray              take input ROLE from variable VAR, optionally declaring
-	                                      its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re
-	                                      tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)
-	  -j, --jobs int                      files processed at the same time, each in its own
-	                                      process (libnetcdf is single-threaded) (default 1)
-	      --threads int                   compute goroutines per process (0: the CPUs divided by
-	                                      --jobs, less one for the I/O thread)
-	      --deflate int                   deflate level of the outputs, 1-9 (0: no compression)
-	                                      (default 1)
-	      --pack[=true|false]             store the bounded outputs as CF-packed 16-bit integers
-	                                      (smaller, faster; precision in README)
-	      --significant-digits int        lossy: keep this many significant decimal digits in
-	                                      float outputs (CF quantization metadata; 0: off)
-	  -f, --force[=true|false]            replace any existing file at an output path (inputs are
-	                                      never overwritten)
-	      --redo[=true|false]             process again and replace warmrain's outputs of the same
-	                                      input (also those of other parameters)
-	      --shard string                  process only shard I of N (I/N, 0 <= I < N) of the
-	                                      sorted input list
-	      --shard-count int               shard count for a Slurm array whose ids are not a plain range
-	      --ignore-slurm[=true|false]     do not shard by the Slurm array variables
-	      --manifest string               JSON-lines manifest to append to (default:
-	                                      warmrain-manifest.jsonl in the output folder for folder
-	                                      outputs)
-	      --checksum[=true|false]         identify inputs by SHA-256 for resume (default: path,
-	                                      size and modification time)
-	  -q, --quiet[=true|false]            no summary line per file
-	      --no-progress[=true|false]      no progress line (it is shown only when stderr is a terminal)
-	      --slab-mb int                   memory budget of one slab, MiB (three are in flight)
-	                                      (default 32)
-	      --memory-mb int                 memory bound of one process, MiB: inputs whose chunking
-	                                      needs more are read in smaller slabs, or refused with
-	                                      the estimate (default 256)
-	      --autoconversion string         autoconversion scheme: kk2000, kessler1969,
-	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
-	      --collision string              collision efficiency of the collector drop: hall1980,
-	                                      long1974 (default "hall1980")
-	      --coalescence string            coalescence efficiency (seifert2005 is the
-	                                      Beard-Ochs/Low-List blend): seifert2005, beard-ochs1995,
-	                                      low-list1982, unity (default "seifert2005")
-	      --k-ratio float                 k = (r_v/r_e)^3, ratio of mean-volume to effective
-	                                      radius cubed (default 0.8)
-	      --extinction-efficiency float   extinction efficiency Q_ext (default 2)
-	      --adiabatic-fraction float      adiabatic fraction f_ad (default 1)
-	      --condensation-rate float       fixed condensation rate c_w (0: from cloud-top
-	                                      temperature and pressure), g m-3 km-1
-	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
-	                                      (default 14)
-	      --onset-width float             width of the r_e range, centred on the onset radius,
-	                                      over which the drizzle-onset probability of a sub-grid
-	                                      column rises from 0 to 1 (0: a step at the onset
-	                                      radius), µm (default 4)
-	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
-	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 25)
-	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
-	                                      µm (default 100)
-	      --updraft float                 updraft speed (0: collector released at cloud top, the
-	                                      stratocumulus picture; >0: enters at cloud base and is
-	                                      carried up first, a cumulus picture), m s-1
-	      --collector-tolerance float     relative tolerance per step of the collector-drop
-	                                      integrator (default 1e-06)
-	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
-	                                      mixing ratio conserved down to the surface; surface-rh:
-	                                      linear from the surface relative humidity to saturation
-	                                      at cloud base, for decoupled layers): well-mixed,
-	                                      surface-rh (default "well-mixed")
-	      --surface-rh float              surface relative humidity (0-1) when the input has none
-	                                      (with --subcloud-humidity surface-rh) (default 0.8)
-	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
-	                                      (size distribution of the surface drizzle; above
-	                                      --drizzle-min-radius), µm (default 50)
-	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
-	                                      distribution, µm (default 20)
-	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
-	                                      (0: exponential)
-	      --surface-pressure float        surface pressure to place cloud base when the input has
-	                                      no cloud-top height, hPa (default 1013.25)
-	      --default-ctt float             cloud-top temperature when the input has none, K
-	                                      (default 285)
-	      --default-ctp float             cloud-top pressure when the input has none, hPa (default 900)
-	      --drizzle-law string            cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R
-	                                      mm day-1, LWP g m-2, N_d cm-3) (default "0.37,1.75,1.75")
-	      --kessler-rate float            Kessler rate constant, s-1 (default 0.001)
-	      --kessler-threshold float       Kessler threshold cloud-water mixing ratio, g kg-1
-	                                      (default 0.5)
-	      --seifert-beheng-shape float    cloud-droplet gamma shape nu (in mass) of the
-	                                      seifert-beheng2001 scheme (default 1)
-	      --collector-method string       collector and evaporation results (table: interpolated,
-	                                      tested to 0.5 %; direct: integrated per column, slow):
-	                                      table, direct (default "table")
-	      --no-collector[=true|false]     skip the collector drop and the sub-cloud evaporation
-	                                      (surface drizzle)
-	      --no-evaporation[=true|false]   skip the sub-cloud evaporation (the surface drizzle and
-	                                      the collector drop's fall)
-	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
-	      --min-tau float                 screen columns with optical thickness below this (default 3)
-	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
-	      --min-ctt float                 screen columns with cloud-top temperature below this
-	                                      (possible ice), K (default 273.15)
-	      --nd-range string               plausible droplet-number range as min,max, cm-3 (default
-	                                      "10,1000")
-	      --max-thickness float           screen columns with adiabatic thickness above this, m
-	                                      (default 1500)
-	      --droplet-number float          droplet number concentration assumed where the input has
-	                                      LWP but no effective radius (r_e follows from the
-	                                      adiabatic cloud; 0: none), cm-3
-	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
-	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
-	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
-	                                      (default "adiabatic")
-	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
-	                                      fraction is below this (default 0.05)
-	      --mask stringArray              screen columns by a quality variable:
-	                                      'VAR:MEANING[,MEANING...]' (a CF flag variable has any
-	                                      of the flag_meanings words) or 'VAR<N' (also <=, >, >=,
-	                                      ==, !=; in VAR's own units); repeatable
-	      --lwp-kind string               what the LWP averages: auto (from cell_methods, the
-	                                      variable name and model attributes), in-cloud, or
-	                                      grid-mean (divided by the cloud fraction) (default "auto")
+	  -o, --output string                        output file (one input) or folder (several inputs)
+	      --name string                          output name pattern in a folder: {stem} {name}
+	                                             {parent} {relpath} {index} (default
+	                                             "{stem}_warmrain.nc")
+	      --ensemble FILE                        write one member per parameter set of FILE (lines
+	                                             NAME: --option VALUE ...) along a dimension
+	                                             member; one input, one output file
+	      --augment[=true|false]                 write a copy of the input with the new variables
+	                                             added (default: a new file with the coordinates
+	                                             and the new variables)
+	      --outputs string                       comma-separated outputs to write (see README);
+	                                             the QC flags are always written (default "all")
+	      --bind stringArray                     take input ROLE from variable VAR, optionally
+	                                             declaring its units: ROLE=VAR[:UNITS]
+	                                             (repeatable; roles: lwp re tau ctt ctp cth
+	                                             cloud_fraction lwp_sd nd phase multilayer lwp_se
+	                                             re_se tau_se)
+	  -j, --jobs int                             files processed at the same time, each in its own
+	                                             process (libnetcdf is single-threaded) (default 1)
+	      --threads int                          compute goroutines per process (0: the CPUs
+	                                             divided by --jobs, less one for the I/O thread)
+	      --deflate int                          deflate level of the outputs, 1-9 (0: no
+	                                             compression) (default 1)
+	      --pack[=true|false]                    store the bounded outputs as CF-packed 16-bit
+	                                             integers (smaller, faster; precision in README)
+	      --significant-digits int               lossy: keep this many significant decimal digits
+	                                             in float outputs (CF quantization metadata; 0: off)
+	  -f, --force[=true|false]                   replace any existing file at an output path
+	                                             (inputs are never overwritten)
+	      --redo[=true|false]                    process again and replace warmrain's outputs of
+	                                             the same input (also those of other parameters)
+	      --shard string                         process only shard I of N (I/N, 0 <= I < N) of
+	                                             the sorted input list
+	      --shard-count int                      shard count for a Slurm array whose ids are not a
+	                                             plain range
+	      --ignore-slurm[=true|false]            do not shard by the Slurm array variables
+	      --manifest string                      JSON-lines manifest to append to (default:
+	                                             warmrain-manifest.jsonl in the output folder for
+	                                             folder outputs)
+	      --checksum[=true|false]                identify inputs by SHA-256 for resume (default:
+	                                             path, size and modification time)
+	  -q, --quiet[=true|false]                   no summary line per file
+	      --no-progress[=true|false]             no progress line (it is shown only when stderr is
+	                                             a terminal)
+	      --slab-mb int                          memory budget of one slab, MiB (three are in
+	                                             flight) (default 32)
+	      --memory-mb int                        memory bound of one process, MiB: inputs whose
+	                                             chunking needs more are read in smaller slabs, or
+	                                             refused with the estimate (default 256)
+	      --autoconversion string                autoconversion scheme: kk2000, kessler1969,
+	                                             liu-daum2004, seifert-beheng2001 (default "kk2000")
+	      --collision string                     collision efficiency of the collector drop:
+	                                             hall1980, long1974 (default "hall1980")
+	      --coalescence string                   coalescence efficiency (seifert2005 is the
+	                                             Beard-Ochs/Low-List blend): seifert2005,
+	                                             beard-ochs1995, low-list1982, unity (default
+	                                             "seifert2005")
+	      --k-ratio float                        k = (r_v/r_e)^3, ratio of mean-volume to
+	                                             effective radius cubed (default 0.8)
+	      --extinction-efficiency float          extinction efficiency Q_ext (default 2)
+	      --adiabatic-fraction float             adiabatic fraction f_ad (default 1)
+	      --condensation-rate float              fixed condensation rate c_w (0: from cloud-top
+	                                             temperature and pressure), g m-3 km-1
+	      --onset-radius float                   drizzle-onset cloud-top effective radius r_e*,
+	                                             µm (default 14)
+	      --onset-width float                    width of the r_e range, centred on the onset
+	                                             radius, over which the drizzle-onset probability
+	                                             of a sub-grid column rises from 0 to 1 (0: a step
+	                                             at the onset radius), µm (default 4)
+	      --gamma-shape float                    gamma shape of sub-grid LWP when the input has no
+	                                             LWP standard deviation (default 4)
+	      --collector-radius float               start radius of the collector drop, µm (default 25)
+	      --drizzle-radius float                 radius at which the collector counts as a drizzle
+	                                             drop, µm (default 100)
+	      --updraft float                        updraft speed (0: collector released at cloud
+	                                             top, the stratocumulus picture; >0: enters at
+	                                             cloud base and is carried up first, a cumulus
+	                                             picture), m s-1
+	      --collector-tolerance float            relative tolerance per step of the collector-drop
+	                                             integrator (default 1e-06)
+	      --subcloud-humidity string             sub-cloud humidity (well-mixed: the cloud-base
+	                                             vapour mixing ratio conserved down to the
+	                                             surface; surface-rh: linear from the surface
+	                                             relative humidity to saturation at cloud base,
+	                                             for decoupled layers): well-mixed, surface-rh
+	                                             (default "well-mixed")
+	      --surface-rh float                     surface relative humidity (0-1) when the input
+	                                             has none (with --subcloud-humidity surface-rh)
+	                                             (default 0.8)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
+	                                             base (size distribution of the surface drizzle;
+	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
+	                                             size distribution, µm (default 20)
+	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size
+	                                             distribution (0: exponential)
+	      --surface-pressure float               surface pressure to place cloud base when the
+	                                             input has no cloud-top height, hPa (default 1013.25)
+	      --default-ctt float                    cloud-top temperature when the input has none, K
+	                                             (default 285)
+	      --default-ctp float                    cloud-top pressure when the input has none, hPa
+	                                             (default 900)
+	      --drizzle-law string                   cloud-base drizzle rate R = a LWP^b N_d^-c as
+	                                             a,b,c (R mm day-1, LWP g m-2, N_d cm-3) (default
+	                                             "0.37,1.75,1.75")
+	      --kessler-rate float                   Kessler rate constant, s-1 (default 0.001)
+	      --kessler-threshold float              Kessler threshold cloud-water mixing ratio, g
+	                                             kg-1 (default 0.5)
+	      --seifert-beheng-shape float           cloud-droplet gamma shape nu (in mass) of the
+	                                             seifert-beheng2001 scheme (default 1)
+	      --collector-method string              collector and evaporation results (table:
+	                                             interpolated, tested to 0.5 %; direct: integrated
+	                                             per column, slow): table, direct (default "table")
+	      --no-collector[=true|false]            skip the collector drop and the sub-cloud
+	                                             evaporation (surface drizzle)
+	      --no-evaporation[=true|false]          skip the sub-cloud evaporation (the surface
+	                                             drizzle and the collector drop's fall)
+	      --min-lwp float                        screen columns with LWP below this, g m-2 (default 5)
+	      --min-tau float                        screen columns with optical thickness below this
+	                                             (default 3)
+	      --re-range string                      valid effective-radius range as min,max, µm
+	                                             (default "4,30")
+	      --min-ctt float                        screen columns with cloud-top temperature below
+	                                             this (possible ice), K (default 273.15)
+	      --nd-range string                      plausible droplet-number range as min,max, cm-3
+	                                             (default "10,1000")
+	      --max-thickness float                  screen columns with adiabatic thickness above
+	                                             this, m (default 1500)
+	      --droplet-number float                 droplet number concentration assumed where the
+	                                             input has LWP but no effective radius (r_e
+	                                             follows from the adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string                   cloud profile for LWP from optical thickness and
+	                                             r_e when the input has no LWP: adiabatic (5/9
+	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
+	                                             adiabatic, uniform (default "adiabatic")
+	      --error-correlation float              correlation coefficient of the LWP and r_e
+	                                             retrieval errors (for an LWP the product derived
+	                                             from tau and r_e, see doc/science.md#uncertainty)
+	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
+	                                             every diagnostic, <name>_parameter_spread: k,
+	                                             f_ad, Q_ext, the onset radius, the drizzle law
+	                                             and the gamma shape perturbed by their spreads
+	                                             one at a time
+	      --min-cloud-fraction float             with a grid-box-mean LWP, screen columns whose
+	                                             cloud fraction is below this (default 0.05)
+	      --mask stringArray                     screen columns by a quality variable:
+	                                             'VAR:MEANING[,MEANING...]' (a CF flag variable
+	                                             has any of the flag_meanings words) or 'VAR<N'
+	                                             (also <=, >, >=, ==, !=; in VAR's own units);
+	                                             repeatable
+	      --lwp-kind string                      what the LWP averages: auto (from cell_methods,
+	                                             the variable name and model attributes),
+	                                             in-cloud, or grid-mean (divided by the cloud
+	                                             fraction) (default "auto")
 
 # warmrain inspect
 
@@ -202,7 +230,9 @@ Data go to stdout or files; messages go to stderr.
 	Roles: lwp, re (required unless the run can derive them: LWP from tau and
 	r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
 	lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
-	screen non-liquid and multi-layer columns). With --mask, it counts the
+	screen non-liquid and multi-layer columns), and lwp_se, re_se, tau_se (the
+	retrieval standard errors, absolute or in percent, that give every output its
+	<name>_standard_error). With --mask, it counts the
 	columns each mask removes; flag codes held inside a data variable (sea ice,
 	land) are counted by meaning.
 	Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
@@ -232,6 +262,7 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
 	  (without --re: --droplet-number N; without --lwp: --tau and --re)
 	                  [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
+	                  [--lwp-se G_M2|P%] [--re-se UM|P%] [--tau-se T|P%] [--parameter-uncertainty]
 
 	Runs the physics of one column given on the command line and prints the
 	parameters used, the adiabatic profile (liquid water content, mean-volume and
@@ -246,104 +277,132 @@ Data go to stdout or files; messages go to stderr.
 	model with the chosen --collector-method, so with the table method the exit
 	radius there may differ from the path's by up to about 0.5 %.
 
+	With standard errors of the inputs (--lwp-se, --re-se, --tau-se: in the input's
+	units, or a percentage such as 10%) every diagnostic is printed as value ± its
+	first-order retrieval error, and with --parameter-uncertainty also ± its
+	parameter spread (README "Uncertainty"); an output marked "(non-linear)" is
+	strongly non-linear within the errors, so its ± is a local sensitivity only.
+
 	Example:
 	  warmrain column --lwp 120 --re 14
+	  warmrain column --lwp 120 --re 14 --lwp-se 15 --re-se 10% --parameter-uncertainty
 	  warmrain column --lwp 120 --re 14 --ctt 284 --ctp 880 --cth 1200 --updraft 0.5 --json
 
 	Options:
-	      --lwp float                     liquid water path, g m-2 (required)
-	      --re float                      cloud-top effective radius, µm (required)
-	      --tau float                     cloud optical thickness (absent: from LWP and r_e,
-	                                      adiabatic relation)
-	      --ctt float                     cloud-top temperature, K (absent: --default-ctt)
-	      --ctp float                     cloud-top pressure, hPa (absent: --default-ctp)
-	      --cth float                     cloud-top height above the surface, m (absent: cloud
-	                                      base from the dry adiabat to --surface-pressure)
-	      --lwp-sd float                  sub-grid standard deviation of LWP, g m-2 (absent:
-	                                      --gamma-shape)
-	      --rh-surface float              surface relative humidity of this column, 0-1, used with
-	                                      --subcloud-humidity surface-rh (absent: --surface-rh)
-	      --autoconversion string         autoconversion scheme: kk2000, kessler1969,
-	                                      liu-daum2004, seifert-beheng2001 (default "kk2000")
-	      --collision string              collision efficiency of the collector drop: hall1980,
-	                                      long1974 (default "hall1980")
-	      --coalescence string            coalescence efficiency (seifert2005 is the
-	                                      Beard-Ochs/Low-List blend): seifert2005, beard-ochs1995,
-	                                      low-list1982, unity (default "seifert2005")
-	      --k-ratio float                 k = (r_v/r_e)^3, ratio of mean-volume to effective
-	                                      radius cubed (default 0.8)
-	      --extinction-efficiency float   extinction efficiency Q_ext (default 2)
-	      --adiabatic-fraction float      adiabatic fraction f_ad (default 1)
-	      --condensation-rate float       fixed condensation rate c_w (0: from cloud-top
-	                                      temperature and pressure), g m-3 km-1
-	      --onset-radius float            drizzle-onset cloud-top effective radius r_e*, µm
-	                                      (default 14)
-	      --onset-width float             width of the r_e range, centred on the onset radius,
-	                                      over which the drizzle-onset probability of a sub-grid
-	                                      column rises from 0 to 1 (0: a step at the onset
-	                                      radius), µm (default 4)
-	      --gamma-shape float             gamma shape of sub-grid LWP when the input has no LWP
-	                                      standard deviation (default 4)
-	      --collector-radius float        start radius of the collector drop, µm (default 25)
-	      --drizzle-radius float          radius at which the collector counts as a drizzle drop,
-	                                      µm (default 100)
-	      --updraft float                 updraft speed (0: collector released at cloud top, the
-	                                      stratocumulus picture; >0: enters at cloud base and is
-	                                      carried up first, a cumulus picture), m s-1
-	      --collector-tolerance float     relative tolerance per step of the collector-drop
-	                                      integrator (default 1e-06)
-	      --subcloud-humidity string      sub-cloud humidity (well-mixed: the cloud-base vapour
-	                                      mixing ratio conserved down to the surface; surface-rh:
-	                                      linear from the surface relative humidity to saturation
-	                                      at cloud base, for decoupled layers): well-mixed,
-	                                      surface-rh (default "well-mixed")
-	      --surface-rh float              surface relative humidity (0-1) when the input has none
-	                                      (with --subcloud-humidity surface-rh) (default 0.8)
-	      --drizzle-mean-radius float     mean radius of the drizzle drops leaving cloud base
-	                                      (size distribution of the surface drizzle; above
-	                                      --drizzle-min-radius), µm (default 50)
-	      --drizzle-min-radius float      smallest drizzle drop radius of the cloud-base size
-	                                      distribution, µm (default 20)
-	      --drizzle-shape float           gamma shape of the cloud-base drizzle size distribution
-	                                      (0: exponential)
-	      --surface-pressure float        surface pressure to place cloud base when the input has
-	                                      no cloud-top height, hPa (default 1013.25)
-	      --default-ctt float             cloud-top temperature when the input has none, K
-	                                      (default 285)
-	      --default-ctp float             cloud-top pressure when the input has none, hPa (default 900)
-	      --drizzle-law string            cloud-base drizzle rate R = a LWP^b N_d^-c as a,b,c (R
-	                                      mm day-1, LWP g m-2, N_d cm-3) (default "0.37,1.75,1.75")
-	      --kessler-rate float            Kessler rate constant, s-1 (default 0.001)
-	      --kessler-threshold float       Kessler threshold cloud-water mixing ratio, g kg-1
-	                                      (default 0.5)
-	      --seifert-beheng-shape float    cloud-droplet gamma shape nu (in mass) of the
-	                                      seifert-beheng2001 scheme (default 1)
-	      --collector-method string       collector and evaporation results (table: interpolated,
-	                                      tested to 0.5 %; direct: integrated per column, slow):
-	                                      table, direct (default "table")
-	      --no-collector[=true|false]     skip the collector drop and the sub-cloud evaporation
-	                                      (surface drizzle)
-	      --no-evaporation[=true|false]   skip the sub-cloud evaporation (the surface drizzle and
-	                                      the collector drop's fall)
-	      --min-lwp float                 screen columns with LWP below this, g m-2 (default 5)
-	      --min-tau float                 screen columns with optical thickness below this (default 3)
-	      --re-range string               valid effective-radius range as min,max, µm (default "4,30")
-	      --min-ctt float                 screen columns with cloud-top temperature below this
-	                                      (possible ice), K (default 273.15)
-	      --nd-range string               plausible droplet-number range as min,max, cm-3 (default
-	                                      "10,1000")
-	      --max-thickness float           screen columns with adiabatic thickness above this, m
-	                                      (default 1500)
-	      --droplet-number float          droplet number concentration assumed where the input has
-	                                      LWP but no effective radius (r_e follows from the
-	                                      adiabatic cloud; 0: none), cm-3
-	      --lwp-profile string            cloud profile for LWP from optical thickness and r_e
-	                                      when the input has no LWP: adiabatic (5/9 rho_w tau r_e)
-	                                      or uniform (2/3 rho_w tau r_e): adiabatic, uniform
-	                                      (default "adiabatic")
-	      --min-cloud-fraction float      with a grid-box-mean LWP, screen columns whose cloud
-	                                      fraction is below this (default 0.05)
-	      --json[=true|false]             print one JSON object instead of the tables
+	      --lwp float                            liquid water path, g m-2 (required)
+	      --re float                             cloud-top effective radius, µm (required)
+	      --tau float                            cloud optical thickness (absent: from LWP and
+	                                             r_e, adiabatic relation)
+	      --ctt float                            cloud-top temperature, K (absent: --default-ctt)
+	      --ctp float                            cloud-top pressure, hPa (absent: --default-ctp)
+	      --cth float                            cloud-top height above the surface, m (absent:
+	                                             cloud base from the dry adiabat to --surface-pressure)
+	      --lwp-sd float                         sub-grid standard deviation of LWP, g m-2
+	                                             (absent: --gamma-shape)
+	      --rh-surface float                     surface relative humidity of this column, 0-1,
+	                                             used with --subcloud-humidity surface-rh (absent:
+	                                             --surface-rh)
+	      --autoconversion string                autoconversion scheme: kk2000, kessler1969,
+	                                             liu-daum2004, seifert-beheng2001 (default "kk2000")
+	      --collision string                     collision efficiency of the collector drop:
+	                                             hall1980, long1974 (default "hall1980")
+	      --coalescence string                   coalescence efficiency (seifert2005 is the
+	                                             Beard-Ochs/Low-List blend): seifert2005,
+	                                             beard-ochs1995, low-list1982, unity (default
+	                                             "seifert2005")
+	      --k-ratio float                        k = (r_v/r_e)^3, ratio of mean-volume to
+	                                             effective radius cubed (default 0.8)
+	      --extinction-efficiency float          extinction efficiency Q_ext (default 2)
+	      --adiabatic-fraction float             adiabatic fraction f_ad (default 1)
+	      --condensation-rate float              fixed condensation rate c_w (0: from cloud-top
+	                                             temperature and pressure), g m-3 km-1
+	      --onset-radius float                   drizzle-onset cloud-top effective radius r_e*,
+	                                             µm (default 14)
+	      --onset-width float                    width of the r_e range, centred on the onset
+	                                             radius, over which the drizzle-onset probability
+	                                             of a sub-grid column rises from 0 to 1 (0: a step
+	                                             at the onset radius), µm (default 4)
+	      --gamma-shape float                    gamma shape of sub-grid LWP when the input has no
+	                                             LWP standard deviation (default 4)
+	      --collector-radius float               start radius of the collector drop, µm (default 25)
+	      --drizzle-radius float                 radius at which the collector counts as a drizzle
+	                                             drop, µm (default 100)
+	      --updraft float                        updraft speed (0: collector released at cloud
+	                                             top, the stratocumulus picture; >0: enters at
+	                                             cloud base and is carried up first, a cumulus
+	                                             picture), m s-1
+	      --collector-tolerance float            relative tolerance per step of the collector-drop
+	                                             integrator (default 1e-06)
+	      --subcloud-humidity string             sub-cloud humidity (well-mixed: the cloud-base
+	                                             vapour mixing ratio conserved down to the
+	                                             surface; surface-rh: linear from the surface
+	                                             relative humidity to saturation at cloud base,
+	                                             for decoupled layers): well-mixed, surface-rh
+	                                             (default "well-mixed")
+	      --surface-rh float                     surface relative humidity (0-1) when the input
+	                                             has none (with --subcloud-humidity surface-rh)
+	                                             (default 0.8)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
+	                                             base (size distribution of the surface drizzle;
+	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
+	                                             size distribution, µm (default 20)
+	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size
+	                                             distribution (0: exponential)
+	      --surface-pressure float               surface pressure to place cloud base when the
+	                                             input has no cloud-top height, hPa (default 1013.25)
+	      --default-ctt float                    cloud-top temperature when the input has none, K
+	                                             (default 285)
+	      --default-ctp float                    cloud-top pressure when the input has none, hPa
+	                                             (default 900)
+	      --drizzle-law string                   cloud-base drizzle rate R = a LWP^b N_d^-c as
+	                                             a,b,c (R mm day-1, LWP g m-2, N_d cm-3) (default
+	                                             "0.37,1.75,1.75")
+	      --kessler-rate float                   Kessler rate constant, s-1 (default 0.001)
+	      --kessler-threshold float              Kessler threshold cloud-water mixing ratio, g
+	                                             kg-1 (default 0.5)
+	      --seifert-beheng-shape float           cloud-droplet gamma shape nu (in mass) of the
+	                                             seifert-beheng2001 scheme (default 1)
+	      --collector-method string              collector and evaporation results (table:
+	                                             interpolated, tested to 0.5 %; direct: integrated
+	                                             per column, slow): table, direct (default "table")
+	      --no-collector[=true|false]            skip the collector drop and the sub-cloud
+	                                             evaporation (surface drizzle)
+	      --no-evaporation[=true|false]          skip the sub-cloud evaporation (the surface
+	                                             drizzle and the collector drop's fall)
+	      --min-lwp float                        screen columns with LWP below this, g m-2 (default 5)
+	      --min-tau float                        screen columns with optical thickness below this
+	                                             (default 3)
+	      --re-range string                      valid effective-radius range as min,max, µm
+	                                             (default "4,30")
+	      --min-ctt float                        screen columns with cloud-top temperature below
+	                                             this (possible ice), K (default 273.15)
+	      --nd-range string                      plausible droplet-number range as min,max, cm-3
+	                                             (default "10,1000")
+	      --max-thickness float                  screen columns with adiabatic thickness above
+	                                             this, m (default 1500)
+	      --droplet-number float                 droplet number concentration assumed where the
+	                                             input has LWP but no effective radius (r_e
+	                                             follows from the adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string                   cloud profile for LWP from optical thickness and
+	                                             r_e when the input has no LWP: adiabatic (5/9
+	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
+	                                             adiabatic, uniform (default "adiabatic")
+	      --error-correlation float              correlation coefficient of the LWP and r_e
+	                                             retrieval errors (for an LWP the product derived
+	                                             from tau and r_e, see doc/science.md#uncertainty)
+	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
+	                                             every diagnostic, <name>_parameter_spread: k,
+	                                             f_ad, Q_ext, the onset radius, the drizzle law
+	                                             and the gamma shape perturbed by their spreads
+	                                             one at a time
+	      --min-cloud-fraction float             with a grid-box-mean LWP, screen columns whose
+	                                             cloud fraction is below this (default 0.05)
+	      --lwp-se string                        standard error of the LWP: g m-2, or a percentage
+	                                             of it (10%)
+	      --re-se string                         standard error of r_e: µm, or a percentage of it
+	      --tau-se string                        standard error of tau, or a percentage of it
+	      --json[=true|false]                    print one JSON object instead of the tables
 
 # warmrain summary
 
@@ -353,16 +412,36 @@ Data go to stdout or files; messages go to stderr.
 	drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 	water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 	S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-	with their standard errors, and with --bootstrap their confidence intervals; the flux-weighted fraction of drizzle reaching the surface
-	(sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
-	time-mean maps of every diagnostic with the number of values averaged per cell.
+	with their standard errors, and with --bootstrap their confidence intervals; the
+	flux-weighted fraction of drizzle reaching the surface (sum of surface_drizzle_rate
+	over sum of cloud_base_drizzle_rate); and maps of every diagnostic.
+
+	PROCESSED may be a file, a quoted glob ('out/*.nc') or @LIST (a file naming one
+	input per line); --manifest adds the outputs a batch manifest of 'warmrain process'
+	records as complete.
 
 	The table goes to stdout. -o writes the same statistics and the maps as a CF NetCDF
-	file; --plots writes PNG pictures into DIR: one quick-look map per diagnostic
-	(map_<variable>_mean.png, or _first.png with --map-of first), a map of how many
-	valid time steps each cell averaged (map_valid_count.png), POP against LWP for
-	several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
-	(susceptibility_vs_lwp.png). Existing files are only replaced with --force.
+	file, in the units of the per-column files (LWP g m-2, N_d cm-3, rates mm day-1),
+	with time bounds spanning the inputs' time bounds; --plots writes PNG pictures into
+	DIR: one quick-look map per diagnostic (map_<variable>_mean.png, or _first.png with
+	--map-of first), a map of how many valid values each cell averaged
+	(map_valid_count.png), POP against LWP for several N_d bins (pop_vs_lwp.png) and the
+	susceptibilities against LWP (susceptibility_vs_lwp.png). Existing files are only
+	replaced with --force.
+
+	Maps. Without --grid, files on one common grid or swath give time-mean maps on it;
+	files on different grids give none (stderr says so). --grid DEG bins the columns of
+	every file (grids, swaths, meshes with coordinates, on any grids) into DEG-degree
+	cells of a regular latitude-longitude grid: per cell the count, mean and standard
+	deviation of every diagnostic, the fraction of columns screened by each QC reason and
+	the drizzle occurrence frequencies (POP above --drizzle-pop, and LWP above the
+	critical LWP*). The sums are exact, so the numbers do not depend on the order of the
+	files. Latitude and longitude are coordinates, never summarised; longitudes may be
+	given as -180..180 or 0..360.
+
+	Batch tasks. --partial -o PART.nc writes a partial summary (exact sums and counts)
+	instead of the statistics, one per task; --merge PART.nc... combines partial
+	summaries into the summary a single run over all the files would give.
 
 	Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
 	they are drawn without, and stderr says so once), fixed colour limits per
@@ -374,9 +453,10 @@ Data go to stdout or files; messages go to stderr.
 
 	Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 	horizontal dimension), time series at one site, with any leading dimensions (time,
-	ensemble member). Maps need a grid or swath with latitude and longitude; for other
-	files the statistics use every column and stderr says why there are no maps.
-	--region needs latitude and longitude (in degrees or radians) in every file.
+	ensemble member). --region needs latitude and longitude (in degrees or radians) in
+	every file. A --region or --from/--to window that selects no column is an error
+	naming where and when the data are (and the box to try when it was typed
+	longitude-first); with --partial it writes an empty partial summary and a note.
 
 	Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 	thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
@@ -397,8 +477,9 @@ Data go to stdout or files; messages go to stderr.
 
 	Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
 	LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
-	edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
-	2026-07-01T06:00 or RFC 3339.
+	edges. Times (--from, --to; the window is [FROM, TO)) are dates and times of the
+	files' calendar (standard, proleptic_gregorian, julian, noleap, 365_day, all_leap,
+	366_day, 360_day): 2026-07-01, 2026-07-01T06:00 or RFC 3339.
 
 	Results are research diagnostics, not for operational forecasting or flight-safety
 	decisions.
@@ -408,6 +489,9 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
 	  warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
 	  warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
+	  warmrain summary 'granules/*_warmrain.nc' --grid 1 -o gridded.nc --plots maps
+	  warmrain summary @task07.txt --grid 1 --partial -o parts/task07.nc
+	  warmrain summary --merge 'parts/*.nc' -o gridded.nc --plots maps
 
 	Options:
 	  -o, --output SUMMARY.nc                    write the summary as a CF NetCDF file SUMMARY.nc
@@ -415,8 +499,10 @@ Data go to stdout or files; messages go to stderr.
 	      --region LATMIN,LATMAX,LONMIN,LONMAX   keep columns in the box
 	                                             LATMIN,LATMAX,LONMIN,LONMAX (degrees; LONMIN >
 	                                             LONMAX crosses 180°)
-	      --from TIME                            keep time steps at or after TIME (UTC)
-	      --to TIME                              keep time steps before TIME (UTC)
+	      --from TIME                            keep time steps at or after TIME (UTC, a date of
+	                                             the files' calendar)
+	      --to TIME                              keep time steps before TIME (UTC, a date of the
+	                                             files' calendar)
 	      --lwp-bins LO:HI:N                     LWP bins in g m-2: LO:HI:N logarithmic, or edges
 	                                             E1,E2,... (default "20:500:10")
 	      --nd-bins LO:HI:N                      N_d bins in cm-3: LO:HI:N logarithmic, or edges
@@ -441,6 +527,19 @@ Data go to stdout or files; messages go to stderr.
 	                                             (first selected time step) (default "mean")
 	      --force[=true|false]                   overwrite an existing summary file and existing
 	                                             pictures
+	      --grid DEG                             bin the columns of every file (grids, swaths,
+	                                             meshes with coordinates) onto a regular
+	                                             latitude-longitude grid of DEG degrees (180/DEG whole)
+	      --drizzle-pop P                        with --grid: a column counts as drizzling in the
+	                                             occurrence frequency when its POP exceeds P
+	                                             (default 0.5)
+	      --partial[=true|false]                 write -o as a partial summary (exact sums and
+	                                             counts, e.g. one per batch task) for --merge
+	      --merge[=true|false]                   the inputs are partial summaries (--partial):
+	                                             combine them exactly
+	      --manifest FILE                        also summarise the outputs that the batch
+	                                             manifest FILE of 'warmrain process' records as
+	                                             complete
 	      --range VAR=LO:HI[:log]                colour range of VAR's maps in the units the map
 	                                             shows, instead of the declared one:
 	                                             VAR=LO:HI[:log] (repeatable)
@@ -454,7 +553,9 @@ Data go to stdout or files; messages go to stderr.
 	and a narrow line of polluted cloud; invented data, for the demo only),
 	processes it with the default parameters, summarises it (with 200 tile-bootstrap
 	replicates, so the susceptibilities get 95% intervals), draws quick-look maps and
-	curves, and prints where the results are.
+	curves; then samples two level-2-like swaths (granules on different pixel grids)
+	from the scenario, processes them and writes a gridded summary of both on a
+	0.25-degree grid with its maps; and prints where the results are.
 
 	Example:
 	  warmrain demo --dir demo-output

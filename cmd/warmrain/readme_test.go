@@ -58,6 +58,31 @@ func paramTable() string {
 	return b.String()
 }
 
+// spreadTable is README's table of the parameter spreads (ParamDecl.Spread) that
+// --parameter-uncertainty perturbs.
+func spreadTable() string {
+	var b strings.Builder
+	b.WriteString("| parameter | default | spread (1 sigma) | source of the spread |\n|---|---|---|---|\n")
+	d := microphys.DefaultParams()
+	for i := range microphys.ParamDecls {
+		r := &microphys.ParamDecls[i]
+		if r.Spread <= 0 {
+			continue
+		}
+		unit := r.Unit
+		switch unit {
+		case "1":
+			unit = ""
+		case "um":
+			unit = " µm"
+		default:
+			unit = " " + unit
+		}
+		fmt.Fprintf(&b, "| `%s` | %s%s | %s%s | %s |\n", r.Name, r.Text(r.FromSI(r.Get(&d))), unit, r.Text(r.Spread), unit, readable(r.SpreadSource))
+	}
+	return b.String()
+}
+
 // outputTable is README's output table, one row per microphys.OutputDecls plus the QC flags.
 func outputTable() string {
 	var b strings.Builder
@@ -110,7 +135,7 @@ func TestReadmeTables(t *testing.T) {
 		t.Fatal(err)
 	}
 	text := string(raw)
-	for _, blk := range []struct{ name, table string }{{"parameters", paramTable()}, {"outputs", outputTable()}, {"qc", qcTable()}} {
+	for _, blk := range []struct{ name, table string }{{"parameters", paramTable()}, {"outputs", outputTable()}, {"qc", qcTable()}, {"spreads", spreadTable()}} {
 		begin := "<!-- generated: " + blk.name + " (go test ./cmd/warmrain -run TestReadmeTables -update) -->\n"
 		end := "<!-- end: " + blk.name + " -->"
 		i, j := strings.Index(text, begin), strings.Index(text, end)

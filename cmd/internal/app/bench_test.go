@@ -42,10 +42,17 @@ func synthInput(b *testing.B, dir string) string {
 	return path
 }
 
-// samplesInput writes the samples scenario on a benchSamplesSide² grid into dir.
-func samplesInput(b *testing.B, dir string) string {
+// samplesInput writes the samples scenario on a benchSamplesSide² grid into dir, without
+// its retrieval uncertainties.
+func samplesInput(b *testing.B, dir string) string { return samplesInputWith(b, dir, false) }
+
+// samplesInputUnc is samplesInput with the uncertainties.
+func samplesInputUnc(b *testing.B, dir string) string { return samplesInputWith(b, dir, true) }
+
+func samplesInputWith(b *testing.B, dir string, unc bool) string {
 	b.Helper()
 	cfg := samples.DefaultConfig()
+	cfg.NoUncertainty = !unc
 	cfg.NLat, cfg.NLon, cfg.NTime = benchSamplesSide, benchSamplesSide, 1
 	cfg.Res = 10.0 / benchSamplesSide // the scenario's 10° box
 	cfg.Deflate = 1
@@ -69,7 +76,7 @@ func benchPipeline(b *testing.B, p microphys.Params, ioOnly bool, mkInput func(*
 	}
 	job := &processJob{
 		e:      &env{stdout: io.Discard, stderr: io.Discard, prog: "warmrain"},
-		o:      processOptions{jobs: 1, deflate: 1, slabMB: grid.DefaultSlabBytes >> 20, ioOnly: ioOnly, quiet: true},
+		o:      processOptions{jobs: 1, deflate: 1, slabMB: grid.DefaultSlabBytes >> 20, memoryMB: defaultMemoryMB, ioOnly: ioOnly, quiet: true},
 		params: p, defs: defs, model: m,
 		args: []string{"process", input},
 	}
@@ -114,4 +121,17 @@ func BenchmarkPipelineIOOnly(b *testing.B) {
 // (the samples scenario): the cloud-base height then comes from CTH.
 func BenchmarkPipelineAllCTH(b *testing.B) {
 	benchPipeline(b, microphys.DefaultParams(), false, samplesInput)
+}
+
+// BenchmarkPipelineUncertainty is BenchmarkPipelineAllCTH without (off) and with the
+// retrieval uncertainties of the input (retrieval: every <name>_standard_error), and with
+// --parameter-uncertainty too (both), side by side (README "Uncertainty").
+func BenchmarkPipelineUncertainty(b *testing.B) {
+	b.Run("off", func(b *testing.B) { benchPipeline(b, microphys.DefaultParams(), false, samplesInput) })
+	b.Run("retrieval", func(b *testing.B) { benchPipeline(b, microphys.DefaultParams(), false, samplesInputUnc) })
+	b.Run("both", func(b *testing.B) {
+		p := microphys.DefaultParams()
+		p.ParameterUncertainty = true
+		benchPipeline(b, p, false, samplesInputUnc)
+	})
 }

@@ -2,9 +2,11 @@ package app
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -16,6 +18,7 @@ const columnUsage = `Usage:
   warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
   (without --re: --droplet-number N; without --lwp: --tau and --re)
                   [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
+                  [--lwp-se G_M2|P%] [--re-se UM|P%] [--tau-se T|P%] [--parameter-uncertainty]
 
 Runs the physics of one column given on the command line and prints the
 parameters used, the adiabatic profile (liquid water content, mean-volume and
@@ -30,8 +33,15 @@ EvaporateDirect) at a few points; the diagnostics table comes from the column
 model with the chosen --collector-method, so with the table method the exit
 radius there may differ from the path's by up to about 0.5 %.
 
+With standard errors of the inputs (--lwp-se, --re-se, --tau-se: in the input's
+units, or a percentage such as 10%) every diagnostic is printed as value ± its
+first-order retrieval error, and with --parameter-uncertainty also ± its
+parameter spread (README "Uncertainty"); an output marked "(non-linear)" is
+strongly non-linear within the errors, so its ± is a local sensitivity only.
+
 Example:
   warmrain column --lwp 120 --re 14
+  warmrain column --lwp 120 --re 14 --lwp-se 15 --re-se 10% --parameter-uncertainty
   warmrain column --lwp 120 --re 14 --ctt 284 --ctp 880 --cth 1200 --updraft 0.5 --json
 `
 
@@ -65,6 +75,14 @@ type columnResult struct {
 	Collector   *collectorPathReport `json:"collector_path"`
 	Evaporation *evapPathReport      `json:"evaporation_path"`
 	Drizzle     *drizzleReport       `json:"surface_drizzle"`
+	// The uncertainty (absent without input errors or --parameter-uncertainty): the
+	// first-order retrieval error and the parameter spread of each diagnostic (units of
+	// Units), the outputs whose first-order error is not representative, and the part of
+	// each perturbed parameter in every diagnostic's spread.
+	StandardErrors  map[string]jnum            `json:"standard_errors,omitempty"`
+	ErrorNonlinear  []string                   `json:"error_nonlinear,omitempty"`
+	ParameterSpread map[string]jnum            `json:"parameter_spread,omitempty"`
+	SpreadParts     map[string]map[string]jnum `json:"parameter_spread_parts,omitempty"`
 
 	order []string // diagnostic names in table order (text output)
 }
@@ -156,6 +174,11 @@ func runColumn(e *env, args []string) error {
 		fs.Float64Var(&vals[i], c.flag, 0, c.help)
 	}
 	pf := addPhysicsFlags(fs)
+	errFlags := [3]*string{
+		fs.String("lwp-se", "", "standard error of the LWP: g m-2, or a percentage of it (10%)"),
+		fs.String("re-se", "", "standard error of r_e: µm, or a percentage of it"),
+		fs.String("tau-se", "", "standard error of tau, or a percentage of it"),
+	}
 	asJSON := fs.Bool("json", false, "print one JSON object instead of the tables")
 	if err := parseFlags(e, fs, columnUsage, args); err != nil {
 		return err
@@ -194,8 +217,21 @@ func runColumn(e *env, args []string) error {
 	}
 	// Missing inputs completed as process does (Model.Complete): LWP from tau and r_e,
 	// r_e from LWP and --droplet-number, CTT from the standard atmosphere at --ctp/--cth.
+	raw := microphys.RawColumn{In: in, Nd: math.NaN(), CF: math.NaN()}
+	var ie microphys.InputErrors
+	for k, dst := range [3]*float64{&ie.LWP, &ie.Re, &ie.Tau} {
+		v, err := parseError(*errFlags[k], [3]float64{raw.In.LWP, raw.In.Re, raw.In.Tau}[k], [3]float64{1e-3, 1e-6, 1}[k])
+		if err != nil {
+			return usagef("--%s: %v", [3]string{"lwp-se", "re-se", "tau-se"}[k], err)
+		}
+		*dst = v
+	}
+	ie.Corr = p.ErrorCorrelation
 	qin := m.Complete(&in, math.NaN(), math.NaN(), false)
 	res := computeColumn(m, &in)
+	if err := res.uncertainty(m, &raw, &in, qin, &ie); err != nil {
+		return err
+	}
 	for _, f := range microphys.InputQCFlags {
 		if qin&f.Bit != 0 {
 			res.QC.Flags = append(res.QC.Flags, f.Name)
@@ -502,16 +538,43 @@ func (r *columnResult) writeText(w io.Writer) error {
 	}
 	tw.Flush()
 
-	fmt.Fprintln(w, "\ndiagnostics:")
+	switch {
+	case r.StandardErrors != nil && r.ParameterSpread != nil:
+		fmt.Fprintln(w, "\ndiagnostics (value ± retrieval error ± parameter spread, one standard deviation each):")
+	case r.StandardErrors != nil:
+		fmt.Fprintln(w, "\ndiagnostics (value ± retrieval error, one standard deviation):")
+	case r.ParameterSpread != nil:
+		fmt.Fprintln(w, "\ndiagnostics (value ± parameter spread, one standard deviation):")
+	default:
+		fmt.Fprintln(w, "\ndiagnostics:")
+	}
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	for _, name := range r.order {
-		fmt.Fprintf(tw, "  %s\t%s\t%s\n", name, num(r.Diagnostics[name]), r.Units[name])
+		v := num(r.Diagnostics[name])
+		if r.StandardErrors != nil {
+			v += "\t± " + num(r.StandardErrors[name])
+		}
+		if r.ParameterSpread != nil {
+			v += "\t± " + num(r.ParameterSpread[name]) + " (par.)"
+		}
+		note := ""
+		if slices.Contains(r.ErrorNonlinear, name) {
+			note = "\t(non-linear)"
+		}
+		fmt.Fprintf(tw, "  %s\t%s\t%s%s\n", name, v, r.Units[name], note)
 	}
 	flags := strings.Join(r.QC.Flags, " ")
 	if flags == "" {
 		flags = "(none)"
 	}
-	fmt.Fprintf(tw, "  %s\t%d\t%s\n", qcName, r.QC.Value, flags)
+	pad := ""
+	if r.StandardErrors != nil {
+		pad += "\t"
+	}
+	if r.ParameterSpread != nil {
+		pad += "\t"
+	}
+	fmt.Fprintf(tw, "  %s\t%d%s\t%s\n", qcName, r.QC.Value, pad, flags)
 	tw.Flush()
 	if r.QC.Screened {
 		fmt.Fprintln(w, "\nthe column is screened (see the QC flags): no profile or collector path")
@@ -589,4 +652,73 @@ func (r *columnResult) writeText(w io.Writer) error {
 		fmt.Fprintf(tw, "  --%s\t%s\n", s.Option, paramAttr(microphys.Setting{Value: strings.Join(vals, ","), Unit: s.Unit}))
 	}
 	return tw.Flush()
+}
+
+// parseError reads a standard error given on the command line: a number in the input's
+// units (scale to SI) or a percentage of the input x ("10%"). "" is no error.
+func parseError(s string, x, scale float64) (float64, error) {
+	s = strings.TrimSpace(s)
+	if s == "" {
+		return math.NaN(), nil
+	}
+	pct := strings.HasSuffix(s, "%")
+	v, err := strconv.ParseFloat(strings.TrimSuffix(s, "%"), 64)
+	if err != nil || !(v >= 0) || math.IsInf(v, 0) {
+		return 0, errors.New("want a non-negative number in the input's units or a percentage such as 10%")
+	}
+	if pct {
+		return v / 100 * x, nil
+	}
+	return v * scale, nil
+}
+
+// uncertainty adds the retrieval errors (from e) and, with --parameter-uncertainty, the
+// parameter spread of every diagnostic (doc/science.md#uncertainty).
+func (r *columnResult) uncertainty(m *microphys.Model, raw *microphys.RawColumn, done *microphys.Inputs, qin uint32, e *microphys.InputErrors) error {
+	p := m.Params()
+	if !e.Any() && !p.ParameterUncertainty {
+		return nil
+	}
+	var out microphys.Outputs
+	m.Column(done, &out)
+	n := len(microphys.OutputDecls)
+	defs := outputTable()
+	if e.Any() {
+		se := make([]float64, n)
+		nl := m.RetrievalError(raw, done, qin, &out, e, se, nil)
+		r.StandardErrors = map[string]jnum{}
+		r.ErrorNonlinear = []string{}
+		for _, d := range defs {
+			if d.get == nil {
+				continue
+			}
+			r.StandardErrors[d.name] = jnum(se[d.decl] * d.scale)
+			if nl&(1<<d.decl) != 0 {
+				r.ErrorNonlinear = append(r.ErrorNonlinear, d.name)
+			}
+		}
+	}
+	if p.ParameterUncertainty {
+		s, err := microphys.NewSpreadModels(m)
+		if err != nil {
+			return err
+		}
+		names := s.Parameters()
+		sp, parts := make([]float64, n), make([]float64, n*len(names))
+		s.ParameterSpread(raw, done, &out, sp, parts, nil)
+		r.ParameterSpread = map[string]jnum{}
+		r.SpreadParts = map[string]map[string]jnum{}
+		for _, d := range defs {
+			if d.get == nil {
+				continue
+			}
+			r.ParameterSpread[d.name] = jnum(sp[d.decl] * d.scale)
+			pm := map[string]jnum{}
+			for j, pn := range names {
+				pm[pn] = jnum(parts[j*n+d.decl] * d.scale)
+			}
+			r.SpreadParts[d.name] = pm
+		}
+	}
+	return nil
 }

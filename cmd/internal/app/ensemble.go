@@ -207,6 +207,11 @@ func assembleEnsemble(ctx context.Context, output string, files []string, ms []e
 	for _, n := range outputNames(ms[0].defs) {
 		perMember[n] = true
 	}
+	for _, v := range info.Vars { // the uncertainty outputs (uncertainty.go) depend on the member too
+		if strings.HasSuffix(v.Name, seSuffix) || strings.HasSuffix(v.Name, spreadSuffix) || v.Name == uncFlagName {
+			perMember[v.Name] = true
+		}
+	}
 	const dimMember = "member"
 	ds := &grid.Dataset{Dims: []grid.DimSpec{{Name: dimMember, Len: len(ms)}}}
 	for _, d := range info.Dims {

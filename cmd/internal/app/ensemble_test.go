@@ -55,7 +55,8 @@ assert names == ["base", "early", "late"], names
 bad = []
 for k, path in enumerate(sys.argv[2:]):
     one = netCDF4.Dataset(path); one.set_auto_maskandscale(False)
-    for v in ["liquid_water_path", "droplet_number", "drizzle_probability", "cloud_base_drizzle_rate", "warm_rain_qc"]:
+    for v in ["liquid_water_path", "droplet_number", "drizzle_probability", "cloud_base_drizzle_rate", "warm_rain_qc",
+              "droplet_number_standard_error", "drizzle_probability_standard_error", "warm_rain_uncertainty_flag"]:
         a, b = ens[v][k], one[v][:]
         if ens[v].dimensions[0] != "member" or a.dtype != b.dtype or a.tobytes() != b.tobytes():
             bad.append("%s member %s" % (v, names[k]))

@@ -29,7 +29,9 @@ for the others. It reads every value of the bound variables once.
 Roles: lwp, re (required unless the run can derive them: LWP from tau and
 r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
 lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
-screen non-liquid and multi-layer columns). With --mask, it counts the
+screen non-liquid and multi-layer columns), and lwp_se, re_se, tau_se (the
+retrieval standard errors, absolute or in percent, that give every output its
+<name>_standard_error). With --mask, it counts the
 columns each mask removes; flag codes held inside a data variable (sea ice,
 land) are counted by meaning.
 Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
@@ -152,6 +154,7 @@ var displayUnits = map[grid.Role]struct {
 	grid.RoleLWP: {"g m-2", 1e3}, grid.RoleRe: {"um", 1e6}, grid.RoleTau: {"1", 1}, grid.RoleCTT: {"K", 1},
 	grid.RoleCTP: {"hPa", 1e-2}, grid.RoleCTH: {"m", 1}, grid.RoleCloudFraction: {"1", 1}, grid.RoleLWPSD: {"g m-2", 1e3},
 	grid.RoleNd: {"cm-3", 1e-6}, grid.RolePhase: {"(codes)", 1}, grid.RoleMultilayer: {"(codes)", 1},
+	grid.RoleLWPSE: {"g m-2", 1e3}, grid.RoleReSE: {"um", 1e6}, grid.RoleTauSE: {"1", 1},
 }
 
 // roleUse says what the physics does with each role.
@@ -167,6 +170,9 @@ var roleUse = map[grid.Role]string{
 	grid.RoleNd:            "r_e from LWP when the input has no r_e (QC bit droplet_number_from_input; otherwise not used)",
 	grid.RolePhase:         "screens columns whose phase is not liquid (QC bit phase_not_liquid)",
 	grid.RoleMultilayer:    "screens columns flagged multi-layer (QC bit multi_layer_cloud)",
+	grid.RoleLWPSE:         "retrieval error of the LWP: every output's <name>_standard_error (absent: no error from the LWP)",
+	grid.RoleReSE:          "retrieval error of r_e: every output's <name>_standard_error (absent: no error from r_e)",
+	grid.RoleTauSE:         "retrieval error of tau: every output's <name>_standard_error (absent: no error from tau)",
 }
 
 func runInspect(e *env, args []string) error {
@@ -282,6 +288,7 @@ func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid
 			continue
 		}
 		rr.Found = true
+		rr.Canonical = b.Canonical
 		rr.Variable, rr.StandardName, rr.Reason = b.Var, b.StandardName, b.Reason
 		if len(rep.Files) > 1 {
 			rr.InFile = b.File
@@ -296,6 +303,9 @@ func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid
 		}
 		if s, ok := byRole[rule.Role]; ok {
 			du := displayUnits[rule.Role]
+			if b.Relative {
+				du.units, du.scale = "%", 100
+			}
 			rr.Stats = &statsReport{Units: du.units, Min: jnum(s.Min * du.scale), Max: jnum(s.Max * du.scale), Mean: jnum(s.Mean * du.scale),
 				Valid: s.Valid, Missing: s.Missing, FillFraction: s.FillFraction}
 		}

@@ -147,6 +147,9 @@ func TestInspectSampleMatchesGrid(t *testing.T) {
 			continue
 		}
 		du := displayUnits[s.Role]
+		if b.Relative { // a standard error given in percent is shown in percent
+			du.scale = 100
+		}
 		const tol = 1e-9 // JSON carries 10 significant digits
 		for _, c := range []struct {
 			name      string

@@ -27,6 +27,8 @@ type outputDef struct {
 	evaporation  bool      // needs the evaporation model
 	content      string
 	packable     bool // bounded: stored as CF-packed int16 over [validMin, validMax] with --pack
+	decl         int  // index in microphys.OutputDecls
+	title        string
 }
 
 // packedSteps is the number of int16 steps a packed output's valid range spans: stored
@@ -55,7 +57,7 @@ func outputTableFor(s microphys.AutoconvScheme) []outputDef {
 		defs[i] = outputDef{name: d.Name, get: d.Get, scale: d.Scale, units: d.Units,
 			standardName: d.StandardName, longName: d.LongName, validMin: d.ValidMin, validMax: d.ValidMax,
 			comment: d.Comment, references: d.ReferencesFor(s), input: grid.Role(d.Input),
-			collector: d.Collector, evaporation: d.Evaporation, content: d.Content, packable: d.Packable}
+			collector: d.Collector, evaporation: d.Evaporation, content: d.Content, packable: d.Packable, decl: i, title: d.Title}
 	}
 	return defs
 }

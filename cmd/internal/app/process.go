@@ -40,6 +40,11 @@ across them, their grids must match, and the output is named by the first.
 HDF4 files (SD interface) and netCDF-4 files with groups are read too; bind a
 variable in a group by its path (--bind lwp=/geophysical_data/NAME).
 
+When the input carries retrieval uncertainties of LWP, r_e or tau (a
+standard_error variable, *_uncertainty in percent, or --bind re_se=VAR), every
+output gets <name>_standard_error beside it; --parameter-uncertainty adds
+<name>_parameter_spread (README "Uncertainty").
+
 With one input, OUTPUT is the output file; with several (or when OUTPUT is an
 existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
 to a temporary file in the target folder and renamed when complete.
@@ -95,7 +100,7 @@ func runProcess(e *env, args []string) error {
 	fs.StringVar(&o.ensemble, "ensemble", "", "write one member per parameter set of `FILE` (lines NAME: --option VALUE ...) along a dimension member; one input, one output file")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
-	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer)")
+	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer lwp_se re_se tau_se)")
 	fs.IntVarP(&o.jobs, "jobs", "j", 1, "files processed at the same time, each in its own process (libnetcdf is single-threaded)")
 	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs, less one for the I/O thread)")
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
@@ -418,6 +423,10 @@ type processJob struct {
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
+	// spread holds the perturbed models of --parameter-uncertainty, built on first use.
+	spread     *microphys.SpreadModels
+	spreadErr  error
+	spreadOnce sync.Once
 }
 
 func (j *processJob) inputs() *inputFlags {
@@ -596,7 +605,12 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if err != nil {
 		return finish("failed", err)
 	}
-	vars := gridVars(j.defs, "", j.o.pack)
+	plan, err := j.uncertaintyPlan(in)
+	if err != nil {
+		in.Close()
+		return finish("failed", err)
+	}
+	vars := plan.vars(j.defs, gridVars(j.defs, "", j.o.pack))
 	if sb, err := j.memoryPlan(in, vars); err != nil {
 		in.Close()
 		return finish("failed", err)
@@ -643,7 +657,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if len(j.inputs().masks) > 0 {
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
 	}
-	vars = gridVars(j.defs, strings.Join(used, " "), j.o.pack)
+	vars = plan.vars(j.defs, gridVars(j.defs, strings.Join(used, " "), j.o.pack))
 	methods := outputCellMethods(in) // README #cell-methods
 	for _, w := range methods.Warnings {
 		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s: %s\n", input, w)
@@ -689,7 +703,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if j.o.stats {
 		popt.Stats = &stats
 	}
-	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts))
+	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan))
 	if j.o.stats {
 		busy := stats.Read + stats.Write
 		fmt.Fprintf(j.e.stderr, "warmrain: pipeline %s: %d slabs, wall %.2f s; I/O thread %.2f s (read %.2f, write %.2f; busy %.0f %%); compute %.2f s on %d workers; waited for input %.2f s\n",
@@ -777,7 +791,7 @@ func (j *processJob) workers() int {
 // slices, the product's masks and flag codes, the input completion
 // (microphys.Model.Complete) and one microphys.Model.Column call per column,
 // outputs scaled to the file units. It allocates nothing per column.
-func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally) grid.ComputeFunc {
+func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
@@ -816,6 +830,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 		}
 		qc := outs[len(defs)]
+		uw := plan.slab()
+		var raw microphys.RawColumn
+		var errIn [3]float64
 		for k, d := range defs {
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
@@ -843,6 +860,12 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
 				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
+			if uw != nil {
+				raw = microphys.RawColumn{In: in, Nd: at(iNd, i), CF: at(iCF, i), GridMean: gridMean}
+				for k, r := range errorRoles {
+					errIn[k] = at(r.Index(), i)
+				}
+			}
 			if qin == 0 {
 				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
 			}
@@ -855,6 +878,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				}
 				qc[i] = float64(qin)
 				n++
+				if uw != nil {
+					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, true)
+				}
 				continue
 			}
 			m.Column(&in, &o)
@@ -872,6 +898,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			qc[i] = float64(uint32(o.QC) | qin)
 			if o.QC&microphys.QCScreenMask != 0 {
 				n++
+			}
+			if uw != nil {
+				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, o.QC&microphys.QCScreenMask != 0)
 			}
 		}
 		screened.Add(n)

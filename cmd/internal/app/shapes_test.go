@@ -249,6 +249,22 @@ func TestShapesEndToEnd(t *testing.T) {
 			if c.family == "icon" {
 				checkRegion(t, out, f)
 			}
+			// --grid bins every family with coordinates (meshes and sites too) onto
+			// one latitude-longitude grid: every column lands in a cell.
+			if c.family != "series" {
+				gNC := filepath.Join(dir, "gridded.nc")
+				code, _, stderr := runProc(t, "summary", out, "--grid", "5", "-o", gNC)
+				if code != 0 || strings.Contains(stderr, "no maps") {
+					t.Fatalf("summary --grid: exit %d: %s", code, stderr)
+				}
+				var n float64
+				for _, v := range readVar(t, gNC, "cell_column_count") {
+					n += v
+				}
+				if int(n) != len(f.LWP) {
+					t.Errorf("--grid: %g columns in the cells; the input has %d", n, len(f.LWP))
+				}
+			}
 		})
 	}
 }
@@ -379,8 +395,70 @@ data: time = 0, 365 ; lat = 10, 20 ; lon = 30, 40 ;
 	if mm := reColumns.FindStringSubmatch(stdout); code != 0 || mm == nil || mm[1] != "8" {
 		t.Fatalf("summary: exit %d, %q %q", code, stdout, stderr)
 	}
-	code, _, stderr = runProc(t, "summary", out, "--from", "2000-06-01")
-	if code == 0 || !strings.Contains(stderr, "noleap") || !strings.Contains(stderr, out) {
-		t.Errorf("window on a noleap axis: exit %d, %q", code, stderr)
+	// A window in the noleap calendar: day 365 is 2001-01-01 there (no leap day in
+	// 2000), so --from 2001-01-01 keeps the second step (4 columns) and
+	// --from 2000-12-31 --to 2001-01-01 nothing (in the standard calendar day 365 is
+	// 2000-12-31 and would be kept).
+	code, stdout, stderr = runProc(t, "summary", out, "--from", "2001-01-01")
+	if mm := reColumns.FindStringSubmatch(stdout); code != 0 || mm == nil || mm[2] != "4" {
+		t.Errorf("--from 2001-01-01 on a noleap axis: exit %d, %q %q", code, stdout, stderr)
+	}
+	code, _, stderr = runProc(t, "summary", out, "--from", "2000-12-31", "--to", "2001-01-01")
+	if code != 1 || !strings.Contains(stderr, "nothing selected") || !strings.Contains(stderr, "2001-01-01T00:00:00Z (noleap calendar)") {
+		t.Errorf("an empty window on a noleap axis: exit %d, %q", code, stderr)
+	}
+}
+
+// TestSummaryModelCalendars: --from and --to are dates of the file's calendar. Day 365
+// after 2000-01-01 is 2001-01-01 in noleap, 2001-01-06 in 360_day (12 months of 30
+// days) and 2000-12-31 in all_leap and julian (2000 has a 29 February in both): CF
+// conventions §4.4.1 calendars, derived.
+func TestSummaryModelCalendars(t *testing.T) {
+	if _, err := exec.LookPath("ncgen"); err != nil {
+		t.Skip("ncgen not installed")
+	}
+	for _, c := range []struct{ cal, day365 string }{
+		{"noleap", "2001-01-01"}, {"365_day", "2001-01-01"}, {"360_day", "2001-01-06"}, {"all_leap", "2000-12-31"}, {"julian", "2000-12-31"},
+	} {
+		dir := t.TempDir()
+		cdl := filepath.Join(dir, "m.cdl")
+		in := filepath.Join(dir, "m.nc")
+		os.WriteFile(cdl, []byte(`netcdf m {
+dimensions: time = 2 ; lat = 2 ; lon = 2 ;
+variables:
+  double time(time) ; time:units = "days since 2000-01-01" ; time:calendar = "`+c.cal+`" ;
+  float lat(lat) ; lat:units = "degrees_north" ; float lon(lon) ; lon:units = "degrees_east" ;
+  float lwp(time, lat, lon) ; lwp:units = "g m-2" ;
+  float re(time, lat, lon) ; re:units = "um" ;
+data: time = 0, 365 ; lat = 10, 20 ; lon = 30, 40 ;
+  lwp = 80, 90, 100, 110, 120, 130, 140, 150 ; re = 12, 13, 14, 15, 16, 17, 18, 19 ;
+}`), 0o644)
+		if b, err := exec.Command("ncgen", "-k", "nc4", "-o", in, cdl).CombinedOutput(); err != nil {
+			t.Fatalf("ncgen: %v %s", err, b)
+		}
+		out := filepath.Join(dir, "out.nc")
+		if code, _, stderr := runProc(t, "process", in, "-o", out); code != 0 {
+			t.Fatalf("%s: process: %s", c.cal, stderr)
+		}
+		for _, w := range [][]string{{"--from", c.day365}, {"--to", c.day365}} {
+			code, stdout, stderr := runProc(t, append([]string{"summary", out}, w...)...)
+			if mm := reColumns.FindStringSubmatch(stdout); code != 0 || mm == nil || mm[2] != "4" {
+				t.Errorf("%s %v: exit %d, %q %q; want the 4 columns of one step", c.cal, w, code, stdout, stderr)
+			}
+		}
+		sum := filepath.Join(dir, "s.nc")
+		if code, _, stderr := runProc(t, "summary", out, "-o", sum); code != 0 {
+			t.Fatalf("%s: summary: %s", c.cal, stderr)
+		}
+		fi, err := grid.Describe(sum)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// Without time_bnds the steps reach half-way to each other and half a
+		// spacing beyond: 730 days in all, in the file's calendar.
+		tb := readVar(t, sum, "time_bnds")
+		if cal := fi.Var("time").Text("calendar"); cal != c.cal && !(c.cal == "365_day" && cal == "noleap") || tb[1]-tb[0] != 730*86400 {
+			t.Errorf("%s: time calendar %q, bounds %v", c.cal, cal, tb)
+		}
 	}
 }

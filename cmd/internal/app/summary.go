@@ -14,6 +14,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/warmrain/warmrain/cmd/internal/batch"
 	"github.com/warmrain/warmrain/cmd/internal/plots"
 	"github.com/warmrain/warmrain/cmd/internal/procfile"
 	"github.com/warmrain/warmrain/cmd/internal/summary"
@@ -27,16 +28,36 @@ Reads files written by 'warmrain process', one time step at a time, and reports:
 drizzle probability (POP) and mean cloud-base drizzle rate binned jointly by liquid
 water path (LWP) and droplet number (N_d); the precipitation susceptibilities
 S_POP = -d ln POP / d ln N_d, S_R (mean rate) and S_I (conditional rate) per LWP bin
-with their standard errors, and with --bootstrap their confidence intervals; the flux-weighted fraction of drizzle reaching the surface
-(sum of surface_drizzle_rate over sum of cloud_base_drizzle_rate); and
-time-mean maps of every diagnostic with the number of values averaged per cell.
+with their standard errors, and with --bootstrap their confidence intervals; the
+flux-weighted fraction of drizzle reaching the surface (sum of surface_drizzle_rate
+over sum of cloud_base_drizzle_rate); and maps of every diagnostic.
+
+PROCESSED may be a file, a quoted glob ('out/*.nc') or @LIST (a file naming one
+input per line); --manifest adds the outputs a batch manifest of 'warmrain process'
+records as complete.
 
 The table goes to stdout. -o writes the same statistics and the maps as a CF NetCDF
-file; --plots writes PNG pictures into DIR: one quick-look map per diagnostic
-(map_<variable>_mean.png, or _first.png with --map-of first), a map of how many
-valid time steps each cell averaged (map_valid_count.png), POP against LWP for
-several N_d bins (pop_vs_lwp.png) and the susceptibilities against LWP
-(susceptibility_vs_lwp.png). Existing files are only replaced with --force.
+file, in the units of the per-column files (LWP g m-2, N_d cm-3, rates mm day-1),
+with time bounds spanning the inputs' time bounds; --plots writes PNG pictures into
+DIR: one quick-look map per diagnostic (map_<variable>_mean.png, or _first.png with
+--map-of first), a map of how many valid values each cell averaged
+(map_valid_count.png), POP against LWP for several N_d bins (pop_vs_lwp.png) and the
+susceptibilities against LWP (susceptibility_vs_lwp.png). Existing files are only
+replaced with --force.
+
+Maps. Without --grid, files on one common grid or swath give time-mean maps on it;
+files on different grids give none (stderr says so). --grid DEG bins the columns of
+every file (grids, swaths, meshes with coordinates, on any grids) into DEG-degree
+cells of a regular latitude-longitude grid: per cell the count, mean and standard
+deviation of every diagnostic, the fraction of columns screened by each QC reason and
+the drizzle occurrence frequencies (POP above --drizzle-pop, and LWP above the
+critical LWP*). The sums are exact, so the numbers do not depend on the order of the
+files. Latitude and longitude are coordinates, never summarised; longitudes may be
+given as -180..180 or 0..360.
+
+Batch tasks. --partial -o PART.nc writes a partial summary (exact sums and counts)
+instead of the statistics, one per task; --merge PART.nc... combines partial
+summaries into the summary a single run over all the files would give.
 
 Maps have coastlines (GSHHG, from the Debian package gmt-gshhg-low; without it
 they are drawn without, and stderr says so once), fixed colour limits per
@@ -48,9 +69,10 @@ only the parameters the variable depends on. See doc/maps.md.
 
 Any processed shape is summarised: grids, swaths, meshes and lists of sites (one
 horizontal dimension), time series at one site, with any leading dimensions (time,
-ensemble member). Maps need a grid or swath with latitude and longitude; for other
-files the statistics use every column and stderr says why there are no maps.
---region needs latitude and longitude (in degrees or radians) in every file.
+ensemble member). --region needs latitude and longitude (in degrees or radians) in
+every file. A --region or --from/--to window that selects no column is an error
+naming where and when the data are (and the box to try when it was typed
+longitude-first); with --partial it writes an empty partial summary and a note.
 
 Columns flagged by a screening bit of warm_rain_qc (input_missing, input_invalid,
 thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausible,
@@ -71,8 +93,9 @@ gives the mean retrieval error per bin.
 
 Bins are given in display units: --lwp-bins in g m-2, --nd-bins in cm-3, either as
 LO:HI:N (N logarithmic bins from LO to HI) or as a comma-separated list of ascending
-edges. Times (--from, --to; the window is [FROM, TO)) are UTC: 2026-07-01,
-2026-07-01T06:00 or RFC 3339.
+edges. Times (--from, --to; the window is [FROM, TO)) are dates and times of the
+files' calendar (standard, proleptic_gregorian, julian, noleap, 365_day, all_leap,
+366_day, 360_day): 2026-07-01, 2026-07-01T06:00 or RFC 3339.
 
 Results are research diagnostics, not for operational forecasting or flight-safety
 decisions.
@@ -82,6 +105,9 @@ Examples:
   warmrain summary out/*.nc -o summary.nc --plots pictures --region -30,-10,-90,-70
   warmrain summary out/*.nc --plots pictures --range droplet_number=20:500:log
   warmrain summary day1.nc day2.nc --from 2026-07-01 --to 2026-07-02 --bootstrap 200 --tile 16
+  warmrain summary 'granules/*_warmrain.nc' --grid 1 -o gridded.nc --plots maps
+  warmrain summary @task07.txt --grid 1 --partial -o parts/task07.nc
+  warmrain summary --merge 'parts/*.nc' -o gridded.nc --plots maps
 `
 
 // Names in processed files: rows of microphys.OutputDecls.
@@ -92,6 +118,7 @@ var (
 	rateVarName = procfile.RateName
 	surfVarName = procfile.SurfName
 	baseVarName = procfile.BaseName
+	critVarName = mustOutput("critical_lwp").Name
 	mustOutput  = procfile.MustOutput
 	screenWords = procfile.ScreenWords
 )
@@ -109,6 +136,9 @@ type summaryFlags struct {
 	opt                    summary.Options
 	width, height          int
 	force                  bool
+	gridStep               float64 // --grid degrees, 0 = none
+	popThreshold           float64 // --drizzle-pop
+	partial, merge         bool
 	ranges                 plots.Ranges // --range: the user's colour ranges
 }
 
@@ -117,8 +147,8 @@ func runSummary(e *env, args []string) error {
 	output := fs.StringP("output", "o", "", "write the summary as a CF NetCDF file `SUMMARY.nc`")
 	plotDir := fs.String("plots", "", "write PNG pictures into `DIR` (created if missing)")
 	region := fs.String("region", "", "keep columns in the box `LATMIN,LATMAX,LONMIN,LONMAX` (degrees; LONMIN > LONMAX crosses 180°)")
-	from := fs.String("from", "", "keep time steps at or after `TIME` (UTC)")
-	to := fs.String("to", "", "keep time steps before `TIME` (UTC)")
+	from := fs.String("from", "", "keep time steps at or after `TIME` (UTC, a date of the files' calendar)")
+	to := fs.String("to", "", "keep time steps before `TIME` (UTC, a date of the files' calendar)")
 	lwpBins := fs.String("lwp-bins", "20:500:10", "LWP bins in g m-2: `LO:HI:N` logarithmic, or edges E1,E2,...")
 	ndBins := fs.String("nd-bins", "10:1000:10", "N_d bins in cm-3: `LO:HI:N` logarithmic, or edges E1,E2,...")
 	boot := fs.Int("bootstrap", 0, "number `N` of tile-bootstrap replicates for the susceptibility intervals (0 = off; 200 or more for 95% intervals)")
@@ -130,21 +160,64 @@ func runSummary(e *env, args []string) error {
 	size := fs.String("plot-size", "900x600", "picture size `WxH` in pixels")
 	mapOf := fs.String("map-of", "mean", "what the maps show: `mean` (time mean) or first (first selected time step)")
 	force := fs.Bool("force", false, "overwrite an existing summary file and existing pictures")
+	gridDeg := fs.String("grid", "", "bin the columns of every file (grids, swaths, meshes with coordinates) onto a regular latitude-longitude grid of `DEG` degrees (180/DEG whole)")
+	popThr := fs.Float64("drizzle-pop", 0.5, "with --grid: a column counts as drizzling in the occurrence frequency when its POP exceeds `P`")
+	partial := fs.Bool("partial", false, "write -o as a partial summary (exact sums and counts, e.g. one per batch task) for --merge")
+	merge := fs.Bool("merge", false, "the inputs are partial summaries (--partial): combine them exactly")
+	manifest := fs.String("manifest", "", "also summarise the outputs that the batch manifest `FILE` of 'warmrain process' records as complete")
 	ranges := fs.StringArray("range", nil, "colour range of VAR's maps in the units the map shows, instead of the declared one: `VAR=LO:HI[:log]` (repeatable)")
 	if err := parseFlags(e, fs, summaryUsage, args); err != nil {
 		return err
 	}
-	inputs := fs.Args()
+	inputs, err := batch.ExpandInputs(fs.Args())
+	if err != nil {
+		return usagef("%v", err)
+	}
+	if *manifest != "" {
+		m, err := manifestOutputs(*manifest)
+		if err != nil {
+			return usagef("%v", err)
+		}
+		for _, p := range m {
+			if !slices.Contains(inputs, p) {
+				inputs = append(inputs, p)
+			}
+		}
+	}
 	if len(inputs) == 0 {
 		return usagef("no processed files given")
 	}
-	f := summaryFlags{output: *output, plotDir: *plotDir, mapOf: *mapOf, force: *force}
-	var err error
+	f := summaryFlags{output: *output, plotDir: *plotDir, mapOf: *mapOf, force: *force, partial: *partial, merge: *merge, popThreshold: *popThr}
 	if f.ranges, err = plots.ParseRanges(*ranges); err != nil {
 		return usagef("%v", err)
 	}
 	if f.mapOf != "mean" && f.mapOf != "first" {
 		return usagef("--map-of %q: expected mean or first", f.mapOf)
+	}
+	if f.gridStep, err = parseGridStep(*gridDeg); err != nil {
+		return usagef("--grid: %v", err)
+	}
+	if !(f.popThreshold >= 0 && f.popThreshold < 1) {
+		return usagef("--drizzle-pop %g: expected a probability in [0, 1)", f.popThreshold)
+	}
+	if f.gridStep > 0 && f.mapOf == "first" {
+		return usagef("--map-of first maps the first time step on its own grid; with --grid the maps are the cells' means")
+	}
+	if f.partial && f.output == "" {
+		return usagef("--partial writes the partial summary to -o FILE; give -o")
+	}
+	if f.partial && f.plotDir != "" {
+		return usagef("--partial writes sums, not statistics: draw the pictures with --merge")
+	}
+	if f.merge {
+		for _, n := range []string{"bootstrap", "seed", "tile", "lwp-bins", "nd-bins"} {
+			if fs.Changed(n) {
+				return usagef("--merge takes --%s from the partial summaries; give it to the --partial runs", n)
+			}
+		}
+	}
+	if f.merge && (*region != "" || *from != "" || *to != "") {
+		return usagef("--merge combines partial summaries as they were selected; give --region, --from and --to to the --partial runs")
 	}
 	if *region != "" {
 		if f.region, err = parseRegion(*region); err != nil {
@@ -243,6 +316,9 @@ func parseRegion(s string) (*summary.Region, error) {
 	}
 	r := &summary.Region{LatMin: v[0], LatMax: v[1], LonMin: v[2], LonMax: v[3]}
 	if r.LatMin < -90 || r.LatMax > 90 {
+		if sw, ok := swapped(r); ok {
+			return nil, fmt.Errorf("%q: latitudes must lie in -90..90; the box is LATMIN,LATMAX,LONMIN,LONMAX: typed longitude-first? try --region %s", s, regionArg(sw))
+		}
 		return nil, fmt.Errorf("%q: latitudes must lie in -90..90", s)
 	}
 	if err := r.Check(); err != nil {
@@ -309,6 +385,7 @@ func parseBins(s string, scale float64) ([]float64, error) {
 type summaryState struct {
 	acc       *summary.Accumulator
 	maps      *summary.MapAccumulator
+	grid      *summary.Gridded // --grid
 	mapNames  []string
 	mapInfo   map[string]procfile.Var
 	mapsOK    bool
@@ -320,9 +397,13 @@ type summaryState struct {
 	history   string            // of the only input
 	files     int
 	// steps, tmin and tmax count the selected time steps (leading indices) and
-	// their time range over every file, maps or not.
-	steps      int
-	tmin, tmax float64
+	// their time range over every file, maps or not; bmin and bmax span their time
+	// bounds (stepBounds), instant is set when a step had zero length.
+	steps                  int
+	tmin, tmax, bmin, bmax float64
+	instant                bool
+	calendar, calFile      string // grid.CalendarKind of the times, and the file it came from
+	ext                    *extent
 	// Per cell of the map grid over the selected steps: the steps screened and those
 	// screened for a missing input (the maps' no-data classes), and the first selected
 	// step's QC (--map-of first). valid and shapeAssumed count the valid columns and
@@ -331,6 +412,7 @@ type summaryState struct {
 	firstQC                   []uint16
 	lwpName                   string // the first file's LWP variable (styled as liquid_water_path)
 	valid, shapeAssumed       int64
+	gridClasses               []plots.NoData // --grid: the no-data classes of the cells
 }
 
 // stepSpan is ms with the step count and time range of every selected step, for
@@ -344,21 +426,61 @@ func (st *summaryState) stepSpan(ms summary.MapSet) summary.MapSet {
 }
 
 func summarise(e *env, f summaryFlags, inputs, args []string) error {
-	acc, err := summary.New(f.opt)
-	if err != nil {
-		return usagef("%v", err)
+	st := &summaryState{mapsOK: true, firstTime: math.NaN(), tmin: math.Inf(1), tmax: math.Inf(-1),
+		bmin: math.Inf(1), bmax: math.Inf(-1), ext: newExtent()}
+	accOpt := f.opt
+	if !f.window.IsZero() { // the steps are selected here, in each file's calendar
+		accOpt.Window = anyTime
 	}
-	maps, err := summary.NewMaps(f.region, f.window)
-	if err != nil {
-		return usagef("%v", err)
-	}
-	st := &summaryState{acc: acc, maps: maps, mapsOK: true, firstTime: math.NaN(), tmin: math.Inf(1), tmax: math.Inf(-1)}
-	for k, in := range inputs {
-		if err := st.addFile(e, f, in, k == 0); err != nil {
-			return err
+	if f.merge {
+		for k, in := range inputs {
+			if err := st.readPartial(e, &f, in, k == 0); err != nil {
+				return err
+			}
+		}
+		st.mapsOK = false
+		if st.acc.Result().Counts.Selected == 0 {
+			return fmt.Errorf("nothing selected: the partial summaries %s hold no selected column (their --region or --from/--to missed the data; their runs said where the data are)", strings.Join(inputs, ", "))
+		}
+	} else {
+		var err error
+		if st.acc, err = summary.New(accOpt); err != nil {
+			return usagef("%v", err)
+		}
+		if st.maps, err = summary.NewMaps(f.region, accOpt.Window); err != nil {
+			return usagef("%v", err)
+		}
+		st.mapsOK = f.gridStep == 0
+		for k, in := range inputs {
+			if err := st.addFile(e, f, accOpt.Window, in, k == 0); err != nil {
+				return err
+			}
+		}
+		if (f.region != nil || !f.window.IsZero()) && st.acc.Result().Counts.Selected == 0 {
+			st.ext.calendar = st.calendar
+			if st.ext.calendar == "" {
+				st.ext.calendar = grid.CalStandard
+			}
+			err := selectionError(f, st.ext)
+			if !f.partial {
+				return err
+			}
+			// One task's share of an archive may lie outside the selection: its
+			// partial summary is empty, and --merge checks the whole.
+			fmt.Fprintf(e.stderr, "warmrain summary: note: the partial summary is empty: %v\n", err)
 		}
 	}
-	res := acc.Result()
+	if f.partial {
+		if err := summary.WriteTable(e.stdout, st.acc.Result()); err != nil {
+			return err
+		}
+		if err := grid.WriteDataset(f.output, partialDataset(st, f, inputs), f.force); err != nil {
+			return err
+		}
+		fmt.Fprintf(e.stderr, "warmrain summary: wrote the partial summary %s (combine partial summaries with --merge)\n", f.output)
+		return nil
+	}
+	res := st.acc.Result()
 	if !st.mixed { // what sets S_R and S_I (summary.LawNote)
 		if c, err := strconv.ParseFloat(strings.Fields(st.params["drizzle_law_c"] + " x")[0], 64); err == nil {
 			res.Options.LawNdExponent = c
@@ -367,12 +489,26 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 	if err := summary.WriteTable(e.stdout, res); err != nil {
 		return err
 	}
-	ms := maps.Result()
-	if !st.mapsOK {
+	var ms summary.MapSet
+	var gr *summary.GriddedResult
+	switch {
+	case st.grid != nil:
+		gr = st.grid.Result(st.grid.Extent())
+		if gr.Extent.NY > 0 {
+			ms = griddedMapSet(gr, st.mapInfo)
+			st.gridClasses = griddedClasses(gr)
+		} else {
+			fmt.Fprintf(e.stderr, "warmrain summary: --grid: no column with latitude and longitude was selected; no gridded maps\n")
+			gr = nil
+		}
+	case st.maps != nil:
+		ms = st.maps.Result()
+	}
+	if !st.mapsOK && gr == nil {
 		ms.Maps = nil
 	}
 	if f.output != "" {
-		ds := summaryDataset(f, st, res, ms, inputs, args)
+		ds := summaryDataset(f, st, res, ms, gr, inputs, args)
 		if err := grid.WriteDataset(f.output, ds, f.force); err != nil {
 			return err
 		}
@@ -386,7 +522,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 	return nil
 }
 
-func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool) error {
+func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window, path string, first bool) error {
 	p, err := procfile.Open(path, f.window)
 	if err != nil {
 		return err
@@ -404,12 +540,39 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		st.mapInfo = p.Vars
 		st.lwpName = p.LWP
 		for _, v := range p.Info.Vars { // file order; latitude and longitude are no diagnostics
-			if vi, ok := p.Vars[v.Name]; ok && !plots.IsCoordinate(v.Name, vi.Std, v.Text("units")) {
+			if vi, ok := p.Vars[v.Name]; ok && mappedUncertainty(v.Name) && !plots.IsCoordinate(v.Name, vi.Std, v.Text("units")) {
 				st.mapNames = append(st.mapNames, v.Name)
 			}
 		}
 		if a, ok := p.Info.Global("history"); ok {
 			st.history, _ = a.Text()
+		}
+		if f.gridStep > 0 {
+			g, err := summary.NewLatLonGrid(f.gridStep)
+			if err != nil {
+				return usagef("--grid: %v", err)
+			}
+			reasons := make([]string, len(screenWords))
+			copy(reasons, screenWords)
+			st.grid, err = summary.NewGridded(summary.GriddedOptions{Grid: g, Region: f.region, Window: accWindow, Names: st.mapNames, Reasons: reasons,
+				POP: popVarName, LWP: p.LWP, CritLWP: critVarName, POPThreshold: f.popThreshold})
+			if err != nil {
+				return err
+			}
+			// About 145 bytes per diagnostic and cell with columns (measured; the exact
+			// sums): say so when a full grid would take more than 1 GiB.
+			cells := float64(g.NLat * g.NLon)
+			if r := f.region; r != nil {
+				w := math.Mod(r.LonMax-r.LonMin+720, 360)
+				if r.LonMax-r.LonMin >= 360 {
+					w = 360
+				}
+				cells *= (r.LatMax - r.LatMin + f.gridStep) / 180 * (w + f.gridStep) / 360
+			}
+			if need := cells * float64(len(st.mapNames)) * 145; need > 1<<30 {
+				fmt.Fprintf(e.stderr, "warmrain summary: --grid %g: the sums of %d diagnostics take about %.1f GB where columns cover the whole %s; memory grows with the cells that receive columns (a coarser --grid or a --region needs less)\n",
+					f.gridStep, len(st.mapNames), need/1e9, map[bool]string{true: "region", false: "globe"}[f.region != nil])
+			}
 		}
 	} else if !st.mixed {
 		for k, v := range st.params {
@@ -431,10 +594,14 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 	needs := append([]string{p.LWP, ndVarName, popVarName, p.Rate, p.Surf, p.Base, popErr, rateErr}, st.mapNames...)
 	fileKey := sceneKey(path)
 	s := p.Scene
+	st.ext.addScene(s)
 	if f.region != nil && s.Lat == nil {
 		return &grid.VarError{File: path, Problem: "--region selects by latitude and longitude, and this file has none; leave --region out for files without coordinates", Err: grid.ErrLayout}
 	}
-	if p.NoMaps != "" && st.mapsOK {
+	if st.grid != nil && s.Lat == nil {
+		return &grid.VarError{File: path, Problem: "--grid bins columns by latitude and longitude, and this file has none; leave --grid out for files without coordinates", Err: grid.ErrLayout}
+	}
+	if p.NoMaps != "" && st.mapsOK && st.grid == nil {
 		st.mapsOK = false
 		fmt.Fprintf(e.stderr, "warmrain summary: no maps: %s: %s; the binned statistics use every column\n", path, p.NoMaps)
 	}
@@ -442,26 +609,52 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		fmt.Fprintf(e.stderr, "warmrain summary: %s has no time axis; the time window cannot select it, skipped\n", path)
 		return nil
 	}
+	// The window in the file's calendar; one calendar for all files with times.
+	win := f.window
+	if p.TimeVals != nil {
+		if st.calendar == "" {
+			st.calendar, st.calFile = p.Calendar, path
+		} else if !sameCalendarGroup(st.calendar, p.Calendar) {
+			return &grid.VarError{File: path, Problem: fmt.Sprintf("has times in the %s calendar and %s in the %s calendar; summarise files of one calendar together", p.Calendar, st.calFile, st.calendar), Err: grid.ErrLayout}
+		}
+		if win, err = calendarWindow(p.Calendar, f.window); err != nil {
+			return usagef("--from/--to in the %s calendar of %s: %v", p.Calendar, path, err)
+		}
+		st.ext.addTimes(p.TimeVals)
+	}
+	var blo, bhi []float64
+	if p.TimeVals != nil && p.Hz.Time >= 0 {
+		var inst bool
+		blo, bhi, inst = stepBounds(p.TimeVals, p.TimeBnds)
+		st.instant = st.instant || inst
+	}
 	cells := s.Cells()
 	return p.Blocks(func(b procfile.Block) error {
 		times := p.BlockTimes(b)
 		sel := times == nil
 		for _, t := range times {
-			sel = sel || f.window.Contains(t)
+			sel = sel || win.Contains(t)
 		}
 		if !sel {
 			return nil
 		}
-		d, qc, err := p.Step(b, needs)
+		d, qc, reasons, err := p.StepAll(b, needs)
 		if err != nil {
 			return err
 		}
 		for k := 0; k < b.N; k++ {
 			if times == nil {
 				st.steps++
-			} else if f.window.Contains(times[k]) {
+			} else if win.Contains(times[k]) {
 				st.steps++
 				st.tmin, st.tmax = math.Min(st.tmin, times[k]), math.Max(st.tmax, times[k])
+				ti := b.Index[p.Hz.Time]
+				if b.Inner == p.Hz.Time {
+					ti = b.Lo + k
+				}
+				st.bmin, st.bmax = math.Min(st.bmin, blo[ti]), math.Max(st.bmax, bhi[ti])
+			} else {
+				times[k] = math.NaN() // not selected (accWindow selects the finite times)
 			}
 		}
 		sc := summary.Scene{Lat: s.Lat, Lon: s.Lon, NY: s.NY, NX: s.NX, NT: b.N, Time: times, Key: fileKey ^ uint64(b.Number)<<40}
@@ -489,26 +682,33 @@ func (st *summaryState) addFile(e *env, f summaryFlags, path string, first bool)
 		if err := st.acc.Add(sc, &cols); err != nil {
 			return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
 		}
-		if !st.mapsOK {
-			return nil
-		}
 		fields := make([]summary.Field, 0, len(st.mapNames))
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
 			fields = append(fields, summary.Field{Name: n, Units: vi.Units, LongName: vi.Long, Data: d[n]})
+		}
+		if st.grid != nil {
+			if err := st.grid.Add(sc, reasons, fields...); err != nil {
+				return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
+			}
+			st.countValid(qc, times, b.N, sc, f.region, accWindow)
+			return nil
+		}
+		if !st.mapsOK {
+			return nil
 		}
 		if err := st.maps.Accumulate(sc, fields...); err != nil {
 			if !errors.Is(err, summary.ErrGrid) {
 				return fmt.Errorf("%s: block %d of time steps: %w", path, b.Number, err)
 			}
 			st.mapsOK = false
-			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v)\n", path, err)
+			fmt.Fprintf(e.stderr, "warmrain summary: %s is on another grid than the first file; no time-mean maps are made (%v); --grid DEG bins files on any grids onto one\n", path, err)
 			return nil
 		}
-		st.countCells(qc, times, b.N, sc, f.region, f.window)
+		st.countCells(qc, times, b.N, sc, f.region, accWindow)
 		if st.first == nil {
 			for k := 0; k < b.N; k++ {
-				if times != nil && !f.window.Contains(times[k]) {
+				if times != nil && math.IsNaN(times[k]) {
 					continue
 				}
 				st.first = map[string][]float64{}
@@ -568,6 +768,27 @@ func (st *summaryState) countCells(qc []uint16, times []float64, n int, s summar
 				if q&procfile.QCShapeAssumed != 0 {
 					st.shapeAssumed++
 				}
+			}
+		}
+	}
+}
+
+// countValid counts the valid columns of n steps in the region and those with the
+// assumed gamma shape (for the map titles), without the per-cell counts of countCells
+// (--grid: the files' grids differ).
+func (st *summaryState) countValid(qc []uint16, times []float64, n int, s summary.Scene, r *summary.Region, w summary.Window) {
+	cells := s.Cells()
+	for k := 0; k < n; k++ {
+		if times != nil && !w.Contains(times[k]) {
+			continue
+		}
+		for c, q := range qc[k*cells : (k+1)*cells] {
+			if q&1 != 0 || (r != nil && !r.Contains(s.LatLon(c/s.NX, c%s.NX))) {
+				continue
+			}
+			st.valid++
+			if q&procfile.QCShapeAssumed != 0 {
+				st.shapeAssumed++
 			}
 		}
 	}
@@ -658,21 +879,45 @@ func summaryVarSpec(v summary.Var, float bool) grid.VarSpec {
 	return vs
 }
 
-func utcText(t float64) string {
-	sec, frac := math.Modf(t)
-	return time.Unix(int64(sec), int64(frac*1e9)).UTC().Format("2006-01-02T15:04:05Z")
-}
-
-func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet, inputs, args []string) *grid.Dataset {
+func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet, gr *summary.GriddedResult, inputs, args []string) *grid.Dataset {
 	ds := &grid.Dataset{}
 	dims := res.Dims()
 	for _, n := range []string{summary.DimLWP, summary.DimNd, summary.DimBounds} {
 		ds.Dims = append(ds.Dims, grid.DimSpec{Name: n, Len: dims[n]})
 	}
 	for _, v := range res.Variables() {
-		ds.Vars = append(ds.Vars, summaryVarSpec(v, false))
+		ds.Vars = append(ds.Vars, summaryVarSpec(inFileUnits(v), false))
 	}
-	if len(ms.Maps) > 0 {
+	cal := st.calendar
+	if cal == "" {
+		cal = grid.CalStandard
+	}
+	timeVars := func() []grid.VarSpec {
+		long := "middle of the summarised period; time_bnds spans the time bounds of the inputs' selected steps"
+		if st.instant {
+			long += " (an input without time_bnds and with one time step counts as an instant, so the period can have zero length)"
+		}
+		return []grid.VarSpec{
+			{Name: "time", Type: grid.Double, Data: []float64{(st.bmin + st.bmax) / 2}, Attrs: []grid.Attr{
+				attr("standard_name", "time"), attr("long_name", long),
+				attr("units", "seconds since 1970-01-01 00:00:00"), attr("calendar", cal), attr("axis", "T"), attr("bounds", "time_bnds")}},
+			{Name: "time_bnds", Dims: []string{summary.DimBounds}, Type: grid.Double, Data: []float64{st.bmin, st.bmax}}}
+	}
+	haveTime := !math.IsInf(st.bmin, 1)
+	if gr != nil {
+		ds.Dims = append(ds.Dims, grid.DimSpec{Name: "lat", Len: len(gr.Lat)}, grid.DimSpec{Name: "lon", Len: len(gr.Lon)})
+		ds.Vars = append(ds.Vars,
+			grid.VarSpec{Name: "lat", Dims: []string{"lat"}, Type: grid.Double, Data: gr.Lat, Attrs: []grid.Attr{
+				attr("standard_name", "latitude"), attr("long_name", "latitude of the cell centre"), attr("units", "degrees_north"), attr("axis", "Y")}},
+			grid.VarSpec{Name: "lon", Dims: []string{"lon"}, Type: grid.Double, Data: gr.Lon, Attrs: []grid.Attr{
+				attr("standard_name", "longitude"), attr("long_name", "longitude of the cell centre (increasing; past 180 when the cells cross the antimeridian)"), attr("units", "degrees_east"), attr("axis", "X")}})
+		coords := "lat lon"
+		if haveTime {
+			ds.Vars = append(ds.Vars, timeVars()...)
+			coords = "time lat lon"
+		}
+		ds.Vars = append(ds.Vars, griddedVars(gr, st.mapInfo, coords)...)
+	} else if len(ms.Maps) > 0 {
 		g := ms.Grid
 		twoD := g.TwoD()
 		yd, xd := "lat", "lon"
@@ -695,15 +940,12 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 				grid.VarSpec{Name: "lon", Dims: []string{"lon"}, Type: grid.Double, Data: g.Lon, Attrs: []grid.Attr{
 					attr("standard_name", "longitude"), attr("long_name", "longitude of the cell centre"), attr("units", "degrees_east"), attr("axis", "X")}})
 		}
-		if !math.IsNaN(ms.TimeMin) {
-			ds.Vars = append(ds.Vars,
-				grid.VarSpec{Name: "time", Type: grid.Double, Data: []float64{(ms.TimeMin + ms.TimeMax) / 2}, Attrs: []grid.Attr{
-					attr("standard_name", "time"), attr("long_name", "middle of the averaging period (first to last time step averaged)"),
-					attr("units", "seconds since 1970-01-01 00:00:00"), attr("calendar", "standard"), attr("axis", "T"), attr("bounds", "time_bnds")}},
-				grid.VarSpec{Name: "time_bnds", Dims: []string{summary.DimBounds}, Type: grid.Double, Data: []float64{ms.TimeMin, ms.TimeMax}})
+		if haveTime {
+			ds.Vars = append(ds.Vars, timeVars()...)
 			coords = strings.TrimSpace("time " + coords)
 		}
 		for _, v := range ms.Variables() {
+			v = inFileUnits(v)
 			// <name>_mean of the maps would clash with the bin means of the statistics
 			// (drizzle_probability_mean): the maps are <name>_time_mean and
 			// <name>_time_mean_count.
@@ -727,6 +969,8 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 			}
 			ds.Vars = append(ds.Vars, vs)
 		}
+	} else if haveTime { // no maps: the period of the statistics still has its bounds
+		ds.Vars = append(ds.Vars, timeVars()...)
 	}
 	line := time.Now().UTC().Format("2006-01-02T15:04:05Z") + ": warmrain " + Version() + " summary " + joinArgs(args)
 	hist := line
@@ -737,7 +981,7 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 		attr("Conventions", "CF-1.13 ACDD-1.3"),
 		attr("title", "warm-rain summary statistics (warmrain)"),
 		attr("summary", "Drizzle probability and cloud-base drizzle rate binned by liquid water path and droplet number, precipitation susceptibilities per liquid-water-path bin, the fraction of drizzle reaching the surface, and time-mean maps, over processed warmrain files."),
-		attr("comment", summaryCaution+" Statistics are in SI units (LWP kg m-2, N_d m-3, rates kg m-2 s-1 = mm s-1 of liquid water)."),
+		attr("comment", summaryCaution+" Values are in the units of the per-column files of 'warmrain process' (LWP g m-2, N_d cm-3, drizzle rates mm day-1; see each variable's units)."),
 		attr("history", hist),
 		attr("source", "warmrain "+Version()+" (libnetcdf "+grid.LibraryVersion()+")"),
 		attr("references", "Feingold and Siebert (2009) (precipitation susceptibility); Terai et al. (2012) (S_R = S_POP + S_I); Hanley and MacGibbon (2006) (Poisson bootstrap weights); Carlstein (1986), Künsch (1989), Lahiri (2003) (block bootstrap over tiles); Cochran (1977) (tile standard errors of ratio means)"),
@@ -755,8 +999,11 @@ func summaryDataset(f summaryFlags, st *summaryState, res *summary.Result, ms su
 	for _, k := range keys {
 		g = append(g, attr(k, ra[k]))
 	}
-	if !math.IsNaN(ms.TimeMin) {
-		g = append(g, attr("time_coverage_start", utcText(ms.TimeMin)), attr("time_coverage_end", utcText(ms.TimeMax)))
+	if haveTime {
+		g = append(g, attr("time_coverage_start", grid.CalendarText(cal, st.bmin)), attr("time_coverage_end", grid.CalendarText(cal, st.bmax)))
+	}
+	if gr != nil {
+		g = append(g, attr("warmrain_grid", fmt.Sprintf("%g-degree regular latitude-longitude cells; per cell the statistics of every column located in it over every selected time step; exact sums, so independent of the order of the inputs", gr.Grid.Step)))
 	}
 	if !st.mixed {
 		pk := make([]string, 0, len(st.params))
@@ -912,9 +1159,25 @@ func titleChars(_ summary.Scene, w, _ int) int {
 	return max(24, int(float64(w-8-150-16)/7.5))
 }
 
+// mappedUncertainty reports whether a variable is mapped as far as its uncertainty goes:
+// of the uncertainty outputs (uncertainty.go) only the retrieval errors of N_d and of the
+// cloud-base drizzle rate get maps; every other variable is decided by its type and grid.
+func mappedUncertainty(name string) bool {
+	if strings.HasSuffix(name, spreadSuffix) {
+		return false
+	}
+	if base, ok := strings.CutSuffix(name, seSuffix); ok {
+		return base == ndVarName || base == rateVarName
+	}
+	return true
+}
+
 // mapStyle sets the colour scale, limits and units of a diagnostic's picture: the
 // declared ones (microphys.OutputDecls) or the user's --range (plots.Style).
 func mapStyle(name, siUnit string, ranges plots.Ranges, o *plots.MapOptions) (fixed bool) {
+	if base, ok := strings.CutSuffix(name, seSuffix); ok {
+		name = base // a standard error is drawn on its diagnostic's scale
+	}
 	return plots.Style(name, siUnit, ranges, o)
 }
 
@@ -1026,6 +1289,10 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 	} else if f.mapOf == "mean" && len(ms.Maps) > 0 {
 		when := "time mean, " + spanText(ms, st.files)
 		classes := noDataClasses(st.cellScreened, st.cellMissing, nil)
+		if st.grid != nil {
+			when = fmt.Sprintf("mean of the columns in %g° cells, ", st.grid.Options().Grid.Step) + spanText(ms, st.files)
+			classes = st.gridClasses
+		}
 		for _, m := range ms.Maps {
 			n := m.Mean.Name
 			if vi := st.mapInfo[n]; plots.IsCoordinate(n, vi.Std, vi.Units) {
@@ -1037,7 +1304,11 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 			if m.Mean.Name == popVarName {
 				c := m.CountField()
 				c.Units = "1"
-				jobs = append(jobs, mapJob{field: c, grid: ms.Grid, title: "Number of time steps with a valid drizzle probability",
+				title := "Number of time steps with a valid drizzle probability"
+				if st.grid != nil {
+					title = "Number of columns with a valid drizzle probability"
+				}
+				jobs = append(jobs, mapJob{field: c, grid: ms.Grid, title: title,
 					when: "over " + spanText(ms, st.files), keepUnits: true, file: "map_valid_count.png"})
 			}
 		}

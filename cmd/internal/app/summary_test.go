@@ -319,13 +319,13 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	if len(sp) != 3 {
 		t.Fatalf("susceptibility_pop has %d LWP bins, want 3", len(sp))
 	}
-	// Retrieval errors: the mean of a constant is that constant, in SI (0.1 mm day-1 =
-	// 0.1/86400 kg m-2 s-1, derived); bootstrap limits bracket the estimate.
+	// Retrieval errors: the mean of a constant is that constant, in the per-column
+	// file's units (mm day-1); bootstrap limits bracket the estimate.
 	cnt := floats(t, m["column_count"])
 	ep, er := floats(t, m["drizzle_probability_mean_retrieval_error"]), floats(t, m["cloud_base_drizzle_rate_mean_retrieval_error"])
 	for b := range cnt {
-		if cnt[b] > 0 && (math.Abs(ep[b]-synthSEPOP) > 1e-6 || math.Abs(er[b]*86400-synthSERate) > 1e-6) {
-			t.Errorf("bin %d: mean retrieval errors %g, %g mm day-1; want %g, %g", b, ep[b], er[b]*86400, synthSEPOP, synthSERate)
+		if cnt[b] > 0 && (math.Abs(ep[b]-synthSEPOP) > 1e-6 || math.Abs(er[b]-synthSERate) > 1e-6) {
+			t.Errorf("bin %d: mean retrieval errors %g, %g mm day-1; want %g, %g", b, ep[b], er[b], synthSEPOP, synthSERate)
 		}
 	}
 	lo, hi := floats(t, m["susceptibility_pop_lower_limit"]), floats(t, m["susceptibility_pop_upper_limit"])
@@ -350,8 +350,9 @@ func TestSummarySyntheticLaw(t *testing.T) {
 	if int(sum) != valid {
 		t.Errorf("bin counts add up to %g, want the %d valid columns", sum, valid)
 	}
-	if got := floats(t, m["lwp_bin"]); math.Abs(got[0]-math.Sqrt(0.05*0.1)) > 1e-12 {
-		t.Errorf("lwp_bin[0] = %g kg m-2, want the geometric centre %g (derived)", got[0], math.Sqrt(0.05*0.1))
+	// The summary file uses the units of the per-column file: LWP in g m-2.
+	if got := floats(t, m["lwp_bin"]); math.Abs(got[0]-math.Sqrt(50*100)) > 1e-9 {
+		t.Errorf("lwp_bin[0] = %g g m-2, want the geometric centre %g (derived)", got[0], math.Sqrt(50*100))
 	}
 	// Surface fraction: Σ R_sfc / Σ R_CB over the valid columns with both rates finite
 	// and R_CB > 0, computed by netCDF4-python from the processed file itself (an outside
@@ -364,14 +365,14 @@ func TestSummarySyntheticLaw(t *testing.T) {
 		t.Errorf("surface_drizzle_fraction per LWP bin %v: want 3 bins rising with LWP (the synthetic surface rates)", sf)
 	}
 	t.Logf("S_POP %.4f, S_R %.4f, S_I %.4f", sp, sr, si)
-	// The rate map is in SI: mm day-1 / 86400 = kg m-2 s-1 of liquid water (derived,
-	// rho_w = 1000 kg m-3); cell (0, 1) holds columns 1 and 1+NY*NX, neither screened.
-	if m["rate_map_units"] != nil && m["rate_map_units"] != "kg m-2 s-1" {
-		t.Errorf("rate map units %v", m["rate_map_units"])
+	// The rate map is in the per-column file's units (mm day-1, microphys.OutputDecls);
+	// cell (0, 1) holds columns 1 and 1+NY*NX, neither screened.
+	if m["rate_map_units"] != nil && m["rate_map_units"] != mustOutput(rateVarName).Units {
+		t.Errorf("rate map units %v, want %s", m["rate_map_units"], mustOutput(rateVarName).Units)
 	}
-	wantRate := (cols[1].rate + cols[1+synthNY*synthNX].rate) / 2 / 86400
+	wantRate := (cols[1].rate + cols[1+synthNY*synthNX].rate) / 2
 	if got, ok := m["rate_map_01"].(float64); !ok || math.Abs(got-wantRate) > 1e-6*wantRate {
-		t.Errorf("rate map (0, 1) = %v, want %g kg m-2 s-1", m["rate_map_01"], wantRate)
+		t.Errorf("rate map (0, 1) = %v, want %g mm day-1", m["rate_map_01"], wantRate)
 	}
 	if s := m["pop_mean_map_shape"].([]any); len(s) != 2 || s[0].(float64) != synthNY || s[1].(float64) != synthNX {
 		t.Errorf("map shape %v, want [%d %d]", s, synthNY, synthNX)

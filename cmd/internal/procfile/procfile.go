@@ -74,7 +74,9 @@ type File struct {
 	Shape    []int // the lengths of Dims
 	Steps    []int // indices of the dimensions that are not horizontal, file order
 	Times    *grid.TimeAxis
-	TimeVals []float64 // seconds since 1970 along Dims[Hz.Time]
+	TimeVals []float64 // seconds since 1970-01-01 in Calendar along Dims[Hz.Time]
+	TimeBnds []float64 // the time bounds (2 per step, like TimeVals), nil when the file has none
+	Calendar string    // grid.CalendarKind of the time axis ("" without times)
 	NoMaps   string    // why this file gives no maps ("" when it does)
 	window   summary.Window
 	Scene    summary.Scene
@@ -89,6 +91,8 @@ type File struct {
 	// QCMissingInput and QCShapeAssumed).
 	QCMissing, QCShape uint32
 	Vars               map[string]Var
+
+	reasonBits []uint32 // per ScreenWords entry: the file's bits of that word
 }
 
 // Var is a diagnostic with its conversion to SI.
@@ -110,6 +114,24 @@ func Open(path string, window summary.Window) (*File, error) {
 		return nil, err
 	}
 	return p, nil
+}
+
+// IsCoordinate reports whether v is a latitude or longitude (by standard_name,
+// units or name): a coordinate, never a diagnostic to summarise.
+func IsCoordinate(v *grid.VarInfo) bool {
+	switch strings.ToLower(v.Text("standard_name")) {
+	case "latitude", "longitude", "grid_latitude", "grid_longitude":
+		return true
+	}
+	switch strings.ToLower(v.Text("units")) {
+	case "degrees_north", "degree_north", "degrees_n", "degrees_east", "degree_east", "degrees_e":
+		return true
+	}
+	switch strings.ToLower(v.Name) {
+	case "lat", "lon", "latitude", "longitude", "nav_lat", "nav_lon":
+		return true
+	}
+	return false
 }
 
 // Errf returns a layout error naming the file and variable v.
@@ -157,10 +179,11 @@ func (p *File) bind() error {
 	if fi.Var(BaseName) != nil {
 		p.Base = BaseName
 	}
-	// Every float diagnostic on the grid is mapped (not the 2-D coordinates of a swath).
+	// Every float diagnostic on the grid is mapped (not the 2-D coordinates of a swath,
+	// whether or not the coordinates attribute names them).
 	coords := strings.Fields(nd.Text("coordinates"))
 	for _, v := range fi.Vars {
-		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.Dims) || slices.Contains(coords, v.Name) {
+		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.Dims) || slices.Contains(coords, v.Name) || IsCoordinate(&v) {
 			continue
 		}
 		vi, err := p.siVar(&v)
@@ -184,6 +207,7 @@ func (p *File) bind() error {
 		if len(m) != len(words) || len(m) == 0 {
 			return p.Errf(qcName, "has %d flag_masks and %d flag_meanings words; expected one word per mask (CF §3.5)", len(m), len(words))
 		}
+		p.reasonBits = make([]uint32, len(ScreenWords))
 		for i, w := range words {
 			switch w {
 			case "input_missing":
@@ -191,9 +215,10 @@ func (p *File) bind() error {
 			case "gamma_shape_assumed":
 				p.QCShape |= uint32(int64(m[i]))
 			}
-			for _, s := range ScreenWords {
+			for k, s := range ScreenWords {
 				if w == s {
 					p.QCScreen |= uint32(int64(m[i]))
+					p.reasonBits[k] |= uint32(int64(m[i]))
 				}
 			}
 		}
@@ -316,9 +341,10 @@ func (p *File) scan() error {
 		if err != nil {
 			return err
 		}
-		if !ta.Standard {
+		kind, cerr := grid.CalendarKind(ta.Calendar)
+		if cerr != nil { // a calendar without dates: the statistics use every step
 			if !p.window.IsZero() {
-				return p.Errf(td, "calendar %q: --from and --to need the standard (Gregorian) calendar", ta.Calendar)
+				return p.Errf(td, "%v; --from and --to need a calendar with dates", cerr)
 			}
 			p.Scene = s
 			return s.Check()
@@ -328,7 +354,26 @@ func (p *File) scan() error {
 			return err
 		}
 		for i := range t {
-			t[i] = ta.Seconds(t[i])
+			if t[i], err = ta.CalendarSeconds(t[i]); err != nil {
+				return p.Errf(td, "%v", err)
+			}
+		}
+		p.Calendar = kind
+		if bn := tv.Text("bounds"); bn != "" {
+			if bv := fi.Var(bn); bv != nil && len(bv.Shape) == 2 && bv.Shape[0] == len(t) && bv.Shape[1] == 2 {
+				b, err := read(bn)
+				if err != nil {
+					return err
+				}
+				for i := range b {
+					if b[i], err = ta.CalendarSeconds(b[i]); err != nil {
+						return p.Errf(bn, "%v", err)
+					}
+				}
+				p.TimeBnds = b
+			} else {
+				return p.Errf(td, "names the bounds %q, which is not a (%d, 2) variable of the file", bn, len(t))
+			}
 		}
 		p.Times, p.TimeVals = ta, t
 	}
@@ -471,22 +516,50 @@ const (
 // to NaN. It returns the fields and the per-column QC (bit 0: screened; see
 // QCMissingInput and QCShapeAssumed).
 func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, error) {
+	d, qc, _, err := p.StepAll(b, names)
+	return d, qc, err
+}
+
+// StepReasons is Step returning, per column, why it was screened: bit k set when
+// the column has the QC bit of ScreenWords[k] (0 = kept). The file's own
+// flag_masks and flag_meanings give the bits, so files with different QC layouts
+// give the same reasons.
+func (p *File) StepReasons(b Block, names []string) (map[string][]float64, []uint32, error) {
+	d, _, reasons, err := p.StepAll(b, names)
+	return d, reasons, err
+}
+
+// StepAll is Step returning both the per-column QC of Step and the screening reasons
+// of StepReasons.
+func (p *File) StepAll(b Block, names []string) (map[string][]float64, []uint16, []uint32, error) {
 	n := b.N * p.Scene.Cells()
 	qc := make([]uint16, n)
+	reasons := make([]uint32, n)
 	if p.QC != "" {
 		q, err := p.ReadBlock(p.QC, b)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		for i, v := range q {
 			// A missing flag (fill) carries no screening information.
-			if !math.IsNaN(v) && uint32(int64(v))&p.QCScreen != 0 {
-				qc[i] = 1
-				if uint32(int64(v))&p.QCMissing != 0 {
-					qc[i] |= QCMissingInput
+			if math.IsNaN(v) {
+				continue
+			}
+			bits := uint32(int64(v))
+			if bits&p.QCScreen == 0 {
+				if bits&p.QCShape != 0 {
+					qc[i] |= QCShapeAssumed
 				}
-			} else if !math.IsNaN(v) && uint32(int64(v))&p.QCShape != 0 {
-				qc[i] |= QCShapeAssumed
+				continue
+			}
+			qc[i] = 1
+			if bits&p.QCMissing != 0 {
+				qc[i] |= QCMissingInput
+			}
+			for k, m := range p.reasonBits {
+				if bits&m != 0 {
+					reasons[i] |= 1 << k
+				}
 			}
 		}
 	}
@@ -497,14 +570,14 @@ func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, er
 		}
 		vi, ok := p.Vars[nm]
 		if !ok {
-			return nil, nil, p.Errf(nm, "is missing; the first file has it (all files need the same diagnostics)")
+			return nil, nil, nil, p.Errf(nm, "is missing; the first file has it (all files need the same diagnostics)")
 		}
 		d, err := p.ReadBlock(nm, b)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		for i := range d {
-			if qc[i] != 0 {
+			if qc[i]&1 != 0 {
 				d[i] = math.NaN()
 			} else {
 				d[i] = vi.Conv.Convert(d[i])
@@ -512,5 +585,5 @@ func (p *File) Step(b Block, names []string) (map[string][]float64, []uint16, er
 		}
 		out[nm] = d
 	}
-	return out, qc, nil
+	return out, qc, reasons, nil
 }

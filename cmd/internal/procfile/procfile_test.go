@@ -5,6 +5,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -78,6 +79,15 @@ func TestOpenSwath(t *testing.T) {
 	if _, ok := p.Vars["lat"]; ok {
 		t.Error("latitude bound as a diagnostic")
 	}
+	// Without a coordinates attribute, latitude and longitude are still coordinates.
+	bare, err := Open(ncgen(t, strings.ReplaceAll(swathCDL(thin, info), `droplet_number:coordinates = "lat lon" ;`, "")), summary.Window{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer bare.Close()
+	if _, ok := bare.Vars["lon"]; ok {
+		t.Error("longitude bound as a diagnostic when droplet_number has no coordinates attribute")
+	}
 	if p.Scene.NY != 2 || p.Scene.NX != 3 || !p.Scene.TwoD() || p.NoMaps != "" {
 		t.Errorf("scene %+v, no maps %q", p.Scene, p.NoMaps)
 	}
@@ -94,6 +104,18 @@ func TestOpenSwath(t *testing.T) {
 	}
 	if qc[1] != 1 || qc[3] != 0 {
 		t.Errorf("qc %v: want column 1 screened, column 3 (informational bit) kept", qc)
+	}
+	// The noleap calendar: 2026-07-01 06:00 is (2026-1970)*365 + 181 days after
+	// 1970-01-01 in that calendar (no leap days; 181 days before July 1).
+	if p.Calendar != "noleap" || p.TimeVals[0] != float64((56*365+181)*86400+6*3600) {
+		t.Errorf("calendar %q, first time %v", p.Calendar, p.TimeVals[0])
+	}
+	_, reasons, err := p.StepReasons(blocks[0], nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if k := slices.Index(ScreenWords, "thin_cloud"); reasons[1] != 1<<k || reasons[3] != 0 {
+		t.Errorf("reasons %v: want column 1 screened by thin_cloud (bit %d)", reasons, k)
 	}
 	// g m-2 -> kg m-2, cm-3 -> m-3, mm day-1 -> kg m-2 s-1 (1 mm of water = 1 kg m-2).
 	if got := d["liquid_water_path"][0]; math.Abs(got-0.05) > 1e-9 {

@@ -11,9 +11,18 @@
 // Field data are row-major over (time, y, x): index (t*NY+y)*NX+x. Only the text table
 // (WriteTable) converts to display units (g m-2, cm-3, mm day-1, µm).
 //
-// Streaming: Accumulator.Add and MapAccumulator.Accumulate take one scene at a time
-// (any number of files and time steps); memory is bounded by the bins and one map per
-// diagnostic, never by the number of columns.
+// Streaming: Accumulator.Add, MapAccumulator.Accumulate and Gridded.Add take one scene
+// at a time (any number of files and time steps); memory is bounded by the bins, one map
+// per diagnostic or the cells of the grid, never by the number of columns.
+//
+// # Gridded statistics and merging
+//
+// Gridded bins the columns of scenes on any coordinates (grids, swaths, meshes) into the
+// cells of a regular LatLonGrid, with exact sums (ExactSum, Moments): the results are
+// bit-identical whatever the order of the scenes, and Gridded.Merge or MergeCell of
+// partial accumulators equals one pass. Accumulator.State, FromState and Merge carry the
+// joint bins between processes (equal to one pass up to rounding). See
+// doc/science.md#gridded-summaries.
 //
 // # Selection
 //
