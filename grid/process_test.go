@@ -186,6 +186,9 @@ func TestKilledBeforeCommitLeavesNoFinalFile(t *testing.T) {
 }
 
 func TestBadInputCorpus(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	good := ncgen(t, "grid3d.cdl", "nc4")
 	goodBytes, _ := os.ReadFile(good)

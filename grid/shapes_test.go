@@ -310,6 +310,9 @@ for p in sys.argv[1:]:
 // TestTimeAxisUnits: the units each tool writes, read or refused at open with the
 // file, the variable and the expected units named.
 func TestTimeAxisUnits(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	cases := []struct {
 		units, globals, values string
 		cf, fail               string // CF units read, or a phrase of the error

@@ -156,6 +156,9 @@ func TestTilePlan(t *testing.T) {
 // pieces of chunks, straddling pieces) give back every value in its place, and the
 // outputs are chunked one slab per chunk.
 func TestTiledProcessRoundTrip(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	cases := []struct {
 		name      string
 		n, cy, cx int

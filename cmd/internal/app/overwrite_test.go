@@ -191,6 +191,9 @@ with netCDF4.Dataset(sys.argv[1], "a") as d:
 // (--manifest, --cpu-profile naming the input), and arguments the shell gave
 // are taken literally (a file named day[1].nc is not globbed a second time).
 func TestProcessInputsNeverWritten(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	in := filepath.Join(dir, "a.nc")

@@ -118,6 +118,9 @@ func TestProcessCrashIsolation(t *testing.T) {
 // TestProcessDoubleDashJobs: "--" before the inputs with --jobs (the workers'
 // own options once landed after it and each worker started a batch of its own).
 func TestProcessDoubleDashJobs(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	a, b := filepath.Join(dir, "a.nc"), filepath.Join(dir, "b.nc")

@@ -414,6 +414,9 @@ data: time = 0, 365 ; lat = 10, 20 ; lon = 30, 40 ;
 // days) and 2000-12-31 in all_leap and julian (2000 has a 29 February in both): CF
 // conventions §4.4.1 calendars, derived.
 func TestSummaryModelCalendars(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("ncgen"); err != nil {
 		t.Skip("ncgen not installed")
 	}

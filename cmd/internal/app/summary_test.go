@@ -684,6 +684,9 @@ ds.close()`, in).CombinedOutput(); err != nil {
 // and for thin cloud. Latitude and longitude get no map; the maps show both no-data
 // classes in their colours, and a --range for a variable without a map is reported.
 func TestSummaryMapClasses(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	const ny, nx = 40, 50
 	n := ny * nx
@@ -777,6 +780,9 @@ func TestSummaryMapClasses(t *testing.T) {
 // TestSummaryWithoutCoastlines: without the coastline files the maps are still drawn
 // and stderr says once that coastlines are off and which package provides them.
 func TestSummaryWithoutCoastlines(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	old := plots.CoastlineDir
 	plots.CoastlineDir = t.TempDir()
 	defer func() { plots.CoastlineDir = old }()
