@@ -2,7 +2,10 @@ package microphys
 
 import (
 	"math"
+	"os"
 	"reflect"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -111,6 +114,53 @@ func TestParamRangesMatchValidate(t *testing.T) {
 			r.Set(&p, r.ToSI(r.Min))
 			if err := p.Validate(); err != nil && err.(*ParamError).Field == r.Name {
 				t.Errorf("row %s at Min %g rejected: %v", r.Name, r.Min, err)
+			}
+		}
+	}
+}
+
+// TestParamLiterature checks the published ranges of ParamDecls: set on the first row of
+// an option only, and every citation key in them is in the bibliography (references.go).
+func TestParamLiterature(t *testing.T) {
+	t.Parallel()
+	ref, err := os.ReadFile("references.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	key := regexp.MustCompile(`\[([A-Z][A-Za-z]*[0-9]{4}[a-z]?)\]`)
+	for i := range ParamDecls {
+		r := &ParamDecls[i]
+		first := i == 0 || ParamDecls[i-1].Option != r.Option
+		if !first && r.Literature != "" {
+			t.Errorf("row %s: Literature belongs on the first row of --%s", r.Name, r.Option)
+		}
+		for _, m := range key.FindAllStringSubmatch(r.Literature, -1) {
+			if !strings.Contains(string(ref), "// ["+m[1]+"] ") {
+				t.Errorf("row %s: Literature cites [%s], which references.go does not list", r.Name, m[1])
+			}
+		}
+	}
+}
+
+// TestParamTextRoundTrip checks that the provenance text of a value typed by a user
+// (Settings: Text of FromSI) reads back (ToSI) to the same SI value bit for bit, over
+// each number's valid range, so that --params-from reproduces a run exactly.
+func TestParamTextRoundTrip(t *testing.T) {
+	t.Parallel()
+	for i := range ParamDecls {
+		r := &ParamDecls[i]
+		if r.Kind != ParamNumber {
+			continue
+		}
+		for k := 0; k <= 2000; k++ {
+			// Values with up to four significant digits, as typed, across the range.
+			u := r.Min + (r.Max-r.Min)*float64(k)/2000
+			u, _ = strconv.ParseFloat(strconv.FormatFloat(u, 'g', 4, 64), 64)
+			si := r.ToSI(u)
+			back, err := strconv.ParseFloat(r.Text(r.FromSI(si)), 64)
+			if err != nil || r.ToSI(back) != si {
+				t.Errorf("row %s: %v typed gives provenance %q, read back as %v SI, not %v", r.Name, u, r.Text(r.FromSI(si)), r.ToSI(back), si)
+				break
 			}
 		}
 	}

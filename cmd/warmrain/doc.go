@@ -46,6 +46,14 @@ Data go to stdout or files; messages go to stderr.
 	a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 	progress is removed, what completed is recorded, the exit code is 1.
 
+	--dry-run lists, for the files of this shard, each output and what a run would
+	do (process, skip, redo, refuse or fail, and why) and how each role is read,
+	and writes nothing; it exits 1 when a file would be refused or fail. A batch
+	prints a start line, a line per file with k of N, the rate and the time left,
+	and a closing tally; --log FILE appends the same lines to FILE. The physics
+	parameters can come from a file (--params, see warmrain params) or from an
+	earlier output (--params-from); options given here override them.
+
 	--ensemble SETS processes one input once per parameter set of the text file SETS
 	(one set a line: NAME: --option VALUE ..., physics options as on the command line,
 	over those given on it; # starts a comment) and writes every diagnostic with a
@@ -54,6 +62,7 @@ Data go to stdout or files; messages go to stderr.
 	Example:
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
 	  warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+	  warmrain process 'archive/2019/*.nc' -o out/ --params study.toml --dry-run
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 
 	Options:
@@ -98,14 +107,27 @@ Data go to stdout or files; messages go to stderr.
 	                                             folder outputs)
 	      --checksum[=true|false]                identify inputs by SHA-256 for resume (default:
 	                                             path, size and modification time)
-	  -q, --quiet[=true|false]                   no summary line per file
-	      --no-progress[=true|false]             no progress line (it is shown only when stderr is
-	                                             a terminal)
+	      --dry-run[=true|false]                 list what would be done with each input of this
+	                                             shard (process, skip, redo, refuse, fail, and
+	                                             why) and how its variables would be read, then
+	                                             stop; writes nothing
+	  -q, --quiet[=true|false]                   no line per file on stderr (the start and closing
+	                                             lines stay, and --log gets every line)
+	      --log FILE                             also append the start line, the line per file and
+	                                             the closing tally to FILE
+	      --no-progress[=true|false]             no column progress within a file (it is shown
+	                                             only when stderr is a terminal)
 	      --slab-mb int                          memory budget of one slab, MiB (three are in
 	                                             flight) (default 32)
 	      --memory-mb int                        memory bound of one process, MiB: inputs whose
 	                                             chunking needs more are read in smaller slabs, or
 	                                             refused with the estimate (default 256)
+	      --params FILE                          read the physics parameters from FILE (TOML; keys
+	                                             and units as the options; warmrain params --write
+	                                             FILE starts one); options given here override it
+	      --params-from OUTPUT.nc                take every physics parameter from OUTPUT.nc, an
+	                                             output warmrain wrote, to reproduce that run;
+	                                             options given here override it
 	      --autoconversion string                autoconversion scheme: kk2000, kessler1969,
 	                                             liu-daum2004, seifert-beheng2001 (default "kk2000")
 	      --collision string                     collision efficiency of the collector drop:
@@ -216,6 +238,7 @@ Data go to stdout or files; messages go to stderr.
 
 	Usage:
 	  warmrain inspect FILE [--bind ROLE=VAR[:UNITS]]... [--json]
+	  warmrain inspect FILE... | 'GLOB' | @LIST [--bind ROLE=VAR[:UNITS]]... [--json]
 
 	Shows what warmrain finds in an input file (a netCDF file, an HDF4 file, an
 	NCZarr URL, or several files of one scene joined with +, as in lwp.nc+reff.nc):
@@ -238,9 +261,18 @@ Data go to stdout or files; messages go to stderr.
 	Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
 	HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
+	With several files (names, a quoted glob, or @LIST as for process) inspect
+	checks that an archive is consistent: for each file, the variables bound to
+	each role, their units, the layout, the horizontal grid and its coordinates,
+	the other dimensions and the time step; each is compared with what most files
+	have, and time spans that overlap are reported. It reads the coordinates and
+	times only. Exit status: 0 when every file is like most, 1 when a file differs
+	or cannot be read, 2 for bad usage.
+
 	Example:
 	  warmrain inspect samples/data/stratocumulus_demo.nc
 	  warmrain inspect scene.nc --bind lwp=LWP_liquid:g/m2 --bind re=CER --json
+	  warmrain inspect 'archive/2019/*.nc'
 
 	Options:
 	      --bind stringArray       take input ROLE from variable VAR, optionally declaring its
@@ -302,6 +334,12 @@ Data go to stdout or files; messages go to stderr.
 	      --rh-surface float                     surface relative humidity of this column, 0-1,
 	                                             used with --subcloud-humidity surface-rh (absent:
 	                                             --surface-rh)
+	      --params FILE                          read the physics parameters from FILE (TOML; keys
+	                                             and units as the options; warmrain params --write
+	                                             FILE starts one); options given here override it
+	      --params-from OUTPUT.nc                take every physics parameter from OUTPUT.nc, an
+	                                             output warmrain wrote, to reproduce that run;
+	                                             options given here override it
 	      --autoconversion string                autoconversion scheme: kk2000, kessler1969,
 	                                             liu-daum2004, seifert-beheng2001 (default "kk2000")
 	      --collision string                     collision efficiency of the collector drop:
@@ -543,6 +581,134 @@ Data go to stdout or files; messages go to stderr.
 	      --range VAR=LO:HI[:log]                colour range of VAR's maps in the units the map
 	                                             shows, instead of the declared one:
 	                                             VAR=LO:HI[:log] (repeatable)
+
+# warmrain params
+
+	Usage: warmrain params [--write FILE [--force]] [--params FILE | --params-from OUTPUT.nc] [parameter options]
+
+	Prints every physics parameter of process and column: its option, unit,
+	default, valid range, the range published for it (with sources; "from memory"
+	marks values recalled without the paper at hand) and the source of the
+	default. With --params, --params-from or parameter options, the values shown
+	are those a run with the same options would use.
+
+	--write FILE writes the values as a commented parameter file (TOML) to start a
+	study from; an existing file is kept unless --force is given. Use it with
+	process --params FILE (options on the command line override it). To start
+	from a run a colleague made: warmrain params --params-from THEIR_OUTPUT.nc
+	--write study.toml.
+
+	Example:
+	  warmrain params
+	  warmrain params --write study.toml
+	  warmrain params --params-from /tmp/demo_warmrain.nc --write reproduced.toml
+
+	Options:
+	      --write FILE                           write the parameters as a commented parameter
+	                                             file FILE (- for stdout)
+	      --force[=true|false]                   replace an existing FILE of --write
+	      --params FILE                          read the physics parameters from FILE (TOML; keys
+	                                             and units as the options; warmrain params --write
+	                                             FILE starts one); options given here override it
+	      --params-from OUTPUT.nc                take every physics parameter from OUTPUT.nc, an
+	                                             output warmrain wrote, to reproduce that run;
+	                                             options given here override it
+	      --autoconversion string                autoconversion scheme: kk2000, kessler1969,
+	                                             liu-daum2004, seifert-beheng2001 (default "kk2000")
+	      --collision string                     collision efficiency of the collector drop:
+	                                             hall1980, long1974 (default "hall1980")
+	      --coalescence string                   coalescence efficiency (seifert2005 is the
+	                                             Beard-Ochs/Low-List blend): seifert2005,
+	                                             beard-ochs1995, low-list1982, unity (default
+	                                             "seifert2005")
+	      --k-ratio float                        k = (r_v/r_e)^3, ratio of mean-volume to
+	                                             effective radius cubed (default 0.8)
+	      --extinction-efficiency float          extinction efficiency Q_ext (default 2)
+	      --adiabatic-fraction float             adiabatic fraction f_ad (default 1)
+	      --condensation-rate float              fixed condensation rate c_w (0: from cloud-top
+	                                             temperature and pressure), g m-3 km-1
+	      --onset-radius float                   drizzle-onset cloud-top effective radius r_e*,
+	                                             µm (default 14)
+	      --onset-width float                    width of the r_e range, centred on the onset
+	                                             radius, over which the drizzle-onset probability
+	                                             of a sub-grid column rises from 0 to 1 (0: a step
+	                                             at the onset radius), µm (default 4)
+	      --gamma-shape float                    gamma shape of sub-grid LWP when the input has no
+	                                             LWP standard deviation (default 4)
+	      --collector-radius float               start radius of the collector drop, µm (default 25)
+	      --drizzle-radius float                 radius at which the collector counts as a drizzle
+	                                             drop, µm (default 100)
+	      --updraft float                        updraft speed (0: collector released at cloud
+	                                             top, the stratocumulus picture; >0: enters at
+	                                             cloud base and is carried up first, a cumulus
+	                                             picture), m s-1
+	      --collector-tolerance float            relative tolerance per step of the collector-drop
+	                                             integrator (default 1e-06)
+	      --subcloud-humidity string             sub-cloud humidity (well-mixed: the cloud-base
+	                                             vapour mixing ratio conserved down to the
+	                                             surface; surface-rh: linear from the surface
+	                                             relative humidity to saturation at cloud base,
+	                                             for decoupled layers): well-mixed, surface-rh
+	                                             (default "well-mixed")
+	      --surface-rh float                     surface relative humidity (0-1) when the input
+	                                             has none (with --subcloud-humidity surface-rh)
+	                                             (default 0.8)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
+	                                             base (size distribution of the surface drizzle;
+	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
+	                                             size distribution, µm (default 20)
+	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size
+	                                             distribution (0: exponential)
+	      --surface-pressure float               surface pressure to place cloud base when the
+	                                             input has no cloud-top height, hPa (default 1013.25)
+	      --default-ctt float                    cloud-top temperature when the input has none, K
+	                                             (default 285)
+	      --default-ctp float                    cloud-top pressure when the input has none, hPa
+	                                             (default 900)
+	      --drizzle-law string                   cloud-base drizzle rate R = a LWP^b N_d^-c as
+	                                             a,b,c (R mm day-1, LWP g m-2, N_d cm-3) (default
+	                                             "0.37,1.75,1.75")
+	      --kessler-rate float                   Kessler rate constant, s-1 (default 0.001)
+	      --kessler-threshold float              Kessler threshold cloud-water mixing ratio, g
+	                                             kg-1 (default 0.5)
+	      --seifert-beheng-shape float           cloud-droplet gamma shape nu (in mass) of the
+	                                             seifert-beheng2001 scheme (default 1)
+	      --collector-method string              collector and evaporation results (table:
+	                                             interpolated, tested to 0.5 %; direct: integrated
+	                                             per column, slow): table, direct (default "table")
+	      --no-collector[=true|false]            skip the collector drop and the sub-cloud
+	                                             evaporation (surface drizzle)
+	      --no-evaporation[=true|false]          skip the sub-cloud evaporation (the surface
+	                                             drizzle and the collector drop's fall)
+	      --min-lwp float                        screen columns with LWP below this, g m-2 (default 5)
+	      --min-tau float                        screen columns with optical thickness below this
+	                                             (default 3)
+	      --re-range string                      valid effective-radius range as min,max, µm
+	                                             (default "4,30")
+	      --min-ctt float                        screen columns with cloud-top temperature below
+	                                             this (possible ice), K (default 273.15)
+	      --nd-range string                      plausible droplet-number range as min,max, cm-3
+	                                             (default "10,1000")
+	      --max-thickness float                  screen columns with adiabatic thickness above
+	                                             this, m (default 1500)
+	      --droplet-number float                 droplet number concentration assumed where the
+	                                             input has LWP but no effective radius (r_e
+	                                             follows from the adiabatic cloud; 0: none), cm-3
+	      --lwp-profile string                   cloud profile for LWP from optical thickness and
+	                                             r_e when the input has no LWP: adiabatic (5/9
+	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
+	                                             adiabatic, uniform (default "adiabatic")
+	      --error-correlation float              correlation coefficient of the LWP and r_e
+	                                             retrieval errors (for an LWP the product derived
+	                                             from tau and r_e, see doc/science.md#uncertainty)
+	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
+	                                             every diagnostic, <name>_parameter_spread: k,
+	                                             f_ad, Q_ext, the onset radius, the drizzle law
+	                                             and the gamma shape perturbed by their spreads
+	                                             one at a time
+	      --min-cloud-fraction float             with a grid-box-mean LWP, screen columns whose
+	                                             cloud fraction is below this (default 0.05)
 
 # warmrain demo
 

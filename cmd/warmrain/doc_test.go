@@ -24,7 +24,7 @@ func manual(t *testing.T) string {
 	b.WriteString("Exit codes: 0 success; 1 a runtime failure (a bad input file, an I/O error,\n")
 	b.WriteString("a failed file in a batch, an existing output in the way, an interruption\nby SIGINT, SIGTERM or SIGHUP); 2 bad usage.\n\n")
 	b.WriteString("Data go to stdout or files; messages go to stderr.\n")
-	for _, c := range []string{"process", "inspect", "column", "summary", "demo", "lint", "version"} {
+	for _, c := range []string{"process", "inspect", "column", "summary", "params", "demo", "lint", "version"} {
 		var o, e bytes.Buffer
 		if code := app.Run([]string{c, "--help"}, &o, &e); code != 0 {
 			t.Fatalf("%s --help: exit %d: %s", c, code, e.String())

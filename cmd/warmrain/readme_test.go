@@ -26,7 +26,7 @@ func readable(s string) string {
 // paramTable is README's parameter table, one row per option of microphys.ParamDecls.
 func paramTable() string {
 	var b strings.Builder
-	b.WriteString("| option | default | unit | valid | meaning | source |\n|---|---|---|---|---|---|\n")
+	b.WriteString("| option | default | unit | valid | meaning | source | published range |\n|---|---|---|---|---|---|---|\n")
 	d := microphys.DefaultParams()
 	for i := 0; i < len(microphys.ParamDecls); {
 		r := &microphys.ParamDecls[i]
@@ -53,7 +53,7 @@ func paramTable() string {
 		if unit == "um" {
 			unit = "µm"
 		}
-		fmt.Fprintf(&b, "| `--%s` | %s | %s | %s | %s | %s |\n", r.Option, def, unit, strings.Join(valid, "; "), r.Help, readable(r.Source))
+		fmt.Fprintf(&b, "| `--%s` | %s | %s | %s | %s | %s | %s |\n", r.Option, def, unit, strings.Join(valid, "; "), r.Help, readable(r.Source), readable(r.Literature))
 	}
 	return b.String()
 }

@@ -48,6 +48,7 @@ func subcommands() []subcommand {
 		{"column", "run the physics of one column given on the command line", runColumn},
 		{"demo", "build the sample scenario, process it, and print where the results are", runDemo},
 		{"summary", "bin, map and plot processed files (drizzle probability, susceptibility)", runSummary},
+		{"params", "list the physics parameters, or write them as a parameter file to start a study", runParams},
 		{"lint", "check a NetCDF file against the CF rules warmrain follows", runLint},
 		{"version", "print the version of warmrain and of the libraries it uses", runVersion},
 	}

@@ -123,13 +123,17 @@ func maskBit(m *grid.Mask) uint32 {
 
 // tally collects the screening counts of the workers.
 type tally struct {
-	mu sync.Mutex
-	c  grid.QualityCounts
+	mu  sync.Mutex
+	c   grid.QualityCounts
+	why [32]int64 // screened columns by QC bit (report.go)
 }
 
-func (t *tally) add(c *grid.QualityCounts) {
+func (t *tally) add(c *grid.QualityCounts, why *[32]int64) {
 	t.mu.Lock()
 	t.c.Add(c)
+	for k, n := range why {
+		t.why[k] += n
+	}
 	t.mu.Unlock()
 }
 

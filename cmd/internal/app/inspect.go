@@ -9,12 +9,14 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"github.com/warmrain/warmrain/cmd/internal/batch"
 	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/microphys"
 )
 
 const inspectUsage = `Usage:
   warmrain inspect FILE [--bind ROLE=VAR[:UNITS]]... [--json]
+  warmrain inspect FILE... | 'GLOB' | @LIST [--bind ROLE=VAR[:UNITS]]... [--json]
 
 Shows what warmrain finds in an input file (a netCDF file, an HDF4 file, an
 NCZarr URL, or several files of one scene joined with +, as in lwp.nc+reff.nc):
@@ -37,9 +39,18 @@ land) are counted by meaning.
 Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
 HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
+With several files (names, a quoted glob, or @LIST as for process) inspect
+checks that an archive is consistent: for each file, the variables bound to
+each role, their units, the layout, the horizontal grid and its coordinates,
+the other dimensions and the time step; each is compared with what most files
+have, and time spans that overlap are reported. It reads the coordinates and
+times only. Exit status: 0 when every file is like most, 1 when a file differs
+or cannot be read, 2 for bad usage.
+
 Example:
   warmrain inspect samples/data/stratocumulus_demo.nc
   warmrain inspect scene.nc --bind lwp=LWP_liquid:g/m2 --bind re=CER --json
+  warmrain inspect 'archive/2019/*.nc'
 `
 
 // inspectReport is what inspect prints; the JSON form is this struct.
@@ -193,12 +204,8 @@ func runInspect(e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	switch fs.NArg() {
-	case 0:
+	if fs.NArg() == 0 {
 		return usagef("no input file given")
-	case 1:
-	default:
-		return usagef("inspect takes one file, got %d (%s)", fs.NArg(), strings.Join(fs.Args(), " "))
 	}
 	var ovs []grid.Override
 	for _, b := range *binds {
@@ -208,7 +215,14 @@ func runInspect(e *env, args []string) error {
 		}
 		ovs = append(ovs, o)
 	}
-	rep, err := inspectFile(fs.Arg(0), ovs, inp, masks, p)
+	paths, err := batch.ExpandInputs(fs.Args())
+	if err != nil {
+		return usagef("%v", err)
+	}
+	if len(paths) > 1 {
+		return runInspectArchive(e, paths, ovs, inp, masks, p, *asJSON)
+	}
+	rep, err := inspectFile(paths[0], ovs, inp, masks, p)
 	if rep == nil {
 		return err
 	}

@@ -273,11 +273,16 @@ func TestInspectUsage(t *testing.T) {
 	if code != ExitOK || errs != "" || !strings.Contains(out, "Usage:\n  warmrain inspect FILE") || !strings.Contains(out, "Example:") || !strings.Contains(out, "--bind") {
 		t.Errorf("--help: exit %d stdout %q stderr %q", code, out, errs)
 	}
-	for _, args := range [][]string{{}, {"a.nc", "b.nc"}, {"--nosuch", sampleFile}} {
+	for _, args := range [][]string{{}, {"--nosuch", sampleFile}, {"absent*.nc", sampleFile}} {
 		code, out, errs := runCmd(append([]string{"inspect"}, args...)...)
 		if code != ExitUsage || out != "" || errs == "" {
 			t.Errorf("%v: exit %d stdout %q stderr %q", args, code, out, errs)
 		}
+	}
+	// Several files are an archive (study_test.go): absent ones cannot be read.
+	code, out, errs = runCmd("inspect", "a.nc", "b.nc")
+	if code != ExitFailure || !strings.Contains(out, "a.nc: cannot be read") || !strings.Contains(errs, "2 of 2 files") {
+		t.Errorf("two absent files: exit %d stdout %q stderr %q", code, out, errs)
 	}
 	code, out, errs = runCmd("inspect", filepath.Join(t.TempDir(), "absent.nc"))
 	if code != ExitFailure || out != "" || !strings.Contains(errs, "absent.nc") {

@@ -15,6 +15,12 @@ import (
 // units users type; toParams converts them to SI once through the same rows.
 type physicsFlags struct {
 	opts []paramOption
+	fs   *pflag.FlagSet
+	// file and from are --params FILE and --params-from OUTPUT.nc: values of the options
+	// not given on the command line (paramfile.go).
+	file, from string
+	origin     map[string]string // option -> where its value came from, when not the command line
+	notes      []string          // what the messages of the command should say about --params-from
 }
 
 // paramOption is one command-line option and the rows of microphys.ParamDecls it sets
@@ -67,7 +73,9 @@ func paramDefault(rows []*microphys.ParamDecl) string {
 
 func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 	d := microphys.DefaultParams()
-	f := &physicsFlags{}
+	f := &physicsFlags{fs: fs}
+	fs.StringVar(&f.file, "params", "", "read the physics parameters from `FILE` (TOML; keys and units as the options; warmrain params --write FILE starts one); options given here override it")
+	fs.StringVar(&f.from, "params-from", "", "take every physics parameter from `OUTPUT.nc`, an output warmrain wrote, to reproduce that run; options given here override it")
 	for _, rows := range optionGroups() {
 		f.opts = append(f.opts, paramOption{rows: rows})
 	}
@@ -90,9 +98,16 @@ func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 // option and its range in the unit users type.
 func (f *physicsFlags) toParams() (microphys.Params, error) {
 	p := microphys.DefaultParams()
+	if err := f.load(); err != nil {
+		return p, err
+	}
 	for i := range f.opts {
 		o := &f.opts[i]
 		r := o.rows[0]
+		opt := "--" + r.Option
+		if w, ok := f.origin[r.Option]; ok {
+			opt = w + ": " + r.Option
+		}
 		switch {
 		case r.Kind == microphys.ParamSwitch:
 			r.Set(&p, map[bool]float64{false: 0, true: 1}[o.on])
@@ -104,18 +119,18 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 				}
 			}
 			if k < 0 {
-				return p, usagef("--%s %q: want one of %s", r.Option, o.text, strings.Join(r.Choices, ", "))
+				return p, usagef("%s %q: want one of %s", opt, o.text, strings.Join(r.Choices, ", "))
 			}
 			r.Set(&p, float64(k))
 		case len(o.rows) > 1:
 			parts := strings.Split(o.text, ",")
 			if len(parts) != len(o.rows) {
-				return p, usagef("--%s %q: want %d comma-separated numbers", r.Option, o.text, len(o.rows))
+				return p, usagef("%s %q: want %d comma-separated numbers", opt, o.text, len(o.rows))
 			}
 			for j, s := range parts {
 				v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
 				if err != nil {
-					return p, usagef("--%s %q: %q is not a number", r.Option, o.text, s)
+					return p, usagef("%s %q: %q is not a number", opt, o.text, s)
 				}
 				o.rows[j].Set(&p, o.rows[j].ToSI(v))
 			}
@@ -126,7 +141,11 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 	if err := p.Validate(); err != nil {
 		var pe *microphys.ParamError
 		if errors.As(err, &pe) {
-			return p, usagef("--%s must be %s (got %s)", pe.Option, pe.Want, strconv.FormatFloat(pe.Value, 'g', -1, 64))
+			opt := "--" + pe.Option
+			if w, ok := f.origin[pe.Option]; ok {
+				opt = w + ": " + pe.Option
+			}
+			return p, usagef("%s must be %s (got %s)", opt, pe.Want, strconv.FormatFloat(pe.Value, 'g', -1, 64))
 		}
 		return p, usagef("%v", err)
 	}
@@ -150,4 +169,35 @@ func physicsWarnings(p microphys.Params) []string {
 		w = append(w, fmt.Sprintf("--updraft %g m s-1: a steady updraft is a cumulus picture; in stratocumulus columns an updraft of 0.5 m s-1 or more carries the collector out through cloud top (flag collector_exit_top). Use 0 (the default) for stratocumulus", p.Collector.Updraft))
 	}
 	return w
+}
+
+// load sets the options not given on the command line from --params or --params-from.
+func (f *physicsFlags) load() error {
+	if f.fs == nil || (f.file == "" && f.from == "") {
+		return nil
+	}
+	if f.file != "" && f.from != "" {
+		return usagef("--params and --params-from cannot be combined: take the parameters of one study (options given on the command line override either)")
+	}
+	var vals map[string]paramValue
+	var err error
+	if f.file != "" {
+		vals, err = readParamFile(f.file, f.fs)
+	} else {
+		vals, f.notes, err = readParamsFrom(f.from, f.fs.Changed)
+	}
+	if err != nil {
+		return err
+	}
+	f.origin = map[string]string{}
+	for name, v := range vals {
+		if f.fs.Changed(name) {
+			continue // the command line wins
+		}
+		if err := f.fs.Set(name, v.text); err != nil {
+			return usagef("%s: %s %q: %v", v.origin, name, v.text, err)
+		}
+		f.origin[name] = v.origin
+	}
+	return nil
 }

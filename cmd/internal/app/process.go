@@ -58,6 +58,14 @@ process, so a crash in the C libraries fails that file alone. Batch runs write
 a JSON-lines manifest. SIGINT/SIGTERM/SIGHUP stop cleanly: the file in
 progress is removed, what completed is recorded, the exit code is 1.
 
+--dry-run lists, for the files of this shard, each output and what a run would
+do (process, skip, redo, refuse or fail, and why) and how each role is read,
+and writes nothing; it exits 1 when a file would be refused or fail. A batch
+prints a start line, a line per file with k of N, the rate and the time left,
+and a closing tally; --log FILE appends the same lines to FILE. The physics
+parameters can come from a file (--params, see warmrain params) or from an
+earlier output (--params-from); options given here override them.
+
 --ensemble SETS processes one input once per parameter set of the text file SETS
 (one set a line: NAME: --option VALUE ..., physics options as on the command line,
 over those given on it; # starts a comment) and writes every diagnostic with a
@@ -66,6 +74,7 @@ leading dimension member, each member equal to the single run with its options.
 Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
   warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
+  warmrain process 'archive/2019/*.nc' -o out/ --params study.toml --dry-run
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 `
 
@@ -87,6 +96,8 @@ type processOptions struct {
 	pack                       bool
 	quantize                   int
 	slot                       string // internal: "k/n" for a child process of --jobs
+	dryRun                     bool
+	logPath                    string
 	ensemble                   string // --ensemble FILE of parameter sets
 	phys                       *physicsFlags
 	inp                        *inputFlags
@@ -113,8 +124,10 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVar(&o.ignoreSlurm, "ignore-slurm", false, "do not shard by the Slurm array variables")
 	fs.StringVar(&o.manifest, "manifest", "", "JSON-lines manifest to append to (default: warmrain-manifest.jsonl in the output folder for folder outputs)")
 	fs.BoolVar(&o.checksum, "checksum", false, "identify inputs by SHA-256 for resume (default: path, size and modification time)")
-	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no summary line per file")
-	fs.BoolVar(&o.noProgess, "no-progress", false, "no progress line (it is shown only when stderr is a terminal)")
+	fs.BoolVar(&o.dryRun, "dry-run", false, "list what would be done with each input of this shard (process, skip, redo, refuse, fail, and why) and how its variables would be read, then stop; writes nothing")
+	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no line per file on stderr (the start and closing lines stay, and --log gets every line)")
+	fs.StringVar(&o.logPath, "log", "", "also append the start line, the line per file and the closing tally to `FILE`")
+	fs.BoolVar(&o.noProgess, "no-progress", false, "no column progress within a file (it is shown only when stderr is a terminal)")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
 	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")
 	fs.BoolVar(&o.ioOnly, "io-only", false, "benchmark: read inputs and write outputs without the physics")
@@ -161,6 +174,11 @@ func runProcess(e *env, args []string) error {
 	params, err := o.phys.toParams()
 	if err != nil {
 		return err
+	}
+	for _, n := range o.phys.notes {
+		if o.slot == "" {
+			fmt.Fprintf(e.stderr, "warmrain: note: %s\n", n)
+		}
 	}
 	for _, w := range physicsWarnings(params) {
 		if o.slot == "" { // the parent of --jobs children warns once
@@ -245,6 +263,15 @@ func runProcess(e *env, args []string) error {
 		shardName = fmt.Sprintf("%d/%d", shard.Index, shard.Count)
 	}
 
+	if o.dryRun {
+		if o.ensemble != "" {
+			return usagef("--dry-run and --ensemble cannot be combined (the dry run lists the runs of single parameter sets)")
+		}
+		job := &processJob{e: e, o: o, params: params, defs: defs, overrides: overrides, masks: masks, args: args, shardName: shardName}
+		job.digest = job.paramDigest()
+		return job.dryRun(inputs, outputs, mine, shard, mkFolder)
+	}
+
 	if o.cpuProfile != "" && o.slot == "" { // the parent's run only
 		// A new file only: an existing one (an input, anything) is never replaced.
 		f, err := os.OpenFile(o.cpuProfile, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
@@ -308,9 +335,22 @@ func runProcess(e *env, args []string) error {
 		defer man.Close()
 	}
 	job.single = len(mine) == 1
+	job.rep = &batchReport{stderr: job.e.stderr, quiet: o.quiet, total: len(mine), shard: shardName, t0: time.Now()}
+	if o.logPath != "" {
+		lf, err := openLog(o.logPath)
+		if err != nil {
+			return err
+		}
+		defer lf.Close()
+		job.rep.log = lf
+	}
 	if len(mine) == 0 {
-		fmt.Fprintf(job.e.stderr, "warmrain: shard %s has no files (%d inputs)\n", shardName, len(inputs))
+		job.rep.line(false, "shard %s has no files (%d inputs)", shardName, len(inputs))
 		return nil
+	}
+	if len(mine) > 1 || o.logPath != "" {
+		job.rep.start(len(inputs), job.digest, min(o.jobs, len(mine)))
+		defer func() { job.rep.finish(job.recs) }()
 	}
 	var recs []batch.Record
 	unrecorded := 0
@@ -318,6 +358,7 @@ func runProcess(e *env, args []string) error {
 		// Several files: each in a supervised worker process (also with --jobs 1),
 		// so that a crash in the C libraries fails that file alone.
 		recs, unrecorded, err = job.runPool(ctx, inputs, outputs, mine, man)
+		job.recs = recs
 	} else {
 		r := job.one(ctx, inputs[mine[0]], outputs[mine[0]], true)
 		recs = append(recs, r)
@@ -328,6 +369,7 @@ func runProcess(e *env, args []string) error {
 			unrecorded++
 		}
 		job.report(r)
+		job.recs = recs
 	}
 	failed := 0
 	for _, r := range recs {
@@ -420,6 +462,8 @@ type processJob struct {
 	shardName string
 	digest    string
 	single    bool             // one file to process: its error is the command's error
+	rep       *batchReport     // the messages of the run (nil in a worker process)
+	recs      []batch.Record   // the records of the run, for the closing tally
 	model     *microphys.Model // built on first use (the collector table takes a moment)
 	modelErr  error
 	modelOnce sync.Once
@@ -462,28 +506,10 @@ func (j *processJob) paramDigest() string {
 }
 
 func (j *processJob) report(r batch.Record) {
-	if j.o.quiet {
+	if j.rep == nil {
 		return
 	}
-	if len(r.Inputs) > 1 {
-		r.Input = strings.Join(r.Inputs, "+")
-	}
-	switch r.Status {
-	case "done":
-		fmt.Fprintf(j.e.stderr, "warmrain: %s -> %s: %d columns, %.1f %% screened, %.2f s\n",
-			r.Input, r.Output, r.Columns, 100*r.ScreenedFraction, r.Seconds)
-		if len(r.ScreenedBy) > 0 {
-			fmt.Fprintf(j.e.stderr, "warmrain: %s: screened by the product's quality information: %s\n", r.Input, strings.Join(r.ScreenedBy, "; "))
-		}
-	case "skipped":
-		fmt.Fprintf(j.e.stderr, "warmrain: %s: complete output %s exists, skipped (--redo to process again)\n", r.Input, r.Output)
-	case "interrupted":
-		fmt.Fprintf(j.e.stderr, "warmrain: %s: interrupted, no output written\n", r.Input)
-	default:
-		if !j.single { // a single file's error is the command's error, printed once
-			fmt.Fprintf(j.e.stderr, "warmrain: %s: failed: %s\n", r.Input, r.Error)
-		}
-	}
+	j.rep.file(r, j.single)
 }
 
 // Provenance attributes of every output (resume reads them back).
@@ -725,6 +751,8 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	}
 	rec.Columns = in.Layout.Columns
 	rec.ScreenedBy = in.Lines(&counts.c)
+	rec.ScreenedQC = screenLines(&counts.why)
+	rec.Screened = screened.Load()
 	if rec.Columns > 0 {
 		rec.ScreenedFraction = math.Round(float64(screened.Load())/float64(rec.Columns)*1e4) / 1e4
 	}
@@ -822,6 +850,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 		var o microphys.Outputs
 		var n int64
 		var local grid.QualityCounts
+		var why [32]int64 // screened columns by QC bit
 		if len(masks) > 0 || len(codeRoles) > 0 {
 			local.Masks = make([]int64, len(masks))
 			for _, r := range codeRoles {
@@ -878,6 +907,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				}
 				qc[i] = float64(qin)
 				n++
+				countScreen(&why, qin&screen)
 				if uw != nil {
 					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, true)
 				}
@@ -898,14 +928,15 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			qc[i] = float64(uint32(o.QC) | qin)
 			if o.QC&microphys.QCScreenMask != 0 {
 				n++
+				countScreen(&why, uint32(o.QC&microphys.QCScreenMask)|qin&screen)
 			}
 			if uw != nil {
 				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, o.QC&microphys.QCScreenMask != 0)
 			}
 		}
 		screened.Add(n)
-		if local.Masks != nil {
-			counts.add(&local)
+		if local.Masks != nil || n > 0 {
+			counts.add(&local, &why)
 		}
 	}
 }

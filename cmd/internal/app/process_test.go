@@ -279,14 +279,14 @@ func TestProcessBatchResume(t *testing.T) {
 	st1, _ := os.Stat(filepath.Join(outDir, "b_warmrain.nc"))
 	// Rerun: everything is complete and skipped.
 	code, _, stderr := runProc(t, args...)
-	if code != 0 || strings.Count(stderr, "skipped") != 3 {
+	if code != 0 || strings.Count(stderr, "exists, skipped") != 3 {
 		t.Fatalf("rerun: exit %d, %q", code, stderr)
 	}
 	// A changed input is redone; a changed parameter redoes everything.
 	later := time.Now().Add(2 * time.Second)
 	os.Chtimes(filepath.Join(inDir, "b.nc"), later, later)
 	code, _, stderr = runProc(t, args...)
-	if code != 0 || strings.Count(stderr, "skipped") != 2 || !strings.Contains(stderr, "b.nc ->") {
+	if code != 0 || strings.Count(stderr, "exists, skipped") != 2 || !strings.Contains(stderr, "b.nc ->") {
 		t.Fatalf("after touching b.nc: exit %d, %q", code, stderr)
 	}
 	st2, _ := os.Stat(filepath.Join(outDir, "b_warmrain.nc"))
@@ -300,7 +300,7 @@ func TestProcessBatchResume(t *testing.T) {
 		t.Fatalf("new parameters without --redo: exit %d, %q", code, stderr)
 	}
 	code, _, stderr = runProc(t, append(args, "--gamma-shape", "2", "--redo")...)
-	if code != 0 || strings.Contains(stderr, "skipped") {
+	if code != 0 || strings.Contains(stderr, "exists, skipped") {
 		t.Fatalf("new parameters: exit %d, %q", code, stderr)
 	}
 	// The manifest has one line per file and run.

@@ -326,6 +326,7 @@ type Record struct {
 	Status           string  `json:"status"` // done, skipped, failed, interrupted
 	Columns          int64   `json:"columns"`
 	ScreenedFraction float64 `json:"screened_fraction"`
+	Screened         int64   `json:"screened,omitempty"` // columns screened (ScreenedFraction is rounded)
 	Seconds          float64 `json:"seconds"`
 	Shard            string  `json:"shard,omitempty"`
 	Task             string  `json:"task,omitempty"` // batch task: Slurm job and array task id
@@ -341,6 +342,9 @@ type Record struct {
 	// ScreenedBy counts the columns each of the product's quality masks and flag
 	// codes removed, in words ("sea_ice (flag code of r_e cer): 40").
 	ScreenedBy []string `json:"screened_by,omitempty"`
+	// ScreenedQC counts the screened columns by the QC bits that screened them, named by
+	// their flag_meanings words ("thin_cloud: 1200"); a column may count under several.
+	ScreenedQC []string `json:"screened_qc,omitempty"`
 }
 
 // Identity describes an input for the resume check.
