@@ -42,3 +42,24 @@ func (e *VarError) Unwrap() error { return e.Err }
 func varErr(sentinel error, file, v, format string, args ...any) error {
 	return &VarError{File: file, Var: v, Problem: fmt.Sprintf(format, args...), Err: sentinel}
 }
+
+// plainErr is an error whose text is its message alone and which wraps a sentinel (for
+// errors.Is), so that a user reads what is wrong, not the package's category.
+type plainErr struct {
+	msg string
+	err error
+}
+
+func (e plainErr) Error() string { return e.msg }
+func (e plainErr) Unwrap() error { return e.err }
+
+// errOverride is a problem with a role binding or a mask as the user wrote it; it wraps
+// ErrOverride.
+func errOverride(format string, args ...any) error {
+	return plainErr{fmt.Sprintf(format, args...), ErrOverride}
+}
+
+// errUnits is a problem with units as written in a file or an option; it wraps ErrUnits.
+func errUnits(format string, args ...any) error {
+	return plainErr{fmt.Sprintf(format, args...), ErrUnits}
+}

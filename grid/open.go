@@ -314,7 +314,7 @@ func (in *Input) bind() error {
 	over := map[Role]Override{}
 	for _, o := range in.opt.Overrides {
 		if _, dup := over[o.Role]; dup {
-			return fmt.Errorf("%w: role %s given twice", ErrOverride, o.Role)
+			return errOverride("role %s bound twice (%s)", o.Role, strings.Fields(in.opt.OverrideHint)[0])
 		}
 		over[o.Role] = o
 	}
@@ -328,16 +328,16 @@ func (in *Input) bind() error {
 		if o, ok := over[rule.Role]; ok {
 			v, many := in.Info.lookup(o.Var)
 			if len(many) > 1 {
-				return varErr(ErrAmbiguous, in.Path, o.Var, "named by override %s is in several groups (%s); expected one: give its group path, e.g. %s=%s",
-					o, strings.Join(many, ", "), o.Role, many[0])
+				return varErr(ErrAmbiguous, in.Path, o.Var, "named by %s %s is in several groups (%s); expected one: give its group path, e.g. %s=%s",
+					strings.Fields(in.opt.OverrideHint)[0], o, strings.Join(many, ", "), o.Role, many[0])
 			}
 			if v == nil {
-				return varErr(ErrNoVariable, in.Path, o.Var, "named by override %s does not exist in the file; the file has %s", o, varNames(in.Info))
+				return varErr(ErrNoVariable, in.Path, o.Var, "named by %s %s does not exist in the file; the file has %s", strings.Fields(in.opt.OverrideHint)[0], o, varNames(in.Info))
 			}
 			if rule.Role == RoleLWPSD && isUncertainty(v) {
 				return varErr(ErrOverride, in.Path, o.Var, "is a retrieval uncertainty (standard_error, *_unc, *_uncertainty), not the sub-grid standard deviation of LWP that lwp_sd means; leave lwp_sd unbound to use the gamma shape option")
 			}
-			chosen = cand{v: v, reason: "explicit override " + o.String()}
+			chosen = cand{v: v, reason: "given by " + strings.Fields(in.opt.OverrideHint)[0] + " " + o.String()}
 			if o.Units != "" {
 				units, unitsFrom = o.Units, "override"
 			}

@@ -53,7 +53,7 @@ type MaskSpec struct {
 func ParseMask(s string) (MaskSpec, error) {
 	t := strings.TrimSpace(s)
 	bad := func(format string, a ...any) (MaskSpec, error) {
-		return MaskSpec{}, fmt.Errorf("%w: mask %q: %s; expected VAR:MEANING[,MEANING...] or VAR<N (also <=, >, >=, ==, !=)", ErrOverride, s, fmt.Sprintf(format, a...))
+		return MaskSpec{}, errOverride("mask %q: %s; expected VAR:MEANING[,MEANING...] or VAR<N (also <=, >, >=, ==, !=)", s, fmt.Sprintf(format, a...))
 	}
 	if i := strings.IndexAny(t, "<>=!"); i >= 0 && !strings.Contains(t[:i], ":") {
 		name := strings.TrimSpace(t[:i])

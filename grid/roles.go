@@ -84,6 +84,29 @@ type RoleRule struct {
 	// in its role's ancillary_variables, or by CommonNames; it is bound only when its role
 	// is, and its units may also be a percentage (Binding.Relative).
 	ErrorOf Role
+	// Plausible is the range, in Units, in which the bulk of a real field of the role lies
+	// ([0, 0] for flag codes: no check). A median outside it means the units are wrong
+	// (r_e declared in mm, LWP in kg m-2 that is in g m-2): Input.Sample measures it.
+	Plausible [2]float64
+}
+
+// plausible gives the Plausible ranges of RoleRules, canonical units, with their sources:
+// LWP of liquid clouds 1 g m-2 to 3 kg m-2 and its sub-grid standard deviation up to the
+// same; cloud-top r_e of liquid water 1-60 um (the retrieval ranges of the passive imager
+// products, from memory); optical thickness 0-500; cloud-top temperature 150-350 K,
+// pressure 50-1100 hPa, height 0-25 km (the troposphere, common practice); fractions 0-1
+// (by definition); droplet number 1-10000 cm-3 (marine to polluted, [Wood2012] from
+// memory, with a decade of margin).
+var plausible = map[Role][2]float64{
+	RoleLWP: {1e-3, 3}, RoleLWPSD: {0, 3}, RoleRe: {1e-6, 60e-6}, RoleTau: {0, 500},
+	RoleCTT: {150, 350}, RoleCTP: {5e3, 1.1e5}, RoleCTH: {0, 2.5e4}, RoleCloudFraction: {0, 1},
+	RoleNd: {1e6, 1e10},
+}
+
+func init() {
+	for i := range RoleRules {
+		RoleRules[i].Plausible = plausible[RoleRules[i].Role]
+	}
 }
 
 // Codes reports whether the role holds flag codes rather than a quantity.
@@ -216,7 +239,7 @@ func ParseRole(s string) (Role, error) {
 		}
 		names = append(names, string(r))
 	}
-	return "", fmt.Errorf("%w: unknown input role %q; expected one of %s", ErrOverride, s, strings.Join(names, ", "))
+	return "", errOverride("unknown input role %q; expected one of %s", s, strings.Join(names, ", "))
 }
 
 // Override binds a role to a named variable, optionally declaring its units.
@@ -243,7 +266,7 @@ func (o Override) String() string {
 func ParseOverride(s string) (Override, error) {
 	role, rest, ok := strings.Cut(s, "=")
 	if !ok {
-		return Override{}, fmt.Errorf("%w: %q: expected ROLE=VARNAME or ROLE=VARNAME:UNITS", ErrOverride, s)
+		return Override{}, errOverride("%q: expected ROLE=VARNAME or ROLE=VARNAME:UNITS", s)
 	}
 	r, err := ParseRole(strings.TrimSpace(role))
 	if err != nil {
@@ -253,16 +276,16 @@ func ParseOverride(s string) (Override, error) {
 	name = strings.TrimSpace(name)
 	units = strings.TrimSpace(units)
 	if name == "" {
-		return Override{}, fmt.Errorf("%w: %q: empty variable name; expected ROLE=VARNAME or ROLE=VARNAME:UNITS", ErrOverride, s)
+		return Override{}, errOverride("%q: empty variable name; expected ROLE=VARNAME or ROLE=VARNAME:UNITS", s)
 	}
 	if strings.ContainsAny(name, "\t\n") {
-		return Override{}, fmt.Errorf("%w: %q: variable name %q contains a tab or a newline", ErrOverride, s, name)
+		return Override{}, errOverride("%q: variable name %q contains a tab or a newline", s, name)
 	}
 	if strings.Contains(rest, ":") && units == "" {
-		return Override{}, fmt.Errorf("%w: %q: empty units after ':'", ErrOverride, s)
+		return Override{}, errOverride("%q: empty units after ':'", s)
 	}
 	if units != "" && r.Rule().Codes() {
-		return Override{}, fmt.Errorf("%w: %q: role %s holds flag codes, which have no units", ErrOverride, s, r)
+		return Override{}, errOverride("%q: role %s holds flag codes, which have no units", s, r)
 	}
 	if units != "" {
 		to := CanonicalUnits(r)
@@ -273,7 +296,7 @@ func ParseOverride(s string) (Override, error) {
 			}
 		}
 		if _, err := NewConverter(units, to); err != nil {
-			return Override{}, fmt.Errorf("override %q: %w", s, err)
+			return Override{}, plainErr{err.Error(), err}
 		}
 	}
 	return Override{Role: r, Var: name, Units: units}, nil

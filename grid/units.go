@@ -32,7 +32,7 @@ func unitSystem() (*C.ut_system, error) {
 	unitsOnce.Do(func() {
 		unitsSys = C.warmrain_ut_load()
 		if unitsSys == nil {
-			unitsErr = fmt.Errorf("%w: cannot load the UDUNITS-2 unit database (install libudunits2-data or set UDUNITS2_XML_PATH)", ErrUnits)
+			unitsErr = errUnits("cannot load the UDUNITS-2 unit database (install libudunits2-data or set UDUNITS2_XML_PATH)")
 		}
 	})
 	return unitsSys, unitsErr
@@ -84,7 +84,7 @@ func (c Converter) String() string {
 func NewConverter(from, to string) (Converter, error) {
 	c := Converter{From: from, To: to}
 	if strings.TrimSpace(from) == "" {
-		return c, fmt.Errorf("%w: empty units string; expected units convertible to %q", ErrUnits, to)
+		return c, errUnits("empty units string; expected units convertible to %q", to)
 	}
 	sys, err := unitSystem()
 	if err != nil {
@@ -94,27 +94,27 @@ func NewConverter(from, to string) (Converter, error) {
 	defer unitsMu.Unlock()
 	uf := parseUnit(sys, from)
 	if uf == nil {
-		return c, fmt.Errorf("%w: cannot parse units %q (UDUNITS-2 syntax expected)%s", ErrUnits, from, mbHint(from, to, sys))
+		return c, errUnits("cannot parse units %q (UDUNITS-2 syntax expected)%s", from, mbHint(from, to, sys))
 	}
 	defer C.ut_free(uf)
 	ut := parseUnit(sys, to)
 	if ut == nil {
-		return c, fmt.Errorf("%w: cannot parse target units %q", ErrUnits, to)
+		return c, errUnits("cannot parse target units %q", to)
 	}
 	defer C.ut_free(ut)
 	if C.ut_are_convertible(uf, ut) == 0 {
-		return c, fmt.Errorf("%w: units %q are not convertible to %q%s", ErrUnits, from, to, mbHint(from, to, sys))
+		return c, errUnits("units %q are not convertible to %q%s", from, to, mbHint(from, to, sys))
 	}
 	cv := C.ut_get_converter(uf, ut)
 	if cv == nil {
-		return c, fmt.Errorf("%w: no converter from %q to %q", ErrUnits, from, to)
+		return c, errUnits("no converter from %q to %q", from, to)
 	}
 	defer C.cv_free(cv)
 	b := float64(C.cv_convert_double(cv, 0))
 	a := float64(C.cv_convert_double(cv, 1)) - b
 	probe := float64(C.cv_convert_double(cv, 1000))
 	if d := math.Abs(probe - (1000*a + b)); d > 1e-9*math.Max(1, math.Abs(probe)) {
-		return c, fmt.Errorf("%w: conversion from %q to %q is not linear", ErrUnits, from, to)
+		return c, errUnits("conversion from %q to %q is not linear", from, to)
 	}
 	c.Factor = exactPow10(a)
 	c.Offset = b
@@ -205,13 +205,13 @@ func ParseUnits(s string) (string, error) {
 	defer unitsMu.Unlock()
 	u := parseUnit(sys, s)
 	if u == nil {
-		return "", fmt.Errorf("%w: cannot parse units %q (UDUNITS-2 syntax expected)", ErrUnits, s)
+		return "", errUnits("cannot parse units %q (UDUNITS-2 syntax expected)", s)
 	}
 	defer C.ut_free(u)
 	var buf [256]C.char
 	n := C.warmrain_ut_format(u, &buf[0], C.size_t(len(buf)))
 	if n < 0 {
-		return "", fmt.Errorf("%w: cannot format units %q", ErrUnits, s)
+		return "", errUnits("cannot format units %q", s)
 	}
 	return C.GoString(&buf[0]), nil
 }

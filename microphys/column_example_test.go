@@ -226,7 +226,7 @@ func ExampleParams_Validate() {
 	p.Fad = 1.5
 	fmt.Println(p.Validate())
 	// Output:
-	// microphys: parameter adiabatic_fraction = 1.5 out of range (want above 0 and at most 1)
+	// --adiabatic-fraction must be above 0 and at most 1 (got 1.5)
 }
 
 func ExampleAutoconvScheme_Citation() {

@@ -254,12 +254,18 @@ type ParamError struct {
 	Want   string  // the allowed range, e.g. "between 1 and 100 um"
 }
 
-// Error describes the bad parameter, its value and the allowed range.
+// Error describes the bad parameter by its option, with the allowed range and the value in
+// the unit users type (never the Go field name).
 //
 // Reference: none (software interface).
 // Valid: always.
 func (e *ParamError) Error() string {
-	return fmt.Sprintf("microphys: parameter %s = %g out of range (want %s)", e.Field, e.Value, e.Want)
+	for i := range ParamDecls {
+		if ParamDecls[i].Option == e.Option && ParamDecls[i].Kind == ParamSwitch {
+			return fmt.Sprintf("--%s must be %s", e.Option, e.Want)
+		}
+	}
+	return fmt.Sprintf("--%s must be %s (got %g)", e.Option, e.Want, e.Value)
 }
 
 // Validate checks every parameter against its row of ParamDecls, then the relations
@@ -286,8 +292,14 @@ func (p Params) Validate() error {
 	for _, c := range [][2]string{{"re_range_min", "re_range_max"}, {"nd_range_min", "nd_range_max"}, {"drizzle_min_radius", "drizzle_mean_radius"}} {
 		lo, hi := byName(c[0]), byName(c[1])
 		if !(hi.Get(&p) > lo.Get(&p)) {
-			return &ParamError{Field: hi.Name, Option: hi.Option, Value: hi.FromSI(hi.Get(&p)),
-				Want: "max above min " + lo.Text(lo.FromSI(lo.Get(&p)))}
+			want := "above --" + lo.Option + " " + lo.Text(lo.FromSI(lo.Get(&p)))
+			if lo.Option == hi.Option {
+				want = "a maximum above the minimum " + lo.Text(lo.FromSI(lo.Get(&p)))
+			}
+			if lo.Unit != "" && lo.Unit != "1" {
+				want += " " + lo.Unit
+			}
+			return &ParamError{Field: hi.Name, Option: hi.Option, Value: hi.FromSI(hi.Get(&p)), Want: want}
 		}
 	}
 	if w := byName("onset_width"); !(p.OnsetWidth < 2*p.ReStar) {
@@ -295,7 +307,7 @@ func (p Params) Validate() error {
 			Want: "below twice the onset radius (the onset range starts above 0)"}
 	}
 	if p.EnableEvaporation && !p.EnableCollector {
-		return &ParamError{"no_evaporation", "no-evaporation", 0, "given when no-collector is (evaporation follows the collector drop)"}
+		return &ParamError{"no_evaporation", "no-evaporation", 0, "given when --no-collector is (the evaporation follows the collector drop)"}
 	}
 	return nil
 }

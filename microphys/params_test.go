@@ -63,7 +63,7 @@ func TestValidateNamesField(t *testing.T) {
 		c.mod(&p)
 		err := p.Validate()
 		var pe *ParamError
-		if !errors.As(err, &pe) || pe.Field != c.field || !strings.Contains(err.Error(), c.field) || pe.Want == "" {
+		if !errors.As(err, &pe) || pe.Field != c.field || !strings.Contains(err.Error(), "--"+pe.Option) || pe.Want == "" {
 			t.Errorf("%s: Validate() = %v", c.field, err)
 		}
 		if _, err := NewModel(p); err == nil {

@@ -295,19 +295,37 @@ Data go to stdout or files; messages go to stderr.
 	  (without --re: --droplet-number N; without --lwp: --tau and --re)
 	                  [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
 	                  [--lwp-se G_M2|P%] [--re-se UM|P%] [--tau-se T|P%] [--parameter-uncertainty]
+	  warmrain column --from FILE (--lat Y --lon X [--time T] | --index I,J[,T])
+	                  [--bind ROLE=VAR[:UNITS]] [--mask ...] [--pack] [--no-screen]
+	                  [physics options] [--json]
 
-	Runs the physics of one column given on the command line and prints the
-	parameters used, the adiabatic profile (liquid water content, mean-volume and
-	effective radius against height above cloud base), the collector drop's path
-	through the cloud and its fall through the sub-cloud layer, every diagnostic
-	that 'warmrain process' writes (same names and units) and the QC flags by name.
+	Runs the physics of one column and prints every diagnostic that 'warmrain
+	process' writes (same names and units) with the QC flags by name, the
+	screening rules and how the column fares against each, the parameters used,
+	the adiabatic profile (liquid water content, mean-volume and effective radius
+	against height above cloud base), the collector drop's path through the cloud
+	and its fall through the sub-cloud layer.
+
+	The column is given on the command line, or taken from an input file with
+	--from: the pixel nearest to --lat/--lon (regular and curvilinear latitude-
+	longitude grids, lists of cells; the distance to its centre is printed) at the
+	time nearest to --time (ISO 8601, e.g. 2019-06-02T12:00), or the pixel at
+	--index (its row and column on the grid, one index for cells, then the index
+	of each other dimension such as time). The file is read as process reads it
+	(--bind, --mask, --lwp-kind, unit conversion, completion of missing inputs,
+	screening), and the diagnostics printed are the numbers process writes for
+	that pixel with the same options, rounded as the output file stores them
+	(float32; --pack: 16-bit packed). --no-screen runs a screened column anyway
+	with the screening thresholds off and says which option screened it.
+
 	Inputs left out are absent, as missing values in a file are: the defaults of
 	the physics options are used and the QC flags say so.
 
-	The collector and evaporation paths are integrated directly (CollectDirect,
-	EvaporateDirect) at a few points; the diagnostics table comes from the column
-	model with the chosen --collector-method, so with the table method the exit
-	radius there may differ from the path's by up to about 0.5 %.
+	column integrates the collector drop and its evaporation directly by default
+	(--collector-method direct), so the path printed ends at the exit radius of
+	the diagnostics. process uses the table by default (within 0.5 % of the
+	direct integration); add --collector-method table, or --params-from OUTPUT.nc
+	(every parameter of that output), to see the numbers of such a file.
 
 	With standard errors of the inputs (--lwp-se, --re-se, --tau-se: in the input's
 	units, or a percentage such as 10%) every diagnostic is printed as value ± its
@@ -319,6 +337,7 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain column --lwp 120 --re 14
 	  warmrain column --lwp 120 --re 14 --lwp-se 15 --re-se 10% --parameter-uncertainty
 	  warmrain column --lwp 120 --re 14 --ctt 284 --ctp 880 --cth 1200 --updraft 0.5 --json
+	  warmrain column --from samples/data/stratocumulus_demo.nc --lat -21.13 --lon -80.07 --time 2026-09-22T12:00
 
 	Options:
 	      --lwp float                            liquid water path, g m-2 (required)
@@ -334,6 +353,24 @@ Data go to stdout or files; messages go to stderr.
 	      --rh-surface float                     surface relative humidity of this column, 0-1,
 	                                             used with --subcloud-humidity surface-rh (absent:
 	                                             --surface-rh)
+	      --from string                          read the column from this input file (as process
+	                                             reads it) instead of --lwp, --re, ...
+	      --lat float                            with --from: latitude of the column, degrees
+	                                             north (the nearest pixel is taken)
+	      --lon float                            with --from: longitude of the column, degrees east
+	      --time string                          with --from: time of the column, ISO 8601
+	                                             (2019-06-02 or 2019-06-02T12:00; the nearest time
+	                                             is taken)
+	      --index string                         with --from: the pixel by its indices, from 0:
+	                                             row,column of a grid (one index for cells), then
+	                                             each other dimension such as time
+	      --bind stringArray                     with --from: take input ROLE from variable VAR,
+	                                             optionally declaring its units: ROLE=VAR[:UNITS]
+	                                             (as process)
+	      --pack[=true|false]                    with --from: print the bounded diagnostics as a
+	                                             --pack output stores them (16-bit packed)
+	      --no-screen[=true|false]               run a column the screening thresholds reject
+	                                             anyway (thresholds off), and say which one rejected it
 	      --params FILE                          read the physics parameters from FILE (TOML; keys
 	                                             and units as the options; warmrain params --write
 	                                             FILE starts one); options given here override it
@@ -403,7 +440,7 @@ Data go to stdout or files; messages go to stderr.
 	                                             seifert-beheng2001 scheme (default 1)
 	      --collector-method string              collector and evaporation results (table:
 	                                             interpolated, tested to 0.5 %; direct: integrated
-	                                             per column, slow): table, direct (default "table")
+	                                             per column, slow): table, direct (default "direct")
 	      --no-collector[=true|false]            skip the collector drop and the sub-cloud
 	                                             evaporation (surface drizzle)
 	      --no-evaporation[=true|false]          skip the sub-cloud evaporation (the surface
@@ -436,6 +473,15 @@ Data go to stdout or files; messages go to stderr.
 	                                             one at a time
 	      --min-cloud-fraction float             with a grid-box-mean LWP, screen columns whose
 	                                             cloud fraction is below this (default 0.05)
+	      --mask stringArray                     screen columns by a quality variable:
+	                                             'VAR:MEANING[,MEANING...]' (a CF flag variable
+	                                             has any of the flag_meanings words) or 'VAR<N'
+	                                             (also <=, >, >=, ==, !=; in VAR's own units);
+	                                             repeatable
+	      --lwp-kind string                      what the LWP averages: auto (from cell_methods,
+	                                             the variable name and model attributes),
+	                                             in-cloud, or grid-mean (divided by the cloud
+	                                             fraction) (default "auto")
 	      --lwp-se string                        standard error of the LWP: g m-2, or a percentage
 	                                             of it (10%)
 	      --re-se string                         standard error of r_e: µm, or a percentage of it

@@ -79,10 +79,6 @@ func directParams(t *testing.T, method microphys.CollectorMethod, updraft float6
 // some parameters as µm*1e-6 (a last-bit difference from DefaultParams).
 const jsonTol = 1e-8
 
-// pathTol: two direct integrations of one drop from inputs that differ in the last bits
-// (microphys.CollectorSetup.RelTol 1e-6 per step; derived).
-const pathTol = 2e-5
-
 // Every printed diagnostic equals microphys.Model.Column called directly with
 // the same inputs and parameters, for columns that exercise the QC paths.
 func TestColumnMatchesMicrophys(t *testing.T) {
@@ -120,7 +116,7 @@ func TestColumnMatchesMicrophys(t *testing.T) {
 					t.Errorf("%s units %q, want %q", d.name, got.Units[d.name], d.units)
 				}
 			}
-			if got.QC.Value != want.QC || strings.Join(got.QC.Flags, " ") != strings.Join(microphys.QCNames(want.QC), " ") {
+			if got.QC.Value != uint32(want.QC) || strings.Join(got.QC.Flags, " ") != strings.Join(microphys.QCNames(want.QC), " ") {
 				t.Errorf("qc %d %v, want %d %v", got.QC.Value, got.QC.Flags, want.QC, microphys.QCNames(want.QC))
 			}
 			if got.Parameters["collector_method"] != "direct" || got.Parameters["updraft"] != c.upd {
@@ -166,17 +162,23 @@ func checkPaths(t *testing.T, got columnJSON, p microphys.Params, in *microphys.
 	}
 	s := p.Collector
 	s.Collision, s.Coalescence = p.Collision, p.Coalescence
-	cloud := microphys.CloudColumn{H: out.H, Gamma: p.Fad * out.Cw, Nd: out.Nd, Air: microphys.NewAir(pr, T)}
+	// The cloud of the exported functions of the adiabatic model [Brenguier2000], which
+	// Column's direct integration gets (microphys.Model.Geometry).
+	cw := microphys.CondensationRate(pr, T)
+	tau := in.Tau
+	if math.IsNaN(tau) {
+		tau = microphys.TauAdiabatic(in.LWP, in.Re, p.Qext)
+	}
+	cloud := microphys.CloudColumn{H: microphys.Thickness(in.LWP, p.Fad, cw), Gamma: p.Fad * cw,
+		Nd: microphys.DropletNumber(tau, in.Re, p.K, p.Qext, p.Fad, cw), Air: microphys.NewAir(pr, T)}
 	path := microphys.CollectDirect(cloud, s)
 	c := got.Collector
 	if c == nil || !relClose(c.ExitRadius, path.ExitRadius*1e6, jsonTol) || !relClose(c.ExitTime, path.ExitTime, jsonTol) {
 		t.Fatalf("collector %+v, want CollectDirect %+v", c, path)
 	}
-	// The direct path's end equals the column model's (direct method) outputs, within the
-	// integrator's tolerance: the command's path starts from the printed H, c_w and N_d of
-	// Column's fast arithmetic, the model's from the exported functions' (last-bit
-	// differences that the adaptive steps answer up to their tolerance; derived).
-	if !relClose(c.ExitRadius, out.CollectorRadius*1e6, pathTol) {
+	// The direct path's end is the column model's (direct method) output: one integration
+	// of the same inputs (derived), equal to the JSON's 10 digits.
+	if !relClose(c.ExitRadius, out.CollectorRadius*1e6, jsonTol) {
 		t.Errorf("path exit %g um, Column %g um", c.ExitRadius, out.CollectorRadius*1e6)
 	}
 	// Heights: integrated from the sampled (t, R) of the path; the integral
@@ -215,10 +217,10 @@ func checkPaths(t *testing.T, got columnJSON, p microphys.Params, in *microphys.
 		t.Fatal("no evaporation path")
 	}
 	if ev.Reached {
-		if !relClose(val(ev.SurfaceRadius), out.SurfaceRadius*1e6, pathTol) {
+		if !relClose(val(ev.SurfaceRadius), out.SurfaceRadius*1e6, jsonTol) {
 			t.Errorf("surface radius %v, Column %g", val(ev.SurfaceRadius), out.SurfaceRadius*1e6)
 		}
-	} else if !relClose(val(ev.EvapHeight), out.EvapHeight, pathTol) {
+	} else if !relClose(val(ev.EvapHeight), out.EvapHeight, jsonTol) {
 		t.Errorf("evaporation height %v, Column %g", val(ev.EvapHeight), out.EvapHeight)
 	}
 	prevR = math.Inf(1)
@@ -230,13 +232,18 @@ func checkPaths(t *testing.T, got columnJSON, p microphys.Params, in *microphys.
 	}
 }
 
-// The default (table) method: the table shows Model.Column's outputs with the
-// collector table, the same numbers process writes.
+// The table method (process's default): the table shows Model.Column's outputs with the
+// collector table, the same numbers process writes; column's default is the direct
+// integration, whose path ends at the exit radius of its table.
 func TestColumnTableMethod(t *testing.T) {
 	if testing.Short() {
 		t.Skip("slow: full tier only (make check); go test -short leaves it out")
 	}
-	got := runColumnJSON(t, "--lwp", "120", "--re", "14")
+	def := runColumnJSON(t, "--lwp", "120", "--re", "14")
+	if def.Parameters["collector_method"] != "direct" || def.Collector == nil || def.Collector.ExitRadius != val(def.Diagnostics["collector_exit_radius"]) {
+		t.Errorf("default: method %v, path exit %+v, diagnostics %v", def.Parameters["collector_method"], def.Collector, val(def.Diagnostics["collector_exit_radius"]))
+	}
+	got := runColumnJSON(t, "--lwp", "120", "--re", "14", "--collector-method", "table")
 	_, m := directParams(t, microphys.CollectorTable, 0)
 	in := microphys.Inputs{LWP: 0.120, Re: 14e-6, Tau: math.NaN(), CTT: math.NaN(), CTP: math.NaN(), CTH: math.NaN(), LWPStd: math.NaN(), SurfaceRH: math.NaN()}
 	var want microphys.Outputs

@@ -111,7 +111,7 @@ func TestOptionsFromDeclaration(t *testing.T) {
 	if err := fs.Parse([]string{"--onset-radius", "0.5"}); err != nil {
 		t.Fatal(err)
 	}
-	if _, err = pf.toParams(); err == nil || err.Error() != "--onset-radius must be between 1 and 100 um (got 0.5)" {
+	if _, err = pf.toParams(); err == nil || err.Error() != "--onset-radius must be between 1 and 100 um (got 0.5 um)" {
 		t.Errorf("range error %v, want it to name --onset-radius and um", err)
 	}
 }

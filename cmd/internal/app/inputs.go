@@ -146,3 +146,37 @@ func appendSentences(comment string, sentences []string) string {
 	}
 	return strings.TrimSpace(c + " " + strings.Join(sentences, " "))
 }
+
+// unitSampleSize is how many values of each role unitWarnings samples.
+const unitSampleSize = 5000
+
+// unitWarnings samples the input's values (grid.Input.Sample) and returns a warning for each
+// role whose median lies outside the role's plausible range (grid.RoleRule.Plausible):
+// units that cannot be right for the role, such as r_e declared in mm or an LWP in g m-2
+// declared as kg m-2 (which would screen every column). The warning names the units, where
+// they came from (--bind or the file's units attribute) and the range expected, in the
+// units the options use. A failed sample gives no warning (the run reports read errors).
+func unitWarnings(gin *grid.Input) []string {
+	sm, err := gin.Sample(unitSampleSize)
+	if err != nil {
+		return nil
+	}
+	var w []string
+	for _, s := range sm {
+		pr := s.Role.Rule().Plausible
+		if s.Median >= pr[0] && s.Median <= pr[1] {
+			continue
+		}
+		b, _ := gin.Binding(s.Role)
+		med, unit := roleDisplay(s.Role, s.Median, b.Canonical)
+		lo, _ := roleDisplay(s.Role, pr[0], b.Canonical)
+		hi, _ := roleDisplay(s.Role, pr[1], b.Canonical)
+		from := fmt.Sprintf("the units attribute %q of %s", b.UnitsGiven, b.Var)
+		if b.UnitsFrom == "override" {
+			from = fmt.Sprintf("--bind %s=%s:%s", s.Role, b.Var, b.UnitsGiven)
+		}
+		w = append(w, fmt.Sprintf("%s: read with %s, the %s has a median of %s %s over %d sampled values (%.0f %% outside %s-%s %s, the range expected for it); these units cannot be right for the %s: check them (--bind %s=%s:UNITS)",
+			gin.Path, from, s.Role.Rule().Description, num(med), unit, s.Valid, 100*s.Outside, num(lo), num(hi), unit, s.Role.Rule().Description, s.Role, b.Var))
+	}
+	return w
+}

@@ -339,7 +339,7 @@ func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid
 		q.Masks = append(q.Masks, maskReport{Mask: m.Name(), Screens: m.Describe(), Columns: qc.Masks[k]})
 	}
 	rep.Quality = q
-	rep.Warnings = in.Warnings
+	rep.Warnings = append(append([]string(nil), in.Warnings...), unitWarnings(in)...)
 	return rep, nil
 }
 

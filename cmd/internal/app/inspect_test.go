@@ -232,7 +232,7 @@ func TestInspectBind(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	rr := roleOf(rep, grid.RoleLWP)
-	if rr.Variable != "odd_path" || rr.UnitsFrom != "override" || !strings.Contains(rr.Reason, "override") {
+	if rr.Variable != "odd_path" || rr.UnitsFrom != "override" || !strings.Contains(rr.Reason, "--bind lwp=odd_path:g m-2") {
 		t.Errorf("lwp: %+v", rr)
 	}
 	// odd_path holds the same LWP as LWP, in g m-2 (see the CDL).

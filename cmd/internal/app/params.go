@@ -94,6 +94,19 @@ func addPhysicsFlags(fs *pflag.FlagSet) *physicsFlags {
 	return f
 }
 
+// setDefault changes the default of one physics option for this command (column integrates
+// the collector directly by default); the help shows the new default.
+func (f *physicsFlags) setDefault(fs *pflag.FlagSet, option, value string) {
+	fl := fs.Lookup(option)
+	if fl == nil {
+		panic("app: no option --" + option)
+	}
+	if err := fl.Value.Set(value); err != nil {
+		panic("app: default of --" + option + ": " + err.Error())
+	}
+	fl.DefValue = value
+}
+
 // toParams converts the options to SI parameters and validates them; errors name the
 // option and its range in the unit users type.
 func (f *physicsFlags) toParams() (microphys.Params, error) {
@@ -141,11 +154,21 @@ func (f *physicsFlags) toParams() (microphys.Params, error) {
 	if err := p.Validate(); err != nil {
 		var pe *microphys.ParamError
 		if errors.As(err, &pe) {
+			got := strconv.FormatFloat(pe.Value, 'g', -1, 64)
+			for _, d := range microphys.ParamDecls {
+				switch {
+				case d.Name != pe.Field:
+				case d.Kind == microphys.ParamSwitch:
+					return p, usagef("%v", pe)
+				case d.Unit != "" && d.Unit != "1":
+					got += " " + d.Unit
+				}
+			}
 			opt := "--" + pe.Option
 			if w, ok := f.origin[pe.Option]; ok {
 				opt = w + ": " + pe.Option
 			}
-			return p, usagef("%s must be %s (got %s)", opt, pe.Want, strconv.FormatFloat(pe.Value, 'g', -1, 64))
+			return p, usagef("%s must be %s (got %s)", opt, pe.Want, got)
 		}
 		return p, usagef("%v", err)
 	}

@@ -153,8 +153,22 @@ func runProcess(e *env, args []string) error {
 	if o.output == "" {
 		return usagef("no output given: use -o FILE or -o FOLDER")
 	}
-	if o.jobs < 1 || o.threads < 0 || o.deflate < 0 || o.deflate > 9 || o.slabMB < 1 || o.memoryMB < 64 || o.quantize < 0 || o.quantize > 7 {
-		return usagef("--jobs >= 1, --threads >= 0, --deflate 0-9, --slab-mb >= 1, --memory-mb >= 64 and --significant-digits 0-7 are required")
+	for _, c := range []struct {
+		bad  bool
+		opt  string
+		v    int
+		want string
+	}{
+		{o.jobs < 1, "jobs", o.jobs, "at least 1 (files at the same time)"},
+		{o.threads < 0, "threads", o.threads, "0 (automatic) or more"},
+		{o.deflate < 0 || o.deflate > 9, "deflate", o.deflate, "between 0 (no compression) and 9"},
+		{o.slabMB < 1, "slab-mb", o.slabMB, "at least 1 MiB"},
+		{o.memoryMB < 64, "memory-mb", o.memoryMB, "at least 64 MiB"},
+		{o.quantize < 0 || o.quantize > 7, "significant-digits", o.quantize, "between 0 (off) and 7"},
+	} {
+		if c.bad {
+			return usagef("--%s must be %s (got %d)", c.opt, c.want, c.v)
+		}
 	}
 	if o.shard != "" && o.shardCount > 0 {
 		return usagef("--shard and --shard-count cannot be combined (--shard-count is for Slurm arrays)")
@@ -653,6 +667,11 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	for _, w := range in.Warnings {
 		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
 	}
+	if !j.o.ioOnly {
+		for _, w := range unitWarnings(in) {
+			fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
+		}
+	}
 	assumed := assumed(in, j.params)
 	var used []string
 	for _, b := range in.Bindings() {
@@ -815,45 +834,23 @@ func (j *processJob) workers() int {
 	return max(1, runtime.NumCPU()/max(1, j.o.jobs)-1)
 }
 
-// compute returns the per-slab kernel: inputs from the slab's canonical
-// slices, the product's masks and flag codes, the input completion
-// (microphys.Model.Complete) and one microphys.Model.Column call per column,
-// outputs scaled to the file units. It allocates nothing per column.
+// compute returns the per-slab kernel: columnKernel.column for each column (masks, flag
+// codes, completion and one microphys.Model.Column call), outputs scaled to the file units
+// (outputValue), and the uncertainty outputs of plan when there are any. It allocates
+// nothing per column.
 func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
-	iLWP, iRe, iTau := grid.RoleLWP.Index(), grid.RoleRe.Index(), grid.RoleTau.Index()
-	iCTT, iCTP, iCTH, iSD := grid.RoleCTT.Index(), grid.RoleCTP.Index(), grid.RoleCTH.Index(), grid.RoleLWPSD.Index()
-	iNd, iCF := grid.RoleNd.Index(), grid.RoleCloudFraction.Index()
-	gridMean := gin.GridMean
-	masks := gin.Masks
-	bits := make([]uint32, len(masks))
-	for k, mk := range masks {
-		bits[k] = maskBit(mk)
-	}
-	var codeRoles []int // roles whose decoder screens flag codes
-	for i, r := range grid.Roles {
-		if b, ok := gin.Binding(r); ok && len(b.Decoder.FlagCodes) > 0 {
-			codeRoles = append(codeRoles, i)
-		}
-	}
-	screen := microphys.QCInputScreenMask | uint32(microphys.QCScreenMask)
-	nan := math.NaN()
+	k := newColumnKernel(m, gin)
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
-		at := func(k, i int) float64 {
-			if s.In[k] == nil {
-				return nan
-			}
-			return s.In[k][i]
-		}
 		var in microphys.Inputs
 		var o microphys.Outputs
 		var n int64
 		var local grid.QualityCounts
 		var why [32]int64 // screened columns by QC bit
-		if len(masks) > 0 || len(codeRoles) > 0 {
-			local.Masks = make([]int64, len(masks))
-			for _, r := range codeRoles {
+		if len(k.masks) > 0 || len(k.codeRoles) > 0 {
+			local.Masks = make([]int64, len(k.masks))
+			for _, r := range k.codeRoles {
 				b, _ := gin.Binding(grid.Roles[r])
 				local.Codes[r] = make([]int64, len(b.Decoder.FlagCodes))
 			}
@@ -862,76 +859,32 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 		uw := plan.slab()
 		var raw microphys.RawColumn
 		var errIn [3]float64
-		for k, d := range defs {
+		for c, d := range defs {
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
 				for i := lo; i < hi; i++ {
-					outs[k][i] = src[i] * d.scale
+					outs[c][i] = src[i] * d.scale
 				}
 			}
 		}
 		for i := lo; i < hi; i++ {
-			var qin uint32
-			for k, mk := range masks {
-				if mk.Screens(s.In[mk.Role.Index()][i]) {
-					qin |= bits[k]
-					local.Masks[k]++
+			q, qin, ran := k.column(s, i, &in, &o, &local)
+			for c := range defs {
+				if !ran || defs[c].get != nil || defs[c].input == grid.RoleLWP {
+					outs[c][i] = outputValue(&defs[c], &in, &o, ran)
 				}
 			}
-			for _, r := range codeRoles {
-				if c, ok := grid.FlagIndex(s.In[r][i]); ok {
-					qin |= microphys.QCFlagCode
-					local.Codes[r][c]++
-				}
-			}
-			if qin != 0 {
-				local.Screened++
-			}
-			in = microphys.Inputs{LWP: at(iLWP, i), Re: at(iRe, i), Tau: at(iTau, i), CTT: at(iCTT, i),
-				CTP: at(iCTP, i), CTH: at(iCTH, i), LWPStd: at(iSD, i), SurfaceRH: nan}
-			if uw != nil {
-				raw = microphys.RawColumn{In: in, Nd: at(iNd, i), CF: at(iCF, i), GridMean: gridMean}
-				for k, r := range errorRoles {
-					errIn[k] = at(r.Index(), i)
-				}
-			}
-			if qin == 0 {
-				qin = m.Complete(&in, at(iNd, i), at(iCF, i), gridMean)
-			}
-			if qin&screen != 0 {
-				for k := range defs {
-					outs[k][i] = nan
-					if defs[k].input == grid.RoleLWP && in.LWP >= 0 {
-						outs[k][i] = in.LWP * defs[k].scale
-					}
-				}
-				qc[i] = float64(qin)
+			qc[i] = float64(q)
+			if q&k.screen != 0 {
 				n++
-				countScreen(&why, qin&screen)
-				if uw != nil {
-					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, true)
-				}
-				continue
-			}
-			m.Column(&in, &o)
-			for k := range defs {
-				switch {
-				case defs[k].get != nil:
-					outs[k][i] = defs[k].get(&o) * defs[k].scale
-				case defs[k].input == grid.RoleLWP:
-					outs[k][i] = nan
-					if in.LWP >= 0 {
-						outs[k][i] = in.LWP * defs[k].scale // the LWP used: derived or in-cloud
-					}
-				}
-			}
-			qc[i] = float64(uint32(o.QC) | qin)
-			if o.QC&microphys.QCScreenMask != 0 {
-				n++
-				countScreen(&why, uint32(o.QC&microphys.QCScreenMask)|qin&screen)
+				countScreen(&why, q&k.screen)
 			}
 			if uw != nil {
-				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, o.QC&microphys.QCScreenMask != 0)
+				raw = microphys.RawColumn{In: k.inputs(s, i), Nd: slabAt(s, k.iNd, i), CF: slabAt(s, k.iCF, i), GridMean: k.gridMean}
+				for e, r := range errorRoles {
+					errIn[e] = slabAt(s, r.Index(), i)
+				}
+				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
 			}
 		}
 		screened.Add(n)
@@ -939,6 +892,102 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			counts.add(&local, &why)
 		}
 	}
+}
+
+// columnKernel is the work process does for one column, shared with 'column --from' so
+// that both give the same numbers: the product's masks and flag codes, the input completion
+// (microphys.Model.Complete), the screening and one microphys.Model.Column call.
+type columnKernel struct {
+	m                                                *microphys.Model
+	masks                                            []*grid.Mask
+	bits                                             []uint32
+	codeRoles                                        []int // roles whose decoder screens flag codes
+	gridMean                                         bool
+	iLWP, iRe, iTau, iCTT, iCTP, iCTH, iSD, iNd, iCF int
+	screen                                           uint32
+}
+
+func newColumnKernel(m *microphys.Model, gin *grid.Input) *columnKernel {
+	k := &columnKernel{m: m, masks: gin.Masks, gridMean: gin.GridMean,
+		iLWP: grid.RoleLWP.Index(), iRe: grid.RoleRe.Index(), iTau: grid.RoleTau.Index(),
+		iCTT: grid.RoleCTT.Index(), iCTP: grid.RoleCTP.Index(), iCTH: grid.RoleCTH.Index(), iSD: grid.RoleLWPSD.Index(),
+		iNd: grid.RoleNd.Index(), iCF: grid.RoleCloudFraction.Index(),
+		screen: microphys.QCInputScreenMask | uint32(microphys.QCScreenMask)}
+	k.bits = make([]uint32, len(k.masks))
+	for i, mk := range k.masks {
+		k.bits[i] = maskBit(mk)
+	}
+	for i, r := range grid.Roles {
+		if b, ok := gin.Binding(r); ok && len(b.Decoder.FlagCodes) > 0 {
+			k.codeRoles = append(k.codeRoles, i)
+		}
+	}
+	return k
+}
+
+// inputs are column i's inputs as the slab holds them (before completion).
+func (k *columnKernel) inputs(s *grid.Slab, i int) microphys.Inputs {
+	return microphys.Inputs{LWP: slabAt(s, k.iLWP, i), Re: slabAt(s, k.iRe, i), Tau: slabAt(s, k.iTau, i), CTT: slabAt(s, k.iCTT, i),
+		CTP: slabAt(s, k.iCTP, i), CTH: slabAt(s, k.iCTH, i), LWPStd: slabAt(s, k.iSD, i), SurfaceRH: math.NaN()}
+}
+
+// column fills in (the completed inputs) and o for column i of slab s and returns the QC
+// word written to the file (input bits | Column's bits) and the input bits alone (masks,
+// flag codes, completion); ran is false when the column was screened before Column (o is
+// then not computed). local counts mask and flag-code hits (its Masks nil: not counted).
+func (k *columnKernel) column(s *grid.Slab, i int, in *microphys.Inputs, o *microphys.Outputs, local *grid.QualityCounts) (qc, qin uint32, ran bool) {
+	for c, mk := range k.masks {
+		if mk.Screens(s.In[mk.Role.Index()][i]) {
+			qin |= k.bits[c]
+			if local.Masks != nil {
+				local.Masks[c]++
+			}
+		}
+	}
+	for _, r := range k.codeRoles {
+		if c, ok := grid.FlagIndex(s.In[r][i]); ok {
+			qin |= microphys.QCFlagCode
+			if local.Codes[r] != nil {
+				local.Codes[r][c]++
+			}
+		}
+	}
+	if qin != 0 {
+		local.Screened++
+	}
+	*in = k.inputs(s, i)
+	if qin == 0 {
+		qin = k.m.Complete(in, slabAt(s, k.iNd, i), slabAt(s, k.iCF, i), k.gridMean)
+	}
+	if qin&k.screen != 0 {
+		return qin, qin, false
+	}
+	k.m.Column(in, o)
+	return uint32(o.QC) | qin, qin, true
+}
+
+// slabAt is role r's value at column i of s, NaN when the role is absent.
+func slabAt(s *grid.Slab, r, i int) float64 {
+	if s.In[r] == nil {
+		return math.NaN()
+	}
+	return s.In[r][i]
+}
+
+// outputValue is the value of output d (file units) for a column: its diagnostic, the LWP
+// used (derived or in-cloud) for the LWP copy, NaN for a screened column's diagnostics.
+// Copies of other inputs (d.get nil, d.input not LWP) are not handled here.
+func outputValue(d *outputDef, in *microphys.Inputs, o *microphys.Outputs, ran bool) float64 {
+	switch {
+	case d.input == grid.RoleLWP:
+		if in.LWP >= 0 {
+			return in.LWP * d.scale
+		}
+		return math.NaN()
+	case !ran || d.get == nil:
+		return math.NaN()
+	}
+	return d.get(o) * d.scale
 }
 
 // globals are the provenance and parameter attributes of an output.

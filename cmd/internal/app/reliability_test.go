@@ -227,7 +227,7 @@ f.close()`)
 		{name: "missing input file", make: func(t *testing.T, dir string) string { return filepath.Join(dir, "absent.nc") },
 			want: []string{"no such file or directory"}},
 		{name: "override names an absent variable", make: cdl("good"), args: []string{"--bind", "lwp=lwp_total"},
-			want: []string{`variable "lwp_total"`, "override lwp=lwp_total", "does not exist"}},
+			want: []string{`variable "lwp_total"`, "--bind lwp=lwp_total", "does not exist"}},
 	}
 }
 
@@ -294,7 +294,7 @@ func TestBadInputUsage(t *testing.T) {
 		{[]string{"process", "-o", out}, "no input given"},
 		{[]string{"process", in, "-o", out, "--bind", "lwp"}, `--bind "lwp"`},
 		{[]string{"process", in, "-o", out, "--bind", "nope=x"}, `--bind "nope=x"`},
-		{[]string{"process", in, "-o", out, "--jobs", "0"}, "--jobs >= 1"},
+		{[]string{"process", in, "-o", out, "--jobs", "0"}, "--jobs must be at least 1"},
 		{[]string{"process", in, "-o", out, "--force", "--redo"}, "cannot be combined"},
 		{[]string{"process", in, "-o", out, "--no-such-flag"}, "unknown flag: --no-such-flag"},
 	}

@@ -139,8 +139,8 @@ func TestTableCacheUnusable(t *testing.T) {
 	// Invalid parameters: the parameter error, whatever the cache.
 	bad := p
 	bad.K = 2
-	if _, err := newModel(bad); err == nil || !strings.Contains(err.Error(), "k_ratio") {
-		t.Errorf("invalid parameters: %v, want the error naming k_ratio", err)
+	if _, err := newModel(bad); err == nil || !strings.Contains(err.Error(), "--k-ratio") {
+		t.Errorf("invalid parameters: %v, want the error naming --k-ratio", err)
 	}
 }
 

@@ -117,11 +117,11 @@ func (r *Region) Check() error {
 	}
 	for _, v := range []float64{r.LatMin, r.LatMax, r.LonMin, r.LonMax} {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("summary: region %+v has a non-finite edge", *r)
+			return fmt.Errorf("region %g,%g,%g,%g: every edge must be a finite number of degrees", r.LatMin, r.LatMax, r.LonMin, r.LonMax)
 		}
 	}
 	if r.LatMin > r.LatMax {
-		return fmt.Errorf("summary: region latitude %g..%g: LatMin must not exceed LatMax", r.LatMin, r.LatMax)
+		return fmt.Errorf("region latitudes %g..%g: the first (southern) latitude must not exceed the second (northern)", r.LatMin, r.LatMax)
 	}
 	return nil
 }
