@@ -168,6 +168,15 @@ with netCDF4.Dataset(sys.argv[1], "r+") as d:
 	if want := "2001-02-30 00:00 (360_day calendar) (1 time step)"; got != want {
 		t.Errorf("360_day title line %q, want %q", got, want)
 	}
+	// The table's window, as written, in the file's calendar; 2001-02-30 selects the
+	// step and 2001-02-31 is no date of 360_day.
+	table := mustRun(t, "summary", proc, "--from", "2001-02-30")
+	if want := "Time window: 2001-02-30T00:00:00Z to open (end excluded), dates of the 360_day calendar\n"; !strings.Contains(table, want) || !strings.Contains(table, " 20 selected") {
+		t.Errorf("--from 2001-02-30 on a 360_day file: table\n%s\nwant the line %q and 20 selected columns", table, want)
+	}
+	if code, _, stderr := runCmd("summary", proc, "--from", "2001-02-31"); code != 2 || !strings.Contains(stderr, "2001-02-31: the 360_day calendar has 30 days a month") {
+		t.Errorf("--from 2001-02-31 on a 360_day file: exit %d, %s", code, stderr)
+	}
 }
 
 // TestSpanTextCalendars: the title's dates in each CF calendar (§4.4.1): day 59 after

@@ -62,19 +62,19 @@ func manifestOutputs(path string) ([]string, error) {
 
 func pathExists(p string) bool { _, err := os.Stat(p); return err == nil }
 
-// calendarWindow returns the window w of UTC labels as a window over the seconds
-// since 1970-01-01 of calendar kind (a time.Time whose Unix seconds are those
-// calendar seconds, so that summary.Window.Contains compares them).
-func calendarWindow(kind string, w summary.Window) (summary.Window, error) {
+// calendarWindow returns the window of the labels from and to (nil: open) as a
+// window over the seconds since 1970-01-01 of calendar kind (a time.Time whose Unix
+// seconds are those calendar seconds, so that summary.Window.Contains compares them).
+func calendarWindow(kind string, from, to *calLabel) (summary.Window, error) {
 	var out summary.Window
 	for _, c := range []struct {
-		in  time.Time
+		in  *calLabel
 		out *time.Time
-	}{{w.Start, &out.Start}, {w.End, &out.End}} {
-		if c.in.IsZero() {
+	}{{from, &out.Start}, {to, &out.End}} {
+		if c.in == nil {
 			continue
 		}
-		s, err := grid.CalendarSecondsOf(kind, c.in)
+		s, err := c.in.seconds(kind)
 		if err != nil {
 			return out, err
 		}
@@ -252,7 +252,7 @@ func selectionError(f summaryFlags, x *extent) error {
 		why = append(why, msg)
 	}
 	if !f.window.IsZero() {
-		why = append(why, fmt.Sprintf("the time window (--from/--to) %s selects no time step: %s", f.window, x.when()))
+		why = append(why, fmt.Sprintf("the time window (--from/--to) %s selects no time step: %s", windowText(f), x.when()))
 	}
 	if len(why) == 0 {
 		why = append(why, "the selection keeps no column: "+x.where()+"; "+x.when())

@@ -10,6 +10,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
 	"slices"
 	"sort"
 	"strconv"
@@ -135,6 +136,7 @@ type summaryFlags struct {
 	output, plotDir, mapOf string
 	region                 *summary.Region
 	window                 summary.Window
+	from, to               *calLabel // --from and --to as written (dates of the files' calendar)
 	opt                    summary.Options
 	width, height          int
 	force                  bool
@@ -227,16 +229,16 @@ func runSummary(e *env, args []string) error {
 		}
 	}
 	if *from != "" {
-		if f.window.Start, err = parseUTC(*from); err != nil {
+		if f.window.Start, f.from, err = parseUTC(*from); err != nil {
 			return usagef("--from: %v", err)
 		}
 	}
 	if *to != "" {
-		if f.window.End, err = parseUTC(*to); err != nil {
+		if f.window.End, f.to, err = parseUTC(*to); err != nil {
 			return usagef("--to: %v", err)
 		}
 	}
-	if !f.window.Start.IsZero() && !f.window.End.IsZero() && !f.window.End.After(f.window.Start) {
+	if f.from != nil && f.to != nil && !f.from.before(*f.to) {
 		return usagef("--to %s is not after --from %s", *to, *from)
 	}
 	if f.opt.LWPEdges, err = parseBins(*lwpBins, 1e-3); err != nil {
@@ -329,13 +331,88 @@ func parseRegion(s string) (*summary.Region, error) {
 	return r, nil
 }
 
-func parseUTC(s string) (time.Time, error) {
+// calLabel is a date and clock of --from or --to as written, read in the files'
+// calendar: 2001-02-30 is a day of the 360_day calendar, which a time.Time would
+// carry over to 03-02.
+type calLabel struct {
+	y, m, d int
+	clock   float64 // seconds since midnight
+}
+
+func (l calLabel) String() string {
+	c := int(l.clock)
+	return fmt.Sprintf("%04d-%02d-%02dT%02d:%02d:%02dZ", l.y, l.m, l.d, c/3600, c/60%60, c%60)
+}
+
+// before compares labels by date and clock, the same order in every calendar.
+func (l calLabel) before(o calLabel) bool {
+	a, b := [3]int{l.y, l.m, l.d}, [3]int{o.y, o.m, o.d}
+	if a != b {
+		return a[0] < b[0] || a[0] == b[0] && (a[1] < b[1] || a[1] == b[1] && a[2] < b[2])
+	}
+	return l.clock < o.clock
+}
+
+// seconds is the label in seconds since 1970-01-01 of the calendar kind.
+func (l calLabel) seconds(kind string) (float64, error) {
+	days, err := grid.CalendarDays(kind, l.y, l.m, l.d)
+	if err != nil {
+		return 0, err
+	}
+	return float64(days)*86400 + l.clock, nil
+}
+
+// tableWindow is the window of the table: --from and --to as written, in the
+// files' calendar (the accumulators select every step with a time, anyTime).
+func (st *summaryState) tableWindow(f summaryFlags) summary.Window {
+	if f.window.IsZero() {
+		return summary.Window{}
+	}
+	cal := st.calendar
+	if cal == "" {
+		cal = grid.CalStandard
+	}
+	w := f.window
+	w.Text = windowText(f) + ", dates of the " + cal + " calendar"
+	return w
+}
+
+// windowText is the --from/--to window as written, for the table and messages.
+func windowText(f summaryFlags) string {
+	side := func(l *calLabel) string {
+		if l == nil {
+			return "open"
+		}
+		return l.String()
+	}
+	return side(f.from) + " to " + side(f.to) + " (end excluded)"
+}
+
+var reLabel = regexp.MustCompile(`^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2}(?:\.\d*)?))?Z?)?$`)
+
+// parseUTC reads a time of --from or --to: as a time.Time (an offset is turned to
+// UTC) and as the label of the files' calendar; a day up to 31 is read as a label
+// only (a day of a model calendar, such as 2001-02-30 of 360_day).
+func parseUTC(s string) (time.Time, *calLabel, error) {
+	bad := fmt.Errorf("%q: expected a UTC time such as 2026-07-01, 2026-07-01T06:00 or 2026-07-01T06:00:00Z (a date of the files' calendar)", s)
 	for _, layout := range []string{time.RFC3339Nano, "2006-01-02T15:04Z07:00", "2006-01-02T15:04:05", "2006-01-02T15:04", "2006-01-02 15:04", "2006-01-02"} {
 		if t, err := time.Parse(layout, s); err == nil {
-			return t.UTC(), nil
+			t = t.UTC()
+			clock := float64(t.Hour()*3600+t.Minute()*60+t.Second()) + float64(t.Nanosecond())*1e-9
+			return t, &calLabel{t.Year(), int(t.Month()), t.Day(), clock}, nil
 		}
 	}
-	return time.Time{}, fmt.Errorf("%q: expected a UTC time such as 2026-07-01, 2026-07-01T06:00 or 2026-07-01T06:00:00Z", s)
+	m := reLabel.FindStringSubmatch(s)
+	if m == nil {
+		return time.Time{}, nil, bad
+	}
+	num := func(x string) int { v, _ := strconv.Atoi(x); return v }
+	sec, _ := strconv.ParseFloat("0"+m[6], 64)
+	l := calLabel{num(m[1]), num(m[2]), num(m[3]), float64(num(m[4])*3600+num(m[5])*60) + sec}
+	if l.m < 1 || l.m > 12 || l.d < 1 || l.d > 31 || num(m[4]) > 23 || num(m[5]) > 59 || sec >= 60 {
+		return time.Time{}, nil, bad
+	}
+	return time.Date(l.y, time.Month(l.m), l.d, 0, 0, 0, 0, time.UTC).Add(time.Duration(l.clock * 1e9)), &l, nil
 }
 
 // parseBins reads LO:HI:N or E1,E2,... in display units and returns SI edges.
@@ -474,7 +551,9 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 		}
 	}
 	if f.partial {
-		if err := summary.WriteTable(e.stdout, st.acc.Result()); err != nil {
+		pr := st.acc.Result()
+		pr.Options.Window = st.tableWindow(f)
+		if err := summary.WriteTable(e.stdout, pr); err != nil {
 			return err
 		}
 		if err := grid.WriteDataset(f.output, partialDataset(st, f, inputs), f.force); err != nil {
@@ -489,6 +568,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 			res.Options.LawNdExponent = c
 		}
 	}
+	res.Options.Window = st.tableWindow(f)
 	if err := summary.WriteTable(e.stdout, res); err != nil {
 		return err
 	}
@@ -621,7 +701,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window
 		} else if !sameCalendarGroup(st.calendar, p.Calendar) {
 			return &grid.VarError{File: path, Problem: fmt.Sprintf("has times in the %s calendar and %s in the %s calendar; summarise files of one calendar together", p.Calendar, st.calFile, st.calendar), Err: grid.ErrLayout}
 		}
-		if win, err = calendarWindow(p.Calendar, f.window); err != nil {
+		if win, err = calendarWindow(p.Calendar, f.from, f.to); err != nil {
 			return usagef("--from/--to in the %s calendar of %s: %v", p.Calendar, path, err)
 		}
 		st.ext.addTimes(p.TimeVals)
