@@ -50,6 +50,9 @@ func countColour(t *testing.T, path string, c color.NRGBA) int {
 // value (each a whole cell of pixels, not only its legend swatch); the frequency and
 // screened-share maps decode; the titles give the date in the 360_day calendar.
 func TestSummaryGridFractionMaps(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("ncgen"); err != nil {
 		skipOrFailMissing(t, "ncgen")
 	}
