@@ -129,7 +129,7 @@ def main(argv):
         drizzle = r0 * moment(DRZ_B)
         intensity = np.where(pop > 0, drizzle / pop, np.nan)
         # Screening.
-        qc = np.zeros(lwp.shape, np.int32)
+        qc = np.zeros(lwp.shape, np.int64)
         qc |= np.where(np.isnan(lwp) | np.isnan(re), QC_MISSING, 0)
         qc |= np.where((lwp < MIN_LWP) | (tau < MIN_TAU), QC_THIN, 0)
         qc |= np.where((re < RE_MIN) | (re > RE_MAX), QC_RE, 0)
@@ -165,11 +165,11 @@ def main(argv):
     for k, (a, u) in out.items():
         res[k] = xr.DataArray(a.astype(np.float32), dims=dims, attrs={"units": u, "ancillary_variables": "warm_rain_qc"})
         enc[k] = dict(base, dtype="float32", _FillValue=np.float32(-999))
-    res["warm_rain_qc"] = xr.DataArray(qc, dims=dims, attrs={"standard_name": "quality_flag"})
-    enc["warm_rain_qc"] = dict(base, dtype="int32", _FillValue=np.int32(-1))  # as warmrain writes it
+    res["warm_rain_qc"] = xr.DataArray(qc.astype(np.uint32), dims=dims, attrs={"standard_name": "quality_flag"})
+    enc["warm_rain_qc"] = dict(base, dtype="uint32", _FillValue=None)  # as warmrain writes it (no fill)
     res.attrs["Conventions"] = "CF-1.13"
     res.attrs["source"] = "bench/bulk_xarray.py (benchmark reference script)"
-    res.to_netcdf(dst, format="NETCDF4_CLASSIC", encoding=enc)
+    res.to_netcdf(dst, format="NETCDF4", encoding=enc)  # uint32 needs netCDF-4 (not classic)
     t3 = time.perf_counter()
     print("bulk_xarray: read %.3f compute %.3f write %.3f total %.3f columns %d"
           % (t1 - t0, t2 - t1, t3 - t2, t3 - t0, lwp.size), file=sys.stderr)

@@ -47,6 +47,9 @@ func TestCalendarRoundTrip(t *testing.T) {
 // TestCalendarSecondsAgainstCDO writes time axes in the model calendars with ncgen and
 // compares our dates with those CDO prints (cdo showtimestamp).
 func TestCalendarSecondsAgainstCDO(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("cdo"); err != nil {
 		t.Skip("cdo not installed")
 	}

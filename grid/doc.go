@@ -137,7 +137,10 @@
 // variables are chunked like one slab, (1, ..., rows, columns of a slab), in
 // chunks of at most 4 MiB, with a chunk cache holding one slab's chunks, so each
 // chunk is written whole and compressed once; they get _FillValue of their own
-// type before any data, and the attributes listed in OutputVar (coordinates and grid_mapping copied from LWP).
+// type before any data (none with OutputVar.NoFill, for flag variables), and the
+// attributes listed in OutputVar (coordinates and grid_mapping copied from LWP).
+// A Uint32 variable (a bit mask) makes the output netCDF-4 rather than the classic
+// model, which has no unsigned types (doc/netcdf.md#flag-types).
 // Globals: Conventions "CF-1.13 ACDD-1.3", date_created, history (the new line
 // first, then the input's), then WriteOptions.Globals. OutputVar.Quantize keeps N
 // significant digits (Granular BitRound) and adds the CF quantization container

@@ -14,6 +14,7 @@ import (
 // the whole file or is left as it was) and Abort removes.
 type DatasetWriter struct {
 	path, tmp string
+	replace   bool // force: Commit may replace a file at path
 	ncid      int
 	ds        *Dataset
 	ids       map[string]int
@@ -47,10 +48,10 @@ func CreateDataset(path string, ds *Dataset, force bool) (*DatasetWriter, error)
 	if err != nil {
 		return nil, err
 	}
-	w := &DatasetWriter{path: path, tmp: tmp, ds: ds, ids: map[string]int{}, vars: map[string]*VarSpec{}, fills: map[string]float64{}}
+	w := &DatasetWriter{path: path, tmp: tmp, replace: force, ds: ds, ids: map[string]int{}, vars: map[string]*VarSpec{}, fills: map[string]float64{}}
 	var werr error
 	if e := onIO(func() {
-		ncid, err := ncCreate(tmp, modeNetCDF4Classic)
+		ncid, err := ncCreate(tmp, datasetMode(ds))
 		if err != nil {
 			werr = &VarError{File: path, Problem: "cannot create: " + err.Error(), Err: err}
 			return
@@ -138,7 +139,8 @@ func (w *DatasetWriter) Put(name string, start, count []int, data []float64) err
 	return werr
 }
 
-// Commit closes the file, syncs it and renames it into place.
+// Commit closes the file, syncs it and moves it into place (grid/tempfile.go's
+// commitTemp, the second half of WriteAtomic).
 func (w *DatasetWriter) Commit() error {
 	if w.done {
 		return &VarError{File: w.path, Problem: "commit of a closed writer", Err: ErrLayout}
@@ -152,28 +154,11 @@ func (w *DatasetWriter) Commit() error {
 	}); e != nil {
 		werr = e
 	}
-	if werr == nil {
-		if f, e := os.Open(w.tmp); e == nil {
-			if e := f.Sync(); e != nil {
-				werr = &VarError{File: w.path, Problem: "sync failed: " + e.Error(), Err: e}
-			}
-			f.Close()
-		}
-	}
-	if werr == nil {
-		if e := os.Rename(w.tmp, w.path); e != nil {
-			werr = &VarError{File: w.path, Problem: "cannot rename the temporary file into place: " + e.Error(), Err: e}
-		}
-	}
 	if werr != nil {
 		os.Remove(w.tmp)
 		return werr
 	}
-	if d, e := os.Open(filepath.Dir(w.path)); e == nil {
-		d.Sync()
-		d.Close()
-	}
-	return nil
+	return commitTemp(w.tmp, w.path, w.replace) // as WriteAtomic: no replace unless force
 }
 
 // Abort discards the temporary file; the path is left as it was. Safe after Commit.

@@ -15,6 +15,9 @@ import (
 // with NaN as fill, beside a whole variable and a char label variable, and reads the
 // file back with netCDF4-python (an outside reader).
 func TestDatasetWriterPieces(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	path := filepath.Join(dir, "pieces.nc")
 	labels, w := CharRows([]string{"base", "early", "late"})

@@ -170,7 +170,9 @@ type DimSpec struct {
 
 // VarSpec is one variable of a Dataset. Dims name DimSpecs (slowest first; none
 // for a scalar). Type is the stored type, one of the classic-model types Byte,
-// Char (not supported for data), Short, Int, Float, Double. Data holds the values
+// Char, Short, Int, Float, Double, or an unsigned integer type Ubyte, Ushort or Uint
+// (a bit-mask flag variable such as the QC of process outputs), which makes the file
+// netCDF-4 rather than the classic model (datasetMode). Data holds the values
 // row-major, len = product of the dimension lengths: []float64, []float32,
 // []int32, []int16 or []int8 (or any other numeric slice), or []byte for a Char
 // variable (text padded with NULs, see CharRows); it is converted to Type
@@ -210,7 +212,8 @@ type Dataset struct {
 	Globals []Attr
 }
 
-// WriteDataset writes ds to path as a netCDF-4 classic model file, every
+// WriteDataset writes ds to path as a netCDF-4 classic model file (netCDF-4 with an
+// unsigned variable, see datasetMode), every
 // variable with dimensions deflated at level 1 with shuffle. The file is written
 // to a temporary file in the target folder and renamed into place, so path holds
 // the whole file or is left as it was. An existing path is refused (ErrExists)
@@ -236,37 +239,13 @@ func WriteDataset(path string, ds *Dataset, force bool) error {
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
 		return &VarError{File: path, Problem: fmt.Sprintf("output folder %q does not exist", dir), Err: os.ErrNotExist}
 	}
-	tmp, err := createTemp(path)
-	if err != nil {
-		return err
-	}
-	var werr error
-	if e := onIO(func() { werr = writeDatasetIO(path, tmp, ds) }); e != nil {
-		werr = e
-	}
-	if werr == nil {
-		if f, e := os.Open(tmp); e == nil {
-			werr = f.Sync()
-			f.Close()
-			if werr != nil {
-				werr = &VarError{File: path, Problem: "sync failed: " + werr.Error(), Err: werr}
-			}
+	return WriteAtomic(path, force, func(tmp string) error {
+		var werr error
+		if e := onIO(func() { werr = writeDatasetIO(path, tmp, ds) }); e != nil {
+			werr = e
 		}
-	}
-	if werr == nil {
-		if e := os.Rename(tmp, path); e != nil {
-			werr = &VarError{File: path, Problem: "cannot rename the temporary file into place: " + e.Error(), Err: e}
-		}
-	}
-	if werr != nil {
-		os.Remove(tmp)
 		return werr
-	}
-	if d, e := os.Open(dir); e == nil {
-		d.Sync()
-		d.Close()
-	}
-	return nil
+	})
 }
 
 func checkDataset(path string, ds *Dataset, streamed bool) error {
@@ -295,8 +274,8 @@ func checkDataset(path string, ds *Dataset, streamed bool) error {
 			return bad(v.Name, "is defined twice")
 		}
 		seen[v.Name] = true
-		if !v.Type.classicOK() {
-			return bad(v.Name, "has type %s; expected byte, char, short, int, float or double (netCDF-4 classic model)", v.Type)
+		if !v.Type.classicOK() && !unsignedFlagType(v.Type) {
+			return bad(v.Name, "has type %s; expected byte, char, short, int, float, double or an unsigned flag type (ubyte, ushort, uint)", v.Type)
 		}
 		n := 1
 		for _, d := range v.Dims {
@@ -337,7 +316,7 @@ func writeDatasetIO(path, tmp string, ds *Dataset) error {
 	werr := func(v string, err error, what string) error {
 		return &VarError{File: path, Var: v, Problem: what + ": " + err.Error(), Err: err}
 	}
-	ncid, err := ncCreate(tmp, modeNetCDF4Classic)
+	ncid, err := ncCreate(tmp, datasetMode(ds))
 	if err != nil {
 		return werr("", err, "cannot create")
 	}
@@ -457,4 +436,18 @@ func datasetValues(v VarSpec, fill float64, hasFill bool) any {
 		}
 	}
 	return convertTyped(f, v.Type)
+}
+
+// unsignedFlagType reports the unsigned integer types a Dataset may hold (bit masks).
+func unsignedFlagType(t Type) bool { return t == Ubyte || t == Ushort || t == Uint }
+
+// datasetMode is the create mode of a Dataset: the netCDF-4 classic model, or
+// netCDF-4 when a variable has an unsigned type the classic model lacks.
+func datasetMode(ds *Dataset) int {
+	for _, v := range ds.Vars {
+		if unsignedFlagType(v.Type) {
+			return modeNetCDF4
+		}
+	}
+	return modeNetCDF4Classic
 }

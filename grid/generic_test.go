@@ -167,6 +167,9 @@ func TestReadVariableErrors(t *testing.T) {
 // TestDatasetXarray reads the written file with an outside library (Debian's
 // python3-xarray), which applies the CF decoding itself.
 func TestDatasetXarray(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	path := filepath.Join(t.TempDir(), "d.nc")
 	if err := WriteDataset(path, genericDataset(), false); err != nil {
 		t.Fatal(err)

@@ -17,13 +17,17 @@ import (
 type OutType int
 
 // Output types. Int16 (with Scale/Offset) is for CF-packed values; Int8, Int16
-// and Int32 without scale are for flags (Int32 holds a 16-bit mask, since the
-// classic model has no unsigned short).
+// and Int32 without scale are for signed codes. Uint32 is for bit-mask flag
+// variables (CF §3.5, flag_masks): an unsigned type makes every bit a plain
+// bit, so `qc & mask` works in any reader. The classic data model has no
+// unsigned types, so an output with a Uint32 variable is a netCDF-4 (not
+// classic-model) file; see doc/netcdf.md#flag-types.
 const (
 	Float32 OutType = iota + 1
 	Int16
 	Int8
 	Int32
+	Uint32
 )
 
 func (t OutType) nc() Type {
@@ -34,6 +38,8 @@ func (t OutType) nc() Type {
 		return Byte
 	case Int32:
 		return Int
+	case Uint32:
+		return Uint
 	}
 	return Float
 }
@@ -44,7 +50,9 @@ func (t OutType) nc() Type {
 // variables) only when ValidMin < ValidMax. Scale = 0 means no packing. Empty text
 // fields and nil FlagMasks are left out. Quantize > 0 (Float32 only) keeps that
 // many significant decimal digits with libnetcdf's Granular BitRound and adds the
-// CF 1.12 quantization metadata.
+// CF 1.12 quantization metadata. NoFill leaves _FillValue out (a flag variable
+// that holds a value in every column, which CF allows without one); its Fill is
+// then never written and must not be needed (NaN encodes as 0).
 type OutputVar struct {
 	Name                string
 	StandardName        string
@@ -62,6 +70,7 @@ type OutputVar struct {
 	References          string
 	CoverageContentType string
 	Quantize            int
+	NoFill              bool
 }
 
 // Mode selects what the output holds besides the new variables.
@@ -142,7 +151,8 @@ func (o *Output) Chunks() []int { return o.chunks }
 
 // Create starts an output for input in. It refuses to write into an input
 // (ErrInputOverwrite) and an existing path unless Force (ErrExists). The file is
-// netCDF-4 classic model; see the package documentation for what is kept.
+// netCDF-4 classic model unless a variable needs netCDF-4 (Uint32, Quantize, exact
+// copies of non-classic types); see the package documentation for what is kept.
 func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output, error) {
 	if isURL(path) {
 		return nil, &VarError{File: path, Problem: "outputs must be plain file paths (no URLs)", Err: ErrLayout}
@@ -261,8 +271,10 @@ func checkVars(path string, in *Input, vars []OutputVar, opt WriteOptions) error
 			return &VarError{File: path, Problem: "an output variable has no name", Err: ErrLayout}
 		case seen[v.Name]:
 			return bad("is already a variable of the output (copied from the input or listed twice)")
-		case v.Type < Float32 || v.Type > Int32:
-			return bad("has no type; expected Float32, Int16, Int8 or Int32")
+		case v.Type < Float32 || v.Type > Uint32:
+			return bad("has no type; expected Float32, Int16, Int8, Int32 or Uint32")
+		case v.NoFill && (v.Type == Float32 || v.Scale != 0):
+			return bad("has no _FillValue (NoFill); expected an unpacked integer flag variable")
 		case v.Quantize < 0 || v.Quantize > 7 || (v.Quantize > 0 && v.Type != Float32):
 			return bad("Quantize = %d; expected 0 (off) or 1-7 significant digits on a Float32 variable", v.Quantize)
 		case len(v.FlagMasks) > 0 && len(strings.Fields(v.FlagMeanings)) != len(v.FlagMasks):
@@ -300,6 +312,9 @@ func (o *Output) defineIO(opt WriteOptions) error {
 	}
 	mode := modeNetCDF4Classic
 	for _, v := range o.vars {
+		if v.Type == Uint32 {
+			mode = modeNetCDF4 // the classic model has no unsigned types
+		}
 		if v.Quantize > 0 {
 			// libnetcdf 4.9.0: nc_def_var_quantize in a classic-model file makes
 			// nc_enddef fail ("Operation not allowed in data mode"); a netCDF-4 file
@@ -452,8 +467,10 @@ func (o *Output) defineIO(opt WriteOptions) error {
 				return werr(v.Name, err, "cannot set compression")
 			}
 		}
-		if err := ncDefFill(ncid, id, convertTyped([]float64{v.Fill}, t)); err != nil {
-			return werr(v.Name, err, "cannot set _FillValue")
+		if !v.NoFill {
+			if err := ncDefFill(ncid, id, convertTyped([]float64{v.Fill}, t)); err != nil {
+				return werr(v.Name, err, "cannot set _FillValue")
+			}
 		}
 		if v.Quantize > 0 {
 			if err := ncDefQuantize(ncid, id, v.Quantize); err != nil {
@@ -843,10 +860,12 @@ func encode(v *OutputVar, t Type, dst unsafe.Pointer, src []float64, lo, hi int)
 		encodeInt(v, unsafe.Slice((*int8)(dst), hi), src, lo, hi, math.MinInt8, math.MaxInt8)
 	case Int:
 		encodeInt(v, unsafe.Slice((*int32)(dst), hi), src, lo, hi, math.MinInt32, math.MaxInt32)
+	case Uint:
+		encodeInt(v, unsafe.Slice((*uint32)(dst), hi), src, lo, hi, 0, math.MaxUint32)
 	}
 }
 
-func encodeInt[T int8 | int16 | int32](v *OutputVar, d []T, src []float64, lo, hi int, tmin, tmax float64) {
+func encodeInt[T int8 | int16 | int32 | uint32](v *OutputVar, d []T, src []float64, lo, hi int, tmin, tmax float64) {
 	fill := T(v.Fill)
 	scale, off := v.Scale, v.Offset
 	if scale == 0 {

@@ -146,6 +146,9 @@ func TestCreateProcessReadBack(t *testing.T) {
 // TestOutputReadByXarray: an outside reader decodes fills to NaN, unpacks, and
 // attaches the coordinates.
 func TestOutputReadByXarray(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	python(t)
 	inPath := ncgen(t, "grid3d.cdl", "nc4")
 	outPath, in := writeTestOutput(t, inPath, NewFile, DefaultSlabBytes)

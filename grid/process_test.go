@@ -102,6 +102,9 @@ func helperDiagControl(path string) int {
 }
 
 func TestNoHDF5DiagnosticsOnStderr(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	path := ncgen(t, "grid3d.cdl", "nc4")
 	run := func(mode string) (string, string, error) {
 		cmd := exec.Command(os.Args[0], "-test.run=^$", path)
@@ -183,6 +186,9 @@ func TestKilledBeforeCommitLeavesNoFinalFile(t *testing.T) {
 }
 
 func TestBadInputCorpus(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	good := ncgen(t, "grid3d.cdl", "nc4")
 	goodBytes, _ := os.ReadFile(good)

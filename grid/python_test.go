@@ -105,6 +105,9 @@ func checkExpected(t *testing.T, in *Input, jsonText string) {
 }
 
 func TestPythonWrittenInputs(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	cases := []struct {
 		name, script string
 		check        func(t *testing.T, in *Input)

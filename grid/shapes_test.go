@@ -73,6 +73,9 @@ func checkValues(t *testing.T, what string, got []float64, want []*float64) {
 // every LWP and r_e value through the slab reader, value for value against
 // netCDF4-python's own decoding.
 func TestShapeFamilies(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	cases := []struct {
 		family     string
 		shape      Shape
@@ -255,6 +258,9 @@ data:
 // %Y%m%d.%f"; the layout reads it, and an output holds it in CF units with the
 // same instants as the original axis (both decoded by netCDF4-python).
 func TestCDOAbsoluteTime(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	_, err := exec.LookPath("cdo")
 	need(t, "cdo (Debian cdo)", err == nil)
 	src := ncgenText(t, fmt.Sprintf(cdlTimeGrid, "hours since 2026-07-01 00:00:00", "", "0, 6.5, 30"), "nc4")
@@ -304,6 +310,9 @@ for p in sys.argv[1:]:
 // TestTimeAxisUnits: the units each tool writes, read or refused at open with the
 // file, the variable and the expected units named.
 func TestTimeAxisUnits(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	cases := []struct {
 		units, globals, values string
 		cf, fail               string // CF units read, or a phrase of the error
@@ -364,6 +373,9 @@ print(json.dumps([float(x) * 1e-3 for x in xr.open_zarr(path).lwp.values.ravel()
 // their metadata before it opens them (the process survives to report it); an
 // uncompressed Zarr store written by xarray is read value for value.
 func TestZarrStores(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := python(t)
 	if exec.Command(py, "-c", "import zarr, numcodecs").Run() != nil {
 		need(t, "python3 with zarr and numcodecs (Debian python3-zarr)", false)

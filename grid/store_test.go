@@ -183,6 +183,9 @@ func TestHDF4BadInput(t *testing.T) {
 }
 
 func TestGroups(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	path, want := gridtest.PyGroups(t, t.TempDir())
 	fi, err := Describe(path)
 	if err != nil {
@@ -258,6 +261,9 @@ func TestResolve(t *testing.T) {
 }
 
 func TestJoinedScene(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	lwp, re := gridtest.CMIPPair(t, dir, 3, "-30, -20, -10")
 	scene := lwp + "+" + re
@@ -325,6 +331,9 @@ print(json.dumps({"lwp": f(sys.argv[1], "lwp"), "re": f(sys.argv[2], "reffclwtop
 // optical depth granules, each with its own 2-D latitude and longitude) is one
 // scene; a granule of another place is refused, naming both files.
 func TestJoinedSplitGranules(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	lwp := gridtest.SplitGranule(t, dir, "lwp", 0)
 	cps := gridtest.SplitGranule(t, dir, "cps", 0)

@@ -11,6 +11,61 @@ import (
 	"syscall"
 )
 
+// WriteAtomic makes the file path appear whole or not at all: write fills a
+// temporary file in path's folder (createTemp: an empty file named
+// ".NAME.tmp-HOST-PID-RANDOM", which write may truncate or re-create), which is
+// then synced and moved to path (placeFile), and the folder synced. With replace
+// false an existing path is never replaced, not even one that appears while
+// write runs (the error wraps ErrExists); with replace true it is. On any error
+// the temporary file is removed and path is as it was. Every whole-file writer
+// of the repository (WriteDataset, Output.Commit's steps, the summary's
+// pictures, the table cache, the sample and benchmark generators) goes through
+// here or through createTemp and placeFile.
+func WriteAtomic(path string, replace bool, write func(tmp string) error) error {
+	tmp, err := createTemp(path)
+	if err != nil {
+		return err
+	}
+	if err := write(tmp); err != nil {
+		os.Remove(tmp)
+		return err
+	}
+	return commitTemp(tmp, path, replace)
+}
+
+// commitTemp is the second half of WriteAtomic, for writers that fill their
+// temporary file over several calls (DatasetWriter): it syncs the complete
+// temporary file tmp, moves it to path (placeFile: no replace unless asked) and
+// syncs the folder. On error tmp is removed.
+func commitTemp(tmp, path string, replace bool) error {
+	if f, err := os.Open(tmp); err == nil {
+		serr := f.Sync()
+		f.Close()
+		if serr != nil {
+			os.Remove(tmp)
+			return &VarError{File: path, Problem: "sync failed: " + serr.Error(), Err: serr}
+		}
+	}
+	if err := placeFile(tmp, path, replace); err != nil {
+		os.Remove(tmp)
+		var ve *VarError
+		if errors.As(err, &ve) {
+			return err
+		}
+		return &VarError{File: path, Problem: "cannot move the temporary file into place: " + err.Error(), Err: err}
+	}
+	if d, err := os.Open(filepath.Dir(path)); err == nil {
+		d.Sync()
+		d.Close()
+	}
+	return nil
+}
+
+// WriteFileAtomic is WriteAtomic for bytes already in memory (mode 0644).
+func WriteFileAtomic(path string, data []byte, replace bool) error {
+	return WriteAtomic(path, replace, func(tmp string) error { return os.WriteFile(tmp, data, 0o644) })
+}
+
 // createTemp makes the empty temporary file an output is written to before
 // it is renamed into place: ".NAME.tmp-HOST-PID-RANDOM" in the output's
 // folder. Temporary files of the same output left by a process of this host

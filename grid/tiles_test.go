@@ -75,6 +75,9 @@ func checkCover(t *testing.T, name string, in *Input, p *slabPlan) {
 // chunk per input whatever the grid width, so memory is flat in the grid size
 // (doc/netcdf.md#chunking: the cache holds every chunk one read touches).
 func TestTilePlan(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	const MiB = 1 << 20
 	// 5 float32 inputs, chunks 1000 x 1000 (4 MB), 15 float32 outputs: the
 	// benchmark's layout (bench/run.sh).
@@ -153,6 +156,9 @@ func TestTilePlan(t *testing.T) {
 // pieces of chunks, straddling pieces) give back every value in its place, and the
 // outputs are chunked one slab per chunk.
 func TestTiledProcessRoundTrip(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	cases := []struct {
 		name      string
 		n, cy, cx int
@@ -282,6 +288,9 @@ func TestBufferPoolReuse(t *testing.T) {
 // read in LWP's tiles, and every value lands in its place (compared with the same
 // data stored contiguously).
 func TestTilesMisalignedChunks(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	const ny, nx = 23, 31
 	var lwp, re strings.Builder
 	for i := 0; i < ny*nx; i++ {

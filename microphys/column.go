@@ -456,7 +456,7 @@ const (
 //
 //  1. Screening of the inputs (QC bits): missing or invalid LWP/Re, any present optional
 //     input that is ±Inf or unphysical, thin cloud, r_e out of range, possible ice.
-//  2. c_w = CondensationRate(T, p) at cloud top (the level of the inputs; mid-cloud differs by
+//  2. c_w = CondensationRate(p, T) at cloud top (the level of the inputs; mid-cloud differs by
 //     <= 3 % for 300 m clouds, doc/science.md#condensation-rate), or Params.FixedCw; gamma = f_ad c_w.
 //  3. tau: the input Tau when present, else TauAdiabatic(LWP, Re, Qext) (5/9 relation).
 //     N_d = DropletNumber(tau, Re, ...), H = Thickness(LWP, ...), ReTop = r_e(H).
@@ -467,7 +467,7 @@ const (
 //     flagged QCIntegratedDirectly). Cloud base (p_b, T_b) = CloudBase(CTP, CTT, H), H below
 //     the top along the moist adiabat; its height is CTH - H when CTH is present (the table
 //     then takes the surface pressure from the dry adiabat below the base), else
-//     DryBaseHeight(T_b, p_b, Params.SurfacePressure) (flag QCCloudBaseAssumed). A base at
+//     DryBaseHeight(p_b, T_b, Params.SurfacePressure) (flag QCCloudBaseAssumed). A base at
 //     or below the surface skips the evaporation (QCEvaporationSkipped).
 //
 // POP comes from a table of the regularized incomplete gamma function (pop.go; within 1e-4

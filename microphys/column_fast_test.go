@@ -243,6 +243,9 @@ func columnExact(m *Model, in *Inputs) (o Outputs) {
 // every parameter set of fastParams and the other autoconversion schemes): within bulkTol
 // relative (derived: the same formulas), POP within bulkTol of the same table.
 func TestColumnBulkExact(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	ps := fastParams()
 	for _, s := range []AutoconvScheme{AutoconvKessler1969, AutoconvLiuDaum2004, AutoconvSeifertBeheng2001} {

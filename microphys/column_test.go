@@ -197,6 +197,9 @@ func TestColumnScreening(t *testing.T) {
 
 // TestColumnNoAlloc checks that Column does not allocate (DEVELOPERS.md, the column API).
 func TestColumnNoAlloc(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	m := defaultModel(t)
 	in := marineScSample(64, 5, true)
 	var out Outputs

@@ -66,6 +66,9 @@ func linearFraction(x float64) float64 {
 // truncated gamma distribution, against scipy.integrate.quad of the same integrals
 // (independent quadrature; skipped without Debian's python3-scipy).
 func TestSurfaceFractionClosedForm(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	const k = 8000.0 // s-1: V = k r, about the Beard speed of 100-500 µm drops (Gunn and Kinzer 1949, from memory)
 	V := func(r float64) float64 { return k * r }

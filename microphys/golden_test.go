@@ -102,6 +102,9 @@ func goldenText(t *testing.T) string {
 // TestGoldenOutputs compares every output for the fixed columns with the frozen file:
 // any change of a number beyond goldenTol, of a QC bit, or of the list of outputs fails.
 func TestGoldenOutputs(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	got := goldenText(t)
 	if *updateGolden {
 		if err := os.WriteFile(goldenPath, []byte(got), 0o644); err != nil {

@@ -55,6 +55,9 @@ func perturbations(d *ParamDecl, p Params) []float64 {
 // autoconversion schemes, surface_rh of the surface-rh humidity profile) change
 // nothing with the defaults and so are not declared.
 func TestOutputDependencies(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	cols := goldenColumns()[30:] // the columns that vary the optional inputs
 	// and two deep, heavily drizzling columns over shallow moist sub-cloud layers, where
 	// the collector drop reaches the surface (invented values, common practice)

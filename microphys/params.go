@@ -97,7 +97,7 @@ type Params struct {
 	// (0.6-0.9 is common in stratocumulus, from memory).
 	Fad float64
 	// FixedCw, when > 0, is a fixed condensation rate c_w (kg m-4) used instead of
-	// CondensationRate(CTT, CTP), e.g. 1.9e-6 [Brenguier2000]. NaN or 0 (default): c_w
+	// CondensationRate(CTP, CTT), e.g. 1.9e-6 [Brenguier2000]. NaN or 0 (default): c_w
 	// from the cloud-top air state.
 	FixedCw float64
 	// ReStar is the drizzle-onset cloud-top effective radius r_e*, m. Default 14 µm

@@ -113,6 +113,9 @@ func popScipy() string {
 // python3-scipy, an independent implementation) over a grid of nu and x, tolerance 1e-10
 // absolute. Skips without scipy unless CI=true.
 func TestDrizzleProbabilityScipy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	py := popScipy()
 	if py == "" {

@@ -52,6 +52,9 @@ func gammaQ(a, x float64) float64 { return DrizzleProbability(1, x/a, a) }
 // within rampTabTol absolute, and POP and M(b) within rampTabTol relative wherever POP >=
 // 1e-12 (derived: the same integrals; the bound is measured here).
 func TestRampTableBound(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(21, 22))
 	for _, c := range []struct {

@@ -83,6 +83,9 @@ print(json.dumps({"R": float(sol.y_events[0][0][0]), "t": float(te[0])}) if len(
 `
 
 func TestCollectDirectAgainstScipy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	py := findScipyPython()
 	if py == "" {

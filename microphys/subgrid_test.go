@@ -92,6 +92,9 @@ var subgridCases = []struct{ lwp, nd, re, nu float64 }{
 // onsets) against direct quadrature of the defining integrals over the gamma pdf (derived:
 // the same integrals, computed independently), and R̄ = POP × I.
 func TestSubgridDrizzleQuadrature(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	p := DefaultParams()
 	for _, o := range []Onset{{14e-6, 0}, {14e-6, 4e-6}, {13e-6, 2e-6}} {
@@ -240,6 +243,9 @@ print(json.dumps(out))
 // evaluated with scipy.special.gammaincc/gammaln and the integrals with
 // scipy.integrate.quad (an independent implementation, derived formulas).
 func TestSubgridDrizzleScipy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	py := findScipyPython()
 	if py == "" {

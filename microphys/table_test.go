@@ -220,6 +220,9 @@ func BenchmarkEvapLookup(b *testing.B) {
 // xi = ln r*, on which evXiBand and evMinQ rest (table.go): an error e in xi moves r_s/r0 by
 // at most e (1 - Q)/Q^(3/4) at (r_s/r0)^4 = Q, derived from (r_s/r0)^4 = 1 - exp(xi (g - 4)).
 func TestEvapThreshold(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	const thrTol = 3e-4 // bound on the threshold table error in ln r*
 	if thrTol >= evXiBand {

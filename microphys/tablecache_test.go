@@ -14,6 +14,9 @@ import (
 // invented test sample marineScSample (table_test.go); FNV-1a is common practice.
 
 func TestTablesRoundTrip(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	p := DefaultParams()
 	m, err := NewModel(p)
 	if err != nil {
@@ -59,6 +62,9 @@ func sameOutputs(a, b Outputs) bool {
 }
 
 func TestTablesRefused(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	p := DefaultParams()
 	m, err := NewModel(p)
 	if err != nil {
@@ -176,6 +182,9 @@ func BenchmarkNewModelTables(b *testing.B) {
 // (other salts) check other nodes: the checked nodes vary (common practice for
 // sampled integrity checks).
 func TestTablesCheckVaries(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	p := DefaultParams()
 	m, err := NewModel(p)
 	if err != nil {

@@ -29,6 +29,9 @@ func uncRun(m *Model, raw RawColumn, e InputErrors) (Outputs, []float64, uint32,
 // [Brenguier2000]): from LWP and r_e, sigma_N/N = sqrt((s_L/2)^2 + (3 s_r)^2 - 3 rho s_L s_r);
 // from tau and r_e, sqrt((s_tau/2)^2 + (5/2 s_r)^2); sigma_H/H = s_L/2.
 func TestRetrievalErrorNdClosedForm(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	m := defaultModel(t)
 	iN, iH := uncIdx.nd, uncIdx.h
 	for _, lwp := range []float64{0.05, 0.1, 0.2} {
@@ -67,6 +70,9 @@ func TestRetrievalErrorNdClosedForm(t *testing.T) {
 // errors; the LWP-and-r_e form with s_L^2 = s_tau^2 + s_r^2 and rho = s_r/sqrt(s_tau^2 +
 // s_r^2) gives the same N_d error as the tau form (derived, doc/science.md#uncertainty).
 func TestErrorCorrelationDerived(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	m := defaultModel(t)
 	re, tau := 12e-6, 12.0
 	for _, st := range []float64{0.05, 0.1, 0.2} {
@@ -207,6 +213,9 @@ func TestRetrievalErrorNonlinear(t *testing.T) {
 
 // TestUncertaintyAllocs: no allocation per column (DEVELOPERS.md, the column API).
 func TestUncertaintyAllocs(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	m := defaultModel(t)
 	s, err := NewSpreadModels(m)
 	if err != nil {
@@ -233,6 +242,9 @@ func TestUncertaintyAllocs(t *testing.T) {
 // the formulas of [Brenguier2000]), so with k = 0.8 ± 0.1 and f_ad = 1 - 0.15 its spread is
 // sqrt(((1/0.7 - 1/0.9)/2 0.8)^2 + (1 - 0.85^(1/2))^2) (derived); the parts add in quadrature.
 func TestParameterSpreadNd(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	m := defaultModel(t)
 	s, err := NewSpreadModels(m)
 	if err != nil {

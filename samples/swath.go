@@ -3,11 +3,10 @@ package samples
 import (
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
 	"time"
 
 	"github.com/fhs/go-netcdf/netcdf"
+	"github.com/warmrain/warmrain/grid"
 )
 
 // SwathConfig places one level-2-like granule over the demo scenario: NY scan lines
@@ -80,77 +79,65 @@ func GenerateSwath(path string, cfg Config, s SwathConfig) error {
 	lwp, re, ctt := pick(f.LWP), pick(f.Re), pick(f.CTT)
 	start := cfg.Start.AddDate(0, 0, s.Day).Add(time.Duration(s.Minute) * time.Minute)
 	t0 := float64(start.Unix())
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return fmt.Errorf("samples: %w", err)
-	}
-	tmpName := tmp.Name()
-	tmp.Close()
-	err = onNCThread(func() error {
-		ds, err := netcdf.CreateFile(tmpName, netcdf.CLOBBER|netcdf.NETCDF4|netcdf.CLASSIC_MODEL)
-		if err != nil {
-			return err
-		}
-		w := &ncw{ds: ds}
-		dT, dY, dX, dNv := w.dim("time", 1), w.dim("y", uint64(s.NY)), w.dim("x", uint64(s.NX)), w.dim("nv", 2)
-		vT := w.v("time", netcdf.DOUBLE, dT)
-		w.attrs(vT, "standard_name", "time", "long_name", "granule start time", "units", "seconds since 1970-01-01 00:00:00", "calendar", "standard", "axis", "T", "bounds", "time_bnds")
-		vTB := w.v("time_bnds", netcdf.DOUBLE, dT, dNv)
-		vLat := w.v("lat", netcdf.DOUBLE, dY, dX)
-		w.attrs(vLat, "standard_name", "latitude", "long_name", "latitude of the pixel centre", "units", "degrees_north")
-		vLon := w.v("lon", netcdf.DOUBLE, dY, dX)
-		w.attrs(vLon, "standard_name", "longitude", "long_name", "longitude of the pixel centre", "units", "degrees_east")
-		fv := []floatVar{
-			{name: "lwp", stdName: "atmosphere_mass_content_of_cloud_liquid_water", longName: "cloud liquid water path (synthetic)", units: "g m-2", vmin: 0, vmax: 3000, data: lwp},
-			{name: "re", stdName: "effective_radius_of_cloud_liquid_water_particles_at_liquid_water_cloud_top", longName: "cloud-top droplet effective radius (synthetic)", units: "um", vmin: 1, vmax: 60, data: re},
-			{name: "ctt", stdName: "air_temperature_at_cloud_top", longName: "cloud-top temperature (synthetic)", units: "K", vmin: 180, vmax: 320, data: ctt, extra: []string{"units_metadata", "temperature: on_scale"}},
-		}
-		vs := make([]netcdf.Var, len(fv))
-		for i, v := range fv {
-			vs[i] = w.v(v.name, netcdf.FLOAT, dT, dY, dX)
-			w.set(vs[i].SetCompression(true, true, cfg.Deflate))
-			w.f32(vs[i].Attr("_FillValue"), fillFloat)
-			w.attrs(vs[i], "standard_name", v.stdName, "long_name", v.longName, "units", v.units, "coordinates", "lat lon", "coverage_content_type", "physicalMeasurement")
-			w.f32(vs[i].Attr("valid_min"), v.vmin)
-			w.f32(vs[i].Attr("valid_max"), v.vmax)
-			w.attrs(vs[i], v.extra...)
-		}
-		w.gattrs("Conventions", "CF-1.13 ACDD-1.3",
-			"title", "warmrain demo granule "+s.Name+": synthetic level-2 swath over the stratocumulus scenario (invented data)",
-			"summary", "SYNTHETIC DEMO DATA, INVENTED for demonstrating warmrain; not an observation. Pixels of a tilted swath sampled from the nearest cell of the demo scenario.",
-			"source", "synthetic: warmrain samples generator (github.com/warmrain/warmrain/samples)",
-			"comment", "Invented data for the demo only. Do not use for science.",
-			"processing_level", "L2 (synthetic)", "cdm_data_type", "Swath",
-			"history", cfg.Created.UTC().Format("2006-01-02T15:04:05Z")+": gensample (warmrain samples) swath "+s.Name)
-		if w.err != nil {
-			ds.Close()
+	err = grid.WriteAtomic(path, true, func(tmpName string) error {
+		return onNCThread(func() error {
+			ds, err := netcdf.CreateFile(tmpName, netcdf.CLOBBER|netcdf.NETCDF4|netcdf.CLASSIC_MODEL)
+			if err != nil {
+				return err
+			}
+			w := &ncw{ds: ds}
+			dT, dY, dX, dNv := w.dim("time", 1), w.dim("y", uint64(s.NY)), w.dim("x", uint64(s.NX)), w.dim("nv", 2)
+			vT := w.v("time", netcdf.DOUBLE, dT)
+			w.attrs(vT, "standard_name", "time", "long_name", "granule start time", "units", "seconds since 1970-01-01 00:00:00", "calendar", "standard", "axis", "T", "bounds", "time_bnds")
+			vTB := w.v("time_bnds", netcdf.DOUBLE, dT, dNv)
+			vLat := w.v("lat", netcdf.DOUBLE, dY, dX)
+			w.attrs(vLat, "standard_name", "latitude", "long_name", "latitude of the pixel centre", "units", "degrees_north")
+			vLon := w.v("lon", netcdf.DOUBLE, dY, dX)
+			w.attrs(vLon, "standard_name", "longitude", "long_name", "longitude of the pixel centre", "units", "degrees_east")
+			fv := []floatVar{
+				{name: "lwp", stdName: "atmosphere_mass_content_of_cloud_liquid_water", longName: "cloud liquid water path (synthetic)", units: "g m-2", vmin: 0, vmax: 3000, data: lwp},
+				{name: "re", stdName: "effective_radius_of_cloud_liquid_water_particles_at_liquid_water_cloud_top", longName: "cloud-top droplet effective radius (synthetic)", units: "um", vmin: 1, vmax: 60, data: re},
+				{name: "ctt", stdName: "air_temperature_at_cloud_top", longName: "cloud-top temperature (synthetic)", units: "K", vmin: 180, vmax: 320, data: ctt, extra: []string{"units_metadata", "temperature: on_scale"}},
+			}
+			vs := make([]netcdf.Var, len(fv))
+			for i, v := range fv {
+				vs[i] = w.v(v.name, netcdf.FLOAT, dT, dY, dX)
+				w.set(vs[i].SetCompression(true, true, cfg.Deflate))
+				w.f32(vs[i].Attr("_FillValue"), fillFloat)
+				w.attrs(vs[i], "standard_name", v.stdName, "long_name", v.longName, "units", v.units, "coordinates", "lat lon", "coverage_content_type", "physicalMeasurement")
+				w.f32(vs[i].Attr("valid_min"), v.vmin)
+				w.f32(vs[i].Attr("valid_max"), v.vmax)
+				w.attrs(vs[i], v.extra...)
+			}
+			w.gattrs("Conventions", "CF-1.13 ACDD-1.3",
+				"title", "warmrain demo granule "+s.Name+": synthetic level-2 swath over the stratocumulus scenario (invented data)",
+				"summary", "SYNTHETIC DEMO DATA, INVENTED for demonstrating warmrain; not an observation. Pixels of a tilted swath sampled from the nearest cell of the demo scenario.",
+				"source", "synthetic: warmrain samples generator (github.com/warmrain/warmrain/samples)",
+				"comment", "Invented data for the demo only. Do not use for science.",
+				"processing_level", "L2 (synthetic)", "cdm_data_type", "Swath",
+				"history", cfg.Created.UTC().Format("2006-01-02T15:04:05Z")+": gensample (warmrain samples) swath "+s.Name)
+			if w.err != nil {
+				ds.Close()
+				return w.err
+			}
+			if err := ds.EndDef(); err != nil {
+				ds.Close()
+				return err
+			}
+			w.set(vT.WriteFloat64s([]float64{t0}))
+			w.set(vTB.WriteFloat64s([]float64{t0, t0 + 300}))
+			w.set(vLat.WriteFloat64s(lat))
+			w.set(vLon.WriteFloat64s(lon))
+			for i, v := range fv {
+				w.set(vs[i].WriteFloat32s(toFloat32(v.data)))
+			}
+			if cerr := ds.Close(); w.err == nil {
+				w.err = cerr
+			}
 			return w.err
-		}
-		if err := ds.EndDef(); err != nil {
-			ds.Close()
-			return err
-		}
-		w.set(vT.WriteFloat64s([]float64{t0}))
-		w.set(vTB.WriteFloat64s([]float64{t0, t0 + 300}))
-		w.set(vLat.WriteFloat64s(lat))
-		w.set(vLon.WriteFloat64s(lon))
-		for i, v := range fv {
-			w.set(vs[i].WriteFloat32s(toFloat32(v.data)))
-		}
-		if cerr := ds.Close(); w.err == nil {
-			w.err = cerr
-		}
-		return w.err
+		})
 	})
-	if err == nil {
-		err = os.Chmod(tmpName, 0o644)
-	}
-	if err == nil {
-		err = os.Rename(tmpName, path)
-	}
 	if err != nil {
-		os.Remove(tmpName)
 		return fmt.Errorf("samples: writing %s: %w", path, err)
 	}
 	return nil

@@ -3,11 +3,10 @@ package samples
 import (
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
 	"strings"
 
 	"github.com/fhs/go-netcdf/netcdf"
+	"github.com/warmrain/warmrain/grid"
 )
 
 // Fill values and packing of the stored variables.
@@ -32,26 +31,12 @@ func Generate(path string, cfg Config) error {
 	if err != nil {
 		return err
 	}
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return fmt.Errorf("samples: %w", err)
-	}
-	tmpName := tmp.Name()
-	tmp.Close()
-	if err := onNCThread(func() error { return write(tmpName, f) }); err != nil {
-		os.Remove(tmpName)
-		return fmt.Errorf("samples: writing %s: %w", path, err)
-	}
-	if err := os.Chmod(tmpName, 0o644); err != nil {
-		os.Remove(tmpName)
-		return fmt.Errorf("samples: %w", err)
-	}
-	if err := os.Rename(tmpName, path); err != nil {
-		os.Remove(tmpName)
-		return fmt.Errorf("samples: %w", err)
-	}
-	return nil
+	return grid.WriteAtomic(path, true, func(tmp string) error {
+		if err := onNCThread(func() error { return write(tmp, f) }); err != nil {
+			return fmt.Errorf("samples: writing %s: %w", path, err)
+		}
+		return nil
+	})
 }
 
 // ncw wraps a dataset and keeps the first error, so the writing code reads
@@ -165,7 +150,7 @@ func write(path string, f *Fields) (err error) {
 	// one chunk holds half a day's grid (rows split in two), so readers that
 	// stream in chunk-aligned slabs meet several slabs per day
 	chunks := []int{1, (c.NLat + 1) / 2, c.NLon}
-	w.set(defChunking(ds, "lwp", chunks))
+	w.set(grid.DefStorage(ds, "lwp", chunks))
 	w.set(vLWP.SetCompression(true, true, c.Deflate))
 	w.i16(vLWP.Attr("_FillValue"), fillShort)
 	w.attrs(vLWP, "standard_name", "atmosphere_mass_content_of_cloud_liquid_water",
@@ -231,7 +216,7 @@ func write(path string, f *Fields) (err error) {
 	for i, fv := range fvars {
 		v := w.v(fv.name, netcdf.FLOAT, dims3...)
 		vs[i] = v
-		w.set(defChunking(ds, fv.name, chunks))
+		w.set(grid.DefStorage(ds, fv.name, chunks))
 		w.set(v.SetCompression(true, true, c.Deflate))
 		w.f32(v.Attr("_FillValue"), fillFloat)
 		if fv.stdName != "" {

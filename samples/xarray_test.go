@@ -30,6 +30,9 @@ func python3(t *testing.T) string {
 // reader): fill values decode to NaN, packed LWP unpacks to float32 g m-2,
 // times decode to the configured days, and values equal the generator's.
 func TestSampleXarrayDecode(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := python3(t)
 	const script = `
 import json, sys, warnings

@@ -28,17 +28,9 @@
 // libnetcdf. The file is written under a temporary name and renamed when complete.
 package synth
 
-// #cgo pkg-config: netcdf
-// #include <stdlib.h>
-// #include <netcdf.h>
-import "C"
-
 import (
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
-	"unsafe"
 
 	"github.com/fhs/go-netcdf/netcdf"
 	"github.com/warmrain/warmrain/grid"
@@ -111,52 +103,13 @@ type config struct {
 }
 
 func writeAtomic(path string, cfg config) error {
-	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return err
-	}
-	name := tmp.Name()
-	tmp.Close()
-	var werr error
-	if e := grid.OnIOThread(func() { werr = write(name, cfg) }); e != nil { // every libnetcdf call runs there
-		werr = e
-	}
-	if err := werr; err != nil {
-		os.Remove(name)
-		return err
-	}
-	if err := os.Chmod(name, 0o644); err != nil {
-		os.Remove(name)
-		return err
-	}
-	return os.Rename(name, path)
-}
-
-// ncErr turns a libnetcdf status into an error.
-func ncErr(what string, st C.int) error {
-	if st == C.NC_NOERR {
-		return nil
-	}
-	return fmt.Errorf("%s: %s", what, C.GoString(C.nc_strerror(st)))
-}
-
-// defStorage sets chunked (sizes) or contiguous (sizes nil) storage on a variable;
-// go-netcdf has no call for nc_def_var_chunking.
-func defStorage(ds netcdf.Dataset, name string, sizes []int) error {
-	cname := C.CString(name)
-	defer C.free(unsafe.Pointer(cname))
-	var varid C.int
-	if err := ncErr("nc_inq_varid "+name, C.nc_inq_varid(C.int(ds), cname, &varid)); err != nil {
-		return err
-	}
-	if sizes == nil {
-		return ncErr("nc_def_var_chunking "+name, C.nc_def_var_chunking(C.int(ds), varid, C.NC_CONTIGUOUS, nil))
-	}
-	cs := make([]C.size_t, len(sizes))
-	for i, s := range sizes {
-		cs[i] = C.size_t(s)
-	}
-	return ncErr("nc_def_var_chunking "+name, C.nc_def_var_chunking(C.int(ds), varid, C.NC_CHUNKED, &cs[0]))
+	return grid.WriteAtomic(path, true, func(tmp string) error {
+		var werr error
+		if e := grid.OnIOThread(func() { werr = write(tmp, cfg) }); e != nil { // every libnetcdf call runs there
+			werr = e
+		}
+		return werr
+	})
 }
 
 // w keeps the first error so the definitions read as a list.
@@ -210,9 +163,9 @@ func write(path string, cfg config) (err error) {
 		e.set(err)
 		vars[k] = v
 		if cfg.variant == "plain" {
-			e.set(defStorage(ds, f.name, nil))
+			e.set(grid.DefStorage(ds, f.name, nil))
 		} else {
-			e.set(defStorage(ds, f.name, []int{cfg.chunk, cfg.chunk}))
+			e.set(grid.DefStorage(ds, f.name, []int{cfg.chunk, cfg.chunk}))
 			e.set(v.SetCompression(true, true, cfg.level))
 		}
 		if packed {

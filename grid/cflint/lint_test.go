@@ -181,6 +181,9 @@ var faults = []struct {
 }
 
 func TestFaultsCaught(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	tab := needTable(t)
 	good := goodCDL(t)
 	// normalise the two packing lines onto one so the edit above applies

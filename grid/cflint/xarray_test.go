@@ -49,6 +49,9 @@ ds.to_netcdf(sys.argv[1], engine="h5netcdf", encoding=enc)
 // TestXarrayStringAttributes lints files whose text attributes are
 // NC_STRING: a clean one, and one with "mb" and a bad flag_meanings.
 func TestXarrayStringAttributes(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	tab := needTable(t)
 	py := pythonXarray(t)
 	for _, c := range []struct {

@@ -13,6 +13,9 @@ import (
 )
 
 func TestProcessExactCopies(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	in := filepath.Join(dir, "ids.nc")
@@ -94,6 +97,9 @@ print(json.dumps(out))
 // TestProcessAugmentSubGroups: a variable of a sub-group survives --augment
 // (outputs are flat files: it is copied under its plain name, value intact).
 func TestProcessAugmentSubGroups(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	in := filepath.Join(dir, "groups.nc")

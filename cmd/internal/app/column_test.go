@@ -236,6 +236,9 @@ func checkPaths(t *testing.T, got columnJSON, p microphys.Params, in *microphys.
 // collector table, the same numbers process writes; column's default is the direct
 // integration, whose path ends at the exit radius of its table.
 func TestColumnTableMethod(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	def := runColumnJSON(t, "--lwp", "120", "--re", "14")
 	if def.Parameters["collector_method"] != "direct" || def.Collector == nil || def.Collector.ExitRadius != val(def.Diagnostics["collector_exit_radius"]) {
 		t.Errorf("default: method %v, path exit %+v, diagnostics %v", def.Parameters["collector_method"], def.Collector, val(def.Diagnostics["collector_exit_radius"]))

@@ -13,6 +13,9 @@ import (
 // the same options writes; the file passes the CF lint; a rerun skips the complete
 // output, and an edited ensemble file is refused without --redo.
 func TestEnsembleMembersEqualSingleRuns(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := os.Stat(sampleFile); err != nil {
 		skipOrFailMissing(t, "the committed sample "+sampleFile)
 	}

@@ -194,6 +194,9 @@ func manifest(t *testing.T, path string) []map[string]any {
 // --jobs 1, with --jobs 2 and on a --redo rerun, with the default physics
 // (collector table built in each process).
 func TestDeterminism(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	exe, gensample := buildTools(t, t.TempDir())
 	inDir := t.TempDir()
 	var ins []string

@@ -292,6 +292,9 @@ func TestInspectUsage(t *testing.T) {
 
 // A file written by an outside library (xarray, Debian's python3) is read the same.
 func TestInspectXarrayFile(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	// Debian's python3 (the first python3 on PATH may be one without xarray).
 	py := "/usr/bin/python3"
 	if err := exec.Command(py, "-c", "import xarray, netCDF4").Run(); err != nil {

@@ -61,6 +61,9 @@ func TestLintMatchesCflint(t *testing.T) {
 // A clean file passes, also with the project's own rules; --ours makes a
 // missing ACDD-1.3 an error.
 func TestLintOurs(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	table := lintTable(t)
 	good := ncgenTestdata(t, "lint_good")
 	for _, args := range [][]string{{"lint", "--table", table, good}, {"lint", "--ours", "--table", table, good}} {

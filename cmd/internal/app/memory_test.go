@@ -45,6 +45,9 @@ func chunkedInput(t *testing.T, dir string, n, chunk int, data bool) string {
 }
 
 func TestProcessMemoryBound(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	// One chunk of 6000² per variable (137 MB each, decompressed): no slab size
 	// helps; refused before any data is read, with the estimate and the fix.

@@ -149,7 +149,7 @@ func gridVars(defs []outputDef, inputVars string, pack bool) []grid.OutputVar {
 	}
 	vars = append(vars, grid.OutputVar{
 		Name: qcName, StandardName: "quality_flag", LongName: "warm-rain diagnostic quality flags",
-		Units: "", Type: grid.Int32, Fill: -1, ValidMin: 0, ValidMax: float64(maxMask),
+		Units: "", Type: grid.Uint32, NoFill: true, ValidMin: 0, ValidMax: float64(maxMask),
 		FlagMasks: masks, FlagMeanings: strings.Join(words, " "),
 		Comment:             fmt.Sprintf("bit set = condition true; screened columns carry fill values in every diagnostic. Inputs: %s", inputVars),
 		CoverageContentType: "qualityInformation",

@@ -23,6 +23,9 @@ func mkdirs(t *testing.T, dirs ...string) {
 }
 
 func TestProcessNeverOverwrite(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	out := filepath.Join(dir, "out")
@@ -95,6 +98,9 @@ func TestProcessNeverOverwrite(t *testing.T) {
 // (the other is refused, or finds at its final rename that the file appeared)
 // and the output is the winner's whole file.
 func TestProcessTwoRunsOneOutput(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	in := filepath.Join(dir, "in.nc")
@@ -133,6 +139,9 @@ func TestProcessTwoRunsOneOutput(t *testing.T) {
 // rewritten with netCDF4-python, as an older build would have left it) is
 // redone, not skipped; --checksum redoes an output recorded without one.
 func TestProcessBuildIdentity(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	in := filepath.Join(dir, "in.nc")
@@ -182,6 +191,9 @@ with netCDF4.Dataset(sys.argv[1], "a") as d:
 // (--manifest, --cpu-profile naming the input), and arguments the shell gave
 // are taken literally (a file named day[1].nc is not globbed a second time).
 func TestProcessInputsNeverWritten(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	in := filepath.Join(dir, "a.nc")

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 	"regexp"
 	"strconv"
 	"strings"
@@ -402,39 +401,28 @@ func commentWrap(text, prefix string, width int) string {
 	return b.String()
 }
 
-// writeNewFile writes a file whole or not at all, through a temporary file in the same
-// folder, never replacing an existing file unless replace is set.
+// writeNewFile writes a file whole or not at all, through grid.WriteAtomic (a temporary
+// file in the same folder), never replacing an existing file unless replace is set.
 func writeNewFile(path string, replace bool, write func(io.Writer) error) error {
+	kept := fmt.Errorf("%s exists; it is kept (give --force to replace it)", path)
 	if !replace {
 		if _, err := os.Lstat(path); err == nil {
-			return fmt.Errorf("%s exists; it is kept (give --force to replace it)", path)
+			return kept
 		}
 	}
-	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return err
-	}
-	defer os.Remove(tmp.Name())
-	if err := tmp.Chmod(0o644); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := write(tmp); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		return err
-	}
-	if replace {
-		return os.Rename(tmp.Name(), path)
-	}
-	// A link fails when the name appeared meanwhile: nothing is replaced.
-	if err := os.Link(tmp.Name(), path); err != nil {
-		if errors.Is(err, os.ErrExist) {
-			return fmt.Errorf("%s exists; it is kept (give --force to replace it)", path)
+	err := grid.WriteAtomic(path, replace, func(tmp string) error {
+		f, err := os.OpenFile(tmp, os.O_WRONLY|os.O_TRUNC, 0o644)
+		if err != nil {
+			return err
 		}
-		return err
+		if err := write(f); err != nil {
+			f.Close()
+			return err
+		}
+		return f.Close()
+	})
+	if errors.Is(err, grid.ErrExists) { // appeared meanwhile: nothing is replaced
+		return kept
 	}
-	return nil
+	return err
 }

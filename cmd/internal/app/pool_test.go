@@ -62,6 +62,9 @@ data:
 }
 
 func TestProcessCrashIsolation(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	for _, n := range []string{"a.nc", "crash_b.nc", "c.nc", "d.nc"} {
@@ -115,6 +118,9 @@ func TestProcessCrashIsolation(t *testing.T) {
 // TestProcessDoubleDashJobs: "--" before the inputs with --jobs (the workers'
 // own options once landed after it and each worker started a batch of its own).
 func TestProcessDoubleDashJobs(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	a, b := filepath.Join(dir, "a.nc"), filepath.Join(dir, "b.nc")
@@ -132,6 +138,9 @@ func TestProcessDoubleDashJobs(t *testing.T) {
 // batch with --jobs 2: the run ends, the manifest keeps a cut error text and
 // stderr the whole of it.
 func TestProcessHugeRecord(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	huge := filepath.Join(dir, "huge.nc")

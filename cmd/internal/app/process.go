@@ -709,6 +709,19 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 		wopt.Globals = append(wopt.Globals, grid.Global{Name: "warmrain_masks", Value: strings.Join(j.inputs().masks, "; ")})
 	}
 	vars = plan.vars(j.defs, gridVars(j.defs, strings.Join(used, " "), j.o.pack))
+	methods := outputCellMethods(in) // README #cell-methods
+	for _, w := range methods.Warnings {
+		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s: %s\n", input, w)
+	}
+	for k := range vars {
+		if vars[k].Name == qcName {
+			continue
+		}
+		vars[k].CellMethods = methods.CellMethods
+		if methods.Comment != "" {
+			vars[k].Comment = appendSentences(vars[k].Comment, []string{methods.Comment})
+		}
+	}
 	if len(assumed) > 0 { // a constant assumption is stated in every output's comment
 		for k := range vars {
 			vars[k].Comment = appendSentences(vars[k].Comment, assumed)

@@ -124,6 +124,9 @@ func TestProcessSampleEqualsMicrophys(t *testing.T) {
 // (samples package): the polluted line has more droplets and a lower drizzle
 // probability than the deck around it, and the open-cell pocket drizzles most.
 func TestProcessSampleIsPhysicallySensible(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	in := samplePath(t)
 	out := filepath.Join(t.TempDir(), "demo_wr.nc")
 	if code, _, stderr := runProc(t, "process", in, "-o", out, "--no-collector"); code != 0 {
@@ -258,6 +261,9 @@ func copyFile(t testing.TB, from, to string) {
 }
 
 func TestProcessBatchResume(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	src := samplePath(t)
 	dir := t.TempDir()
 	inDir, outDir := filepath.Join(dir, "in"), filepath.Join(dir, "out")
@@ -343,6 +349,9 @@ func TestProcessFailedFileDoesNotStopBatch(t *testing.T) {
 // python3-xarray, h5netcdf engine: NC_STRING attributes; packed int16 LWP in
 // kg m-2; r_e in m; 2-D lat/lon) and compares with microphys directly.
 func TestProcessXarrayInput(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := "/usr/bin/python3"
 	if exec.Command(py, "-c", "import xarray, h5netcdf").Run() != nil {
 		if os.Getenv("CI") == "true" {
@@ -411,6 +420,9 @@ print("ok")
 // step of the float32 run's values, with the same missing columns; the other outputs are
 // unchanged. The sample is the invented demo scenario.
 func TestProcessPack(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	in := samplePath(t)
 	plain, packed := filepath.Join(dir, "plain.nc"), filepath.Join(dir, "packed.nc")
@@ -424,6 +436,10 @@ func TestProcessPack(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	fi, err := grid.Describe(packed)
+	if err != nil {
+		t.Fatal(err)
+	}
 	npacked := 0
 	for _, d := range defs {
 		a, b := readVar(t, plain, d.name), readVar(t, packed, d.name)
@@ -433,8 +449,15 @@ func TestProcessPack(t *testing.T) {
 		tol := 0.0
 		if d.packable {
 			npacked++
-			scale, _ := d.packing()
-			tol = scale/2 + 1e-6*math.Max(math.Abs(d.validMin), math.Abs(d.validMax))
+			// The step follows from the declaration alone, not from the code's packing:
+			// the declared valid range over the 65534 steps of int16 -32767..32767 (CF
+			// §8.1 packing; -32768 is the fill value).
+			decl := microphys.OutputByName(d.name)
+			step := (decl.ValidMax - decl.ValidMin) / 65534
+			if sf, ok := fi.Var(d.name).Attr("scale_factor"); !ok || math.Abs(sf.Float64s()[0]-step) > 1e-6*step {
+				t.Errorf("%s: scale_factor %v in the file, want %g from the declared range [%g, %g]", d.name, sf.Value, step, decl.ValidMin, decl.ValidMax)
+			}
+			tol = step/2 + 1e-6*math.Max(math.Abs(decl.ValidMin), math.Abs(decl.ValidMax))
 		}
 		nvalid := 0
 		for i := range a {
@@ -490,6 +513,9 @@ print("ok")
 // TestProcessDeveloperOptions: the hidden --pipeline-stats prints one stage line per file on
 // stderr (nothing on stdout), and --cpu-profile writes a profile that go tool pprof reads.
 func TestProcessDeveloperOptions(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	prof := filepath.Join(dir, "cpu.prof")
 	code, stdout, stderr := runProc(t, "process", samplePath(t), "-o", filepath.Join(dir, "out.nc"), "-q",

@@ -109,6 +109,9 @@ func summarizeProduct(t *testing.T, out string) {
 // TestProductHDF4Swath: an HDF4 level-2 swath whose 16-bit values are
 // calibrated the HDF4 way, with an r_e data set named with blanks.
 func TestProductHDF4Swath(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	path := gridtest.HDF4Swath(t, dir)
 	binds := []string{"--bind", "lwp=Cloud_Water_Path", "--bind", "re=Cloud Effective Radius"}
@@ -185,6 +188,9 @@ print(json.dumps({"cwp": f("Cloud_Water_Path"), "re": f("Cloud Effective Radius"
 // TestProductGroups: a granule with its data in netCDF-4 groups, two
 // retrievals per quantity, bound by group path.
 func TestProductGroups(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	path, want := gridtest.PyGroups(t, dir)
 	// Ambiguous roles: a clear error naming the file and the group paths; nothing written.
@@ -226,6 +232,9 @@ func TestProductGroups(t *testing.T) {
 // TestProductJoinedCMIP: model output with one variable per file, joined with
 // + on the command line and in a list file; a pair on two grids is refused.
 func TestProductJoinedCMIP(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	lwp, re := gridtest.CMIPPair(t, dir, 3, "-30, -20, -10")
 	scene := lwp + "+" + re

@@ -119,6 +119,9 @@ func column(t *testing.T, m *microphys.Model, in microphys.Inputs, nd, cf float6
 // multi-layer flag, the CF way (flag_values/flag_meanings). Every screened column carries
 // the bit of what removed it; the others equal netCDF4-python's decoding and microphys.
 func TestProductSwathQuality(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	in := filepath.Join(dir, "swath_l2.nc")
 	ref := pyWrite(t, `
@@ -301,6 +304,9 @@ DUMP = ["lwp", "cer", "ctt", "qa", "sza", "cloud_phase", "cloud_multi_layer_flag
 // (netCDF4-python unpacks in float32 and gets 0), negative values in the valid range (clear-sky noise). With --droplet-number r_e
 // follows from N_d; the assumption is stated in every output's comment.
 func TestProductMicrowaveLWPOnly(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	in := filepath.Join(dir, "mw_lwp.nc")
 	ref := pyWrite(t, `
@@ -389,6 +395,9 @@ DUMP = ["cloud_liquid_water_path"]
 // TestProductOpticalOnly: an optical retrieval with tau and r_e but no LWP (ncgen):
 // LWP = (5/9) rho_w tau r_e [Brenguier2000], or (2/3) for a uniform cloud [Stephens1978].
 func TestProductOpticalOnly(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	ncgen := requireTool(t, "ncgen")
 	dir := t.TempDir()
 	cdl := filepath.Join(dir, "optical.cdl")
@@ -447,6 +456,9 @@ data:
 // LWP = LWP / fraction (common practice); below --min-cloud-fraction screened; without a
 // cloud fraction a warning and a flag.
 func TestProductModelGridMean(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	in := filepath.Join(dir, "lwp_CFday_model.nc")
 	ref := pyWrite(t, `

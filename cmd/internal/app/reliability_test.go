@@ -233,6 +233,9 @@ f.close()`)
 
 // TestBadInputCorpus runs every bad input through the real command.
 func TestBadInputCorpus(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	for _, c := range badInputCases() {
 		t.Run(strings.ReplaceAll(c.name, " ", "_"), func(t *testing.T) {
 			if c.bug != "" && !*failing {
@@ -500,6 +503,9 @@ func checkScreened[B uint16 | uint32](t *testing.T, g map[string][]float64, i in
 // are fill and carry the QC bits of microphys.QCFlags (the bit meanings are the
 // contract of microphys/qc.go; the expectations below are derived from them).
 func TestBadInputValues(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	t.Run("nan_inf_negative", func(t *testing.T) {
 		// Default physics (collector table on) to cover the whole column path.

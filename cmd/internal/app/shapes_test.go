@@ -105,6 +105,9 @@ var reColumns = regexp.MustCompile(`Columns: (\d+) seen, (\d+) selected .*?, (\d
 // every column equals microphys on the inputs netCDF4-python decoded, and the summary
 // bins exactly the valid columns, with or without maps as the shape allows.
 func TestShapesEndToEnd(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := needPython(t)
 	m, err := microphys.NewModel(microphys.DefaultParams())
 	if err != nil {
@@ -326,6 +329,9 @@ data: time = 0, 1 ; lwp = 80, 90 ; re = 12, 13 ;
 // TestShapesNoCoordinates: a file without coordinates gives the statistics, says why
 // it has no maps, and refuses a region with a clear message.
 func TestShapesNoCoordinates(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("ncgen"); err != nil {
 		t.Skip("ncgen not installed")
 	}
@@ -359,6 +365,9 @@ data: lwp = 60, 120, 240, 30 ; re = 9, 12, 16, 20 ;
 // TestShapesNoLeapCalendar: model output in a noleap calendar is processed and
 // summarised; only a time window, which needs Gregorian dates, is refused.
 func TestShapesNoLeapCalendar(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("ncgen"); err != nil {
 		t.Skip("ncgen not installed")
 	}
@@ -405,6 +414,9 @@ data: time = 0, 365 ; lat = 10, 20 ; lon = 30, 40 ;
 // days) and 2000-12-31 in all_leap and julian (2000 has a 29 February in both): CF
 // conventions §4.4.1 calendars, derived.
 func TestSummaryModelCalendars(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := exec.LookPath("ncgen"); err != nil {
 		t.Skip("ncgen not installed")
 	}

@@ -40,6 +40,9 @@ func globalText(t *testing.T, path, name string) string {
 // the same data, bit for bit: the provenance carries every parameter exactly. Options
 // on the command line override the file. (Software behaviour; no physics is checked.)
 func TestParamsFileReproduces(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	pf := filepath.Join(dir, "study.toml")
 	if code, _, errs := runProc(t, "params", "--write", pf); code != 0 {
@@ -181,6 +184,9 @@ func TestParamsFileErrors(t *testing.T) {
 // xarray) cannot be
 // reproduced exactly: --params-from says which, and accepts them from the command line.
 func TestParamsFromMissingParameter(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	a := filepath.Join(dir, "a.nc")
@@ -272,6 +278,9 @@ func treeState(t *testing.T, dirs ...string) map[string]string {
 // process the rest) with the bindings of its variables, and writes nothing: no output,
 // folder, manifest, log or table; inputs and their times untouched.
 func TestDryRunWritesNothing(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	ins := filepath.Join(dir, "in")
 	out := filepath.Join(dir, "out")
@@ -351,6 +360,9 @@ func TestDryRunWritesNothing(t *testing.T) {
 // whole line per file with k of N, the rate and the time left, and a closing tally whose
 // screening counts are those of the outputs' QC bits; --log appends the same lines.
 func TestBatchReport(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	src, _ := os.ReadFile(samplePath(t))
 	var paths []string
@@ -443,6 +455,9 @@ func TestBatchReport(t *testing.T) {
 // grid, one a copy of the first days under another name, and one that is no input.
 // Written with xarray, an outside library.
 func TestInspectArchive(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	py := requireTool(t, "/usr/bin/python3")
 	dir := t.TempDir()
 	script := `import sys, xarray as xr
@@ -519,6 +534,9 @@ open(dir + "/a7_notes.nc", "w").write("notes\n")
 // An ensemble takes the parameter file as the base of every member: each member equals
 // the single run with the file and the member's options.
 func TestEnsembleOverParamsFile(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	pf := filepath.Join(dir, "study.toml")
 	os.WriteFile(pf, []byte("gamma-shape = 3\nonset-width = \"2 um\"\n"), 0o644)

@@ -62,19 +62,19 @@ func manifestOutputs(path string) ([]string, error) {
 
 func pathExists(p string) bool { _, err := os.Stat(p); return err == nil }
 
-// calendarWindow returns the window w of UTC labels as a window over the seconds
-// since 1970-01-01 of calendar kind (a time.Time whose Unix seconds are those
-// calendar seconds, so that summary.Window.Contains compares them).
-func calendarWindow(kind string, w summary.Window) (summary.Window, error) {
+// calendarWindow returns the window of the labels from and to (nil: open) as a
+// window over the seconds since 1970-01-01 of calendar kind (a time.Time whose Unix
+// seconds are those calendar seconds, so that summary.Window.Contains compares them).
+func calendarWindow(kind string, from, to *calLabel) (summary.Window, error) {
 	var out summary.Window
 	for _, c := range []struct {
-		in  time.Time
+		in  *calLabel
 		out *time.Time
-	}{{w.Start, &out.Start}, {w.End, &out.End}} {
-		if c.in.IsZero() {
+	}{{from, &out.Start}, {to, &out.End}} {
+		if c.in == nil {
 			continue
 		}
-		s, err := grid.CalendarSecondsOf(kind, c.in)
+		s, err := c.in.seconds(kind)
 		if err != nil {
 			return out, err
 		}
@@ -252,7 +252,7 @@ func selectionError(f summaryFlags, x *extent) error {
 		why = append(why, msg)
 	}
 	if !f.window.IsZero() {
-		why = append(why, fmt.Sprintf("the time window (--from/--to) %s selects no time step: %s", f.window, x.when()))
+		why = append(why, fmt.Sprintf("the time window (--from/--to) %s selects no time step: %s", windowText(f), x.when()))
 	}
 	if len(why) == 0 {
 		why = append(why, "the selection keeps no column: "+x.where()+"; "+x.when())
@@ -379,6 +379,10 @@ func griddedVars(gr *summary.GriddedResult, info map[string]procfile.Var, coords
 		v.Attrs = append(v.Attrs, attr("coverage_content_type", "qualityInformation"), attr("coordinates", coords))
 		out = append(out, v)
 	}
+	sa := summaryVarSpec(summary.Var{Name: "screened_fraction", Dims: dims, Units: "1",
+		LongName: "fraction of the cell's columns screened for any reason (any QC bit of warm_rain_qc)", Ancillary: "cell_column_count", Data: gr.ScreenedAnyFraction}, true)
+	sa.Attrs = append(sa.Attrs, attr("coverage_content_type", "qualityInformation"), attr("coordinates", coords))
+	out = append(out, sa)
 	if gr.POPFrequency != nil {
 		v := summaryVarSpec(summary.Var{Name: "drizzle_frequency_pop", Dims: dims, Units: "1",
 			LongName: fmt.Sprintf("drizzle occurrence frequency: fraction of valid columns with drizzle_probability above %g", gr.POPThreshold), Data: gr.POPFrequency}, true)
@@ -419,19 +423,23 @@ func griddedMapSet(gr *summary.GriddedResult, info map[string]procfile.Var) summ
 }
 
 // griddedClasses are the no-data classes of the gridded cells for the maps: a cell
-// whose columns were all screened is "screened", or "missing input" when every one
-// of them lacked an input (input_missing).
+// that no column reached is "no columns"; one whose columns were all screened is
+// "screened", or "input missing" when every one of them lacked an input
+// (input_missing); a cell with some unscreened column whose map has no value there
+// (for example no finite POP) is "no value" (the plots' class for a NaN without
+// one).
 func griddedClasses(gr *summary.GriddedResult) []plots.NoData {
 	out := make([]plots.NoData, len(gr.Columns))
 	miss := slices.Index(gr.Reasons, "input_missing")
-	pop := slices.Index(gr.Names, popVarName)
 	for c, n := range gr.Columns {
-		if n == 0 || (pop >= 0 && gr.Count[pop][c] > 0) {
-			continue
-		}
-		out[c] = plots.Screened
-		if miss >= 0 && gr.ScreenedFraction[miss][c] == 1 {
+		switch {
+		case n == 0:
+			out[c] = plots.NoColumns
+		case gr.ScreenedAny[c] < n: // some column was valid: NoDataNone draws a NaN as "no value"
+		case miss >= 0 && gr.ScreenedFraction[miss][c] == 1:
 			out[c] = plots.MissingInput
+		default:
+			out[c] = plots.Screened
 		}
 	}
 	return out
@@ -529,7 +537,7 @@ func gridPartial(ds *grid.Dataset, g *summary.Gridded) {
 	}
 	ds.Dims = append(ds.Dims, grid.DimSpec{Name: "cell", Len: n}, grid.DimSpec{Name: "part", Len: parts})
 	cnt := func() []float64 { return make([]float64, n) }
-	cols, popN, popA, lwpN, lwpA := cnt(), cnt(), cnt(), cnt(), cnt()
+	cols, popN, popA, lwpN, lwpA, scrAny := cnt(), cnt(), cnt(), cnt(), cnt(), cnt()
 	scr := make([][]float64, len(o.Reasons))
 	for r := range scr {
 		scr[r] = cnt()
@@ -544,6 +552,7 @@ func gridPartial(ds *grid.Dataset, g *summary.Gridded) {
 		c := g.Sums(k)
 		idx[i] = float64(k)
 		cols[i], popN[i], popA[i], lwpN[i], lwpA[i] = float64(c.Columns), float64(c.POPN), float64(c.POPAbove), float64(c.LWPN), float64(c.LWPAbove)
+		scrAny[i] = float64(c.ScreenedAny)
 		for r, s := range c.Screened {
 			scr[r][i] = float64(s)
 		}
@@ -564,6 +573,7 @@ func gridPartial(ds *grid.Dataset, g *summary.Gridded) {
 	add("cell_pop_above", one, popA, "of those, POP above the threshold")
 	add("cell_lwp_n", one, lwpN, "valid columns with LWP and LWP*")
 	add("cell_lwp_above", one, lwpA, "of those, LWP above LWP*")
+	add("cell_screened_any", one, scrAny, "columns screened for any reason")
 	for r, name := range o.Reasons {
 		add("cell_screened_"+name, one, scr[r], "columns screened with this reason")
 	}
@@ -739,6 +749,7 @@ func mergeGridPartial(r *grid.Reader, g *summary.Gridded, read func(string) ([]f
 		}
 		get[n] = d
 	}
+	anyScr, _ := read("cell_screened_any")
 	for i, k := range get["cell_index"] {
 		if k < 0 {
 			continue
@@ -748,6 +759,11 @@ func mergeGridPartial(r *grid.Reader, g *summary.Gridded, read func(string) ([]f
 			Screened: make([]int64, len(o.Reasons)), Moments: make([]summary.Moments, len(o.Names))}
 		for r, rn := range o.Reasons {
 			c.Screened[r] = int64(get["cell_screened_"+rn][i])
+		}
+		if anyScr != nil {
+			c.ScreenedAny = int64(anyScr[i])
+		} else { // written before the count of any reason: the largest reason's, a lower bound
+			c.ScreenedAny = slices.Max(append([]int64{0}, c.Screened...))
 		}
 		for v, n := range o.Names {
 			m := &c.Moments[v]

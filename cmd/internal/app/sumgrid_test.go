@@ -140,6 +140,9 @@ func gridSummaryVars(t *testing.T, path string) map[string][]float64 {
 // time bounds are the union of the inputs'. The same files in another order, and
 // partial summaries merged, give bit-identical gridded variables.
 func TestSummaryGridSwaths(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	in := threeSwaths(t, dir)
 	out := filepath.Join(dir, "g.nc")

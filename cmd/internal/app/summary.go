@@ -2,14 +2,13 @@ package app
 
 import (
 	"bytes"
-	"crypto/rand"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
 	"slices"
 	"sort"
 	"strconv"
@@ -135,6 +134,7 @@ type summaryFlags struct {
 	output, plotDir, mapOf string
 	region                 *summary.Region
 	window                 summary.Window
+	from, to               *calLabel // --from and --to as written (dates of the files' calendar)
 	opt                    summary.Options
 	width, height          int
 	force                  bool
@@ -227,16 +227,16 @@ func runSummary(e *env, args []string) error {
 		}
 	}
 	if *from != "" {
-		if f.window.Start, err = parseUTC(*from); err != nil {
+		if f.window.Start, f.from, err = parseUTC(*from); err != nil {
 			return usagef("--from: %v", err)
 		}
 	}
 	if *to != "" {
-		if f.window.End, err = parseUTC(*to); err != nil {
+		if f.window.End, f.to, err = parseUTC(*to); err != nil {
 			return usagef("--to: %v", err)
 		}
 	}
-	if !f.window.Start.IsZero() && !f.window.End.IsZero() && !f.window.End.After(f.window.Start) {
+	if f.from != nil && f.to != nil && !f.from.before(*f.to) {
 		return usagef("--to %s is not after --from %s", *to, *from)
 	}
 	if f.opt.LWPEdges, err = parseBins(*lwpBins, 1e-3); err != nil {
@@ -329,13 +329,88 @@ func parseRegion(s string) (*summary.Region, error) {
 	return r, nil
 }
 
-func parseUTC(s string) (time.Time, error) {
+// calLabel is a date and clock of --from or --to as written, read in the files'
+// calendar: 2001-02-30 is a day of the 360_day calendar, which a time.Time would
+// carry over to 03-02.
+type calLabel struct {
+	y, m, d int
+	clock   float64 // seconds since midnight
+}
+
+func (l calLabel) String() string {
+	c := int(l.clock)
+	return fmt.Sprintf("%04d-%02d-%02dT%02d:%02d:%02dZ", l.y, l.m, l.d, c/3600, c/60%60, c%60)
+}
+
+// before compares labels by date and clock, the same order in every calendar.
+func (l calLabel) before(o calLabel) bool {
+	a, b := [3]int{l.y, l.m, l.d}, [3]int{o.y, o.m, o.d}
+	if a != b {
+		return a[0] < b[0] || a[0] == b[0] && (a[1] < b[1] || a[1] == b[1] && a[2] < b[2])
+	}
+	return l.clock < o.clock
+}
+
+// seconds is the label in seconds since 1970-01-01 of the calendar kind.
+func (l calLabel) seconds(kind string) (float64, error) {
+	days, err := grid.CalendarDays(kind, l.y, l.m, l.d)
+	if err != nil {
+		return 0, err
+	}
+	return float64(days)*86400 + l.clock, nil
+}
+
+// tableWindow is the window of the table: --from and --to as written, in the
+// files' calendar (the accumulators select every step with a time, anyTime).
+func (st *summaryState) tableWindow(f summaryFlags) summary.Window {
+	if f.window.IsZero() {
+		return summary.Window{}
+	}
+	cal := st.calendar
+	if cal == "" {
+		cal = grid.CalStandard
+	}
+	w := f.window
+	w.Text = windowText(f) + ", dates of the " + cal + " calendar"
+	return w
+}
+
+// windowText is the --from/--to window as written, for the table and messages.
+func windowText(f summaryFlags) string {
+	side := func(l *calLabel) string {
+		if l == nil {
+			return "open"
+		}
+		return l.String()
+	}
+	return side(f.from) + " to " + side(f.to) + " (end excluded)"
+}
+
+var reLabel = regexp.MustCompile(`^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2}(?:\.\d*)?))?Z?)?$`)
+
+// parseUTC reads a time of --from or --to: as a time.Time (an offset is turned to
+// UTC) and as the label of the files' calendar; a day up to 31 is read as a label
+// only (a day of a model calendar, such as 2001-02-30 of 360_day).
+func parseUTC(s string) (time.Time, *calLabel, error) {
+	bad := fmt.Errorf("%q: expected a UTC time such as 2026-07-01, 2026-07-01T06:00 or 2026-07-01T06:00:00Z (a date of the files' calendar)", s)
 	for _, layout := range []string{time.RFC3339Nano, "2006-01-02T15:04Z07:00", "2006-01-02T15:04:05", "2006-01-02T15:04", "2006-01-02 15:04", "2006-01-02"} {
 		if t, err := time.Parse(layout, s); err == nil {
-			return t.UTC(), nil
+			t = t.UTC()
+			clock := float64(t.Hour()*3600+t.Minute()*60+t.Second()) + float64(t.Nanosecond())*1e-9
+			return t, &calLabel{t.Year(), int(t.Month()), t.Day(), clock}, nil
 		}
 	}
-	return time.Time{}, fmt.Errorf("%q: expected a UTC time such as 2026-07-01, 2026-07-01T06:00 or 2026-07-01T06:00:00Z", s)
+	m := reLabel.FindStringSubmatch(s)
+	if m == nil {
+		return time.Time{}, nil, bad
+	}
+	num := func(x string) int { v, _ := strconv.Atoi(x); return v }
+	sec, _ := strconv.ParseFloat("0"+m[6], 64)
+	l := calLabel{num(m[1]), num(m[2]), num(m[3]), float64(num(m[4])*3600+num(m[5])*60) + sec}
+	if l.m < 1 || l.m > 12 || l.d < 1 || l.d > 31 || num(m[4]) > 23 || num(m[5]) > 59 || sec >= 60 {
+		return time.Time{}, nil, bad
+	}
+	return time.Date(l.y, time.Month(l.m), l.d, 0, 0, 0, 0, time.UTC).Add(time.Duration(l.clock * 1e9)), &l, nil
 }
 
 // parseBins reads LO:HI:N or E1,E2,... in display units and returns SI edges.
@@ -415,6 +490,7 @@ type summaryState struct {
 	lwpName                   string // the first file's LWP variable (styled as liquid_water_path)
 	valid, shapeAssumed       int64
 	gridClasses               []plots.NoData // --grid: the no-data classes of the cells
+	gridRes                   *summary.GriddedResult
 }
 
 // stepSpan is ms with the step count and time range of every selected step, for
@@ -473,7 +549,9 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 		}
 	}
 	if f.partial {
-		if err := summary.WriteTable(e.stdout, st.acc.Result()); err != nil {
+		pr := st.acc.Result()
+		pr.Options.Window = st.tableWindow(f)
+		if err := summary.WriteTable(e.stdout, pr); err != nil {
 			return err
 		}
 		if err := grid.WriteDataset(f.output, partialDataset(st, f, inputs), f.force); err != nil {
@@ -488,6 +566,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 			res.Options.LawNdExponent = c
 		}
 	}
+	res.Options.Window = st.tableWindow(f)
 	if err := summary.WriteTable(e.stdout, res); err != nil {
 		return err
 	}
@@ -499,6 +578,7 @@ func summarise(e *env, f summaryFlags, inputs, args []string) error {
 		if gr.Extent.NY > 0 {
 			ms = griddedMapSet(gr, st.mapInfo)
 			st.gridClasses = griddedClasses(gr)
+			st.gridRes = gr
 		} else {
 			fmt.Fprintf(e.stderr, "warmrain summary: --grid: no column with latitude and longitude was selected; no gridded maps\n")
 			gr = nil
@@ -619,7 +699,7 @@ func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window
 		} else if !sameCalendarGroup(st.calendar, p.Calendar) {
 			return &grid.VarError{File: path, Problem: fmt.Sprintf("has times in the %s calendar and %s in the %s calendar; summarise files of one calendar together", p.Calendar, st.calFile, st.calendar), Err: grid.ErrLayout}
 		}
-		if win, err = calendarWindow(p.Calendar, f.window); err != nil {
+		if win, err = calendarWindow(p.Calendar, f.from, f.to); err != nil {
 			return usagef("--from/--to in the %s calendar of %s: %v", p.Calendar, path, err)
 		}
 		st.ext.addTimes(p.TimeVals)
@@ -1062,33 +1142,56 @@ func (st *summaryState) paramText() string {
 	return strings.Join(parts, ", ")
 }
 
-func utcShort(t float64) time.Time {
-	sec, frac := math.Modf(t)
-	return time.Unix(int64(sec), int64(frac*1e9)).UTC()
+// calendarClock writes t (seconds since 1970-01-01 in the calendar kind; "" is
+// the standard calendar) as "YYYY-MM-DD hh:mm" in that calendar, and its year.
+func calendarClock(kind string, t float64) (text string, year int) {
+	if kind == "" {
+		kind = grid.CalStandard
+	}
+	sec := int64(math.Floor(t + 0.5))
+	days := sec / 86400
+	if sec%86400 < 0 {
+		days--
+	}
+	r := sec - days*86400
+	y, m, d := grid.CalendarDate(kind, int(days))
+	return fmt.Sprintf("%04d-%02d-%02d %02d:%02d", y, m, d, r/3600, r/60%60), y
 }
 
-// spanText is the compact time line of the titles: "2026-09-21 12:00 to 09-23 12:00
-// UTC (3 steps)".
-func spanText(ms summary.MapSet, files int) string {
+// timeZone ends a date of the titles: "UTC" in the standard calendars, the name
+// of a model calendar (noleap, 360_day, ...) otherwise.
+func timeZone(kind string) string {
+	switch kind {
+	case "", grid.CalStandard, grid.CalProleptic:
+		return "UTC"
+	}
+	return "(" + kind + " calendar)"
+}
+
+// spanText is the compact time line of the titles, in the files' calendar:
+// "2026-09-21 12:00 to 09-23 12:00 UTC (3 steps)", or "2001-02-30 00:00 (360_day
+// calendar) (1 time step)".
+func (st *summaryState) spanText(ms summary.MapSet) string {
 	n := fmt.Sprintf("%d time step", ms.Steps)
 	if ms.Steps != 1 {
 		n += "s"
 	}
-	if files > 1 {
-		n += fmt.Sprintf(", %d files", files)
+	if st.files > 1 {
+		n += fmt.Sprintf(", %d files", st.files)
 	}
 	if math.IsNaN(ms.TimeMin) {
 		return n
 	}
-	a, b := utcShort(ms.TimeMin), utcShort(ms.TimeMax)
-	if a.Equal(b) {
-		return a.Format("2006-01-02 15:04") + " UTC (" + n + ")"
+	a, ya := calendarClock(st.calendar, ms.TimeMin)
+	b, yb := calendarClock(st.calendar, ms.TimeMax)
+	zone := timeZone(st.calendar)
+	if a == b {
+		return a + " " + zone + " (" + n + ")"
 	}
-	lb := "2006-01-02 15:04"
-	if a.Year() == b.Year() {
-		lb = "01-02 15:04"
+	if ya == yb {
+		b = b[strings.Index(b, "-")+1:]
 	}
-	return a.Format("2006-01-02 15:04") + " to " + b.Format(lb) + " UTC (" + n + ")"
+	return a + " to " + b + " " + zone + " (" + n + ")"
 }
 
 func regionText(r *summary.Region) string {
@@ -1239,18 +1342,21 @@ func writePNG(path string, force bool, draw func(w io.Writer) error) error {
 	if err := draw(&buf); err != nil {
 		return err
 	}
-	var rb [6]byte
-	rand.Read(rb[:])
-	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".tmp-"+hex.EncodeToString(rb[:]))
-	if err := os.WriteFile(tmp, buf.Bytes(), 0o644); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	return nil
+	return grid.WriteFileAtomic(path, buf.Bytes(), force)
+}
+
+// mapJob is one map of writePictures.
+type mapJob struct {
+	field       summary.Field
+	grid        summary.Scene
+	title, when string
+	keepUnits   bool
+	file        string
+	noData      []plots.NoData
+	// fraction: a share of columns on a fixed linear 0..1 scale, with params as
+	// its footnote (the frequencies and screened fractions of --grid)
+	fraction bool
+	params   string
 }
 
 func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result, ms summary.MapSet) error {
@@ -1277,19 +1383,12 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		return nil
 	}
 	// Maps.
-	type mapJob struct {
-		field       summary.Field
-		grid        summary.Scene
-		title, when string
-		keepUnits   bool
-		file        string
-		noData      []plots.NoData
-	}
 	var jobs []mapJob
 	if f.mapOf == "first" && st.first != nil {
 		when := "first time step"
 		if !math.IsNaN(st.firstTime) {
-			when = utcShort(st.firstTime).Format("2006-01-02 15:04") + " UTC (first time step)"
+			d, _ := calendarClock(st.calendar, st.firstTime)
+			when = d + " " + timeZone(st.calendar) + " (first time step)"
 		}
 		for _, n := range st.mapNames {
 			vi := st.mapInfo[n]
@@ -1300,10 +1399,10 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 				title: shortName(n, vi.Long), when: when, file: "map_" + n + "_first.png", noData: noDataClasses(nil, nil, st.firstQC)})
 		}
 	} else if f.mapOf == "mean" && len(ms.Maps) > 0 {
-		when := "time mean, " + spanText(ms, st.files)
+		when := "time mean, " + st.spanText(ms)
 		classes := noDataClasses(st.cellScreened, st.cellMissing, nil)
 		if st.grid != nil {
-			when = fmt.Sprintf("mean of the columns in %g° cells, ", st.grid.Options().Grid.Step) + spanText(ms, st.files)
+			when = fmt.Sprintf("mean of the columns in %g° cells, ", st.grid.Options().Grid.Step) + st.spanText(ms)
 			classes = st.gridClasses
 		}
 		for _, m := range ms.Maps {
@@ -1322,9 +1421,12 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 					title = "Number of columns with a valid drizzle probability"
 				}
 				jobs = append(jobs, mapJob{field: c, grid: ms.Grid, title: title,
-					when: "over " + spanText(ms, st.files), keepUnits: true, file: "map_valid_count.png"})
+					when: "over " + st.spanText(ms), keepUnits: true, file: "map_valid_count.png"})
 			}
 		}
+	}
+	if gr := st.gridRes; gr != nil && f.mapOf == "mean" && len(ms.Maps) > 0 {
+		jobs = append(jobs, st.gridFractionJobs(gr, f, ms)...)
 	}
 	var mapped []string
 	for _, j := range jobs {
@@ -1345,6 +1447,9 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		}
 		if j.keepUnits {
 			o.Scale, o.Units, o.IntegerTicks = 1, "count", true
+		}
+		if j.fraction {
+			o.Min, o.Max, o.Log, o.Scale, o.Units, fixed = 0, 1, false, 1, "fraction of columns", true
 		}
 		if len(j.noData) != j.grid.Cells() {
 			o.NoData = nil
@@ -1370,6 +1475,8 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		// not a declared output (its dependencies are unknown) or for the counts.
 		mp := ""
 		switch d := microphys.OutputByName(styleName); {
+		case j.fraction:
+			mp = j.params
 		case j.keepUnits || d == nil:
 		case st.mixed:
 			mp = params // "inputs processed with different parameters"
@@ -1384,7 +1491,7 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 	}
 	// Curves: the plots add their own last title line (error bars) to the subtitle.
 	chars := max(30, int(float64(f.width-8-200)/7.5))
-	span := spanText(st.stepSpan(ms), st.files)
+	span := st.spanText(st.stepSpan(ms))
 	pt := wrapLines(chars, "Drizzle probability against liquid water path, by droplet number", span, region, params)
 	if err := put("pop_vs_lwp.png", "POP against LWP", func(w io.Writer) error {
 		return plots.POPCurves(w, res, plots.CurveOptions{Width: f.width, Height: f.height, Title: pt})
@@ -1401,6 +1508,92 @@ func writePictures(e *env, f summaryFlags, st *summaryState, res *summary.Result
 		fmt.Fprintf(e.stderr, "warmrain summary: wrote %s\n", w)
 	}
 	return nil
+}
+
+// gridFractionJobs are the maps of the shares of columns of a gridded summary: the
+// drizzle occurrence frequencies (POP above --drizzle-pop; LWP above LWP*), the share
+// screened for any reason and the share screened for the most frequent reason.
+func (st *summaryState) gridFractionJobs(gr *summary.GriddedResult, f summaryFlags, ms summary.MapSet) []mapJob {
+	classes := st.gridClasses
+	when := fmt.Sprintf("in %g° cells, ", gr.Grid.Step) + st.spanText(ms)
+	g := ms.Grid
+	param := func(output string) string {
+		if st.mixed {
+			return st.paramText()
+		}
+		return plots.ParamLine(output, st.params, st.shapeNote())
+	}
+	var jobs []mapJob
+	field := func(name, long string, d []float64) summary.Field {
+		return summary.Field{Name: name, Units: "1", LongName: long, Data: d}
+	}
+	if gr.POPFrequency != nil {
+		jobs = append(jobs, mapJob{field: field("drizzle_frequency_pop", "", gr.POPFrequency), grid: g, fraction: true, noData: classes,
+			title: fmt.Sprintf("Drizzle frequency: share of valid columns with POP > %g (--drizzle-pop)", gr.POPThreshold),
+			when:  when, file: "map_drizzle_frequency_pop.png", params: param(popVarName)})
+	}
+	if gr.LWPFrequency != nil {
+		jobs = append(jobs, mapJob{field: field("drizzle_frequency_lwp", "", gr.LWPFrequency), grid: g, fraction: true, noData: classes,
+			title: "Drizzle frequency: share of valid columns with LWP > LWP* (critical LWP of each column)",
+			when:  when, file: "map_drizzle_frequency_lwp.png", params: param(critVarName)})
+	}
+	screen := st.screeningText()
+	jobs = append(jobs, mapJob{field: field("screened_fraction", "", gr.ScreenedAnyFraction), grid: g, fraction: true, noData: classes,
+		title: "Share of columns screened (any QC reason)", when: when, file: "map_screened_fraction.png", params: screen})
+	// The reason that screened the most columns, when more than one reason did.
+	best, bestN, reasons := -1, 0.0, 0
+	for k := range gr.Reasons {
+		n := 0.0
+		for c, fr := range gr.ScreenedFraction[k] {
+			if !math.IsNaN(fr) {
+				n += fr * float64(gr.Columns[c])
+			}
+		}
+		if n > 0 {
+			reasons++
+		}
+		if n > bestN {
+			best, bestN = k, n
+		}
+	}
+	if best >= 0 && reasons > 1 {
+		r := gr.Reasons[best]
+		jobs = append(jobs, mapJob{field: field("screened_fraction_"+r, "", gr.ScreenedFraction[best]), grid: g, fraction: true, noData: classes,
+			title: fmt.Sprintf("Share of columns screened for %s (the most frequent of %d QC reasons)", r, reasons),
+			when:  when, file: "map_screened_fraction_" + r + ".png", params: screen})
+	}
+	return jobs
+}
+
+// screeningParams are the parameters (microphys.ParamDecls) that screen columns.
+var screeningParams = []string{"min_lwp", "min_tau", "re_range_min", "re_range_max", "min_ctt", "nd_range_min", "nd_range_max", "max_thickness", "min_cloud_fraction"}
+
+// screeningText lists the screening thresholds of the processed files by option
+// (the parameters the screened fractions depend on).
+func (st *summaryState) screeningText() string {
+	if st.mixed {
+		return st.paramText()
+	}
+	var parts []string
+	var opts []string
+	vals := map[string][]string{}
+	for _, d := range microphys.ParamDecls {
+		v := st.params[d.Name]
+		if !slices.Contains(screeningParams, d.Name) || v == "" {
+			continue
+		}
+		if vals[d.Option] == nil {
+			opts = append(opts, d.Option)
+		}
+		vals[d.Option] = append(vals[d.Option], strings.ReplaceAll(v, " um", " µm"))
+	}
+	for _, o := range opts {
+		parts = append(parts, "--"+o+" "+strings.Join(vals[o], " to "))
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	return "screening thresholds " + strings.Join(parts, ", ")
 }
 
 // constantValue reports whether every finite value of d is the same (and there is one).

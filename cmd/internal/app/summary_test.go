@@ -281,6 +281,9 @@ func lintSummary(t *testing.T, path string) {
 }
 
 func TestSummarySyntheticLaw(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	in, cols := writeSynthProcessed(t, dir)
 	out := filepath.Join(dir, "summary.nc")
@@ -519,6 +522,9 @@ func TestSummaryUsage(t *testing.T) {
 // TestSummarySwath checks a (y, x) file with 2-D latitude and longitude: the maps keep
 // the swath's dimensions and coordinates, and the first-time-step pictures are drawn.
 func TestSummarySwath(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	const ny, nx = 30, 40
 	n := ny * nx
@@ -584,6 +590,9 @@ func TestSummarySwath(t *testing.T) {
 // folder and summarises it: the counts of the summary equal those of the processed
 // file read directly, the summary passes the CF lint and the pictures decode.
 func TestSummarySampleEndToEnd(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	if _, err := os.Stat(sampleFile); err != nil {
 		skipOrFailMissing(t, "the committed sample "+sampleFile)
 	}
@@ -637,6 +646,9 @@ func TestSummarySampleEndToEnd(t *testing.T) {
 // surface_drizzle_rate; here renamed away by netCDF4-python) still summarises, and the
 // surface section says the file has no surface drizzle rate.
 func TestSummaryWithoutSurfaceRate(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	in, _ := writeSynthProcessed(t, dir)
 	py := "/usr/bin/python3"
@@ -672,6 +684,9 @@ ds.close()`, in).CombinedOutput(); err != nil {
 // and for thin cloud. Latitude and longitude get no map; the maps show both no-data
 // classes in their colours, and a --range for a variable without a map is reported.
 func TestSummaryMapClasses(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	const ny, nx = 40, 50
 	n := ny * nx
@@ -765,6 +780,9 @@ func TestSummaryMapClasses(t *testing.T) {
 // TestSummaryWithoutCoastlines: without the coastline files the maps are still drawn
 // and stderr says once that coastlines are off and which package provides them.
 func TestSummaryWithoutCoastlines(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	old := plots.CoastlineDir
 	plots.CoastlineDir = t.TempDir()
 	defer func() { plots.CoastlineDir = old }()

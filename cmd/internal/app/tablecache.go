@@ -13,6 +13,7 @@ import (
 	"sync/atomic"
 	"syscall"
 
+	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/microphys"
 )
 
@@ -138,15 +139,8 @@ func saveTables(path string, data []byte) {
 	if os.MkdirAll(dir, 0o755) != nil {
 		return
 	}
-	f, err := os.CreateTemp(dir, ".tables-*.tmp")
-	if err != nil {
-		return
-	}
-	tmp := f.Name()
-	_, werr := f.Write(data)
-	cerr := f.Close()
-	if werr != nil || cerr != nil || os.Chmod(tmp, 0o644) != nil || os.Rename(tmp, path) != nil {
-		os.Remove(tmp)
+	// replace: another process may have saved the same tables meanwhile
+	if grid.WriteFileAtomic(path, data, true) != nil {
 		return
 	}
 	pruneTableCache(dir)

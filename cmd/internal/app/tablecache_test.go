@@ -43,6 +43,9 @@ func cacheFiles(t *testing.T, dir string) []string {
 }
 
 func TestTableCache(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	t.Setenv(tableCacheEnv, dir)
 	p := microphys.DefaultParams()
@@ -110,6 +113,9 @@ func TestTableCache(t *testing.T) {
 }
 
 func TestTableCacheUnusable(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	p := microphys.DefaultParams()
 	p.SurfacePressure = 100500
 	// A cache folder that cannot be created (under a regular file): built, no error.
@@ -175,6 +181,9 @@ func TestTableCachePrune(t *testing.T) {
 // TestTableCacheFIFO: a FIFO (or any non-regular file) at the cache path is
 // not waited on: the tables are built and the run goes on.
 func TestTableCacheFIFO(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	t.Setenv(tableCacheEnv, dir)
 	p := microphys.DefaultParams()

@@ -20,6 +20,9 @@ import (
 // sqrt((s_tau/2)^2 + (5/2 s_r)^2) of the tau-and-r_e form (derived, doc/science.md#uncertainty)
 // with the percentages decoded; the LWP's is the input's.
 func TestProcessUncertaintySample(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	in := samplePath(t)
 	out := filepath.Join(t.TempDir(), "unc.nc")
 	if code, _, stderr := runProc(t, "process", in, "-o", out); code != 0 {
@@ -71,6 +74,9 @@ print(d["warm_rain_uncertainty_flag"].flag_meanings.split()[1])
 // them (the uncertainty never changes a diagnostic). The copy without the three
 // uncertainty variables is written by netCDF4-python with the stored bytes unchanged.
 func TestProcessWithoutUncertaintyUnchanged(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	in := samplePath(t)
 	dir := t.TempDir()
 	plain := filepath.Join(dir, "plain.nc")
@@ -129,6 +135,9 @@ dst.close()
 // r_e form sqrt((s_L/2)^2 + (3 s_r)^2), derived); a bad unit names the file and variable;
 // --parameter-uncertainty adds the spreads, CF-clean.
 func TestProcessUncertaintyUnitsAndBind(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	ncgen := requireTool(t, "ncgen")
 	dir := t.TempDir()
 	cdl := `netcdf errs {
@@ -241,6 +250,9 @@ func TestColumnUncertainty(t *testing.T) {
 // TestSummaryUncertaintyMaps: of the uncertainty outputs, summary maps the retrieval errors
 // of N_d and of the cloud-base drizzle rate (the demo's uncertainty maps) and no other.
 func TestSummaryUncertaintyMaps(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	dir := t.TempDir()
 	out, pics := filepath.Join(dir, "unc.nc"), filepath.Join(dir, "plots")
 	if code, _, stderr := runProc(t, "process", samplePath(t), "-o", out, "--no-collector"); code != 0 {

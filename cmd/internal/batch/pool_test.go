@@ -68,6 +68,9 @@ done`
 // TestPoolCancel: a cancel stops workers that ignore SIGTERM (SIGKILL after
 // the grace time) and Run returns.
 func TestPoolCancel(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	sh, err := exec.LookPath("sh")
 	if err != nil {
 		t.Skip("no sh")

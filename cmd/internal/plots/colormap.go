@@ -41,6 +41,7 @@ const (
 	MissingInput         // an input was missing (QC bit input_missing in every step)
 	Screened             // screened by a QC bit (thin cloud, r_e out of range, possible ice, ...)
 	OutsideRegion        // outside the --region box
+	NoColumns            // no column reached the cell (gridded summaries: between swaths)
 	numNoData
 )
 
@@ -53,6 +54,7 @@ var noDataStyle = [numNoData]struct {
 	MissingInput:  {color.NRGBA{R: 0xd0, G: 0xd0, B: 0xd0, A: 0xff}, "input missing"},
 	Screened:      {color.NRGBA{R: 0xf0, G: 0xa8, B: 0xc0, A: 0xff}, "screened (QC)"},
 	OutsideRegion: {color.NRGBA{R: 0xdc, G: 0xe8, B: 0xf4, A: 0xff}, "outside region"},
+	NoColumns:     {color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0xff}, "no columns"},
 }
 
 // Colour returns the colour of the class (NoDataNone: the colour of NoValue).

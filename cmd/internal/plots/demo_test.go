@@ -59,6 +59,9 @@ func demoScene() (summary.Scene, summary.Field, summary.Field) {
 }
 
 func TestDemoPictures(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	s, lwp, rate := demoScene()
 	tm := time.Date(2026, 7, 14, 12, 0, 0, 0, time.UTC)
 	var buf bytes.Buffer

@@ -51,6 +51,9 @@ func census(img image.Image, want color.Color) (distinct, matches int) {
 }
 
 func TestMapPNG(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	s, lwp, _ := demoScene()
 	filled := lwp
@@ -282,6 +285,9 @@ func TestGeneratedColourTables(t *testing.T) {
 }
 
 func TestCurvesPNG(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	res := demoResult(t, 0)
 	var buf bytes.Buffer

@@ -60,6 +60,9 @@ func ncgen(t *testing.T, cdl string) string {
 // TestOpenSwath reads a swath written by ncgen: the binding, the horizontal layout,
 // the (non-standard) calendar, the blocks and the SI conversion with screening.
 func TestOpenSwath(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	thin, info := int(microphys.QCThinCloud), int(microphys.QCAirStateAssumed)
 	path := ncgen(t, swathCDL(thin, info))
 	p, err := Open(path, summary.Window{})

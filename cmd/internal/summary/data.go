@@ -163,11 +163,17 @@ func (r *Region) Contains(lat, lon float64) bool {
 // Window is the half-open time interval [Start, End); a zero Start or End is unbounded.
 type Window struct {
 	Start, End time.Time
+	// Text, when set, is what String returns (the window as the user wrote it, for
+	// example in a model calendar's dates).
+	Text string
 }
 
 // String returns the window as "START to END (end excluded)" in RFC 3339 UTC, with
 // "open" for an unbounded side.
 func (w Window) String() string {
+	if w.Text != "" {
+		return w.Text
+	}
 	f := func(t time.Time) string {
 		if t.IsZero() {
 			return "open"

@@ -75,17 +75,21 @@ type GriddedOptions struct {
 // CellSums are the sums of one grid cell: everything a Gridded keeps, exactly, so that
 // cells merge by addition (partial summaries).
 type CellSums struct {
-	Columns  int64     // selected columns located in the cell (screened or not)
-	Screened []int64   // per reason: columns screened with that reason
-	Moments  []Moments // per name: the finite values of valid (unscreened) columns
-	POPN     int64     // valid columns with a finite POP
-	POPAbove int64     // of those, POP > POPThreshold
-	LWPN     int64     // valid columns with finite LWP and LWP*
-	LWPAbove int64     // of those, LWP > LWP*
+	Columns  int64   // selected columns located in the cell (screened or not)
+	Screened []int64 // per reason: columns screened with that reason
+	// ScreenedAny counts the columns screened for any reason (a column may have
+	// several reasons, so it is not the sum of Screened).
+	ScreenedAny int64
+	Moments     []Moments // per name: the finite values of valid (unscreened) columns
+	POPN        int64     // valid columns with a finite POP
+	POPAbove    int64     // of those, POP > POPThreshold
+	LWPN        int64     // valid columns with finite LWP and LWP*
+	LWPAbove    int64     // of those, LWP > LWP*
 }
 
 func (c *CellSums) merge(o *CellSums) {
 	c.Columns += o.Columns
+	c.ScreenedAny += o.ScreenedAny
 	for k := range c.Screened {
 		c.Screened[k] += o.Screened[k]
 	}
@@ -226,6 +230,7 @@ func (g *Gridded) Add(s Scene, reasons []uint32, fields ...Field) error {
 			}
 			cs.Columns++
 			if reasons != nil && reasons[i] != 0 {
+				cs.ScreenedAny++
 				for r := range cs.Screened {
 					if reasons[i]&(1<<r) != 0 {
 						cs.Screened[r]++
@@ -377,6 +382,10 @@ type GriddedResult struct {
 	Reasons  []string
 	// ScreenedFraction per reason: screened columns / Columns (NaN where Columns = 0).
 	ScreenedFraction [][]float64
+	// ScreenedAnyFraction: columns screened for any reason / Columns (NaN where
+	// Columns = 0), and ScreenedAny those columns.
+	ScreenedAnyFraction []float64
+	ScreenedAny         []int64
 	// POPFrequency is the fraction of valid columns with POP > POPThreshold, and
 	// LWPFrequency the fraction with LWP > LWP* (NaN without such columns); nil when
 	// the option named no field.
@@ -412,6 +421,8 @@ func (g *Gridded) Result(e Extent) *GriddedResult {
 		r.SD = append(r.SD, nan())
 	}
 	r.Columns = make([]int64, n)
+	r.ScreenedAny = make([]int64, n)
+	r.ScreenedAnyFraction = nan()
 	for range g.opt.Reasons {
 		r.ScreenedFraction = append(r.ScreenedFraction, nan())
 	}
@@ -429,12 +440,14 @@ func (g *Gridded) Result(e Extent) *GriddedResult {
 			}
 			o := y*e.NX + x
 			r.Columns[o] = c.Columns
+			r.ScreenedAny[o] = c.ScreenedAny
 			for v := range c.Moments {
 				m := &c.Moments[v]
 				r.Count[v][o] = m.N
 				r.Mean[v][o], r.SD[v][o] = m.Mean(), m.SD()
 			}
 			if c.Columns > 0 {
+				r.ScreenedAnyFraction[o] = float64(c.ScreenedAny) / float64(c.Columns)
 				for k, s := range c.Screened {
 					r.ScreenedFraction[k][o] = float64(s) / float64(c.Columns)
 				}

@@ -269,7 +269,7 @@ func TestRegionAndTimeSelectionCounts(t *testing.T) {
 		want   int // derived by counting integer degrees by hand
 	}{
 		// lat 0..10 (11 rows) × lon 340..359 and 0..10 (31 columns) × 2 of 4 hours
-		{"0..360 data, box across 0", 0, &Region{0, 10, -20, 10}, Window{t0.Add(time.Hour), t0.Add(3 * time.Hour)}, 11 * 31 * 2},
+		{"0..360 data, box across 0", 0, &Region{0, 10, -20, 10}, Window{Start: t0.Add(time.Hour), End: t0.Add(3 * time.Hour)}, 11 * 31 * 2},
 		// lat -5..5 (11) × lon 170..179 and -180..-170 (21) × all 4 hours
 		{"-180..180 data, box across 180", -180, &Region{-5, 5, 170, -170}, Window{}, 11 * 21 * 4},
 		// whole grid, open-ended window from hour 3: 1 step
@@ -322,6 +322,9 @@ func TestSwathSelection(t *testing.T) {
 }
 
 func TestBootstrapMatchesRegressionForLinearModel(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	// Linear model in logs with equal per-column relative spread in every bin, so count
 	// weights are the right weights and the regression SE is a fair estimate:

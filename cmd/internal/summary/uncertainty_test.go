@@ -74,6 +74,9 @@ func correlatedScene(rng *rand.Rand, nt, ny, nx, r int, s, sigma float64) (Scene
 // 95 % of independent scenes, and they are wider than the intervals of the column
 // (i.i.d.) bootstrap, which ignore the correlation.
 func TestTileIntervalsCoverTruth(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	const (
 		trials = 80
@@ -159,6 +162,9 @@ func TestTileIntervalsCoverTruth(t *testing.T) {
 // column bootstraps estimate the same spread (a block bootstrap is consistent for
 // independent data too (Künsch 1989, Lahiri 2003 [from memory])).
 func TestTileIntervalsOnIndependentColumns(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(3, 4))
 	sc, c := correlatedScene(rng, 2, 120, 120, 0, 0.7, 1.0) // r = 0: independent columns
@@ -185,6 +191,9 @@ func TestTileIntervalsOnIndependentColumns(t *testing.T) {
 // numpy computation over the same columns (the tile standard error as the cluster
 // variance of a ratio mean, Cochran 1977 [from memory]).
 func TestBinErrorsAgainstNumpy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
 	t.Parallel()
 	const nt, ny, nx, tile = 2, 37, 45, 7 // 7 does not divide 37 or 45: partial edge tiles
 	rng := rand.New(rand.NewPCG(21, 22))
