@@ -399,16 +399,11 @@ func checkSharedCoordsIO(scene *FileInfo, infos []*FileInfo) error {
 // readStoredIO reads a small variable whole as float64 (stored values, no
 // decoding; I/O thread).
 func readStoredIO(v *VarInfo) ([]float64, error) {
+	buf, err := readStoredRawIO(v)
+	if err != nil {
+		return nil, err
+	}
 	n := v.Len()
-	buf := make([]uint64, rawWords(n, v.Type.Size()))
-	start := make([]uint64, len(v.Shape))
-	count := make([]uint64, len(v.Shape))
-	for i, s := range v.Shape {
-		count[i] = uint64(s)
-	}
-	if err := v.readIO(start, count, unsafe.Pointer(&buf[0])); err != nil {
-		return nil, varErr(err, v.File, v.Name, "read failed: %v", err)
-	}
 	raw := newTyped(v.Type, n)
 	copyRawTo(raw, unsafe.Pointer(&buf[0]), n*v.Type.Size())
 	return toFloat64s(raw), nil

@@ -183,7 +183,7 @@ func (p *File) bind() error {
 	// whether or not the coordinates attribute names them).
 	coords := strings.Fields(nd.Text("coordinates"))
 	for _, v := range fi.Vars {
-		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !equalStrings(v.Dims, p.Dims) || slices.Contains(coords, v.Name) || IsCoordinate(&v) {
+		if v.Name == qcName || (v.Type != grid.Float && v.Type != grid.Double) || !slices.Equal(v.Dims, p.Dims) || slices.Contains(coords, v.Name) || IsCoordinate(&v) {
 			continue
 		}
 		vi, err := p.siVar(&v)
@@ -198,7 +198,7 @@ func (p *File) bind() error {
 		}
 	}
 	if q := fi.Var(qcName); q != nil {
-		if !equalStrings(q.Dims, p.Dims) {
+		if !slices.Equal(q.Dims, p.Dims) {
 			return p.Errf(qcName, "has dimensions %v; expected %v", q.Dims, p.Dims)
 		}
 		masks, _ := q.Attr("flag_masks")
@@ -251,18 +251,6 @@ func (p *File) siVar(v *grid.VarInfo) (Var, error) {
 	}
 	vi.Units, vi.Conv = want, c
 	return vi, nil
-}
-
-func equalStrings(a, b []string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 // scan finds the horizontal dimensions, reads the coordinates (if any) and the
@@ -319,7 +307,7 @@ func (p *File) scan() error {
 					s.Lat[y*s.NX+x], s.Lon[y*s.NX+x] = lat[x], lon[y]
 				}
 			}
-		case h.LatLonRank == 2 && !equalStrings(lv.Dims, []string{p.Dims[h.Dims[0]], p.Dims[h.Dims[1]]}) || !equalStrings(lv.Dims, lo.Dims):
+		case h.LatLonRank == 2 && !slices.Equal(lv.Dims, []string{p.Dims[h.Dims[0]], p.Dims[h.Dims[1]]}) || !slices.Equal(lv.Dims, lo.Dims):
 			p.NoMaps = fmt.Sprintf("its latitude %s has dimensions %v, not those of the diagnostics' horizontal grid", h.Lat, lv.Dims)
 		default: // 2-D swath, 1-D per cell, scalars of a site
 			s.Lat, s.Lon = lat, lon

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 )
 
@@ -221,7 +222,7 @@ func (a *Accumulator) flushTile(t *tiler, key uint64, step, ty, tx, slot int) {
 // of them (equal up to the rounding of the sums' order). a and o must have equal bin
 // edges, Bootstrap, Seed, Tile and QCMask; selection options are a's.
 func (a *Accumulator) Merge(o *Accumulator) error {
-	if !equalFloats(a.opt.LWPEdges, o.opt.LWPEdges) || !equalFloats(a.opt.NdEdges, o.opt.NdEdges) {
+	if !slices.Equal(a.opt.LWPEdges, o.opt.LWPEdges) || !slices.Equal(a.opt.NdEdges, o.opt.NdEdges) {
 		return fmt.Errorf("summary: Merge: the accumulators have different bin edges")
 	}
 	if a.opt.Bootstrap != o.opt.Bootstrap || a.opt.Seed != o.opt.Seed || a.opt.Tile != o.opt.Tile || a.opt.QCMask != o.opt.QCMask {
@@ -267,18 +268,6 @@ func (a *Accumulator) Merge(o *Accumulator) error {
 		a.tileSide = -1
 	}
 	return nil
-}
-
-func equalFloats(a, b []float64) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 // merge folds o into st (Chan et al. 1979 pairwise update of the Welford moments).
