@@ -11,6 +11,7 @@ import (
 	"strings"
 	"text/tabwriter"
 	"time"
+	"unicode/utf8"
 
 	"github.com/spf13/pflag"
 	"github.com/warmrain/warmrain/grid"
@@ -1071,6 +1072,12 @@ func (r *columnResult) writeText(w io.Writer) error {
 		fmt.Fprintf(w, "  (--no-screen: %s)\n", r.NoScreen)
 	}
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	// The "(non-linear)" notes line up after the widest unit: a tab
+	// before them would align only runs of consecutive noted rows.
+	unitWidth := 0
+	for _, row := range r.rows {
+		unitWidth = max(unitWidth, utf8.RuneCountInString(row.Unit))
+	}
 	for _, row := range r.rows {
 		name := row.Name
 		v := num(row.Value)
@@ -1082,7 +1089,7 @@ func (r *columnResult) writeText(w io.Writer) error {
 		}
 		note := ""
 		if slices.Contains(r.ErrorNonlinear, name) {
-			note = "\t(non-linear)"
+			note = strings.Repeat(" ", unitWidth-utf8.RuneCountInString(row.Unit)+2) + "(non-linear)"
 		}
 		fmt.Fprintf(tw, "  %s\t%s\t%s%s\n", name, v, row.Unit, note)
 	}
@@ -1129,7 +1136,7 @@ func (r *columnResult) writeText(w io.Writer) error {
 	}
 	if c := r.Collector; c != nil {
 		fmt.Fprintf(w, "\ncollector drop (CollectDirect): start radius %s um, updraft %s m s-1\n", num(c.StartRadius), num(c.Updraft))
-		fmt.Fprintln(w, "  (one drop's path, to explain the column; the mapped drizzle products are the cloud-base rate, intensity and probability)")
+		fmt.Fprintln(w, "  (one drop's path, to explain the column; the mapped drizzle products are the cloud-base rate, intensity and probability and the surface rate and fraction)")
 		if r.Method != microphys.CollectorDirect.String() {
 			fmt.Fprintf(w, "  (--collector-method %s: the diagnostics come from the table, within 0.5 %% of this direct path)\n", r.Method)
 		}
