@@ -328,7 +328,7 @@ var ParamDecls = []ParamDecl{
 		},
 		Set: func(p *Params, v float64) { p.UniformLWP = v == 1 }},
 	{Name: "error_correlation", Option: "error-correlation", Unit: "1", Scale: 1, Min: -1, Max: 1,
-		Help:   "correlation coefficient of the LWP and r_e retrieval errors (for an LWP the product derived from tau and r_e, see doc/science.md#uncertainty)",
+		Help:   "correlation coefficient of the LWP and r_e retrieval errors (0: independent, as for a microwave LWP; nonzero when the product derived its LWP from tau and r_e, see doc/science.md#uncertainty)",
 		Source: "0: independent errors, as for a microwave LWP (common practice)",
 		Get:    func(p *Params) float64 { return p.ErrorCorrelation }, Set: func(p *Params, v float64) { p.ErrorCorrelation = v }},
 	{Name: "parameter_uncertainty", Option: "parameter-uncertainty", Kind: ParamSwitch,

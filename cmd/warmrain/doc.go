@@ -34,8 +34,9 @@ Data go to stdout or files; messages go to stderr.
 	<name>_parameter_spread (README "Uncertainty").
 
 	With one input, OUTPUT is the output file; with several (or when OUTPUT is an
-	existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
-	to a temporary file in the target folder and renamed when complete.
+	existing folder) OUTPUT is a folder and each output is named by --name.
+	Outputs appear whole or not at all: each is written to a temporary file in the
+	target folder and renamed when complete.
 
 	A rerun skips inputs whose output is complete (same input identity, parameters
 	and build recorded in its provenance) and redoes warmrain's own outputs of the
@@ -67,9 +68,11 @@ Data go to stdout or files; messages go to stderr.
 
 	Options:
 	  -o, --output string                        output file (one input) or folder (several inputs)
-	      --name string                          output name pattern in a folder: {stem} {name}
-	                                             {parent} {relpath} {index} (default
-	                                             "{stem}_warmrain.nc")
+	      --name string                          output name pattern in a folder: {stem} (input
+	                                             name without extension), {name} (input name),
+	                                             {parent} (its folder's name), {relpath} (its path
+	                                             without extension, / as _), {index} (its place in
+	                                             the sorted list) (default "{stem}_warmrain.nc")
 	      --ensemble FILE                        write one member per parameter set of FILE (lines
 	                                             NAME: --option VALUE ...) along a dimension
 	                                             member; one input, one output file
@@ -85,9 +88,9 @@ Data go to stdout or files; messages go to stderr.
 	                                             re_se tau_se)
 	  -j, --jobs int                             files processed at the same time, each in its own
 	                                             process (libnetcdf is single-threaded) (default 1)
-	      --threads int                          compute goroutines per process (0: the CPUs
-	                                             divided by --jobs; with --writer libnetcdf less
-	                                             one for the I/O thread)
+	      --threads int                          compute threads per process (0: the CPUs divided
+	                                             by --jobs; with --writer libnetcdf less one for
+	                                             the I/O thread)
 	      --deflate int                          deflate level of the outputs, 1-9 (0: no
 	                                             compression) (default 1)
 	      --pack[=true|false]                    store the bounded outputs as CF-packed 16-bit
@@ -119,10 +122,10 @@ Data go to stdout or files; messages go to stderr.
 	      --no-progress[=true|false]             no column progress within a file (it is shown
 	                                             only when stderr is a terminal)
 	      --writer string                        how chunks are compressed: direct (outputs by the
-	                                             compute goroutines and deflated netCDF-4 inputs
-	                                             by the reader, through HDF5's direct chunk I/O)
-	                                             or libnetcdf (everything by libnetcdf on its one
-	                                             I/O thread); the files are the same netCDF-4, the
+	                                             compute threads and deflated netCDF-4 inputs by
+	                                             the reader, through HDF5's direct chunk I/O) or
+	                                             libnetcdf (everything by libnetcdf on its one I/O
+	                                             thread); the files are the same netCDF-4, the
 	                                             values identical (default "direct")
 	      --slab-mb int                          memory budget of one slab, MiB (three are in
 	                                             flight) (default 32)
@@ -222,8 +225,10 @@ Data go to stdout or files; messages go to stderr.
 	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
 	                                             adiabatic, uniform (default "adiabatic")
 	      --error-correlation float              correlation coefficient of the LWP and r_e
-	                                             retrieval errors (for an LWP the product derived
-	                                             from tau and r_e, see doc/science.md#uncertainty)
+	                                             retrieval errors (0: independent, as for a
+	                                             microwave LWP; nonzero when the product derived
+	                                             its LWP from tau and r_e, see
+	                                             doc/science.md#uncertainty)
 	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
 	                                             every diagnostic, <name>_parameter_spread: k,
 	                                             f_ad, Q_ext, the onset radius, the drizzle law
@@ -262,10 +267,11 @@ Data go to stdout or files; messages go to stderr.
 	lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
 	screen non-liquid and multi-layer columns), and lwp_se, re_se, tau_se (the
 	retrieval standard errors, absolute or in percent, that give every output its
-	<name>_standard_error). With --mask, it counts the
-	columns each mask removes; flag codes held inside a data variable (sea ice,
-	land) are counted by meaning.
-	Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
+	<name>_standard_error).
+
+	With --mask, it counts the columns each mask removes; flag codes held inside a
+	data variable (sea ice, land) are counted by meaning. Variables in netCDF-4
+	groups are named by their path (/geophysical_data/NAME);
 	HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
 	With several files (names, a quoted glob, or @LIST as for process) inspect
@@ -299,9 +305,9 @@ Data go to stdout or files; messages go to stderr.
 
 	Usage:
 	  warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
-	  (without --re: --droplet-number N; without --lwp: --tau and --re)
 	                  [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
 	                  [--lwp-se G_M2|P%] [--re-se UM|P%] [--tau-se T|P%] [--parameter-uncertainty]
+	                  (without --re: --droplet-number N; without --lwp: --tau and --re)
 	  warmrain column --from FILE (--lat Y --lon X [--time T] | --index I,J[,T])
 	                  [--bind ROLE=VAR[:UNITS]] [--mask ...] [--pack] [--no-screen]
 	                  [physics options] [--json]
@@ -347,8 +353,9 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain column --from samples/data/stratocumulus_demo.nc --lat -21.13 --lon -80.07 --time 2026-09-22T12:00
 
 	Options:
-	      --lwp float                            liquid water path, g m-2 (required)
-	      --re float                             cloud-top effective radius, µm (required)
+	      --lwp float                            liquid water path, g m-2 (without it: --tau and --re)
+	      --re float                             cloud-top effective radius, µm (without it:
+	                                             --droplet-number)
 	      --tau float                            cloud optical thickness (absent: from LWP and
 	                                             r_e, adiabatic relation)
 	      --ctt float                            cloud-top temperature, K (absent: --default-ctt)
@@ -471,8 +478,10 @@ Data go to stdout or files; messages go to stderr.
 	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
 	                                             adiabatic, uniform (default "adiabatic")
 	      --error-correlation float              correlation coefficient of the LWP and r_e
-	                                             retrieval errors (for an LWP the product derived
-	                                             from tau and r_e, see doc/science.md#uncertainty)
+	                                             retrieval errors (0: independent, as for a
+	                                             microwave LWP; nonzero when the product derived
+	                                             its LWP from tau and r_e, see
+	                                             doc/science.md#uncertainty)
 	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
 	                                             every diagnostic, <name>_parameter_spread: k,
 	                                             f_ad, Q_ext, the onset radius, the drizzle law
@@ -554,9 +563,9 @@ Data go to stdout or files; messages go to stderr.
 	thickness_implausible, and those of the input's quality: input_flag_code,
 	masked_by_flag_meaning, masked_by_threshold, phase_not_liquid, multi_layer_cloud,
 	clear_sky, cloud_fraction_below_minimum; read from the file's flag_masks and
-	flag_meanings) are left out.
-	LWP is taken from the variable liquid_water_path, or else from the one variable with
-	standard_name atmosphere_mass_content_of_cloud_liquid_water.
+	flag_meanings) are left out. LWP is taken from the variable liquid_water_path,
+	or else from the one variable with standard_name
+	atmosphere_mass_content_of_cloud_liquid_water.
 
 	Neighbouring columns are correlated, so the sampling errors treat contiguous tiles of
 	each time step as independent: the bin means get a tile standard error and an
@@ -753,8 +762,10 @@ Data go to stdout or files; messages go to stderr.
 	                                             rho_w tau r_e) or uniform (2/3 rho_w tau r_e):
 	                                             adiabatic, uniform (default "adiabatic")
 	      --error-correlation float              correlation coefficient of the LWP and r_e
-	                                             retrieval errors (for an LWP the product derived
-	                                             from tau and r_e, see doc/science.md#uncertainty)
+	                                             retrieval errors (0: independent, as for a
+	                                             microwave LWP; nonzero when the product derived
+	                                             its LWP from tau and r_e, see
+	                                             doc/science.md#uncertainty)
 	      --parameter-uncertainty[=true|false]   also write the parameter (structural) spread of
 	                                             every diagnostic, <name>_parameter_spread: k,
 	                                             f_ad, Q_ext, the onset radius, the drizzle law
@@ -798,8 +809,9 @@ Data go to stdout or files; messages go to stderr.
 	info). Standard names are checked against the CF standard name table (XML,
 	gzipped or not): --table, else $WARMRAIN_CF_TABLE, else
 	../shared/cf/cf-standard-name-table-v83.xml.gz beside the module root;
-	without a table they are not checked and an info line says so. --ours applies the rules for warmrain's own outputs (Conventions must
-	also name ACDD-1.3; history lines must start with a UTC time).
+	without a table they are not checked and an info line says so. --ours applies
+	the rules for warmrain's own outputs (Conventions must also name ACDD-1.3;
+	history lines must start with a UTC time).
 
 	Exit status: 0 when no finding is an error, 1 when some finding is an error or
 	a file cannot be read, 2 for bad usage.
@@ -819,7 +831,5 @@ Data go to stdout or files; messages go to stderr.
 	Usage: warmrain version
 
 	Prints the version of warmrain, of the Go toolchain and of libnetcdf.
-
-	Options:
 */
 package main

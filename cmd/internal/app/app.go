@@ -45,7 +45,7 @@ func subcommands() []subcommand {
 	return []subcommand{
 		{"process", "compute the warm-rain diagnostics of input files into output files", runProcess},
 		{"inspect", "show what warmrain finds in an input file and what it can compute", runInspect},
-		{"column", "run the physics of one column given on the command line", runColumn},
+		{"column", "run the physics of one column, given on the command line or taken from an input file", runColumn},
 		{"demo", "build the sample scenario, process it, and print where the results are", runDemo},
 		{"summary", "bin, map and plot processed files (drizzle probability, susceptibility)", runSummary},
 		{"params", "list the physics parameters, or write them as a parameter file to start a study", runParams},
@@ -154,8 +154,10 @@ func parseFlags(e *env, fs *pflag.FlagSet, usage string, args []string) error {
 	err := fs.Parse(args)
 	if errors.Is(err, pflag.ErrHelp) {
 		fmt.Fprint(e.stdout, usage)
-		fmt.Fprintln(e.stdout, "\nOptions:")
-		fmt.Fprint(e.stdout, fs.FlagUsagesWrapped(100))
+		if opts := fs.FlagUsagesWrapped(100); opts != "" {
+			fmt.Fprintln(e.stdout, "\nOptions:")
+			fmt.Fprint(e.stdout, opts)
+		}
 		return pflag.ErrHelp
 	}
 	if err != nil {

@@ -20,9 +20,9 @@ import (
 
 const columnUsage = `Usage:
   warmrain column --lwp G_M2 --re UM [--tau T] [--ctt K] [--ctp HPA] [--cth M]
-  (without --re: --droplet-number N; without --lwp: --tau and --re)
                   [--lwp-sd G_M2] [--rh-surface X] [physics options] [--json]
                   [--lwp-se G_M2|P%] [--re-se UM|P%] [--tau-se T|P%] [--parameter-uncertainty]
+                  (without --re: --droplet-number N; without --lwp: --tau and --re)
   warmrain column --from FILE (--lat Y --lon X [--time T] | --index I,J[,T])
                   [--bind ROLE=VAR[:UNITS]] [--mask ...] [--pack] [--no-screen]
                   [physics options] [--json]
@@ -74,8 +74,8 @@ var columnInputs = []struct {
 	scale       float64
 	help        string
 }{
-	{"lwp", "g m-2", 1e-3, "liquid water path, g m-2 (required)"},
-	{"re", "um", 1e-6, "cloud-top effective radius, µm (required)"},
+	{"lwp", "g m-2", 1e-3, "liquid water path, g m-2 (without it: --tau and --re)"},
+	{"re", "um", 1e-6, "cloud-top effective radius, µm (without it: --droplet-number)"},
 	{"tau", "1", 1, "cloud optical thickness (absent: from LWP and r_e, adiabatic relation)"},
 	{"ctt", "K", 1, "cloud-top temperature, K (absent: --default-ctt)"},
 	{"ctp", "hPa", 100, "cloud-top pressure, hPa (absent: --default-ctp)"},

@@ -33,10 +33,11 @@ r_e, r_e from LWP and a droplet number), tau, ctt, ctp, cth, cloud_fraction,
 lwp_sd, nd (droplet number), phase and multilayer (CF flag variables that
 screen non-liquid and multi-layer columns), and lwp_se, re_se, tau_se (the
 retrieval standard errors, absolute or in percent, that give every output its
-<name>_standard_error). With --mask, it counts the
-columns each mask removes; flag codes held inside a data variable (sea ice,
-land) are counted by meaning.
-Variables in netCDF-4 groups are named by their path (/geophysical_data/NAME);
+<name>_standard_error).
+
+With --mask, it counts the columns each mask removes; flag codes held inside a
+data variable (sea ice, land) are counted by meaning. Variables in netCDF-4
+groups are named by their path (/geophysical_data/NAME);
 HDF4 names may contain blanks (quote them: --bind 're=Effective Radius').
 
 With several files (names, a quoted glob, or @LIST as for process) inspect

@@ -21,8 +21,9 @@ units, Conventions and history) and prints one finding a line:
 info). Standard names are checked against the CF standard name table (XML,
 gzipped or not): --table, else $WARMRAIN_CF_TABLE, else
 ../shared/cf/` + cflint.TableFile + ` beside the module root;
-without a table they are not checked and an info line says so. --ours applies the rules for warmrain's own outputs (Conventions must
-also name ACDD-1.3; history lines must start with a UTC time).
+without a table they are not checked and an info line says so. --ours applies
+the rules for warmrain's own outputs (Conventions must also name ACDD-1.3;
+history lines must start with a UTC time).
 
 Exit status: 0 when no finding is an error, 1 when some finding is an error or
 a file cannot be read, 2 for bad usage.

@@ -46,8 +46,9 @@ output gets <name>_standard_error beside it; --parameter-uncertainty adds
 <name>_parameter_spread (README "Uncertainty").
 
 With one input, OUTPUT is the output file; with several (or when OUTPUT is an
-existing folder) OUTPUT is a folder and each output is named by --name. Outputs appear whole or not at all: each is written
-to a temporary file in the target folder and renamed when complete.
+existing folder) OUTPUT is a folder and each output is named by --name.
+Outputs appear whole or not at all: each is written to a temporary file in the
+target folder and renamed when complete.
 
 A rerun skips inputs whose output is complete (same input identity, parameters
 and build recorded in its provenance) and redoes warmrain's own outputs of the
@@ -108,13 +109,13 @@ func runProcess(e *env, args []string) error {
 	fs := newFlagSet(e, "process", processUsage)
 	var o processOptions
 	fs.StringVarP(&o.output, "output", "o", "", "output file (one input) or folder (several inputs)")
-	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} {name} {parent} {relpath} {index}")
+	fs.StringVar(&o.pattern, "name", batch.DefaultPattern, "output name pattern in a folder: {stem} (input name without extension), {name} (input name), {parent} (its folder's name), {relpath} (its path without extension, / as _), {index} (its place in the sorted list)")
 	fs.StringVar(&o.ensemble, "ensemble", "", "write one member per parameter set of `FILE` (lines NAME: --option VALUE ...) along a dimension member; one input, one output file")
 	fs.BoolVar(&o.augment, "augment", false, "write a copy of the input with the new variables added (default: a new file with the coordinates and the new variables)")
 	fs.StringVar(&o.outputs, "outputs", "all", "comma-separated outputs to write (see README); the QC flags are always written")
 	fs.StringArrayVar(&o.binds, "bind", nil, "take input ROLE from variable VAR, optionally declaring its units: ROLE=VAR[:UNITS] (repeatable; roles: lwp re tau ctt ctp cth cloud_fraction lwp_sd nd phase multilayer lwp_se re_se tau_se)")
 	fs.IntVarP(&o.jobs, "jobs", "j", 1, "files processed at the same time, each in its own process (libnetcdf is single-threaded)")
-	fs.IntVar(&o.threads, "threads", 0, "compute goroutines per process (0: the CPUs divided by --jobs; with --writer libnetcdf less one for the I/O thread)")
+	fs.IntVar(&o.threads, "threads", 0, "compute threads per process (0: the CPUs divided by --jobs; with --writer libnetcdf less one for the I/O thread)")
 	fs.IntVar(&o.deflate, "deflate", 1, "deflate level of the outputs, 1-9 (0: no compression)")
 	fs.BoolVar(&o.pack, "pack", false, "store the bounded outputs as CF-packed 16-bit integers (smaller, faster; precision in README)")
 	fs.IntVar(&o.quantize, "significant-digits", 0, "lossy: keep this many significant decimal digits in float outputs (CF quantization metadata; 0: off)")
@@ -129,7 +130,7 @@ func runProcess(e *env, args []string) error {
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no line per file on stderr (the start and closing lines stay, and --log gets every line)")
 	fs.StringVar(&o.logPath, "log", "", "also append the start line, the line per file and the closing tally to `FILE`")
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no column progress within a file (it is shown only when stderr is a terminal)")
-	fs.StringVar(&o.writer, "writer", grid.WriterDirect, "how chunks are compressed: direct (outputs by the compute goroutines and deflated netCDF-4 inputs by the reader, through HDF5's direct chunk I/O) or libnetcdf (everything by libnetcdf on its one I/O thread); the files are the same netCDF-4, the values identical")
+	fs.StringVar(&o.writer, "writer", grid.WriterDirect, "how chunks are compressed: direct (outputs by the compute threads and deflated netCDF-4 inputs by the reader, through HDF5's direct chunk I/O) or libnetcdf (everything by libnetcdf on its one I/O thread); the files are the same netCDF-4, the values identical")
 	fs.IntVar(&o.slabMB, "slab-mb", grid.DefaultSlabBytes>>20, "memory budget of one slab, MiB (three are in flight)")
 	fs.IntVar(&o.memoryMB, "memory-mb", defaultMemoryMB, "memory bound of one process, MiB: inputs whose chunking needs more are read in smaller slabs, or refused with the estimate")
 	fs.BoolVar(&o.ioOnly, "io-only", false, "benchmark: read inputs and write outputs without the physics")

@@ -80,9 +80,9 @@ thin_cloud, effective_radius_out_of_range, possible_ice, droplet_number_implausi
 thickness_implausible, and those of the input's quality: input_flag_code,
 masked_by_flag_meaning, masked_by_threshold, phase_not_liquid, multi_layer_cloud,
 clear_sky, cloud_fraction_below_minimum; read from the file's flag_masks and
-flag_meanings) are left out.
-LWP is taken from the variable liquid_water_path, or else from the one variable with
-standard_name atmosphere_mass_content_of_cloud_liquid_water.
+flag_meanings) are left out. LWP is taken from the variable liquid_water_path,
+or else from the one variable with standard_name
+atmosphere_mass_content_of_cloud_liquid_water.
 
 Neighbouring columns are correlated, so the sampling errors treat contiguous tiles of
 each time step as independent: the bin means get a tile standard error and an
