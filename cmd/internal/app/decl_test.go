@@ -158,7 +158,7 @@ func TestPictureParamLine(t *testing.T) {
 		{"autoconversion": "kk2000", "onset_effective_radius": "1.4e-05"},
 	} {
 		st := &summaryState{params: params}
-		if got := st.paramText(); got != "kk2000 autoconversion, onset r_e 14 µm" {
+		if got := st.paramText(); got != "onset r_e 14 µm" {
 			t.Errorf("%v: %q", params, got)
 		}
 	}

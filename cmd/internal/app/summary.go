@@ -1115,15 +1115,14 @@ func shortName(name, long string) string {
 	return name
 }
 
-// paramText is the key-parameter line of the picture titles.
+// paramText is the key-parameter line of the curve pictures (drizzle probability
+// and susceptibilities): the onset model and the gamma shape. The autoconversion
+// scheme is left out: neither curve depends on it.
 func (st *summaryState) paramText() string {
 	if st.mixed {
 		return "inputs processed with different parameters"
 	}
 	var parts []string
-	if a := st.params["autoconversion"]; a != "" {
-		parts = append(parts, a+" autoconversion")
-	}
 	if v, unit, _ := strings.Cut(st.params["onset_radius"], " "); unit == "um" { // as --onset-radius
 		if r, err := strconv.ParseFloat(v, 64); err == nil {
 			wv, _, _ := strings.Cut(st.params["onset_width"], " ")
