@@ -227,7 +227,7 @@ var ParamDecls = []ParamDecl{
 		Literature: "0.7-0.9 over the subtropical oceans (from memory)",
 		Get:        func(p *Params) float64 { return p.SurfaceRH }, Set: func(p *Params, v float64) { p.SurfaceRH = v }},
 	{Name: "drizzle_mean_radius", Option: "drizzle-mean-radius", Unit: "um", Scale: 1e6, Min: 21, Max: 200,
-		Help: "mean radius of the drizzle drops leaving cloud base (size distribution of the surface drizzle; above --drizzle-min-radius)", Source: "Wood (2005, Part I; from memory); size fixed after vanZanten et al. (2005)",
+		Help: "mean radius of the drizzle drops above --drizzle-min-radius leaving cloud base (the size distribution that sets the surface drizzle)", Source: "Wood (2005, Part I; from memory); size fixed after vanZanten et al. (2005)",
 		Literature: "30-50 um at the base of marine Sc [Wood2005] (from memory)",
 		Get:        func(p *Params) float64 { return p.Drizzle.MeanRadius }, Set: func(p *Params, v float64) { p.Drizzle.MeanRadius = v }},
 	{Name: "drizzle_min_radius", Option: "drizzle-min-radius", Unit: "um", Scale: 1e6, Min: 0, Max: 100,

@@ -178,9 +178,10 @@ Data go to stdout or files; messages go to stderr.
 	      --surface-rh float                     surface relative humidity (0-1) when the input
 	                                             has none (with --subcloud-humidity surface-rh)
 	                                             (default 0.8)
-	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
-	                                             base (size distribution of the surface drizzle;
-	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops above
+	                                             --drizzle-min-radius leaving cloud base (the size
+	                                             distribution that sets the surface drizzle), µm
+	                                             (default 50)
 	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
 	                                             size distribution, µm (default 20)
 	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size
@@ -431,9 +432,10 @@ Data go to stdout or files; messages go to stderr.
 	      --surface-rh float                     surface relative humidity (0-1) when the input
 	                                             has none (with --subcloud-humidity surface-rh)
 	                                             (default 0.8)
-	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
-	                                             base (size distribution of the surface drizzle;
-	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops above
+	                                             --drizzle-min-radius leaving cloud base (the size
+	                                             distribution that sets the surface drizzle), µm
+	                                             (default 50)
 	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
 	                                             size distribution, µm (default 20)
 	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size
@@ -715,9 +717,10 @@ Data go to stdout or files; messages go to stderr.
 	      --surface-rh float                     surface relative humidity (0-1) when the input
 	                                             has none (with --subcloud-humidity surface-rh)
 	                                             (default 0.8)
-	      --drizzle-mean-radius float            mean radius of the drizzle drops leaving cloud
-	                                             base (size distribution of the surface drizzle;
-	                                             above --drizzle-min-radius), µm (default 50)
+	      --drizzle-mean-radius float            mean radius of the drizzle drops above
+	                                             --drizzle-min-radius leaving cloud base (the size
+	                                             distribution that sets the surface drizzle), µm
+	                                             (default 50)
 	      --drizzle-min-radius float             smallest drizzle drop radius of the cloud-base
 	                                             size distribution, µm (default 20)
 	      --drizzle-shape float                  gamma shape of the cloud-base drizzle size

@@ -13,11 +13,21 @@ import (
 // citeKey matches a citation key of microphys/references.go, e.g. [RosenfeldGutman1994].
 var citeKey = regexp.MustCompile(`\[([A-Z][A-Za-z]*?)(\d{4})\]`)
 
+// institutions are the citation keys of microphys/references.go whose "authors" are a
+// document's name, not people's.
+var institutions = map[string]string{
+	"CFStdNames": "CF standard-name table",
+	"USStdAtm":   "U.S. Standard Atmosphere",
+}
+
 // readable turns citation keys into author-year text: [RosenfeldGutman1994] ->
 // Rosenfeld & Gutman (1994).
 func readable(s string) string {
 	return citeKey.ReplaceAllStringFunc(s, func(k string) string {
 		m := citeKey.FindStringSubmatch(k)
+		if name, ok := institutions[m[1]]; ok {
+			return name + " (" + m[2] + ")"
+		}
 		names := regexp.MustCompile(`[A-Z][a-z]+`).FindAllString(m[1], -1)
 		return strings.Join(names, " & ") + " (" + m[2] + ")"
 	})
