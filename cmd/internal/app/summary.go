@@ -652,8 +652,8 @@ func (st *summaryState) addFile(e *env, f summaryFlags, accWindow summary.Window
 				cells *= (r.LatMax - r.LatMin + f.gridStep) / 180 * (w + f.gridStep) / 360
 			}
 			if need := cells * float64(len(st.mapNames)) * 145; need > 1<<30 {
-				fmt.Fprintf(e.stderr, "warmrain summary: --grid %g: the sums of %d diagnostics take about %.1f GB where columns cover the whole %s; memory grows with the cells that receive columns (a coarser --grid or a --region needs less)\n",
-					f.gridStep, len(st.mapNames), need/1e9, map[bool]string{true: "region", false: "globe"}[f.region != nil])
+				fmt.Fprintf(e.stderr, "warmrain summary: --grid %g: memory grows with the cells that receive columns; if columns covered the whole %s, the sums of %d diagnostics would take about %.1f GB (a coarser --grid or a --region needs less)\n",
+					f.gridStep, map[bool]string{true: "region", false: "globe"}[f.region != nil], len(st.mapNames), need/1e9)
 			}
 		}
 	} else if !st.mixed {
