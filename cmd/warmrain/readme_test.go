@@ -33,6 +33,12 @@ func readable(s string) string {
 	})
 }
 
+// mdText keeps a placeholder such as <name> visible in Markdown, where it would
+// be read as an HTML tag.
+func mdText(s string) string {
+	return strings.NewReplacer("<", "&lt;", ">", "&gt;").Replace(s)
+}
+
 // paramTable is README's parameter table, one row per option of microphys.ParamDecls.
 func paramTable() string {
 	var b strings.Builder
@@ -63,7 +69,7 @@ func paramTable() string {
 		if unit == "um" {
 			unit = "µm"
 		}
-		fmt.Fprintf(&b, "| `--%s` | %s | %s | %s | %s | %s | %s |\n", r.Option, def, unit, strings.Join(valid, "; "), r.Help, readable(r.Source), readable(r.Literature))
+		fmt.Fprintf(&b, "| `--%s` | %s | %s | %s | %s | %s | %s |\n", r.Option, def, unit, strings.Join(valid, "; "), mdText(r.Help), readable(r.Source), readable(r.Literature))
 	}
 	return b.String()
 }
