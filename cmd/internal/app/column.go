@@ -1135,7 +1135,7 @@ func (r *columnResult) writeText(w io.Writer) error {
 		tw.Flush()
 	}
 	if c := r.Collector; c != nil {
-		fmt.Fprintf(w, "\ncollector drop (CollectDirect): start radius %s um, updraft %s m s-1\n", num(c.StartRadius), num(c.Updraft))
+		fmt.Fprintf(w, "\ncollector drop (integrated directly): start radius %s um, updraft %s m s-1\n", num(c.StartRadius), num(c.Updraft))
 		fmt.Fprintln(w, "  (one drop's path, to explain the column; the mapped drizzle products are the cloud-base rate, intensity and probability and the surface rate and fraction)")
 		if r.Method != microphys.CollectorDirect.String() {
 			fmt.Fprintf(w, "  (--collector-method %s: the diagnostics come from the table, within 0.5 %% of this direct path)\n", r.Method)
@@ -1160,13 +1160,13 @@ func (r *columnResult) writeText(w io.Writer) error {
 		}
 	}
 	if dz := r.Drizzle; dz != nil {
-		fmt.Fprintf(w, "\nsurface drizzle (SurfaceDrizzleFraction): drizzle drops above %s um, mean radius %s um, gamma shape %s; %s per litre at cloud base carry %s mm day-1;\n",
+		fmt.Fprintf(w, "\nsurface drizzle (the cloud-base drop-size distribution carried down): drizzle drops above %s um, mean radius %s um, gamma shape %s; %s per litre at cloud base carry %s mm day-1;\n",
 			num(dz.MinRadius), num(dz.MeanRadius), num(dz.Shape), num(dz.Number), num(dz.BaseRate))
 		fmt.Fprintf(w, "  through the %s sub-cloud layer a fraction %s of that flux, %s mm day-1, reaches the surface\n",
 			dz.Humidity, num(dz.Fraction), num(dz.Rate))
 	}
 	if ev := r.Evaporation; ev != nil {
-		fmt.Fprintf(w, "\nsub-cloud fall of the single collector drop (EvaporateDirect): cloud base %s m above the surface, %s K, %s hPa; surface RH %s\n",
+		fmt.Fprintf(w, "\nsub-cloud fall of the single collector drop (integrated directly): cloud base %s m above the surface, %s K, %s hPa; surface RH %s\n",
 			num(ev.BaseHeight), num(ev.BaseT), num(ev.BaseP), num(ev.SurfaceRH))
 		if ev.Note != "" {
 			fmt.Fprintf(w, "  %s\n", ev.Note)

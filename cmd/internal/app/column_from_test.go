@@ -279,7 +279,7 @@ func TestColumnNoScreen(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	for _, want := range []string{"SCREENED  LWP at least --min-lwp 5 g m-2", "3 g m-2", "(--no-screen: screening thresholds switched off: --min-lwp 0",
-		"adiabatic profile:", "collector drop (CollectDirect)"} {
+		"adiabatic profile:", "collector drop (integrated directly)"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}

@@ -303,8 +303,8 @@ func TestColumnText(t *testing.T) {
 			t.Errorf("no line for %s", d.name)
 		}
 	}
-	for _, want := range []string{"adiabatic profile:", "collector drop (CollectDirect)", "sub-cloud fall of the single collector drop (EvaporateDirect)",
-		"surface drizzle (SurfaceDrizzleFraction)",
+	for _, want := range []string{"adiabatic profile:", "collector drop (integrated directly)", "sub-cloud fall of the single collector drop (integrated directly)",
+		"surface drizzle (the cloud-base drop-size distribution carried down)",
 		"parameters (as options):", "air_state_assumed", "QC bit air_state_assumed", "height above base (m)"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q", want)
