@@ -145,9 +145,6 @@ func Describe(path string) (*FileInfo, error) {
 	return fi, err
 }
 
-// isURL reports whether path is a URL (NCZarr, OPeNDAP) rather than a file name.
-func isURL(path string) bool { return strings.Contains(path, "://") }
-
 // checkReadable gives clear errors for missing, empty and unreadable files before
 // libnetcdf sees them.
 func checkReadable(path string) error {
@@ -315,4 +312,12 @@ func readAttrsIO(ncid, varid, n int) ([]Attr, error) {
 		out = append(out, a)
 	}
 	return out, nil
+}
+
+func dimsString(v *VarInfo) string {
+	parts := make([]string, len(v.Dims))
+	for i := range v.Dims {
+		parts[i] = fmt.Sprintf("%s=%d", v.Dims[i], v.Shape[i])
+	}
+	return "(" + strings.Join(parts, ", ") + ")"
 }

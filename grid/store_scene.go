@@ -60,13 +60,6 @@ func (v *VarInfo) setCacheIO(bytes, slots int, preemption float64) error {
 // Base is the variable's name without its group path.
 func (v *VarInfo) Base() string { return baseName(v.Name) }
 
-func baseName(name string) string {
-	if i := strings.LastIndexByte(name, '/'); i >= 0 {
-		return name[i+1:]
-	}
-	return name
-}
-
 // lookup finds a variable by name (see FileInfo.Var); more than one variable
 // of that plain name in different groups is reported as such.
 func (f *FileInfo) lookup(name string) (*VarInfo, []string) {
@@ -466,4 +459,19 @@ func hdf4ToCF(v *VarInfo, a Attr) Attr {
 	}
 	a.Value = convertTyped([]float64{cf}, a.Type)
 	return a
+}
+
+// readStoredRawIO reads a whole variable in its stored type (I/O thread).
+func readStoredRawIO(v *VarInfo) ([]uint64, error) {
+	n := v.Len()
+	buf := make([]uint64, rawWords(n, v.Type.Size()))
+	start := make([]uint64, len(v.Shape))
+	count := make([]uint64, len(v.Shape))
+	for i, s := range v.Shape {
+		count[i] = uint64(s)
+	}
+	if err := v.readIO(start, count, unsafe.Pointer(&buf[0])); err != nil {
+		return nil, varErr(err, v.File, v.Name, "read failed: %v", err)
+	}
+	return buf, nil
 }
