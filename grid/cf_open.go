@@ -123,7 +123,7 @@ type Input struct {
 
 	opt      OpenOptions
 	bindings [NumRoles]*Binding
-	ncid     int // root ncid of the first file when it is netCDF (see store.go for the others)
+	ncid     int // root ncid of the first file when it is netCDF (see store_scene.go for the others)
 	files    []*storeFile
 	open     bool
 }

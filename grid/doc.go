@@ -9,16 +9,16 @@
 // error-printing switch per OS thread (which makes libnetcdf 4.9.0 print
 // spurious HDF5-DIAG stacks from any thread but the first). Every libnetcdf call
 // of the package therefore runs on one goroutine locked to its OS thread
-// (thread.go), started lazily, which first calls H5Eset_auto2(H5E_DEFAULT, NULL,
+// (c_thread.go), started lazily, which first calls H5Eset_auto2(H5E_DEFAULT, NULL,
 // NULL). Work reaches it as closures on a channel. Real errors are still
-// returned as errors. The cgo gap fillers over libnetcdf (nc_lib.go) and the
+// returned as errors. The cgo gap fillers over libnetcdf (c_netcdf.go) and the
 // github.com/fhs/go-netcdf calls are only ever made from that thread. UDUNITS-2
-// calls (units.go) are serialised by a mutex.
+// calls (c_udunits.go) are serialised by a mutex.
 //
 // # Storage
 //
-// An input is a scene (store.go): one netCDF file with every group of it, an
-// HDF4 file read through the SD interface of libmfhdf (hdf4.go; loaded with
+// An input is a scene (store_scene.go): one netCDF file with every group of it, an
+// HDF4 file read through the SD interface of libmfhdf (c_hdf4.go; loaded with
 // dlopen apart from libnetcdf, whose symbols it shares, and called on the same
 // I/O thread), or several files of one scene joined with "+" (SceneFiles), whose
 // descriptions are merged into one FileInfo: dimensions of the same name and

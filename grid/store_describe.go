@@ -78,7 +78,7 @@ func (v *VarInfo) Len() int {
 }
 
 // FileInfo describes an input: one file, every group of it included, or a
-// scene of several files joined with "+" seen as one (see store.go).
+// scene of several files joined with "+" seen as one (see store_scene.go).
 // Path is the first (or only) file, Files every file of the scene in the order
 // given.
 type FileInfo struct {

@@ -14,7 +14,7 @@ import (
 // scene joined with "+" (one variable per file, as CMIP/CFMIP model output and
 // the separate granules of some level-2 products are written). Each file is a
 // netCDF file (every group of it), or an HDF4 file read through the SD interface
-// (hdf4.go). Each VarInfo carries its own source, so the rest of the package
+// (c_hdf4.go). Each VarInfo carries its own source, so the rest of the package
 // reads a variable the same way wherever it lives: v.readIO(start, count, buf).
 
 // varSource is where one variable's values live (used on the I/O thread only).
