@@ -3,6 +3,45 @@
 // no physics: it turns files into []float64 slabs in canonical SI units (NaN for
 // missing) and slabs of results into CF-compliant netCDF-4 outputs.
 //
+// # Layers
+//
+// The package is one Go package in four layers, named by the prefix of their
+// files; each layer calls only its own and lower layers.
+//
+//  0. Shared vocabulary, no prefix: doc.go, errors.go (sentinels, VarError),
+//     types.go (Type, Attr, typed values), names.go (group paths, URLs).
+//  1. Binding, c_*.go: the only cgo and the only github.com/fhs/go-netcdf calls
+//     of the package. c_thread.go is the I/O thread every library call runs on;
+//     c_netcdf.go fills go-netcdf's gaps over libnetcdf; c_hdf4.go reads HDF4 SD
+//     through libmfhdf; c_storage.go defines variable storage; c_udunits.go wraps
+//     UDUNITS-2 (Converter); c_direct_read.go and c_direct_write.go move HDF5
+//     chunks directly (doc/netcdf.md#direct-chunks); c_rawbuf.go holds the raw
+//     buffers the library calls read into and write from.
+//  2. Generic access, store_*.go: files as metadata and stored values, with no CF
+//     meaning. store_scene.go (one file, an HDF4 file or files joined with "+"),
+//     store_describe.go (FileInfo, VarInfo, Describe), store_generic.go (Reader,
+//     WriteDataset), store_dswriter.go (DatasetWriter), store_tempfile.go (whole
+//     outputs or none), store_cdfsize.go (truncated classic files),
+//     store_zarrcheck.go (NCZarr stores libnetcdf cannot read).
+//  3. CF interpretation, cf_*.go: what the metadata means. cf_roles.go (roles and
+//     their rule table), cf_open.go (Open: binding roles, layout), cf_decode.go
+//     (packing, fill, valid range, flags), cf_quality.go (masks), cf_shape.go
+//     (horizontal dimensions), cf_timeaxis.go and cf_calendar.go (time),
+//     cf_cellmethods.go (cell_methods).
+//  4. Pipeline, pipe_*.go: streaming an opened Input through compute into an
+//     Output. pipe_slab.go (slab plan, buffers, decoded reads), pipe_process.go
+//     (Process: three slabs in flight), pipe_memory.go (EstimateMemory),
+//     pipe_output.go (Create, Commit), pipe_point.go (single columns, samples).
+//
+// Only binding files import "C" or go-netcdf; CF files reach the files through
+// the generic layer, using from the binding only the I/O thread and UDUNITS-2;
+// pipeline files leave the attributes CF interprets (units, _FillValue,
+// standard_name, flags, ...) to the CF layer and take decoders and units from it.
+// Types are shared across layers (the binding's HDF4 reader fills a FileInfo, the
+// direct chunk I/O works on an Output); the rule is about calls. layers_test.go
+// enforces it with go/parser, listing the few calls that still go upward with
+// their reasons.
+//
 // # Threads
 //
 // libnetcdf is not thread-safe, and the HDF5 library under it keeps its

@@ -226,3 +226,27 @@ func TestLayerPipelineNoCF(t *testing.T) {
 		t.Errorf("%s: pipeline files leave CF attributes to the CF layer (cf_*.go)", x)
 	}
 }
+
+// TestLayerFileNames: every file has a layer prefix or is one of the shared files
+// listed here, and doc.go's "Layers" section names every non-test file, so a new
+// file is placed in a layer and documented there.
+func TestLayerFileNames(t *testing.T) {
+	shared := []string{"doc.go", "errors.go", "types.go", "names.go",
+		"helpers_test.go", "layers_test.go", "onecgo_test.go"}
+	doc, err := os.ReadFile("doc.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	names, err := filepath.Glob("*.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, n := range names {
+		if fileLayer(n) == 0 && !slices.Contains(shared, n) {
+			t.Errorf("%s has no layer prefix (c_, store_, cf_, pipe_): see doc.go, \"Layers\"", n)
+		}
+		if !strings.HasSuffix(n, "_test.go") && !strings.Contains(string(doc), n) {
+			t.Errorf("doc.go's \"Layers\" section does not name %s", n)
+		}
+	}
+}
