@@ -232,7 +232,7 @@ func TestLayerPipelineNoCF(t *testing.T) {
 // file is placed in a layer and documented there.
 func TestLayerFileNames(t *testing.T) {
 	shared := []string{"doc.go", "errors.go", "types.go", "names.go",
-		"helpers_test.go", "layers_test.go", "onecgo_test.go"}
+		"helpers_test.go", "layers_test.go", "onecgo_test.go", "race_on_test.go", "race_off_test.go"}
 	doc, err := os.ReadFile("doc.go")
 	if err != nil {
 		t.Fatal(err)
