@@ -3,22 +3,61 @@
 // no physics: it turns files into []float64 slabs in canonical SI units (NaN for
 // missing) and slabs of results into CF-compliant netCDF-4 outputs.
 //
+// # Layers
+//
+// The package is one Go package in four layers, named by the prefix of their
+// files; each layer calls only its own and lower layers.
+//
+//  0. Shared vocabulary, no prefix: doc.go, errors.go (sentinels, VarError),
+//     types.go (Type, Attr, typed values), names.go (group paths, URLs).
+//  1. Binding, c_*.go: the only cgo and the only github.com/fhs/go-netcdf calls
+//     of the package. c_thread.go is the I/O thread every library call runs on;
+//     c_netcdf.go fills go-netcdf's gaps over libnetcdf; c_hdf4.go reads HDF4 SD
+//     through libmfhdf; c_storage.go defines variable storage; c_udunits.go wraps
+//     UDUNITS-2 (Converter); c_direct_read.go and c_direct_write.go move HDF5
+//     chunks directly (doc/netcdf.md#direct-chunks); c_rawbuf.go holds the raw
+//     buffers the library calls read into and write from.
+//  2. Generic access, store_*.go: files as metadata and stored values, with no CF
+//     meaning. store_scene.go (one file, an HDF4 file or files joined with "+"),
+//     store_describe.go (FileInfo, VarInfo, Describe), store_generic.go (Reader,
+//     WriteDataset), store_dswriter.go (DatasetWriter), store_tempfile.go (whole
+//     outputs or none), store_cdfsize.go (truncated classic files),
+//     store_zarrcheck.go (NCZarr stores libnetcdf cannot read).
+//  3. CF interpretation, cf_*.go: what the metadata means. cf_roles.go (roles and
+//     their rule table), cf_open.go (Open: binding roles, layout), cf_decode.go
+//     (packing, fill, valid range, flags), cf_quality.go (masks), cf_shape.go
+//     (horizontal dimensions), cf_timeaxis.go and cf_calendar.go (time),
+//     cf_cellmethods.go (cell_methods).
+//  4. Pipeline, pipe_*.go: streaming an opened Input through compute into an
+//     Output. pipe_slab.go (slab plan, buffers, decoded reads), pipe_process.go
+//     (Process: three slabs in flight), pipe_memory.go (EstimateMemory),
+//     pipe_output.go (Create, Commit), pipe_point.go (single columns, samples).
+//
+// Only binding files import "C" or go-netcdf; CF files reach the files through
+// the generic layer, using from the binding only the I/O thread and UDUNITS-2;
+// pipeline files leave the attributes CF interprets (units, _FillValue,
+// standard_name, flags, ...) to the CF layer and take decoders and units from it.
+// Types are shared across layers (the binding's HDF4 reader fills a FileInfo, the
+// direct chunk I/O works on an Output); the rule is about calls. layers_test.go
+// enforces it with go/parser, listing the few calls that still go upward with
+// their reasons.
+//
 // # Threads
 //
 // libnetcdf is not thread-safe, and the HDF5 library under it keeps its
 // error-printing switch per OS thread (which makes libnetcdf 4.9.0 print
 // spurious HDF5-DIAG stacks from any thread but the first). Every libnetcdf call
 // of the package therefore runs on one goroutine locked to its OS thread
-// (thread.go), started lazily, which first calls H5Eset_auto2(H5E_DEFAULT, NULL,
+// (c_thread.go), started lazily, which first calls H5Eset_auto2(H5E_DEFAULT, NULL,
 // NULL). Work reaches it as closures on a channel. Real errors are still
-// returned as errors. The cgo gap fillers over libnetcdf (nc_lib.go) and the
+// returned as errors. The cgo gap fillers over libnetcdf (c_netcdf.go) and the
 // github.com/fhs/go-netcdf calls are only ever made from that thread. UDUNITS-2
-// calls (units.go) are serialised by a mutex.
+// calls (c_udunits.go) are serialised by a mutex.
 //
 // # Storage
 //
-// An input is a scene (store.go): one netCDF file with every group of it, an
-// HDF4 file read through the SD interface of libmfhdf (hdf4.go; loaded with
+// An input is a scene (store_scene.go): one netCDF file with every group of it, an
+// HDF4 file read through the SD interface of libmfhdf (c_hdf4.go; loaded with
 // dlopen apart from libnetcdf, whose symbols it shares, and called on the same
 // I/O thread), or several files of one scene joined with "+" (SceneFiles), whose
 // descriptions are merged into one FileInfo: dimensions of the same name and

@@ -3,6 +3,7 @@ package grid
 import (
 	"errors"
 	"fmt"
+	"syscall"
 )
 
 // Sentinel errors. Every error returned by this package wraps one of them (or an
@@ -62,4 +63,35 @@ func errOverride(format string, args ...any) error {
 // errUnits is a problem with units as written in a file or an option; it wraps ErrUnits.
 func errUnits(format string, args ...any) error {
 	return plainErr{fmt.Sprintf(format, args...), ErrUnits}
+}
+
+// diskFullMargin: a failed write with less free space than this in the output's
+// file system is reported as a full disk (libnetcdf and HDF5 report ENOSPC only
+// as "HDF error"; one slab write of one variable is at most a few 4 MiB chunks).
+const diskFullMargin = 16 << 20
+
+// noSpace adds "no space left on device" (and wraps syscall.ENOSPC) to a write
+// error of an output in folder dir when that file system is (nearly) full. Call
+// it before Abort, while the temporary file still holds its space.
+func noSpace(e *VarError, dir string) error {
+	var st syscall.Statfs_t
+	if syscall.Statfs(dir, &st) != nil {
+		return e
+	}
+	free := uint64(st.Bavail) * uint64(st.Bsize)
+	if free >= diskFullMargin {
+		return e
+	}
+	e.Problem += fmt.Sprintf("; no space left on device: the file system of %s has %d bytes free; expected room for the whole output", dir, free)
+	e.Err = errors.Join(e.Err, syscall.ENOSPC)
+	return e
+}
+
+func firstErr(errs ...error) error {
+	for _, e := range errs {
+		if e != nil {
+			return e
+		}
+	}
+	return nil
 }

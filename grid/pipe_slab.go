@@ -287,10 +287,6 @@ func newRawBuf(in *Input, p *slabPlan) *inBuf {
 	return s
 }
 
-// rawWords is the length of a []uint64 holding n values of size bytes (one spare
-// word so that &buf[0] is valid for n = 0).
-func rawWords(n, size int) int { return (n*size+7)/8 + 1 }
-
 func (s *inBuf) setPos(p *slabPlan, index, lead, y0, ny, x0, nx int) {
 	s.lead, s.y0, s.ny, s.x0, s.nx = lead, y0, ny, x0, nx
 	p.setStart(s.start, s.count, lead, y0, ny, x0, nx)
@@ -413,15 +409,6 @@ func (in *Input) Stats() ([]VarStats, error) {
 	return out, nil
 }
 
-func firstErr(errs ...error) error {
-	for _, e := range errs {
-		if e != nil {
-			return e
-		}
-	}
-	return nil
-}
-
 // String formats the statistics on one line.
 func (s VarStats) String() string {
 	return fmt.Sprintf("%s (%s): min %.4g max %.4g mean %.4g %s, %.1f%% missing", s.Role, s.Var, s.Min, s.Max, s.Mean, s.Units, 100*s.FillFraction)
@@ -443,4 +430,22 @@ func (in *Input) SlabInfo(nOut int) SlabInfo {
 	}
 	p := newPlan(in, types, in.opt.SlabBytes)
 	return SlabInfo{Rows: p.ry, Slabs: p.count, ChunkRows: p.cy, Columns: p.maxN}
+}
+
+// QualityStats reads the input once and counts what the masks and flag codes
+// remove (for inspect).
+func (in *Input) QualityStats() (QualityCounts, error) {
+	var c QualityCounts
+	p := newPlan(in, nil, in.opt.SlabBytes)
+	buf := newInBuf(in, p)
+	defer buf.release()
+	var err error
+	if e := onIO(func() { err = in.setInputCachesIO(p) }); e != nil || err != nil {
+		return c, firstErr(e, err)
+	}
+	err = in.eachDecoded(p, buf, func(int, int, int, int, int) error {
+		in.Count(&buf.slab, 0, buf.slab.N, &c)
+		return nil
+	})
+	return c, err
 }

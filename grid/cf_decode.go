@@ -485,3 +485,9 @@ func isMissing(v float64, m []float64) bool {
 	}
 	return false
 }
+
+// storedUnitsDecoder decodes a variable's packing, fill and missing values but keeps
+// its own units (no conversion), for reads of coordinates and generic values.
+func storedUnitsDecoder(file string, v *VarInfo) (*Decoder, error) {
+	return NewDecoder(file, v, Converter{From: v.Text("units"), To: v.Text("units"), Factor: 1})
+}

@@ -4,7 +4,7 @@ package grid
 // (dimension listing, chunking, chunk cache, fill, format, quantize, untyped
 // reads and writes, NC_CHAR/NC_STRING attributes, abort/sync). They share the
 // ncids of go-netcdf because the process loads one libnetcdf. Every function here
-// must run on the I/O thread (see thread.go).
+// must run on the I/O thread (see c_thread.go).
 
 // #cgo pkg-config: netcdf
 // #include <stdlib.h>

@@ -104,7 +104,7 @@ func (r *Reader) Read(name string, start, count []int) (data []float64, dims []D
 		st[i], ct[i] = uint64(start[i]), uint64(count[i])
 		n *= count[i]
 	}
-	dec, err := NewDecoder(r.path, v, Converter{From: v.Text("units"), To: v.Text("units"), Factor: 1})
+	dec, err := storedUnitsDecoder(r.path, v)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -450,4 +450,39 @@ func datasetMode(ds *Dataset) int {
 		}
 	}
 	return modeNetCDF4Classic
+}
+
+// putAttrConverted copies an attribute into a classic-model file: NC_STRING
+// becomes NC_CHAR, unsupported integer types become the next wider classic type,
+// and _FillValue, missing_value and valid_* follow the variable's type vt.
+func putAttrConverted(ncid, varid int, a Attr, vt Type) error {
+	if s, ok := a.Text(); ok {
+		return ncPutAtt(ncid, varid, a.Name, Char, s)
+	}
+	t, _ := classicType(a.Type)
+	switch a.Name {
+	case "_FillValue", "missing_value", "valid_min", "valid_max", "valid_range", "flag_values", "flag_masks":
+		if vt != 0 && vt.Numeric() {
+			t = vt
+		}
+	}
+	if typedLen(a.Value) == 0 {
+		return nil
+	}
+	return ncPutAtt(ncid, varid, a.Name, t, a.Value)
+}
+
+// classicType maps a type to one allowed in the netCDF-4 classic model.
+func classicType(t Type) (Type, bool) {
+	switch t {
+	case Ubyte:
+		return Short, true
+	case Ushort:
+		return Int, true
+	case Uint, Int64, Uint64:
+		return Double, true
+	case String:
+		return 0, false
+	}
+	return t, true
 }

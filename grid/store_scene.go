@@ -14,7 +14,7 @@ import (
 // scene joined with "+" (one variable per file, as CMIP/CFMIP model output and
 // the separate granules of some level-2 products are written). Each file is a
 // netCDF file (every group of it), or an HDF4 file read through the SD interface
-// (hdf4.go). Each VarInfo carries its own source, so the rest of the package
+// (c_hdf4.go). Each VarInfo carries its own source, so the rest of the package
 // reads a variable the same way wherever it lives: v.readIO(start, count, buf).
 
 // varSource is where one variable's values live (used on the I/O thread only).
@@ -59,13 +59,6 @@ func (v *VarInfo) setCacheIO(bytes, slots int, preemption float64) error {
 
 // Base is the variable's name without its group path.
 func (v *VarInfo) Base() string { return baseName(v.Name) }
-
-func baseName(name string) string {
-	if i := strings.LastIndexByte(name, '/'); i >= 0 {
-		return name[i+1:]
-	}
-	return name
-}
 
 // lookup finds a variable by name (see FileInfo.Var); more than one variable
 // of that plain name in different groups is reported as such.
@@ -466,4 +459,19 @@ func hdf4ToCF(v *VarInfo, a Attr) Attr {
 	}
 	a.Value = convertTyped([]float64{cf}, a.Type)
 	return a
+}
+
+// readStoredRawIO reads a whole variable in its stored type (I/O thread).
+func readStoredRawIO(v *VarInfo) ([]uint64, error) {
+	n := v.Len()
+	buf := make([]uint64, rawWords(n, v.Type.Size()))
+	start := make([]uint64, len(v.Shape))
+	count := make([]uint64, len(v.Shape))
+	for i, s := range v.Shape {
+		count[i] = uint64(s)
+	}
+	if err := v.readIO(start, count, unsafe.Pointer(&buf[0])); err != nil {
+		return nil, varErr(err, v.File, v.Name, "read failed: %v", err)
+	}
+	return buf, nil
 }

@@ -371,21 +371,3 @@ func (in *Input) Lines(c *QualityCounts) []string {
 	}
 	return out
 }
-
-// QualityStats reads the input once and counts what the masks and flag codes
-// remove (for inspect).
-func (in *Input) QualityStats() (QualityCounts, error) {
-	var c QualityCounts
-	p := newPlan(in, nil, in.opt.SlabBytes)
-	buf := newInBuf(in, p)
-	defer buf.release()
-	var err error
-	if e := onIO(func() { err = in.setInputCachesIO(p) }); e != nil || err != nil {
-		return c, firstErr(e, err)
-	}
-	err = in.eachDecoded(p, buf, func(int, int, int, int, int) error {
-		in.Count(&buf.slab, 0, buf.slab.N, &c)
-		return nil
-	})
-	return c, err
-}

@@ -6,7 +6,7 @@ package grid
 // closes it; the new variables' chunks are then filtered by the Go workers
 // (quantization, byte shuffle, zlib deflate by libdeflate) and the I/O thread
 // only stores the finished bytes with HDF5's H5Dwrite_chunk into the same
-// temporary file. Every HDF5 call runs on the I/O thread (thread.go).
+// temporary file. Every HDF5 call runs on the I/O thread (c_thread.go).
 
 // #cgo pkg-config: hdf5 libdeflate
 // #cgo LDFLAGS: -lm -lz

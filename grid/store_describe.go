@@ -78,7 +78,7 @@ func (v *VarInfo) Len() int {
 }
 
 // FileInfo describes an input: one file, every group of it included, or a
-// scene of several files joined with "+" seen as one (see store.go).
+// scene of several files joined with "+" seen as one (see store_scene.go).
 // Path is the first (or only) file, Files every file of the scene in the order
 // given.
 type FileInfo struct {
@@ -144,9 +144,6 @@ func Describe(path string) (*FileInfo, error) {
 	}
 	return fi, err
 }
-
-// isURL reports whether path is a URL (NCZarr, OPeNDAP) rather than a file name.
-func isURL(path string) bool { return strings.Contains(path, "://") }
 
 // checkReadable gives clear errors for missing, empty and unreadable files before
 // libnetcdf sees them.
@@ -315,4 +312,12 @@ func readAttrsIO(ncid, varid, n int) ([]Attr, error) {
 		out = append(out, a)
 	}
 	return out, nil
+}
+
+func dimsString(v *VarInfo) string {
+	parts := make([]string, len(v.Dims))
+	for i := range v.Dims {
+		parts[i] = fmt.Sprintf("%s=%d", v.Dims[i], v.Shape[i])
+	}
+	return "(" + strings.Join(parts, ", ") + ")"
 }

@@ -70,60 +70,6 @@ type slabSet struct {
 	arena []uint64
 }
 
-// bufPool keeps the buffers of finished runs for the next one, so that a process
-// handling many files reuses them instead of allocating new ones while the old
-// ones wait for the garbage collector (whose heap target would then be about
-// twice the buffers). It holds at most poolLimit bytes.
-var bufPool struct {
-	sync.Mutex
-	raw   [][]uint64
-	f     [][]float64
-	bytes int
-}
-
-const poolLimit = 128 << 20
-
-func getRaw(n int) []uint64  { return poolGet(&bufPool.raw, n) }
-func getF64(n int) []float64 { return poolGet(&bufPool.f, n) }
-func putRaw(b []uint64)      { poolPut(&bufPool.raw, b) }
-func putF64(b []float64)     { poolPut(&bufPool.f, b) }
-
-// poolGet returns the smallest pooled buffer holding n values (resliced to n), or
-// a new one.
-func poolGet[T uint64 | float64](list *[][]T, n int) []T {
-	bufPool.Lock()
-	defer bufPool.Unlock()
-	best := -1
-	for i, b := range *list {
-		if cap(b) >= n && (best < 0 || cap(b) < cap((*list)[best])) {
-			best = i
-		}
-	}
-	if best < 0 {
-		return make([]T, n)
-	}
-	b := (*list)[best]
-	last := len(*list) - 1
-	(*list)[best] = (*list)[last]
-	(*list)[last] = nil
-	*list = (*list)[:last]
-	bufPool.bytes -= 8 * cap(b)
-	return b[:n]
-}
-
-func poolPut[T uint64 | float64](list *[][]T, b []T) {
-	if cap(b) == 0 {
-		return
-	}
-	bufPool.Lock()
-	defer bufPool.Unlock()
-	if bufPool.bytes+8*cap(b) > poolLimit {
-		return
-	}
-	*list = append(*list, b)
-	bufPool.bytes += 8 * cap(b)
-}
-
 // release gives the raw buffers of s back to the pool.
 func (s *inBuf) release() {
 	for i := range s.raw {
@@ -440,8 +386,3 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 }
 
 var errStop = errors.New("stop")
-
-// arenaBytes views a pooled buffer as bytes.
-func arenaBytes(a []uint64) []byte {
-	return unsafe.Slice((*byte)(unsafe.Pointer(&a[0])), 8*len(a))
-}

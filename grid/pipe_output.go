@@ -8,7 +8,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
-	"syscall"
+
 	"time"
 	"unsafe"
 )
@@ -210,28 +210,6 @@ func Create(path string, in *Input, vars []OutputVar, opt WriteOptions) (*Output
 	return o, nil
 }
 
-// diskFullMargin: a failed write with less free space than this in the output's
-// file system is reported as a full disk (libnetcdf and HDF5 report ENOSPC only
-// as "HDF error"; one slab write of one variable is at most a few 4 MiB chunks).
-const diskFullMargin = 16 << 20
-
-// noSpace adds "no space left on device" (and wraps syscall.ENOSPC) to a write
-// error of an output in folder dir when that file system is (nearly) full. Call
-// it before Abort, while the temporary file still holds its space.
-func noSpace(e *VarError, dir string) error {
-	var st syscall.Statfs_t
-	if syscall.Statfs(dir, &st) != nil {
-		return e
-	}
-	free := uint64(st.Bavail) * uint64(st.Bsize)
-	if free >= diskFullMargin {
-		return e
-	}
-	e.Problem += fmt.Sprintf("; no space left on device: the file system of %s has %d bytes free; expected room for the whole output", dir, free)
-	e.Err = errors.Join(e.Err, syscall.ENOSPC)
-	return e
-}
-
 func checkNotInput(path string, in *Input) error {
 	files := []string{in.Path}
 	if in.Info != nil && len(in.Info.Files) > 0 {
@@ -287,21 +265,6 @@ func checkVars(path string, in *Input, vars []OutputVar, opt WriteOptions) error
 		seen[v.Name] = true
 	}
 	return nil
-}
-
-// classicType maps a type to one allowed in the netCDF-4 classic model.
-func classicType(t Type) (Type, bool) {
-	switch t {
-	case Ubyte:
-		return Short, true
-	case Ushort:
-		return Int, true
-	case Uint, Int64, Uint64:
-		return Double, true
-	case String:
-		return 0, false
-	}
-	return t, true
 }
 
 // defineIO runs on the I/O thread.
@@ -686,26 +649,6 @@ func (o *Output) putVarAttrs(id int, v OutputVar, t Type, lwp *VarInfo) error {
 		}
 	}
 	return nil
-}
-
-// putAttrConverted copies an attribute into a classic-model file: NC_STRING
-// becomes NC_CHAR, unsupported integer types become the next wider classic type,
-// and _FillValue, missing_value and valid_* follow the variable's type vt.
-func putAttrConverted(ncid, varid int, a Attr, vt Type) error {
-	if s, ok := a.Text(); ok {
-		return ncPutAtt(ncid, varid, a.Name, Char, s)
-	}
-	t, _ := classicType(a.Type)
-	switch a.Name {
-	case "_FillValue", "missing_value", "valid_min", "valid_max", "valid_range", "flag_values", "flag_masks":
-		if vt != 0 && vt.Numeric() {
-			t = vt
-		}
-	}
-	if typedLen(a.Value) == 0 {
-		return nil
-	}
-	return ncPutAtt(ncid, varid, a.Name, t, a.Value)
 }
 
 // copyDataIO copies a variable's data in blocks of at most 16 MiB (I/O thread).

@@ -101,7 +101,7 @@ func (in *Input) Nearest(lat, lon float64) (Place, error) {
 	}
 	read := func(name string) ([]float64, error) {
 		v := in.Info.Var(name)
-		dec, err := NewDecoder(in.Path, v, Converter{From: v.Text("units"), To: v.Text("units"), Factor: 1})
+		dec, err := storedUnitsDecoder(in.Path, v)
 		if err != nil {
 			return nil, err
 		}
@@ -178,21 +178,6 @@ func (in *Input) Nearest(lat, lon float64) (Place, error) {
 func lonGap(a, b float64) float64 {
 	d := math.Mod(math.Abs(a-b), 360)
 	return math.Min(d, 360-d)
-}
-
-// readStoredRawIO reads a whole variable in its stored type (I/O thread).
-func readStoredRawIO(v *VarInfo) ([]uint64, error) {
-	n := v.Len()
-	buf := make([]uint64, rawWords(n, v.Type.Size()))
-	start := make([]uint64, len(v.Shape))
-	count := make([]uint64, len(v.Shape))
-	for i, s := range v.Shape {
-		count[i] = uint64(s)
-	}
-	if err := v.readIO(start, count, unsafe.Pointer(&buf[0])); err != nil {
-		return nil, varErr(err, v.File, v.Name, "read failed: %v", err)
-	}
-	return buf, nil
 }
 
 // Stored returns what a CF reader gets back from an output file for the value x written

@@ -139,7 +139,7 @@ func (w *DatasetWriter) Put(name string, start, count []int, data []float64) err
 	return werr
 }
 
-// Commit closes the file, syncs it and moves it into place (grid/tempfile.go's
+// Commit closes the file, syncs it and moves it into place (grid/store_tempfile.go's
 // commitTemp, the second half of WriteAtomic).
 func (w *DatasetWriter) Commit() error {
 	if w.done {

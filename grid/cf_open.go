@@ -6,7 +6,6 @@ import (
 	"math"
 	"slices"
 	"strings"
-	"unsafe"
 )
 
 // OpenOptions configure Open.
@@ -124,7 +123,7 @@ type Input struct {
 
 	opt      OpenOptions
 	bindings [NumRoles]*Binding
-	ncid     int // root ncid of the first file when it is netCDF (see store.go for the others)
+	ncid     int // root ncid of the first file when it is netCDF (see store_scene.go for the others)
 	files    []*storeFile
 	open     bool
 }
@@ -836,14 +835,6 @@ func (in *Input) byName(rule RoleRule, list []string, what string, bound map[str
 	return nil
 }
 
-func dimsString(v *VarInfo) string {
-	parts := make([]string, len(v.Dims))
-	for i := range v.Dims {
-		parts[i] = fmt.Sprintf("%s=%d", v.Dims[i], v.Shape[i])
-	}
-	return "(" + strings.Join(parts, ", ") + ")"
-}
-
 var roleLabel = map[Role]string{RoleLWP: "LWP", RoleRe: "r_e", RoleTau: "tau", RoleCTT: "CTT", RoleCTP: "CTP", RoleCTH: "CTH",
 	RoleCloudFraction: "cloud fraction", RoleLWPSD: "LWP standard deviation", RoleNd: "the droplet number", RolePhase: "the phase flag",
 	RoleMultilayer: "the multi-layer flag", RoleLWPSE: "the LWP's standard error", RoleReSE: "r_e's standard error",
@@ -991,13 +982,6 @@ func (in *Input) readAllIO(v *VarInfo) ([]float64, error) {
 		return nil, varErr(ErrLayout, in.Path, v.Name, "has type %s; expected numbers", v.Type)
 	}
 	return readStoredIO(v)
-}
-
-func copyRawTo(dst any, src unsafe.Pointer, nbytes int) {
-	if nbytes == 0 {
-		return
-	}
-	copy(unsafe.Slice((*byte)(typedPtr(dst)), nbytes), unsafe.Slice((*byte)(src), nbytes))
 }
 
 // checkMonotonicIO requires a 1-D coordinate variable to be strictly monotonic with
