@@ -810,9 +810,8 @@ Data go to stdout or files; messages go to stderr.
 
 	(VARIABLE is "global" for global attributes; SEVERITY is error, warning or
 	info). Standard names are checked against the CF standard name table (XML,
-	gzipped or not): --table, else $WARMRAIN_CF_TABLE, else
-	../shared/cf/cf-standard-name-table-v83.xml.gz beside the module root;
-	without a table they are not checked and an info line says so. --ours applies
+	gzipped or not; download it from the CF conventions site, cfconventions.org):
+	--table, else $WARMRAIN_CF_TABLE; without a table they are not checked and an info line says so. --ours applies
 	the rules for warmrain's own outputs (Conventions must also name ACDD-1.3;
 	history lines must start with a UTC time).
 

@@ -33,8 +33,8 @@ var (
 	tableErr  error
 )
 
-// needTable loads the CF standard name table v83 from $WARMRAIN_CF_TABLE or
-// ../shared/cf next to the module; it is never part of the project.
+// needTable loads the CF standard name table v83 from $WARMRAIN_CF_TABLE (CI
+// provides it); it is never part of the project.
 func needTable(t *testing.T) *Table {
 	t.Helper()
 	tableOnce.Do(func() {

@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 	"strings"
 )
 
@@ -90,32 +89,15 @@ func LoadTable(path string) (*Table, error) {
 var ErrNoTable = errors.New("cflint: no CF standard name table found")
 
 // FindTable returns the path of the standard name table: the file named by
-// $WARMRAIN_CF_TABLE if set, otherwise ../shared/cf/TableFile next to the
-// module root (the folder holding go.mod) found upwards from the working
-// directory. The project never ships the table itself.
+// $WARMRAIN_CF_TABLE. The project never ships the table itself; users download it
+// from the CF conventions site and point the variable (or lint's --table) at it.
 func FindTable() (string, error) {
-	if p := os.Getenv(EnvTable); p != "" {
-		if _, err := os.Stat(p); err != nil {
-			return "", fmt.Errorf("%w: $%s: %v", ErrNoTable, EnvTable, err)
-		}
-		return p, nil
+	p := os.Getenv(EnvTable)
+	if p == "" {
+		return "", fmt.Errorf("%w: set $%s to the table's path (XML, gzipped or not)", ErrNoTable, EnvTable)
 	}
-	dir, err := os.Getwd()
-	if err != nil {
-		return "", fmt.Errorf("%w: %v", ErrNoTable, err)
+	if _, err := os.Stat(p); err != nil {
+		return "", fmt.Errorf("%w: $%s: %v", ErrNoTable, EnvTable, err)
 	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			p := filepath.Join(dir, "..", "shared", "cf", TableFile)
-			if _, err := os.Stat(p); err != nil {
-				return "", fmt.Errorf("%w: %s absent (set $%s)", ErrNoTable, p, EnvTable)
-			}
-			return filepath.Clean(p), nil
-		}
-		up := filepath.Dir(dir)
-		if up == dir {
-			return "", fmt.Errorf("%w: no go.mod above the working directory (set $%s)", ErrNoTable, EnvTable)
-		}
-		dir = up
-	}
+	return p, nil
 }

@@ -19,9 +19,8 @@ units, Conventions and history) and prints one finding a line:
 
 (VARIABLE is "global" for global attributes; SEVERITY is error, warning or
 info). Standard names are checked against the CF standard name table (XML,
-gzipped or not): --table, else $WARMRAIN_CF_TABLE, else
-../shared/cf/` + cflint.TableFile + ` beside the module root;
-without a table they are not checked and an info line says so. --ours applies
+gzipped or not; download it from the CF conventions site, cfconventions.org):
+--table, else $WARMRAIN_CF_TABLE; without a table they are not checked and an info line says so. --ours applies
 the rules for warmrain's own outputs (Conventions must also name ACDD-1.3;
 history lines must start with a UTC time).
 
