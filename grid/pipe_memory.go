@@ -49,15 +49,7 @@ func (in *Input) EstimateMemory(vars []OutputVar, slabBytes int) MemoryEstimate 
 		outTypes[k] = v.Type.nc()
 	}
 	p := newPlan(in, outTypes, slabBytes)
-	perCol := 0
-	for _, b := range in.bindings {
-		if b != nil {
-			perCol += 8 + b.Type.Size()
-		}
-	}
-	for _, t := range outTypes {
-		perCol += 8 + t.Size()
-	}
+	perCol := in.bytesPerColumn(outTypes)
 	m := MemoryEstimate{Base: memBase, Slabs: 3 * int64(p.maxN) * int64(perCol)}
 	for _, b := range in.bindings {
 		if b == nil || b.Chunks == nil {

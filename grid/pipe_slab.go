@@ -62,15 +62,7 @@ func newPlan(in *Input, outTypes []Type, budget int) *slabPlan {
 			p.lead = append(p.lead, d.Len)
 		}
 	}
-	perCol := 0
-	for _, b := range in.bindings {
-		if b != nil {
-			perCol += 8 + b.Type.Size()
-		}
-	}
-	for _, t := range outTypes {
-		perCol += 8 + t.Size()
-	}
+	perCol := in.bytesPerColumn(outTypes)
 	cols := max(1, budget/perCol) // columns per slab at most
 	lb := in.ref()
 	if lb.Chunks != nil {
@@ -448,4 +440,19 @@ func (in *Input) QualityStats() (QualityCounts, error) {
 		return nil
 	})
 	return c, err
+}
+
+// bytesPerColumn is the slab memory one column takes: each bound input in its
+// stored type plus its float64 copy, and each output in float64 and in its stored type.
+func (in *Input) bytesPerColumn(outTypes []Type) int {
+	n := 0
+	for _, b := range in.bindings {
+		if b != nil {
+			n += 8 + b.Type.Size()
+		}
+	}
+	for _, t := range outTypes {
+		n += 8 + t.Size()
+	}
+	return n
 }
