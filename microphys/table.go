@@ -637,6 +637,37 @@ func (g *nGrid) at1L3Q(x *[nDims]float64) float64 {
 	return acc
 }
 
+// at1L3QMid is at1L3Q for a threshold table of well-mixed layers at x[2] = evMixedU: axis 2
+// holds copies of one layer (evapTable.fill) and evMixedU falls on its middle node, where
+// quadTaps gives the weights (-0, 1, 0), so the middle tap alone is at1L3Q's value (the
+// other two add zeros; TestTableFastPaths checks equality). NaN outside, as at1L3Q.
+func (g *nGrid) at1L3QMid(x *[nDims]float64) float64 {
+	o0, n0, a0, a1 := g.linTaps(0, x[0])
+	if n0 == 0 {
+		return math.NaN()
+	}
+	var wb, wd [3]float64
+	ob, okb := g.quadTaps(1, x[1], &wb)
+	od, okd := g.quadTaps(3, x[3], &wd)
+	if !okb || !okd {
+		return math.NaN()
+	}
+	wa := [2]float64{a0, a1}
+	s0, s1 := g.stride[0], g.stride[1]
+	oq := ob + g.stride[2] + od // the middle node of axis 2
+	v := g.vals
+	acc := 0.0
+	for a := 0; a < n0; a++ {
+		o := o0 + a*s0 + oq
+		p0, p1, p2 := v[o:o+3:o+3], v[o+s1:o+s1+3:o+s1+3], v[o+2*s1:o+2*s1+3:o+2*s1+3]
+		r0 := wd[0]*float64(p0[0]) + wd[1]*float64(p0[1]) + wd[2]*float64(p0[2])
+		r1 := wd[0]*float64(p1[0]) + wd[1]*float64(p1[1]) + wd[2]*float64(p1[2])
+		r2 := wd[0]*float64(p2[0]) + wd[1]*float64(p2[1]) + wd[2]*float64(p2[2])
+		acc += wa[a] * (wb[0]*r0 + wb[1]*r1 + wb[2]*r2)
+	}
+	return acc
+}
+
 // at3L2Q is at for a grid with isLLLQQ (the value tables): the same taps and weights,
 // unrolled and contracted along the two curved axes first (as at1L3Q); equal to at to
 // rounding.
@@ -1063,9 +1094,12 @@ func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (k
 	lz := colLog(zb) // a table coordinate: absolute error logTol max(1, |ln z_b|)
 	x := [nDims]float64{ps, l.BaseT, u, lz}
 	var lrs float64
-	if t.thr.isLQQQ() {
+	switch {
+	case t.mixed && u == evMixedU && t.thr.isLQQQ() && t.thr.n[2] == 3:
+		lrs = t.thr.at1L3QMid(&x)
+	case t.thr.isLQQQ():
 		lrs = t.thr.at1L3Q(&x)
-	} else {
+	default:
 		lrs = t.thr.at(&x)
 	}
 	if math.IsNaN(lrs) {

@@ -374,6 +374,42 @@ func TestTableFastPaths(t *testing.T) {
 	}
 }
 
+// TestThresholdMid checks at1L3QMid, the threshold lookup of well-mixed layers on the
+// middle node of their placeholder humidity axis, against at1L3Q over the whole table and 10 %
+// beyond each end: equal values (derived: the two skipped taps have weight zero and hold
+// copies of the middle one, evapTable.fill), so that Column's outputs do not change.
+func TestThresholdMid(t *testing.T) {
+	t.Parallel()
+	m := defaultModel(t)
+	g := m.tab.evap.thr
+	if !m.tab.evap.mixed || !g.isLQQQ() || g.n[2] != 3 {
+		t.Fatal("the default threshold table is not one of well-mixed layers on 3 placeholder nodes")
+	}
+	rng := rand.New(rand.NewPCG(41, 42))
+	inside := 0
+	for i := 0; i < 50000; i++ {
+		var x [nDims]float64
+		for d := 0; d < g.dims; d++ {
+			hi := g.lo[d] + float64(g.n[d]-1)*g.step[d]
+			x[d] = g.lo[d] + (hi-g.lo[d])*(1.2*rng.Float64()-0.1)
+		}
+		if i%2 == 0 {
+			x[0] = m.p.SurfacePressure // on the middle node, as for columns without CTH
+		}
+		x[2] = evMixedU
+		got, want := g.at1L3QMid(&x), g.at1L3Q(&x)
+		if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Fatalf("at %v: %.17g, at1L3Q %.17g", x, got, want)
+		}
+		if !math.IsNaN(want) {
+			inside++
+		}
+	}
+	if inside < 10000 {
+		t.Errorf("only %d of 50000 points inside the table", inside)
+	}
+}
+
 // collDomainPoint is a uniformly drawn point of the collector table's whole domain
 // (collGrid: ln LWP, ln r_v, T, p). Invented points: a test sample.
 func collDomainPoint(rng *rand.Rand) [tabDims]float64 {
