@@ -106,6 +106,7 @@ func newPopTable() *popTable {
 		}
 		g.vals[i] = float32(math.Log(q))
 	}
+	g.widen()
 	return &popTable{g: g}
 }
 

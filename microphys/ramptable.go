@@ -121,6 +121,8 @@ func newRampTable(b float64) *rampTable {
 			}
 			hi.vals[i] = float32(v)
 		}
+		lo.widen()
+		hi.widen()
 		t.lo[k], t.hi[k] = lo, hi
 	}
 	return t

@@ -43,16 +43,49 @@ import "math"
 // and 6237 flux nodes (about 180000); see BenchmarkNewModel. The table cache
 // (cmd/internal/app/tablecache.go) keeps them.
 
-// tabGrid is a regular 4-D grid with, per node, tabVals values (float32, to keep the tables
-// small enough for the processor caches: about 0.5 MB for both) and one state byte (0 =
-// failed), interpolated with 2 taps (linear) or 4 taps (Catmull-Rom) per axis.
+// tabGrid is a regular 4-D grid with, per node, tabVals values (float32, to keep the saved
+// tables small: about 0.5 MB for both) and one state byte (0 = failed), interpolated with 2
+// taps (linear) or 4 taps (Catmull-Rom) per axis.
 type tabGrid struct {
 	lo, step, inv [tabDims]float64
 	n, stride     [tabDims]int
 	cubic         [tabDims]bool
 	vals          []float32 // node-major, tabVals per node
+	wide          []float64 // vals widened to float64 (widenF32), read by interpCC22
 	state         []uint8
 }
+
+// widenF32 returns v as float64 (exact). The unrolled interpolations read these copies of
+// the filled tables: the same values, without a conversion per tap (0.4 MB more for the
+// collector table, which stays within the second-level cache).
+func widenF32(v []float32) []float64 {
+	w := make([]float64, len(v))
+	for i, x := range v {
+		w[i] = float64(x)
+	}
+	return w
+}
+
+// widen sets the float64 copies of every grid of t, once its values are filled or read.
+func (t *collTable) widen() {
+	t.coll.wide = widenF32(t.coll.vals)
+	if t.evap != nil {
+		t.evap.widen()
+	}
+}
+
+// widen sets the float64 copies of the evaporation tables.
+func (t *evapTable) widen() {
+	for _, g := range []*nGrid{t.thr, t.reach, t.evap, t.flux} {
+		g.widen()
+	}
+}
+
+// widen sets g.wide from g.vals, once they are filled.
+func (g *nGrid) widen() { g.wide = widenF32(g.vals) }
+
+// widened reports whether g.wide holds g.vals (the unrolled lookups read it).
+func (g *nGrid) widened() bool { return len(g.wide) == len(g.vals) }
 
 const (
 	tabDims = 4
@@ -201,7 +234,7 @@ func (g *tabGrid) interp(s *tabStencil, acc *[tabVals]float64) uint8 {
 // isCC22 reports whether g has the collector table's layout: cubic axes 0 and 1, and two
 // nodes along each of the linear axes 2 and 3 (interpCC22).
 func (g *tabGrid) isCC22() bool {
-	return g.cubic[0] && g.cubic[1] && g.n[2] == 2 && g.n[3] == 2
+	return g.cubic[0] && g.cubic[1] && g.n[2] == 2 && g.n[3] == 2 && len(g.wide) == len(g.vals)
 }
 
 // interpCC22 is stencil and interp for a grid with isCC22 at x = (x0, x1, x2, x3): the same
@@ -252,7 +285,7 @@ func (g *tabGrid) interpCC22(x0, x1, x2, x3 float64, acc *[tabVals]float64) uint
 	w10, w11 := u2*(1-u3), u2*u3
 	rep := uint64(st) * 0x0101010101010101
 	nb := 4 * n1 // state bytes (nodes) of one a tap
-	vals, state := g.vals, g.state
+	vals, state := g.wide, g.state
 	for a := 0; a < n0; a++ {
 		oa := base + a*g.stride[0]
 		sa := state[oa : oa+nb]
@@ -267,8 +300,8 @@ func (g *tabGrid) interpCC22(x0, x1, x2, x3 float64, acc *[tabVals]float64) uint
 		r0, r1 := 0.0, 0.0
 		for b := 0; b < n1; b++ {
 			p := va[8*b : 8*b+8 : 8*b+8]
-			r0 += wb[b] * (w00*float64(p[0]) + w01*float64(p[2]) + w10*float64(p[4]) + w11*float64(p[6]))
-			r1 += wb[b] * (w00*float64(p[1]) + w01*float64(p[3]) + w10*float64(p[5]) + w11*float64(p[7]))
+			r0 += wb[b] * (w00*p[0] + w01*p[2] + w10*p[4] + w11*p[6])
+			r1 += wb[b] * (w00*p[1] + w01*p[3] + w10*p[5] + w11*p[7])
 		}
 		acc0 += wa[a] * r0
 		acc1 += wa[a] * r1
@@ -331,6 +364,7 @@ func buildCollTable(m *Model) *collTable {
 	if t.evap != nil {
 		t.evap.fill()
 	}
+	t.widen()
 	return t
 }
 
@@ -440,6 +474,7 @@ type nGrid struct {
 	n, stride     [nDims]int
 	cubic         [nDims]bool // curved axis: quadratic interpolation
 	vals          []float32
+	wide          []float64 // vals widened (widen), read by the unrolled lookups and popAt2
 }
 
 const nDims = 5
@@ -577,13 +612,13 @@ func (g *nGrid) linTaps(d int, xd float64) (off, nt int, w0, w1 float64) {
 // isLQQQ reports whether g has the threshold table's layout: four axes, the first linear and
 // the other three curved (at1L3Q).
 func (g *nGrid) isLQQQ() bool {
-	return g.dims == 4 && !g.cubic[0] && g.cubic[1] && g.cubic[2] && g.cubic[3]
+	return g.dims == 4 && !g.cubic[0] && g.cubic[1] && g.cubic[2] && g.cubic[3] && g.widened()
 }
 
 // isLLLQQ reports whether g has the value tables' layout: five axes, three linear and then two
 // curved (at3L2Q).
 func (g *nGrid) isLLLQQ() bool {
-	return g.dims == 5 && !g.cubic[0] && !g.cubic[1] && !g.cubic[2] && g.cubic[3] && g.cubic[4]
+	return g.dims == 5 && !g.cubic[0] && !g.cubic[1] && !g.cubic[2] && g.cubic[3] && g.cubic[4] && g.widened()
 }
 
 // quadTaps is axisTaps for curved axis d: the first tap's offset and the 3 quadratic weights;
@@ -620,16 +655,16 @@ func (g *nGrid) at1L3Q(x *[nDims]float64) float64 {
 	wb, wc, wd := &wq[1], &wq[2], &wq[3]
 	wa := [2]float64{a0, a1}
 	s0, s1, s2 := g.stride[0], g.stride[1], g.stride[2]
-	v := g.vals
+	v := g.wide
 	acc := 0.0
 	for a := 0; a < n0; a++ {
 		var sb [3]float64
 		for b := 0; b < 3; b++ {
 			o := o0 + a*s0 + b*s1 + oq
 			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
-			r0 := wd[0]*float64(p0[0]) + wd[1]*float64(p0[1]) + wd[2]*float64(p0[2])
-			r1 := wd[0]*float64(p1[0]) + wd[1]*float64(p1[1]) + wd[2]*float64(p1[2])
-			r2 := wd[0]*float64(p2[0]) + wd[1]*float64(p2[1]) + wd[2]*float64(p2[2])
+			r0 := wd[0]*p0[0] + wd[1]*p0[1] + wd[2]*p0[2]
+			r1 := wd[0]*p1[0] + wd[1]*p1[1] + wd[2]*p1[2]
+			r2 := wd[0]*p2[0] + wd[1]*p2[1] + wd[2]*p2[2]
 			sb[b] = wc[0]*r0 + wc[1]*r1 + wc[2]*r2
 		}
 		acc += wa[a] * (wb[0]*sb[0] + wb[1]*sb[1] + wb[2]*sb[2])
@@ -655,14 +690,14 @@ func (g *nGrid) at1L3QMid(x *[nDims]float64) float64 {
 	wa := [2]float64{a0, a1}
 	s0, s1 := g.stride[0], g.stride[1]
 	oq := ob + g.stride[2] + od // the middle node of axis 2
-	v := g.vals
+	v := g.wide
 	acc := 0.0
 	for a := 0; a < n0; a++ {
 		o := o0 + a*s0 + oq
 		p0, p1, p2 := v[o:o+3:o+3], v[o+s1:o+s1+3:o+s1+3], v[o+2*s1:o+2*s1+3:o+2*s1+3]
-		r0 := wd[0]*float64(p0[0]) + wd[1]*float64(p0[1]) + wd[2]*float64(p0[2])
-		r1 := wd[0]*float64(p1[0]) + wd[1]*float64(p1[1]) + wd[2]*float64(p1[2])
-		r2 := wd[0]*float64(p2[0]) + wd[1]*float64(p2[1]) + wd[2]*float64(p2[2])
+		r0 := wd[0]*p0[0] + wd[1]*p0[1] + wd[2]*p0[2]
+		r1 := wd[0]*p1[0] + wd[1]*p1[1] + wd[2]*p1[2]
+		r2 := wd[0]*p2[0] + wd[1]*p2[1] + wd[2]*p2[2]
 		acc += wa[a] * (wb[0]*r0 + wb[1]*r1 + wb[2]*r2)
 	}
 	return acc
@@ -690,7 +725,7 @@ func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
 	wd, we := &wq[3], &wq[4]
 	wa, wb, wc := [2]float64{a0, a1}, [2]float64{b0, b1}, [2]float64{c0, c1}
 	s0, s1, s2, s3 := g.stride[0], g.stride[1], g.stride[2], g.stride[3]
-	v := g.vals
+	v := g.wide
 	acc := 0.0
 	for a := 0; a < n0; a++ {
 		for b := 0; b < n1; b++ {
@@ -698,9 +733,9 @@ func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
 			for c := 0; c < n2; c++ {
 				o := o0 + a*s0 + o1 + b*s1 + o2 + c*s2 + oq
 				p0, p1, p2 := v[o:o+3:o+3], v[o+s3:o+s3+3:o+s3+3], v[o+2*s3:o+2*s3+3:o+2*s3+3]
-				r0 := we[0]*float64(p0[0]) + we[1]*float64(p0[1]) + we[2]*float64(p0[2])
-				r1 := we[0]*float64(p1[0]) + we[1]*float64(p1[1]) + we[2]*float64(p1[2])
-				r2 := we[0]*float64(p2[0]) + we[1]*float64(p2[1]) + we[2]*float64(p2[2])
+				r0 := we[0]*p0[0] + we[1]*p0[1] + we[2]*p0[2]
+				r1 := we[0]*p1[0] + we[1]*p1[1] + we[2]*p1[2]
+				r2 := we[0]*p2[0] + we[1]*p2[1] + we[2]*p2[2]
 				acc += wab * wc[c] * (wd[0]*r0 + wd[1]*r1 + wd[2]*r2)
 			}
 		}
@@ -711,7 +746,7 @@ func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
 // isLLQQ reports whether g has the flux table's layout: four axes, two linear and then two
 // curved (at2L2Q).
 func (g *nGrid) isLLQQ() bool {
-	return g.dims == 4 && !g.cubic[0] && !g.cubic[1] && g.cubic[2] && g.cubic[3]
+	return g.dims == 4 && !g.cubic[0] && !g.cubic[1] && g.cubic[2] && g.cubic[3] && g.widened()
 }
 
 // at2L2Q is at for a grid with isLLQQ (the flux table of well-mixed layers): the same taps
@@ -731,15 +766,15 @@ func (g *nGrid) at2L2Q(x *[nDims]float64) float64 {
 	}
 	wa, wb := [2]float64{a0, a1}, [2]float64{b0, b1}
 	s0, s1, s2 := g.stride[0], g.stride[1], g.stride[2]
-	v := g.vals
+	v := g.wide
 	acc := 0.0
 	for a := 0; a < n0; a++ {
 		for b := 0; b < n1; b++ {
 			o := o0 + a*s0 + o1 + b*s1 + oc + od
 			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
-			r0 := wd[0]*float64(p0[0]) + wd[1]*float64(p0[1]) + wd[2]*float64(p0[2])
-			r1 := wd[0]*float64(p1[0]) + wd[1]*float64(p1[1]) + wd[2]*float64(p1[2])
-			r2 := wd[0]*float64(p2[0]) + wd[1]*float64(p2[1]) + wd[2]*float64(p2[2])
+			r0 := wd[0]*p0[0] + wd[1]*p0[1] + wd[2]*p0[2]
+			r1 := wd[0]*p1[0] + wd[1]*p1[1] + wd[2]*p1[2]
+			r2 := wd[0]*p2[0] + wd[1]*p2[1] + wd[2]*p2[2]
 			acc += wa[a] * wb[b] * (wc[0]*r0 + wc[1]*r1 + wc[2]*r2)
 		}
 	}
@@ -889,6 +924,7 @@ func newEvapTable(p Params) *evapTable {
 func buildEvapTable(p Params) *evapTable {
 	t := newEvapTable(p)
 	t.fill()
+	t.widen()
 	return t
 }
 

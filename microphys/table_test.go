@@ -1,6 +1,7 @@
 package microphys
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -407,6 +408,40 @@ func TestThresholdMid(t *testing.T) {
 	}
 	if inside < 10000 {
 		t.Errorf("only %d of 50000 points inside the table", inside)
+	}
+}
+
+// TestTablesWidened checks that every table Column interpolates carries its float64 copy,
+// equal to the float32 values node for node (widenF32 is exact: derived), for a model built by
+// NewModel and one read back by NewModelTables, so that Column takes the unrolled lookups
+// (which read the copies) with the values of the tables.
+func TestTablesWidened(t *testing.T) {
+	t.Parallel()
+	m := defaultModel(t)
+	m2, err := NewModelTables(m.p, m.Tables())
+	if err != nil {
+		t.Fatal(err)
+	}
+	same := func(name string, vals []float32, wide []float64) {
+		if len(wide) != len(vals) {
+			t.Fatalf("%s: %d widened values of %d", name, len(wide), len(vals))
+		}
+		for i, v := range vals {
+			if w := wide[i]; w != float64(v) && !(math.IsNaN(w) && v != v) {
+				t.Fatalf("%s node %d: widened %g, value %g", name, i, w, v)
+			}
+		}
+	}
+	for k, mm := range []*Model{m, m2} {
+		if !mm.tab.coll.isCC22() || !mm.tab.evap.thr.isLQQQ() || !mm.tab.evap.reach.isLLLQQ() ||
+			!mm.tab.evap.evap.isLLLQQ() || !mm.tab.evap.flux.isLLQQ() {
+			t.Fatalf("model %d: the tables do not have the layouts of the unrolled lookups", k)
+		}
+		same("collector", mm.tab.coll.vals, mm.tab.coll.wide)
+		e := mm.tab.evap
+		for j, g := range []*nGrid{e.thr, e.reach, e.evap, e.flux, mm.pop.g, mm.ramp.lo[0], mm.ramp.lo[1], mm.ramp.hi[0], mm.ramp.hi[1]} {
+			same(fmt.Sprintf("model %d grid %d", k, j), g.vals, g.wide)
+		}
 	}
 }
 

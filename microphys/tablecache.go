@@ -136,6 +136,7 @@ func readTables(m *Model, data []byte) (*collTable, error) {
 	if len(r.b) != 0 {
 		return nil, errors.New("trailing bytes")
 	}
+	t.widen()
 	return t, nil
 }
 
