@@ -286,13 +286,38 @@ func (g *tabGrid) interpCC22(x0, x1, x2, x3 float64, acc *[tabVals]float64) uint
 	rep := uint64(st) * 0x0101010101010101
 	nb := 4 * n1 // state bytes (nodes) of one a tap
 	vals, state := g.wide, g.state
+	if n0 == 4 && n1 == 4 { // inside the grid: the loops below written out, the same sums
+		s0 := g.stride[0]
+		for a := 0; a < 4; a++ {
+			oa := base + a*s0
+			sa := state[oa : oa+16 : oa+16]
+			if bytes8(sa[0:8]) != rep || bytes8(sa[8:16]) != rep {
+				return 0
+			}
+		}
+		for a := 0; a < 4; a++ {
+			oa := (base + a*s0) * tabVals
+			p := vals[oa : oa+32 : oa+32]
+			r0, r1 := 0.0, 0.0
+			r0 += wb[0] * (w00*p[0] + w01*p[2] + w10*p[4] + w11*p[6])
+			r1 += wb[0] * (w00*p[1] + w01*p[3] + w10*p[5] + w11*p[7])
+			r0 += wb[1] * (w00*p[8] + w01*p[10] + w10*p[12] + w11*p[14])
+			r1 += wb[1] * (w00*p[9] + w01*p[11] + w10*p[13] + w11*p[15])
+			r0 += wb[2] * (w00*p[16] + w01*p[18] + w10*p[20] + w11*p[22])
+			r1 += wb[2] * (w00*p[17] + w01*p[19] + w10*p[21] + w11*p[23])
+			r0 += wb[3] * (w00*p[24] + w01*p[26] + w10*p[28] + w11*p[30])
+			r1 += wb[3] * (w00*p[25] + w01*p[27] + w10*p[29] + w11*p[31])
+			acc0 += wa[a] * r0
+			acc1 += wa[a] * r1
+		}
+		acc[0], acc[1] = acc0, acc1
+		return st
+	}
 	for a := 0; a < n0; a++ {
 		oa := base + a*g.stride[0]
 		sa := state[oa : oa+nb]
 		for i := 0; i+8 <= nb; i += 8 {
-			b := sa[i : i+8 : i+8]
-			if uint64(b[0])|uint64(b[1])<<8|uint64(b[2])<<16|uint64(b[3])<<24|
-				uint64(b[4])<<32|uint64(b[5])<<40|uint64(b[6])<<48|uint64(b[7])<<56 != rep {
+			if bytes8(sa[i:i+8]) != rep {
 				return 0
 			}
 		}
@@ -308,6 +333,13 @@ func (g *tabGrid) interpCC22(x0, x1, x2, x3 float64, acc *[tabVals]float64) uint
 	}
 	acc[0], acc[1] = acc0, acc1
 	return st
+}
+
+// bytes8 returns b[0:8] as a little-endian uint64 (one load).
+func bytes8(b []byte) uint64 {
+	b = b[:8:8]
+	return uint64(b[0]) | uint64(b[1])<<8 | uint64(b[2])<<16 | uint64(b[3])<<24 |
+		uint64(b[4])<<32 | uint64(b[5])<<40 | uint64(b[6])<<48 | uint64(b[7])<<56
 }
 
 // Grid of the collector table: axes ln LWP (kg m-2), ln r_v (m), T (K), p (Pa).
