@@ -106,7 +106,7 @@ func newModelFrom(p Params, base *Model) *Model {
 			m.ramp = newRampTable(p.DrizzleLWPExp)
 		}
 	}
-	m.bulk = newBulkConsts(&p, m.pop)
+	m.bulk = newBulkConsts(&p, m.pop, m.ramp)
 	return m
 }
 
@@ -151,7 +151,7 @@ type bulkConsts struct {
 	popFast bool    // the POP grid has the layout popAt2 assumes
 	subE    float64 // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
 	ramp0   rampShape
-	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b
+	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b, with their stencil along ln nu
 	defAir  adState   // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
 }
 
@@ -166,7 +166,7 @@ const (
 const drizzleSevenQuarters = 1.75
 
 // newBulkConsts folds the constants of p (valid) for Column.
-func newBulkConsts(p *Params, pt *popTable) bulkConsts {
+func newBulkConsts(p *Params, pt *popTable, rt *rampTable) bulkConsts {
 	k, q, fad := p.K, p.Qext, p.Fad
 	bkk, ckk := kk2000Auto[1], kk2000Auto[2]
 	c := bulkConsts{
@@ -203,6 +203,10 @@ func newBulkConsts(p *Params, pt *popTable) bulkConsts {
 	c.subE = SubgridEnhancement(p.GammaShape, p.DrizzleLWPExp)
 	c.ramp0, c.rampB = newRampShape(p.GammaShape, 0), newRampShape(p.GammaShape, p.DrizzleLWPExp)
 	c.ramp0.t0, c.rampB.t0 = rampTail0(p.GammaShape, 0), rampTail0(p.GammaShape, p.DrizzleLWPExp)
+	if rt != nil { // the stencil along ln nu of Params.GammaShape, once
+		c.ramp0.nu = rt.nuTap(c.popLnNu)
+		c.rampB.nu = c.ramp0.nu
+	}
 	return c
 }
 
@@ -364,6 +368,51 @@ func popAt2(g *nGrid, x0, x1 float64) float64 {
 	acc := a0 * (b0*r0[0] + b1*r0[1] + b2*r0[2])
 	acc += a1 * (b0*r1[0] + b1*r1[1] + b2*r1[2])
 	acc += a2 * (b0*r2[0] + b1*r2[1] + b2*r2[2])
+	return acc
+}
+
+// quadTap is popAt2's stencil along axis 0 of a grid at x0: the middle node k and the
+// weights of nodes k - 1, k, k + 1; ok is false outside the axis (or for NaN).
+type quadTap struct {
+	k              int
+	x0, w0, w1, w2 float64
+	ok             bool
+}
+
+// tap0 returns popAt2's stencil along axis 0 at x0.
+func (g *nGrid) tap0(x0 float64) quadTap {
+	u0 := (x0 - g.lo[0]) * g.inv[0]
+	if !(u0 >= 0 && u0 <= float64(g.n[0]-1)) {
+		return quadTap{x0: x0}
+	}
+	k0 := max(1, min(int(u0+colHalf), g.n[0]-2))
+	t0 := u0 - float64(k0)
+	return quadTap{k: k0, x0: x0, w0: t0 * (t0 - 1) / 2, w1: 1 - t0*t0, w2: t0 * (t0 + 1) / 2, ok: true}
+}
+
+// popAt2Tap is popAt2(g, x0, x1) with the stencil along axis 0 known, a = g.tap0(x0) (or that
+// of a grid with the same axis 0): the same arithmetic, so that lookups on one axis-0
+// coordinate share its stencil (TestRampNuTap checks equality).
+func popAt2Tap(g *nGrid, a *quadTap, x1 float64) float64 {
+	u1 := (x1 - g.lo[1]) * g.inv[1]
+	if !(a.ok && u1 >= 0 && u1 <= float64(g.n[1]-1)) {
+		return math.NaN()
+	}
+	if !g.widened() {
+		return g.at(&[nDims]float64{a.x0, x1})
+	}
+	k1 := max(1, min(int(u1+colHalf), g.n[1]-2))
+	t1 := u1 - float64(k1)
+	b0, b1, b2 := t1*(t1-1)/2, 1-t1*t1, t1*(t1+1)/2
+	sd := g.stride[0]
+	o := (a.k-1)*sd + k1 - 1
+	v := g.wide
+	r0 := v[o : o+3]
+	r1 := v[o+sd : o+sd+3]
+	r2 := v[o+2*sd : o+2*sd+3]
+	acc := a.w0 * (b0*r0[0] + b1*r0[1] + b2*r0[2])
+	acc += a.w1 * (b0*r1[0] + b1*r1[1] + b2*r1[2])
+	acc += a.w2 * (b0*r2[0] + b1*r2[1] + b2*r2[2])
 	return acc
 }
 

@@ -111,7 +111,7 @@ func TestBulkHelpers(t *testing.T) {
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(3, 4))
 	for pi, p := range fastParams() {
-		c := newBulkConsts(&p, newPopTable())
+		c := newBulkConsts(&p, newPopTable(), nil)
 		for i := 0; i < 20000; i++ {
 			lwp := 1e-3 * math.Exp(rng.Float64()*math.Log(3000))
 			re := 3e-6 + 30e-6*rng.Float64()

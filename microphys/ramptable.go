@@ -129,10 +129,11 @@ func newRampTable(b float64) *rampTable {
 }
 
 // rampShape holds the per-shape constants of one table k (s = 0 or b) for shape nu:
-// sa = (nu + s)^(1/2), ia = 1/(9 (nu + s)), kc = (nu/(nu + s))^(1/3), and t0 = T_s(0)
-// (NaN until needed).
+// sa = (nu + s)^(1/2), ia = 1/(9 (nu + s)), kc = (nu/(nu + s))^(1/3), t0 = T_s(0) (NaN
+// until needed), and the tables' stencil along ln nu (rampTable.nuTap; not ok until set).
 type rampShape struct {
 	s, sa, ia, kc, t0 float64
+	nu                quadTap
 }
 
 // newRampShape returns the constants of shape nu for the table of s.
@@ -141,15 +142,19 @@ func newRampShape(nu, s float64) rampShape {
 	return rampShape{s: s, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: math.Cbrt(nu / a), t0: math.NaN()}
 }
 
+// nuTap returns the stencil along ln nu of lnNu in the four tables, which newRampTable lays
+// out on one ln nu axis (TestRampNuTap), so that a column's four tails share it.
+func (t *rampTable) nuTap(lnNu float64) quadTap { return t.hi[0].tap0(lnNu) }
+
 // tail returns T_s(w) of table k (s = 0 or b) for shape nu in [popNuMin, popNuMax] with
-// lnNu = ln nu and the constants c of that shape, w >= rampWMin.
-func (t *rampTable) tail(k int, nu, lnNu float64, c *rampShape, w float64) float64 {
+// the constants c of that shape (c.nu = t.nuTap(ln nu)), w >= rampWMin.
+func (t *rampTable) tail(k int, nu float64, c *rampShape, w float64) float64 {
 	z := 3 * c.sa * (c.kc*w*w - 1 + c.ia)
 	if z >= 0 {
 		if z >= rampZHi {
 			return 0
 		}
-		return colExp(popAt2(t.hi[k], lnNu, z))
+		return colExp(popAt2Tap(t.hi[k], &c.nu, z))
 	}
 	if math.IsNaN(c.t0) {
 		c.t0 = rampTail0(nu, c.s)
@@ -157,22 +162,26 @@ func (t *rampTable) tail(k int, nu, lnNu float64, c *rampShape, w float64) float
 	if z <= -rampZLo {
 		return c.t0 - w
 	}
-	return c.t0 - w + popAt2(t.lo[k], lnNu, z)
+	return c.t0 - w + popAt2Tap(t.lo[k], &c.nu, z)
 }
 
 // moments returns POP = M(0) and M(b)/E(nu, b) of the ramp onset o for shape nu (in
 // [popNuMin, popNuMax], lnNu = ln nu) and cell top radius rmu, with c0, cb the shape
-// constants of s = 0 and s = b; ok is false when r_1/r_μ < rampWMin (then the caller
-// evaluates subgridMoment).
+// constants of s = 0 and s = b (their stencil along ln nu is set here when not ok); ok is
+// false when r_1/r_μ < rampWMin (then the caller evaluates subgridMoment).
 func (t *rampTable) moments(o Onset, nu, lnNu, rmu float64, c0, cb *rampShape) (pop, mbe float64, ok bool) {
 	r1, r2 := o.Radius-o.Width/2, o.Radius+o.Width/2
 	w1, w2 := r1/rmu, r2/rmu
 	if !(w1 >= rampWMin) {
 		return 0, 0, false
 	}
+	if !c0.nu.ok || !cb.nu.ok {
+		c0.nu = t.nuTap(lnNu)
+		cb.nu = c0.nu
+	}
 	f := rmu / (r2 - r1)
-	pop = f * (t.tail(0, nu, lnNu, c0, w1) - t.tail(0, nu, lnNu, c0, w2))
-	mbe = f * (t.tail(1, nu, lnNu, cb, w1) - t.tail(1, nu, lnNu, cb, w2))
+	pop = f * (t.tail(0, nu, c0, w1) - t.tail(0, nu, c0, w2))
+	mbe = f * (t.tail(1, nu, cb, w1) - t.tail(1, nu, cb, w2))
 	return min(max(pop, 0), 1), max(mbe, 0), true
 }
 

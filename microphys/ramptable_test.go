@@ -129,3 +129,43 @@ func TestRampNuTable(t *testing.T) {
 		}
 	}
 }
+
+// TestRampNuTap checks that the four ramp tables share their ln nu axis (so one stencil,
+// rampTable.nuTap, serves a column's four tails) and that popAt2Tap with that stencil equals
+// popAt2 over the tables and 10 % beyond each end (derived: the same arithmetic).
+func TestRampNuTap(t *testing.T) {
+	t.Parallel()
+	tab := newRampTable(1.75)
+	grids := []*nGrid{tab.lo[0], tab.lo[1], tab.hi[0], tab.hi[1]}
+	for _, g := range grids {
+		h := grids[2]
+		if g.lo[0] != h.lo[0] || g.inv[0] != h.inv[0] || g.n[0] != h.n[0] {
+			t.Fatalf("ln nu axes differ: %g %g %d, %g %g %d", g.lo[0], g.inv[0], g.n[0], h.lo[0], h.inv[0], h.n[0])
+		}
+	}
+	rng := rand.New(rand.NewPCG(51, 52))
+	inside := 0
+	for i := 0; i < 40000; i++ {
+		g := grids[i%4]
+		span := func(d int) float64 {
+			w := float64(g.n[d]-1) * g.step[d]
+			return g.lo[d] + w*(1.2*rng.Float64()-0.1)
+		}
+		x0, x1 := span(0), span(1)
+		a := tab.nuTap(x0)
+		got, want := popAt2Tap(g, &a, x1), popAt2(g, x0, x1)
+		if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Fatalf("grid %d at (%g, %g): %.17g, popAt2 %.17g", i%4, x0, x1, got, want)
+		}
+		if !math.IsNaN(want) {
+			inside++
+		}
+	}
+	if inside < 20000 {
+		t.Errorf("only %d of 40000 points inside the tables", inside)
+	}
+	m := defaultModel(t)
+	if w := m.ramp.nuTap(m.bulk.popLnNu); m.bulk.ramp0.nu != w || m.bulk.rampB.nu != w {
+		t.Errorf("the Model's stencil of Params.GammaShape %+v %+v, want %+v", m.bulk.ramp0.nu, m.bulk.rampB.nu, w)
+	}
+}
