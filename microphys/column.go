@@ -700,6 +700,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	fastL := m.tab != nil && m.tab.evap != nil
 	okL := false
 	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
+	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
 	if p.EnableEvaporation {
 		if fastL {
 			okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
@@ -717,7 +718,8 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			out.CloudBaseHeight = l.BaseHeight
 			f := nan
 			if fastL {
-				f = m.tab.evap.fraction(u, &l, m.surfacePressureFast(cth, &l))
+				psL = m.surfacePressureFast(cth, &l)
+				f = m.tab.evap.fraction(u, &l, psL)
 			}
 			if math.IsNaN(f) {
 				if m.tab != nil {
@@ -759,7 +761,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc | QCEvaporationSkipped
 		return
 	}
-	if !fastL || !m.tab.evaporate(res.r, res.lnR, u, &l, m.surfacePressureFast(cth, &l), &res) {
+	if !fastL || !m.tab.evaporate(res.r, res.lnR, u, &l, psL, &res) { // psL: set with the layer (okL)
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
 		}
