@@ -433,6 +433,25 @@ func colExp(x float64) float64 {
 	return expTable[k&(expTableN-1)] * q * math.Float64frombits(uint64(k>>expTableBits+expBias)<<expMantBits)
 }
 
+// colExp2 returns colExp(x) and colExp(y) in one call, the two written out side by side
+// (the same arithmetic, TestColExp2), for exponentials that are needed together.
+func colExp2(x, y float64) (ex, ey float64) {
+	if !(x > -expMaxArg && x < expMaxArg && y > -expMaxArg && y < expMaxArg) {
+		return colExp(x), colExp(y)
+	}
+	kx := x*(expTableN/math.Ln2) + expRound - expRound
+	ky := y*(expTableN/math.Ln2) + expRound - expRound
+	ix, iy := int64(kx), int64(ky)
+	rx := x - kx*(expLn2Hi/expTableN) - kx*(expLn2Lo/expTableN)
+	ry := y - ky*(expLn2Hi/expTableN) - ky*(expLn2Lo/expTableN)
+	rx2, ry2 := rx*rx, ry*ry
+	qx := (1 + rx) + rx2*((expTaylor[2]+rx*expTaylor[3])+rx2*(expTaylor[4]+rx*expTaylor[5]))
+	qy := (1 + ry) + ry2*((expTaylor[2]+ry*expTaylor[3])+ry2*(expTaylor[4]+ry*expTaylor[5]))
+	ex = expTable[ix&(expTableN-1)] * qx * math.Float64frombits(uint64(ix>>expTableBits+expBias)<<expMantBits)
+	ey = expTable[iy&(expTableN-1)] * qy * math.Float64frombits(uint64(iy>>expTableBits+expBias)<<expMantBits)
+	return ex, ey
+}
+
 // colLog returns ln x for x > 0 normal and finite within logTol max(1, |ln x|) absolute
 // (tested against math.Log; Column only uses logarithms as exponents and table coordinates,
 // where the absolute error is what counts): x = 2^e m, m in [1, 2) in 64 cells of centre c_j,

@@ -55,6 +55,33 @@ func TestColExp(t *testing.T) {
 	}
 }
 
+// TestColExp2 checks that colExp2 gives colExp of both arguments bit for bit, over the
+// arguments of TestColExp, the fallback beyond |x| < expMaxArg and the special values (derived:
+// the same arithmetic written out twice).
+func TestColExp2(t *testing.T) {
+	t.Parallel()
+	rng := rand.New(rand.NewPCG(3, 4))
+	arg := func(i int) float64 {
+		switch i % 5 {
+		case 0:
+			return -720 + 1440*rng.Float64()
+		case 1:
+			return []float64{0, math.Copysign(0, -1), math.NaN(), math.Inf(1), math.Inf(-1), expMaxArg, -expMaxArg, -740}[rng.IntN(8)]
+		}
+		return -60 + 70*rng.Float64()
+	}
+	same := func(a, b float64) bool {
+		return math.Float64bits(a) == math.Float64bits(b) || math.IsNaN(a) && math.IsNaN(b)
+	}
+	for i := 0; i < 400000; i++ {
+		x, y := arg(i), arg(i/5+i)
+		gx, gy := colExp2(x, y)
+		if !same(gx, colExp(x)) || !same(gy, colExp(y)) {
+			t.Fatalf("colExp2(%g, %g) = %g, %g; colExp %g, %g", x, y, gx, gy, colExp(x), colExp(y))
+		}
+	}
+}
+
 // TestColLog checks colLog against math.Log over the whole normal range, the values Column
 // takes logarithms of in particular, and the special values (derived: same function).
 func TestColLog(t *testing.T) {

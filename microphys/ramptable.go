@@ -149,7 +149,11 @@ func (t *rampTable) nuTap(lnNu float64) quadTap { return t.hi[0].tap0(lnNu) }
 // tail returns T_s(w) of table k (s = 0 or b) for shape nu in [popNuMin, popNuMax] with
 // the constants c of that shape (c.nu = t.nuTap(ln nu)), w >= rampWMin.
 func (t *rampTable) tail(k int, nu float64, c *rampShape, w float64) float64 {
-	z := 3 * c.sa * (c.kc*w*w - 1 + c.ia)
+	return t.tailZ(k, nu, c, w, 3*c.sa*(c.kc*w*w-1+c.ia))
+}
+
+// tailZ is tail at w with its Wilson-Hilferty variable z = 3 c.sa (c.kc w^2 - 1 + c.ia).
+func (t *rampTable) tailZ(k int, nu float64, c *rampShape, w, z float64) float64 {
 	if z >= 0 {
 		if z >= rampZHi {
 			return 0
@@ -163,6 +167,17 @@ func (t *rampTable) tail(k int, nu float64, c *rampShape, w float64) float64 {
 		return c.t0 - w
 	}
 	return c.t0 - w + popAt2Tap(t.lo[k], &c.nu, z)
+}
+
+// tails returns tail(k, nu, c, w1) and tail(k, nu, c, w2), the two exponentials in one call
+// (colExp2) when both points are in the ln T_s table.
+func (t *rampTable) tails(k int, nu float64, c *rampShape, w1, w2 float64) (t1, t2 float64) {
+	z1 := 3 * c.sa * (c.kc*w1*w1 - 1 + c.ia)
+	z2 := 3 * c.sa * (c.kc*w2*w2 - 1 + c.ia)
+	if z1 >= 0 && z2 >= 0 && z1 < rampZHi && z2 < rampZHi {
+		return colExp2(popAt2Tap(t.hi[k], &c.nu, z1), popAt2Tap(t.hi[k], &c.nu, z2))
+	}
+	return t.tailZ(k, nu, c, w1, z1), t.tailZ(k, nu, c, w2, z2)
 }
 
 // moments returns POP = M(0) and M(b)/E(nu, b) of the ramp onset o for shape nu (in
@@ -180,8 +195,10 @@ func (t *rampTable) moments(o Onset, nu, lnNu, rmu float64, c0, cb *rampShape) (
 		cb.nu = c0.nu
 	}
 	f := rmu / (r2 - r1)
-	pop = f * (t.tail(0, nu, c0, w1) - t.tail(0, nu, c0, w2))
-	mbe = f * (t.tail(1, nu, cb, w1) - t.tail(1, nu, cb, w2))
+	p1, p2 := t.tails(0, nu, c0, w1, w2)
+	m1, m2 := t.tails(1, nu, cb, w1, w2)
+	pop = f * (p1 - p2)
+	mbe = f * (m1 - m2)
 	return min(max(pop, 0), 1), max(mbe, 0), true
 }
 
@@ -225,5 +242,6 @@ func (t *rampNuTable) at(lnNu float64) (e, t00, t0b, kc float64, ok bool) {
 	a0, a1, a2 := x*(x-1)/2, 1-x*x, x*(x+1)/2
 	v0, v1, v2 := &t.vals[k-1], &t.vals[k], &t.vals[k+1]
 	f := func(j int) float64 { return a0*v0[j] + a1*v1[j] + a2*v2[j] }
-	return colExp(f(0)), colExp(f(1)), colExp(f(2)), f(3), true
+	e, t00 = colExp2(f(0), f(1))
+	return e, t00, colExp(f(2)), f(3), true
 }

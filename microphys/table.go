@@ -449,7 +449,7 @@ func dryBasePressure(tb, zb, ps float64) float64 {
 
 // collect interpolates the collector table at (ln LWP, ln r_v, T, p); false when the column
 // is outside it or its stencil straddles a regime change. It is collectRef through the
-// unrolled interpCC22 and colExp: the same results to rounding.
+// unrolled interpCC22 and colExp (colExp2): the same results to rounding.
 func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool {
 	g := t.coll
 	if !g.isCC22() {
@@ -464,7 +464,8 @@ func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool 
 		return false
 	}
 	res.ok = true
-	res.lnR, res.r, res.t = acc[0], colExp(acc[0]), h*colExp(acc[1])
+	r, th := colExp2(acc[0], acc[1])
+	res.lnR, res.r, res.t = acc[0], r, h*th
 	res.exitBase = st == stBase
 	return true
 }
