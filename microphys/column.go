@@ -995,14 +995,18 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	}
 	tb := T + g2*h
 	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf * virtualFactor(tm, pm, st2.rho))
-	pb := p * colExp(x)
 	zb := cth - h
-	if noCTH {
+	var pb float64
+	if noCTH { // p_b and T_s = T_b (p_s/p_b)^(R_d/c_pd), both exponentials in one call
+		eb, es := colExp2(x, GasConstantDry/SpecificHeatDryAir*(lnSP-x))
+		pb = p * eb
 		zb = math.NaN() // DryBaseHeight's domain
 		if ps > pb && pb > 0 && tb > 0 && !math.IsInf(ps, 1) && !math.IsInf(tb, 1) {
-			ts := tb * colExp(GasConstantDry/SpecificHeatDryAir*(lnSP-x))
+			ts := tb * es
 			zb = SpecificHeatDryAir * (ts - tb) / Gravity
 		}
+	} else {
+		pb = p * colExp(x)
 	}
 	if !(zb > 0) || !colFinite(tb) || !colFinite(pb) {
 		return false
