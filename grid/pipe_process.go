@@ -297,7 +297,10 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		}()
 		t := &j.s.tasks[j.task]
-		if err := out.filterChunk(t, j.s.outRaw[t.k], j.s.in.ny, j.s.in.nx, arenaBytes(j.s.arena)); err != nil {
+		s := getScratch(out.deflate, out.direct.chunkBytes(t.k))
+		defer putScratch(s)
+		in := out.chunkInput(s, t, decOut[t.k], j.s.in.ny, j.s.in.nx)
+		if err := out.filterChunk(t, s, in, arenaBytes(j.s.arena)); err != nil {
 			fail(err)
 		}
 	}
@@ -321,6 +324,9 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		} else {
 			compute(&j.s.in.slab, decOut, j.lo, j.hi)
+		}
+		if out.direct != nil {
+			return // the chunk filters encode from decOut (chunkInput)
 		}
 		for k := range decOut {
 			encode(&out.vars[k], out.types[k], unsafe.Pointer(&j.s.outRaw[k][0]), decOut[k], j.lo, j.hi)
