@@ -9,15 +9,13 @@ import (
 )
 
 // refChunkInput is the chunk filter input as the direct writer built it before
-// chunkInput: encode the whole slab to the stored type, gather the chunk from it
-// with the fill value beyond the grid, quantize, shuffle.
-func refChunkInput(o *Output, t *chunkTask, src []float64, ny, nx int) []byte {
+// chunkInput: gather the chunk from the slab of stored values with the fill
+// value beyond the grid, quantize, shuffle.
+func refChunkInput(o *Output, t *chunkTask, raw []uint64, ny, nx int) []byte {
 	d := o.direct
 	k := t.k
 	sz := d.size[k]
 	cy, cx := d.cy, d.cx
-	raw := make([]uint64, (ny*nx*sz+7)/8+1)
-	encode(&o.vars[k], o.types[k], unsafe.Pointer(&raw[0]), src, 0, ny*nx)
 	stored := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*sz)
 	g := make([]byte, cy*cx*sz)
 	rows, cols := min(cy, ny-t.ry), min(cx, nx-t.rx)
@@ -44,13 +42,13 @@ func refChunkInput(o *Output, t *chunkTask, src []float64, ny, nx int) []byte {
 	return g
 }
 
-// TestChunkInputMatchesEncodeShuffle: the bytes the direct writer compresses
-// (chunkInput, with its one-pass encode and shuffle of float32) are those of
-// encode, gather and shuffle, for every stored type, packed int16, quantized
-// float32, with and without shuffle, for whole chunks and chunks cut by the
-// grid's edge, on values that include NaN, ±Inf, -0, subnormals, values beyond
-// float32's range and beyond a packed type's range (invented data).
-func TestChunkInputMatchesEncodeShuffle(t *testing.T) {
+// TestChunkInputMatchesGatherShuffle: the bytes the direct writer compresses
+// (chunkInput, with its one-pass gather and shuffle) are those of gather and
+// shuffle, for every stored type, packed int16, quantized float32, with and
+// without shuffle, for whole chunks and chunks cut by the grid's edge, on
+// values that include NaN, ±Inf, -0, subnormals, values beyond float32's range
+// and beyond a packed type's range (invented data).
+func TestChunkInputMatchesGatherShuffle(t *testing.T) {
 	const ny, nx = 23, 37
 	const cy, cx = 8, 16
 	src := make([]float64, ny*nx)
@@ -80,19 +78,21 @@ func TestChunkInputMatchesEncodeShuffle(t *testing.T) {
 			copyRawTo(b, typedPtr(convertTyped([]float64{v.Fill}, typ)), typ.Size())
 			o.direct.fill = append(o.direct.fill, b)
 			o.direct.size = append(o.direct.size, typ.Size())
+			raw := make([]uint64, (ny*nx*typ.Size()+7)/8)
+			encode(&o.vars[k], typ, unsafe.Pointer(&raw[0]), src, 0, ny*nx)
 			for ry := 0; ry < ny; ry += cy {
 				for rx := 0; rx < nx; rx += cx {
 					t.Run(fmt.Sprintf("%s/shuffle=%v/%d,%d", v.Name, shuf, ry, rx), func(t *testing.T) {
 						task := &chunkTask{k: k, ry: ry, rx: rx}
-						want := refChunkInput(o, task, src, ny, nx)
+						want := refChunkInput(o, task, raw, ny, nx)
 						s := getScratch(0, cy*cx*typ.Size())
 						defer putScratch(s)
 						for i := range s.gather { // stale bytes of an earlier chunk must not show
 							s.gather[i], s.shuf[i] = 0xa5, 0x5a
 						}
-						got := o.chunkInput(s, task, src, ny, nx)
+						got := o.chunkInput(s, task, raw, ny, nx)
 						if !bytes.Equal(got, want) {
-							t.Errorf("chunk bytes differ from encode + gather + shuffle")
+							t.Errorf("chunk bytes differ from gather + shuffle")
 						}
 					})
 				}
@@ -102,15 +102,14 @@ func TestChunkInputMatchesEncodeShuffle(t *testing.T) {
 }
 
 // BenchmarkChunkInput is the work of the direct writer's chunk filters before
-// the compressor: a float32 chunk of 100 x 1000 values from a float64 output
-// slab, in one pass (chunkInput) and as encode of the slab's rows followed by
-// gather and shuffle (encode-gather-shuffle), with a third of the values NaN
-// in patches (invented data).
+// the compressor: a float32 chunk of 100 x 1000 values from a slab of 200 x
+// 2000, in one pass (chunkInput) and as a copy of its rows followed by shuffle
+// (gather-shuffle), with a third of the values fill in patches (invented data).
 func BenchmarkChunkInput(b *testing.B) {
-	const cy, cx = 100, 1000
-	src := make([]float64, cy*cx)
+	const cy, cx, ny, nx = 100, 1000, 200, 2000
+	src := make([]float64, ny*nx)
 	for i := range src {
-		y, x := float64(i/cx), float64(i%cx)
+		y, x := float64(i/nx), float64(i%nx)
 		src[i] = 120 + 80*math.Sin(y/37)*math.Cos(x/53) + 3*math.Sin(float64(i)*12.9898)
 		if math.Sin(y/19)+math.Cos(x/23) > 0.8 {
 			src[i] = math.NaN()
@@ -119,22 +118,51 @@ func BenchmarkChunkInput(b *testing.B) {
 	o := &Output{vars: []OutputVar{{Name: "f", Type: Float32, Fill: -999}}, types: []Type{Float}, shuffle: true,
 		direct: &directOut{cy: cy, cx: cx, fill: [][]byte{make([]byte, 4)}, size: []int{4}}}
 	copyRawTo(o.direct.fill[0], typedPtr([]float32{-999}), 4)
-	task := &chunkTask{}
+	raw := make([]uint64, ny*nx/2)
+	encode(&o.vars[0], Float, unsafe.Pointer(&raw[0]), src, 0, ny*nx)
+	stored := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*4)
+	task := &chunkTask{ry: cy, rx: cx}
 	s := getScratch(0, cy*cx*4)
 	defer putScratch(s)
-	raw := make([]uint64, cy*cx/2)
 	b.Run("one-pass", func(b *testing.B) {
 		b.SetBytes(cy * cx * 4)
 		for b.Loop() {
-			o.chunkInput(s, task, src, cy, cx)
+			o.chunkInput(s, task, raw, ny, nx)
 		}
 	})
-	b.Run("encode-gather-shuffle", func(b *testing.B) {
+	b.Run("gather-shuffle", func(b *testing.B) {
 		b.SetBytes(cy * cx * 4)
 		for b.Loop() {
-			encode(&o.vars[0], Float, unsafe.Pointer(&raw[0]), src, 0, cy*cx)
-			copy(s.gather, unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), cy*cx*4))
+			for r := range cy {
+				off := ((task.ry+r)*nx + task.rx) * 4
+				copy(s.gather[r*cx*4:(r+1)*cx*4], stored[off:off+cx*4])
+			}
 			shuffle(s.shuf, s.gather, 4)
 		}
 	})
+}
+
+// TestEncodeFloat: encode stores a float32 output as the nearest float32 of the
+// value (Go's conversion, round to nearest even; values beyond float32's range
+// become ±Inf) and the fill value for NaN and ±Inf, over columns [lo, hi) only
+// (common practice: CF's _FillValue marks missing data).
+func TestEncodeFloat(t *testing.T) {
+	src := []float64{1, math.NaN(), math.Inf(1), math.Inf(-1), math.Copysign(0, -1), 5e-324, 1e-40,
+		3.5e38, -3.5e38, 1e300, 0.1, -2.5, 16777217, math.Float64frombits(0x7ff8000000000001)}
+	v := &OutputVar{Fill: -999}
+	got := make([]float32, len(src)+2)
+	got[0], got[len(got)-1] = 7, 7
+	encode(v, Float, unsafe.Pointer(&got[0]), append([]float64{0}, src...), 1, len(src)+1)
+	if got[0] != 7 || got[len(got)-1] != 7 {
+		t.Fatalf("encode wrote outside [lo, hi): %v", got)
+	}
+	for i, x := range src {
+		want := float32(x)
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			want = -999
+		}
+		if math.Float32bits(got[i+1]) != math.Float32bits(want) {
+			t.Errorf("encode(%g) = %g (%#x), want %g (%#x)", x, got[i+1], math.Float32bits(got[i+1]), want, math.Float32bits(want))
+		}
+	}
 }
