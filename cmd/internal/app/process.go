@@ -862,15 +862,21 @@ func (j *processJob) workers(writer string) int {
 
 // compute returns the per-slab kernel: columnKernel.column for each column (masks, flag
 // codes, completion and one microphys.Model.Column call), outputs scaled to the file units
-// (outputValue), and the uncertainty outputs of plan when there are any. It allocates
-// nothing per column.
+// (the values outputValue gives), and the uncertainty outputs of plan when there are any.
+// The diagnostics are copied out of each block of outBlock columns' microphys.Outputs one
+// output at a time (outputCopies), a tight loop per output instead of a call per output
+// and column. It allocates nothing per column.
 func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	k := newColumnKernel(m, gin)
+	oc := newOutputCopies(defs)
+	blocks := sync.Pool{New: func() any { return new([outBlock]microphys.Outputs) }}
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
 		var in microphys.Inputs
-		var o microphys.Outputs
+		ob := blocks.Get().(*[outBlock]microphys.Outputs) // the block's model outputs
+		defer blocks.Put(ob)
+		var skipped [outBlock]int // the block's columns screened before Column
 		var n int64
 		var local grid.QualityCounts
 		var why [32]int64 // screened columns by QC bit
@@ -893,24 +899,43 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				}
 			}
 		}
-		for i := lo; i < hi; i++ {
-			q, qin, ran := k.column(s, i, &in, &o, &local)
-			for c := range defs {
-				if !ran || defs[c].get != nil || defs[c].input == grid.RoleLWP {
-					outs[c][i] = outputValue(&defs[c], &in, &o, ran)
+		nan := math.NaN()
+		for b := lo; b < hi; b += outBlock {
+			e := min(b+outBlock, hi)
+			ns := 0
+			for i := b; i < e; i++ {
+				o := &ob[i-b]
+				q, qin, ran := k.column(s, i, &in, o, &local)
+				if oc.lwp >= 0 {
+					outs[oc.lwp][i] = outputValue(&defs[oc.lwp], &in, o, ran)
+				}
+				if !ran {
+					skipped[ns] = i
+					ns++
+				}
+				qc[i] = float64(q)
+				if q&k.screen != 0 {
+					n++
+					countScreen(&why, q&k.screen)
+				}
+				if uw != nil {
+					raw = microphys.RawColumn{In: k.inputs(s, i), Nd: slabAt(s, k.iNd, i), CF: slabAt(s, k.iCF, i), GridMean: k.gridMean}
+					for e, r := range errorRoles {
+						errIn[e] = slabAt(s, r.Index(), i)
+					}
+					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
 				}
 			}
-			qc[i] = float64(q)
-			if q&k.screen != 0 {
-				n++
-				countScreen(&why, q&k.screen)
-			}
-			if uw != nil {
-				raw = microphys.RawColumn{In: k.inputs(s, i), Nd: slabAt(s, k.iNd, i), CF: slabAt(s, k.iCF, i), GridMean: k.gridMean}
-				for e, r := range errorRoles {
-					errIn[e] = slabAt(s, r.Index(), i)
+			for _, g := range oc.gets {
+				d := outs[g.c][b:e]
+				for x := range d {
+					d[x] = g.get(&ob[x]) * g.scale
 				}
-				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
+			}
+			for _, c := range oc.missing {
+				for _, i := range skipped[:ns] {
+					outs[c][i] = nan
+				}
 			}
 		}
 		screened.Add(n)
@@ -918,6 +943,42 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			counts.add(&local, &why)
 		}
 	}
+}
+
+// outBlock is the number of columns whose microphys.Outputs compute holds before copying
+// them into the output slabs (36 kB of outputs).
+const outBlock = 256
+
+// outputCopies says how compute fills each output of defs: lwp is the output of the LWP
+// used (-1: none), gets the diagnostics, taken from microphys.Outputs; missing the outputs
+// that are NaN in a column screened before Column (the diagnostics and the copies of other
+// inputs). The same values as outputValue.
+type outputCopies struct {
+	lwp     int
+	gets    []outputGet
+	missing []int
+}
+
+// outputGet is output c's diagnostic, SI value × scale.
+type outputGet struct {
+	c     int
+	get   func(o *microphys.Outputs) float64
+	scale float64
+}
+
+func newOutputCopies(defs []outputDef) outputCopies {
+	oc := outputCopies{lwp: -1}
+	for c, d := range defs {
+		switch {
+		case d.input == grid.RoleLWP:
+			oc.lwp = c
+			continue
+		case d.get != nil:
+			oc.gets = append(oc.gets, outputGet{c: c, get: d.get, scale: d.scale})
+		}
+		oc.missing = append(oc.missing, c)
+	}
+	return oc
 }
 
 // columnKernel is the work process does for one column, shared with 'column --from' so
