@@ -11,6 +11,7 @@ import (
 	"os/exec"
 	"os/signal"
 	"path/filepath"
+	"reflect"
 	"runtime"
 	"runtime/debug"
 	"runtime/pprof"
@@ -21,6 +22,7 @@ import (
 	"sync/atomic"
 	"syscall"
 	"time"
+	"unsafe"
 
 	"github.com/warmrain/warmrain/cmd/internal/batch"
 	"github.com/warmrain/warmrain/grid"
@@ -928,8 +930,14 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 			for _, g := range oc.gets {
 				d := outs[g.c][b:e]
+				if g.field == noField {
+					for x := range d {
+						d[x] = g.get(&ob[x]) * g.scale
+					}
+					continue
+				}
 				for x := range d {
-					d[x] = g.get(&ob[x]) * g.scale
+					d[x] = *(*float64)(unsafe.Add(unsafe.Pointer(&ob[x]), g.field)) * g.scale
 				}
 			}
 			for _, c := range oc.missing {
@@ -959,11 +967,51 @@ type outputCopies struct {
 	missing []int
 }
 
-// outputGet is output c's diagnostic, SI value × scale.
+// outputGet is output c's diagnostic, SI value × scale: get's value, read straight from
+// the float64 field at byte offset field of microphys.Outputs when get only returns that
+// field (outputField; noField: get is called).
 type outputGet struct {
 	c     int
 	get   func(o *microphys.Outputs) float64
+	field uintptr
 	scale float64
+}
+
+// noField: an output's get is called (outputGet).
+const noField = ^uintptr(0)
+
+// outputField returns the byte offset in microphys.Outputs of the float64 field get
+// returns, or noField when get is not a plain read of one field: get must give that field's
+// value, bit for bit, on three fillings of every field (QC included) with distinct
+// values of both signs and magnitudes from 1e-9 to 1e31.
+func outputField(get func(o *microphys.Outputs) float64) uintptr {
+	t := reflect.TypeFor[microphys.Outputs]()
+	found := -1
+	for probe := range 3 {
+		var o microphys.Outputs
+		v := reflect.ValueOf(&o).Elem()
+		for f := range t.NumField() {
+			x := float64(f + 1)
+			switch v.Field(f).Kind() {
+			case reflect.Float64:
+				v.Field(f).SetFloat([]float64{x + 0.25, -x * 3e-9, x * 1e30}[probe])
+			case reflect.Uint16:
+				v.Field(f).SetUint([]uint64{0, 0xffff, 1}[probe])
+			}
+		}
+		got := math.Float64bits(get(&o))
+		match := -1
+		for f := range t.NumField() {
+			if v.Field(f).Kind() == reflect.Float64 && math.Float64bits(v.Field(f).Float()) == got {
+				match = f
+			}
+		}
+		if match < 0 || (found >= 0 && match != found) {
+			return noField
+		}
+		found = match
+	}
+	return t.Field(found).Offset
 }
 
 func newOutputCopies(defs []outputDef) outputCopies {
@@ -974,7 +1022,7 @@ func newOutputCopies(defs []outputDef) outputCopies {
 			oc.lwp = c
 			continue
 		case d.get != nil:
-			oc.gets = append(oc.gets, outputGet{c: c, get: d.get, scale: d.scale})
+			oc.gets = append(oc.gets, outputGet{c: c, get: d.get, field: outputField(d.get), scale: d.scale})
 		}
 		oc.missing = append(oc.missing, c)
 	}

@@ -2,8 +2,11 @@ package app
 
 import (
 	"math"
+	"math/rand/v2"
+	"reflect"
 	"sync/atomic"
 	"testing"
+	"unsafe"
 
 	"github.com/warmrain/warmrain/grid"
 	"github.com/warmrain/warmrain/microphys"
@@ -33,6 +36,8 @@ func TestComputeMatchesOutputValue(t *testing.T) {
 	}
 	// A copy of an input other than LWP (none is declared today; the kernel handles one).
 	defs = append(defs, outputDef{name: "ctt_copy", input: grid.RoleCTT, scale: 1, decl: -1})
+	// A diagnostic that is not one field of microphys.Outputs (called, not read).
+	defs = append(defs, outputDef{name: "twice_nd", get: func(o *microphys.Outputs) float64 { return 2 * o.Nd }, scale: 1e-6, decl: -1})
 	const n = 3*outBlock + 77
 	s := &grid.Slab{N: n}
 	for _, bd := range gin.Bindings() {
@@ -112,5 +117,52 @@ func TestComputeMatchesOutputValue(t *testing.T) {
 	}
 	if ran0 < n/2 || screened < n/20 {
 		t.Errorf("%d columns ran and %d were screened: the test needs both", ran0, screened)
+	}
+}
+
+// outputField finds the field each declared output reads (every one is a plain field read
+// today), the value at that offset is what Get returns, and a get that computes something
+// is called instead.
+func TestOutputField(t *testing.T) {
+	r := rand.New(rand.NewPCG(1, 2))
+	for _, d := range microphys.OutputDecls {
+		if d.Get == nil {
+			continue
+		}
+		off := outputField(d.Get)
+		if off == noField {
+			t.Errorf("%s: no field found", d.Name)
+			continue
+		}
+		for range 20 {
+			var o microphys.Outputs
+			v := reflect.ValueOf(&o).Elem()
+			for f := range v.NumField() {
+				if v.Field(f).Kind() == reflect.Float64 {
+					v.Field(f).SetFloat(r.NormFloat64() * math.Pow(10, float64(r.IntN(40)-20)))
+				}
+			}
+			o.QC = uint16(r.Uint32())
+			got := *(*float64)(unsafe.Add(unsafe.Pointer(&o), off))
+			if want := d.Get(&o); math.Float64bits(got) != math.Float64bits(want) {
+				t.Errorf("%s: field at %d holds %g, Get returns %g", d.Name, off, got, want)
+			}
+		}
+	}
+	for name, get := range map[string]func(o *microphys.Outputs) float64{
+		"scaled":   func(o *microphys.Outputs) float64 { return 2 * o.H },
+		"clamped":  func(o *microphys.Outputs) float64 { return max(o.H, 0) },
+		"constant": func(o *microphys.Outputs) float64 { return 1.25 },
+		"qc-gated": func(o *microphys.Outputs) float64 {
+			if o.QC != 0 {
+				return math.NaN()
+			}
+			return o.POP
+		},
+		"sum": func(o *microphys.Outputs) float64 { return o.H + o.Nd },
+	} {
+		if off := outputField(get); off != noField {
+			t.Errorf("%s: taken as the field at %d", name, off)
+		}
 	}
 }
