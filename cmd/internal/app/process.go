@@ -873,11 +873,14 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 	defs := j.defs
 	k := newColumnKernel(m, gin)
 	oc := newOutputCopies(defs)
-	blocks := sync.Pool{New: func() any { return new([outBlock]microphys.Outputs) }}
+	// Each call (grid.Process calls it for blocks of a few thousand columns) takes its
+	// block of outputs and uncertainty scratch from a pool.
+	scratch := sync.Pool{New: func() any { return &computeScratch{uw: plan.slab()} }}
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
 		var in microphys.Inputs
-		ob := blocks.Get().(*[outBlock]microphys.Outputs) // the block's model outputs
-		defer blocks.Put(ob)
+		sc := scratch.Get().(*computeScratch)
+		defer scratch.Put(sc)
+		ob := &sc.ob              // the block's model outputs
 		var skipped [outBlock]int // the block's columns screened before Column
 		var n int64
 		var local grid.QualityCounts
@@ -890,7 +893,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 		}
 		qc := outs[len(defs)]
-		uw := plan.slab()
+		uw := sc.uw
 		var raw microphys.RawColumn
 		var errIn [3]float64
 		for c, d := range defs {
@@ -951,6 +954,13 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			counts.add(&local, &why)
 		}
 	}
+}
+
+// computeScratch is one compute call's room: the model outputs of a block of columns and
+// the uncertainty outputs' scratch (nil without uncertainty outputs).
+type computeScratch struct {
+	ob [outBlock]microphys.Outputs
+	uw *uncSlab
 }
 
 // outBlock is the number of columns whose microphys.Outputs compute holds before copying
