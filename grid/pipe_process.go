@@ -57,7 +57,8 @@ const computeBlock = 2048
 // ComputeFunc computes outputs for columns [lo, hi) of slab s: outs[k][i] is
 // output variable k at column i, in the output's units (NaN = fill). It runs on
 // several goroutines at once, each with its own disjoint range, and must only
-// write outs[k][lo:hi].
+// write outs[k][lo:hi]. Process calls it for ranges of at most computeBlock
+// columns, many times per slab.
 type ComputeFunc func(s *Slab, outs [][]float64, lo, hi int)
 
 // nBuffers slabs are in flight at most: one being read, one computed, one written.
