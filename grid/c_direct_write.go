@@ -406,41 +406,11 @@ func putScratch(s *chunkScratch) {
 	}
 }
 
-// filterChunk gathers chunk t of a slab (ny x nx values of variable k in raw,
-// row-major), pads the part beyond the grid with the fill value, quantizes,
-// shuffles and deflates it into arena[t.at:] and sets t.n (any goroutine).
-func (o *Output) filterChunk(t *chunkTask, raw []uint64, ny, nx int, arena []byte) error {
+// filterChunk deflates in, the bytes of chunk t built in s by chunkInput,
+// into arena[t.at:] and sets t.n (any goroutine).
+func (o *Output) filterChunk(t *chunkTask, s *chunkScratch, in []byte, arena []byte) error {
 	d := o.direct
-	sz := d.size[t.k]
-	cy, cx := d.cy, d.cx
-	n := cy * cx * sz
-	s := getScratch(o.deflate, n)
-	defer putScratch(s)
-	src := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*sz)
-	g := s.gather
-	rows, cols := min(cy, ny-t.ry), min(cx, nx-t.rx)
-	fill := d.fill[t.k]
-	for r := 0; r < cy; r++ {
-		row := g[r*cx*sz : (r+1)*cx*sz]
-		k := 0
-		if r < rows {
-			off := ((t.ry+r)*nx + t.rx) * sz
-			k = copy(row, src[off:off+cols*sz])
-		}
-		for ; k < len(row); k += sz {
-			copy(row[k:k+sz], fill)
-		}
-	}
 	v := &o.vars[t.k]
-	if v.Quantize > 0 && o.types[t.k] == Float {
-		fill := float32(v.Fill)
-		C.wr_granular_br((*C.float)(unsafe.Pointer(&g[0])), C.size_t(cy*cx), C.int(v.Quantize), C.float(fill))
-	}
-	in := g
-	if o.shuffle && sz > 1 {
-		shuffle(s.shuf, g, sz)
-		in = s.shuf
-	}
 	dst := arena[t.at : t.at+d.bound[t.k]]
 	if o.deflate <= 0 {
 		t.n = copy(dst, in)
@@ -452,6 +422,12 @@ func (o *Output) filterChunk(t *chunkTask, raw []uint64, ny, nx int, arena []byt
 	}
 	t.n = m
 	return nil
+}
+
+// quantizeChunk applies Granular BitRound (wr_granular_br) to the n float32
+// values of g, keeping nsd significant digits.
+func quantizeChunk(g []byte, n, nsd int, fill float32) {
+	C.wr_granular_br((*C.float)(unsafe.Pointer(&g[0])), C.size_t(n), C.int(nsd), C.float(fill))
 }
 
 // shuffle is HDF5's byte shuffle: byte b of value i goes to dst[b*n+i].
