@@ -5,6 +5,7 @@ go 1.26.0
 require (
 	github.com/BurntSushi/toml v1.6.0
 	github.com/fhs/go-netcdf v1.2.1
+	github.com/klauspost/compress v1.20.5
 	github.com/spf13/pflag v1.1.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/plot v0.17.0

@@ -80,6 +80,10 @@ def perf_targets(d, runs, sizes, p):
     if a and c:
         p("  (c)/(a) wall, every diagnostic vs nccopy -d 1 -s, %d²: %.2f  (<= 1.0) %s" % (n4, c[1] / a[1], verdict(c[1] / a[1] <= 1.0)))
         p("  (c)/(a) CPU-seconds, %d²: %.2f  (<= 2.0) %s" % (n4, c[3] / a[3], verdict(c[3] / a[3] <= 2.0)))
+    b = runs.get(("b", n4))
+    if a and b and c:
+        p("  where (c)'s CPU goes, %d²: reading the inputs and writing every output, (b) --io-only: %.2f x nccopy's CPU;"
+          " the physics, (c) - (b): %.2f x; output bytes %.1f x nccopy's" % (n4, b[3] / a[3], (c[3] - b[3]) / a[3], c[4] / a[4]))
     e, d_ = runs.get(("e", n4)), runs.get(("d", n4))
     if e and d_:
         p("  (e)/(d) xarray script vs warmrain (same bulk outputs), %d², whole run: %.2f  (>= 4) %s; CPU-seconds: %.2f  (>= 3) %s" % (

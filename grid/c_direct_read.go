@@ -294,6 +294,24 @@ type inflater struct {
 	shuf []byte
 }
 
+// inflate decodes the zlib stream src into exactly len(dst) bytes.
+func (z *inflater) inflate(dst, src []byte) error {
+	var got C.size_t
+	r := C.libdeflate_zlib_decompress(z.d, unsafe.Pointer(&src[0]), C.size_t(len(src)), unsafe.Pointer(&dst[0]), C.size_t(len(dst)), &got)
+	if r != C.LIBDEFLATE_SUCCESS || int(got) != len(dst) {
+		return fmt.Errorf("libdeflate status %d, %d bytes", int(r), int(got))
+	}
+	return nil
+}
+
+// libdeflateInflate decodes the zlib stream src into exactly len(dst) bytes with
+// the reader's inflater.
+func libdeflateInflate(dst, src []byte) error {
+	z := getInflater()
+	defer putInflater(z)
+	return z.inflate(dst, src)
+}
+
 // decode inflates and unshuffles f's stored bytes into f.out (any goroutine).
 func (f *fetch) decode() {
 	v := f.v
@@ -318,10 +336,8 @@ func (f *fetch) decode() {
 			}
 			dst = z.shuf[:len(out)]
 		}
-		var got C.size_t
-		r := C.libdeflate_zlib_decompress(z.d, unsafe.Pointer(&src[0]), C.size_t(len(src)), unsafe.Pointer(&dst[0]), C.size_t(len(dst)), &got)
-		if r != C.LIBDEFLATE_SUCCESS || int(got) != len(dst) {
-			f.err = &fetchError{v.name, fmt.Sprintf("the stored chunk at %v does not inflate to %d bytes (libdeflate status %d)", f.off, len(dst), int(r))}
+		if err := z.inflate(dst, src); err != nil {
+			f.err = &fetchError{v.name, fmt.Sprintf("the stored chunk at %v does not inflate to %d bytes (%v)", f.off, len(dst), err)}
 			return
 		}
 		src = dst

@@ -4,7 +4,8 @@ package grid
 // output as before (dimensions, variables with their chunking, shuffle and
 // deflate filters, fill values, every attribute, the copied coordinates) and
 // closes it; the new variables' chunks are then filtered by the Go workers
-// (quantization, byte shuffle, zlib deflate by libdeflate) and the I/O thread
+// (quantization, byte shuffle, zlib-format deflate: klauspost/compress's
+// encoder with libdeflate's Adler-32) and the I/O thread
 // only stores the finished bytes with HDF5's H5Dwrite_chunk into the same
 // temporary file. Every HDF5 call runs on the I/O thread (c_thread.go).
 
@@ -18,7 +19,7 @@ package grid
 // #include <zlib.h>
 //
 // // wr_zlib_compress is zlib's compress2, as HDF5's deflate filter calls it
-// // (for the benchmark that compares it with libdeflate).
+// // (for the benchmark that compares the encoders).
 // static size_t wr_zlib_compress(void *dst, size_t cap, const void *src, size_t n, int level) {
 //   uLongf m = cap;
 //   if (compress2(dst, &m, src, n, level) != Z_OK) return 0;
@@ -93,11 +94,14 @@ package grid
 import "C"
 
 import (
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"path/filepath"
 	"sync"
 	"unsafe"
+
+	"github.com/klauspost/compress/flate"
 )
 
 // Writer names (WriteOptions.Writer).
@@ -296,10 +300,13 @@ func (d *directOut) check(ds C.hid_t, o *Output, want []C.hsize_t) error {
 	return nil
 }
 
-// chunkBound is the room one filtered chunk of n bytes needs: libdeflate's
-// bound for its zlib format, or n when it is stored raw.
+// chunkBound is the room one filtered chunk of n bytes needs: the zlib header
+// and check value, and n plus a margin for the deflate stream (stored blocks of
+// incompressible data add 5 bytes per block; the encoder's blocks are at least a
+// few kilobytes, so n/256 covers them many times over, tested with random data in
+// TestZlibChunkBound); n itself when a chunk is stored raw.
 func chunkBound(n int) int {
-	return int(C.libdeflate_zlib_compress_bound(nil, C.size_t(n)))
+	return 2 + n + n/256 + 64 + 4
 }
 
 // slabTasks lists the chunk tasks of a slab of ny x nx columns and returns the
@@ -333,9 +340,29 @@ func (d *directOut) arenaBytes(p *slabPlan, nVars int) int {
 // chunkScratch is one worker's room for filtering a chunk.
 type chunkScratch struct {
 	gather, shuf []byte
-	comp         *C.struct_libdeflate_compressor
+	fw           *flate.Writer // raw deflate at level (nil for level 0)
+	sink         fixedSink
 	level        int
 }
+
+// fixedSink is an io.Writer over a fixed slice: a write beyond its end sets over
+// and fails, so a stream that outgrows its room is detected, never truncated.
+type fixedSink struct {
+	b    []byte
+	n    int
+	over bool
+}
+
+func (w *fixedSink) Write(p []byte) (int, error) {
+	if w.n+len(p) > len(w.b) {
+		w.over = true
+		return 0, errSinkFull
+	}
+	w.n += copy(w.b[w.n:], p)
+	return len(p), nil
+}
+
+var errSinkFull = errors.New("grid: the chunk's room is full")
 
 var scratchPool struct {
 	sync.Mutex
@@ -358,7 +385,8 @@ func getScratch(level, n int) *chunkScratch {
 	if s == nil {
 		s = &chunkScratch{level: level}
 		if level > 0 {
-			s.comp = C.libdeflate_alloc_compressor(C.int(level))
+			// Levels 1-9 are valid for flate.NewWriter: the error cannot occur.
+			s.fw, _ = flate.NewWriter(&s.sink, level)
 		}
 	}
 	if cap(s.gather) < n {
@@ -375,59 +403,31 @@ func putScratch(s *chunkScratch) {
 	defer scratchPool.Unlock()
 	if len(scratchPool.free) < 8 {
 		scratchPool.free = append(scratchPool.free, s)
-		return
-	}
-	if s.comp != nil {
-		C.libdeflate_free_compressor(s.comp)
 	}
 }
 
-// filterChunk gathers chunk t of a slab (ny x nx values of variable k in raw,
-// row-major), pads the part beyond the grid with the fill value, quantizes,
-// shuffles and deflates it into arena[t.at:] and sets t.n (any goroutine).
-func (o *Output) filterChunk(t *chunkTask, raw []uint64, ny, nx int, arena []byte) error {
+// filterChunk deflates in, the bytes of chunk t built in s by chunkInput,
+// into arena[t.at:] and sets t.n (any goroutine).
+func (o *Output) filterChunk(t *chunkTask, s *chunkScratch, in []byte, arena []byte) error {
 	d := o.direct
-	sz := d.size[t.k]
-	cy, cx := d.cy, d.cx
-	n := cy * cx * sz
-	s := getScratch(o.deflate, n)
-	defer putScratch(s)
-	src := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*sz)
-	g := s.gather
-	rows, cols := min(cy, ny-t.ry), min(cx, nx-t.rx)
-	fill := d.fill[t.k]
-	for r := 0; r < cy; r++ {
-		row := g[r*cx*sz : (r+1)*cx*sz]
-		k := 0
-		if r < rows {
-			off := ((t.ry+r)*nx + t.rx) * sz
-			k = copy(row, src[off:off+cols*sz])
-		}
-		for ; k < len(row); k += sz {
-			copy(row[k:k+sz], fill)
-		}
-	}
 	v := &o.vars[t.k]
-	if v.Quantize > 0 && o.types[t.k] == Float {
-		fill := float32(v.Fill)
-		C.wr_granular_br((*C.float)(unsafe.Pointer(&g[0])), C.size_t(cy*cx), C.int(v.Quantize), C.float(fill))
-	}
-	in := g
-	if o.shuffle && sz > 1 {
-		shuffle(s.shuf, g, sz)
-		in = s.shuf
-	}
 	dst := arena[t.at : t.at+d.bound[t.k]]
 	if o.deflate <= 0 {
 		t.n = copy(dst, in)
 		return nil
 	}
-	m := libdeflateCompress(s, dst, in)
+	m := s.zlibDeflate(dst, in)
 	if m == 0 {
 		return fmt.Errorf("grid: deflate of a chunk of %s did not fit its bound", v.Name)
 	}
 	t.n = m
 	return nil
+}
+
+// quantizeChunk applies Granular BitRound (wr_granular_br) to the n float32
+// values of g, keeping nsd significant digits.
+func quantizeChunk(g []byte, n, nsd int, fill float32) {
+	C.wr_granular_br((*C.float)(unsafe.Pointer(&g[0])), C.size_t(n), C.int(nsd), C.float(fill))
 }
 
 // shuffle is HDF5's byte shuffle: byte b of value i goes to dst[b*n+i].
@@ -483,10 +483,59 @@ func zlibCompress(dst, src []byte, level int) int {
 	return int(C.wr_zlib_compress(unsafe.Pointer(&dst[0]), C.size_t(len(dst)), unsafe.Pointer(&src[0]), C.size_t(len(src)), C.int(level)))
 }
 
+// zlibDeflate deflates src into dst in the zlib format (RFC 1950), which HDF5's
+// deflate filter and every netCDF-4 reader inflate: the two header bytes zlib
+// writes for the level, the raw deflate stream (RFC 1951) of klauspost/compress's
+// encoder at s.level, and the Adler-32 of src (libdeflate's, big-endian). It
+// returns the length, 0 when dst is too small. The encoder is deterministic, so
+// the bytes depend only on src and the level.
+func (s *chunkScratch) zlibDeflate(dst, src []byte) int {
+	if len(dst) < 6 || len(src) == 0 {
+		return 0
+	}
+	s.sink = fixedSink{b: dst[2 : len(dst)-4]}
+	s.fw.Reset(&s.sink)
+	if _, err := s.fw.Write(src); err != nil {
+		return 0
+	}
+	if err := s.fw.Close(); err != nil || s.sink.over {
+		return 0
+	}
+	dst[0], dst[1] = zlibHeader(s.level)
+	sum := uint32(C.libdeflate_adler32(1, unsafe.Pointer(&src[0]), C.size_t(len(src))))
+	n := 2 + s.sink.n
+	binary.BigEndian.PutUint32(dst[n:], sum)
+	s.sink = fixedSink{}
+	return n + 4
+}
+
+// zlibHeader returns the zlib header of a deflate stream with a 32 KiB window
+// at level: CMF 0x78 and FLG with zlib's level hint (0 for levels 1, 1 for 2-5,
+// 2 for 6, 3 for 7-9; RFC 1950 section 2.2) and the check bits that make
+// CMF*256 + FLG a multiple of 31.
+func zlibHeader(level int) (byte, byte) {
+	hint := 3
+	switch {
+	case level < 2:
+		hint = 0
+	case level < 6:
+		hint = 1
+	case level == 6:
+		hint = 2
+	}
+	const cmf = 0x78
+	flg := hint << 6
+	flg += 31 - (cmf*256+flg)%31
+	return cmf, byte(flg)
+}
+
 // libdeflateCompress deflates src into dst (zlib format) with a libdeflate
-// compressor of the level; it returns the length, 0 when dst is too small.
-func libdeflateCompress(s *chunkScratch, dst, src []byte) int {
-	return int(C.libdeflate_zlib_compress(s.comp, unsafe.Pointer(&src[0]), C.size_t(len(src)), unsafe.Pointer(&dst[0]), C.size_t(len(dst))))
+// compressor of the level (BenchmarkChunkFilter's comparison); it returns the
+// length, 0 when dst is too small.
+func libdeflateCompress(dst, src []byte, level int) int {
+	c := C.libdeflate_alloc_compressor(C.int(level))
+	defer C.libdeflate_free_compressor(c)
+	return int(C.libdeflate_zlib_compress(c, unsafe.Pointer(&src[0]), C.size_t(len(src)), unsafe.Pointer(&dst[0]), C.size_t(len(dst))))
 }
 
 // writeChunksIO stores the filtered chunks of one slab (I/O thread).

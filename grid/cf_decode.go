@@ -410,13 +410,26 @@ func decodeT[T number](d *Decoder, dst []float64, src []T) {
 		return
 	}
 	if len(d.Missing) == 0 {
+		// The same tests as a select, not branches: NaN fails v >= lo, and a NaN
+		// fill (or bound) equals (or bounds) nothing.
+		f := nan
+		if hasFill {
+			f = fill
+		}
+		if lo != lo {
+			lo = math.Inf(-1)
+		}
+		if hi != hi {
+			hi = math.Inf(1)
+		}
+		dst = dst[:len(src)]
 		for i, x := range src {
 			v := float64(x)
-			if v != v || (hasFill && v == fill) || v < lo || v > hi {
-				dst[i] = nan
-				continue
+			r := v*a + b
+			if !(v >= lo && v <= hi) || v == f {
+				r = nan
 			}
-			dst[i] = v*a + b
+			dst[i] = r
 		}
 		return
 	}

@@ -31,7 +31,8 @@
 //  4. Pipeline, pipe_*.go: streaming an opened Input through compute into an
 //     Output. pipe_slab.go (slab plan, buffers, decoded reads), pipe_process.go
 //     (Process: three slabs in flight), pipe_memory.go (EstimateMemory),
-//     pipe_output.go (Create, Commit), pipe_point.go (single columns, samples).
+//     pipe_output.go (Create, Commit), pipe_point.go (single columns, samples),
+//     pipe_chunk.go (the direct writer's chunk bytes from the output slab).
 //
 // Only binding files import "C" or go-netcdf; CF files reach the files through
 // the generic layer, using from the binding only the I/O thread and UDUNITS-2;

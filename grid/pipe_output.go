@@ -787,15 +787,14 @@ func copyTimeIO(in *Input, v *VarInfo, ta *TimeAxis, outNC, outID int) error {
 func encode(v *OutputVar, t Type, dst unsafe.Pointer, src []float64, lo, hi int) {
 	switch t {
 	case Float:
-		d := unsafe.Slice((*float32)(dst), hi)
-		fill := float32(v.Fill)
-		for i := lo; i < hi; i++ {
-			x := src[i]
-			if x != x || math.IsInf(x, 0) {
-				d[i] = fill
-			} else {
-				d[i] = float32(x)
+		d := unsafe.Slice((*uint32)(dst), hi)[lo:hi]
+		fill := math.Float32bits(float32(v.Fill))
+		for i, x := range src[lo:hi] {
+			u := math.Float32bits(float32(x))
+			if !(math.Abs(x) <= math.MaxFloat64) { // NaN or ±Inf (a select, not a branch)
+				u = fill
 			}
+			d[i] = u
 		}
 	case Short:
 		encodeInt(v, unsafe.Slice((*int16)(dst), hi), src, lo, hi, math.MinInt16, math.MaxInt16)

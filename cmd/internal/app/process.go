@@ -11,6 +11,7 @@ import (
 	"os/exec"
 	"os/signal"
 	"path/filepath"
+	"reflect"
 	"runtime"
 	"runtime/debug"
 	"runtime/pprof"
@@ -21,6 +22,7 @@ import (
 	"sync/atomic"
 	"syscall"
 	"time"
+	"unsafe"
 
 	"github.com/warmrain/warmrain/cmd/internal/batch"
 	"github.com/warmrain/warmrain/grid"
@@ -862,15 +864,24 @@ func (j *processJob) workers(writer string) int {
 
 // compute returns the per-slab kernel: columnKernel.column for each column (masks, flag
 // codes, completion and one microphys.Model.Column call), outputs scaled to the file units
-// (outputValue), and the uncertainty outputs of plan when there are any. It allocates
-// nothing per column.
+// (the values outputValue gives), and the uncertainty outputs of plan when there are any.
+// The diagnostics are copied out of each block of outBlock columns' microphys.Outputs one
+// output at a time (outputCopies), a tight loop per output instead of a call per output
+// and column. It allocates nothing per column.
 func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	k := newColumnKernel(m, gin)
+	oc := newOutputCopies(defs)
+	// Each call (grid.Process calls it for blocks of a few thousand columns) takes its
+	// block of outputs and uncertainty scratch from a pool.
+	scratch := sync.Pool{New: func() any { return &computeScratch{uw: plan.slab()} }}
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
 		var in microphys.Inputs
-		var o microphys.Outputs
+		sc := scratch.Get().(*computeScratch)
+		defer scratch.Put(sc)
+		ob := &sc.ob              // the block's model outputs
+		var skipped [outBlock]int // the block's columns screened before Column
 		var n int64
 		var local grid.QualityCounts
 		var why [32]int64 // screened columns by QC bit
@@ -882,7 +893,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			}
 		}
 		qc := outs[len(defs)]
-		uw := plan.slab()
+		uw := sc.uw
 		var raw microphys.RawColumn
 		var errIn [3]float64
 		for c, d := range defs {
@@ -893,24 +904,49 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				}
 			}
 		}
-		for i := lo; i < hi; i++ {
-			q, qin, ran := k.column(s, i, &in, &o, &local)
-			for c := range defs {
-				if !ran || defs[c].get != nil || defs[c].input == grid.RoleLWP {
-					outs[c][i] = outputValue(&defs[c], &in, &o, ran)
+		nan := math.NaN()
+		for b := lo; b < hi; b += outBlock {
+			e := min(b+outBlock, hi)
+			ns := 0
+			for i := b; i < e; i++ {
+				o := &ob[i-b]
+				q, qin, ran := k.column(s, i, &in, o, &local)
+				if oc.lwp >= 0 {
+					outs[oc.lwp][i] = outputValue(&defs[oc.lwp], &in, o, ran)
+				}
+				if !ran {
+					skipped[ns] = i
+					ns++
+				}
+				qc[i] = float64(q)
+				if q&k.screen != 0 {
+					n++
+					countScreen(&why, q&k.screen)
+				}
+				if uw != nil {
+					raw = microphys.RawColumn{In: k.inputs(s, i), Nd: slabAt(s, k.iNd, i), CF: slabAt(s, k.iCF, i), GridMean: k.gridMean}
+					for e, r := range errorRoles {
+						errIn[e] = slabAt(s, r.Index(), i)
+					}
+					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
 				}
 			}
-			qc[i] = float64(q)
-			if q&k.screen != 0 {
-				n++
-				countScreen(&why, q&k.screen)
-			}
-			if uw != nil {
-				raw = microphys.RawColumn{In: k.inputs(s, i), Nd: slabAt(s, k.iNd, i), CF: slabAt(s, k.iCF, i), GridMean: k.gridMean}
-				for e, r := range errorRoles {
-					errIn[e] = slabAt(s, r.Index(), i)
+			for _, g := range oc.gets {
+				d := outs[g.c][b:e]
+				if g.field == noField {
+					for x := range d {
+						d[x] = g.get(&ob[x]) * g.scale
+					}
+					continue
 				}
-				uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, &o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
+				for x := range d {
+					d[x] = *(*float64)(unsafe.Add(unsafe.Pointer(&ob[x]), g.field)) * g.scale
+				}
+			}
+			for _, c := range oc.missing {
+				for _, i := range skipped[:ns] {
+					outs[c][i] = nan
+				}
 			}
 		}
 		screened.Add(n)
@@ -918,6 +954,89 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			counts.add(&local, &why)
 		}
 	}
+}
+
+// computeScratch is one compute call's room: the model outputs of a block of columns and
+// the uncertainty outputs' scratch (nil without uncertainty outputs).
+type computeScratch struct {
+	ob [outBlock]microphys.Outputs
+	uw *uncSlab
+}
+
+// outBlock is the number of columns whose microphys.Outputs compute holds before copying
+// them into the output slabs (36 kB of outputs).
+const outBlock = 256
+
+// outputCopies says how compute fills each output of defs: lwp is the output of the LWP
+// used (-1: none), gets the diagnostics, taken from microphys.Outputs; missing the outputs
+// that are NaN in a column screened before Column (the diagnostics and the copies of other
+// inputs). The same values as outputValue.
+type outputCopies struct {
+	lwp     int
+	gets    []outputGet
+	missing []int
+}
+
+// outputGet is output c's diagnostic, SI value × scale: get's value, read straight from
+// the float64 field at byte offset field of microphys.Outputs when get only returns that
+// field (outputField; noField: get is called).
+type outputGet struct {
+	c     int
+	get   func(o *microphys.Outputs) float64
+	field uintptr
+	scale float64
+}
+
+// noField: an output's get is called (outputGet).
+const noField = ^uintptr(0)
+
+// outputField returns the byte offset in microphys.Outputs of the float64 field get
+// returns, or noField when get is not a plain read of one field: get must give that field's
+// value, bit for bit, on three fillings of every field (QC included) with distinct
+// values of both signs and magnitudes from 1e-9 to 1e31.
+func outputField(get func(o *microphys.Outputs) float64) uintptr {
+	t := reflect.TypeFor[microphys.Outputs]()
+	found := -1
+	for probe := range 3 {
+		var o microphys.Outputs
+		v := reflect.ValueOf(&o).Elem()
+		for f := range t.NumField() {
+			x := float64(f + 1)
+			switch v.Field(f).Kind() {
+			case reflect.Float64:
+				v.Field(f).SetFloat([]float64{x + 0.25, -x * 3e-9, x * 1e30}[probe])
+			case reflect.Uint16:
+				v.Field(f).SetUint([]uint64{0, 0xffff, 1}[probe])
+			}
+		}
+		got := math.Float64bits(get(&o))
+		match := -1
+		for f := range t.NumField() {
+			if v.Field(f).Kind() == reflect.Float64 && math.Float64bits(v.Field(f).Float()) == got {
+				match = f
+			}
+		}
+		if match < 0 || (found >= 0 && match != found) {
+			return noField
+		}
+		found = match
+	}
+	return t.Field(found).Offset
+}
+
+func newOutputCopies(defs []outputDef) outputCopies {
+	oc := outputCopies{lwp: -1}
+	for c, d := range defs {
+		switch {
+		case d.input == grid.RoleLWP:
+			oc.lwp = c
+			continue
+		case d.get != nil:
+			oc.gets = append(oc.gets, outputGet{c: c, get: d.get, field: outputField(d.get), scale: d.scale})
+		}
+		oc.missing = append(oc.missing, c)
+	}
+	return oc
 }
 
 // columnKernel is the work process does for one column, shared with 'column --from' so

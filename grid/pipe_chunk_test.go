@@ -1,0 +1,168 @@
+package grid
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"testing"
+	"unsafe"
+)
+
+// refChunkInput is the chunk filter input as the direct writer built it before
+// chunkInput: gather the chunk from the slab of stored values with the fill
+// value beyond the grid, quantize, shuffle.
+func refChunkInput(o *Output, t *chunkTask, raw []uint64, ny, nx int) []byte {
+	d := o.direct
+	k := t.k
+	sz := d.size[k]
+	cy, cx := d.cy, d.cx
+	stored := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*sz)
+	g := make([]byte, cy*cx*sz)
+	rows, cols := min(cy, ny-t.ry), min(cx, nx-t.rx)
+	for r := 0; r < cy; r++ {
+		row := g[r*cx*sz : (r+1)*cx*sz]
+		c := 0
+		if r < rows {
+			off := ((t.ry+r)*nx + t.rx) * sz
+			c = copy(row, stored[off:off+cols*sz])
+		}
+		for ; c < len(row); c += sz {
+			copy(row[c:c+sz], d.fill[k])
+		}
+	}
+	v := &o.vars[k]
+	if v.Quantize > 0 && o.types[k] == Float {
+		quantizeChunk(g, cy*cx, v.Quantize, float32(v.Fill))
+	}
+	if o.shuffle && sz > 1 {
+		s := make([]byte, len(g))
+		shuffle(s, g, sz)
+		return s
+	}
+	return g
+}
+
+// TestChunkInputMatchesGatherShuffle: the bytes the direct writer compresses
+// (chunkInput, with its one-pass gather and shuffle) are those of gather and
+// shuffle, for every stored type, packed int16, quantized float32, with and
+// without shuffle, for whole chunks and chunks cut by the grid's edge, on
+// values that include NaN, ±Inf, -0, subnormals, values beyond float32's range
+// and beyond a packed type's range (invented data).
+func TestChunkInputMatchesGatherShuffle(t *testing.T) {
+	const ny, nx = 23, 37
+	const cy, cx = 8, 16
+	src := make([]float64, ny*nx)
+	special := []float64{math.NaN(), math.Inf(1), math.Inf(-1), math.Copysign(0, -1), 0, 5e-324, 1e-40,
+		3.5e38, -3.5e38, 1e300, -999, 65535.4, -40000, 4.3e9, -1, 127.5, 2.5}
+	for i := range src {
+		if i%5 == 0 {
+			src[i] = special[(i/5)%len(special)]
+			continue
+		}
+		src[i] = 300*math.Sin(float64(i)*0.37) + 1e-3*math.Cos(float64(i)*1.3)
+	}
+	vars := []OutputVar{
+		{Name: "f", Type: Float32, Fill: -999},
+		{Name: "fq", Type: Float32, Fill: 9.96921e36, Quantize: 3},
+		{Name: "p", Type: Int16, Fill: -32768, Scale: 0.01, Offset: 100},
+		{Name: "b", Type: Int8, Fill: -127},
+		{Name: "i", Type: Int32, Fill: -2147483647},
+		{Name: "u", Type: Uint32, Fill: 4294967295},
+	}
+	for _, shuf := range []bool{true, false} {
+		o := &Output{vars: vars, shuffle: shuf, direct: &directOut{cy: cy, cx: cx}}
+		for k, v := range vars {
+			typ := v.Type.nc()
+			o.types = append(o.types, typ)
+			b := make([]byte, typ.Size())
+			copyRawTo(b, typedPtr(convertTyped([]float64{v.Fill}, typ)), typ.Size())
+			o.direct.fill = append(o.direct.fill, b)
+			o.direct.size = append(o.direct.size, typ.Size())
+			raw := make([]uint64, (ny*nx*typ.Size()+7)/8)
+			encode(&o.vars[k], typ, unsafe.Pointer(&raw[0]), src, 0, ny*nx)
+			for ry := 0; ry < ny; ry += cy {
+				for rx := 0; rx < nx; rx += cx {
+					t.Run(fmt.Sprintf("%s/shuffle=%v/%d,%d", v.Name, shuf, ry, rx), func(t *testing.T) {
+						task := &chunkTask{k: k, ry: ry, rx: rx}
+						want := refChunkInput(o, task, raw, ny, nx)
+						s := getScratch(0, cy*cx*typ.Size())
+						defer putScratch(s)
+						for i := range s.gather { // stale bytes of an earlier chunk must not show
+							s.gather[i], s.shuf[i] = 0xa5, 0x5a
+						}
+						got := o.chunkInput(s, task, raw, ny, nx)
+						if !bytes.Equal(got, want) {
+							t.Errorf("chunk bytes differ from gather + shuffle")
+						}
+					})
+				}
+			}
+		}
+	}
+}
+
+// BenchmarkChunkInput is the work of the direct writer's chunk filters before
+// the compressor: a float32 chunk of 100 x 1000 values from a slab of 200 x
+// 2000, in one pass (chunkInput) and as a copy of its rows followed by shuffle
+// (gather-shuffle), with a third of the values fill in patches (invented data).
+func BenchmarkChunkInput(b *testing.B) {
+	const cy, cx, ny, nx = 100, 1000, 200, 2000
+	src := make([]float64, ny*nx)
+	for i := range src {
+		y, x := float64(i/nx), float64(i%nx)
+		src[i] = 120 + 80*math.Sin(y/37)*math.Cos(x/53) + 3*math.Sin(float64(i)*12.9898)
+		if math.Sin(y/19)+math.Cos(x/23) > 0.8 {
+			src[i] = math.NaN()
+		}
+	}
+	o := &Output{vars: []OutputVar{{Name: "f", Type: Float32, Fill: -999}}, types: []Type{Float}, shuffle: true,
+		direct: &directOut{cy: cy, cx: cx, fill: [][]byte{make([]byte, 4)}, size: []int{4}}}
+	copyRawTo(o.direct.fill[0], typedPtr([]float32{-999}), 4)
+	raw := make([]uint64, ny*nx/2)
+	encode(&o.vars[0], Float, unsafe.Pointer(&raw[0]), src, 0, ny*nx)
+	stored := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*4)
+	task := &chunkTask{ry: cy, rx: cx}
+	s := getScratch(0, cy*cx*4)
+	defer putScratch(s)
+	b.Run("one-pass", func(b *testing.B) {
+		b.SetBytes(cy * cx * 4)
+		for b.Loop() {
+			o.chunkInput(s, task, raw, ny, nx)
+		}
+	})
+	b.Run("gather-shuffle", func(b *testing.B) {
+		b.SetBytes(cy * cx * 4)
+		for b.Loop() {
+			for r := range cy {
+				off := ((task.ry+r)*nx + task.rx) * 4
+				copy(s.gather[r*cx*4:(r+1)*cx*4], stored[off:off+cx*4])
+			}
+			shuffle(s.shuf, s.gather, 4)
+		}
+	})
+}
+
+// TestEncodeFloat: encode stores a float32 output as the nearest float32 of the
+// value (Go's conversion, round to nearest even; values beyond float32's range
+// become ±Inf) and the fill value for NaN and ±Inf, over columns [lo, hi) only
+// (common practice: CF's _FillValue marks missing data).
+func TestEncodeFloat(t *testing.T) {
+	src := []float64{1, math.NaN(), math.Inf(1), math.Inf(-1), math.Copysign(0, -1), 5e-324, 1e-40,
+		3.5e38, -3.5e38, 1e300, 0.1, -2.5, 16777217, math.Float64frombits(0x7ff8000000000001)}
+	v := &OutputVar{Fill: -999}
+	got := make([]float32, len(src)+2)
+	got[0], got[len(got)-1] = 7, 7
+	encode(v, Float, unsafe.Pointer(&got[0]), append([]float64{0}, src...), 1, len(src)+1)
+	if got[0] != 7 || got[len(got)-1] != 7 {
+		t.Fatalf("encode wrote outside [lo, hi): %v", got)
+	}
+	for i, x := range src {
+		want := float32(x)
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			want = -999
+		}
+		if math.Float32bits(got[i+1]) != math.Float32bits(want) {
+			t.Errorf("encode(%g) = %g (%#x), want %g (%#x)", x, got[i+1], math.Float32bits(got[i+1]), want, math.Float32bits(want))
+		}
+	}
+}
