@@ -146,13 +146,9 @@ func newRampShape(nu, s float64) rampShape {
 // out on one ln nu axis (TestRampNuTap), so that a column's four tails share it.
 func (t *rampTable) nuTap(lnNu float64) quadTap { return t.hi[0].tap0(lnNu) }
 
-// tail returns T_s(w) of table k (s = 0 or b) for shape nu in [popNuMin, popNuMax] with
-// the constants c of that shape (c.nu = t.nuTap(ln nu)), w >= rampWMin.
-func (t *rampTable) tail(k int, nu float64, c *rampShape, w float64) float64 {
-	return t.tailZ(k, nu, c, w, 3*c.sa*(c.kc*w*w-1+c.ia))
-}
-
-// tailZ is tail at w with its Wilson-Hilferty variable z = 3 c.sa (c.kc w^2 - 1 + c.ia).
+// tailZ returns T_s(w) of table k (s = 0 or b) for shape nu in [popNuMin, popNuMax] with
+// the constants c of that shape (c.nu = t.nuTap(ln nu)), w >= rampWMin, and its
+// Wilson-Hilferty variable z = 3 c.sa (c.kc w^2 - 1 + c.ia).
 func (t *rampTable) tailZ(k int, nu float64, c *rampShape, w, z float64) float64 {
 	if z >= 0 {
 		if z >= rampZHi {
@@ -169,7 +165,7 @@ func (t *rampTable) tailZ(k int, nu float64, c *rampShape, w, z float64) float64
 	return c.t0 - w + popAt2Tap(t.lo[k], &c.nu, z)
 }
 
-// tails returns tail(k, nu, c, w1) and tail(k, nu, c, w2), the two exponentials in one call
+// tails returns T_s(w1) and T_s(w2) of table k (tailZ), the two exponentials in one call
 // (colExp2) when both points are in the ln T_s table.
 func (t *rampTable) tails(k int, nu float64, c *rampShape, w1, w2 float64) (t1, t2 float64) {
 	z1 := 3 * c.sa * (c.kc*w1*w1 - 1 + c.ia)
