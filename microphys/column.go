@@ -151,7 +151,8 @@ type bulkConsts struct {
 	popFast bool    // the POP grid has the layout popAt2 assumes
 	subE    float64 // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
 	ramp0   rampShape
-	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b, with their stencil along ln nu
+	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b
+	rampNu  quadTap   // their stencil along ln nu (rampTable.nuTap)
 	defAir  adState   // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
 }
 
@@ -204,8 +205,7 @@ func newBulkConsts(p *Params, pt *popTable, rt *rampTable) bulkConsts {
 	c.ramp0, c.rampB = newRampShape(p.GammaShape, 0), newRampShape(p.GammaShape, p.DrizzleLWPExp)
 	c.ramp0.t0, c.rampB.t0 = rampTail0(p.GammaShape, 0), rampTail0(p.GammaShape, p.DrizzleLWPExp)
 	if rt != nil { // the stencil along ln nu of Params.GammaShape, once
-		c.ramp0.nu = rt.nuTap(c.popLnNu)
-		c.rampB.nu = c.ramp0.nu
+		c.rampNu = rt.nuTap(c.popLnNu)
 	}
 	return c
 }
@@ -309,23 +309,27 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 	default:
 		ok := false
 		if m.ramp != nil && nu >= popNuMin && nu <= popNuMax {
-			c0, cb := m.bulk.ramp0, m.bulk.rampB
-			e := m.bulk.subE
 			if math.IsNaN(lnNu) {
 				lnNu = 2 * colLog(sn)
 			}
 			if ownNu {
-				// the per-shape factors from their table (rampNuTable, within rampNuTol)
-				var t00, t0b, kc float64
-				e, t00, t0b, kc, ok = m.ramp.nu.at(lnNu)
-				a := nu + b
-				c0 = rampShape{s: 0, sa: sn, ia: 1 / (9 * nu), kc: 1, t0: t00}
-				cb = rampShape{s: b, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: kc, t0: t0b}
-			}
-			if ok || !ownNu {
+				// the per-shape factors from their table (rampNuTable, within rampNuTol), the
+				// exponentials of T_s(0) only when a tail needs them (rampShape.lt0)
+				var f [4]float64
+				if f, ok = m.ramp.nu.logs(lnNu); ok {
+					a := nu + b
+					c0 := rampShape{s: 0, sa: sn, ia: 1 / (9 * nu), kc: 1, t0: math.NaN(), lt0: f[1]}
+					cb := rampShape{s: b, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: f[3], t0: math.NaN(), lt0: f[2]}
+					var tap quadTap
+					var mbe float64
+					pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb, &tap)
+					mb = colExp(f[0]) * mbe
+				}
+			} else {
+				c0, cb, tap := m.bulk.ramp0, m.bulk.rampB, m.bulk.rampNu
 				var mbe float64
-				pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb)
-				mb = e * mbe
+				pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb, &tap)
+				mb = m.bulk.subE * mbe
 			}
 		}
 		if !ok {

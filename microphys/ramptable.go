@@ -129,17 +129,17 @@ func newRampTable(b float64) *rampTable {
 }
 
 // rampShape holds the per-shape constants of one table k (s = 0 or b) for shape nu:
-// sa = (nu + s)^(1/2), ia = 1/(9 (nu + s)), kc = (nu/(nu + s))^(1/3), t0 = T_s(0) (NaN
-// until needed), and the tables' stencil along ln nu (rampTable.nuTap; not ok until set).
+// sa = (nu + s)^(1/2), ia = 1/(9 (nu + s)), kc = (nu/(nu + s))^(1/3) and t0 = T_s(0) (NaN
+// until needed: then colExp(lt0) when lt0, ln T_s(0) from rampNuTable, is not NaN, else
+// rampTail0). The tables' stencil along ln nu is shared by both shapes (rampTable.nuTap).
 type rampShape struct {
-	s, sa, ia, kc, t0 float64
-	nu                quadTap
+	s, sa, ia, kc, t0, lt0 float64
 }
 
 // newRampShape returns the constants of shape nu for the table of s.
 func newRampShape(nu, s float64) rampShape {
 	a := nu + s
-	return rampShape{s: s, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: math.Cbrt(nu / a), t0: math.NaN()}
+	return rampShape{s: s, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: math.Cbrt(nu / a), t0: math.NaN(), lt0: math.NaN()}
 }
 
 // nuTap returns the stencil along ln nu of lnNu in the four tables, which newRampTable lays
@@ -147,52 +147,55 @@ func newRampShape(nu, s float64) rampShape {
 func (t *rampTable) nuTap(lnNu float64) quadTap { return t.hi[0].tap0(lnNu) }
 
 // tailZ returns T_s(w) of table k (s = 0 or b) for shape nu in [popNuMin, popNuMax] with
-// the constants c of that shape (c.nu = t.nuTap(ln nu)), w >= rampWMin, and its
-// Wilson-Hilferty variable z = 3 c.sa (c.kc w^2 - 1 + c.ia).
-func (t *rampTable) tailZ(k int, nu float64, c *rampShape, w, z float64) float64 {
+// the constants c of that shape and its stencil along ln nu tap = t.nuTap(ln nu),
+// w >= rampWMin, and its Wilson-Hilferty variable z = 3 c.sa (c.kc w^2 - 1 + c.ia).
+func (t *rampTable) tailZ(k int, nu float64, c *rampShape, tap *quadTap, w, z float64) float64 {
 	if z >= 0 {
 		if z >= rampZHi {
 			return 0
 		}
-		return colExp(popAt2Tap(t.hi[k], &c.nu, z))
+		return colExp(popAt2Tap(t.hi[k], tap, z))
 	}
 	if math.IsNaN(c.t0) {
-		c.t0 = rampTail0(nu, c.s)
+		if math.IsNaN(c.lt0) {
+			c.t0 = rampTail0(nu, c.s)
+		} else {
+			c.t0 = colExp(c.lt0)
+		}
 	}
 	if z <= -rampZLo {
 		return c.t0 - w
 	}
-	return c.t0 - w + popAt2Tap(t.lo[k], &c.nu, z)
+	return c.t0 - w + popAt2Tap(t.lo[k], tap, z)
 }
 
 // tails returns T_s(w1) and T_s(w2) of table k (tailZ), the two exponentials in one call
 // (colExp2) when both points are in the ln T_s table.
-func (t *rampTable) tails(k int, nu float64, c *rampShape, w1, w2 float64) (t1, t2 float64) {
+func (t *rampTable) tails(k int, nu float64, c *rampShape, tap *quadTap, w1, w2 float64) (t1, t2 float64) {
 	z1 := 3 * c.sa * (c.kc*w1*w1 - 1 + c.ia)
 	z2 := 3 * c.sa * (c.kc*w2*w2 - 1 + c.ia)
 	if z1 >= 0 && z2 >= 0 && z1 < rampZHi && z2 < rampZHi {
-		return colExp2(popAt2Tap(t.hi[k], &c.nu, z1), popAt2Tap(t.hi[k], &c.nu, z2))
+		return colExp2(popAt2Tap(t.hi[k], tap, z1), popAt2Tap(t.hi[k], tap, z2))
 	}
-	return t.tailZ(k, nu, c, w1, z1), t.tailZ(k, nu, c, w2, z2)
+	return t.tailZ(k, nu, c, tap, w1, z1), t.tailZ(k, nu, c, tap, w2, z2)
 }
 
 // moments returns POP = M(0) and M(b)/E(nu, b) of the ramp onset o for shape nu (in
 // [popNuMin, popNuMax], lnNu = ln nu) and cell top radius rmu, with c0, cb the shape
-// constants of s = 0 and s = b (their stencil along ln nu is set here when not ok); ok is
-// false when r_1/r_μ < rampWMin (then the caller evaluates subgridMoment).
-func (t *rampTable) moments(o Onset, nu, lnNu, rmu float64, c0, cb *rampShape) (pop, mbe float64, ok bool) {
+// constants of s = 0 and s = b and tap their stencil along ln nu (set here when not ok); ok
+// is false when r_1/r_μ < rampWMin (then the caller evaluates subgridMoment).
+func (t *rampTable) moments(o Onset, nu, lnNu, rmu float64, c0, cb *rampShape, tap *quadTap) (pop, mbe float64, ok bool) {
 	r1, r2 := o.Radius-o.Width/2, o.Radius+o.Width/2
 	w1, w2 := r1/rmu, r2/rmu
 	if !(w1 >= rampWMin) {
 		return 0, 0, false
 	}
-	if !c0.nu.ok || !cb.nu.ok {
-		c0.nu = t.nuTap(lnNu)
-		cb.nu = c0.nu
+	if !tap.ok {
+		*tap = t.nuTap(lnNu)
 	}
 	f := rmu / (r2 - r1)
-	p1, p2 := t.tails(0, nu, c0, w1, w2)
-	m1, m2 := t.tails(1, nu, cb, w1, w2)
+	p1, p2 := t.tails(0, nu, c0, tap, w1, w2)
+	m1, m2 := t.tails(1, nu, cb, tap, w1, w2)
 	pop = f * (p1 - p2)
 	mbe = f * (m1 - m2)
 	return min(max(pop, 0), 1), max(mbe, 0), true
@@ -226,18 +229,31 @@ func newRampNuTable(b float64) *rampNuTable {
 }
 
 // at returns E(ν, b), T_0(0), T_b(0) and (ν/(ν + b))^(1/3) for lnNu = ln ν in
-// [0, ln popNuMax]; ok is false outside.
+// [0, ln popNuMax]; ok is false outside. It is logs with the three exponentials taken.
 func (t *rampNuTable) at(lnNu float64) (e, t00, t0b, kc float64, ok bool) {
+	f, ok := t.logs(lnNu)
+	if !ok {
+		return 0, 0, 0, 0, false
+	}
+	e, t00 = colExp2(f[0], f[1])
+	return e, t00, colExp(f[2]), f[3], true
+}
+
+// logs returns the interpolated nodes at lnNu = ln ν in [0, ln popNuMax]: ln E(ν, b),
+// ln T_0(0), ln T_b(0) and (ν/(ν + b))^(1/3); ok is false outside. Column takes the
+// exponentials it needs (T_s(0) only for a tail below z = 0, rampShape.lt0).
+func (t *rampNuTable) logs(lnNu float64) (f [4]float64, ok bool) {
 	u := lnNu * t.inv
 	n := len(t.vals)
 	if !(u >= 0 && u <= float64(n-1)) {
-		return 0, 0, 0, 0, false
+		return f, false
 	}
 	k := max(1, min(int(u+colHalf), n-2))
 	x := u - float64(k)
 	a0, a1, a2 := x*(x-1)/2, 1-x*x, x*(x+1)/2
 	v0, v1, v2 := &t.vals[k-1], &t.vals[k], &t.vals[k+1]
-	f := func(j int) float64 { return a0*v0[j] + a1*v1[j] + a2*v2[j] }
-	e, t00 = colExp2(f(0), f(1))
-	return e, t00, colExp(f(2)), f(3), true
+	for j := range f {
+		f[j] = a0*v0[j] + a1*v1[j] + a2*v2[j]
+	}
+	return f, true
 }

@@ -72,7 +72,7 @@ func TestRampTableBound(t *testing.T) {
 				rmu = r1 + 1.6*c.o.Width*(rng.Float64()-0.3)
 			}
 			c0, cb := newRampShape(nu, 0), newRampShape(nu, c.b)
-			pop, mbe, ok := tab.moments(c.o, nu, math.Log(nu), rmu, &c0, &cb)
+			pop, mbe, ok := tab.moments(c.o, nu, math.Log(nu), rmu, &c0, &cb, &quadTap{})
 			if !ok {
 				continue
 			}
@@ -165,7 +165,7 @@ func TestRampNuTap(t *testing.T) {
 		t.Errorf("only %d of 40000 points inside the tables", inside)
 	}
 	m := defaultModel(t)
-	if w := m.ramp.nuTap(m.bulk.popLnNu); m.bulk.ramp0.nu != w || m.bulk.rampB.nu != w {
-		t.Errorf("the Model's stencil of Params.GammaShape %+v %+v, want %+v", m.bulk.ramp0.nu, m.bulk.rampB.nu, w)
+	if w := m.ramp.nuTap(m.bulk.popLnNu); m.bulk.rampNu != w {
+		t.Errorf("the Model's stencil of Params.GammaShape %+v, want %+v", m.bulk.rampNu, w)
 	}
 }
