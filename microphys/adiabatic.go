@@ -245,13 +245,29 @@ func adiabaticState(T, p float64) adState {
 //
 // within adStateTol relative of the exported functions (tested).
 func airStateFast(T, p float64) adState {
+	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
+		nan := math.NaN()
+		return adState{nan, nan, nan}
+	}
+	tc := T - kelvinOffset
+	return airStateExp(T, p, colExp(airStateArg(tc)))
+}
+
+// airStateArg is the exponent of SatVapourPressure's exponential in airStateFast at
+// tc = T - kelvinOffset (°C).
+func airStateArg(tc float64) float64 { return boltonEs[1] * tc / (tc + boltonEs[2]) }
+
+// airStateExp is airStateFast with the exponential of its vapour pressure known, ex =
+// colExp(airStateArg(T - kelvinOffset)), so that a caller can take it together with another
+// (colExp2): the same arithmetic.
+func airStateExp(T, p, ex float64) adState {
 	nan := math.NaN()
 	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
 		return adState{nan, nan, nan}
 	}
 	tc := T - kelvinOffset
 	rt := 1 / (GasConstantDry * T)
-	es := boltonEs[0] * colExp(boltonEs[1]*tc/(tc+boltonEs[2])) // SatVapourPressure
+	es := boltonEs[0] * ex // SatVapourPressure
 	if !(es < p) {
 		return adState{nan, nan, nan}
 	}

@@ -991,8 +991,10 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 		lnSP = colLog(ps / p)
 	}
 	tm := T + g1*h*colHalf
-	pm := p * colExp(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf))
-	st2 := airStateFast(tm, pm)
+	// p_m and the vapour pressure at T_m (airStateFast), both exponentials in one call
+	em, ev := colExp2(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf), airStateArg(tm-kelvinOffset))
+	pm := p * em
+	st2 := airStateExp(tm, pm, ev)
 	g2 := st2.gm
 	if math.IsNaN(g2) {
 		g2 = g1
