@@ -245,7 +245,15 @@ func (c *bulkConsts) criticalLWP(lwp, reTop float64) (crit, s float64) {
 // kk2000Efficiency is ColumnAutoconvKK2000(Thickness(lwp, 1, gamma), gamma, nd, rho)/lwp for
 // lwp > 0, with lnNd = ln nd.
 func (c *bulkConsts) kk2000Efficiency(lwp, gamma, rho, lnNd float64) float64 {
-	return colExp(c.kkLnK + c.kkY*colLog(lwp*gamma/(rho*rho)) - c.kkN*lnNd)
+	return c.kk2000EfficiencyLn(colLog(kk2000Arg(lwp, gamma, rho)), lnNd)
+}
+
+// kk2000Arg is LWP gamma/rho_a^2, whose logarithm kk2000Efficiency takes.
+func kk2000Arg(lwp, gamma, rho float64) float64 { return lwp * gamma / (rho * rho) }
+
+// kk2000EfficiencyLn is kk2000Efficiency with lnX = colLog(kk2000Arg(lwp, gamma, rho)) known.
+func (c *bulkConsts) kk2000EfficiencyLn(lnX, lnNd float64) float64 {
+	return colExp(c.kkLnK + c.kkY*lnX - c.kkN*lnNd)
 }
 
 // drizzleRate is DrizzleRate(lwp, nd, DrizzleCoef, DrizzleLWPExp, DrizzleNdExp) for lwp > 0,
@@ -478,6 +486,27 @@ func colLog(x float64) float64 {
 	return ef*expLn2Hi + (logLnCentre[j] + (l1p + ef*expLn2Lo))
 }
 
+// colLog2 returns colLog(x) and colLog(y) in one call, the two written out side by side (the
+// same arithmetic, TestColLog2), for logarithms that are needed together.
+func colLog2(x, y float64) (lx, ly float64) {
+	if !(x >= logMinNormal && x < math.MaxFloat64 && y >= logMinNormal && y < math.MaxFloat64) {
+		return colLog(x), colLog(y)
+	}
+	bx, by := math.Float64bits(x), math.Float64bits(y)
+	ex, ey := float64(int64(bx>>expMantBits)-expBias), float64(int64(by>>expMantBits)-expBias)
+	jx := (bx >> (expMantBits - expTableBits)) & (expTableN - 1)
+	jy := (by >> (expMantBits - expTableBits)) & (expTableN - 1)
+	mx := math.Float64frombits(bx&(1<<expMantBits-1) | expBias<<expMantBits)
+	my := math.Float64frombits(by&(1<<expMantBits-1) | expBias<<expMantBits)
+	tx, ty := mx*logInvCentre[jx]-1, my*logInvCentre[jy]-1
+	tx2, ty2 := tx*tx, ty*ty
+	px := tx + tx2*((logTaylor[2]+tx*logTaylor[3])+tx2*((logTaylor[4]+tx*logTaylor[5])+tx2*logTaylor[6]))
+	py := ty + ty2*((logTaylor[2]+ty*logTaylor[3])+ty2*((logTaylor[4]+ty*logTaylor[5])+ty2*logTaylor[6]))
+	lx = ex*expLn2Hi + (logLnCentre[jx] + (px + ex*expLn2Lo))
+	ly = ey*expLn2Hi + (logLnCentre[jy] + (py + ey*expLn2Lo))
+	return lx, ly
+}
+
 // logMinNormal is the smallest normal float64 (colLog's fast range).
 const logMinNormal = 0x1p-1022
 
@@ -682,11 +711,14 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	if lwp > 0 {
 		crit, s := b.criticalLWP(lwp, reTop)
 		out.LWPCrit = crit
-		lnNd := colLog(nd)
+		var lnNd float64
 		if m.ac.Scheme == AutoconvKK2000 {
-			out.Efficiency = b.kk2000Efficiency(lwp, gamma, st.rho, lnNd)
+			var lnX float64 // the two logarithms in one call
+			lnNd, lnX = colLog2(nd, kk2000Arg(lwp, gamma, st.rho))
+			out.Efficiency = b.kk2000EfficiencyLn(lnX, lnNd)
 			out.Autoconv = out.Efficiency * lwp
 		} else {
+			lnNd = colLog(nd)
 			out.Autoconv = ColumnAutoconversion(m.ac, h, gamma, nd, st.rho)
 			out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
 		}
@@ -756,7 +788,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		}
 	}
 	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
-	lnLWP, lnRv := colLog(lwp), colLog(m.cbrtK*reTop)
+	lnLWP, lnRv := colLog2(lwp, m.cbrtK*reTop)
 	var res colResult
 	var ex exactCol // the direct integrations' inputs, when needed
 	collTab := m.tab != nil && m.tab.collect(lnLWP, lnRv, h, T, pr, &res)

@@ -508,6 +508,9 @@ type nGrid struct {
 	cubic         [nDims]bool // curved axis: quadratic interpolation
 	vals          []float32
 	wide          []float64 // vals widened (widen), read by the unrolled lookups and popAt2
+	// qlo, qhi bound u = (x - lo)/step where quadTaps takes x: [0, n - 1], or [1, n - 2]
+	// when the grid is strict (axisTaps' range along a curved axis).
+	qlo, qhi [nDims]float64
 }
 
 const nDims = 5
@@ -522,6 +525,10 @@ func newNGrid(lo, hi []float64, n []int, cubic []bool, strict bool) *nGrid {
 		total *= n[d]
 		g.step[d] = (hi[d] - lo[d]) / float64(n[d]-1)
 		g.inv[d] = 1 / g.step[d]
+		g.qlo[d], g.qhi[d] = 0, float64(n[d]-1)
+		if strict {
+			g.qlo[d], g.qhi[d] = 1, float64(n[d]-2)
+		}
 	}
 	g.vals = make([]float32, total)
 	for i := range g.vals {
@@ -632,14 +639,13 @@ func (g *nGrid) linTaps(d int, xd float64) (off, nt int, w0, w1 float64) {
 	u := (xd - g.lo[d]) * g.inv[d]
 	top := g.n[d] - 1
 	if !(u >= 0 && u <= float64(top)) {
-		return 0, 0, 0, 0
+		return // 0 taps
 	}
 	k := min(int(u), top-1)
-	t := u - float64(k)
-	if t == 0 {
-		return k * g.stride[d], 1, 1, 0
+	if t := u - float64(k); t != 0 {
+		return k * g.stride[d], 2, 1 - t, t
 	}
-	return k * g.stride[d], 2, 1 - t, t
+	return k * g.stride[d], 1, 1, 0
 }
 
 // isLQQQ reports whether g has the threshold table's layout: four axes, the first linear and
@@ -658,13 +664,12 @@ func (g *nGrid) isLLLQQ() bool {
 // false outside (or, for a strict grid, in the first or last cell).
 func (g *nGrid) quadTaps(d int, xd float64, w *[3]float64) (off int, ok bool) {
 	u := (xd - g.lo[d]) * g.inv[d]
-	top := float64(g.n[d] - 1)
-	if !(u >= 0 && u <= top) || g.strict && !(u >= 1 && u <= top-1) {
+	if !(u >= g.qlo[d] && u <= g.qhi[d]) {
 		return 0, false
 	}
 	k := max(1, min(int(u+colHalf), g.n[d]-2))
 	t := u - float64(k)
-	*w = [3]float64{t * (t - 1) / 2, 1 - t*t, t * (t + 1) / 2}
+	w[0], w[1], w[2] = t*(t-1)/2, 1-t*t, t*(t+1)/2
 	return (k - 1) * g.stride[d], true
 }
 
