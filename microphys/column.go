@@ -428,6 +428,36 @@ func popAt2Tap(g *nGrid, a *quadTap, x1 float64) float64 {
 	return acc
 }
 
+// popAt2Tap2 returns popAt2Tap(g, a, x1) and popAt2Tap(g, a, y1) in one call, the two
+// written out side by side (the same arithmetic, TestRampNuTap), for the two tails of one
+// ramp table.
+func popAt2Tap2(g *nGrid, a *quadTap, x1, y1 float64) (vx, vy float64) {
+	ux := (x1 - g.lo[1]) * g.inv[1]
+	uy := (y1 - g.lo[1]) * g.inv[1]
+	top := float64(g.n[1] - 1)
+	if !(a.ok && ux >= 0 && ux <= top && uy >= 0 && uy <= top) || !g.widened() {
+		return popAt2Tap(g, a, x1), popAt2Tap(g, a, y1)
+	}
+	kx := max(1, min(int(ux+colHalf), g.n[1]-2))
+	ky := max(1, min(int(uy+colHalf), g.n[1]-2))
+	tx, ty := ux-float64(kx), uy-float64(ky)
+	bx0, bx1, bx2 := tx*(tx-1)/2, 1-tx*tx, tx*(tx+1)/2
+	by0, by1, by2 := ty*(ty-1)/2, 1-ty*ty, ty*(ty+1)/2
+	sd := g.stride[0]
+	v := g.wide
+	o := (a.k-1)*sd + kx - 1
+	r0, r1, r2 := v[o:o+3], v[o+sd:o+sd+3], v[o+2*sd:o+2*sd+3]
+	o = (a.k-1)*sd + ky - 1
+	q0, q1, q2 := v[o:o+3], v[o+sd:o+sd+3], v[o+2*sd:o+2*sd+3]
+	vx = a.w0 * (bx0*r0[0] + bx1*r0[1] + bx2*r0[2])
+	vy = a.w0 * (by0*q0[0] + by1*q0[1] + by2*q0[2])
+	vx += a.w1 * (bx0*r1[0] + bx1*r1[1] + bx2*r1[2])
+	vy += a.w1 * (by0*q1[0] + by1*q1[1] + by2*q1[2])
+	vx += a.w2 * (bx0*r2[0] + bx1*r2[1] + bx2*r2[2])
+	vy += a.w2 * (by0*q2[0] + by1*q2[1] + by2*q2[2])
+	return vx, vy
+}
+
 // colExp returns e^x within a few units in the last place (tested against math.Exp,
 // expTol): x = (64 k + j) ln2/64 + r with |r| <= ln2/128, e^x = 2^k 2^(j/64) e^r, the 64
 // values 2^(j/64) from math.Exp2 and e^r by its Taylor polynomial to r^5 (truncation below

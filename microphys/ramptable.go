@@ -175,7 +175,7 @@ func (t *rampTable) tails(k int, nu float64, c *rampShape, tap *quadTap, w1, w2 
 	z1 := 3 * c.sa * (c.kc*w1*w1 - 1 + c.ia)
 	z2 := 3 * c.sa * (c.kc*w2*w2 - 1 + c.ia)
 	if z1 >= 0 && z2 >= 0 && z1 < rampZHi && z2 < rampZHi {
-		return colExp2(popAt2Tap(t.hi[k], tap, z1), popAt2Tap(t.hi[k], tap, z2))
+		return colExp2(popAt2Tap2(t.hi[k], tap, z1, z2))
 	}
 	return t.tailZ(k, nu, c, tap, w1, z1), t.tailZ(k, nu, c, tap, w2, z2)
 }

@@ -132,7 +132,8 @@ func TestRampNuTable(t *testing.T) {
 
 // TestRampNuTap checks that the four ramp tables share their ln nu axis (so one stencil,
 // rampTable.nuTap, serves a column's four tails) and that popAt2Tap with that stencil equals
-// popAt2 over the tables and 10 % beyond each end (derived: the same arithmetic).
+// popAt2 over the tables and 10 % beyond each end, and popAt2Tap2 popAt2Tap twice, bit for
+// bit (derived: the same arithmetic).
 func TestRampNuTap(t *testing.T) {
 	t.Parallel()
 	tab := newRampTable(1.75)
@@ -159,6 +160,17 @@ func TestRampNuTap(t *testing.T) {
 		}
 		if !math.IsNaN(want) {
 			inside++
+		}
+		y1 := span(1)
+		if i%8 < 4 { // mostly both inside
+			y1 = x1 + 0.1*(rng.Float64()-0.5)
+		}
+		gx, gy := popAt2Tap2(g, &a, x1, y1)
+		same := func(u, v float64) bool {
+			return math.Float64bits(u) == math.Float64bits(v) || math.IsNaN(u) && math.IsNaN(v)
+		}
+		if wy := popAt2Tap(g, &a, y1); !same(gx, got) || !same(gy, wy) {
+			t.Fatalf("grid %d at (%g, %g, %g): popAt2Tap2 %.17g %.17g, popAt2Tap %.17g %.17g", i%4, x0, x1, y1, gx, gy, got, wy)
 		}
 	}
 	if inside < 20000 {

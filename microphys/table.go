@@ -1188,14 +1188,14 @@ func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (k
 		if !(q >= evMinQ) { // NaN too
 			return evOutside, 0
 		}
-		return evReached, r0 * math.Sqrt(math.Sqrt(math.Min(q, 1)))
+		return evReached, r0 * math.Sqrt(math.Sqrt(min(q, 1))) // the builtins: math.Min and math.Max to the bit, inlined
 	case xi <= -evXiBand:
 		x[4] = math.Sqrt(-xi)
 		lv := t.evap.valueAt(&x)
 		if math.IsNaN(lv) {
 			return evOutside, 0
 		}
-		return evEvaporated, math.Max(-zb*colExpm1(xi*lv), 0)
+		return evEvaporated, max(-zb*colExpm1(xi*lv), 0)
 	}
 	return evOutside, 0
 }
@@ -1213,7 +1213,7 @@ func (t *evapTable) fraction(u float64, l *SubCloudLayer, ps float64) float64 {
 	if math.IsNaN(lf) {
 		return lf
 	}
-	return colExp(math.Min(lf, 0))
+	return colExp(min(lf, 0)) // the builtin: math.Min to the bit (lf is not NaN), inlined
 }
 
 // colExpm1 returns e^x - 1: colExp(x) - 1 for x < -1/2, where |e^x - 1| > 0.39 keeps it
