@@ -224,7 +224,7 @@ def main(d):
             line = "  physics CPU inside the process, %d²: bulk (d)-(b') %.2f s = %.0f ns/column -> script compute / that = %.1f x" % (
                 n, phys, phys * 1e9 / (n * n), sp)
             if c and b:
-                line += "; every diagnostic (c)-(b) %.2f s = %.0f ns/column (table build included)" % (c[3] - b[3], (c[3] - b[3]) * 1e9 / (n * n))
+                line += "; every diagnostic (c)-(b) %.2f s = %.0f ns/column (tables from the warm cache)" % (c[3] - b[3], (c[3] - b[3]) * 1e9 / (n * n))
             p(line)
     wr = [(k, n, r[2]) for (k, n), r in runs.items() if k[0] in "bcd" and n > 0]
     if wr:
