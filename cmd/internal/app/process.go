@@ -63,7 +63,8 @@ progress is removed, what completed is recorded, the exit code is 1.
 
 --dry-run lists, for the files of this shard, each output and what a run would
 do (process, skip, redo, refuse or fail, and why) and how each role is read,
-and writes nothing; it exits 1 when a file would be refused or fail. A batch
+and writes nothing; it exits 1 when a file would be refused or fail; with --json
+the list is one JSON document. A batch
 prints a start line, a line per file with k of N, the rate and the time left,
 and a closing tally; --log FILE appends the same lines to FILE. The physics
 parameters can come from a file (--params, see warmrain params) or from an
@@ -78,6 +79,7 @@ Example:
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
   warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
   warmrain process 'archive/2019/*.nc' -o out/ --params study.toml --dry-run
+  warmrain process 'archive/2019/*.nc' -o out/ --dry-run --json > plan.json
   warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 `
 
@@ -101,6 +103,7 @@ type processOptions struct {
 	quantize                   int
 	slot                       string // internal: "k/n" for a child process of --jobs
 	dryRun                     bool
+	json                       bool // --json: the dry run as one JSON document
 	logPath                    string
 	ensemble                   string // --ensemble FILE of parameter sets
 	phys                       *physicsFlags
@@ -129,6 +132,7 @@ func runProcess(e *env, args []string) error {
 	fs.StringVar(&o.manifest, "manifest", "", "JSON-lines manifest to append to (default: warmrain-manifest.jsonl in the output folder for folder outputs)")
 	fs.BoolVar(&o.checksum, "checksum", false, "identify inputs by SHA-256 for resume (default: path, size and modification time)")
 	fs.BoolVar(&o.dryRun, "dry-run", false, "list what would be done with each input of this shard (process, skip, redo, refuse, fail, and why) and how its variables would be read, then stop; writes nothing")
+	fs.BoolVar(&o.json, "json", false, "with --dry-run: print the list as one JSON document (the same facts as the text)")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "no line per file on stderr (the start and closing lines stay, and --log gets every line)")
 	fs.StringVar(&o.logPath, "log", "", "also append the start line, the line per file and the closing tally to `FILE`")
 	fs.BoolVar(&o.noProgess, "no-progress", false, "no column progress within a file (it is shown only when stderr is a terminal)")
@@ -184,6 +188,9 @@ func runProcess(e *env, args []string) error {
 	if o.force && o.redo {
 		// --force already implies replacing; keep the two meanings apart.
 		return usagef("--force and --redo cannot be combined: --redo replaces warmrain's own outputs, --force any file")
+	}
+	if o.json && !o.dryRun {
+		return usagef("--json is for --dry-run only (a run writes its record to the manifest, --manifest)")
 	}
 	var overrides []grid.Override
 	for _, b := range o.binds {
