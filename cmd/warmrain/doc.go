@@ -49,11 +49,13 @@ Data go to stdout or files; messages go to stderr.
 
 	--dry-run lists, for the files of this shard, each output and what a run would
 	do (process, skip, redo, refuse or fail, and why) and how each role is read,
-	and writes nothing; it exits 1 when a file would be refused or fail. A batch
-	prints a start line, a line per file with k of N, the rate and the time left,
-	and a closing tally; --log FILE appends the same lines to FILE. The physics
-	parameters can come from a file (--params, see warmrain params) or from an
-	earlier output (--params-from); options given here override them.
+	and writes nothing; it exits 1 when a file would be refused or fail. With
+	--json the list is one JSON document on stdout (README "Archives on a batch cluster").
+
+	A batch prints a start line, a line per file with k of N, the rate and the
+	time left, and a closing tally; --log FILE appends the same lines to FILE. The
+	physics parameters can come from a file (--params, see warmrain params) or
+	from an earlier output (--params-from); options given here override them.
 
 	--ensemble SETS processes one input once per parameter set of the text file SETS
 	(one set a line: NAME: --option VALUE ..., physics options as on the command line,
@@ -64,6 +66,7 @@ Data go to stdout or files; messages go to stderr.
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_warmrain.nc
 	  warmrain process 'archive/2019/*.nc' -o out/ --name '{parent}_{stem}_wr.nc' --jobs 2
 	  warmrain process 'archive/2019/*.nc' -o out/ --params study.toml --dry-run
+	  warmrain process 'archive/2019/*.nc' -o out/ --dry-run --json > plan.json
 	  warmrain process samples/data/stratocumulus_demo.nc -o /tmp/demo_ensemble.nc --ensemble samples/data/onset_ensemble.txt
 
 	Options:
@@ -115,6 +118,8 @@ Data go to stdout or files; messages go to stderr.
 	                                             shard (process, skip, redo, refuse, fail, and
 	                                             why) and how its variables would be read, then
 	                                             stop; writes nothing
+	      --json[=true|false]                    with --dry-run: print the list as one JSON
+	                                             document (the same facts as the text)
 	  -q, --quiet[=true|false]                   no line per file on stderr (the start and closing
 	                                             lines stay, and --log gets every line)
 	      --log FILE                             also append the start line, the line per file and

@@ -63,12 +63,13 @@ progress is removed, what completed is recorded, the exit code is 1.
 
 --dry-run lists, for the files of this shard, each output and what a run would
 do (process, skip, redo, refuse or fail, and why) and how each role is read,
-and writes nothing; it exits 1 when a file would be refused or fail; with --json
-the list is one JSON document. A batch
-prints a start line, a line per file with k of N, the rate and the time left,
-and a closing tally; --log FILE appends the same lines to FILE. The physics
-parameters can come from a file (--params, see warmrain params) or from an
-earlier output (--params-from); options given here override them.
+and writes nothing; it exits 1 when a file would be refused or fail. With
+--json the list is one JSON document on stdout (README "Archives on a batch cluster").
+
+A batch prints a start line, a line per file with k of N, the rate and the
+time left, and a closing tally; --log FILE appends the same lines to FILE. The
+physics parameters can come from a file (--params, see warmrain params) or
+from an earlier output (--params-from); options given here override them.
 
 --ensemble SETS processes one input once per parameter set of the text file SETS
 (one set a line: NAME: --option VALUE ..., physics options as on the command line,

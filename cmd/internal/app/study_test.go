@@ -18,6 +18,7 @@ import (
 
 	"github.com/warmrain/warmrain/cmd/internal/batch"
 	"github.com/warmrain/warmrain/grid"
+	"github.com/warmrain/warmrain/grid/gridtest"
 	"github.com/warmrain/warmrain/microphys"
 )
 
@@ -329,6 +330,74 @@ func TestDryRunWritesNothing(t *testing.T) {
 			}
 		}
 	}
+	// --json: the same decisions as one JSON document on stdout, the same exit code and
+	// message on stderr, and still nothing written.
+	code, jsout, jerrs := runProc(t, append(args, "--json")...)
+	if code != ExitFailure || jerrs != errs {
+		t.Errorf("dry run --json: exit %d, stderr %q (text: %q)", code, jerrs, errs)
+	}
+	var rep struct {
+		Digest string `json:"parameters_digest"`
+		Inputs int    `json:"inputs"`
+		Files  []struct {
+			Input, Output, Decision, Reason string
+			Roles                           []struct {
+				Role, Variable string
+				UnitsGiven     string `json:"units_given"`
+				Canonical      string `json:"canonical_units"`
+				Conversion     string
+			}
+		}
+		Tally map[string]int
+	}
+	if err := json.Unmarshal([]byte(jsout), &rep); err != nil {
+		t.Fatalf("dry run --json: %v\n%s", err, jsout)
+	}
+	if !strings.Contains(stdout, "parameters digest "+rep.Digest+";") || rep.Inputs != 5 || len(rep.Files) != 5 {
+		t.Errorf("dry run --json: digest %q, %d inputs, %d files; text:\n%s", rep.Digest, rep.Inputs, len(rep.Files), stdout)
+	}
+	textDecisions := ""
+	for _, f := range rep.Files {
+		n := strings.TrimSuffix(filepath.Base(f.Input), ".nc")
+		verdict := f.Decision
+		if f.Reason != "" {
+			verdict += ": " + f.Reason
+		}
+		if line := f.Input + " -> " + f.Output + ": " + verdict + "\n"; !strings.Contains(stdout, line) || !strings.HasPrefix(want[n], ": "+f.Decision) {
+			t.Errorf("dry run --json: %s: %s, %q; text:\n%s", n, f.Decision, f.Reason, stdout)
+		}
+		textDecisions += n + " " + f.Decision + "\n"
+		if n == "d4" {
+			r := f.Roles[0]
+			if r.Role != "lwp" || r.Variable != "lwp" || r.UnitsGiven != "g m-2" || r.Canonical != "kg m-2" || r.Conversion != "x*0.001 (g m-2 -> kg m-2)" {
+				t.Errorf("dry run --json: d4's first role %+v", r)
+			}
+		}
+	}
+	if rep.Tally["process"] != 1 || rep.Tally["skip"] != 1 || rep.Tally["refuse"] != 1 || rep.Tally["fail"] != 1 || rep.Tally["redo"] != 1 {
+		t.Errorf("dry run --json: tally %v", rep.Tally)
+	}
+	// An outside reader: Debian's python3 json module reads the same decisions.
+	jf := filepath.Join(t.TempDir(), "plan.json")
+	os.WriteFile(jf, []byte(jsout), 0o644)
+	py := gridtest.Python(t, `
+import json, os, sys
+d = json.load(open(sys.argv[1]))
+for f in d["files"]:
+    print(os.path.basename(f["input"])[:-3], f["decision"])
+`, jf)
+	if py != textDecisions || !strings.Contains(py, "d1 skip\n") || !strings.Contains(py, "d3 refuse\n") || !strings.Contains(py, "d4 process\n") {
+		t.Errorf("python json reads\n%s\nwant\n%s", py, textDecisions)
+	}
+	if after := treeState(t, dir); len(after) != len(before) {
+		t.Errorf("dry run --json changed the tree: %d entries before, %d after", len(before), len(after))
+	} else {
+		for p, v := range before {
+			if after[p] != v {
+				t.Errorf("dry run --json changed %s: %s -> %s", p, v, after[p])
+			}
+		}
+	}
 	// A missing output folder is not made; a shard lists its own files only.
 	newOut := filepath.Join(dir, "new") + "/"
 	code, stdout, errs = runProc(t, "process", filepath.Join(ins, "d[1-4].nc"), "-o", newOut, "--dry-run", "--shard", "1/2")
@@ -565,5 +634,15 @@ func TestEnsembleOverParamsFile(t *testing.T) {
 	}
 	if code, _, errs := runProc(t, "process", in, "-o", filepath.Join(dir, "x.nc"), "--ensemble", sets, "--dry-run"); code != ExitUsage || !strings.Contains(errs, "cannot be combined") {
 		t.Errorf("--dry-run with --ensemble: exit %d: %s", code, errs)
+	}
+}
+
+// --json prints the dry run; without --dry-run it is a usage error that says so, before
+// any work (the output folder named here does not exist).
+func TestProcessJSONNeedsDryRun(t *testing.T) {
+	out := filepath.Join(t.TempDir(), "none") + "/"
+	code, stdout, errs := runProc(t, "process", samplePath(t), "-o", out, "--json")
+	if code != ExitUsage || stdout != "" || !strings.Contains(errs, "--json is for --dry-run") || fileExists(out) {
+		t.Errorf("--json without --dry-run: exit %d, stdout %q, stderr %q", code, stdout, errs)
 	}
 }
