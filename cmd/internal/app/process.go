@@ -64,7 +64,8 @@ progress is removed, what completed is recorded, the exit code is 1.
 --dry-run lists, for the files of this shard, each output and what a run would
 do (process, skip, redo, refuse or fail, and why) and how each role is read,
 and writes nothing; it exits 1 when a file would be refused or fail. With
---json the list is one JSON document on stdout (README "Archives on a batch cluster").
+--json the list is one JSON document on stdout (its fields: README, "Archives
+on a batch cluster").
 
 A batch prints a start line, a line per file with k of N, the rate and the
 time left, and a closing tally; --log FILE appends the same lines to FILE. The
