@@ -1254,13 +1254,19 @@ func (r *columnResult) uncertainty(m *microphys.Model, raw *microphys.RawColumn,
 	m.Column(done, &out)
 	n := len(microphys.OutputDecls)
 	defs := outputTable()
+	// The diagnostics and, with --from, the LWP the output file holds (an input copy,
+	// whose error is the input's in the output's units, as process writes it).
+	shown := func(d *outputDef) bool {
+		_, row := r.Diagnostics[d.name]
+		return d.get != nil || (d.input == grid.RoleLWP && row)
+	}
 	if e.Any() {
 		se := make([]float64, n)
 		nl := m.RetrievalError(raw, done, qin, &out, e, se, nil)
 		r.StandardErrors = map[string]jnum{}
 		r.ErrorNonlinear = []string{}
 		for _, d := range defs {
-			if d.get == nil {
+			if !shown(&d) {
 				continue
 			}
 			r.StandardErrors[d.name] = jnum(se[d.decl] * d.scale)
@@ -1280,7 +1286,7 @@ func (r *columnResult) uncertainty(m *microphys.Model, raw *microphys.RawColumn,
 		r.ParameterSpread = map[string]jnum{}
 		r.SpreadParts = map[string]map[string]jnum{}
 		for _, d := range defs {
-			if d.get == nil {
+			if !shown(&d) {
 				continue
 			}
 			r.ParameterSpread[d.name] = jnum(sp[d.decl] * d.scale)

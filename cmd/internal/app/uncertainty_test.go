@@ -6,6 +6,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 
@@ -267,5 +268,92 @@ func TestSummaryUncertaintyMaps(t *testing.T) {
 		if fileExists(filepath.Join(pics, n)) {
 			t.Errorf("%s drawn", n)
 		}
+	}
+}
+
+// TestProcessLWPStandardError: the LWP output (a copy of the input LWP in g m-2) gets as
+// its standard error the input's, converted to the output's units: from kg m-2 (a
+// standard_error modifier) and from a percentage (bound with --bind) turned into an
+// absolute error of the value; CF-clean, and column --from prints the same value. An input
+// without errors gets no uncertainty variable. The inputs are written by netCDF4-python.
+// The expected values are unit conversions (UDUNITS: 1 kg m-2 = 1000 g m-2; p % of x is
+// p/100 x), no physics.
+func TestProcessLWPStandardError(t *testing.T) {
+	if testing.Short() {
+		t.Skip("slow: full tier only (make check); go test -short leaves it out")
+	}
+	dir := t.TempDir()
+	f, plain := filepath.Join(dir, "lwp_err.nc"), filepath.Join(dir, "no_err.nc")
+	gridtest.Python(t, `
+import sys, netCDF4, numpy as np
+for path, errs in ((sys.argv[1], True), (sys.argv[2], False)):
+    d = netCDF4.Dataset(path, "w", format="NETCDF4")
+    d.createDimension("x", 4)
+    v = d.createVariable("lwp", "f4", ("x",))
+    v.standard_name = "atmosphere_mass_content_of_cloud_liquid_water"
+    v.units = "kg m-2"
+    v[:] = np.array([0.06, 0.1, 0.14, 0.2])
+    v = d.createVariable("re", "f4", ("x",))
+    v.standard_name = "effective_radius_of_cloud_liquid_water_particles_at_liquid_water_cloud_top"
+    v.units = "um"
+    v[:] = np.array([10, 12, 14, 9])
+    if errs:
+        v = d.createVariable("lwp_err", "f4", ("x",))
+        v.standard_name = "atmosphere_mass_content_of_cloud_liquid_water standard_error"
+        v.units = "kg m-2"
+        v[:] = np.array([0.006, 0.015, 0.007, 0.03])
+        v = d.createVariable("lwp_pct", "f4", ("x",))
+        v.units = "%"
+        v[:] = np.array([10, 15, 5, 15])
+    d.close()
+`, f, plain)
+	lwp, abs, pct := readVar(t, f, "lwp"), readVar(t, f, "lwp_err"), readVar(t, f, "lwp_pct")
+	for _, c := range []struct {
+		name string
+		args []string
+		want func(i int) float64 // g m-2
+	}{
+		{"absolute", nil, func(i int) float64 { return abs[i] * 1e3 }},
+		{"percent", []string{"--bind", "lwp_se=lwp_pct"}, func(i int) float64 { return pct[i] / 100 * lwp[i] * 1e3 }},
+	} {
+		out := filepath.Join(dir, c.name+".nc")
+		args := append([]string{"process", f, "-o", out, "--no-collector"}, c.args...)
+		if code, _, stderr := runProc(t, args...); code != 0 {
+			t.Fatalf("%s: exit %d: %s", c.name, code, stderr)
+		}
+		lintClean(t, out)
+		got := readVar(t, out, "liquid_water_path"+seSuffix)
+		for i := range got {
+			if w := c.want(i); math.Abs(got[i]-w) > 1e-5*w {
+				t.Errorf("%s: column %d: liquid_water_path_standard_error %g g m-2, input's %g", c.name, i, got[i], w)
+			}
+		}
+		// column --from prints the same error beside the LWP, in text and JSON.
+		cargs := append([]string{"column", "--from", f, "--index", "1", "--no-collector", "--json"}, c.args...)
+		code, stdout, stderr := runProc(t, cargs...)
+		var r struct {
+			StandardErrors map[string]float64 `json:"standard_errors"`
+		}
+		if code != 0 || json.Unmarshal([]byte(stdout), &r) != nil {
+			t.Fatalf("%s: column --from: exit %d: %s\n%s", c.name, code, stderr, stdout)
+		}
+		if g, ok := r.StandardErrors["liquid_water_path"]; !ok || math.Abs(g-c.want(1)) > 1e-5*c.want(1) {
+			t.Errorf("%s: column --from: LWP error %g (given: %v), want %g", c.name, g, ok, c.want(1))
+		}
+		code, stdout, _ = runProc(t, append(cargs[:len(cargs)-len(c.args)-1], c.args...)...)
+		if line := regexp.MustCompile(`liquid_water_path +\S+ +± (\S+) +g m-2`).FindStringSubmatch(stdout); code != 0 || line == nil || line[1] == "-" {
+			t.Errorf("%s: column --from text: no LWP error:\n%s", c.name, stdout)
+		}
+	}
+	out := filepath.Join(dir, "plain.nc")
+	if code, _, stderr := runProc(t, "process", plain, "-o", out, "--no-collector"); code != 0 {
+		t.Fatalf("no errors: exit %d: %s", code, stderr)
+	}
+	names := gridtest.Python(t, `
+import sys, netCDF4
+print(" ".join(v for v in netCDF4.Dataset(sys.argv[1]).variables if "standard_error" in v or "uncertainty" in v))
+`, out)
+	if strings.TrimSpace(names) != "" {
+		t.Errorf("an input without errors gives uncertainty variables: %s", names)
 	}
 }
