@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 	"unsafe"
 )
 
@@ -255,19 +256,7 @@ func (in *Input) Sample(n int) ([]RoleSample, error) {
 	read := 0
 	err := in.eachDecoded(p, buf, func(int, int, int, int, int) error {
 		read += buf.slab.N
-		for i, b := range in.bindings {
-			if b == nil || b.Role.Rule().Plausible == [2]float64{} {
-				continue
-			}
-			for _, x := range buf.slab.In[i] {
-				if len(vals[i]) >= n {
-					break
-				}
-				if !math.IsNaN(x) && !math.IsInf(x, 0) {
-					vals[i] = append(vals[i], x)
-				}
-			}
-		}
+		in.appendSample(&vals, &buf.slab, 0, buf.slab.N, n)
 		if !want() || read >= sampleMaxColumns*n {
 			return errEnough
 		}
@@ -276,6 +265,29 @@ func (in *Input) Sample(n int) ([]RoleSample, error) {
 	if err != nil && err != errEnough {
 		return nil, err
 	}
+	return in.summarise(&vals), nil
+}
+
+// appendSample appends the valid values of columns [lo, hi) of slab s to vals, for each
+// bound role with a Plausible range, up to n values per role.
+func (in *Input) appendSample(vals *[NumRoles][]float64, s *Slab, lo, hi, n int) {
+	for i, b := range in.bindings {
+		if b == nil || b.Role.Rule().Plausible == [2]float64{} || s.In[i] == nil {
+			continue
+		}
+		for _, x := range s.In[i][lo:hi] {
+			if len(vals[i]) >= n {
+				break
+			}
+			if !math.IsNaN(x) && !math.IsInf(x, 0) {
+				vals[i] = append(vals[i], x)
+			}
+		}
+	}
+}
+
+// summarise gives the RoleSample of each role with sampled values, in role order.
+func (in *Input) summarise(vals *[NumRoles][]float64) []RoleSample {
 	var out []RoleSample
 	for i, b := range in.bindings {
 		if b == nil || len(vals[i]) == 0 {
@@ -296,5 +308,65 @@ func (in *Input) Sample(n int) ([]RoleSample, error) {
 		}
 		out = append(out, RoleSample{Role: b.Role, Median: med, Valid: len(v), Outside: float64(outside) / float64(len(v))})
 	}
-	return out, nil
+	return out
+}
+
+// SampleCollector takes the sample of Sample from the slabs a run decodes anyway, so that
+// a run does not read the start of its input twice: its ComputeFunc passes each block to
+// Add (from any goroutine), and Result summarises, after the run, the first n valid values
+// of each role in processing order (slab, then column) within the first
+// sampleMaxColumns*n columns, whatever order the blocks were computed in.
+type SampleCollector struct {
+	in     *Input
+	n      int
+	mu     sync.Mutex
+	blocks []sampleBlock
+}
+
+// sampleBlock is what one block gave: its place in processing order and its values.
+type sampleBlock struct {
+	slab, lo, cols int
+	vals           [NumRoles][]float64
+}
+
+// NewSampleCollector returns a collector of n values per role for a run over in.
+func (in *Input) NewSampleCollector(n int) *SampleCollector {
+	return &SampleCollector{in: in, n: n}
+}
+
+// Add keeps the sample values of columns [lo, hi) of slab s, when they lie within the first
+// sampleMaxColumns*n columns of the run (slabs before s counted at s's size).
+func (c *SampleCollector) Add(s *Slab, lo, hi int) {
+	if int64(s.Index)*int64(s.N)+int64(lo) >= int64(sampleMaxColumns*c.n) {
+		return
+	}
+	b := sampleBlock{slab: s.Index, lo: lo, cols: hi - lo}
+	c.in.appendSample(&b.vals, s, lo, hi, c.n)
+	c.mu.Lock()
+	c.blocks = append(c.blocks, b)
+	c.mu.Unlock()
+}
+
+// Result summarises the values kept (RoleSample, in role order).
+func (c *SampleCollector) Result() []RoleSample {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	slices.SortFunc(c.blocks, func(a, b sampleBlock) int {
+		if a.slab != b.slab {
+			return a.slab - b.slab
+		}
+		return a.lo - b.lo
+	})
+	var vals [NumRoles][]float64
+	read := 0
+	for _, b := range c.blocks {
+		if read >= sampleMaxColumns*c.n {
+			break
+		}
+		read += b.cols
+		for i, v := range b.vals {
+			vals[i] = append(vals[i], v[:min(len(v), c.n-len(vals[i]))]...)
+		}
+	}
+	return c.in.summarise(&vals)
 }

@@ -161,6 +161,12 @@ func unitWarnings(gin *grid.Input) []string {
 	if err != nil {
 		return nil
 	}
+	return unitWarningsOf(gin, sm)
+}
+
+// unitWarningsOf gives unitWarnings' warnings for the sample sm of gin (process takes it
+// from the slabs it decodes, grid.SampleCollector, instead of reading the start twice).
+func unitWarningsOf(gin *grid.Input, sm []grid.RoleSample) []string {
 	var w []string
 	for _, s := range sm {
 		pr := s.Role.Rule().Plausible

@@ -684,11 +684,6 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	for _, w := range in.Warnings {
 		fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
 	}
-	if !j.o.ioOnly {
-		for _, w := range unitWarnings(in) {
-			fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
-		}
-	}
 	assumed := assumed(in, j.params)
 	var used []string
 	for _, b := range in.Bindings() {
@@ -768,7 +763,17 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if j.o.stats {
 		popt.Stats = &stats
 	}
-	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan))
+	// The unit sample comes from the first slabs the run decodes (its warnings follow the run).
+	var sample *grid.SampleCollector
+	if !j.o.ioOnly {
+		sample = in.NewSampleCollector(unitSampleSize)
+	}
+	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan, sample))
+	if sample != nil && err == nil {
+		for _, w := range unitWarningsOf(in, sample.Result()) {
+			fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
+		}
+	}
 	if j.o.stats {
 		busy := stats.Read + stats.Write
 		note := ""
@@ -877,7 +882,7 @@ func (j *processJob) workers(writer string) int {
 // The diagnostics are copied out of each block of outBlock columns' microphys.Outputs one
 // output at a time (outputCopies), a tight loop per output instead of a call per output
 // and column. It allocates nothing per column.
-func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan) grid.ComputeFunc {
+func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan, sample *grid.SampleCollector) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	k := newColumnKernel(m, gin)
@@ -886,6 +891,9 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 	// block of outputs and uncertainty scratch from a pool.
 	scratch := sync.Pool{New: func() any { return &computeScratch{uw: plan.slab()} }}
 	return func(s *grid.Slab, outs [][]float64, lo, hi int) {
+		if sample != nil {
+			sample.Add(s, lo, hi)
+		}
 		var in microphys.Inputs
 		sc := scratch.Get().(*computeScratch)
 		defer scratch.Put(sc)

@@ -84,7 +84,7 @@ func TestComputeMatchesOutputValue(t *testing.T) {
 	var scr atomic.Int64
 	var counts tally
 	j := &processJob{params: p, defs: defs, model: m}
-	f := j.compute(&scr, gin, &counts, nil)
+	f := j.compute(&scr, gin, &counts, nil, nil)
 	for _, r := range [][2]int{{0, 3}, {3, outBlock + 5}, {outBlock + 5, n}} {
 		f(s, outs, r[0], r[1])
 	}
