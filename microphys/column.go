@@ -356,31 +356,11 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 
 // popAt2 is g.at for a grid of two curved axes, not strict, last stride 1 (the POP table):
 // the same taps (nGrid.axisTaps), weights and order of summation, unrolled, on the widened
-// values (nGrid.widen; g.at itself when they are missing).
+// values (nGrid.widen; g.at itself when they are missing): the stencil of tap0 and the sums of
+// popAt2Tap (TestPopColumn and TestRampNuTap check equality with g.at).
 func popAt2(g *nGrid, x0, x1 float64) float64 {
-	u0 := (x0 - g.lo[0]) * g.inv[0]
-	u1 := (x1 - g.lo[1]) * g.inv[1]
-	if !(u0 >= 0 && u0 <= float64(g.n[0]-1) && u1 >= 0 && u1 <= float64(g.n[1]-1)) {
-		return math.NaN()
-	}
-	if !g.widened() {
-		return g.at(&[nDims]float64{x0, x1})
-	}
-	k0 := max(1, min(int(u0+colHalf), g.n[0]-2))
-	k1 := max(1, min(int(u1+colHalf), g.n[1]-2))
-	t0, t1 := u0-float64(k0), u1-float64(k1)
-	a0, a1, a2 := t0*(t0-1)/2, 1-t0*t0, t0*(t0+1)/2
-	b0, b1, b2 := t1*(t1-1)/2, 1-t1*t1, t1*(t1+1)/2
-	sd := g.stride[0]
-	o := (k0-1)*sd + k1 - 1
-	v := g.wide
-	r0 := v[o : o+3]
-	r1 := v[o+sd : o+sd+3]
-	r2 := v[o+2*sd : o+2*sd+3]
-	acc := a0 * (b0*r0[0] + b1*r0[1] + b2*r0[2])
-	acc += a1 * (b0*r1[0] + b1*r1[1] + b2*r1[2])
-	acc += a2 * (b0*r2[0] + b1*r2[1] + b2*r2[2])
-	return acc
+	a := g.tap0(x0)
+	return popAt2Tap(g, &a, x1)
 }
 
 // quadTap is popAt2's stencil along axis 0 of a grid at x0: the middle node k and the

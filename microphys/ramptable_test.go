@@ -158,6 +158,9 @@ func TestRampNuTap(t *testing.T) {
 		if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
 			t.Fatalf("grid %d at (%g, %g): %.17g, popAt2 %.17g", i%4, x0, x1, got, want)
 		}
+		if ref := g.at(&[nDims]float64{x0, x1}); !math.IsNaN(want) && want != ref {
+			t.Fatalf("grid %d at (%g, %g): popAt2 %.17g, nGrid.at %.17g", i%4, x0, x1, want, ref)
+		}
 		if !math.IsNaN(want) {
 			inside++
 		}
