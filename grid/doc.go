@@ -95,7 +95,7 @@
 // Masks (ParseMask, OpenOptions.Masks) bind quality variables to internal slots
 // (RoleQuality1..6); the phase and multilayer roles become masks too. Input.Masks
 // says, per column value, whether a mask screens it (Mask.Screens, CF flag values,
-// masks or both); Input.Count and QualityStats count what masks and flag codes
+// masks or both); Input.Count and Survey count what masks and flag codes
 // remove.
 //
 // The LWP standard deviation (lwp_sd) is recognised by an LWP standard_name with

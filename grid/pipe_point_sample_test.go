@@ -46,6 +46,18 @@ func TestSampleCollector(t *testing.T) {
 	if got := run(20000, 2).Result(); !slices.Equal(got, want) || len(got) != 2 {
 		t.Errorf("collector %+v, Sample %+v", got, want)
 	}
+	// Survey's sample, from its one read of the whole input, is Sample's too, and its
+	// statistics are those of Stats.
+	st, _, sv, err := in.Survey(20000)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(sv, want) {
+		t.Errorf("Survey %+v, Sample %+v", sv, want)
+	}
+	if st0, err := in.Stats(); err != nil || !slices.Equal(st, st0) || len(st) != 2 {
+		t.Errorf("Survey statistics %+v, Stats %+v (%v)", st, st0, err)
+	}
 	// A part of the columns: the first n valid values in processing order, the same for
 	// one worker and for blocks computed out of order.
 	one := run(300, 1)

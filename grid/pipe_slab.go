@@ -353,6 +353,17 @@ func (in *Input) eachDecoded(p *slabPlan, buf *inBuf, fn func(lead, y0, ny, x0, 
 // Stats reads every bound variable once, slab by slab, and returns the value
 // statistics (in canonical units) in role order.
 func (in *Input) Stats() ([]VarStats, error) {
+	st, _, _, err := in.Survey(0)
+	return st, err
+}
+
+// Survey reads every bound variable once, slab by slab, and returns from that one
+// read the value statistics (in canonical units, role order), what the masks and flag
+// codes remove (Input.Count), and the unit sample of Sample: the first n valid values of
+// each role with a Plausible range within the first sampleMaxColumns*n columns, in
+// processing order (nil for n = 0).
+func (in *Input) Survey(n int) ([]VarStats, QualityCounts, []RoleSample, error) {
+	var c QualityCounts
 	p := newPlan(in, nil, in.opt.SlabBytes)
 	buf := newInBuf(in, p)
 	defer buf.release()
@@ -363,8 +374,10 @@ func (in *Input) Stats() ([]VarStats, error) {
 	}
 	var err error
 	if e := onIO(func() { err = in.setInputCachesIO(p) }); e != nil || err != nil {
-		return nil, firstErr(e, err)
+		return nil, c, nil, firstErr(e, err)
 	}
+	var vals [NumRoles][]float64
+	read := 0
 	err = in.eachDecoded(p, buf, func(lead, y0, ny, x0, nx int) error {
 		for i := range buf.slab.In {
 			for _, x := range buf.slab.In[i] {
@@ -378,10 +391,15 @@ func (in *Input) Stats() ([]VarStats, error) {
 				st[i].Max = math.Max(st[i].Max, x)
 			}
 		}
+		in.Count(&buf.slab, 0, buf.slab.N, &c)
+		if left := sampleMaxColumns*n - read; left > 0 {
+			in.appendSample(&vals, &buf.slab, 0, min(buf.slab.N, left), n)
+			read += buf.slab.N
+		}
 		return nil
 	})
 	if err != nil {
-		return nil, err
+		return nil, c, nil, err
 	}
 	var out []VarStats
 	for i, b := range in.bindings {
@@ -398,7 +416,11 @@ func (in *Input) Stats() ([]VarStats, error) {
 		s.FillFraction = float64(s.Missing) / float64(s.Valid+s.Missing)
 		out = append(out, s)
 	}
-	return out, nil
+	var sample []RoleSample
+	if n > 0 {
+		sample = in.summarise(&vals)
+	}
+	return out, c, sample, nil
 }
 
 // String formats the statistics on one line.
@@ -422,24 +444,6 @@ func (in *Input) SlabInfo(nOut int) SlabInfo {
 	}
 	p := newPlan(in, types, in.opt.SlabBytes)
 	return SlabInfo{Rows: p.ry, Slabs: p.count, ChunkRows: p.cy, Columns: p.maxN}
-}
-
-// QualityStats reads the input once and counts what the masks and flag codes
-// remove (for inspect).
-func (in *Input) QualityStats() (QualityCounts, error) {
-	var c QualityCounts
-	p := newPlan(in, nil, in.opt.SlabBytes)
-	buf := newInBuf(in, p)
-	defer buf.release()
-	var err error
-	if e := onIO(func() { err = in.setInputCachesIO(p) }); e != nil || err != nil {
-		return c, firstErr(e, err)
-	}
-	err = in.eachDecoded(p, buf, func(int, int, int, int, int) error {
-		in.Count(&buf.slab, 0, buf.slab.N, &c)
-		return nil
-	})
-	return c, err
 }
 
 // bytesPerColumn is the slab memory one column takes: each bound input in its

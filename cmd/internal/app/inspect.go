@@ -279,17 +279,14 @@ func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid
 		lr.Coords = []string{}
 	}
 	rep.Layout = lr
-	stats, err := in.Stats()
+	// One read gives the statistics, the screening counts and the unit sample.
+	stats, qc, sample, err := in.Survey(unitSampleSize)
 	if err != nil {
 		return nil, err
 	}
 	byRole := map[grid.Role]grid.VarStats{}
 	for _, s := range stats {
 		byRole[s.Role] = s
-	}
-	qc, err := in.QualityStats()
-	if err != nil {
-		return nil, err
 	}
 	for _, rule := range grid.RoleRules {
 		if rule.Internal {
@@ -340,7 +337,7 @@ func inspectFile(path string, ovs []grid.Override, inp *inputFlags, masks []grid
 		q.Masks = append(q.Masks, maskReport{Mask: m.Name(), Screens: m.Describe(), Columns: qc.Masks[k]})
 	}
 	rep.Quality = q
-	rep.Warnings = append(append([]string(nil), in.Warnings...), unitWarnings(in)...)
+	rep.Warnings = append(append([]string(nil), in.Warnings...), unitWarningsOf(in, sample)...)
 	return rep, nil
 }
 
