@@ -766,6 +766,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	okL := false
 	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
 	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
+	var ev evLook  // the layer part of the evaporation lookups (evapTable.prepare)
 	if p.EnableEvaporation {
 		if fastL {
 			okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
@@ -784,7 +785,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			f := nan
 			if fastL {
 				psL = m.surfacePressureFast(cth, &l)
-				f = m.tab.evap.fraction(u, &l, psL)
+				f = m.tab.evap.prepare(u, &l, psL, &ev)
 			}
 			if math.IsNaN(f) {
 				if m.tab != nil {
@@ -826,7 +827,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		out.QC = qc | QCEvaporationSkipped
 		return
 	}
-	if !fastL || !m.tab.evaporate(res.r, res.lnR, u, &l, psL, &res) { // psL: set with the layer (okL)
+	if !fastL || !m.tab.evaporate(res.r, res.lnR, &ev, &res) { // ev: prepared with the layer (okL)
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
 		}

@@ -79,6 +79,7 @@ func (t *evapTable) widen() {
 	for _, g := range []*nGrid{t.thr, t.reach, t.evap, t.flux} {
 		g.widen()
 	}
+	t.fast = t.fastLayout()
 }
 
 // widen sets g.wide from g.vals, once they are filled.
@@ -508,7 +509,7 @@ type nGrid struct {
 	cubic         [nDims]bool // curved axis: quadratic interpolation
 	vals          []float32
 	wide          []float64 // vals widened (widen), read by the unrolled lookups and popAt2
-	// qlo, qhi bound u = (x - lo)/step where quadTaps takes x: [0, n - 1], or [1, n - 2]
+	// qlo, qhi bound u = (x - lo)/step where quadT takes x: [0, n - 1], or [1, n - 2]
 	// when the grid is strict (axisTaps' range along a curved axis).
 	qlo, qhi [nDims]float64
 }
@@ -633,200 +634,6 @@ func (g *nGrid) at(x *[nDims]float64) float64 {
 	return acc
 }
 
-// linTaps is axisTaps along linear axis d: the same offset, number of taps (0 outside) and
-// weights, for the unrolled lookups below (which write out axisTaps along the curved axes).
-func (g *nGrid) linTaps(d int, xd float64) (off, nt int, w0, w1 float64) {
-	u := (xd - g.lo[d]) * g.inv[d]
-	top := g.n[d] - 1
-	if !(u >= 0 && u <= float64(top)) {
-		return // 0 taps
-	}
-	k := min(int(u), top-1)
-	if t := u - float64(k); t != 0 {
-		return k * g.stride[d], 2, 1 - t, t
-	}
-	return k * g.stride[d], 1, 1, 0
-}
-
-// isLQQQ reports whether g has the threshold table's layout: four axes, the first linear and
-// the other three curved (at1L3Q).
-func (g *nGrid) isLQQQ() bool {
-	return g.dims == 4 && !g.cubic[0] && g.cubic[1] && g.cubic[2] && g.cubic[3] && g.widened()
-}
-
-// isLLLQQ reports whether g has the value tables' layout: five axes, three linear and then two
-// curved (at3L2Q).
-func (g *nGrid) isLLLQQ() bool {
-	return g.dims == 5 && !g.cubic[0] && !g.cubic[1] && !g.cubic[2] && g.cubic[3] && g.cubic[4] && g.widened()
-}
-
-// quadTaps is axisTaps for curved axis d: the first tap's offset and the 3 quadratic weights;
-// false outside (or, for a strict grid, in the first or last cell).
-func (g *nGrid) quadTaps(d int, xd float64, w *[3]float64) (off int, ok bool) {
-	u := (xd - g.lo[d]) * g.inv[d]
-	if !(u >= g.qlo[d] && u <= g.qhi[d]) {
-		return 0, false
-	}
-	k := max(1, min(int(u+colHalf), g.n[d]-2))
-	t := u - float64(k)
-	w[0], w[1], w[2] = t*(t-1)/2, 1-t*t, t*(t+1)/2
-	return (k - 1) * g.stride[d], true
-}
-
-// at1L3Q is at for a grid with isLQQQ (the threshold table): the same taps and weights,
-// unrolled and contracted axis by axis (last axis first) so that the sums of one axis do not
-// wait for each other; equal to at to rounding.
-func (g *nGrid) at1L3Q(x *[nDims]float64) float64 {
-	o0, n0, a0, a1 := g.linTaps(0, x[0])
-	if n0 == 0 {
-		return math.NaN()
-	}
-	var wq [4][3]float64 // quadTaps of axes 1-3, written out
-	oq := 0
-	for d := 1; d < 4; d++ {
-		off, ok := g.quadTaps(d, x[d], &wq[d])
-		if !ok {
-			return math.NaN()
-		}
-		oq += off
-	}
-	wb, wc, wd := &wq[1], &wq[2], &wq[3]
-	wa := [2]float64{a0, a1}
-	s0, s1, s2 := g.stride[0], g.stride[1], g.stride[2]
-	v := g.wide
-	acc := 0.0
-	for a := 0; a < n0; a++ {
-		var sb [3]float64
-		for b := 0; b < 3; b++ {
-			o := o0 + a*s0 + b*s1 + oq
-			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
-			r0 := wd[0]*p0[0] + wd[1]*p0[1] + wd[2]*p0[2]
-			r1 := wd[0]*p1[0] + wd[1]*p1[1] + wd[2]*p1[2]
-			r2 := wd[0]*p2[0] + wd[1]*p2[1] + wd[2]*p2[2]
-			sb[b] = wc[0]*r0 + wc[1]*r1 + wc[2]*r2
-		}
-		acc += wa[a] * (wb[0]*sb[0] + wb[1]*sb[1] + wb[2]*sb[2])
-	}
-	return acc
-}
-
-// at1L3QMid is at1L3Q for a threshold table of well-mixed layers at x[2] = evMixedU: axis 2
-// holds copies of one layer (evapTable.fill) and evMixedU falls on its middle node, where
-// quadTaps gives the weights (-0, 1, 0), so the middle tap alone is at1L3Q's value (the
-// other two add zeros; TestTableFastPaths checks equality). NaN outside, as at1L3Q.
-func (g *nGrid) at1L3QMid(x *[nDims]float64) float64 {
-	o0, n0, a0, a1 := g.linTaps(0, x[0])
-	if n0 == 0 {
-		return math.NaN()
-	}
-	var wb, wd [3]float64
-	ob, okb := g.quadTaps(1, x[1], &wb)
-	od, okd := g.quadTaps(3, x[3], &wd)
-	if !okb || !okd {
-		return math.NaN()
-	}
-	wa := [2]float64{a0, a1}
-	s0, s1 := g.stride[0], g.stride[1]
-	oq := ob + g.stride[2] + od // the middle node of axis 2
-	v := g.wide
-	acc := 0.0
-	for a := 0; a < n0; a++ {
-		o := o0 + a*s0 + oq
-		p0, p1, p2 := v[o:o+3:o+3], v[o+s1:o+s1+3:o+s1+3], v[o+2*s1:o+2*s1+3:o+2*s1+3]
-		r0 := wd[0]*p0[0] + wd[1]*p0[1] + wd[2]*p0[2]
-		r1 := wd[0]*p1[0] + wd[1]*p1[1] + wd[2]*p1[2]
-		r2 := wd[0]*p2[0] + wd[1]*p2[1] + wd[2]*p2[2]
-		acc += wa[a] * (wb[0]*r0 + wb[1]*r1 + wb[2]*r2)
-	}
-	return acc
-}
-
-// at3L2Q is at for a grid with isLLLQQ (the value tables): the same taps and weights,
-// unrolled and contracted along the two curved axes first (as at1L3Q); equal to at to
-// rounding.
-func (g *nGrid) at3L2Q(x *[nDims]float64) float64 {
-	o0, n0, a0, a1 := g.linTaps(0, x[0])
-	o1, n1, b0, b1 := g.linTaps(1, x[1])
-	o2, n2, c0, c1 := g.linTaps(2, x[2])
-	if n0 == 0 || n1 == 0 || n2 == 0 {
-		return math.NaN()
-	}
-	var wq [5][3]float64 // quadTaps of axes 3 and 4, written out
-	oq := 0
-	for d := 3; d < 5; d++ {
-		off, ok := g.quadTaps(d, x[d], &wq[d])
-		if !ok {
-			return math.NaN()
-		}
-		oq += off
-	}
-	wd, we := &wq[3], &wq[4]
-	wa, wb, wc := [2]float64{a0, a1}, [2]float64{b0, b1}, [2]float64{c0, c1}
-	s0, s1, s2, s3 := g.stride[0], g.stride[1], g.stride[2], g.stride[3]
-	v := g.wide
-	acc := 0.0
-	for a := 0; a < n0; a++ {
-		for b := 0; b < n1; b++ {
-			wab := wa[a] * wb[b]
-			for c := 0; c < n2; c++ {
-				o := o0 + a*s0 + o1 + b*s1 + o2 + c*s2 + oq
-				p0, p1, p2 := v[o:o+3:o+3], v[o+s3:o+s3+3:o+s3+3], v[o+2*s3:o+2*s3+3:o+2*s3+3]
-				r0 := we[0]*p0[0] + we[1]*p0[1] + we[2]*p0[2]
-				r1 := we[0]*p1[0] + we[1]*p1[1] + we[2]*p1[2]
-				r2 := we[0]*p2[0] + we[1]*p2[1] + we[2]*p2[2]
-				acc += wab * wc[c] * (wd[0]*r0 + wd[1]*r1 + wd[2]*r2)
-			}
-		}
-	}
-	return acc
-}
-
-// isLLQQ reports whether g has the flux table's layout: four axes, two linear and then two
-// curved (at2L2Q).
-func (g *nGrid) isLLQQ() bool {
-	return g.dims == 4 && !g.cubic[0] && !g.cubic[1] && g.cubic[2] && g.cubic[3] && g.widened()
-}
-
-// at2L2Q is at for a grid with isLLQQ (the flux table of well-mixed layers): the same taps
-// and weights, unrolled and contracted along the two curved axes first (as at3L2Q); equal to
-// at to rounding (TestTableFastPaths).
-func (g *nGrid) at2L2Q(x *[nDims]float64) float64 {
-	o0, n0, a0, a1 := g.linTaps(0, x[0])
-	o1, n1, b0, b1 := g.linTaps(1, x[1])
-	if n0 == 0 || n1 == 0 {
-		return math.NaN()
-	}
-	var wc, wd [3]float64
-	oc, okc := g.quadTaps(2, x[2], &wc)
-	od, okd := g.quadTaps(3, x[3], &wd)
-	if !okc || !okd {
-		return math.NaN()
-	}
-	wa, wb := [2]float64{a0, a1}, [2]float64{b0, b1}
-	s0, s1, s2 := g.stride[0], g.stride[1], g.stride[2]
-	v := g.wide
-	acc := 0.0
-	for a := 0; a < n0; a++ {
-		for b := 0; b < n1; b++ {
-			o := o0 + a*s0 + o1 + b*s1 + oc + od
-			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
-			r0 := wd[0]*p0[0] + wd[1]*p0[1] + wd[2]*p0[2]
-			r1 := wd[0]*p1[0] + wd[1]*p1[1] + wd[2]*p1[2]
-			r2 := wd[0]*p2[0] + wd[1]*p2[1] + wd[2]*p2[2]
-			acc += wa[a] * wb[b] * (wc[0]*r0 + wc[1]*r1 + wc[2]*r2)
-		}
-	}
-	return acc
-}
-
-// valueAt is at, through at3L2Q for the value tables' layout.
-func (g *nGrid) valueAt(x *[nDims]float64) float64 {
-	if g.isLLLQQ() {
-		return g.at3L2Q(x)
-	}
-	return g.at(x)
-}
-
 // Evaporation table.
 //
 // The drop that just reaches the surface with zero radius leaves cloud base with the
@@ -861,6 +668,10 @@ type evapTable struct {
 	flux  *nGrid
 	mixed bool       // well-mixed layers (HumidityWellMixed): the u axes are placeholders
 	dsd   DrizzleDSD // the drizzle distribution of flux
+	// thrMid: the threshold table's u axis is the 3 placeholder nodes of well-mixed layers,
+	// evMixedU on the middle one (evapTable.threshold); fast: every grid is widened and has
+	// the layout of the lookups of evapfast.go (set by widen).
+	thrMid, fast bool
 }
 
 // Well-mixed layers (Params.SubCloudHumidity HumidityWellMixed) have no surface-humidity
@@ -868,8 +679,8 @@ type evapTable struct {
 // the surface-RH ones with the u axis reduced to placeholder nodes that all hold the same
 // layer (3 nodes on [-1, 1] for the strict, curved threshold axis, 2 on [0, 1] for the
 // linear axes of the value and flux tables), and are looked up at u = evMixedU, which falls
-// on a node of each, so that one node is used with weight 1 (derived from quadTaps and
-// linTaps) and the placeholders cost no accuracy.
+// on a node of each, so that one node is used with weight 1 (derived from quadT and
+// linAxis) and the placeholders cost no accuracy.
 const evMixedU = 0.0
 
 // Axes of the surface drizzle fraction table (evapTable.flux): p_s (Pa, offset from
@@ -955,6 +766,7 @@ func newEvapTable(p Params) *evapTable {
 	t.flux = newNGrid([]float64{ps0 + fa.lo[0], fluxU[0], fa.lo[2], fa.lo[3]},
 		[]float64{ps0 + fa.hi[0], fluxU[1], fa.hi[2], fa.hi[3]},
 		[]int{fa.n[0], int(fluxU[2]), fa.n[2], fa.n[3]}, []bool{false, !t.mixed, true, true}, false)
+	t.thrMid = t.mixed && t.midLayout()
 	return t
 }
 
@@ -1160,79 +972,31 @@ const (
 	evEvaporated
 )
 
-// lookup interpolates the evaporation of a drop of radius r0 (m, lnR0 = ln r0) leaving the
-// base of layer l above a surface at pressure ps (Pa); u = ln(1 - l.SurfaceRH). It returns evReached with the surface radius, or
-// evEvaporated with the evaporation height, or evOutside.
+// lookup is prepare and lookupAt for one drop of radius r0 (m, lnR0 = ln r0) leaving the
+// base of layer l above a surface at pressure ps (Pa), u = ln(1 - l.SurfaceRH): evReached
+// with the surface radius, evEvaporated with the evaporation height, or evOutside.
 func (t *evapTable) lookup(r0, lnR0, u float64, l *SubCloudLayer, ps float64) (kind int, v float64) {
-	zb := l.BaseHeight
-	lz := colLog(zb) // a table coordinate: absolute error logTol max(1, |ln z_b|)
-	x := [nDims]float64{ps, l.BaseT, u, lz}
-	var lrs float64
-	switch {
-	case t.mixed && u == evMixedU && t.thr.isLQQQ() && t.thr.n[2] == 3:
-		lrs = t.thr.at1L3QMid(&x)
-	case t.thr.isLQQQ():
-		lrs = t.thr.at1L3Q(&x)
-	default:
-		lrs = t.thr.at(&x)
-	}
-	if math.IsNaN(lrs) {
-		return evOutside, 0
-	}
-	xi := lnR0 - lrs
-	x = [nDims]float64{ps, u, l.BaseT, lz, 0}
-	switch {
-	case xi >= evXiBand:
-		x[4] = math.Sqrt(xi)
-		q := -colExpm1(xi * (t.reach.valueAt(&x) - 4))
-		if !(q >= evMinQ) { // NaN too
-			return evOutside, 0
-		}
-		return evReached, r0 * math.Sqrt(math.Sqrt(min(q, 1))) // the builtins: math.Min and math.Max to the bit, inlined
-	case xi <= -evXiBand:
-		x[4] = math.Sqrt(-xi)
-		lv := t.evap.valueAt(&x)
-		if math.IsNaN(lv) {
-			return evOutside, 0
-		}
-		return evEvaporated, max(-zb*colExpm1(xi*lv), 0)
-	}
-	return evOutside, 0
+	var e evLook
+	t.prepare(u, l, ps, &e)
+	return t.lookupAt(r0, lnR0, &e)
 }
 
 // fraction interpolates the surface drizzle fraction F of the layer l above a surface at
 // pressure ps (Pa), u = ln(1 - RH_s) (evMixedU for well-mixed layers); NaN outside the table.
+// It is prepare's F.
 func (t *evapTable) fraction(u float64, l *SubCloudLayer, ps float64) float64 {
-	x := [nDims]float64{ps, u, l.BaseT, math.Sqrt(l.BaseHeight)}
-	var lf float64
-	if t.flux.isLLQQ() {
-		lf = t.flux.at2L2Q(&x)
-	} else {
-		lf = t.flux.at(&x)
-	}
-	if math.IsNaN(lf) {
-		return lf
-	}
-	return colExp(min(lf, 0)) // the builtin: math.Min to the bit (lf is not NaN), inlined
-}
-
-// colExpm1 returns e^x - 1: colExp(x) - 1 for x < -1/2, where |e^x - 1| > 0.39 keeps it
-// within 3e-15 relative (derived from expTol), else math.Expm1 (and for NaN).
-func colExpm1(x float64) float64 {
-	if x < -colHalf {
-		return colExp(x) - 1
-	}
-	return math.Expm1(x)
+	var e evLook
+	return t.prepare(u, l, ps, &e)
 }
 
 // evaporate interpolates the evaporation table into res for a drop of radius r0 (m, lnR0 =
-// ln r0) leaving the base of layer l above a surface at pressure ps (Pa), u = ln(1 - RH_s);
-// false when the column must be integrated directly.
-func (t *collTable) evaporate(r0, lnR0, u float64, l *SubCloudLayer, ps float64, res *colResult) bool {
+// ln r0) leaving the base of the layer of e (evapTable.prepare); false when the column must
+// be integrated directly.
+func (t *collTable) evaporate(r0, lnR0 float64, e *evLook, res *colResult) bool {
 	if t.evap == nil {
 		return false
 	}
-	kind, v := t.evap.lookup(r0, lnR0, u, l, ps)
+	kind, v := t.evap.lookupAt(r0, lnR0, e)
 	switch kind {
 	case evReached:
 		res.rs, res.zev = v, math.NaN()

@@ -113,7 +113,9 @@ func compareTable(t *testing.T, p Params, in []Inputs) tableErrors {
 		if l.WellMixed {
 			u = evMixedU
 		}
-		if !mt.tab.evaporate(od.CollectorRadius, math.Log(od.CollectorRadius), u, &l, mt.surfacePressure(in[i].CTH, &l), &res) {
+		var ev evLook
+		mt.tab.evap.prepare(u, &l, mt.surfacePressure(in[i].CTH, &l), &ev)
+		if !mt.tab.evaporate(od.CollectorRadius, math.Log(od.CollectorRadius), &ev, &res) {
 			continue
 		}
 		e.nEvap++
@@ -269,9 +271,9 @@ func TestEvapThreshold(t *testing.T) {
 
 // TestTableFastPaths checks the unrolled interpolations of Column's table path against the
 // general ones they write out (derived: the same taps and weights, summed in another order,
-// so equal to rounding): interpCC22 against stencil and interp, at1L3Q and at3L2Q against
-// nGrid.at, colExpm1 against math.Expm1, and subCloudFast against subCloud, over random
-// points inside and around the tables.
+// so equal to rounding): interpCC22 against stencil and interp and subCloudFast against
+// subCloud, over random points inside and around the tables (the evaporation tables' lookups:
+// TestEvapLookupFast).
 func TestTableFastPaths(t *testing.T) {
 	t.Parallel()
 	m := defaultModel(t)
@@ -279,7 +281,7 @@ func TestTableFastPaths(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 6))
 	between := func(lo, hi float64) float64 { return lo + (hi-lo)*(1.2*rng.Float64()-0.1) } // 10 % beyond each end
 	cg := m.tab.coll
-	if !cg.isCC22() || !m.tab.evap.thr.isLQQQ() || !m.tab.evap.reach.isLLLQQ() || !m.tab.evap.evap.isLLLQQ() {
+	if !cg.isCC22() {
 		t.Fatal("the tables do not have the layouts of the unrolled interpolations")
 	}
 	inside := 0
@@ -307,45 +309,8 @@ func TestTableFastPaths(t *testing.T) {
 			}
 		}
 	}
-	if !m.tab.evap.flux.isLLQQ() {
-		t.Fatal("the flux table of well-mixed layers does not have the layout of at2L2Q")
-	}
-	for _, g := range []*nGrid{m.tab.evap.thr, m.tab.evap.reach, m.tab.evap.evap, m.tab.evap.flux} {
-		for i := 0; i < 20000; i++ {
-			var x [nDims]float64
-			for d := 0; d < g.dims; d++ {
-				hi := g.lo[d] + float64(g.n[d]-1)*g.step[d]
-				x[d] = between(g.lo[d], hi)
-				if d == 0 && i%2 == 0 {
-					x[d] = m.p.SurfacePressure // on the middle node, as for columns without CTH
-				}
-			}
-			want := g.at(&x)
-			var got float64
-			switch {
-			case g.isLLQQ():
-				got = g.at2L2Q(&x)
-			case g.dims == 4:
-				got = g.at1L3Q(&x)
-			default:
-				got = g.at3L2Q(&x)
-			}
-			if math.IsNaN(got) != math.IsNaN(want) || math.Abs(got-want) > tol {
-				t.Fatalf("%d-axis table at %v: %.17g, want %.17g", g.dims, x, got, want)
-			}
-			if !math.IsNaN(want) {
-				inside++
-			}
-		}
-	}
-	if inside < 25000 { // a quarter: enough to exercise every table inside
-		t.Errorf("only %d of 100000 points inside the tables", inside)
-	}
-	for i := 0; i < 20000; i++ {
-		x := -40 * rng.Float64() * rng.Float64()
-		if got, want := colExpm1(x), math.Expm1(x); math.Abs(got-want) > 3e-15*math.Abs(want) {
-			t.Fatalf("colExpm1(%g) = %.17g, want %.17g", x, got, want)
-		}
+	if inside < 5000 { // a quarter: enough to exercise the table inside
+		t.Errorf("only %d of 20000 points inside the collector table", inside)
 	}
 	for i, in := range marineScSample(4000, 3, true) {
 		st := adiabaticState(in.CTT, in.CTP)
@@ -375,42 +340,6 @@ func TestTableFastPaths(t *testing.T) {
 	}
 }
 
-// TestThresholdMid checks at1L3QMid, the threshold lookup of well-mixed layers on the
-// middle node of their placeholder humidity axis, against at1L3Q over the whole table and 10 %
-// beyond each end: equal values (derived: the two skipped taps have weight zero and hold
-// copies of the middle one, evapTable.fill), so that Column's outputs do not change.
-func TestThresholdMid(t *testing.T) {
-	t.Parallel()
-	m := defaultModel(t)
-	g := m.tab.evap.thr
-	if !m.tab.evap.mixed || !g.isLQQQ() || g.n[2] != 3 {
-		t.Fatal("the default threshold table is not one of well-mixed layers on 3 placeholder nodes")
-	}
-	rng := rand.New(rand.NewPCG(41, 42))
-	inside := 0
-	for i := 0; i < 50000; i++ {
-		var x [nDims]float64
-		for d := 0; d < g.dims; d++ {
-			hi := g.lo[d] + float64(g.n[d]-1)*g.step[d]
-			x[d] = g.lo[d] + (hi-g.lo[d])*(1.2*rng.Float64()-0.1)
-		}
-		if i%2 == 0 {
-			x[0] = m.p.SurfacePressure // on the middle node, as for columns without CTH
-		}
-		x[2] = evMixedU
-		got, want := g.at1L3QMid(&x), g.at1L3Q(&x)
-		if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
-			t.Fatalf("at %v: %.17g, at1L3Q %.17g", x, got, want)
-		}
-		if !math.IsNaN(want) {
-			inside++
-		}
-	}
-	if inside < 10000 {
-		t.Errorf("only %d of 50000 points inside the table", inside)
-	}
-}
-
 // TestTablesWidened checks that every table Column interpolates carries its float64 copy,
 // equal to the float32 values node for node (widenF32 is exact: derived), for a model built by
 // NewModel and one read back by NewModelTables, so that Column takes the unrolled lookups
@@ -433,8 +362,7 @@ func TestTablesWidened(t *testing.T) {
 		}
 	}
 	for k, mm := range []*Model{m, m2} {
-		if !mm.tab.coll.isCC22() || !mm.tab.evap.thr.isLQQQ() || !mm.tab.evap.reach.isLLLQQ() ||
-			!mm.tab.evap.evap.isLLLQQ() || !mm.tab.evap.flux.isLLQQ() {
+		if !mm.tab.coll.isCC22() || !mm.tab.evap.fast || !mm.tab.evap.thrMid {
 			t.Fatalf("model %d: the tables do not have the layouts of the unrolled lookups", k)
 		}
 		same("collector", mm.tab.coll.vals, mm.tab.coll.wide)
