@@ -162,6 +162,9 @@ func TestRampNuTable(t *testing.T) {
 // a step, and that shape and shapeExact refuse ν outside [1, 1e4] and NaN, and agree inside.
 func TestRampGridAt(t *testing.T) {
 	t.Parallel()
+	if top := rampLnStep * (rampNl - 1); top < math.Log(popNuMax) || top-rampLnStep >= math.Log(popNuMax) {
+		t.Fatalf("ln nu axis ends at %g, want the first node at or above ln %g", top, popNuMax)
+	}
 	tab := newRampTable(1.75)
 	rng := rand.New(rand.NewPCG(51, 52))
 	lag := func(x float64, xs [3]float64, j int) float64 { // Lagrange basis polynomial j
