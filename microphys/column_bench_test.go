@@ -125,3 +125,11 @@ func BenchmarkSubgridRamp(b *testing.B) {
 	}
 	benchSink = out
 }
+
+// BenchmarkNewRampTable is the build of the ramp-onset tables (newRampTable) that NewModel
+// does for a ramp onset, with the default rate exponent.
+func BenchmarkNewRampTable(b *testing.B) {
+	for i := 0; i < b.N; i++ {
+		newRampTable(drizzleSevenQuarters)
+	}
+}
