@@ -166,7 +166,7 @@ func (t *rampTable) shape(sn, lnNu float64) (c rampShape, ok bool) {
 		return c, false
 	}
 	c.sn3 = 3 * sn
-	c.zc = c.sn3 - f[3]
+	c.zc = c.sn3 - 1/c.sn3
 	c.le, c.t00, c.t0b = f[0], f[1], f[2]
 	return c, true
 }
@@ -280,12 +280,12 @@ func (t *rampTable) moments(o *rampOnset, c *rampShape, rmu float64) (pop, mb fl
 
 // rampNuTable tabulates the per-shape factors of the sub-grid drizzle model on ln ν in
 // [0, ln popNuMax] (nodes every 1/128, 3-point quadratic interpolation about the nearest
-// node), for columns whose own LWP standard deviation gives ν: ln E(ν, b), T_0(0), T_b(0)
-// (rampTail0) and 1/(3 ν^(1/2)). These are smooth in ln ν; the largest relative error
-// against the functions (of E, not of its logarithm) is below rampNuTol (ramptable_test.go).
+// node), for columns whose own LWP standard deviation gives ν: ln E(ν, b), T_0(0) and T_b(0)
+// (rampTail0). These are smooth in ln ν; the largest relative error against the functions
+// (of E, not of its logarithm) is below rampNuTol (ramptable_test.go).
 type rampNuTable struct {
 	inv   float64 // nodes per unit ln ν
-	nodes [][4]float64
+	nodes [][3]float64
 }
 
 const (
@@ -296,17 +296,17 @@ const (
 // newRampNuTable evaluates the nodes for the rate exponent b.
 func newRampNuTable(b float64) *rampNuTable {
 	n := int(math.Ceil(math.Log(popNuMax)/rampNuStep)) + 1
-	t := &rampNuTable{inv: 1 / rampNuStep, nodes: make([][4]float64, n)}
+	t := &rampNuTable{inv: 1 / rampNuStep, nodes: make([][3]float64, n)}
 	for i := range t.nodes {
 		nu := math.Exp(float64(i) * rampNuStep)
-		t.nodes[i] = [4]float64{math.Log(SubgridEnhancement(nu, b)), rampTail0(nu, 0), rampTail0(nu, b), 1 / (3 * math.Sqrt(nu))}
+		t.nodes[i] = [3]float64{math.Log(SubgridEnhancement(nu, b)), rampTail0(nu, 0), rampTail0(nu, b)}
 	}
 	return t
 }
 
 // interp returns the interpolated nodes at lnNu = ln ν in [0, ln popNuMax]: ln E(ν, b),
-// T_0(0), T_b(0) and 1/(3 ν^(1/2)); ok is false outside.
-func (t *rampNuTable) interp(lnNu float64) (f [4]float64, ok bool) {
+// T_0(0) and T_b(0); ok is false outside.
+func (t *rampNuTable) interp(lnNu float64) (f [3]float64, ok bool) {
 	u := lnNu * t.inv
 	n := len(t.nodes)
 	if !(u >= 0 && u <= float64(n-1)) {
@@ -319,6 +319,5 @@ func (t *rampNuTable) interp(lnNu float64) (f [4]float64, ok bool) {
 	f[0] = a0*v0[0] + a1*v1[0] + a2*v2[0]
 	f[1] = a0*v0[1] + a1*v1[1] + a2*v2[1]
 	f[2] = a0*v0[2] + a1*v1[2] + a2*v2[2]
-	f[3] = a0*v0[3] + a1*v1[3] + a2*v2[3]
 	return f, true
 }
