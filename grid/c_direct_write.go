@@ -380,12 +380,12 @@ func (d *directOut) arenaBytes(p *slabPlan, nVars int) int {
 
 // chunkScratch is one worker's room for filtering a chunk.
 type chunkScratch struct {
-	gather, shuf []byte
-	level        int           // the output's deflate level (0: none)
-	isal         int           // ISA-L's level for it, 0 when klauspost/compress encodes
-	ibuf         []byte        // ISA-L's level buffer (hash table and tokens)
-	fw           *flate.Writer // klauspost/compress's raw deflate at level (levels above 6)
-	sink         fixedSink
+	shuf  []byte        // a chunk's byte planes when chunkInput shuffles
+	level int           // the output's deflate level (0: none)
+	isal  int           // ISA-L's level for it, 0 when klauspost/compress encodes
+	ibuf  []byte        // ISA-L's level buffer (hash table and tokens)
+	fw    *flate.Writer // klauspost/compress's raw deflate at level (levels above 6)
+	sink  fixedSink
 }
 
 // isalLevel is the ISA-L level that deflates chunks for the user's level (0:
@@ -451,11 +451,10 @@ func getScratch(level, n int) *chunkScratch {
 			s.fw, _ = flate.NewWriter(&s.sink, level)
 		}
 	}
-	if cap(s.gather) < n {
-		s.gather = make([]byte, n)
+	if cap(s.shuf) < n {
 		s.shuf = make([]byte, n)
 	}
-	s.gather, s.shuf = s.gather[:n], s.shuf[:n]
+	s.shuf = s.shuf[:n]
 	return s
 }
 
@@ -527,12 +526,7 @@ func unshuffle(dst, src []byte, size int) {
 	n := len(src) / size
 	switch size {
 	case 4:
-		s0, s1, s2, s3 := src[:n], src[n:2*n], src[2*n:3*n], src[3*n:4*n]
-		d := dst[:4*n]
-		for i := range n {
-			j := 4 * i
-			d[j], d[j+1], d[j+2], d[j+3] = s0[i], s1[i], s2[i], s3[i]
-		}
+		unshuffleRow4(dst[:4*n], src[:n], src[n:2*n], src[2*n:3*n], src[3*n:4*n])
 	default:
 		for i := range n {
 			for b := range size {
@@ -541,6 +535,39 @@ func unshuffle(dst, src []byte, size int) {
 		}
 	}
 	copy(dst[n*size:], src[n*size:])
+}
+
+// unshuffleRow4 reverses shuffleRow4: byte b of value i from pb[i], eight
+// values at a time. The byte transpose of shuffleRow4 is its own inverse.
+func unshuffleRow4(dst, p0, p1, p2, p3 []byte) {
+	n := len(p0)
+	p1, p2, p3, dst = p1[:n], p2[:n], p3[:n], dst[:4*n]
+	i := 0
+	for ; i+8 <= n; i += 8 {
+		q0 := binary.LittleEndian.Uint64(p0[i:])
+		q1 := binary.LittleEndian.Uint64(p1[i:])
+		q2 := binary.LittleEndian.Uint64(p2[i:])
+		q3 := binary.LittleEndian.Uint64(p3[i:])
+		const m8, m16 = 0x00ff00ff00ff00ff, 0x0000ffff0000ffff
+		t0 := q0&m8 | (q1&m8)<<8
+		t1 := (q0>>8)&m8 | q1&^m8
+		t2 := q2&m8 | (q3&m8)<<8
+		t3 := (q2>>8)&m8 | q3&^m8
+		// a, b, c, d hold values (i, i+4), (i+1, i+5), (i+2, i+6), (i+3, i+7).
+		a := t0&m16 | (t2&m16)<<16
+		b := t1&m16 | (t3&m16)<<16
+		c := (t0>>16)&m16 | t2&^m16
+		d := (t1>>16)&m16 | t3&^m16
+		const lo32 = 0x00000000ffffffff
+		x := dst[4*i : 4*i+32 : 4*i+32]
+		binary.LittleEndian.PutUint64(x[0:], a&lo32|b<<32)
+		binary.LittleEndian.PutUint64(x[8:], c&lo32|d<<32)
+		binary.LittleEndian.PutUint64(x[16:], a>>32|b&^lo32)
+		binary.LittleEndian.PutUint64(x[24:], c>>32|d&^lo32)
+	}
+	for ; i < n; i++ {
+		dst[4*i], dst[4*i+1], dst[4*i+2], dst[4*i+3] = p0[i], p1[i], p2[i], p3[i]
+	}
 }
 
 // zlibCompress deflates src into dst with zlib's compress2 at level, as HDF5's

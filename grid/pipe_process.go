@@ -145,8 +145,12 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	free := make(chan *slabSet, nBuffers)
 	for i := range sets {
 		s := &slabSet{in: newRawBuf(in, p)}
+		n := p.maxN
+		if out.direct != nil {
+			n = out.direct.slabValues(p) // the chunk layout (encodeChunks)
+		}
 		for _, t := range out.types {
-			s.outRaw = append(s.outRaw, getRaw(rawWords(p.maxN, t.Size())))
+			s.outRaw = append(s.outRaw, getRaw(rawWords(n, t.Size())))
 		}
 		if out.direct != nil {
 			s.arena = getRaw(rawWords(out.direct.arenaBytes(p, len(out.types)), 1))
@@ -336,7 +340,11 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 				compute(&j.s.in.slab, decOut, lo, hi)
 			}
 			for k := range decOut {
-				encode(&out.vars[k], out.types[k], unsafe.Pointer(&j.s.outRaw[k][0]), decOut[k], lo, hi)
+				if out.direct != nil {
+					out.encodeChunks(k, j.s.outRaw[k], decOut[k], lo, hi, j.s.in.nx)
+				} else {
+					encode(&out.vars[k], out.types[k], unsafe.Pointer(&j.s.outRaw[k][0]), decOut[k], lo, hi)
+				}
 			}
 		}
 	}
