@@ -427,8 +427,9 @@ func TestZlibDeflate(t *testing.T) {
 }
 
 // TestDirectReaderMatchesLibnetcdf: the direct chunk reader decodes what
-// libnetcdf decodes, for deflated and shuffled, deflate-only and unfiltered
-// chunks, int16 with scale_factor, chunks never written (fill), chunks that
+// libnetcdf decodes, for deflated and shuffled (float32 and int16),
+// deflate-only and unfiltered chunks, int16 with scale_factor, chunks never
+// written (fill, shuffled or not), chunks that
 // span several leading indices, a big-endian variable (left to libnetcdf), and
 // slab plans of whole chunks, pieces of chunks and pieces straddling chunk
 // rows. Inputs are written by netCDF4-python.
@@ -453,6 +454,10 @@ v.set_auto_maskandscale(False)
 v[0:3] = np.round(field(1)[0:3] / 10 / 0.01).astype("i2")  # the last record's chunks are never written
 v = d.createVariable("cot", "f4", ("time", "y", "x"), chunksizes=(1, 45, 7))
 v.units = "1"; v[:] = field(2) / 10
+v = d.createVariable("ctp", "i2", ("time", "y", "x"), zlib=True, shuffle=True, chunksizes=(2, 12, 20), fill_value=-32767)
+v.units = "hPa"; v.scale_factor = 0.1
+v.set_auto_maskandscale(False)
+v[0:2] = np.round((600 + field(4)[0:2]) / 0.1).astype("i2")  # the last records' chunks are never written
 v = d.createVariable("ctt", "f4", ("time", "y", "x"), zlib=True, chunksizes=(1, 9, 35), endian="big")
 v.units = "K"; v[:] = 280 + field(3) / 50
 d.close()
@@ -462,14 +467,15 @@ d.close()
 		{Name: "o_re", Units: "1", Type: Float32, Fill: -999},
 		{Name: "o_tau", Units: "1", Type: Float32, Fill: -999},
 		{Name: "o_ctt", Units: "1", Type: Float32, Fill: -999},
+		{Name: "o_ctp", Units: "1", Type: Float32, Fill: -999},
 	}
-	const perCol = (8 + 4) + (8 + 2) + (8 + 4) + (8 + 4) + 4*(8+4)
+	const perCol = (8 + 4) + (8 + 2) + (8 + 4) + (8 + 4) + (8 + 2) + 5*(8+4)
 	for _, slab := range []int{0, perCol * 70 * 4, perCol * 24 * 5, perCol * 16 * 7, perCol * 3} {
 		t.Run(fmt.Sprint(slab/perCol), func(t *testing.T) {
 			var outs []string
 			for _, lib := range []bool{true, false} {
 				in, err := Open(path, OpenOptions{SlabBytes: slab, Overrides: []Override{
-					{Role: RoleLWP, Var: "lwp"}, {Role: RoleRe, Var: "re"}, {Role: RoleTau, Var: "cot"}, {Role: RoleCTT, Var: "ctt"}}})
+					{Role: RoleLWP, Var: "lwp"}, {Role: RoleRe, Var: "re"}, {Role: RoleTau, Var: "cot"}, {Role: RoleCTT, Var: "ctt"}, {Role: RoleCTP, Var: "ctp"}}})
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -488,7 +494,7 @@ d.close()
 				in.Close()
 				want := "[]"
 				if !lib {
-					want = "[lwp re cot]" // ctt is big-endian: libnetcdf converts it
+					want = "[lwp re cot ctp]" // ctt is big-endian: libnetcdf converts it
 				}
 				if got := fmt.Sprint(st.DirectRead); got != want && !(lib && got == "[]") {
 					t.Errorf("direct reads %s, want %s", got, want)
