@@ -32,8 +32,8 @@ func (d *directOut) slabValues(p *slabPlan) int {
 	return max(p.maxN, ny*d.cy*nx*d.cx)
 }
 
-// encodeChunks converts columns [lo, hi) of src, output variable k of a slab
-// of nx columns a row, to the stored type in raw, the slab in the chunk layout.
+// encodeChunks converts src, columns [lo, hi) of output variable k of a slab of
+// nx columns a row, to the stored type in raw, the slab in the chunk layout.
 func (o *Output) encodeChunks(k int, raw []uint64, src []float64, lo, hi, nx int) {
 	d := o.direct
 	sz := d.size[k]
@@ -49,7 +49,7 @@ func (o *Output) encodeChunks(k int, raw []uint64, src []float64, lo, hi, nx int
 		chunk := unsafe.Add(base, ((y/cy)*ncx+x/cx)*n*sz)
 		at := (y%cy)*cx + x%cx
 		if !planes {
-			encode(v, t, unsafe.Add(chunk, at*sz), src[i:e], 0, e-i)
+			encode(v, t, unsafe.Add(chunk, at*sz), src[i-lo:e-lo], 0, e-i)
 			i = e
 			continue
 		}
@@ -57,7 +57,7 @@ func (o *Output) encodeChunks(k int, raw []uint64, src []float64, lo, hi, nx int
 		if t == Float {
 			fill := math.Float32bits(float32(v.Fill))
 			m := e - i
-			encodeRow4(p[at:at+m], p[n+at:n+at+m], p[2*n+at:2*n+at+m], p[3*n+at:3*n+at+m], src[i:e], fill)
+			encodeRow4(p[at:at+m], p[n+at:n+at+m], p[2*n+at:2*n+at+m], p[3*n+at:3*n+at+m], src[i-lo:e-lo], fill)
 			i = e
 			continue
 		}
@@ -65,7 +65,7 @@ func (o *Output) encodeChunks(k int, raw []uint64, src []float64, lo, hi, nx int
 		var tmp [256]uint32
 		for i < e {
 			m := min(e-i, len(tmp))
-			encode(v, t, unsafe.Pointer(&tmp[0]), src[i:i+m], 0, m)
+			encode(v, t, unsafe.Pointer(&tmp[0]), src[i-lo:i-lo+m], 0, m)
 			b := unsafe.Slice((*byte)(unsafe.Pointer(&tmp[0])), m*sz)
 			if sz == 4 {
 				shuffleRow4(p[at:at+m], p[n+at:n+at+m], p[2*n+at:2*n+at+m], p[3*n+at:3*n+at+m], b)
