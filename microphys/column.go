@@ -764,8 +764,6 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	var l SubCloudLayer
 	fastL := m.tab != nil && m.tab.evap != nil
 	okL := false
-	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
-	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
 	if p.EnableEvaporation {
 		if fastL {
 			okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
@@ -776,6 +774,19 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			}
 			okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
 		}
+	}
+	// The collector table, which does not need the layer, before the surface fraction, which
+	// does (the lookup runs while the layer's arithmetic completes). Table coordinates: ln LWP
+	// and ln r_v at the top, r_v = k^(1/3) r_e.
+	var res colResult
+	collTab := false
+	if m.tab != nil {
+		lnLWP, lnRv := colLog2(lwp, m.cbrtK*reTop)
+		collTab = m.tab.collect(lnLWP, lnRv, h, T, pr, &res)
+	}
+	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
+	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
+	if p.EnableEvaporation {
 		if !math.IsNaN(in.SurfaceRH) && !m.mixed {
 			u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
 		}
@@ -797,11 +808,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			}
 		}
 	}
-	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
-	lnLWP, lnRv := colLog2(lwp, m.cbrtK*reTop)
-	var res colResult
 	var ex exactCol // the direct integrations' inputs, when needed
-	collTab := m.tab != nil && m.tab.collect(lnLWP, lnRv, h, T, pr, &res)
 	if !collTab {
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
