@@ -12,8 +12,11 @@ import "math"
 // grid in (ln LWP, ln r_v, T_top, p_top) and Column interpolates ln R_exit and ln(t_exit/H):
 // Catmull-Rom cubic along ln LWP and ln r_v, linear along T and p with two nodes each (a
 // residual air effect of < 0.05 % over the whole range; a third T node changed the largest
-// errors of TestTableAgainstDirect by < 0.03 %). Where the stencil's nodes disagree on whether the drop left
-// through the base or the top, or a node failed, the column is integrated directly.
+// errors of TestTableAgainstDirect by < 0.03 %). The air-state terms of each node (its changes
+// along T and p) are interpolated bilinearly in ln LWP and ln r_v (tabGrid.interpSplit: within
+// 3e-4 of the Catmull-Rom of all corners, collSplitTol). Where the stencil's nodes disagree on
+// whether the drop left through the base or the top, or a node failed, the column is
+// integrated directly.
 //
 // Evaporation table. Below cloud base T follows the dry adiabat from T_b and RH rises from
 // the surface value to 1 at base (EvaporateDirect), so the result depends on the exit radius
