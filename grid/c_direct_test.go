@@ -12,6 +12,8 @@ import (
 	"strings"
 	"testing"
 	"unsafe"
+
+	"github.com/klauspost/compress/flate"
 )
 
 // directVars: one variable of every stored type the writer handles (float32,
@@ -332,7 +334,8 @@ func benchChunks() [][]byte {
 }
 
 // BenchmarkChunkFilter compares, on one core, the direct writer's encoder
-// (klauspost/compress, zlibDeflate), libdeflate (the previous choice) and zlib's
+// (zlibDeflate: ISA-L's, one block run per byte plane), klauspost/compress's and
+// libdeflate's (the earlier choices) and zlib's
 // compress2 (what HDF5's filter runs inside libnetcdf) at the same level: MB/s of
 // raw chunk bytes and the compressed fraction.
 func BenchmarkChunkFilter(b *testing.B) {
@@ -357,17 +360,23 @@ func BenchmarkChunkFilter(b *testing.B) {
 		b.Run(fmt.Sprintf("libdeflate-level%d", level), func(b *testing.B) {
 			run(b, func(src []byte) int { return libdeflateCompress(dst, src, level) })
 		})
+		b.Run(fmt.Sprintf("klauspost-level%d", level), func(b *testing.B) {
+			s := &chunkScratch{level: level}
+			s.fw, _ = flate.NewWriter(&s.sink, level)
+			run(b, func(src []byte) int { return s.zlibDeflate(dst, src, 4) })
+		})
 		b.Run(fmt.Sprintf("direct-level%d", level), func(b *testing.B) {
 			s := getScratch(level, 0)
 			defer putScratch(s)
-			run(b, func(src []byte) int { return s.zlibDeflate(dst, src) })
+			run(b, func(src []byte) int { return s.zlibDeflate(dst, src, 4) })
 		})
 	}
 }
 
 // TestZlibDeflate: the direct writer's zlib streams of random (incompressible),
-// half-random, smooth and constant chunks of several sizes fit chunkBound at every
-// level, carry the header zlib itself writes for the level (RFC 1950), and
+// half-random, smooth and constant chunks of several sizes fit chunkBound at
+// levels of both encoders (ISA-L's, in one to four planes with a remainder,
+// and klauspost/compress's), carry the header zlib itself writes for the level (RFC 1950), and
 // inflate to the input through Go's compress/zlib (an independent decoder, which
 // checks the Adler-32) and through libdeflate (the direct reader's).
 func TestZlibDeflate(t *testing.T) {
@@ -387,13 +396,14 @@ func TestZlibDeflate(t *testing.T) {
 					src[i] = byte(100 * math.Sin(float64(i)/300))
 				}
 			}
-			for _, level := range []int{1, 2, 6, 9} {
+			for _, c := range []struct{ level, planes int }{{1, 1}, {1, 4}, {2, 2}, {4, 4}, {6, 3}, {7, 4}, {9, 1}} {
+				level := c.level
 				s := getScratch(level, 0)
 				dst := make([]byte, chunkBound(n))
-				m := s.zlibDeflate(dst, src)
+				m := s.zlibDeflate(dst, src, c.planes)
 				putScratch(s)
 				if m == 0 {
-					t.Fatalf("n=%d kind=%d level=%d: the stream did not fit chunkBound %d", n, kind, level, len(dst))
+					t.Fatalf("n=%d kind=%d level=%d planes=%d: the stream did not fit chunkBound %d", n, kind, level, c.planes, len(dst))
 				}
 				ref := make([]byte, chunkBound(n))
 				if k := zlibCompress(ref, src, level); k < 2 || ref[0] != dst[0] || ref[1] != dst[1] {

@@ -133,29 +133,29 @@ var (
 // Each helper below names the exported function it replaces; column_fast_test.go checks it
 // against that function within bulkTol (derived: the same formula, other rounding).
 type bulkConsts struct {
-	tauLWP  float64 // tau = tauLWP LWP/r_e (TauAdiabatic with Q_ext)
-	ndTau   float64 // N_d = ndTau (c_w tau/r_e^5)^(1/2) (DropletNumber)
-	ndLWP   float64 // N_d = ndLWP (c_w LWP)^(1/2)/r_e^3 (DropletNumber of TauAdiabatic)
-	lnNdLWP float64 // ln ndLWP
-	lnFad   float64 // ln f_ad: ln gamma = ln f_ad + ln c_w
-	hCoef   float64 // H = (hCoef LWP/c_w)^(1/2), hCoef = 2/f_ad (Thickness)
-	rvCoef  float64 // r_e,top^3 = rvCoef gamma H/N_d, rvCoef = 3/(4 pi rho_w k)
-	reStar  float64 // r_e* (CriticalLWP)
-	kkLnK   float64 // ln of the KK2000 efficiency's constant (kk2000Efficiency)
-	kkY     float64 // (b - 1)/2: exponent of LWP gamma/rho_a^2 (b of KK2000)
-	kkN     float64 // c: exponent of N_d (c of KK2000)
-	drizA   float64 // DrizzleCoef/(s per day)
-	drizX   float64 // g per kg / cm-3 per m-3: (LWP/N_d) in the units of DrizzleRate
-	drizB   float64 // DrizzleLWPExp
-	drizC   float64 // DrizzleNdExp
-	drizWay int     // drizzleRate's form: drizSevenQuarters, drizSameExp or drizGeneral
-	popSn   float64 // Params.GammaShape^(1/2) (popColumn)
-	popLnNu float64 // ln Params.GammaShape, as popTable.prob forms it
-	popFast bool    // the POP grid has the layout popAt2 assumes
-	subE    float64 // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
-	ramp0   rampShape
-	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b
-	rampNu  quadTap   // their stencil along ln nu (rampTable.nuTap)
+	tauLWP  float64   // tau = tauLWP LWP/r_e (TauAdiabatic with Q_ext)
+	ndTau   float64   // N_d = ndTau (c_w tau/r_e^5)^(1/2) (DropletNumber)
+	ndLWP   float64   // N_d = ndLWP (c_w LWP)^(1/2)/r_e^3 (DropletNumber of TauAdiabatic)
+	lnNdLWP float64   // ln ndLWP
+	lnFad   float64   // ln f_ad: ln gamma = ln f_ad + ln c_w
+	hCoef   float64   // H = (hCoef LWP/c_w)^(1/2), hCoef = 2/f_ad (Thickness)
+	rvCoef  float64   // r_e,top^3 = rvCoef gamma H/N_d, rvCoef = 3/(4 pi rho_w k)
+	reStar  float64   // r_e* (CriticalLWP)
+	kkLnK   float64   // ln of the KK2000 efficiency's constant (kk2000Efficiency)
+	kkY     float64   // (b - 1)/2: exponent of LWP gamma/rho_a^2 (b of KK2000)
+	kkN     float64   // c: exponent of N_d (c of KK2000)
+	drizA   float64   // DrizzleCoef/(s per day)
+	drizX   float64   // g per kg / cm-3 per m-3: (LWP/N_d) in the units of DrizzleRate
+	drizB   float64   // DrizzleLWPExp
+	drizC   float64   // DrizzleNdExp
+	drizWay int       // drizzleRate's form: drizSevenQuarters, drizSameExp or drizGeneral
+	popSn   float64   // Params.GammaShape^(1/2) (popColumn)
+	popLnNu float64   // ln Params.GammaShape, as popTable.prob forms it
+	popFast bool      // the POP grid has the layout popAt2 assumes
+	subE    float64   // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
+	ramp    rampShape // the ramp table's constants of Params.GammaShape (rampTable.shapeExact)
+	rampOn  rampOnset // the ramp onset's constants (rampTable.moments)
+	rampOK  bool      // ramp is set (a ramp onset, GammaShape within the table)
 	defAir  adState   // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
 }
 
@@ -206,10 +206,9 @@ func newBulkConsts(p *Params, pt *popTable, rt *rampTable) bulkConsts {
 	}
 	c.defAir = airStateFast(p.DefaultCTT, p.DefaultCTP)
 	c.subE = SubgridEnhancement(p.GammaShape, p.DrizzleLWPExp)
-	c.ramp0, c.rampB = newRampShape(p.GammaShape, 0), newRampShape(p.GammaShape, p.DrizzleLWPExp)
-	c.ramp0.t0, c.rampB.t0 = rampTail0(p.GammaShape, 0), rampTail0(p.GammaShape, p.DrizzleLWPExp)
-	if rt != nil { // the stencil along ln nu of Params.GammaShape, once
-		c.rampNu = rt.nuTap(c.popLnNu)
+	if rt != nil { // the ramp's constants of Params.GammaShape and of the onset, once
+		c.ramp, c.rampOK = rt.shapeExact(p.GammaShape)
+		c.rampOn = newRampOnset(Onset{p.ReStar, p.OnsetWidth})
 	}
 	return c
 }
@@ -321,27 +320,18 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 	default:
 		ok := false
 		if m.ramp != nil && nu >= popNuMin && nu <= popNuMax {
-			if math.IsNaN(lnNu) {
-				lnNu = 2 * colLog(sn)
-			}
+			var c rampShape
 			if ownNu {
-				// the per-shape factors from their table (rampNuTable, within rampNuTol), the
-				// exponentials of T_s(0) only when a tail needs them (rampShape.lt0)
-				var f [4]float64
-				if f, ok = m.ramp.nu.logs(lnNu); ok {
-					a := nu + b
-					c0 := rampShape{s: 0, sa: sn, ia: 1 / (9 * nu), kc: 1, t0: math.NaN(), lt0: f[1]}
-					cb := rampShape{s: b, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: f[3], t0: math.NaN(), lt0: f[2]}
-					var tap quadTap
-					var mbe float64
-					pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb, &tap)
-					mb = colExp(f[0]) * mbe
+				// the per-shape factors from their table (rampNuTable, within rampNuTol)
+				if math.IsNaN(lnNu) {
+					lnNu = 2 * colLog(sn)
 				}
+				c, ok = m.ramp.shape(sn, lnNu)
 			} else {
-				c0, cb, tap := m.bulk.ramp0, m.bulk.rampB, m.bulk.rampNu
-				var mbe float64
-				pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb, &tap)
-				mb = m.bulk.subE * mbe
+				c, ok = m.bulk.ramp, m.bulk.rampOK
+			}
+			if ok {
+				pop, mb, ok = m.ramp.moments(&m.bulk.rampOn, &c, reTop)
 			}
 		}
 		if !ok {
@@ -361,7 +351,7 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 // popAt2 is g.at for a grid of two curved axes, not strict, last stride 1 (the POP table):
 // the same taps (nGrid.axisTaps), weights and order of summation, unrolled, on the widened
 // values (nGrid.widen; g.at itself when they are missing): the stencil of tap0 and the sums of
-// popAt2Tap (TestPopColumn and TestRampNuTap check equality with g.at).
+// popAt2Tap (TestPopColumn checks equality with g.at).
 func popAt2(g *nGrid, x0, x1 float64) float64 {
 	a := g.tap0(x0)
 	return popAt2Tap(g, &a, x1)
@@ -388,7 +378,7 @@ func (g *nGrid) tap0(x0 float64) quadTap {
 
 // popAt2Tap is popAt2(g, x0, x1) with the stencil along axis 0 known, a = g.tap0(x0) (or that
 // of a grid with the same axis 0): the same arithmetic, so that lookups on one axis-0
-// coordinate share its stencil (TestRampNuTap checks equality).
+// coordinate share its stencil (the same sums as popAt2, which TestPopColumn checks).
 func popAt2Tap(g *nGrid, a *quadTap, x1 float64) float64 {
 	u1 := (x1 - g.lo[1]) * g.inv[1]
 	if !(a.ok && u1 >= 0 && u1 <= float64(g.n[1]-1)) {
@@ -410,36 +400,6 @@ func popAt2Tap(g *nGrid, a *quadTap, x1 float64) float64 {
 	acc += a.w1 * (b0*r1[0] + b1*r1[1] + b2*r1[2])
 	acc += a.w2 * (b0*r2[0] + b1*r2[1] + b2*r2[2])
 	return acc
-}
-
-// popAt2Tap2 returns popAt2Tap(g, a, x1) and popAt2Tap(g, a, y1) in one call, the two
-// written out side by side (the same arithmetic, TestRampNuTap), for the two tails of one
-// ramp table.
-func popAt2Tap2(g *nGrid, a *quadTap, x1, y1 float64) (vx, vy float64) {
-	ux := (x1 - g.lo[1]) * g.inv[1]
-	uy := (y1 - g.lo[1]) * g.inv[1]
-	top := float64(g.n[1] - 1)
-	if !(a.ok && ux >= 0 && ux <= top && uy >= 0 && uy <= top) || !g.widened() {
-		return popAt2Tap(g, a, x1), popAt2Tap(g, a, y1)
-	}
-	kx := max(1, min(int(ux+colHalf), g.n[1]-2))
-	ky := max(1, min(int(uy+colHalf), g.n[1]-2))
-	tx, ty := ux-float64(kx), uy-float64(ky)
-	bx0, bx1, bx2 := tx*(tx-1)/2, 1-tx*tx, tx*(tx+1)/2
-	by0, by1, by2 := ty*(ty-1)/2, 1-ty*ty, ty*(ty+1)/2
-	sd := g.stride[0]
-	v := g.wide
-	o := (a.k-1)*sd + kx - 1
-	r0, r1, r2 := v[o:o+3], v[o+sd:o+sd+3], v[o+2*sd:o+2*sd+3]
-	o = (a.k-1)*sd + ky - 1
-	q0, q1, q2 := v[o:o+3], v[o+sd:o+sd+3], v[o+2*sd:o+2*sd+3]
-	vx = a.w0 * (bx0*r0[0] + bx1*r0[1] + bx2*r0[2])
-	vy = a.w0 * (by0*q0[0] + by1*q0[1] + by2*q0[2])
-	vx += a.w1 * (bx0*r1[0] + bx1*r1[1] + bx2*r1[2])
-	vy += a.w1 * (by0*q1[0] + by1*q1[1] + by2*q1[2])
-	vx += a.w2 * (bx0*r2[0] + bx1*r2[1] + bx2*r2[2])
-	vy += a.w2 * (by0*q2[0] + by1*q2[1] + by2*q2[2])
-	return vx, vy
 }
 
 // colExp returns e^x within a few units in the last place (tested against math.Exp,
