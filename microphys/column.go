@@ -48,14 +48,15 @@ type Outputs struct {
 // Model is a validated parameter set with its precomputed tables. A Model is safe for
 // concurrent use by many goroutines (Column only reads it).
 type Model struct {
-	p     Params
-	ac    AutoconvConfig
-	setup CollectorSetup
-	onset Onset      // drizzle onset of the sub-grid model (Params.ReStar, Params.OnsetWidth)
-	cbrtK float64    // K^(1/3)
-	tab   *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
-	pop   *popTable  // drizzle-probability table (pop.go)
-	ramp  *rampTable // ramp-onset table of the sub-grid drizzle model (ramptable.go); nil for the step
+	p       Params
+	ac      AutoconvConfig
+	setup   CollectorSetup
+	onset   Onset      // drizzle onset of the sub-grid model (Params.ReStar, Params.OnsetWidth)
+	cbrtK   float64    // K^(1/3)
+	lnCbrtK float64    // ln K^(1/3)
+	tab     *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
+	pop     *popTable  // drizzle-probability table (pop.go)
+	ramp    *rampTable // ramp-onset table of the sub-grid drizzle model (ramptable.go); nil for the step
 	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table
 	// (evMixedU for well-mixed layers).
 	lnDryRH float64
@@ -88,7 +89,7 @@ func newModelBase(p Params) *Model { return newModelFrom(p, nil) }
 // depend on nothing else of the parameters (pop.go, ramptable.go).
 func newModelFrom(p Params, base *Model) *Model {
 	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, onset: Onset{p.ReStar, p.OnsetWidth},
-		cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
+		cbrtK: math.Cbrt(p.K), lnCbrtK: math.Log(p.K) / 3, lnDryRH: math.Log1p(-p.SurfaceRH)}
 	if p.SubCloudHumidity == HumidityWellMixed {
 		m.mixed, m.lnDryRH = true, evMixedU
 	}
@@ -135,6 +136,8 @@ type bulkConsts struct {
 	tauLWP  float64   // tau = tauLWP LWP/r_e (TauAdiabatic with Q_ext)
 	ndTau   float64   // N_d = ndTau (c_w tau/r_e^5)^(1/2) (DropletNumber)
 	ndLWP   float64   // N_d = ndLWP (c_w LWP)^(1/2)/r_e^3 (DropletNumber of TauAdiabatic)
+	lnNdLWP float64   // ln ndLWP
+	lnFad   float64   // ln f_ad: ln gamma = ln f_ad + ln c_w
 	hCoef   float64   // H = (hCoef LWP/c_w)^(1/2), hCoef = 2/f_ad (Thickness)
 	rvCoef  float64   // r_e,top^3 = rvCoef gamma H/N_d, rvCoef = 3/(4 pi rho_w k)
 	reStar  float64   // r_e* (CriticalLWP)
@@ -188,6 +191,7 @@ func newBulkConsts(p *Params, pt *popTable, rt *rampTable) bulkConsts {
 		popSn: math.Sqrt(p.GammaShape),
 	}
 	c.ndLWP = c.ndTau * math.Sqrt(c.tauLWP)
+	c.lnNdLWP, c.lnFad = math.Log(c.ndLWP), math.Log(fad)
 	c.popLnNu = 2 * math.Log(c.popSn)
 	switch {
 	case p.DrizzleLWPExp == drizzleSevenQuarters && p.DrizzleNdExp == drizzleSevenQuarters:
@@ -678,16 +682,30 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		reTop = b.reTop(gamma, h, nd)
 	}
 	out.ReTop = reTop
+	var lnLWP, lnRv float64 // the collector table's coordinates, once taken (haveLn)
+	haveLn := false
 	if lwp > 0 {
 		crit, s := b.criticalLWP(lwp, reTop)
 		out.LWPCrit = crit
 		var lnNd float64
-		if m.ac.Scheme == AutoconvKK2000 {
+		switch {
+		case m.ac.Scheme == AutoconvKK2000 && !tauGiven:
+			// ln N_d and ln(LWP gamma/rho_a^2) as sums of the logarithms of LWP, r_e, c_w
+			// and rho_a (dropletNumberLWP, kk2000Arg, derived), so that they need not wait
+			// for N_d; ln LWP and ln r_v are the collector table's coordinates too
+			var lnRe, lnCw, lnRho float64
+			lnLWP, lnRe = colLog2(lwp, re)
+			lnCw, lnRho = colLog2(cw, st.rho)
+			lnNd = b.lnNdLWP + colHalf*(lnCw+lnLWP) - three*lnRe
+			lnRv, haveLn = m.lnCbrtK+lnRe, true
+			out.Efficiency = b.kk2000EfficiencyLn(lnLWP+b.lnFad+lnCw-2*lnRho, lnNd)
+			out.Autoconv = out.Efficiency * lwp
+		case m.ac.Scheme == AutoconvKK2000:
 			var lnX float64 // the two logarithms in one call
 			lnNd, lnX = colLog2(nd, kk2000Arg(lwp, gamma, st.rho))
 			out.Efficiency = b.kk2000EfficiencyLn(lnX, lnNd)
 			out.Autoconv = out.Efficiency * lwp
-		} else {
+		default:
 			lnNd = colLog(nd)
 			out.Autoconv = ColumnAutoconversion(m.ac, h, gamma, nd, st.rho)
 			out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
@@ -724,8 +742,6 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	var l SubCloudLayer
 	fastL := m.tab != nil && m.tab.evap != nil
 	okL := false
-	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
-	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
 	if p.EnableEvaporation {
 		if fastL {
 			okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
@@ -736,6 +752,21 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			}
 			okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
 		}
+	}
+	// The collector table, which does not need the layer, before the surface fraction, which
+	// does (the lookup runs while the layer's arithmetic completes). Table coordinates: ln LWP
+	// and ln r_v at the top, r_v = k^(1/3) r_e.
+	var res colResult
+	collTab := false
+	if m.tab != nil {
+		if !haveLn {
+			lnLWP, lnRv = colLog2(lwp, m.cbrtK*reTop)
+		}
+		collTab = m.tab.collect(lnLWP, lnRv, h, T, pr, &res)
+	}
+	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
+	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
+	if p.EnableEvaporation {
 		if !math.IsNaN(in.SurfaceRH) && !m.mixed {
 			u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
 		}
@@ -757,11 +788,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			}
 		}
 	}
-	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
-	lnLWP, lnRv := colLog2(lwp, m.cbrtK*reTop)
-	var res colResult
 	var ex exactCol // the direct integrations' inputs, when needed
-	collTab := m.tab != nil && m.tab.collect(lnLWP, lnRv, h, T, pr, &res)
 	if !collTab {
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
@@ -982,7 +1009,9 @@ func (m *Model) subCloud(T, pr, h, cth, rhs float64, l *SubCloudLayer) bool {
 // colLog and airStateFast's lapse rate (within adStateTol of adiabaticState), so the layer
 // equals subCloud's to rounding (derived). Without a CTH, ln(p_s/p_b) is formed as
 // ln(p_s/p) - g H/(R_d v_m (T + T_b)/2), p_b's own exponent, so the logarithm does not wait for
-// the cloud base.
+// the cloud base. The midpoint state is brought over one denominator (midState): with
+// v_m = p_m/(p_m - (1 - eps) e_s) that exponent is 2 g H (p_m - (1 - eps) e_s)/(R_d (T + T_b) p_m),
+// one division after T_b, and z_b = (c_pd/g)(T_s - T_b) (derived).
 func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bool {
 	if !(h <= 5000) {
 		return false
@@ -996,13 +1025,12 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	// p_m and the vapour pressure at T_m (airStateFast), both exponentials in one call
 	em, ev := colExp2(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf), airStateArg(tm-kelvinOffset))
 	pm := p * em
-	st2 := airStateExp(tm, pm, ev)
-	g2 := st2.gm
+	g2, pd := midState(tm, pm, ev)
 	if math.IsNaN(g2) {
 		g2 = g1
 	}
 	tb := T + g2*h
-	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf * virtualFactor(tm, pm, st2.rho))
+	x := 2 * Gravity / GasConstantDry * h * pd / ((T + tb) * pm)
 	zb := cth - h
 	var pb float64
 	if noCTH { // p_b and T_s = T_b (p_s/p_b)^(R_d/c_pd), both exponentials in one call
@@ -1011,7 +1039,7 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 		zb = math.NaN() // DryBaseHeight's domain
 		if ps > pb && pb > 0 && tb > 0 && !math.IsInf(ps, 1) && !math.IsInf(tb, 1) {
 			ts := tb * es
-			zb = SpecificHeatDryAir * (ts - tb) / Gravity
+			zb = SpecificHeatDryAir / Gravity * (ts - tb)
 		}
 	} else {
 		pb = p * colExp(x)
@@ -1021,6 +1049,32 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	}
 	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs, WellMixed: m.mixed}
 	return true
+}
+
+// midState returns airStateExp's lapse rate G_m (K m-1) at (T K, p Pa), with ex =
+// colExp(airStateArg(T - kelvinOffset)), and p/v with v = T_v/T = p/(R_d rho_a T) the virtual
+// factor of the saturated air (virtualFactor): p - (1 - eps) e_s (derived from airStateExp's
+// rho_a = (p - (1 - eps) e_s)/(R_d T)), or p (v = 1) where airStateExp has no density. For
+// subCloudFast: the formulas of airStateExp without c_w; G_m NaN outside its range.
+func midState(T, p, ex float64) (gm, pd float64) {
+	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
+		return math.NaN(), p
+	}
+	tc := T - kelvinOffset
+	es := boltonEs[0] * ex // SatVapourPressure
+	if !(es < p) {
+		return math.NaN(), p
+	}
+	le := (boltonLv[0] - boltonLv[1]*tc) * boltonLv[2] * Epsilon // LatentHeat times eps
+	rt := 1 / (GasConstantDry * T)
+	w := p - es
+	a := le * es * rt
+	bb := le * GasConstantDry * rt
+	gm = Gravity * (w + a) / (SpecificHeatDryAir*w + a*bb)
+	if !(Epsilon*es <= maxMixingRatio*w) { // airStateExp's bound of the density
+		return gm, p
+	}
+	return gm, p - (1-Epsilon)*es
 }
 
 // subCloudFrom is subCloud with the cloud-base state known.
