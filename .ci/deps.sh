@@ -2,7 +2,7 @@
 # Installs the Debian packages warmrain needs to build and test. Idempotent:
 # does nothing when everything is present. Needs root (or sudo) to install.
 set -euo pipefail
-pkgs=(libnetcdf-dev libdeflate-dev netcdf-bin libudunits2-dev udunits-bin pkg-config
+pkgs=(libnetcdf-dev libdeflate-dev libisal-dev netcdf-bin libudunits2-dev udunits-bin pkg-config
       python3-xarray python3-netcdf4 python3-scipy python3-h5netcdf python3-h5py python3-matplotlib
       hdf5-tools time
       libhdf4-dev hdf4-tools libtirpc-dev gcc   # HDF4 SD inputs (libmfhdf, loaded at run time); ncgen-hdf, ncdump-hdf and a C build of ncgen-hdf -c output for the tests

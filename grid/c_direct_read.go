@@ -3,11 +3,12 @@ package grid
 // The direct chunk reader (doc/netcdf.md#direct-chunks): for a bound variable of
 // a netCDF-4 (HDF5) input stored in chunks with no filter, deflate, or shuffle
 // and deflate, the I/O thread fetches the chunks' stored bytes with HDF5's
-// H5Dread_chunk, and the reader goroutine inflates (libdeflate) and unshuffles
-// them in parallel off the I/O thread, keeping the decoded chunks the slab
-// touches for the next slab (the plan visits every chunk's pieces one after the
-// other). Other inputs, and any variable whose storage differs, are read by
-// libnetcdf as before.
+// H5Dread_chunk, and the reader goroutine inflates them (libdeflate) in
+// parallel off the I/O thread, keeping the decoded chunks the slab touches for
+// the next slab (the plan visits every chunk's pieces one after the other), a
+// shuffled variable's as byte planes; the slab's window is unshuffled out of
+// them as it is copied (copySlab). Other inputs, and any variable whose storage
+// differs, are read by libnetcdf as before.
 
 // #cgo pkg-config: hdf5 libdeflate
 // #include <stdlib.h>
@@ -312,11 +313,23 @@ func libdeflateInflate(dst, src []byte) error {
 	return z.inflate(dst, src)
 }
 
-// decode inflates and unshuffles f's stored bytes into f.out (any goroutine).
+// decode inflates f's stored bytes into f.out (any goroutine). A shuffled
+// variable's chunks stay byte planes, as stored (planes): copySlab unshuffles
+// the slab's window out of them, in the pass that copies it.
 func (f *fetch) decode() {
 	v := f.v
 	out := arenaBytes(f.out)[:v.chunkLen]
 	if f.stored == nil {
+		if v.planes() {
+			n := len(out) / v.size
+			for b := range v.size {
+				p := out[b*n : (b+1)*n]
+				for i := range p {
+					p[i] = v.fill[b]
+				}
+			}
+			return
+		}
 		for i := 0; i < len(out); i += v.size {
 			copy(out[i:i+v.size], v.fill)
 		}
@@ -325,12 +338,14 @@ func (f *fetch) decode() {
 	// Filter mask bit i set: filter i of the pipeline was skipped for this chunk.
 	doShuffle := v.shuffle && f.mask&1 == 0
 	doDeflate := v.deflate && f.mask&(1<<uint(btoi(v.shuffle))) == 0
+	// A chunk whose shuffle was skipped is shuffled into planes like the others.
+	toPlanes := v.planes() && !doShuffle
 	src := f.stored
 	z := getInflater()
 	defer putInflater(z)
 	if doDeflate {
 		dst := out
-		if doShuffle {
+		if toPlanes {
 			if cap(z.shuf) < len(out) {
 				z.shuf = make([]byte, len(out))
 			}
@@ -345,12 +360,16 @@ func (f *fetch) decode() {
 		f.err = &fetchError{v.name, fmt.Sprintf("the stored chunk at %v holds %d bytes; expected %d", f.off, len(src), len(out))}
 		return
 	}
-	if doShuffle && v.size > 1 {
-		unshuffle(out, src, v.size)
+	if toPlanes {
+		shuffle(out, src, v.size)
 	} else if &src[0] != &out[0] {
 		copy(out, src)
 	}
 }
+
+// planes says whether v's decoded chunks are byte planes (shuffled values of
+// more than one byte).
+func (v *directVar) planes() bool { return v.shuffle && v.size > 1 }
 
 func btoi(b bool) int {
 	if b {
@@ -526,13 +545,14 @@ func (r *directReader) newFetch(v *directVar, k chunkKey, nd int) *fetch {
 }
 
 // copySlab copies the slab's values (row-major over its count) out of the
-// cached chunks into raw.
+// cached chunks into raw, unshuffling them from chunks kept as byte planes.
 func (v *directVar) copySlab(s *inBuf, raw []byte) {
 	nd := len(s.start)
 	sz := v.size
 	y0, ny := int(s.start[nd-2]), int(s.count[nd-2])
 	x0, nx := int(s.start[nd-1]), int(s.count[nd-1])
 	cy, cx := v.chunks[nd-2], v.chunks[nd-1]
+	planes := v.planes()
 	var k chunkKey
 	lin := 0 // the slab's leading position inside its chunk, linearised
 	for i := 0; i < nd-2; i++ {
@@ -548,10 +568,31 @@ func (v *directVar) copySlab(s *inBuf, raw []byte) {
 			c := arenaBytes(v.cache[k])
 			w := (xb - xa) * sz
 			for y := ya; y < yb; y++ {
-				src := ((lin*cy+(y-ky*cy))*cx + (xa - kx*cx)) * sz
+				src := (lin*cy+(y-ky*cy))*cx + (xa - kx*cx) // value index in the chunk
 				dst := ((y-y0)*nx + (xa - x0)) * sz
-				copy(raw[dst:dst+w], c[src:src+w])
+				if planes {
+					unshufflePart(raw[dst:dst+w], c[:v.chunkLen], src, sz)
+					continue
+				}
+				copy(raw[dst:dst+w], c[src*sz:src*sz+w])
 			}
+		}
+	}
+}
+
+// unshufflePart unshuffles values [at, at+len(dst)/size) of the shuffled chunk
+// c (byte planes of len(c)/size values) into dst.
+func unshufflePart(dst, c []byte, at, size int) {
+	n := len(c) / size
+	m := len(dst) / size
+	if size == 4 {
+		unshuffleRow4(dst, c[at:at+m], c[n+at:n+at+m], c[2*n+at:2*n+at+m], c[3*n+at:3*n+at+m])
+		return
+	}
+	for b := range size {
+		p := c[b*n+at : b*n+at+m]
+		for i, x := range p {
+			dst[i*size+b] = x
 		}
 	}
 }

@@ -12,6 +12,8 @@ import (
 	"strings"
 	"testing"
 	"unsafe"
+
+	"github.com/klauspost/compress/flate"
 )
 
 // directVars: one variable of every stored type the writer handles (float32,
@@ -332,7 +334,8 @@ func benchChunks() [][]byte {
 }
 
 // BenchmarkChunkFilter compares, on one core, the direct writer's encoder
-// (klauspost/compress, zlibDeflate), libdeflate (the previous choice) and zlib's
+// (zlibDeflate: ISA-L's, one block run per byte plane), klauspost/compress's and
+// libdeflate's (the earlier choices) and zlib's
 // compress2 (what HDF5's filter runs inside libnetcdf) at the same level: MB/s of
 // raw chunk bytes and the compressed fraction.
 func BenchmarkChunkFilter(b *testing.B) {
@@ -357,17 +360,23 @@ func BenchmarkChunkFilter(b *testing.B) {
 		b.Run(fmt.Sprintf("libdeflate-level%d", level), func(b *testing.B) {
 			run(b, func(src []byte) int { return libdeflateCompress(dst, src, level) })
 		})
+		b.Run(fmt.Sprintf("klauspost-level%d", level), func(b *testing.B) {
+			s := &chunkScratch{level: level}
+			s.fw, _ = flate.NewWriter(&s.sink, level)
+			run(b, func(src []byte) int { return s.zlibDeflate(dst, src, 4) })
+		})
 		b.Run(fmt.Sprintf("direct-level%d", level), func(b *testing.B) {
 			s := getScratch(level, 0)
 			defer putScratch(s)
-			run(b, func(src []byte) int { return s.zlibDeflate(dst, src) })
+			run(b, func(src []byte) int { return s.zlibDeflate(dst, src, 4) })
 		})
 	}
 }
 
 // TestZlibDeflate: the direct writer's zlib streams of random (incompressible),
-// half-random, smooth and constant chunks of several sizes fit chunkBound at every
-// level, carry the header zlib itself writes for the level (RFC 1950), and
+// half-random, smooth and constant chunks of several sizes fit chunkBound at
+// levels of both encoders (ISA-L's, in one to four planes with a remainder,
+// and klauspost/compress's), carry the header zlib itself writes for the level (RFC 1950), and
 // inflate to the input through Go's compress/zlib (an independent decoder, which
 // checks the Adler-32) and through libdeflate (the direct reader's).
 func TestZlibDeflate(t *testing.T) {
@@ -387,13 +396,14 @@ func TestZlibDeflate(t *testing.T) {
 					src[i] = byte(100 * math.Sin(float64(i)/300))
 				}
 			}
-			for _, level := range []int{1, 2, 6, 9} {
+			for _, c := range []struct{ level, planes int }{{1, 1}, {1, 4}, {2, 2}, {4, 4}, {6, 3}, {7, 4}, {9, 1}} {
+				level := c.level
 				s := getScratch(level, 0)
 				dst := make([]byte, chunkBound(n))
-				m := s.zlibDeflate(dst, src)
+				m := s.zlibDeflate(dst, src, c.planes)
 				putScratch(s)
 				if m == 0 {
-					t.Fatalf("n=%d kind=%d level=%d: the stream did not fit chunkBound %d", n, kind, level, len(dst))
+					t.Fatalf("n=%d kind=%d level=%d planes=%d: the stream did not fit chunkBound %d", n, kind, level, c.planes, len(dst))
 				}
 				ref := make([]byte, chunkBound(n))
 				if k := zlibCompress(ref, src, level); k < 2 || ref[0] != dst[0] || ref[1] != dst[1] {
@@ -417,8 +427,9 @@ func TestZlibDeflate(t *testing.T) {
 }
 
 // TestDirectReaderMatchesLibnetcdf: the direct chunk reader decodes what
-// libnetcdf decodes, for deflated and shuffled, deflate-only and unfiltered
-// chunks, int16 with scale_factor, chunks never written (fill), chunks that
+// libnetcdf decodes, for deflated and shuffled (float32 and int16),
+// deflate-only and unfiltered chunks, int16 with scale_factor, chunks never
+// written (fill, shuffled or not), chunks that
 // span several leading indices, a big-endian variable (left to libnetcdf), and
 // slab plans of whole chunks, pieces of chunks and pieces straddling chunk
 // rows. Inputs are written by netCDF4-python.
@@ -443,6 +454,10 @@ v.set_auto_maskandscale(False)
 v[0:3] = np.round(field(1)[0:3] / 10 / 0.01).astype("i2")  # the last record's chunks are never written
 v = d.createVariable("cot", "f4", ("time", "y", "x"), chunksizes=(1, 45, 7))
 v.units = "1"; v[:] = field(2) / 10
+v = d.createVariable("ctp", "i2", ("time", "y", "x"), zlib=True, shuffle=True, chunksizes=(2, 12, 20), fill_value=-32767)
+v.units = "hPa"; v.scale_factor = 0.1
+v.set_auto_maskandscale(False)
+v[0:2] = np.round((600 + field(4)[0:2]) / 0.1).astype("i2")  # the last records' chunks are never written
 v = d.createVariable("ctt", "f4", ("time", "y", "x"), zlib=True, chunksizes=(1, 9, 35), endian="big")
 v.units = "K"; v[:] = 280 + field(3) / 50
 d.close()
@@ -452,14 +467,15 @@ d.close()
 		{Name: "o_re", Units: "1", Type: Float32, Fill: -999},
 		{Name: "o_tau", Units: "1", Type: Float32, Fill: -999},
 		{Name: "o_ctt", Units: "1", Type: Float32, Fill: -999},
+		{Name: "o_ctp", Units: "1", Type: Float32, Fill: -999},
 	}
-	const perCol = (8 + 4) + (8 + 2) + (8 + 4) + (8 + 4) + 4*(8+4)
+	const perCol = (8 + 4) + (8 + 2) + (8 + 4) + (8 + 4) + (8 + 2) + 5*(8+4)
 	for _, slab := range []int{0, perCol * 70 * 4, perCol * 24 * 5, perCol * 16 * 7, perCol * 3} {
 		t.Run(fmt.Sprint(slab/perCol), func(t *testing.T) {
 			var outs []string
 			for _, lib := range []bool{true, false} {
 				in, err := Open(path, OpenOptions{SlabBytes: slab, Overrides: []Override{
-					{Role: RoleLWP, Var: "lwp"}, {Role: RoleRe, Var: "re"}, {Role: RoleTau, Var: "cot"}, {Role: RoleCTT, Var: "ctt"}}})
+					{Role: RoleLWP, Var: "lwp"}, {Role: RoleRe, Var: "re"}, {Role: RoleTau, Var: "cot"}, {Role: RoleCTT, Var: "ctt"}, {Role: RoleCTP, Var: "ctp"}}})
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -478,7 +494,7 @@ d.close()
 				in.Close()
 				want := "[]"
 				if !lib {
-					want = "[lwp re cot]" // ctt is big-endian: libnetcdf converts it
+					want = "[lwp re cot ctp]" // ctt is big-endian: libnetcdf converts it
 				}
 				if got := fmt.Sprint(st.DirectRead); got != want && !(lib && got == "[]") {
 					t.Errorf("direct reads %s, want %s", got, want)

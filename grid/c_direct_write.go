@@ -4,12 +4,12 @@ package grid
 // output as before (dimensions, variables with their chunking, shuffle and
 // deflate filters, fill values, every attribute, the copied coordinates) and
 // closes it; the new variables' chunks are then filtered by the Go workers
-// (quantization, byte shuffle, zlib-format deflate: klauspost/compress's
-// encoder with libdeflate's Adler-32) and the I/O thread
+// (quantization, byte shuffle, zlib-format deflate: ISA-L's or
+// klauspost/compress's encoder with libdeflate's Adler-32) and the I/O thread
 // only stores the finished bytes with HDF5's H5Dwrite_chunk into the same
 // temporary file. Every HDF5 call runs on the I/O thread (c_thread.go).
 
-// #cgo pkg-config: hdf5 libdeflate
+// #cgo pkg-config: hdf5 libdeflate libisal
 // #cgo LDFLAGS: -lm -lz
 // #include <stdlib.h>
 // #include <stdint.h>
@@ -17,6 +17,38 @@ package grid
 // #include <hdf5.h>
 // #include <libdeflate.h>
 // #include <zlib.h>
+// #include <isa-l/igzip_lib.h>
+//
+// // wr_isal_deflate appends to dst the raw deflate blocks (RFC 1951) of src made
+// // by ISA-L's one-shot encoder at level, byte-aligned and not final unless last
+// // is set; it returns their length, or -1 when they do not fit cap bytes (or
+// // ISA-L refuses the call). The stream state (~85 KB) lives on this thread's
+// // C stack for the call only.
+// static long wr_isal_deflate(const unsigned char *src, size_t n, unsigned char *dst, size_t cap,
+//                             int level, unsigned char *buf, size_t bufsz, int last) {
+//   struct isal_zstream s;
+//   isal_deflate_stateless_init(&s);
+//   s.level = level;
+//   s.level_buf = buf;
+//   s.level_buf_size = bufsz;
+//   s.gzip_flag = IGZIP_DEFLATE;
+//   s.next_in = (unsigned char *)src;
+//   s.avail_in = n;
+//   s.next_out = dst;
+//   s.avail_out = cap;
+//   s.end_of_stream = last;
+//   s.flush = last ? NO_FLUSH : FULL_FLUSH;
+//   if (isal_deflate_stateless(&s) != COMP_OK) return -1;
+//   return (long)s.total_out;
+// }
+// static size_t wr_isal_level_buf(int level) {
+//   switch (level) {
+//   case 1: return ISAL_DEF_LVL1_DEFAULT;
+//   case 2: return ISAL_DEF_LVL2_DEFAULT;
+//   case 3: return ISAL_DEF_LVL3_DEFAULT;
+//   }
+//   return 0;
+// }
 //
 // // wr_zlib_compress is zlib's compress2, as HDF5's deflate filter calls it
 // // (for the benchmark that compares the encoders).
@@ -97,8 +129,10 @@ import (
 	"encoding/binary"
 	"errors"
 	"fmt"
+	"os"
 	"path/filepath"
 	"sync"
+	"syscall"
 	"unsafe"
 
 	"github.com/klauspost/compress/flate"
@@ -130,6 +164,10 @@ type directOut struct {
 	size  []int       // value size of each variable, bytes
 	bound []int       // compressed size bound of one chunk of each variable
 	off   []C.hsize_t // chunk offset (the I/O thread's, reused)
+	// wb is the temporary file opened read-only, through which the I/O thread
+	// starts the writeback of each slab's chunks (startWriteback); nil if it
+	// cannot be opened.
+	wb *os.File
 }
 
 // chunkTask is one chunk of one output variable within a slab: (ry, rx) its
@@ -188,6 +226,9 @@ func (o *Output) openDirectIO() error {
 	}
 	d := &directOut{fid: fid}
 	o.direct = d
+	if f, err := os.Open(o.Tmp); err == nil {
+		d.wb = f
+	}
 	c := planChunks(o.chunks)
 	d.cy, d.cx = c[len(c)-2], c[len(c)-1]
 	nd := len(o.in.Layout.Dims)
@@ -339,10 +380,28 @@ func (d *directOut) arenaBytes(p *slabPlan, nVars int) int {
 
 // chunkScratch is one worker's room for filtering a chunk.
 type chunkScratch struct {
-	gather, shuf []byte
-	fw           *flate.Writer // raw deflate at level (nil for level 0)
-	sink         fixedSink
-	level        int
+	shuf  []byte        // a chunk's byte planes when chunkInput shuffles
+	level int           // the output's deflate level (0: none)
+	isal  int           // ISA-L's level for it, 0 when klauspost/compress encodes
+	ibuf  []byte        // ISA-L's level buffer (hash table and tokens)
+	fw    *flate.Writer // klauspost/compress's raw deflate at level (levels above 6)
+	sink  fixedSink
+}
+
+// isalLevel is the ISA-L level that deflates chunks for the user's level (0:
+// klauspost/compress's encoder at that level). ISA-L's levels 1 and 2, each
+// byte plane a block of its own, are smaller than zlib's levels 1-3 and within
+// 1 % of 4-6 on real output chunks, at 1.7-2 times klauspost's speed; levels
+// 7-9 ask for size over speed, which klauspost's slower levels give
+// (doc/netcdf.md#direct-chunks, BenchmarkChunkFilter, TestDeflateBytes).
+func isalLevel(level int) int {
+	switch {
+	case level >= 1 && level <= 3:
+		return 1
+	case level >= 4 && level <= 6:
+		return 2
+	}
+	return 0
 }
 
 // fixedSink is an io.Writer over a fixed slice: a write beyond its end sets over
@@ -383,17 +442,19 @@ func getScratch(level, n int) *chunkScratch {
 	}
 	scratchPool.Unlock()
 	if s == nil {
-		s = &chunkScratch{level: level}
-		if level > 0 {
+		s = &chunkScratch{level: level, isal: isalLevel(level)}
+		switch {
+		case s.isal > 0:
+			s.ibuf = make([]byte, C.wr_isal_level_buf(C.int(s.isal)))
+		case level > 0:
 			// Levels 1-9 are valid for flate.NewWriter: the error cannot occur.
 			s.fw, _ = flate.NewWriter(&s.sink, level)
 		}
 	}
-	if cap(s.gather) < n {
-		s.gather = make([]byte, n)
+	if cap(s.shuf) < n {
 		s.shuf = make([]byte, n)
 	}
-	s.gather, s.shuf = s.gather[:n], s.shuf[:n]
+	s.shuf = s.shuf[:n]
 	return s
 }
 
@@ -416,7 +477,11 @@ func (o *Output) filterChunk(t *chunkTask, s *chunkScratch, in []byte, arena []b
 		t.n = copy(dst, in)
 		return nil
 	}
-	m := s.zlibDeflate(dst, in)
+	planes := 1
+	if o.shuffle {
+		planes = d.size[t.k]
+	}
+	m := s.zlibDeflate(dst, in, planes)
 	if m == 0 {
 		return fmt.Errorf("grid: deflate of a chunk of %s did not fit its bound", v.Name)
 	}
@@ -461,12 +526,7 @@ func unshuffle(dst, src []byte, size int) {
 	n := len(src) / size
 	switch size {
 	case 4:
-		s0, s1, s2, s3 := src[:n], src[n:2*n], src[2*n:3*n], src[3*n:4*n]
-		d := dst[:4*n]
-		for i := range n {
-			j := 4 * i
-			d[j], d[j+1], d[j+2], d[j+3] = s0[i], s1[i], s2[i], s3[i]
-		}
+		unshuffleRow4(dst[:4*n], src[:n], src[n:2*n], src[2*n:3*n], src[3*n:4*n])
 	default:
 		for i := range n {
 			for b := range size {
@@ -477,6 +537,39 @@ func unshuffle(dst, src []byte, size int) {
 	copy(dst[n*size:], src[n*size:])
 }
 
+// unshuffleRow4 reverses shuffleRow4: byte b of value i from pb[i], eight
+// values at a time. The byte transpose of shuffleRow4 is its own inverse.
+func unshuffleRow4(dst, p0, p1, p2, p3 []byte) {
+	n := len(p0)
+	p1, p2, p3, dst = p1[:n], p2[:n], p3[:n], dst[:4*n]
+	i := 0
+	for ; i+8 <= n; i += 8 {
+		q0 := binary.LittleEndian.Uint64(p0[i:])
+		q1 := binary.LittleEndian.Uint64(p1[i:])
+		q2 := binary.LittleEndian.Uint64(p2[i:])
+		q3 := binary.LittleEndian.Uint64(p3[i:])
+		const m8, m16 = 0x00ff00ff00ff00ff, 0x0000ffff0000ffff
+		t0 := q0&m8 | (q1&m8)<<8
+		t1 := (q0>>8)&m8 | q1&^m8
+		t2 := q2&m8 | (q3&m8)<<8
+		t3 := (q2>>8)&m8 | q3&^m8
+		// a, b, c, d hold values (i, i+4), (i+1, i+5), (i+2, i+6), (i+3, i+7).
+		a := t0&m16 | (t2&m16)<<16
+		b := t1&m16 | (t3&m16)<<16
+		c := (t0>>16)&m16 | t2&^m16
+		d := (t1>>16)&m16 | t3&^m16
+		const lo32 = 0x00000000ffffffff
+		x := dst[4*i : 4*i+32 : 4*i+32]
+		binary.LittleEndian.PutUint64(x[0:], a&lo32|b<<32)
+		binary.LittleEndian.PutUint64(x[8:], c&lo32|d<<32)
+		binary.LittleEndian.PutUint64(x[16:], a>>32|b&^lo32)
+		binary.LittleEndian.PutUint64(x[24:], c>>32|d&^lo32)
+	}
+	for ; i < n; i++ {
+		dst[4*i], dst[4*i+1], dst[4*i+2], dst[4*i+3] = p0[i], p1[i], p2[i], p3[i]
+	}
+}
+
 // zlibCompress deflates src into dst with zlib's compress2 at level, as HDF5's
 // deflate filter does; it returns the length, 0 when dst is too small.
 func zlibCompress(dst, src []byte, level int) int {
@@ -485,28 +578,60 @@ func zlibCompress(dst, src []byte, level int) int {
 
 // zlibDeflate deflates src into dst in the zlib format (RFC 1950), which HDF5's
 // deflate filter and every netCDF-4 reader inflate: the two header bytes zlib
-// writes for the level, the raw deflate stream (RFC 1951) of klauspost/compress's
-// encoder at s.level, and the Adler-32 of src (libdeflate's, big-endian). It
-// returns the length, 0 when dst is too small. The encoder is deterministic, so
-// the bytes depend only on src and the level.
-func (s *chunkScratch) zlibDeflate(dst, src []byte) int {
+// writes for the level, a raw deflate stream (RFC 1951), and the Adler-32 of src
+// (libdeflate's, big-endian). The stream is ISA-L's one-shot encoder's, one run
+// per plane of src cut into planes equal parts (the byte planes of a shuffled
+// chunk: each gets Huffman codes of its own, the last takes any remainder), or
+// klauspost/compress's (isalLevel). It returns the length, 0 when dst is too
+// small. Both encoders are deterministic on a given machine, so the bytes depend
+// only on src, planes and the level there; ISA-L picks its code for the CPU, so
+// another machine may write other bytes that inflate to the same values.
+func (s *chunkScratch) zlibDeflate(dst, src []byte, planes int) int {
 	if len(dst) < 6 || len(src) == 0 {
 		return 0
 	}
-	s.sink = fixedSink{b: dst[2 : len(dst)-4]}
-	s.fw.Reset(&s.sink)
-	if _, err := s.fw.Write(src); err != nil {
-		return 0
-	}
-	if err := s.fw.Close(); err != nil || s.sink.over {
-		return 0
+	body := dst[2 : len(dst)-4]
+	n := 0
+	if s.isal > 0 {
+		seg := len(src) / max(planes, 1)
+		if seg == 0 {
+			planes, seg = 1, len(src)
+		}
+		for p := range planes {
+			a, b := p*seg, (p+1)*seg
+			last := 0
+			if p == planes-1 {
+				b, last = len(src), 1
+			}
+			if n >= len(body) {
+				return 0
+			}
+			m := C.wr_isal_deflate((*C.uchar)(unsafe.Pointer(&src[a])), C.size_t(b-a),
+				(*C.uchar)(unsafe.Pointer(&body[n])), C.size_t(len(body)-n),
+				C.int(s.isal), (*C.uchar)(unsafe.Pointer(&s.ibuf[0])), C.size_t(len(s.ibuf)), C.int(last))
+			if m < 0 {
+				return 0
+			}
+			n += int(m)
+		}
+	} else {
+		s.sink = fixedSink{b: body}
+		s.fw.Reset(&s.sink)
+		_, err := s.fw.Write(src)
+		if err == nil {
+			err = s.fw.Close()
+		}
+		n = s.sink.n
+		over := s.sink.over
+		s.sink = fixedSink{}
+		if err != nil || over {
+			return 0
+		}
 	}
 	dst[0], dst[1] = zlibHeader(s.level)
 	sum := uint32(C.libdeflate_adler32(1, unsafe.Pointer(&src[0]), C.size_t(len(src))))
-	n := 2 + s.sink.n
-	binary.BigEndian.PutUint32(dst[n:], sum)
-	s.sink = fixedSink{}
-	return n + 4
+	binary.BigEndian.PutUint32(dst[2+n:], sum)
+	return 2 + n + 4
 }
 
 // zlibHeader returns the zlib header of a deflate stream with a 32 KiB window
@@ -563,6 +688,9 @@ func (o *Output) writeChunksIO(start []uint64, tasks []chunkTask, arena []byte, 
 			return noSpace(&VarError{File: o.Path, Var: o.vars[t.k].Name, Problem: fmt.Sprintf("write of a chunk of slab %d failed (HDF5 error)", index), Err: errors.New("HDF5 direct chunk write failed")}, filepath.Dir(o.Path))
 		}
 	}
+	if d.wb != nil {
+		startWriteback(d.wb)
+	}
 	return nil
 }
 
@@ -570,6 +698,10 @@ func (o *Output) writeChunksIO(start []uint64, tasks []chunkTask, arena []byte, 
 // is returned.
 func (d *directOut) closeIO() error {
 	var err error
+	if d.wb != nil {
+		d.wb.Close()
+		d.wb = nil
+	}
 	for i, ds := range d.dsets {
 		if ds >= 0 {
 			if C.H5Dclose(ds) < 0 && err == nil {
@@ -585,4 +717,16 @@ func (d *directOut) closeIO() error {
 		d.fid = -1
 	}
 	return err
+}
+
+// startWriteback asks the kernel to start writing f's dirty pages to disk and
+// returns at once (Linux's sync_file_range with SYNC_FILE_RANGE_WRITE over the
+// whole file: pages already under writeback are left alone, nothing is waited
+// for). The fsync before an output's rename (commitTemp) then finds little left
+// to write, so the wait at the end of a file overlaps the computation. It
+// changes no data and promises nothing by itself; errors are ignored, and the
+// fsync that follows reports them.
+func startWriteback(f *os.File) {
+	const syncFileRangeWrite = 2 // SYNC_FILE_RANGE_WRITE, <linux/fs.h>
+	syscall.Syscall6(syscall.SYS_SYNC_FILE_RANGE, f.Fd(), 0, 0, syncFileRangeWrite, 0, 0)
 }

@@ -32,7 +32,8 @@
 //     Output. pipe_slab.go (slab plan, buffers, decoded reads), pipe_process.go
 //     (Process: three slabs in flight), pipe_memory.go (EstimateMemory),
 //     pipe_output.go (Create, Commit), pipe_point.go (single columns, samples),
-//     pipe_chunk.go (the direct writer's chunk bytes from the output slab).
+//     pipe_chunk.go (the direct writer's chunk layout of the output slab and
+//     each chunk's bytes).
 //
 // Only binding files import "C" or go-netcdf; CF files reach the files through
 // the generic layer, using from the binding only the I/O thread and UDUNITS-2;

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"math"
+	"path/filepath"
 	"testing"
 	"unsafe"
 )
@@ -43,11 +44,12 @@ func refChunkInput(o *Output, t *chunkTask, raw []uint64, ny, nx int) []byte {
 }
 
 // TestChunkInputMatchesGatherShuffle: the bytes the direct writer compresses
-// (chunkInput, with its one-pass gather and shuffle) are those of gather and
-// shuffle, for every stored type, packed int16, quantized float32, with and
-// without shuffle, for whole chunks and chunks cut by the grid's edge, on
-// values that include NaN, ±Inf, -0, subnormals, values beyond float32's range
-// and beyond a packed type's range (invented data).
+// (encodeChunks into the chunk layout, in blocks of columns cut anywhere, then
+// chunkInput) are those of encode into the row-major slab, gather and shuffle,
+// for every stored type, packed int16, quantized float32, with and without
+// shuffle, for whole chunks and chunks cut by the grid's edge, with stale bytes
+// in the buffers, on values that include NaN, ±Inf, -0, subnormals, values
+// beyond float32's range and beyond a packed type's range (invented data).
 func TestChunkInputMatchesGatherShuffle(t *testing.T) {
 	const ny, nx = 23, 37
 	const cy, cx = 8, 16
@@ -69,6 +71,7 @@ func TestChunkInputMatchesGatherShuffle(t *testing.T) {
 		{Name: "i", Type: Int32, Fill: -2147483647},
 		{Name: "u", Type: Uint32, Fill: 4294967295},
 	}
+	blocks := []int{1, 7, 100, 3, 333, 16, 9} // compute block lengths, cycled
 	for _, shuf := range []bool{true, false} {
 		o := &Output{vars: vars, shuffle: shuf, direct: &directOut{cy: cy, cx: cx}}
 		for k, v := range vars {
@@ -80,6 +83,16 @@ func TestChunkInputMatchesGatherShuffle(t *testing.T) {
 			o.direct.size = append(o.direct.size, typ.Size())
 			raw := make([]uint64, (ny*nx*typ.Size()+7)/8)
 			encode(&o.vars[k], typ, unsafe.Pointer(&raw[0]), src, 0, ny*nx)
+			p := &slabPlan{Y: ny, X: nx, ry: ny, rx: nx, maxN: ny * nx}
+			chunked := make([]uint64, rawWords(o.direct.slabValues(p), typ.Size()))
+			for i := range chunked {
+				chunked[i] = 0xa5a5a5a5a5a5a5a5
+			}
+			for lo, j := 0, 0; lo < ny*nx; j++ {
+				hi := min(lo+blocks[j%len(blocks)], ny*nx)
+				o.encodeChunks(k, chunked, src[lo:hi], lo, hi, nx)
+				lo = hi
+			}
 			for ry := 0; ry < ny; ry += cy {
 				for rx := 0; rx < nx; rx += cx {
 					t.Run(fmt.Sprintf("%s/shuffle=%v/%d,%d", v.Name, shuf, ry, rx), func(t *testing.T) {
@@ -87,12 +100,12 @@ func TestChunkInputMatchesGatherShuffle(t *testing.T) {
 						want := refChunkInput(o, task, raw, ny, nx)
 						s := getScratch(0, cy*cx*typ.Size())
 						defer putScratch(s)
-						for i := range s.gather { // stale bytes of an earlier chunk must not show
-							s.gather[i], s.shuf[i] = 0xa5, 0x5a
+						for i := range s.shuf { // stale bytes of an earlier chunk must not show
+							s.shuf[i] = 0x5a
 						}
-						got := o.chunkInput(s, task, raw, ny, nx)
+						got := o.chunkInput(s, task, chunked, ny, nx)
 						if !bytes.Equal(got, want) {
-							t.Errorf("chunk bytes differ from gather + shuffle")
+							t.Errorf("chunk bytes differ from encode, gather and shuffle")
 						}
 					})
 				}
@@ -101,11 +114,15 @@ func TestChunkInputMatchesGatherShuffle(t *testing.T) {
 	}
 }
 
-// BenchmarkChunkInput is the work of the direct writer's chunk filters before
-// the compressor: a float32 chunk of 100 x 1000 values from a slab of 200 x
-// 2000, in one pass (chunkInput) and as a copy of its rows followed by shuffle
-// (gather-shuffle), with a third of the values fill in patches (invented data).
-func BenchmarkChunkInput(b *testing.B) {
+// BenchmarkEncodeChunk is the work of the workers on a float32 output before
+// the compressor, for a chunk of 100 x 1000 values of a slab of 200 x 2000
+// computed in blocks of computeBlock columns (each block's values written just
+// before, as compute does, so that they are in the core's cache), with a third
+// of the values NaN in patches (invented data): encoded into the chunk's byte planes in one pass
+// (fused: encodeChunks, chunkInput), and encoded into the row-major slab then
+// shuffled from it (two-pass: encode, shuffleRow4 of each row, the direct
+// writer's way before encodeChunks).
+func BenchmarkEncodeChunk(b *testing.B) {
 	const cy, cx, ny, nx = 100, 1000, 200, 2000
 	src := make([]float64, ny*nx)
 	for i := range src {
@@ -118,26 +135,46 @@ func BenchmarkChunkInput(b *testing.B) {
 	o := &Output{vars: []OutputVar{{Name: "f", Type: Float32, Fill: -999}}, types: []Type{Float}, shuffle: true,
 		direct: &directOut{cy: cy, cx: cx, fill: [][]byte{make([]byte, 4)}, size: []int{4}}}
 	copyRawTo(o.direct.fill[0], typedPtr([]float32{-999}), 4)
-	raw := make([]uint64, ny*nx/2)
-	encode(&o.vars[0], Float, unsafe.Pointer(&raw[0]), src, 0, ny*nx)
-	stored := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*4)
-	task := &chunkTask{ry: cy, rx: cx}
+	raw := make([]uint64, ny*nx/2+1)
+	dec := make([]float64, ny*nx) // compute's output buffer
 	s := getScratch(0, cy*cx*4)
 	defer putScratch(s)
-	b.Run("one-pass", func(b *testing.B) {
-		b.SetBytes(cy * cx * 4)
+	b.Run("fused", func(b *testing.B) {
+		b.ReportAllocs()
+		b.SetBytes(ny * nx * 4)
 		for b.Loop() {
-			o.chunkInput(s, task, raw, ny, nx)
+			for lo := 0; lo < ny*nx; lo += computeBlock {
+				hi := min(lo+computeBlock, ny*nx)
+				copy(dec[lo:hi], src[lo:hi])
+				o.encodeChunks(0, raw, dec[lo:hi], lo, hi, nx)
+			}
+			for ry := 0; ry < ny; ry += cy {
+				for rx := 0; rx < nx; rx += cx {
+					o.chunkInput(s, &chunkTask{ry: ry, rx: rx}, raw, ny, nx)
+				}
+			}
 		}
 	})
-	b.Run("gather-shuffle", func(b *testing.B) {
-		b.SetBytes(cy * cx * 4)
+	b.Run("two-pass", func(b *testing.B) {
+		b.ReportAllocs()
+		b.SetBytes(ny * nx * 4)
+		stored := unsafe.Slice((*byte)(unsafe.Pointer(&raw[0])), ny*nx*4)
+		const n = cy * cx
 		for b.Loop() {
-			for r := range cy {
-				off := ((task.ry+r)*nx + task.rx) * 4
-				copy(s.gather[r*cx*4:(r+1)*cx*4], stored[off:off+cx*4])
+			for lo := 0; lo < ny*nx; lo += computeBlock {
+				hi := min(lo+computeBlock, ny*nx)
+				copy(dec[lo:hi], src[lo:hi])
+				encode(&o.vars[0], Float, unsafe.Pointer(&raw[0]), dec, lo, hi)
 			}
-			shuffle(s.shuf, s.gather, 4)
+			for ry := 0; ry < ny; ry += cy {
+				for rx := 0; rx < nx; rx += cx {
+					for r := range cy {
+						off := ((ry+r)*nx + rx) * 4
+						at := r * cx
+						shuffleRow4(s.shuf[at:at+cx], s.shuf[n+at:n+at+cx], s.shuf[2*n+at:2*n+at+cx], s.shuf[3*n+at:3*n+at+cx], stored[off:off+cx*4])
+					}
+				}
+			}
 		}
 	})
 }
@@ -163,6 +200,58 @@ func TestEncodeFloat(t *testing.T) {
 		}
 		if math.Float32bits(got[i+1]) != math.Float32bits(want) {
 			t.Errorf("encode(%g) = %g (%#x), want %g (%#x)", x, got[i+1], math.Float32bits(got[i+1]), want, math.Float32bits(want))
+		}
+	}
+}
+
+// TestBlockOutputsMatch: a run whose compute gets outputs for its block of
+// columns only (ProcessOptions.BlockOutputs) writes the same file as one whose
+// compute gets outputs for the whole slab, with both writers, on the direct
+// writer's cases (grids whose sides are not multiples of the chunks, tiles,
+// every output type; invented data).
+func TestBlockOutputsMatch(t *testing.T) {
+	// blockCompute is directCompute with outs[k][i-lo].
+	blockCompute := func(s *Slab, outs [][]float64, lo, hi int) {
+		whole := make([][]float64, len(outs))
+		for k := range whole {
+			whole[k] = make([]float64, hi)
+		}
+		directCompute(s, whole, lo, hi)
+		for k := range outs {
+			copy(outs[k][:hi-lo], whole[k][lo:hi])
+		}
+	}
+	for _, c := range directCases(t) {
+		for _, writer := range []string{WriterDirect, WriterLibnetcdf} {
+			t.Run(c.name+"/"+writer, func(t *testing.T) {
+				var paths []string
+				for _, block := range []bool{false, true} {
+					in, err := Open(c.in, OpenOptions{SlabBytes: c.slab})
+					if err != nil {
+						t.Fatal(err)
+					}
+					defer in.Close()
+					path := filepath.Join(t.TempDir(), fmt.Sprintf("block%v.nc", block))
+					opt := DefaultWriteOptions()
+					opt.Mode, opt.Writer = c.mode, writer
+					out, err := Create(path, in, directVars(), opt)
+					if err != nil {
+						t.Fatal(err)
+					}
+					f := directCompute
+					if block {
+						f = blockCompute
+					}
+					if err := Process(in, out, ProcessOptions{Workers: 3, BlockOutputs: block}, f); err != nil {
+						t.Fatal(err)
+					}
+					if err := out.Commit(); err != nil {
+						t.Fatal(err)
+					}
+					paths = append(paths, path)
+				}
+				compareOutputs(t, paths[0], paths[1])
+			})
 		}
 	}
 }

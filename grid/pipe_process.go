@@ -26,6 +26,11 @@ type ProcessOptions struct {
 	Cancel <-chan struct{}
 	// Stats, if set, receives the time spent in each stage when Process returns.
 	Stats *ProcessStats
+	// BlockOutputs hands compute outputs for its block of columns only:
+	// outs[k][i-lo] is output k at column i (ComputeFunc). They stay in the
+	// core's cache from compute to encoding, where outputs for the whole slab
+	// would be fetched from memory before every write.
+	BlockOutputs bool
 	// LibnetcdfRead reads every input through libnetcdf (on the I/O thread,
 	// decompression included) instead of the direct chunk reader where it
 	// applies (doc/netcdf.md#direct-chunks).
@@ -55,9 +60,10 @@ type ProcessStats struct {
 const computeBlock = 2048
 
 // ComputeFunc computes outputs for columns [lo, hi) of slab s: outs[k][i] is
-// output variable k at column i, in the output's units (NaN = fill). It runs on
-// several goroutines at once, each with its own disjoint range, and must only
-// write outs[k][lo:hi]. Process calls it for ranges of at most computeBlock
+// output variable k at column i, in the output's units (NaN = fill), or
+// outs[k][i-lo] with ProcessOptions.BlockOutputs. It runs on several
+// goroutines at once, each with its own disjoint range, and must only write
+// outs[k][lo:hi] (outs[k][:hi-lo]). Process calls it for ranges of at most computeBlock
 // columns, many times per slab.
 type ComputeFunc func(s *Slab, outs [][]float64, lo, hi int)
 
@@ -139,14 +145,20 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	}
 	decOut := make([][]float64, len(out.types))
 	for k := range decOut {
-		decOut[k] = getF64(p.maxN)
+		if !opt.BlockOutputs {
+			decOut[k] = getF64(p.maxN)
+		}
 	}
 	sets := make([]*slabSet, nBuffers)
 	free := make(chan *slabSet, nBuffers)
 	for i := range sets {
 		s := &slabSet{in: newRawBuf(in, p)}
+		n := p.maxN
+		if out.direct != nil {
+			n = out.direct.slabValues(p) // the chunk layout (encodeChunks)
+		}
 		for _, t := range out.types {
-			s.outRaw = append(s.outRaw, getRaw(rawWords(p.maxN, t.Size())))
+			s.outRaw = append(s.outRaw, getRaw(rawWords(n, t.Size())))
 		}
 		if out.direct != nil {
 			s.arena = getRaw(rawWords(out.direct.arenaBytes(p, len(out.types)), 1))
@@ -170,7 +182,9 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		}
 		for k := range decOut {
-			putF64(decOut[k])
+			if decOut[k] != nil {
+				putF64(decOut[k])
+			}
 		}
 	}()
 	var (
@@ -310,7 +324,7 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			fail(err)
 		}
 	}
-	work := func(j job) {
+	work := func(j job, blk [][]float64) {
 		if j.task >= 0 {
 			filter(j)
 			return
@@ -328,15 +342,28 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		for lo := j.lo; lo < j.hi; lo += computeBlock {
 			hi := min(lo+computeBlock, j.hi)
 			in.decode(j.s.in, lo, hi)
+			outs, off := decOut, 0 // outs[k][i-off] is output k at column i
+			if opt.BlockOutputs {
+				outs, off = blk, lo
+				for k := range blk {
+					blk[k] = blk[k][:hi-lo]
+				}
+			}
 			if opt.SkipCompute {
-				for k := range decOut {
-					copy(decOut[k][lo:hi], j.s.in.slab.In[bound[k%len(bound)]][lo:hi])
+				for k := range outs {
+					copy(outs[k][lo-off:hi-off], j.s.in.slab.In[bound[k%len(bound)]][lo:hi])
 				}
 			} else {
-				compute(&j.s.in.slab, decOut, lo, hi)
+				compute(&j.s.in.slab, outs, lo, hi)
 			}
-			for k := range decOut {
-				encode(&out.vars[k], out.types[k], unsafe.Pointer(&j.s.outRaw[k][0]), decOut[k], lo, hi)
+			for k := range outs {
+				src := outs[k][lo-off : hi-off]
+				if out.direct != nil {
+					out.encodeChunks(k, j.s.outRaw[k], src, lo, hi, j.s.in.nx)
+				} else {
+					t := out.types[k]
+					encode(&out.vars[k], t, unsafe.Add(unsafe.Pointer(&j.s.outRaw[k][0]), lo*t.Size()), src, 0, hi-lo)
+				}
 			}
 		}
 	}
@@ -345,8 +372,15 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		pool.Add(1)
 		go func() {
 			defer pool.Done()
+			var blk [][]float64 // this worker's block of outputs (BlockOutputs)
+			if opt.BlockOutputs {
+				blk = make([][]float64, len(out.types))
+				for k := range blk {
+					blk[k] = make([]float64, computeBlock)
+				}
+			}
 			for j := range jobs {
-				work(j)
+				work(j, blk)
 			}
 		}()
 	}
@@ -369,7 +403,9 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		}
 		for k := range decOut {
-			decOut[k] = decOut[k][:cap(decOut[k])][:n]
+			if decOut[k] != nil {
+				decOut[k] = decOut[k][:cap(decOut[k])][:n]
+			}
 		}
 		step := (n + workers - 1) / workers
 		for lo := 0; lo < n; lo += step {

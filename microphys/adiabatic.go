@@ -242,6 +242,7 @@ func adiabaticState(T, p float64) adState {
 //
 //	r_s = eps e_s/w,  G_m = g (w + A)/(c_pd w + A B),  rho_a = (p - (1 - eps) e_s)/(R_d T)
 //	c_w = rho_a (c_pd/L_v) (g/c_pd - G_m) = rho_a g A (B - c_pd)/(L_v (c_pd w + A B))
+//	    = rho_a g (eps e_s/(R_d T)) (B - c_pd)/(c_pd w + A B)
 //
 // within adStateTol relative of the exported functions (tested).
 func airStateFast(T, p float64) adState {
@@ -282,5 +283,6 @@ func airStateExp(T, p, ex float64) adState {
 		return adState{nan, gm, nan}
 	}
 	rho := (p - (1-Epsilon)*es) * rt
-	return adState{rho * Gravity * (a / lv) * (bb - SpecificHeatDryAir) * inv, gm, rho}
+	// A/L_v = eps e_s/(R_d T): no division (derived)
+	return adState{rho * Gravity * (Epsilon * es * rt) * (bb - SpecificHeatDryAir) * inv, gm, rho}
 }

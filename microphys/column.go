@@ -48,14 +48,15 @@ type Outputs struct {
 // Model is a validated parameter set with its precomputed tables. A Model is safe for
 // concurrent use by many goroutines (Column only reads it).
 type Model struct {
-	p     Params
-	ac    AutoconvConfig
-	setup CollectorSetup
-	onset Onset      // drizzle onset of the sub-grid model (Params.ReStar, Params.OnsetWidth)
-	cbrtK float64    // K^(1/3)
-	tab   *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
-	pop   *popTable  // drizzle-probability table (pop.go)
-	ramp  *rampTable // ramp-onset table of the sub-grid drizzle model (ramptable.go); nil for the step
+	p       Params
+	ac      AutoconvConfig
+	setup   CollectorSetup
+	onset   Onset      // drizzle onset of the sub-grid model (Params.ReStar, Params.OnsetWidth)
+	cbrtK   float64    // K^(1/3)
+	lnCbrtK float64    // ln K^(1/3)
+	tab     *collTable // nil unless CollectorMethod == CollectorTable and the collector is on
+	pop     *popTable  // drizzle-probability table (pop.go)
+	ramp    *rampTable // ramp-onset table of the sub-grid drizzle model (ramptable.go); nil for the step
 	// lnDryRH is ln(1 - Params.SurfaceRH), the humidity coordinate of the evaporation table
 	// (evMixedU for well-mixed layers).
 	lnDryRH float64
@@ -88,7 +89,7 @@ func newModelBase(p Params) *Model { return newModelFrom(p, nil) }
 // depend on nothing else of the parameters (pop.go, ramptable.go).
 func newModelFrom(p Params, base *Model) *Model {
 	m := &Model{p: p, ac: p.AutoconvConfig(), setup: p.Collector, onset: Onset{p.ReStar, p.OnsetWidth},
-		cbrtK: math.Cbrt(p.K), lnDryRH: math.Log1p(-p.SurfaceRH)}
+		cbrtK: math.Cbrt(p.K), lnCbrtK: math.Log(p.K) / 3, lnDryRH: math.Log1p(-p.SurfaceRH)}
 	if p.SubCloudHumidity == HumidityWellMixed {
 		m.mixed, m.lnDryRH = true, evMixedU
 	}
@@ -132,27 +133,29 @@ var (
 // Each helper below names the exported function it replaces; column_fast_test.go checks it
 // against that function within bulkTol (derived: the same formula, other rounding).
 type bulkConsts struct {
-	tauLWP  float64 // tau = tauLWP LWP/r_e (TauAdiabatic with Q_ext)
-	ndTau   float64 // N_d = ndTau (c_w tau/r_e^5)^(1/2) (DropletNumber)
-	ndLWP   float64 // N_d = ndLWP (c_w LWP)^(1/2)/r_e^3 (DropletNumber of TauAdiabatic)
-	hCoef   float64 // H = (hCoef LWP/c_w)^(1/2), hCoef = 2/f_ad (Thickness)
-	rvCoef  float64 // r_e,top^3 = rvCoef gamma H/N_d, rvCoef = 3/(4 pi rho_w k)
-	reStar  float64 // r_e* (CriticalLWP)
-	kkLnK   float64 // ln of the KK2000 efficiency's constant (kk2000Efficiency)
-	kkY     float64 // (b - 1)/2: exponent of LWP gamma/rho_a^2 (b of KK2000)
-	kkN     float64 // c: exponent of N_d (c of KK2000)
-	drizA   float64 // DrizzleCoef/(s per day)
-	drizX   float64 // g per kg / cm-3 per m-3: (LWP/N_d) in the units of DrizzleRate
-	drizB   float64 // DrizzleLWPExp
-	drizC   float64 // DrizzleNdExp
-	drizWay int     // drizzleRate's form: drizSevenQuarters, drizSameExp or drizGeneral
-	popSn   float64 // Params.GammaShape^(1/2) (popColumn)
-	popLnNu float64 // ln Params.GammaShape, as popTable.prob forms it
-	popFast bool    // the POP grid has the layout popAt2 assumes
-	subE    float64 // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
-	ramp0   rampShape
-	rampB   rampShape // the ramp table's constants of Params.GammaShape for s = 0 and s = b
-	rampNu  quadTap   // their stencil along ln nu (rampTable.nuTap)
+	tauLWP  float64   // tau = tauLWP LWP/r_e (TauAdiabatic with Q_ext)
+	ndTau   float64   // N_d = ndTau (c_w tau/r_e^5)^(1/2) (DropletNumber)
+	ndLWP   float64   // N_d = ndLWP (c_w LWP)^(1/2)/r_e^3 (DropletNumber of TauAdiabatic)
+	lnNdLWP float64   // ln ndLWP
+	lnFad   float64   // ln f_ad: ln gamma = ln f_ad + ln c_w
+	hCoef   float64   // H = (hCoef LWP/c_w)^(1/2), hCoef = 2/f_ad (Thickness)
+	rvCoef  float64   // r_e,top^3 = rvCoef gamma H/N_d, rvCoef = 3/(4 pi rho_w k)
+	reStar  float64   // r_e* (CriticalLWP)
+	kkLnK   float64   // ln of the KK2000 efficiency's constant (kk2000Efficiency)
+	kkY     float64   // (b - 1)/2: exponent of LWP gamma/rho_a^2 (b of KK2000)
+	kkN     float64   // c: exponent of N_d (c of KK2000)
+	drizA   float64   // DrizzleCoef/(s per day)
+	drizX   float64   // g per kg / cm-3 per m-3: (LWP/N_d) in the units of DrizzleRate
+	drizB   float64   // DrizzleLWPExp
+	drizC   float64   // DrizzleNdExp
+	drizWay int       // drizzleRate's form: drizSevenQuarters, drizSameExp or drizGeneral
+	popSn   float64   // Params.GammaShape^(1/2) (popColumn)
+	popLnNu float64   // ln Params.GammaShape, as popTable.prob forms it
+	popFast bool      // the POP grid has the layout popAt2 assumes
+	subE    float64   // SubgridEnhancement(Params.GammaShape, Params.DrizzleLWPExp)
+	ramp    rampShape // the ramp table's constants of Params.GammaShape (rampTable.shapeExact)
+	rampOn  rampOnset // the ramp onset's constants (rampTable.moments)
+	rampOK  bool      // ramp is set (a ramp onset, GammaShape within the table)
 	defAir  adState   // airStateFast(Params.DefaultCTT, Params.DefaultCTP)
 }
 
@@ -188,6 +191,7 @@ func newBulkConsts(p *Params, pt *popTable, rt *rampTable) bulkConsts {
 		popSn: math.Sqrt(p.GammaShape),
 	}
 	c.ndLWP = c.ndTau * math.Sqrt(c.tauLWP)
+	c.lnNdLWP, c.lnFad = math.Log(c.ndLWP), math.Log(fad)
 	c.popLnNu = 2 * math.Log(c.popSn)
 	switch {
 	case p.DrizzleLWPExp == drizzleSevenQuarters && p.DrizzleNdExp == drizzleSevenQuarters:
@@ -202,10 +206,9 @@ func newBulkConsts(p *Params, pt *popTable, rt *rampTable) bulkConsts {
 	}
 	c.defAir = airStateFast(p.DefaultCTT, p.DefaultCTP)
 	c.subE = SubgridEnhancement(p.GammaShape, p.DrizzleLWPExp)
-	c.ramp0, c.rampB = newRampShape(p.GammaShape, 0), newRampShape(p.GammaShape, p.DrizzleLWPExp)
-	c.ramp0.t0, c.rampB.t0 = rampTail0(p.GammaShape, 0), rampTail0(p.GammaShape, p.DrizzleLWPExp)
-	if rt != nil { // the stencil along ln nu of Params.GammaShape, once
-		c.rampNu = rt.nuTap(c.popLnNu)
+	if rt != nil { // the ramp's constants of Params.GammaShape and of the onset, once
+		c.ramp, c.rampOK = rt.shapeExact(p.GammaShape)
+		c.rampOn = newRampOnset(Onset{p.ReStar, p.OnsetWidth})
 	}
 	return c
 }
@@ -317,27 +320,18 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 	default:
 		ok := false
 		if m.ramp != nil && nu >= popNuMin && nu <= popNuMax {
-			if math.IsNaN(lnNu) {
-				lnNu = 2 * colLog(sn)
-			}
+			var c rampShape
 			if ownNu {
-				// the per-shape factors from their table (rampNuTable, within rampNuTol), the
-				// exponentials of T_s(0) only when a tail needs them (rampShape.lt0)
-				var f [4]float64
-				if f, ok = m.ramp.nu.logs(lnNu); ok {
-					a := nu + b
-					c0 := rampShape{s: 0, sa: sn, ia: 1 / (9 * nu), kc: 1, t0: math.NaN(), lt0: f[1]}
-					cb := rampShape{s: b, sa: math.Sqrt(a), ia: 1 / (9 * a), kc: f[3], t0: math.NaN(), lt0: f[2]}
-					var tap quadTap
-					var mbe float64
-					pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb, &tap)
-					mb = colExp(f[0]) * mbe
+				// the per-shape factors from their table (rampNuTable, within rampNuTol)
+				if math.IsNaN(lnNu) {
+					lnNu = 2 * colLog(sn)
 				}
+				c, ok = m.ramp.shape(sn, lnNu)
 			} else {
-				c0, cb, tap := m.bulk.ramp0, m.bulk.rampB, m.bulk.rampNu
-				var mbe float64
-				pop, mbe, ok = m.ramp.moments(m.onset, nu, lnNu, reTop, &c0, &cb, &tap)
-				mb = m.bulk.subE * mbe
+				c, ok = m.bulk.ramp, m.bulk.rampOK
+			}
+			if ok {
+				pop, mb, ok = m.ramp.moments(&m.bulk.rampOn, &c, reTop)
 			}
 		}
 		if !ok {
@@ -357,7 +351,7 @@ func (m *Model) subgridColumn(r0, lwp, crit, s, reTop, nu, sn, lnNu float64, own
 // popAt2 is g.at for a grid of two curved axes, not strict, last stride 1 (the POP table):
 // the same taps (nGrid.axisTaps), weights and order of summation, unrolled, on the widened
 // values (nGrid.widen; g.at itself when they are missing): the stencil of tap0 and the sums of
-// popAt2Tap (TestPopColumn and TestRampNuTap check equality with g.at).
+// popAt2Tap (TestPopColumn checks equality with g.at).
 func popAt2(g *nGrid, x0, x1 float64) float64 {
 	a := g.tap0(x0)
 	return popAt2Tap(g, &a, x1)
@@ -384,7 +378,7 @@ func (g *nGrid) tap0(x0 float64) quadTap {
 
 // popAt2Tap is popAt2(g, x0, x1) with the stencil along axis 0 known, a = g.tap0(x0) (or that
 // of a grid with the same axis 0): the same arithmetic, so that lookups on one axis-0
-// coordinate share its stencil (TestRampNuTap checks equality).
+// coordinate share its stencil (the same sums as popAt2, which TestPopColumn checks).
 func popAt2Tap(g *nGrid, a *quadTap, x1 float64) float64 {
 	u1 := (x1 - g.lo[1]) * g.inv[1]
 	if !(a.ok && u1 >= 0 && u1 <= float64(g.n[1]-1)) {
@@ -406,36 +400,6 @@ func popAt2Tap(g *nGrid, a *quadTap, x1 float64) float64 {
 	acc += a.w1 * (b0*r1[0] + b1*r1[1] + b2*r1[2])
 	acc += a.w2 * (b0*r2[0] + b1*r2[1] + b2*r2[2])
 	return acc
-}
-
-// popAt2Tap2 returns popAt2Tap(g, a, x1) and popAt2Tap(g, a, y1) in one call, the two
-// written out side by side (the same arithmetic, TestRampNuTap), for the two tails of one
-// ramp table.
-func popAt2Tap2(g *nGrid, a *quadTap, x1, y1 float64) (vx, vy float64) {
-	ux := (x1 - g.lo[1]) * g.inv[1]
-	uy := (y1 - g.lo[1]) * g.inv[1]
-	top := float64(g.n[1] - 1)
-	if !(a.ok && ux >= 0 && ux <= top && uy >= 0 && uy <= top) || !g.widened() {
-		return popAt2Tap(g, a, x1), popAt2Tap(g, a, y1)
-	}
-	kx := max(1, min(int(ux+colHalf), g.n[1]-2))
-	ky := max(1, min(int(uy+colHalf), g.n[1]-2))
-	tx, ty := ux-float64(kx), uy-float64(ky)
-	bx0, bx1, bx2 := tx*(tx-1)/2, 1-tx*tx, tx*(tx+1)/2
-	by0, by1, by2 := ty*(ty-1)/2, 1-ty*ty, ty*(ty+1)/2
-	sd := g.stride[0]
-	v := g.wide
-	o := (a.k-1)*sd + kx - 1
-	r0, r1, r2 := v[o:o+3], v[o+sd:o+sd+3], v[o+2*sd:o+2*sd+3]
-	o = (a.k-1)*sd + ky - 1
-	q0, q1, q2 := v[o:o+3], v[o+sd:o+sd+3], v[o+2*sd:o+2*sd+3]
-	vx = a.w0 * (bx0*r0[0] + bx1*r0[1] + bx2*r0[2])
-	vy = a.w0 * (by0*q0[0] + by1*q0[1] + by2*q0[2])
-	vx += a.w1 * (bx0*r1[0] + bx1*r1[1] + bx2*r1[2])
-	vy += a.w1 * (by0*q1[0] + by1*q1[1] + by2*q1[2])
-	vx += a.w2 * (bx0*r2[0] + bx1*r2[1] + bx2*r2[2])
-	vy += a.w2 * (by0*q2[0] + by1*q2[1] + by2*q2[2])
-	return vx, vy
 }
 
 // colExp returns e^x within a few units in the last place (tested against math.Exp,
@@ -718,16 +682,30 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 		reTop = b.reTop(gamma, h, nd)
 	}
 	out.ReTop = reTop
+	var lnLWP, lnRv float64 // the collector table's coordinates, once taken (haveLn)
+	haveLn := false
 	if lwp > 0 {
 		crit, s := b.criticalLWP(lwp, reTop)
 		out.LWPCrit = crit
 		var lnNd float64
-		if m.ac.Scheme == AutoconvKK2000 {
+		switch {
+		case m.ac.Scheme == AutoconvKK2000 && !tauGiven:
+			// ln N_d and ln(LWP gamma/rho_a^2) as sums of the logarithms of LWP, r_e, c_w
+			// and rho_a (dropletNumberLWP, kk2000Arg, derived), so that they need not wait
+			// for N_d; ln LWP and ln r_v are the collector table's coordinates too
+			var lnRe, lnCw, lnRho float64
+			lnLWP, lnRe = colLog2(lwp, re)
+			lnCw, lnRho = colLog2(cw, st.rho)
+			lnNd = b.lnNdLWP + colHalf*(lnCw+lnLWP) - three*lnRe
+			lnRv, haveLn = m.lnCbrtK+lnRe, true
+			out.Efficiency = b.kk2000EfficiencyLn(lnLWP+b.lnFad+lnCw-2*lnRho, lnNd)
+			out.Autoconv = out.Efficiency * lwp
+		case m.ac.Scheme == AutoconvKK2000:
 			var lnX float64 // the two logarithms in one call
 			lnNd, lnX = colLog2(nd, kk2000Arg(lwp, gamma, st.rho))
 			out.Efficiency = b.kk2000EfficiencyLn(lnX, lnNd)
 			out.Autoconv = out.Efficiency * lwp
-		} else {
+		default:
 			lnNd = colLog(nd)
 			out.Autoconv = ColumnAutoconversion(m.ac, h, gamma, nd, st.rho)
 			out.Efficiency = WarmRainEfficiency(out.Autoconv, lwp)
@@ -764,9 +742,6 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 	var l SubCloudLayer
 	fastL := m.tab != nil && m.tab.evap != nil
 	okL := false
-	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
-	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
-	var ev evLook  // the layer part of the evaporation lookups (evapTable.prepare)
 	if p.EnableEvaporation {
 		if fastL {
 			okL = m.subCloudFast(T, pr, h, st.gm, cth, rhs, &l)
@@ -777,6 +752,22 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			}
 			okL = m.subCloudFrom(tb, pb, h, cth, rhs, &l)
 		}
+	}
+	// The collector table, which does not need the layer, before the surface fraction, which
+	// does (the lookup runs while the layer's arithmetic completes). Table coordinates: ln LWP
+	// and ln r_v at the top, r_v = k^(1/3) r_e.
+	var res colResult
+	collTab := false
+	if m.tab != nil {
+		if !haveLn {
+			lnLWP, lnRv = colLog2(lwp, m.cbrtK*reTop)
+		}
+		collTab = m.tab.collect(lnLWP, lnRv, h, T, pr, &res)
+	}
+	u := m.lnDryRH // ln(1 - RH_s), precomputed for the default (evMixedU: well mixed)
+	psL := nan     // the surface pressure of the table coordinates (surfacePressureFast), once
+	var ev evLook  // the layer part of the evaporation lookups (evapTable.prepare)
+	if p.EnableEvaporation {
 		if !math.IsNaN(in.SurfaceRH) && !m.mixed {
 			u = colLog(1 - rhs) // a table coordinate: absolute error logTol (1 - rhs is exact for rhs >= 1/2)
 		}
@@ -798,11 +789,7 @@ func (m *Model) Column(in *Inputs, out *Outputs) {
 			}
 		}
 	}
-	// Table coordinates: ln LWP and ln r_v at the top, r_v = k^(1/3) r_e.
-	lnLWP, lnRv := colLog2(lwp, m.cbrtK*reTop)
-	var res colResult
 	var ex exactCol // the direct integrations' inputs, when needed
-	collTab := m.tab != nil && m.tab.collect(lnLWP, lnRv, h, T, pr, &res)
 	if !collTab {
 		if m.tab != nil {
 			qc |= QCIntegratedDirectly
@@ -1023,7 +1010,9 @@ func (m *Model) subCloud(T, pr, h, cth, rhs float64, l *SubCloudLayer) bool {
 // colLog and airStateFast's lapse rate (within adStateTol of adiabaticState), so the layer
 // equals subCloud's to rounding (derived). Without a CTH, ln(p_s/p_b) is formed as
 // ln(p_s/p) - g H/(R_d v_m (T + T_b)/2), p_b's own exponent, so the logarithm does not wait for
-// the cloud base.
+// the cloud base. The midpoint state is brought over one denominator (midState): with
+// v_m = p_m/(p_m - (1 - eps) e_s) that exponent is 2 g H (p_m - (1 - eps) e_s)/(R_d (T + T_b) p_m),
+// one division after T_b, and z_b = (c_pd/g)(T_s - T_b) (derived).
 func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bool {
 	if !(h <= 5000) {
 		return false
@@ -1037,13 +1026,12 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	// p_m and the vapour pressure at T_m (airStateFast), both exponentials in one call
 	em, ev := colExp2(Gravity*h*colHalf/(GasConstantDry*(T+tm)*colHalf), airStateArg(tm-kelvinOffset))
 	pm := p * em
-	st2 := airStateExp(tm, pm, ev)
-	g2 := st2.gm
+	g2, pd := midState(tm, pm, ev)
 	if math.IsNaN(g2) {
 		g2 = g1
 	}
 	tb := T + g2*h
-	x := Gravity * h / (GasConstantDry * (T + tb) * colHalf * virtualFactor(tm, pm, st2.rho))
+	x := 2 * Gravity / GasConstantDry * h * pd / ((T + tb) * pm)
 	zb := cth - h
 	var pb float64
 	if noCTH { // p_b and T_s = T_b (p_s/p_b)^(R_d/c_pd), both exponentials in one call
@@ -1052,7 +1040,7 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 		zb = math.NaN() // DryBaseHeight's domain
 		if ps > pb && pb > 0 && tb > 0 && !math.IsInf(ps, 1) && !math.IsInf(tb, 1) {
 			ts := tb * es
-			zb = SpecificHeatDryAir * (ts - tb) / Gravity
+			zb = SpecificHeatDryAir / Gravity * (ts - tb)
 		}
 	} else {
 		pb = p * colExp(x)
@@ -1062,6 +1050,32 @@ func (m *Model) subCloudFast(T, p, h, g1, cth, rhs float64, l *SubCloudLayer) bo
 	}
 	*l = SubCloudLayer{BaseHeight: zb, BaseT: tb, BaseP: pb, SurfaceRH: rhs, WellMixed: m.mixed}
 	return true
+}
+
+// midState returns airStateExp's lapse rate G_m (K m-1) at (T K, p Pa), with ex =
+// colExp(airStateArg(T - kelvinOffset)), and p/v with v = T_v/T = p/(R_d rho_a T) the virtual
+// factor of the saturated air (virtualFactor): p - (1 - eps) e_s (derived from airStateExp's
+// rho_a = (p - (1 - eps) e_s)/(R_d T)), or p (v = 1) where airStateExp has no density. For
+// subCloudFast: the formulas of airStateExp without c_w; G_m NaN outside its range.
+func midState(T, p, ex float64) (gm, pd float64) {
+	if !(T >= 240 && T <= 310 && p >= 2e4 && p <= 1.1e5) {
+		return math.NaN(), p
+	}
+	tc := T - kelvinOffset
+	es := boltonEs[0] * ex // SatVapourPressure
+	if !(es < p) {
+		return math.NaN(), p
+	}
+	le := (boltonLv[0] - boltonLv[1]*tc) * boltonLv[2] * Epsilon // LatentHeat times eps
+	rt := 1 / (GasConstantDry * T)
+	w := p - es
+	a := le * es * rt
+	bb := le * GasConstantDry * rt
+	gm = Gravity * (w + a) / (SpecificHeatDryAir*w + a*bb)
+	if !(Epsilon*es <= maxMixingRatio*w) { // airStateExp's bound of the density
+		return gm, p
+	}
+	return gm, p - (1-Epsilon)*es
 }
 
 // subCloudFrom is subCloud with the cloud-base state known.

@@ -96,3 +96,40 @@ func BenchmarkNewModel(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkSubgridRamp is the sub-grid drizzle part of Column (subgridColumn) alone, for the
+// ramp onset of DefaultParams over the columns of BenchmarkColumnAll (each with its own LWP
+// standard deviation, so its own gamma shape); the collector and evaporation, which it does
+// not use, are off.
+func BenchmarkSubgridRamp(b *testing.B) {
+	p := DefaultParams()
+	p.EnableCollector, p.EnableEvaporation = false, false
+	m, err := NewModel(p)
+	if err != nil {
+		b.Fatal(err)
+	}
+	type args struct{ lwp, crit, s, reTop, nu, sn float64 }
+	in := typicalScSample(4096, 11)
+	a := make([]args, len(in))
+	var out Outputs
+	for i := range in {
+		m.Column(&in[i], &out)
+		sn := in[i].LWP / in[i].LWPStd
+		a[i] = args{in[i].LWP, out.LWPCrit, math.Cbrt(out.LWPCrit / in[i].LWP), out.ReTop, sn * sn, sn}
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		c := &a[i&4095]
+		m.subgridColumn(1, c.lwp, c.crit, c.s, c.reTop, c.nu, c.sn, math.NaN(), true, &out)
+	}
+	benchSink = out
+}
+
+// BenchmarkNewRampTable is the build of the ramp-onset tables (newRampTable) that NewModel
+// does for a ramp onset, with the default rate exponent.
+func BenchmarkNewRampTable(b *testing.B) {
+	for i := 0; i < b.N; i++ {
+		newRampTable(drizzleSevenQuarters)
+	}
+}

@@ -3,18 +3,16 @@ package microphys
 import "math"
 
 // Column's lookups of the evaporation tables (evapTable), in two steps. What depends on the
-// sub-cloud layer only is done once the layer is known, before the collector lookup
-// (evapTable.prepare): ln z_b, the threshold radius ln r*, the surface drizzle fraction F and
-// the stencil of the value tables along their layer axes (p_s, u, T_b, ln z_b, shared by the
-// reach and evaporation tables, whose axes 0-3 are the same). The drop's own part waits for
+// sub-cloud layer only is done once the layer is known (evapTable.prepare): ln z_b, the
+// threshold radius ln r*, the surface drizzle fraction F and the stencil of the value tables
+// along their layer axes (p_s, u, T_b, ln z_b, shared by the reach and evaporation tables,
+// whose axes 0-3 are the same). The drop's own part waits for
 // the collector's exit radius (evapTable.lookupAt): xi = ln(r0/r*), the stencil along s and
 // one contraction and an exponential. Every interpolation is nGrid.at's (axisTaps' taps and
 // weights) written out for these layouts, so equal to at to rounding (TestEvapLookupFast):
 // the taps of the outer axes (p_s, u and, in the value tables, T_b) are listed and the 3 x 3
 // block of the two curved axes with the smallest strides is unrolled; a layer on one node
-// along p_s and u (no CTH, well mixed: the default) takes its block directly. Splitting the
-// lookup lets the layer's chain of dependent operations (ln z_b, then ln r*) run while the
-// collector table is read.
+// along p_s and u (no CTH, well mixed: the default) takes its block directly.
 
 // evLook is the layer part of the evaporation lookups (evapTable.prepare).
 type evLook struct {

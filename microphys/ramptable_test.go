@@ -46,11 +46,14 @@ func TestRampTail(t *testing.T) {
 func gammaQ(a, x float64) float64 { return DrizzleProbability(1, x/a, a) }
 
 // TestRampTableBound checks the ramp table (rampTable.moments) against the closed form
-// (subgridMoment) over its whole domain: nu in [1, 1e4] (log-uniform), top radius from
-// r_1/r_μ = rampWMin (r_μ = 40 µm for the default onset) down to 3 µm, onsets of the default
-// (12-16 µm) and of a narrow and a wide range, and the rate exponents of fastParams. POP
+// (subgridMoment) over its whole domain: nu in [1, 1e4] (log-uniform, and its two ends), top
+// radius from r_1/r_μ = rampWMin (r_μ = 40 µm for the default onset) down to 3 µm, denser
+// around the onset range where the ramp's kinks are, onsets of the default (12-16 µm), a
+// narrow (1 µm) and a wide (8 µm) range, and rate exponents b over Params' range [0, 10]. POP
 // within rampTabTol absolute, and POP and M(b) within rampTabTol relative wherever POP >=
-// 1e-12 (derived: the same integrals; the bound is measured here).
+// 1e-12 (derived: the same integrals; the bound is measured here). Both ways of forming the
+// shape's constants are checked: from their table (columns with their own ν) and from the
+// functions (Params.GammaShape).
 func TestRampTableBound(t *testing.T) {
 	if testing.Short() {
 		t.Skip("slow: full tier only (make check); go test -short leaves it out")
@@ -60,60 +63,83 @@ func TestRampTableBound(t *testing.T) {
 	for _, c := range []struct {
 		o Onset
 		b float64
-	}{{Onset{14e-6, 4e-6}, 1.75}, {Onset{13e-6, 1e-6}, 1.75}, {Onset{14e-6, 8e-6}, 1.5}, {Onset{14e-6, 4e-6}, 0}} {
+	}{{Onset{14e-6, 4e-6}, 1.75}, {Onset{13e-6, 1e-6}, 1.75}, {Onset{14e-6, 8e-6}, 1.5}, {Onset{14e-6, 4e-6}, 0},
+		{Onset{14e-6, 4e-6}, 3}, {Onset{14e-6, 4e-6}, 10}, {Onset{13e-6, 1e-6}, 10}, {Onset{14e-6, 8e-6}, 0}} {
 		tab := newRampTable(c.b)
 		r1 := c.o.Radius - c.o.Width/2
-		var worstP, worstR float64
+		var worstP, worstR, worstA float64
 		n := 0
 		for i := 0; i < 60000; i++ {
 			nu := math.Exp(rng.Float64() * math.Log(popNuMax))
+			switch i % 97 {
+			case 0:
+				nu = popNuMin
+			case 1:
+				nu = popNuMax
+			}
 			rmu := 3e-6 + (r1/rampWMin-3e-6)*rng.Float64()
 			if i%4 == 0 { // near the onset range, where the ramp's kinks are
 				rmu = r1 + 1.6*c.o.Width*(rng.Float64()-0.3)
 			}
-			c0, cb := newRampShape(nu, 0), newRampShape(nu, c.b)
-			pop, mbe, ok := tab.moments(c.o, nu, math.Log(nu), rmu, &c0, &cb, &quadTap{})
+			var sh rampShape
+			var ok bool
+			if i%2 == 0 {
+				sh, ok = tab.shape(math.Sqrt(nu), math.Log(nu))
+			} else {
+				sh, ok = tab.shapeExact(nu)
+			}
+			if !ok {
+				t.Fatalf("nu %g: no shape", nu)
+			}
+			ro := newRampOnset(c.o)
+			pop, mb, ok := tab.moments(&ro, &sh, rmu)
 			if !ok {
 				continue
 			}
 			n++
 			wp := subgridMoment(nu, rmu, c.o, 0)
-			wr := subgridMoment(nu, rmu, c.o, c.b) / SubgridEnhancement(nu, c.b)
+			wr := subgridMoment(nu, rmu, c.o, c.b)
+			worstA = max(worstA, math.Abs(pop-wp))
 			if !scalar.EqualWithinAbs(pop, wp, rampTabTol) {
 				t.Fatalf("onset %+v b %g: nu %g r_mu %g: POP %.8g, closed form %.8g", c.o, c.b, nu, rmu, pop, wp)
 			}
 			if wp >= 1e-12 {
-				ep, er := math.Abs(pop-wp)/wp, math.Abs(mbe-wr)/wr
+				ep, er := math.Abs(pop-wp)/wp, math.Abs(mb-wr)/wr
 				worstP, worstR = max(worstP, ep), max(worstR, er)
 				if ep > rampTabTol || er > rampTabTol {
-					t.Fatalf("onset %+v b %g: nu %g r_mu %g: POP %.8g M %.8g, closed form %.8g %.8g", c.o, c.b, nu, rmu, pop, mbe, wp, wr)
+					t.Fatalf("onset %+v b %g: nu %g r_mu %g: POP %.8g M %.8g, closed form %.8g %.8g", c.o, c.b, nu, rmu, pop, mb, wp, wr)
 				}
 			}
 		}
-		t.Logf("onset %+v b %g: %d columns, largest relative error POP %.3g, M(b) %.3g", c.o, c.b, n, worstP, worstR)
+		t.Logf("onset %+v b %g: %d columns, largest error POP %.3g absolute, %.3g relative, M(b) %.3g relative", c.o, c.b, n, worstA, worstP, worstR)
 	}
 }
 
 // TestRampNuTable checks the per-shape factors' table against the functions it replaces
-// (SubgridEnhancement, rampTail0, the cube root) over its whole domain, ln nu in
-// [0, ln 1e4], within rampNuTol relative (derived: the same functions; bound measured here).
+// (SubgridEnhancement, rampTail0) over its whole domain, ln nu in [0, ln 1e4] and its ends,
+// within rampNuTol relative (derived: the same functions; bound measured here), for rate
+// exponents over Params' range [0, 10].
 func TestRampNuTable(t *testing.T) {
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(31, 32))
-	for _, b := range []float64{1.75, 1.5, 0, 3} {
+	for _, b := range []float64{1.75, 1.5, 0, 3, 10} {
 		tab := newRampNuTable(b)
 		worst := 0.0
 		for i := 0; i < 200000; i++ {
 			lnNu := rng.Float64() * math.Log(popNuMax)
-			if i == 0 {
+			switch i {
+			case 0:
 				lnNu = math.Log(popNuMax)
+			case 1:
+				lnNu = 0
 			}
 			nu := math.Exp(lnNu)
-			e, t00, t0b, kc, ok := tab.at(lnNu)
+			f, ok := tab.interp(lnNu)
 			if !ok {
 				t.Fatalf("ln nu %g outside the table", lnNu)
 			}
-			for _, c := range [][2]float64{{e, SubgridEnhancement(nu, b)}, {t00, rampTail0(nu, 0)}, {t0b, rampTail0(nu, b)}, {kc, math.Cbrt(nu / (nu + b))}} {
+			for _, c := range [][2]float64{{math.Exp(f[0]), SubgridEnhancement(nu, b)}, {f[1], rampTail0(nu, 0)},
+				{f[2], rampTail0(nu, b)}} {
 				d := math.Abs(c[0]-c[1]) / c[1]
 				worst = max(worst, d)
 				if d > rampNuTol {
@@ -123,64 +149,85 @@ func TestRampNuTable(t *testing.T) {
 		}
 		t.Logf("b %g: largest relative error %.3g", b, worst)
 		for _, x := range []float64{-1e-9, math.Log(popNuMax) + 0.1, math.NaN()} {
-			if _, _, _, _, ok := tab.at(x); ok {
+			if _, ok := tab.interp(x); ok {
 				t.Errorf("ln nu %g accepted", x)
 			}
 		}
 	}
 }
 
-// TestRampNuTap checks that the four ramp tables share their ln nu axis (so one stencil,
-// rampTable.nuTap, serves a column's four tails) and that popAt2Tap with that stencil equals
-// popAt2 over the tables and 10 % beyond each end, and popAt2Tap2 popAt2Tap twice, bit for
-// bit (derived: the same arithmetic).
-func TestRampNuTap(t *testing.T) {
+// TestRampGridAt checks the paired lookup of the ramp tables (rampGrid.at) against
+// Lagrange interpolation through the 3 x 3 nodes nearest (lnNu, z), written out here from
+// the node coordinates (common practice), over the tables and beyond each end of z by half
+// a step, and that shape and shapeExact refuse ν outside [1, 1e4] and NaN, and agree inside.
+func TestRampGridAt(t *testing.T) {
 	t.Parallel()
+	if top := rampLnStep * (rampNl - 1); top < math.Log(popNuMax) || top-rampLnStep >= math.Log(popNuMax) {
+		t.Fatalf("ln nu axis ends at %g, want the first node at or above ln %g", top, popNuMax)
+	}
 	tab := newRampTable(1.75)
-	grids := []*nGrid{tab.lo[0], tab.lo[1], tab.hi[0], tab.hi[1]}
-	for _, g := range grids {
-		h := grids[2]
-		if g.lo[0] != h.lo[0] || g.inv[0] != h.inv[0] || g.n[0] != h.n[0] {
-			t.Fatalf("ln nu axes differ: %g %g %d, %g %g %d", g.lo[0], g.inv[0], g.n[0], h.lo[0], h.inv[0], h.n[0])
-		}
-	}
 	rng := rand.New(rand.NewPCG(51, 52))
-	inside := 0
-	for i := 0; i < 40000; i++ {
-		g := grids[i%4]
-		span := func(d int) float64 {
-			w := float64(g.n[d]-1) * g.step[d]
-			return g.lo[d] + w*(1.2*rng.Float64()-0.1)
+	lag := func(x float64, xs [3]float64, j int) float64 { // Lagrange basis polynomial j
+		l := 1.0
+		for m := range xs {
+			if m != j {
+				l *= (x - xs[m]) / (xs[j] - xs[m])
+			}
 		}
-		x0, x1 := span(0), span(1)
-		a := tab.nuTap(x0)
-		got, want := popAt2Tap(g, &a, x1), popAt2(g, x0, x1)
-		if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
-			t.Fatalf("grid %d at (%g, %g): %.17g, popAt2 %.17g", i%4, x0, x1, got, want)
-		}
-		if ref := g.at(&[nDims]float64{x0, x1}); !math.IsNaN(want) && want != ref {
-			t.Fatalf("grid %d at (%g, %g): popAt2 %.17g, nGrid.at %.17g", i%4, x0, x1, want, ref)
-		}
-		if !math.IsNaN(want) {
-			inside++
-		}
-		y1 := span(1)
-		if i%8 < 4 { // mostly both inside
-			y1 = x1 + 0.1*(rng.Float64()-0.5)
-		}
-		gx, gy := popAt2Tap2(g, &a, x1, y1)
-		same := func(u, v float64) bool {
-			return math.Float64bits(u) == math.Float64bits(v) || math.IsNaN(u) && math.IsNaN(v)
-		}
-		if wy := popAt2Tap(g, &a, y1); !same(gx, got) || !same(gy, wy) {
-			t.Fatalf("grid %d at (%g, %g, %g): popAt2Tap2 %.17g %.17g, popAt2Tap %.17g %.17g", i%4, x0, x1, y1, gx, gy, got, wy)
+		return l
+	}
+	for gi, g := range []*rampGrid{&tab.lo, &tab.hi} {
+		zhi := g.zlo + float64(g.nz-1)*rampZStep
+		for i := 0; i < 20000; i++ {
+			lnNu := rng.Float64() * rampLnStep * (rampNl - 1)
+			z := g.zlo - rampZStep/2 + (zhi-g.zlo+rampZStep)*rng.Float64()
+			var c rampShape
+			if !tab.nuTap(lnNu, &c) {
+				t.Fatalf("ln nu %g refused", lnNu)
+			}
+			v0, vb := g.at(&c, z)
+			ki := max(1, min(int(math.Round(lnNu/rampLnStep)), rampNl-2))
+			kj := max(1, min(int(math.Round((z-g.zlo)/rampZStep)), g.nz-2))
+			var xs, zs [3]float64
+			for m := range 3 {
+				xs[m] = float64(ki-1+m) * rampLnStep
+				zs[m] = g.zlo + float64(kj-1+m)*rampZStep
+			}
+			var want [2]float64
+			for a := range 3 {
+				for bb := range 3 {
+					o := 2 * ((ki-1+a)*g.nz + kj - 1 + bb)
+					l := lag(lnNu, xs, a) * lag(z, zs, bb)
+					want[0] += l * g.v[o]
+					want[1] += l * g.v[o+1]
+				}
+			}
+			for k, v := range [2]float64{v0, vb} {
+				if !scalar.EqualWithinAbsOrRel(v, want[k], 1e-12, 1e-12) {
+					t.Fatalf("grid %d value %d at (%g, %g): %.15g, Lagrange %.15g", gi, k, lnNu, z, v, want[k])
+				}
+			}
 		}
 	}
-	if inside < 20000 {
-		t.Errorf("only %d of 40000 points inside the tables", inside)
+	for _, nu := range []float64{0.999, 1.00001e4, math.NaN(), math.Inf(1)} {
+		if _, ok := tab.shapeExact(nu); ok {
+			t.Errorf("shapeExact(%g) accepted", nu)
+		}
+		if _, ok := tab.shape(math.Sqrt(nu), math.Log(nu)); ok {
+			t.Errorf("shape(%g) accepted", nu)
+		}
+	}
+	for _, nu := range []float64{1, 6.25, 77.7, 1e4} {
+		a, _ := tab.shape(math.Sqrt(nu), math.Log(nu))
+		b, _ := tab.shapeExact(nu)
+		if a.k != b.k || !scalar.EqualWithinRel(a.w1, b.w1, 1e-12) || !scalar.EqualWithinRel(a.sn3, b.sn3, 1e-12) ||
+			!scalar.EqualWithinRel(a.t00, b.t00, rampNuTol) || !scalar.EqualWithinRel(a.t0b, b.t0b, rampNuTol) ||
+			!scalar.EqualWithinRel(math.Exp(a.le), b.e, rampNuTol) || !scalar.EqualWithinRel(b.le, math.Log(b.e), 1e-15) {
+			t.Errorf("nu %g: shape %+v, shapeExact %+v", nu, a, b)
+		}
 	}
 	m := defaultModel(t)
-	if w := m.ramp.nuTap(m.bulk.popLnNu); m.bulk.rampNu != w {
-		t.Errorf("the Model's stencil of Params.GammaShape %+v, want %+v", m.bulk.rampNu, w)
+	if w, _ := m.ramp.shapeExact(m.p.GammaShape); !m.bulk.rampOK || m.bulk.ramp != w {
+		t.Errorf("the Model's constants of Params.GammaShape %+v, want %+v", m.bulk.ramp, w)
 	}
 }

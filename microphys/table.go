@@ -12,8 +12,11 @@ import "math"
 // grid in (ln LWP, ln r_v, T_top, p_top) and Column interpolates ln R_exit and ln(t_exit/H):
 // Catmull-Rom cubic along ln LWP and ln r_v, linear along T and p with two nodes each (a
 // residual air effect of < 0.05 % over the whole range; a third T node changed the largest
-// errors of TestTableAgainstDirect by < 0.03 %). Where the stencil's nodes disagree on whether the drop left
-// through the base or the top, or a node failed, the column is integrated directly.
+// errors of TestTableAgainstDirect by < 0.03 %). The air-state terms of each node (its changes
+// along T and p) are interpolated bilinearly in ln LWP and ln r_v (tabGrid.interpSplit: within
+// 3e-4 of the Catmull-Rom of all corners, collSplitTol). Where the stencil's nodes disagree on
+// whether the drop left through the base or the top, or a node failed, the column is
+// integrated directly.
 //
 // Evaporation table. Below cloud base T follows the dry adiabat from T_b and RH rises from
 // the surface value to 1 at base (EvaporateDirect), so the result depends on the exit radius
@@ -51,13 +54,16 @@ type tabGrid struct {
 	n, stride     [tabDims]int
 	cubic         [tabDims]bool
 	vals          []float32 // node-major, tabVals per node
-	wide          []float64 // vals widened to float64 (widenF32), read by interpCC22
 	state         []uint8
+	// The split form of vals (splitAir), read by interpSplit: per node of the plane of axes
+	// 0 and 1, tabVals values A (plane), 3 tabVals air terms B, C, D (air) and the state its
+	// four corners along axes 2 and 3 share (pstate).
+	plane, air []float64
+	pstate     []uint8
 }
 
 // widenF32 returns v as float64 (exact). The unrolled interpolations read these copies of
-// the filled tables: the same values, without a conversion per tap (0.4 MB more for the
-// collector table, which stays within the second-level cache).
+// the filled tables: the same values, without a conversion per tap.
 func widenF32(v []float32) []float64 {
 	w := make([]float64, len(v))
 	for i, x := range v {
@@ -66,9 +72,10 @@ func widenF32(v []float32) []float64 {
 	return w
 }
 
-// widen sets the float64 copies of every grid of t, once its values are filled or read.
+// widen sets the float64 copies of every grid of t (for the collector table its split form,
+// 0.4 MB, within the second-level cache), once its values are filled or read.
 func (t *collTable) widen() {
-	t.coll.wide = widenF32(t.coll.vals)
+	t.coll.splitAir()
 	if t.evap != nil {
 		t.evap.widen()
 	}
@@ -232,115 +239,172 @@ func (g *tabGrid) interp(s *tabStencil, acc *[tabVals]float64) uint8 {
 	return st
 }
 
-// isCC22 reports whether g has the collector table's layout: cubic axes 0 and 1, and two
-// nodes along each of the linear axes 2 and 3 (interpCC22).
+// isCC22 reports whether g has the collector table's layout, cubic axes 0 and 1 and two nodes
+// along each of the linear axes 2 and 3, with its split form set (splitAir; interpSplit).
 func (g *tabGrid) isCC22() bool {
-	return g.cubic[0] && g.cubic[1] && g.n[2] == 2 && g.n[3] == 2 && len(g.wide) == len(g.vals)
+	n := g.n[0] * g.n[1]
+	return g.cubic[0] && g.cubic[1] && g.n[2] == 2 && g.n[3] == 2 && len(g.plane) == n*tabVals &&
+		len(g.air) == n*3*tabVals && len(g.pstate) == n
 }
 
-// interpCC22 is stencil and interp for a grid with isCC22 at x = (x0, x1, x2, x3): the same
-// taps, weights and state test, unrolled, with one partial sum per tap of axis 0 (equal to
-// interp to rounding, TestTableFastPaths); 0 outside the grid too. With two nodes per linear
-// axis (strides 2 and 1), the 2 x 2 block of each (a, b) tap is 4 consecutive nodes and the
-// blocks of the b taps are consecutive, so the state bytes of one a tap are compared 8 at a
-// time.
-func (g *tabGrid) interpCC22(x0, x1, x2, x3 float64, acc *[tabVals]float64) uint8 {
-	// stencil along the cubic axes 0 and 1, written out
+// splitAir sets the split form of a filled grid with two nodes along each linear axis (read
+// by interpSplit): per node (i, j) of the plane of axes 0 and 1, with V_ab the values at
+// corner (a, b) of axes 2 and 3,
+//
+//	A = V_00,  B = V_10 - V_00,  C = V_01 - V_00,  D = V_11 - V_10 - V_01 + V_00
+//
+// (the linear interpolation along axes 2 and 3 at u2, u3 in [0, 1] is then
+// A + u2 B + u3 C + u2 u3 D, derived), each exact in float64 (sums of float32 values), and the
+// state byte the four corners share (0 when they differ or one failed).
+func (g *tabGrid) splitAir() {
+	if g.n[2] != 2 || g.n[3] != 2 {
+		return
+	}
+	n := g.n[0] * g.n[1]
+	g.plane = make([]float64, n*tabVals)
+	g.air = make([]float64, n*3*tabVals)
+	g.pstate = make([]uint8, n)
+	s2, s3 := g.stride[2], g.stride[3]
+	for i := 0; i < g.n[0]; i++ {
+		for j := 0; j < g.n[1]; j++ {
+			o := i*g.stride[0] + j*g.stride[1]
+			q := i*g.n[1] + j
+			st := g.state[o]
+			if g.state[o+s2] != st || g.state[o+s3] != st || g.state[o+s2+s3] != st {
+				st = 0
+			}
+			g.pstate[q] = st
+			for k := 0; k < tabVals; k++ {
+				v00, v10 := float64(g.vals[o*tabVals+k]), float64(g.vals[(o+s2)*tabVals+k])
+				v01, v11 := float64(g.vals[(o+s3)*tabVals+k]), float64(g.vals[(o+s2+s3)*tabVals+k])
+				g.plane[q*tabVals+k] = v00
+				a := g.air[q*3*tabVals : (q+1)*3*tabVals]
+				a[k], a[tabVals+k], a[2*tabVals+k] = v10-v00, v01-v00, (v11-v10)-(v01-v00)
+			}
+		}
+	}
+}
+
+// interpSplit interpolates a grid with isCC22 at x = (x0, x1, x2, x3) in its split form
+// (splitAir): Catmull-Rom (or linear in the first and last cell, as stencil) along axes 0
+// and 1 on A, and bilinear in the cell of (x0, x1) on the air terms B, C and D,
+//
+//	v = CR(A) + u2 BL(B) + u3 BL(C) + u2 u3 BL(D),   u_d = (x_d - lo_d)/step_d,
+//
+// where stencil and interp take Catmull-Rom on all four: 16 taps of 2 values and 4 of 6
+// where they read 64 of 2. The air terms vary slowly over the plane (in the collector table
+// |B|, |C| < 0.09 and |D| < 0.01 in ln R_exit and ln(t_exit/H) over the whole grid, whose
+// cells are 0.055 wide in ln LWP and 0.031 in ln r_v), so that their bilinear interpolation,
+// whose error is at most h^2/8 times their curvature (common practice), costs little: within
+// collSplitTol of stencil and interp over the whole collector table where Column uses it
+// (straddlesKink false), tested on its nodes, cell centres and edges and random points
+// (TestCollectorSplit, and for another collector start radius TestCollectorTableWholeDomain).
+// The state is that of stencil and interp (every tap's four corners share it, else 0); 0
+// outside the grid too. Inside the grid's interior the stencil is written out.
+func (g *tabGrid) interpSplit(x0, x1, x2, x3 float64, acc *[tabVals]float64) uint8 {
+	// stencil along the cubic axes 0 and 1, written out; k: the cell of the bilinear terms
 	var w [2][4]float64
-	var nt [2]int
+	var nt, k, first [2]int
+	var t [2]float64
 	xs := [2]float64{x0, x1}
-	base := 0
 	for d := 0; d < 2; d++ {
 		u := (xs[d] - g.lo[d]) * g.inv[d]
 		top := g.n[d] - 1
 		if !(u >= 0 && u <= float64(top)) {
 			return 0
 		}
-		k := min(int(u), top-1)
-		t := u - float64(k)
-		if k >= 1 && k <= top-2 {
-			t2 := t * t
-			t3 := t2 * t
-			w[d] = [4]float64{(-t + 2*t2 - t3) / 2, (2 - 5*t2 + 3*t3) / 2, (t + 4*t2 - 3*t3) / 2, (-t2 + t3) / 2} // the rows of catmullRom
+		kd := min(int(u), top-1)
+		td := u - float64(kd)
+		k[d], t[d], first[d] = kd, td, kd
+		if kd >= 1 && kd <= top-2 {
+			t2 := td * td
+			t3 := t2 * td
+			w[d] = [4]float64{(-td + 2*t2 - t3) / 2, (2 - 5*t2 + 3*t3) / 2, (td + 4*t2 - 3*t3) / 2, (-t2 + t3) / 2} // the rows of catmullRom
 			nt[d] = 4
-			k--
+			first[d]--
 		} else {
-			w[d][0], w[d][1] = 1-t, t
+			w[d][0], w[d][1] = 1-td, td
 			nt[d] = 2
 		}
-		base += k * g.stride[d]
 	}
-	wa, wb, n0, n1 := &w[0], &w[1], nt[0], nt[1]
 	u2 := (x2 - g.lo[2]) * g.inv[2] // one cell: first node 0, t = u
 	u3 := (x3 - g.lo[3]) * g.inv[3]
 	if !(u2 >= 0 && u2 <= 1) || !(u3 >= 0 && u3 <= 1) {
 		return 0
 	}
 	*acc = [tabVals]float64{}
-	st := g.state[base]
+	n1 := g.n[1]
+	base := first[0]*n1 + first[1]
+	ps := g.pstate
+	st := ps[base]
 	if st == 0 {
 		return 0
 	}
+	wa, wb := &w[0], &w[1]
 	acc0, acc1 := 0.0, 0.0
-	w00, w01 := (1-u2)*(1-u3), (1-u2)*u3
-	w10, w11 := u2*(1-u3), u2*u3
-	rep := uint64(st) * 0x0101010101010101
-	nb := 4 * n1 // state bytes (nodes) of one a tap
-	vals, state := g.wide, g.state
-	if n0 == 4 && n1 == 4 { // inside the grid: the loops below written out, the same sums
-		s0 := g.stride[0]
+	if nt[0] == 4 && nt[1] == 4 { // inside the grid: the loops below written out, the same sums
+		rep := uint32(st) * 0x01010101
 		for a := 0; a < 4; a++ {
-			oa := base + a*s0
-			sa := state[oa : oa+16 : oa+16]
-			if bytes8(sa[0:8]) != rep || bytes8(sa[8:16]) != rep {
+			o := base + a*n1
+			if bytes4(ps[o:o+4:o+4]) != rep {
 				return 0
 			}
 		}
 		for a := 0; a < 4; a++ {
-			oa := (base + a*s0) * tabVals
-			p := vals[oa : oa+32 : oa+32]
-			r0, r1 := 0.0, 0.0
-			r0 += wb[0] * (w00*p[0] + w01*p[2] + w10*p[4] + w11*p[6])
-			r1 += wb[0] * (w00*p[1] + w01*p[3] + w10*p[5] + w11*p[7])
-			r0 += wb[1] * (w00*p[8] + w01*p[10] + w10*p[12] + w11*p[14])
-			r1 += wb[1] * (w00*p[9] + w01*p[11] + w10*p[13] + w11*p[15])
-			r0 += wb[2] * (w00*p[16] + w01*p[18] + w10*p[20] + w11*p[22])
-			r1 += wb[2] * (w00*p[17] + w01*p[19] + w10*p[21] + w11*p[23])
-			r0 += wb[3] * (w00*p[24] + w01*p[26] + w10*p[28] + w11*p[30])
-			r1 += wb[3] * (w00*p[25] + w01*p[27] + w10*p[29] + w11*p[31])
+			o := (base + a*n1) * tabVals
+			p := g.plane[o : o+8 : o+8]
+			r0 := wb[0]*p[0] + wb[1]*p[2] + wb[2]*p[4] + wb[3]*p[6]
+			r1 := wb[0]*p[1] + wb[1]*p[3] + wb[2]*p[5] + wb[3]*p[7]
 			acc0 += wa[a] * r0
 			acc1 += wa[a] * r1
 		}
-		acc[0], acc[1] = acc0, acc1
-		return st
-	}
-	for a := 0; a < n0; a++ {
-		oa := base + a*g.stride[0]
-		sa := state[oa : oa+nb]
-		for i := 0; i+8 <= nb; i += 8 {
-			if bytes8(sa[i:i+8]) != rep {
-				return 0
+	} else {
+		for a := 0; a < nt[0]; a++ {
+			o := base + a*n1
+			r0, r1 := 0.0, 0.0
+			for b := 0; b < nt[1]; b++ {
+				if ps[o+b] != st {
+					return 0
+				}
+				p := g.plane[(o+b)*tabVals : (o+b+1)*tabVals]
+				r0 += wb[b] * p[0]
+				r1 += wb[b] * p[1]
 			}
+			acc0 += wa[a] * r0
+			acc1 += wa[a] * r1
 		}
-		va := vals[oa*tabVals : (oa+nb)*tabVals]
-		r0, r1 := 0.0, 0.0
-		for b := 0; b < n1; b++ {
-			p := va[8*b : 8*b+8 : 8*b+8]
-			r0 += wb[b] * (w00*p[0] + w01*p[2] + w10*p[4] + w11*p[6])
-			r1 += wb[b] * (w00*p[1] + w01*p[3] + w10*p[5] + w11*p[7])
-		}
-		acc0 += wa[a] * r0
-		acc1 += wa[a] * r1
 	}
-	acc[0], acc[1] = acc0, acc1
+	// the air terms: e = u2 B + u3 C + u2 u3 D at the cell's four nodes, bilinear
+	u23 := u2 * u3
+	c := (k[0]*n1 + k[1]) * 3 * tabVals
+	q0 := g.air[c : c+12 : c+12] // nodes (k0, k1) and (k0, k1 + 1)
+	c += n1 * 3 * tabVals
+	q1 := g.air[c : c+12 : c+12] // nodes (k0 + 1, k1) and (k0 + 1, k1 + 1)
+	t0, t1 := t[0], t[1]
+	s0, s1 := 1-t0, 1-t1
+	e00 := u2*q0[0] + u3*q0[2] + u23*q0[4]
+	f00 := u2*q0[1] + u3*q0[3] + u23*q0[5]
+	e01 := u2*q0[6] + u3*q0[8] + u23*q0[10]
+	f01 := u2*q0[7] + u3*q0[9] + u23*q0[11]
+	e10 := u2*q1[0] + u3*q1[2] + u23*q1[4]
+	f10 := u2*q1[1] + u3*q1[3] + u23*q1[5]
+	e11 := u2*q1[6] + u3*q1[8] + u23*q1[10]
+	f11 := u2*q1[7] + u3*q1[9] + u23*q1[11]
+	acc[0] = acc0 + (s0*(s1*e00+t1*e01) + t0*(s1*e10+t1*e11))
+	acc[1] = acc1 + (s0*(s1*f00+t1*f01) + t0*(s1*f10+t1*f11))
 	return st
 }
 
-// bytes8 returns b[0:8] as a little-endian uint64 (one load).
-func bytes8(b []byte) uint64 {
-	b = b[:8:8]
-	return uint64(b[0]) | uint64(b[1])<<8 | uint64(b[2])<<16 | uint64(b[3])<<24 |
-		uint64(b[4])<<32 | uint64(b[5])<<40 | uint64(b[6])<<48 | uint64(b[7])<<56
+// collSplitTol bounds |interpSplit - interp| on the collector table's ln R_exit and
+// ln(t_exit/H) where Column uses it: 3e-4, that is 0.03 % on the exit radius and time, a
+// sixteenth of their 0.5 % bound against direct integration (tableTol; largest measured
+// 1.6e-4, TestCollectorSplit).
+const collSplitTol = 3e-4
+
+// bytes4 returns b[0:4] as a little-endian uint32 (one load).
+func bytes4(b []byte) uint32 {
+	b = b[:4:4]
+	return uint32(b[0]) | uint32(b[1])<<8 | uint32(b[2])<<16 | uint32(b[3])<<24
 }
 
 // Grid of the collector table: axes ln LWP (kg m-2), ln r_v (m), T (K), p (Pa).
@@ -449,8 +513,8 @@ func dryBasePressure(tb, zb, ps float64) float64 {
 }
 
 // collect interpolates the collector table at (ln LWP, ln r_v, T, p); false when the column
-// is outside it or its stencil straddles a regime change. It is collectRef through the
-// unrolled interpCC22 and colExp (colExp2): the same results to rounding.
+// is outside it or its stencil straddles a regime change. It is collectRef with colExp
+// (colExp2) for math.Exp: the same results to rounding.
 func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool {
 	g := t.coll
 	if !g.isCC22() {
@@ -460,7 +524,7 @@ func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool 
 		return false
 	}
 	var acc [tabVals]float64
-	st := g.interpCC22(lnLWP, lnRv, T, pr, &acc)
+	st := g.interpSplit(lnLWP, lnRv, T, pr, &acc)
 	if st == 0 {
 		return false
 	}
@@ -471,19 +535,25 @@ func (t *collTable) collect(lnLWP, lnRv, h, T, pr float64, res *colResult) bool 
 	return true
 }
 
-// collectRef is collect by the general stencil and interp, with math.Exp: the exit radius
-// given to a direct evaporation integration (Column), whose adaptive steps answer a last-bit
-// change of r0 by up to their tolerance, so it gets the inputs it always had.
+// collectRef is collect with math.Exp: the exit radius given to a direct evaporation
+// integration (Column), whose adaptive steps answer a last-bit change of r0 by up to their
+// tolerance, so it gets the inputs it always had. The interpolation is interpSplit (the
+// general stencil and interp for a grid without the split form).
 func (t *collTable) collectRef(lnLWP, lnRv, h, T, pr float64, res *colResult) bool {
 	if t.straddlesKink(lnRv) {
 		return false
 	}
-	var s tabStencil
-	if !t.coll.stencil([tabDims]float64{lnLWP, lnRv, T, pr}, &s) {
-		return false
-	}
 	var acc [tabVals]float64
-	st := t.coll.interp(&s, &acc)
+	var st uint8
+	if g := t.coll; g.isCC22() {
+		st = g.interpSplit(lnLWP, lnRv, T, pr, &acc)
+	} else {
+		var s tabStencil
+		if !g.stencil([tabDims]float64{lnLWP, lnRv, T, pr}, &s) {
+			return false
+		}
+		st = g.interp(&s, &acc)
+	}
 	if st == 0 {
 		return false
 	}

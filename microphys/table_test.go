@@ -271,9 +271,9 @@ func TestEvapThreshold(t *testing.T) {
 
 // TestTableFastPaths checks the unrolled interpolations of Column's table path against the
 // general ones they write out (derived: the same taps and weights, summed in another order,
-// so equal to rounding): interpCC22 against stencil and interp and subCloudFast against
-// subCloud, over random points inside and around the tables (the evaporation tables' lookups:
-// TestEvapLookupFast).
+// so equal to rounding): interpSplit against splitRef (its formula on the weights of stencil,
+// with the state of interp) and subCloudFast against subCloud, over random points inside and
+// around the tables (the evaporation tables' lookups: TestEvapLookupFast).
 func TestTableFastPaths(t *testing.T) {
 	t.Parallel()
 	m := defaultModel(t)
@@ -290,13 +290,9 @@ func TestTableFastPaths(t *testing.T) {
 		for d := range x {
 			x[d] = between(collGrid.lo[d], collGrid.hi[d])
 		}
-		var s tabStencil
 		var want, got [tabVals]float64
-		wst := uint8(0)
-		if cg.stencil(x, &s) {
-			wst = cg.interp(&s, &want)
-		}
-		gst := cg.interpCC22(x[0], x[1], x[2], x[3], &got)
+		wst := splitRef(cg, x, &want)
+		gst := cg.interpSplit(x[0], x[1], x[2], x[3], &got)
 		if gst != wst {
 			t.Fatalf("collector table at %v: state %d, want %d", x, gst, wst)
 		}
@@ -341,7 +337,8 @@ func TestTableFastPaths(t *testing.T) {
 }
 
 // TestTablesWidened checks that every table Column interpolates carries its float64 copy,
-// equal to the float32 values node for node (widenF32 is exact: derived), for a model built by
+// equal to the float32 values node for node (widenF32 is exact: derived), or for the
+// collector table its split form (sameSplit), for a model built by
 // NewModel and one read back by NewModelTables, so that Column takes the unrolled lookups
 // (which read the copies) with the values of the tables.
 func TestTablesWidened(t *testing.T) {
@@ -365,11 +362,154 @@ func TestTablesWidened(t *testing.T) {
 		if !mm.tab.coll.isCC22() || !mm.tab.evap.fast || !mm.tab.evap.thrMid {
 			t.Fatalf("model %d: the tables do not have the layouts of the unrolled lookups", k)
 		}
-		same("collector", mm.tab.coll.vals, mm.tab.coll.wide)
+		sameSplit(t, mm.tab.coll)
 		e := mm.tab.evap
-		for j, g := range []*nGrid{e.thr, e.reach, e.evap, e.flux, mm.pop.g, mm.ramp.lo[0], mm.ramp.lo[1], mm.ramp.hi[0], mm.ramp.hi[1]} {
+		for j, g := range []*nGrid{e.thr, e.reach, e.evap, e.flux, mm.pop.g} {
 			same(fmt.Sprintf("model %d grid %d", k, j), g.vals, g.wide)
 		}
+	}
+}
+
+// sameSplit checks the split form of the collector table g against its values: A, A + B,
+// A + C and A + B + C + D give back the four corners of every node exactly (derived: sums of
+// float32 values are exact in float64), and the plane state is the corners' shared state.
+func sameSplit(t *testing.T, g *tabGrid) {
+	t.Helper()
+	if !g.isCC22() {
+		t.Fatal("collector table without its split form")
+	}
+	s2, s3 := g.stride[2], g.stride[3]
+	for i := 0; i < g.n[0]; i++ {
+		for j := 0; j < g.n[1]; j++ {
+			o := i*g.stride[0] + j*g.stride[1]
+			q := i*g.n[1] + j
+			wst := g.state[o]
+			if g.state[o+s2] != wst || g.state[o+s3] != wst || g.state[o+s2+s3] != wst {
+				wst = 0
+			}
+			if g.pstate[q] != wst {
+				t.Fatalf("node (%d, %d): plane state %d, corners %d %d %d %d", i, j, g.pstate[q],
+					g.state[o], g.state[o+s2], g.state[o+s3], g.state[o+s2+s3])
+			}
+			for k := 0; k < tabVals; k++ {
+				a := g.plane[q*tabVals+k]
+				b, c, d := g.air[q*3*tabVals+k], g.air[q*3*tabVals+tabVals+k], g.air[q*3*tabVals+2*tabVals+k]
+				for _, cmp := range [][2]float64{{a, float64(g.vals[o*tabVals+k])}, {a + b, float64(g.vals[(o+s2)*tabVals+k])},
+					{a + c, float64(g.vals[(o+s3)*tabVals+k])}, {a + b + c + d, float64(g.vals[(o+s2+s3)*tabVals+k])}} {
+					if cmp[0] != cmp[1] && !(math.IsNaN(cmp[0]) && math.IsNaN(cmp[1])) {
+						t.Fatalf("node (%d, %d) value %d: split form gives %g, corner %g", i, j, k, cmp[0], cmp[1])
+					}
+				}
+			}
+		}
+	}
+}
+
+// splitRef is interpSplit's formula written plainly: the Catmull-Rom (or linear) weights of
+// stencil on A and the bilinear weights of the cell of (x0, x1) on B, C and D, taken from the
+// split form node by node, with interp's state (0 outside).
+func splitRef(g *tabGrid, x [tabDims]float64, acc *[tabVals]float64) uint8 {
+	*acc = [tabVals]float64{}
+	var s tabStencil
+	if !g.stencil(x, &s) {
+		return 0
+	}
+	var full [tabVals]float64
+	st := g.interp(&s, &full)
+	if st == 0 {
+		return 0
+	}
+	n1 := g.n[1]
+	for a := 0; a < s.nt[0]; a++ {
+		for b := 0; b < s.nt[1]; b++ {
+			q := (s.first[0]+a)*n1 + s.first[1] + b
+			for k := 0; k < tabVals; k++ {
+				acc[k] += s.w[0][a] * s.w[1][b] * g.plane[q*tabVals+k]
+			}
+		}
+	}
+	var k, tt [2]float64
+	for d := 0; d < 2; d++ {
+		u := (x[d] - g.lo[d]) * g.inv[d]
+		k[d] = math.Min(math.Floor(u), float64(g.n[d]-2))
+		tt[d] = u - k[d]
+	}
+	u2, u3 := s.w[2][1], s.w[3][1]
+	for a := 0; a < 2; a++ {
+		for b := 0; b < 2; b++ {
+			q := (int(k[0])+a)*n1 + int(k[1]) + b
+			w := (1 - tt[0] + float64(a)*(2*tt[0]-1)) * (1 - tt[1] + float64(b)*(2*tt[1]-1))
+			for v := 0; v < tabVals; v++ {
+				air := g.air[q*3*tabVals:]
+				acc[v] += w * (u2*air[v] + u3*air[tabVals+v] + u2*u3*air[2*tabVals+v])
+			}
+		}
+	}
+	return st
+}
+
+// collSplitWorst returns the largest difference between interpSplit and stencil with interp
+// (the Catmull-Rom interpolation of all four corner values) on the collector table of tab,
+// in ln R_exit and ln(t_exit/H), where Column uses the table (inside, straddlesKink false):
+// on every node, cell centre and cell edge midpoint of the (ln LWP, ln r_v) plane, each at
+// the air-state corners, edge midpoints and centre, and at n random points. A state
+// mismatch is an error.
+func collSplitWorst(t *testing.T, tab *collTable, n int, seed uint64) (worst [tabVals]float64, used int) {
+	t.Helper()
+	g := tab.coll
+	check := func(x [tabDims]float64) {
+		if tab.straddlesKink(x[1]) {
+			return
+		}
+		var s tabStencil
+		var want, got [tabVals]float64
+		wst := uint8(0)
+		if g.stencil(x, &s) {
+			wst = g.interp(&s, &want)
+		}
+		if gst := g.interpSplit(x[0], x[1], x[2], x[3], &got); gst != wst {
+			t.Fatalf("collector table at %v: split state %d, interp %d", x, gst, wst)
+		}
+		if wst == 0 {
+			return
+		}
+		used++
+		for k := range got {
+			worst[k] = math.Max(worst[k], math.Abs(got[k]-want[k]))
+		}
+	}
+	at := func(d int, u float64) float64 { return g.lo[d] + u*g.step[d] }
+	for i := 0; i <= 2*(g.n[0]-1); i++ {
+		for j := 0; j <= 2*(g.n[1]-1); j++ {
+			for a := 0; a <= 2; a++ {
+				for b := 0; b <= 2; b++ {
+					check([tabDims]float64{at(0, float64(i)/2), at(1, float64(j)/2), at(2, float64(a)/2), at(3, float64(b)/2)})
+				}
+			}
+		}
+	}
+	rng := rand.New(rand.NewPCG(seed, 3))
+	for i := 0; i < n; i++ {
+		check(collDomainPoint(rng))
+	}
+	return worst, used
+}
+
+// TestCollectorSplit checks interpSplit, the collector table's split interpolation, within
+// collSplitTol of the Catmull-Rom interpolation of all its corner values (stencil and interp)
+// over the table's whole domain where Column uses it (collSplitWorst; derived: both
+// interpolate the same nodes, so this bounds what the split adds to the table's error
+// against direct integration, TestCollectorTableWholeDomain).
+func TestCollectorSplit(t *testing.T) {
+	t.Parallel()
+	m := defaultModel(t)
+	worst, used := collSplitWorst(t, m.tab, 200000, 17)
+	t.Logf("%d points: largest split errors %.3g (ln R_exit), %.3g (ln t_exit/H)", used, worst[0], worst[1])
+	if used < 200000 {
+		t.Errorf("only %d points inside the table", used)
+	}
+	if worst[0] > collSplitTol || worst[1] > collSplitTol {
+		t.Errorf("split interpolation differs by %.3g, %.3g > %g", worst[0], worst[1], collSplitTol)
 	}
 }
 
@@ -439,6 +579,9 @@ func TestCollectorTableWholeDomain(t *testing.T) {
 			if e := math.Abs(tab.t-dir.t) / dir.t; e > worstT {
 				worstT, atT = e, x
 			}
+		}
+		if sw, _ := collSplitWorst(t, m.tab, 20000, 23); sw[0] > collSplitTol || sw[1] > collSplitTol {
+			t.Errorf("R0 %g: split interpolation differs by %.3g, %.3g > %g", r0, sw[0], sw[1], collSplitTol)
 		}
 		t.Logf("R0 %g µm: %d columns away from the kink, %d of them through the table; largest errors: exit radius %.3g (LWP %.3g kg m-2, r_v %.3g µm), exit time %.3g (LWP %.3g, r_v %.3g µm)",
 			r0*1e6, n, used, worstR, math.Exp(atR[0]), math.Exp(atR[1])*1e6, worstT, math.Exp(atT[0]), math.Exp(atT[1])*1e6)

@@ -51,7 +51,7 @@ func BenchmarkKernel(b *testing.B) {
 	}
 	var scr atomic.Int64
 	var counts tally
-	f := j.compute(&scr, gin, &counts, nil, nil)
+	f := j.compute(&scr, gin, &counts, nil, nil, false)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		f(s, outs, 0, n)

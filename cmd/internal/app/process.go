@@ -755,7 +755,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	var counts tally
 	writer, why := out.Writer()
 	popt := grid.ProcessOptions{Workers: j.workers(writer), SkipCompute: j.o.ioOnly, Cancel: ctx.Done(),
-		LibnetcdfRead: j.o.writer == grid.WriterLibnetcdf}
+		LibnetcdfRead: j.o.writer == grid.WriterLibnetcdf, BlockOutputs: true}
 	if progress && isTerminal(j.e.stderr) && !j.o.noProgess {
 		popt.Progress = progressLine(j.e.stderr, input, t0)
 	}
@@ -768,7 +768,7 @@ func (j *processJob) one(ctx context.Context, input, output string, progress boo
 	if !j.o.ioOnly {
 		sample = in.NewSampleCollector(unitSampleSize)
 	}
-	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan, sample))
+	err = grid.Process(in, out, popt, j.compute(&screened, in, &counts, plan, sample, popt.BlockOutputs))
 	if sample != nil && err == nil {
 		for _, w := range unitWarningsOf(in, sample.Result()) {
 			fmt.Fprintf(j.e.stderr, "warmrain: warning: %s\n", w)
@@ -881,8 +881,9 @@ func (j *processJob) workers(writer string) int {
 // (the values outputValue gives), and the uncertainty outputs of plan when there are any.
 // The diagnostics are copied out of each block of outBlock columns' microphys.Outputs one
 // output at a time (outputCopies), a tight loop per output instead of a call per output
-// and column. It allocates nothing per column.
-func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan, sample *grid.SampleCollector) grid.ComputeFunc {
+// and column. It allocates nothing per column. With block, outs hold the block's columns
+// only (grid.ProcessOptions.BlockOutputs): outs[k][i-lo] is output k at column i.
+func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *tally, plan *uncPlan, sample *grid.SampleCollector, block bool) grid.ComputeFunc {
 	m := j.model
 	defs := j.defs
 	k := newColumnKernel(m, gin)
@@ -909,6 +910,10 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				local.Codes[r] = make([]int64, len(b.Decoder.FlagCodes))
 			}
 		}
+		off := 0 // outs[k][i-off] is output k at column i
+		if block {
+			off = lo
+		}
 		qc := outs[len(defs)]
 		uw := sc.uw
 		var raw microphys.RawColumn
@@ -917,7 +922,7 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 			if d.input != "" && d.input != grid.RoleLWP && s.In[d.input.Index()] != nil {
 				src := s.In[d.input.Index()]
 				for i := lo; i < hi; i++ {
-					outs[c][i] = src[i] * d.scale
+					outs[c][i-off] = src[i] * d.scale
 				}
 			}
 		}
@@ -929,13 +934,13 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 				o := &ob[i-b]
 				q, qin, ran := k.column(s, i, &in, o, &local)
 				if oc.lwp >= 0 {
-					outs[oc.lwp][i] = outputValue(&defs[oc.lwp], &in, o, ran)
+					outs[oc.lwp][i-off] = outputValue(&defs[oc.lwp], &in, o, ran)
 				}
 				if !ran {
 					skipped[ns] = i
 					ns++
 				}
-				qc[i] = float64(q)
+				qc[i-off] = float64(q)
 				if q&k.screen != 0 {
 					n++
 					countScreen(&why, q&k.screen)
@@ -945,24 +950,13 @@ func (j *processJob) compute(screened *atomic.Int64, gin *grid.Input, counts *ta
 					for e, r := range errorRoles {
 						errIn[e] = slabAt(s, r.Index(), i)
 					}
-					uw.column(m, defs, outs, len(defs)+1, i, &raw, &in, qin, o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
+					uw.column(m, defs, outs, len(defs)+1, i-off, &raw, &in, qin, o, errIn, !ran || o.QC&microphys.QCScreenMask != 0)
 				}
 			}
-			for _, g := range oc.gets {
-				d := outs[g.c][b:e]
-				if g.field == noField {
-					for x := range d {
-						d[x] = g.get(&ob[x]) * g.scale
-					}
-					continue
-				}
-				for x := range d {
-					d[x] = *(*float64)(unsafe.Add(unsafe.Pointer(&ob[x]), g.field)) * g.scale
-				}
-			}
+			oc.copyBlock(outs, ob[:e-b], b-off)
 			for _, c := range oc.missing {
 				for _, i := range skipped[:ns] {
-					outs[c][i] = nan
+					outs[c][i-off] = nan
 				}
 			}
 		}
@@ -1039,6 +1033,23 @@ func outputField(get func(o *microphys.Outputs) float64) uintptr {
 		found = match
 	}
 	return t.Field(found).Offset
+}
+
+// copyBlock copies the diagnostics of the block of model outputs ob, columns
+// [b, b+len(ob)), into outs, one output at a time.
+func (oc *outputCopies) copyBlock(outs [][]float64, ob []microphys.Outputs, b int) {
+	for _, g := range oc.gets {
+		d := outs[g.c][b : b+len(ob)]
+		if g.field == noField {
+			for x := range d {
+				d[x] = g.get(&ob[x]) * g.scale
+			}
+			continue
+		}
+		for x := range d {
+			d[x] = *(*float64)(unsafe.Add(unsafe.Pointer(&ob[x]), g.field)) * g.scale
+		}
+	}
 }
 
 func newOutputCopies(defs []outputDef) outputCopies {

@@ -84,9 +84,30 @@ func TestComputeMatchesOutputValue(t *testing.T) {
 	var scr atomic.Int64
 	var counts tally
 	j := &processJob{params: p, defs: defs, model: m}
-	f := j.compute(&scr, gin, &counts, nil, nil)
+	f := j.compute(&scr, gin, &counts, nil, nil, false)
 	for _, r := range [][2]int{{0, 3}, {3, outBlock + 5}, {outBlock + 5, n}} {
 		f(s, outs, r[0], r[1])
+	}
+	// With outputs for the block only (grid.ProcessOptions.BlockOutputs): the same bits.
+	var scrB atomic.Int64
+	var countsB tally
+	fb := j.compute(&scrB, gin, &countsB, nil, nil, true)
+	for _, r := range [][2]int{{0, 3}, {3, outBlock + 5}, {outBlock + 5, n}} {
+		blk := make([][]float64, len(outs))
+		for k := range blk {
+			blk[k] = make([]float64, r[1]-r[0])
+		}
+		fb(s, blk, r[0], r[1])
+		for k := range blk {
+			for i, x := range blk[k] {
+				if math.Float64bits(x) != math.Float64bits(outs[k][r[0]+i]) {
+					t.Errorf("block outputs: output %d column %d = %v, want %v", k, r[0]+i, x, outs[k][r[0]+i])
+				}
+			}
+		}
+	}
+	if scrB.Load() != scr.Load() {
+		t.Errorf("block outputs: %d columns screened, want %d", scrB.Load(), scr.Load())
 	}
 	k := newColumnKernel(m, gin)
 	var local grid.QualityCounts
