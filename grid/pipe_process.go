@@ -80,6 +80,9 @@ type slabSet struct {
 	// arena bytes [tasks[i].at, tasks[i].at+tasks[i].n).
 	tasks []chunkTask
 	arena []uint64
+	// cwg counts the slab's compute jobs not yet done, fwg its chunk filter
+	// jobs (Process).
+	cwg, fwg sync.WaitGroup
 }
 
 // release gives the raw buffers of s back to the pool.
@@ -91,8 +94,9 @@ func (s *inBuf) release() {
 }
 
 // Process streams in through compute into out: the I/O goroutine reads slab k+1
-// and writes slab k-1 while Workers goroutines compute slab k (decoding, compute
-// and encoding all run in the workers). Memory is bounded by three raw slab
+// and writes slab k-2 while Workers goroutines compute slab k (decoding, compute
+// and encoding all run in the workers, in jobs of whole blocks, computeStep) and
+// filter the chunks of slab k-1 (the direct writer) as they come free. Memory is bounded by three raw slab
 // buffers and one set of decoded ones. On any error (or a panic in compute)
 // everything stops, the output is aborted and the first error is returned; on
 // success the caller calls out.Commit().
@@ -300,7 +304,6 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		task   int // >= 0: filter chunk task s.tasks[task] (direct writer)
 	}
 	jobs := make(chan job, workers)
-	var jwg sync.WaitGroup
 	var bound []int
 	for i, b := range in.bindings {
 		if b != nil {
@@ -310,7 +313,7 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 	filter := func(j job) {
 		t0 := time.Now()
 		defer func() { filterNs.Add(int64(time.Since(t0))) }()
-		defer jwg.Done()
+		defer j.s.fwg.Done()
 		defer func() {
 			if r := recover(); r != nil {
 				fail(fmt.Errorf("grid: filtering a chunk panicked on slab %d: %v", j.s.in.slab.Index, r))
@@ -331,7 +334,7 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 		}
 		t0 := time.Now()
 		defer func() { computeNs.Add(int64(time.Since(t0))) }()
-		defer jwg.Done()
+		defer j.s.cwg.Done()
 		defer func() {
 			if r := recover(); r != nil {
 				fail(fmt.Errorf("grid: compute panicked on slab %d: %v", j.s.in.slab.Index, r))
@@ -384,6 +387,29 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		}()
 	}
+	// The finisher takes the slabs in order: once a slab's compute jobs are done it
+	// queues the slab's chunk filter jobs (direct writer), which run while the
+	// workers compute the next slab, and hands the slab to the writer when they are
+	// done, so the writer stores the slabs in order and the file layout does not
+	// depend on the workers.
+	pending := make(chan *slabSet, nBuffers)
+	finDone := make(chan struct{})
+	go func() {
+		defer close(finDone)
+		for s := range pending {
+			s.cwg.Wait()
+			if out.direct != nil && !stop.Load() {
+				s.tasks, _ = out.direct.slabTasks(s.tasks, len(out.types), s.in.ny, s.in.nx)
+				for i := range s.tasks {
+					s.fwg.Add(1)
+					jobs <- job{s, 0, 0, i}
+				}
+				s.fwg.Wait()
+			}
+			writeQ <- s
+		}
+	}()
+	var prev *slabSet
 	for {
 		t0 := time.Now()
 		s, ok := <-readQ
@@ -396,6 +422,12 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			free <- s
 			continue
 		}
+		// The decoded buffers are lent to one slab at a time: the previous slab's
+		// compute jobs must be done before this slab's start.
+		if prev != nil {
+			prev.cwg.Wait()
+		}
+		prev = s
 		n := s.in.slab.N
 		for i := range decIn { // lend the decoded buffers to this slab
 			if decIn[i] != nil {
@@ -407,22 +439,15 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 				decOut[k] = decOut[k][:cap(decOut[k])][:n]
 			}
 		}
-		step := (n + workers - 1) / workers
+		step := computeStep(n, workers)
 		for lo := 0; lo < n; lo += step {
-			jwg.Add(1)
+			s.cwg.Add(1)
 			jobs <- job{s, lo, min(lo+step, n), -1}
 		}
-		jwg.Wait()
-		if out.direct != nil && !stop.Load() {
-			s.tasks, _ = out.direct.slabTasks(s.tasks, len(out.types), s.in.ny, s.in.nx)
-			for i := range s.tasks {
-				jwg.Add(1)
-				jobs <- job{s, 0, 0, i}
-			}
-			jwg.Wait()
-		}
-		writeQ <- s
+		pending <- s
 	}
+	close(pending)
+	<-finDone
 	close(jobs)
 	pool.Wait()
 	close(writeQ)
@@ -436,3 +461,12 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 }
 
 var errStop = errors.New("stop")
+
+// computeStep is the number of columns of one compute job of a slab of n columns
+// on workers workers: about eight jobs per worker, whole blocks of computeBlock
+// columns, so that a worker the I/O thread or another process held back leaves
+// the others only a small job to wait for at the end of the slab.
+func computeStep(n, workers int) int {
+	per := (n + 8*workers - 1) / (8 * workers)
+	return max(computeBlock, (per+computeBlock-1)/computeBlock*computeBlock)
+}
