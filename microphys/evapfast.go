@@ -101,6 +101,16 @@ func (g *nGrid) quadT(d int, x float64) (k int, t float64, ok bool) {
 	return c - 1, u - float64(c), true
 }
 
+// block3 is the contraction of the 3 x 3 values v[o + i s + j] (i, j = 0, 1, 2) with the
+// weights b_i and d_j: sum_i b_i (sum_j d_j v[o + i s + j]), summed in that order.
+func block3(v []float64, o, s int, b0, b1, b2, d0, d1, d2 float64) float64 {
+	p0, p1, p2 := v[o:o+3:o+3], v[o+s:o+s+3:o+s+3], v[o+2*s:o+2*s+3:o+2*s+3]
+	r0 := d0*p0[0] + d1*p0[1] + d2*p0[2]
+	r1 := d0*p1[0] + d1*p1[1] + d2*p1[2]
+	r2 := d0*p2[0] + d1*p2[1] + d2*p2[2]
+	return b0*r0 + b1*r1 + b2*r2
+}
+
 // quadW returns the weights of the 3-point quadratic at offset t from the middle node
 // (axisTaps): t (t - 1)/2, 1 - t^2, t (t + 1)/2.
 func quadW(t float64) (w0, w1, w2 float64) { return t * (t - 1) / 2, 1 - t*t, t * (t + 1) / 2 }
@@ -125,11 +135,7 @@ func (t *evapTable) threshold(ps, tb, u, lz float64) float64 {
 	mid := t.thrMid && u == evMixedU
 	if mid && np == 1 { // one node along p_s and u (columns without CTH), weight 1
 		o := kp*s0 + s2 + ob
-		p0, p1, p2 := v[o:o+3:o+3], v[o+s1:o+s1+3:o+s1+3], v[o+2*s1:o+2*s1+3:o+2*s1+3]
-		r0 := d0*p0[0] + d1*p0[1] + d2*p0[2]
-		r1 := d0*p1[0] + d1*p1[1] + d2*p1[2]
-		r2 := d0*p2[0] + d1*p2[1] + d2*p2[2]
-		return b0*r0 + b1*r1 + b2*r2
+		return block3(v, o, s1, b0, b1, b2, d0, d1, d2)
 	}
 	var po [6]int // the taps along p_s and u: offsets and weights
 	var pw [6]float64
@@ -153,11 +159,7 @@ func (t *evapTable) threshold(ps, tb, u, lz float64) float64 {
 	acc := 0.0
 	for i := 0; i < n; i++ {
 		o := po[i] + ob
-		p0, p1, p2 := v[o:o+3:o+3], v[o+s1:o+s1+3:o+s1+3], v[o+2*s1:o+2*s1+3:o+2*s1+3]
-		r0 := d0*p0[0] + d1*p0[1] + d2*p0[2]
-		r1 := d0*p1[0] + d1*p1[1] + d2*p1[2]
-		r2 := d0*p2[0] + d1*p2[1] + d2*p2[2]
-		acc += pw[i] * (b0*r0 + b1*r1 + b2*r2)
+		acc += pw[i] * block3(v, o, s1, b0, b1, b2, d0, d1, d2)
 	}
 	return acc
 }
@@ -200,11 +202,7 @@ func (t *evapTable) fluxAt(ps, u, tb, sz float64) float64 {
 		o := kp*s0 + kb*s1
 		if np == 1 && nb == 1 { // one node along p_s and u (well mixed, no CTH), weight 1
 			o += oc
-			p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
-			r0 := d0*p0[0] + d1*p0[1] + d2*p0[2]
-			r1 := d0*p1[0] + d1*p1[1] + d2*p1[2]
-			r2 := d0*p2[0] + d1*p2[1] + d2*p2[2]
-			return c0*r0 + c1*r1 + c2*r2
+			return block3(v, o, s2, c0, c1, c2, d0, d1, d2)
 		}
 		po[0], po[1], po[2], po[3] = o, o+s1, o+s0, o+s0+s1
 		pw[0], pw[1], pw[2], pw[3] = a0*b0, a0*b1, a1*b0, a1*b1
@@ -216,11 +214,7 @@ func (t *evapTable) fluxAt(ps, u, tb, sz float64) float64 {
 	acc := 0.0
 	for i := 0; i < n; i++ {
 		o := po[i] + oc
-		p0, p1, p2 := v[o:o+3:o+3], v[o+s2:o+s2+3:o+s2+3], v[o+2*s2:o+2*s2+3:o+2*s2+3]
-		r0 := d0*p0[0] + d1*p0[1] + d2*p0[2]
-		r1 := d0*p1[0] + d1*p1[1] + d2*p1[2]
-		r2 := d0*p2[0] + d1*p2[1] + d2*p2[2]
-		acc += pw[i] * (c0*r0 + c1*r1 + c2*r2)
+		acc += pw[i] * block3(v, o, s2, c0, c1, c2, d0, d1, d2)
 	}
 	return acc
 }
@@ -281,20 +275,11 @@ func (t *evapTable) valueAt(g *nGrid, s float64, e *evLook) float64 {
 	v := g.wide
 	if e.np == 1 && e.nu == 1 { // one node along p_s and u (well mixed, no CTH), weight 1
 		o := e.kp*s0 + e.ku*s1 + e.kt*s2 + oz
-		p0, p1, p2 := v[o:o+3:o+3], v[o+s3:o+s3+3:o+s3+3], v[o+2*s3:o+2*s3+3:o+2*s3+3]
-		r0 := e0*p0[0] + e1*p0[1] + e2*p0[2]
-		r1 := e0*p1[0] + e1*p1[1] + e2*p1[2]
-		r2 := e0*p2[0] + e1*p2[1] + e2*p2[2]
-		acc := e.wt0 * (d0*r0 + d1*r1 + d2*r2)
+		acc := e.wt0 * block3(v, o, s3, d0, d1, d2, e0, e1, e2)
 		if e.nt == 1 {
 			return acc
 		}
-		o += s2
-		p0, p1, p2 = v[o:o+3:o+3], v[o+s3:o+s3+3:o+s3+3], v[o+2*s3:o+2*s3+3:o+2*s3+3]
-		r0 = e0*p0[0] + e1*p0[1] + e2*p0[2]
-		r1 = e0*p1[0] + e1*p1[1] + e2*p1[2]
-		r2 = e0*p2[0] + e1*p2[1] + e2*p2[2]
-		return acc + e.wt1*(d0*r0+d1*r1+d2*r2)
+		return acc + e.wt1*block3(v, o+s2, s3, d0, d1, d2, e0, e1, e2)
 	}
 	var po [8]int // the taps along p_s, u and T_b: offsets and weights
 	var pw [8]float64
@@ -320,11 +305,7 @@ func (t *evapTable) valueAt(g *nGrid, s float64, e *evLook) float64 {
 	acc := 0.0
 	for i := 0; i < n; i++ {
 		o := po[i] + oz
-		p0, p1, p2 := v[o:o+3:o+3], v[o+s3:o+s3+3:o+s3+3], v[o+2*s3:o+2*s3+3:o+2*s3+3]
-		r0 := e0*p0[0] + e1*p0[1] + e2*p0[2]
-		r1 := e0*p1[0] + e1*p1[1] + e2*p1[2]
-		r2 := e0*p2[0] + e1*p2[1] + e2*p2[2]
-		acc += pw[i] * (d0*r0 + d1*r1 + d2*r2)
+		acc += pw[i] * block3(v, o, s3, d0, d1, d2, e0, e1, e2)
 	}
 	return acc
 }
