@@ -345,7 +345,7 @@ func (d *directOut) check(ds C.hid_t, o *Output, want []C.hsize_t) error {
 // and check value, and n plus a margin for the deflate stream (stored blocks of
 // incompressible data add 5 bytes per block; the encoder's blocks are at least a
 // few kilobytes, so n/256 covers them many times over, tested with random data in
-// TestZlibChunkBound); n itself when a chunk is stored raw.
+// TestZlibDeflate); n itself when a chunk is stored raw.
 func chunkBound(n int) int {
 	return 2 + n + n/256 + 64 + 4
 }
@@ -393,7 +393,8 @@ type chunkScratch struct {
 // byte plane a block of its own, are smaller than zlib's levels 1-3 and within
 // 1 % of 4-6 on real output chunks, at 1.7-2 times klauspost's speed; levels
 // 7-9 ask for size over speed, which klauspost's slower levels give
-// (doc/netcdf.md#direct-chunks, BenchmarkChunkFilter, TestDeflateBytes).
+// (doc/netcdf.md#direct-chunks, BenchmarkChunkFilter, and the file sizes of
+// TestWritersGiveSameOutputs in cmd/internal/app).
 func isalLevel(level int) int {
 	switch {
 	case level >= 1 && level <= 3:

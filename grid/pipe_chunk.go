@@ -218,5 +218,15 @@ func shuffleRow2(p0, p1, src []byte) {
 	}
 }
 
+// shuffleRoom is the scratch chunkInput needs for a chunk of variable k: the
+// chunk's bytes when it shuffles them into s.shuf (a shuffled variable whose
+// slab is not kept as byte planes), else none.
+func (o *Output) shuffleRoom(k int) int {
+	if o.shuffle && o.direct.size[k] > 1 && !o.planes(k) {
+		return o.direct.chunkBytes(k)
+	}
+	return 0
+}
+
 // chunkBytes is the size of one uncompressed chunk of variable k.
 func (d *directOut) chunkBytes(k int) int { return d.cy * d.cx * d.size[k] }

@@ -320,7 +320,7 @@ func Process(in *Input, out *Output, opt ProcessOptions, compute ComputeFunc) (e
 			}
 		}()
 		t := &j.s.tasks[j.task]
-		s := getScratch(out.deflate, out.direct.chunkBytes(t.k))
+		s := getScratch(out.deflate, out.shuffleRoom(t.k))
 		defer putScratch(s)
 		in := out.chunkInput(s, t, j.s.outRaw[t.k], j.s.in.ny, j.s.in.nx)
 		if err := out.filterChunk(t, s, in, arenaBytes(j.s.arena)); err != nil {
